@@ -1,0 +1,16 @@
+"""The one exception type that carries a user-facing message.
+
+Every problem a user can fix (bad coordinates, a missing file, a site
+outside the elevation model) is raised as :class:`ProfilerError` with a
+one-line message saying what is wrong and what to do.  The command line
+prints that line and exits non-zero; it never shows a traceback.
+"""
+
+
+class ProfilerError(Exception):
+    """A problem with the user's input, explained in one line."""
+
+    exit_code = 2
+
+    def __init__(self, message: str):
+        super().__init__(" ".join(str(message).split()))

@@ -1,0 +1,63 @@
+"""Atomic file output: write to a temporary file, then rename into place.
+
+A failed run never leaves a half-written report, figure or export behind.
+"""
+
+from __future__ import annotations
+
+import contextlib
+import os
+import sys
+import tempfile
+from pathlib import Path
+from typing import Iterator
+
+from .errors import ProfilerError
+
+
+@contextlib.contextmanager
+def atomic_path(path: str | os.PathLike) -> Iterator[Path]:
+    """Yield a temporary path beside ``path``; rename it to ``path`` on success.
+
+    The temporary file keeps the target's suffix so that writers choosing a
+    format by extension (matplotlib) see the right one.  On any exception the
+    temporary file is removed and ``path`` is left untouched.
+    """
+    target = Path(path)
+    directory = target.parent if str(target.parent) else Path(".")
+    if not directory.is_dir():
+        raise ProfilerError(
+            f"cannot write {target}: folder {directory} does not exist; create it or choose another path"
+        )
+    fd, tmp = tempfile.mkstemp(prefix=f".{target.name}.", suffix=target.suffix or ".tmp", dir=directory)
+    os.close(fd)
+    tmp_path = Path(tmp)
+    try:
+        yield tmp_path
+        os.replace(tmp_path, target)
+    except BaseException:
+        with contextlib.suppress(OSError):
+            tmp_path.unlink()
+        raise
+
+
+def write_text(path: str | os.PathLike, text: str) -> None:
+    """Write ``text`` (UTF-8) to ``path`` atomically; ``-`` means standard output."""
+    if str(path) == "-":
+        sys.stdout.write(text)
+        sys.stdout.flush()
+        return
+    with atomic_path(path) as tmp:
+        try:
+            tmp.write_text(text, encoding="utf-8", newline="")
+        except OSError as exc:
+            raise ProfilerError(f"cannot write {path}: {exc.strerror}") from exc
+
+
+def write_bytes(path: str | os.PathLike, data: bytes) -> None:
+    """Write ``data`` to ``path`` atomically."""
+    with atomic_path(path) as tmp:
+        try:
+            tmp.write_bytes(data)
+        except OSError as exc:
+            raise ProfilerError(f"cannot write {path}: {exc.strerror}") from exc
