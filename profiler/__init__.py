@@ -1,0 +1,41 @@
+"""Terrain-aware point-to-point radio path profiler.
+
+Planning aid only: defer to local codes, permits, RF-exposure rules and
+licensed professionals.
+
+The Python API mirrors the command line::
+
+    from profiler import ElevationModel, profile_from_dem, analyze_link
+    with ElevationModel.open(["dem_samples"]) as dem:
+        prof = profile_from_dem(dem, 46.0, 7.0, 46.1, 7.1)
+    result = analyze_link(prof, mast_a_m=10, mast_b_m=2, frequency_mhz=868.3125)
+    result.to_dict()   # the JSON report
+
+or in one call: :func:`profiler.link`.
+"""
+
+__version__ = "0.1.0"
+
+CAUTION = ("Planning aid only: verify on site; local codes, permits, RF-exposure rules "
+           "and licensed professionals prevail.")
+
+
+def __getattr__(name):
+    # Lazy public API so that `import profiler` (and the CLI start-up) stays fast.
+    if name in ("analyze_link", "LinkResult", "RadioSettings", "link"):
+        from . import analysis, api
+        return getattr(api if name == "link" else analysis, name)
+    if name in ("TerrainProfile", "profile_from_dem", "read_profile_csv"):
+        from . import terrain
+        return getattr(terrain, name)
+    if name == "ElevationModel":
+        from .dem import ElevationModel
+        return ElevationModel
+    if name == "ProfilerError":
+        from .errors import ProfilerError
+        return ProfilerError
+    raise AttributeError(f"module 'profiler' has no attribute {name!r}")
+
+
+__all__ = ["CAUTION", "ElevationModel", "LinkResult", "ProfilerError", "RadioSettings", "TerrainProfile",
+           "analyze_link", "link", "profile_from_dem", "read_profile_csv"]

@@ -1,0 +1,68 @@
+"""One call from sites and elevation data to a :class:`~profiler.analysis.LinkResult`."""
+
+from __future__ import annotations
+
+from .analysis import LinkResult, RadioSettings, analyze_link
+from .bands import resolve_frequency_mhz
+from .errors import ProfilerError
+from .geometry import parse_k_factor
+from .terrain import profile_from_dem, read_profile_csv
+
+
+def link(site_a=None, site_b=None, *, dem=None, profile_csv=None, mast_a_m: float = 10.0,
+         mast_b_m: float = 2.0, name_a: str = "A", name_b: str = "B", k_factor="4/3",
+         frequency_mhz: float | None = None, band: str | None = None, step_m: float | None = None,
+         clearance_ratio: float = 0.6, fill_voids: bool = False,
+         radio: RadioSettings | None = None) -> LinkResult:
+    """Analyse the link A-B over elevation data or a surveyed profile.
+
+    Parameters
+    ----------
+    site_a, site_b : tuple of float, optional
+        ``(lat_deg, lon_deg)`` of each site (WGS84).  Required with ``dem``.
+    dem : str, Path or list of them
+        Elevation files or folders of tiles.
+    profile_csv : str or Path
+        A surveyed profile (``distance_m,elevation_m``) instead of ``dem``.
+    mast_a_m, mast_b_m : float
+        Antenna heights above ground [m].
+    k_factor : float or str
+        Effective-Earth-radius factor, e.g. ``4/3``.
+    frequency_mhz : float, optional
+        Working frequency [MHz]; otherwise the mean of ``band`` (default EU868).
+    step_m : float, optional
+        Largest spacing of profile samples [m]; default the finest DEM pixel.
+    clearance_ratio : float
+        Required clearance as a fraction of the first Fresnel radius.
+    fill_voids : bool
+        Interpolate across elevation voids instead of refusing.
+    radio : RadioSettings, optional
+        Link-budget and LoRa settings.
+
+    Returns
+    -------
+    LinkResult
+        ``result.to_dict()`` is the JSON report.
+    """
+    f_mhz, band_name = resolve_frequency_mhz(frequency_mhz, band)
+    k = parse_k_factor(k_factor)
+    if profile_csv is not None:
+        if dem:
+            raise ProfilerError("give either --dem or --profile, not both")
+        prof = read_profile_csv(profile_csv)
+    else:
+        if not dem:
+            raise ProfilerError("no elevation data: give --dem FILE_OR_FOLDER or --profile FILE.csv")
+        if site_a is None or site_b is None:
+            raise ProfilerError("both --site-a and --site-b are needed with --dem (format LAT,LON)")
+        from .dem import ElevationModel
+
+        with ElevationModel.open(dem) as model:
+            prof = profile_from_dem(model, site_a[0], site_a[1], site_b[0], site_b[1], step_m=step_m,
+                                    fill_voids=fill_voids, name_a=f"site A ({name_a})" if name_a != "A" else "site A",
+                                    name_b=f"site B ({name_b})" if name_b != "B" else "site B")
+    return analyze_link(prof, mast_a_m=mast_a_m, mast_b_m=mast_b_m, frequency_mhz=f_mhz, band=band_name,
+                        k_factor=k, clearance_ratio_required=clearance_ratio, radio=radio,
+                        name_a=name_a, name_b=name_b,
+                        site_a_lat_lon=tuple(site_a) if site_a is not None else None,
+                        site_b_lat_lon=tuple(site_b) if site_b is not None else None)

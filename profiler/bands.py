@@ -1,0 +1,114 @@
+"""Frequency plans: the LoRaWAN regional channel plans and their working frequency.
+
+Each plan is given by the lowest and highest channel centre frequency of its
+common channel plan; the working frequency used for propagation is the mean
+of the two (the geometric quantities vary by well under 1 % across a plan).
+
+References
+----------
+.. [1] LoRa Alliance, "RP002-1.0.4 LoRaWAN Regional Parameters", 2022, an
+   open specification: sections "EU863-870", "US902-928", "AU915-928",
+   "AS923", "KR920-923", "IN865-867", "CN470-510", "RU864-870",
+   "EU433". Channel edges as tabulated there (transcribed from memory of
+   the specification; the EU868 span 867.1-869.525 MHz is common practice).
+.. [2] ITU-R P.525-4, section 1: wavelength lambda = c / f with
+   c = 299 792 458 m/s.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+from .errors import ProfilerError
+
+SPEED_OF_LIGHT_M_S = 299_792_458.0
+"""Speed of light in vacuum [m/s] (exact, SI definition)."""
+
+NEAR_FIELD_WAVELENGTHS = 4.0
+"""Minimum separation between antennas in wavelengths (common practice)."""
+
+NEAR_FIELD_RULE_OF_THUMB_M = 3.0
+"""Rule-of-thumb minimum separation between antennas [m] (common practice)."""
+
+
+@dataclass(frozen=True)
+class Band:
+    """A channel plan: name, lowest and highest channel frequency [MHz]."""
+
+    name: str
+    low_mhz: float
+    high_mhz: float
+    description: str
+
+    @property
+    def frequency_mhz(self) -> float:
+        """Working frequency: mean of the lowest and highest channel [MHz]."""
+        return 0.5 * (self.low_mhz + self.high_mhz)
+
+
+BANDS: dict[str, Band] = {
+    b.name: b
+    for b in (
+        Band("EU868", 867.1, 869.525, "Europe 863-870 MHz"),
+        Band("US915", 902.3, 927.5, "North America 902-928 MHz (uplink 902.3-914.9, downlink 923.3-927.5)"),
+        Band("AU915", 915.2, 927.8, "Australia 915-928 MHz (uplink 915.2-927.8, downlink 923.3-927.5)"),
+        Band("AS923", 923.2, 923.4, "Asia 923 MHz group 1 (default channels)"),
+        Band("KR920", 920.9, 923.3, "Korea 920-923 MHz"),
+        Band("IN865", 865.0625, 866.55, "India 865-867 MHz"),
+        Band("CN470", 470.3, 509.7, "China 470-510 MHz (uplink 470.3-489.3, downlink 500.3-509.7)"),
+        Band("RU864", 864.1, 869.1, "Russia 864-870 MHz"),
+        Band("EU433", 433.175, 434.665, "Europe 433 MHz"),
+    )
+}
+
+DEFAULT_BAND = "EU868"
+
+
+def band(name: str) -> Band:
+    """Look up a channel plan by name (case-insensitive)."""
+    key = str(name).strip().upper()
+    if key not in BANDS:
+        raise ProfilerError(f"unknown band {name!r}; choose one of {', '.join(BANDS)} or give --freq-mhz")
+    return BANDS[key]
+
+
+def wavelength_m(frequency_mhz):
+    """Free-space wavelength.
+
+    Parameters
+    ----------
+    frequency_mhz : float or array_like
+        Frequency [MHz].
+
+    Returns
+    -------
+    wavelength_m : float or ndarray
+        lambda = c / f [m].
+
+    References
+    ----------
+    ITU-R P.525-4 section 1.
+    """
+    return SPEED_OF_LIGHT_M_S / (frequency_mhz * 1e6)
+
+
+def near_field_distance_m(frequency_mhz, wavelengths: float = NEAR_FIELD_WAVELENGTHS):
+    """Minimum antenna separation of ``wavelengths`` wavelengths [m] (common practice)."""
+    return wavelengths * wavelength_m(frequency_mhz)
+
+
+def resolve_frequency_mhz(freq_mhz: float | None = None, band_name: str | None = None) -> tuple[float, str | None]:
+    """Return the working frequency [MHz] and the band name it came from.
+
+    An explicit frequency wins; otherwise the named band (default EU868).
+    """
+    if freq_mhz is not None:
+        f = float(freq_mhz)
+        if not math.isfinite(f) or f <= 0:
+            raise ProfilerError(f"frequency must be a positive number of MHz, got {freq_mhz}")
+        if band_name is not None:
+            raise ProfilerError("give either --freq-mhz or --band, not both")
+        return f, None
+    b = band(band_name or DEFAULT_BAND)
+    return b.frequency_mhz, b.name

@@ -1,0 +1,91 @@
+"""Command line: ``profiler COMMAND``.
+
+One module per command; shared options live in :mod:`profiler.cli.options`.
+Heavy modules are imported inside the commands so that start-up stays fast.
+"""
+
+from __future__ import annotations
+
+import os
+import sys
+
+import click
+
+from .. import __version__
+from ..errors import ProfilerError
+
+
+class ProfilerGroup(click.Group):
+    """A click group that turns every user-facing error into one line and a non-zero exit."""
+
+    def main(self, args=None, prog_name=None, complete_var=None, standalone_mode=True, **extra):
+        if not standalone_mode:
+            return super().main(args, prog_name, complete_var, standalone_mode=False, **extra)
+        try:
+            rv = super().main(args, prog_name or "profiler", complete_var, standalone_mode=False, **extra)
+        except click.ClickException as exc:
+            # Usage errors: one line instead of click's three-line usage block.
+            hint = ""
+            if isinstance(exc, click.UsageError) and exc.ctx is not None:
+                hint = f" (see '{exc.ctx.command_path} --help')"
+            click.echo(f"profiler: error: {exc.format_message()}{hint}", err=True)
+            sys.exit(exc.exit_code)
+        except click.Abort:
+            click.echo("profiler: aborted", err=True)
+            sys.exit(1)
+        sys.exit(rv if isinstance(rv, int) else 0)
+
+    def invoke(self, ctx):
+        try:
+            return super().invoke(ctx)
+        except ProfilerError as exc:
+            click.echo(f"profiler: error: {exc}", err=True)
+            ctx.exit(exc.exit_code)
+        except (click.exceptions.Exit, click.exceptions.Abort, click.ClickException):
+            raise
+        except KeyboardInterrupt:
+            click.echo("profiler: interrupted", err=True)
+            ctx.exit(130)
+        except MemoryError:
+            click.echo("profiler: error: out of memory; use a coarser --step-m or a smaller area", err=True)
+            ctx.exit(1)
+        except Exception as exc:  # last resort: never a traceback for the user
+            if os.environ.get("PROFILER_DEBUG"):
+                raise
+            message = " ".join(str(exc).split()) or type(exc).__name__
+            click.echo(f"profiler: error: {message} (set PROFILER_DEBUG=1 for details and please report it)",
+                       err=True)
+            ctx.exit(1)
+
+
+@click.group(cls=ProfilerGroup, context_settings={"help_option_names": ["-h", "--help"], "max_content_width": 100})
+@click.version_option(__version__, prog_name="profiler")
+def main():
+    """Terrain-aware point-to-point radio path profiler.
+
+    Line of sight, Fresnel clearance, ITU-R P.526 diffraction, LoRa link
+    budget and mast height over real elevation data, offline.
+
+    Planning aid only: local codes, permits, RF-exposure rules and licensed
+    professionals prevail.
+    """
+
+
+def _register():
+    from .bands import bands_command
+    from .link import link_command
+
+    main.add_command(link_command)
+    main.add_command(bands_command)
+    try:
+        from .mast import mast_command
+    except ImportError:  # pragma: no cover - during development only
+        return
+    main.add_command(mast_command)
+
+
+_register()
+
+
+if __name__ == "__main__":  # pragma: no cover
+    sys.exit(main())

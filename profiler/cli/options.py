@@ -1,0 +1,162 @@
+"""Options shared by the commands (one place, so every command spells them the same)."""
+
+from __future__ import annotations
+
+import math
+
+import click
+
+from ..analysis import DIFFRACTION_METHODS
+
+
+class LatLon(click.ParamType):
+    """``LAT,LON`` in decimal degrees (WGS84); negative values allowed."""
+
+    name = "LAT,LON"
+
+    def convert(self, value, param, ctx):
+        if isinstance(value, tuple):
+            return value
+        parts = str(value).replace(";", ",").split(",")
+        if len(parts) != 2:
+            self.fail(f"{value!r} is not LAT,LON (for example 46.52,-7.91)", param, ctx)
+        try:
+            lat, lon = float(parts[0]), float(parts[1])
+        except ValueError:
+            self.fail(f"{value!r} is not LAT,LON in decimal degrees (for example 46.52,-7.91)", param, ctx)
+        if not (math.isfinite(lat) and math.isfinite(lon)):
+            self.fail(f"{value!r}: coordinates must be finite numbers", param, ctx)
+        if not -90.0 <= lat <= 90.0:
+            self.fail(f"latitude {lat:g} is out of range -90..90 (the format is LAT,LON)", param, ctx)
+        if not -180.0 <= lon <= 180.0:
+            self.fail(f"longitude {lon:g} is out of range -180..180 (the format is LAT,LON)", param, ctx)
+        return (lat, lon)
+
+
+class FiniteFloat(click.ParamType):
+    """A finite decimal number (no NaN or infinity), optionally with bounds."""
+
+    name = "NUMBER"
+
+    def __init__(self, min_value=None, max_value=None, min_open=False):
+        self.min_value, self.max_value, self.min_open = min_value, max_value, min_open
+
+    def convert(self, value, param, ctx):
+        if isinstance(value, float):
+            x = value
+        else:
+            try:
+                x = float(str(value).strip())
+            except ValueError:
+                self.fail(f"{value!r} is not a number", param, ctx)
+        if not math.isfinite(x):
+            self.fail(f"{value!r} is not a finite number", param, ctx)
+        if self.min_value is not None and (x < self.min_value or (self.min_open and x <= self.min_value)):
+            rel = "greater than" if self.min_open else "at least"
+            self.fail(f"{x:g} is too small; it must be {rel} {self.min_value:g}", param, ctx)
+        if self.max_value is not None and x > self.max_value:
+            self.fail(f"{x:g} is too large; it must be at most {self.max_value:g}", param, ctx)
+        return x
+
+
+NUMBER = FiniteFloat()
+NON_NEGATIVE = FiniteFloat(0.0)
+POSITIVE = FiniteFloat(0.0, min_open=True)
+
+
+def _apply(options):
+    def decorator(f):
+        for option in reversed(options):
+            f = option(f)
+        return f
+    return decorator
+
+
+def site_options(f):
+    """Sites, names and masts."""
+    return _apply([
+        click.option("--site-a", type=LatLon(), help="Site A as LAT,LON in decimal degrees (WGS84)."),
+        click.option("--site-b", type=LatLon(), help="Site B as LAT,LON in decimal degrees (WGS84)."),
+        click.option("--name-a", default="A", show_default=True, help="Name of site A."),
+        click.option("--name-b", default="B", show_default=True, help="Name of site B."),
+        click.option("--mast-a", "mast_a_m", type=NON_NEGATIVE, default=10.0, show_default=True,
+                     help="Antenna height above ground at A [m]."),
+        click.option("--mast-b", "mast_b_m", type=NON_NEGATIVE, default=2.0, show_default=True,
+                     help="Antenna height above ground at B [m]."),
+    ])(f)
+
+
+def terrain_options(f):
+    """Where the terrain comes from and how finely it is sampled."""
+    return _apply([
+        click.option("--dem", "dem_paths", multiple=True, metavar="PATH",
+                     help="Elevation file (GeoTIFF, .hgt, VRT, ...) or folder of tiles; repeatable."),
+        click.option("--profile", "profile_csv", type=click.Path(dir_okay=False),
+                     help="Surveyed profile CSV (distance_m,elevation_m) instead of --dem; A is the first row."),
+        click.option("--step-m", type=POSITIVE, default=None,
+                     help="Largest sample spacing [m] (default: the finest DEM pixel along the path)."),
+        click.option("--fill-voids", is_flag=True, help="Interpolate across elevation voids instead of refusing."),
+    ])(f)
+
+
+def frequency_options(f):
+    """Working frequency."""
+    return _apply([
+        click.option("--freq-mhz", "freq_mhz", type=POSITIVE, default=None,
+                     help="Working frequency [MHz] (overrides --band)."),
+        click.option("--band", "band_name", default=None, metavar="NAME",
+                     help="Frequency plan whose mean channel frequency is used (default EU868; see 'profiler bands')."),
+    ])(f)
+
+
+def radio_options(f):
+    """Link budget, LoRa modem, antennas, losses."""
+    return _apply([
+        click.option("--tx-power-dbm", type=NUMBER, default=14.0, show_default=True, help="Transmitter power at A [dBm]."),
+        click.option("--gain-a-dbi", type=NUMBER, default=2.15, show_default=True, help="Antenna gain at A [dBi]."),
+        click.option("--gain-b-dbi", type=NUMBER, default=2.15, show_default=True, help="Antenna gain at B [dBi]."),
+        click.option("--cable-loss-a-db", type=NON_NEGATIVE, default=0.0, show_default=True, help="Feeder loss at A [dB]."),
+        click.option("--cable-loss-b-db", type=NON_NEGATIVE, default=0.0, show_default=True, help="Feeder loss at B [dB]."),
+        click.option("--fade-margin-db", type=NUMBER, default=10.0, show_default=True,
+                     help="Margin the link must keep above sensitivity [dB]."),
+        click.option("--sensitivity-dbm", type=NUMBER, default=None,
+                     help="Receiver sensitivity [dBm]; default computed from the LoRa settings."),
+        click.option("--bw-khz", type=NUMBER, default=125.0, show_default=True, help="LoRa bandwidth: 125, 250 or 500 [kHz]."),
+        click.option("--noise-figure-db", type=NON_NEGATIVE, default=6.0, show_default=True, help="Receiver noise figure [dB]."),
+        click.option("--sf", type=int, default=None,
+                     help="Spreading factor 7-12 for the budget (default: the lowest that closes, else 12)."),
+        click.option("--payload-bytes", type=int, default=12, show_default=True,
+                     help="LoRa PHY payload per uplink for time on air [bytes]."),
+        click.option("--polarization-a", default="vertical", show_default=True,
+                     help="Antenna polarization at A: vertical, horizontal or degrees from vertical."),
+        click.option("--polarization-b", default="vertical", show_default=True,
+                     help="Antenna polarization at B: vertical, horizontal or degrees from vertical."),
+        click.option("--sea-fraction", type=FiniteFloat(0.0, 1.0), default=0.0, show_default=True,
+                     help="Fraction of the path over sea (spherical-Earth diffraction term)."),
+        click.option("--diffraction", "diffraction_method", type=click.Choice(DIFFRACTION_METHODS),
+                     default="delta-bullington", show_default=True, help="Diffraction model (ITU-R P.526-15)."),
+        click.option("--extra-loss-db", type=NON_NEGATIVE, default=0.0, show_default=True,
+                     help="Fixed extra loss: foliage, building entry, ... [dB]."),
+    ])(f)
+
+
+def radio_settings(kw):
+    """Build :class:`RadioSettings` from the parsed radio options (popping them from ``kw``)."""
+    from ..analysis import RadioSettings
+
+    names = ("tx_power_dbm", "gain_a_dbi", "gain_b_dbi", "cable_loss_a_db", "cable_loss_b_db", "fade_margin_db",
+             "sensitivity_dbm", "bw_khz", "noise_figure_db", "sf", "payload_bytes", "polarization_a",
+             "polarization_b", "sea_fraction", "diffraction_method", "extra_loss_db")
+    return RadioSettings(**{n: kw.pop(n) for n in names})
+
+
+def plot_options(f):
+    """Figure output."""
+    return _apply([
+        click.option("--plot", "plot_path", type=click.Path(dir_okay=False), default=None,
+                     help="Write a figure: .png, .pdf or .svg."),
+        click.option("--paper", type=click.Choice(["a4", "letter"]), default="a4", show_default=True,
+                     help="Paper size of the figure (landscape)."),
+        click.option("--dpi", type=click.IntRange(50, 1200), default=200, show_default=True,
+                     help="Resolution of a PNG figure [dots per inch]."),
+    ])(f)

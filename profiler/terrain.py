@@ -1,0 +1,197 @@
+"""Terrain profiles: taken from elevation models along a geodesic, or read
+from a surveyed profile file.
+
+A :class:`TerrainProfile` is the hand-off between elevation access and the
+radio computations: distances from site A and terrain heights, plus the
+coordinates and provenance when they are known.
+"""
+
+from __future__ import annotations
+
+import csv
+import math
+from dataclasses import dataclass, field
+from pathlib import Path
+
+import numpy as np
+
+from .errors import ProfilerError
+from .path import geodesic_path, validate_lat_lon
+
+MAX_SAMPLES = 500_000
+"""Upper bound on profile samples; a finer step is refused with a hint."""
+
+
+@dataclass(frozen=True)
+class TerrainProfile:
+    """Terrain along the path from site A (first sample) to site B (last).
+
+    Attributes
+    ----------
+    distance_m : ndarray
+        Distance from A [m], strictly increasing, first element 0.
+    terrain_m : ndarray
+        Terrain height [m above mean sea level].
+    lat_deg, lon_deg : ndarray or None
+        Sample coordinates [deg, WGS84]; None for a surveyed profile.
+    azimuth_a_to_b_deg, azimuth_b_to_a_deg : float or None
+        Geodesic azimuths at the ends [deg]; None for a surveyed profile.
+    sources : list of dict
+        Provenance: ``{path, sha256, crs, resolution}`` per elevation source
+        used, or the surveyed profile file.
+    voids_filled : int
+        Number of samples interpolated across elevation voids.
+    kind : str
+        ``"dem"`` or ``"surveyed"``.
+    """
+
+    distance_m: np.ndarray
+    terrain_m: np.ndarray
+    lat_deg: np.ndarray | None = None
+    lon_deg: np.ndarray | None = None
+    azimuth_a_to_b_deg: float | None = None
+    azimuth_b_to_a_deg: float | None = None
+    sources: list = field(default_factory=list)
+    voids_filled: int = 0
+    kind: str = "dem"
+
+    @property
+    def length_m(self) -> float:
+        """Path length [m]."""
+        return float(self.distance_m[-1])
+
+
+def _describe_point(distance_m: float, lat: float, lon: float) -> str:
+    return f"{distance_m / 1000.0:.3f} km from site A ({lat:.5f}, {lon:.5f})"
+
+
+def profile_from_dem(model, lat_a_deg: float, lon_a_deg: float, lat_b_deg: float, lon_b_deg: float,
+                     step_m: float | None = None, fill_voids: bool = False,
+                     name_a: str = "site A", name_b: str = "site B") -> TerrainProfile:
+    """Sample an elevation model along the geodesic from A to B.
+
+    Parameters
+    ----------
+    model : profiler.dem.ElevationModel
+        Open elevation model.
+    lat_a_deg, lon_a_deg, lat_b_deg, lon_b_deg : float
+        Site coordinates [deg, WGS84].
+    step_m : float, optional
+        Largest sample spacing [m]; default the finest pixel size of the
+        elevation data along the path.
+    fill_voids : bool
+        Interpolate across nodata voids along the profile instead of refusing.
+
+    Returns
+    -------
+    TerrainProfile
+    """
+    from .dem import fill_voids_along_profile
+
+    lat_a, lon_a = validate_lat_lon(lat_a_deg, lon_a_deg, name_a)
+    lat_b, lon_b = validate_lat_lon(lat_b_deg, lon_b_deg, name_b)
+    ends_lon = np.array([lon_a, lon_b])
+    ends_lat = np.array([lat_a, lat_b])
+    inside = model.covers(ends_lon, ends_lat)
+    for ok, name, lat, lon in zip(inside, (name_a, name_b), ends_lat, ends_lon):
+        if not ok:
+            raise ProfilerError(
+                f"{name} ({lat:.5f}, {lon:.5f}) is outside the elevation data; coverage: {model.bounds_text()}")
+    if step_m is None:
+        coarse = geodesic_path(lat_a, lon_a, lat_b, lon_b, step_m=max(1.0, _coarse_step(lat_a, lon_a, lat_b, lon_b)))
+        covered = model.covers(coarse.lon_deg, coarse.lat_deg)
+        step_m = float(model.pixel_size_m(coarse.lon_deg[covered], coarse.lat_deg[covered]))
+    elif not (math.isfinite(step_m) and step_m > 0):
+        raise ProfilerError(f"--step-m must be a positive number of metres, got {step_m}")
+    path = geodesic_path(lat_a, lon_a, lat_b, lon_b, step_m)
+    if path.distance_m.size > MAX_SAMPLES:
+        raise ProfilerError(
+            f"the path would need {path.distance_m.size} samples at {step_m:g} m; give a coarser --step-m")
+    covered = model.covers(path.lon_deg, path.lat_deg)
+    if not covered.all():
+        i = int(np.argmin(covered))
+        raise ProfilerError(
+            f"the path leaves the elevation data at {_describe_point(path.distance_m[i], path.lat_deg[i], path.lon_deg[i])}; "
+            f"add the missing tiles with --dem (coverage: {model.bounds_text()})")
+    terrain = model.sample(path.lon_deg, path.lat_deg)
+    voids = ~np.isfinite(terrain)
+    n_filled = 0
+    if voids.any():
+        if not fill_voids:
+            i = int(np.argmax(voids))
+            raise ProfilerError(
+                f"the elevation data has a void ({int(voids.sum())} samples) starting "
+                f"{_describe_point(path.distance_m[i], path.lat_deg[i], path.lon_deg[i])}; "
+                "use --fill-voids to interpolate across it or add better data")
+        terrain, n_filled = fill_voids_along_profile(path.distance_m, terrain)
+    sources = [
+        {"path": s.path, "sha256": s.sha256, "crs": s.crs, "resolution": list(s.resolution)}
+        for s in model.sources_used(path.lon_deg, path.lat_deg)
+    ]
+    return TerrainProfile(distance_m=path.distance_m, terrain_m=np.asarray(terrain, dtype=float),
+                          lat_deg=path.lat_deg, lon_deg=path.lon_deg,
+                          azimuth_a_to_b_deg=path.azimuth_a_to_b_deg,
+                          azimuth_b_to_a_deg=path.azimuth_b_to_a_deg,
+                          sources=sources, voids_filled=int(n_filled), kind="dem")
+
+
+def _coarse_step(lat_a, lon_a, lat_b, lon_b) -> float:
+    from .path import geodesic_inverse
+
+    length, _, _ = geodesic_inverse(lat_a, lon_a, lat_b, lon_b)
+    return length / 64.0
+
+
+def read_profile_csv(path) -> TerrainProfile:
+    """Read a surveyed profile: a CSV file with columns ``distance_m,elevation_m``.
+
+    A header row is required; rows are used as given (no resampling).  Site A
+    is the first row and site B the last.  Distances must be strictly
+    increasing; they are taken relative to the first row.
+    """
+    import hashlib
+
+    p = Path(path)
+    if not p.is_file():
+        raise ProfilerError(f"profile file not found: {p}; check --profile")
+    raw = p.read_bytes()
+    try:
+        text = raw.decode("utf-8-sig")
+    except UnicodeDecodeError:
+        raise ProfilerError(f"profile file {p} is not UTF-8 text; save it as a CSV file") from None
+    rows = [r for r in csv.reader(text.splitlines()) if r and any(c.strip() for c in r)]
+    if not rows:
+        raise ProfilerError(f"profile file {p} is empty; it needs a header 'distance_m,elevation_m' and at least 3 rows")
+    header = [c.strip().lower() for c in rows[0]]
+    if "distance_m" not in header or "elevation_m" not in header:
+        raise ProfilerError(f"profile file {p} needs a header row with columns distance_m,elevation_m; found {','.join(rows[0])}")
+    i_d, i_h = header.index("distance_m"), header.index("elevation_m")
+    body = rows[1:]
+    if len(body) < 3:
+        raise ProfilerError(f"profile file {p} has {len(body)} data rows; at least 3 are needed")
+    try:
+        d = np.array([float(r[i_d]) for r in body], dtype=float)
+        h = np.array([float(r[i_h]) for r in body], dtype=float)
+    except (ValueError, IndexError):
+        bad = next(n for n, r in enumerate(body, start=2) if not _row_ok(r, i_d, i_h))
+        raise ProfilerError(f"profile file {p} line {bad}: expected two numbers distance_m,elevation_m") from None
+    if not np.all(np.isfinite(d)) or not np.all(np.isfinite(h)):
+        bad = int(np.argmax(~(np.isfinite(d) & np.isfinite(h)))) + 2
+        raise ProfilerError(f"profile file {p} line {bad}: distance and elevation must be finite numbers (no NaN)")
+    steps = np.diff(d)
+    if np.any(steps <= 0):
+        bad = int(np.argmax(steps <= 0)) + 3
+        kind = "duplicate" if steps[bad - 3] == 0 else "decreasing"
+        raise ProfilerError(f"profile file {p} line {bad}: {kind} distance; distances must strictly increase from site A to site B")
+    d = d - d[0]
+    source = {"path": str(p), "sha256": hashlib.sha256(raw).hexdigest(), "crs": None, "resolution": None}
+    return TerrainProfile(distance_m=d, terrain_m=h, sources=[source], kind="surveyed")
+
+
+def _row_ok(row, i_d, i_h) -> bool:
+    try:
+        float(row[i_d])
+        float(row[i_h])
+        return True
+    except (ValueError, IndexError):
+        return False
