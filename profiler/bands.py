@@ -93,11 +93,6 @@ def wavelength_m(frequency_mhz):
     return SPEED_OF_LIGHT_M_S / (frequency_mhz * 1e6)
 
 
-def near_field_distance_m(frequency_mhz, wavelengths: float = NEAR_FIELD_WAVELENGTHS):
-    """Minimum antenna separation of ``wavelengths`` wavelengths [m] (common practice)."""
-    return wavelengths * wavelength_m(frequency_mhz)
-
-
 def resolve_frequency_mhz(freq_mhz: float | None = None, band_name: str | None = None) -> tuple[float, str | None]:
     """Return the working frequency [MHz] and the band name it came from.
 

@@ -19,7 +19,7 @@ import numpy as np
 from profiler.errors import ProfilerError
 
 #: Speed of light in vacuum [m/s] (exact, SI definition).
-SPEED_OF_LIGHT_M_PER_S = 299_792_458.0
+from profiler.bands import wavelength_m as _wavelength_m
 
 #: Thermal noise power density kT0 at T0 = 290 K [dBm/Hz], rounded as is
 #: usual in link budgets (exact value -173.98 dBm/Hz).
@@ -182,8 +182,7 @@ def free_space_loss_db(distance_m, frequency_mhz):
     """
     d = _positive("distance", distance_m, "m")
     f = _positive("frequency", frequency_mhz, "MHz")
-    wavelength_m = SPEED_OF_LIGHT_M_PER_S / (f * 1e6)
-    return _scalar_or_array(20.0 * np.log10(4.0 * np.pi * d / wavelength_m))
+    return _scalar_or_array(20.0 * np.log10(4.0 * np.pi * d / _wavelength_m(f)))
 
 
 def near_field_distance_m(frequency_mhz, wavelengths=4.0):
@@ -212,7 +211,7 @@ def near_field_distance_m(frequency_mhz, wavelengths=4.0):
     """
     f = _positive("frequency", frequency_mhz, "MHz")
     n = _positive("near-field distance", wavelengths, "wavelengths")
-    return _scalar_or_array(n * SPEED_OF_LIGHT_M_PER_S / (f * 1e6))
+    return _scalar_or_array(n * _wavelength_m(f))
 
 
 # ---------------------------------------------------------------------------

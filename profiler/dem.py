@@ -605,7 +605,7 @@ class ElevationModel:
         try:
             raw = ds.read(1, window=window)
         except Exception as exc:  # GDAL raises various CPLE_* / RasterioIOError
-            reason = str(exc).splitlines()[0] if str(exc) else type(exc).__name__
+            reason = _root_cause(exc)
             raise ProfilerError(
                 f"cannot read elevation data from {tile.info.path} ({reason}); "
                 "the file may be truncated or corrupt") from exc
@@ -639,6 +639,18 @@ def _flat_points(lon_deg, lat_deg):
     lon, lat = np.broadcast_arrays(np.asarray(lon_deg, dtype=float),
                                    np.asarray(lat_deg, dtype=float))
     return lon.ravel(), lat.ravel(), lon.shape
+
+
+def _root_cause(exc):
+    """First line of the innermost message in an exception chain."""
+    reason, seen = type(exc).__name__, set()
+    while exc is not None and id(exc) not in seen:
+        seen.add(id(exc))
+        text = str(exc).strip()
+        if text:
+            reason = text.splitlines()[0]
+        exc = exc.__cause__ or exc.__context__
+    return reason
 
 
 def _expand_path(path):

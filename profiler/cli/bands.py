@@ -6,7 +6,8 @@ import json
 
 import click
 
-from ..bands import BANDS, NEAR_FIELD_RULE_OF_THUMB_M, NEAR_FIELD_WAVELENGTHS, near_field_distance_m, wavelength_m
+from ..bands import BANDS, NEAR_FIELD_RULE_OF_THUMB_M, NEAR_FIELD_WAVELENGTHS, wavelength_m
+from ..budget import near_field_distance_m
 
 
 @click.command("bands")
