@@ -254,7 +254,7 @@ def analyze_link(profile: TerrainProfile, *, mast_a_m: float = 10.0, mast_b_m: f
     angle_a = float(geometry.elevation_angle_deg(h_a, h_b, total, ae))
     angle_b = float(geometry.elevation_angle_deg(h_b, h_a, total, ae))
 
-    loss, budget_dict, lora = _radio_results(d, terrain, h_a, h_b, frequency_mhz, ae, radio)
+    loss, budget_dict, lora = radio_results(d, terrain, h_a, h_b, frequency_mhz, ae, radio)
 
     warnings = []
     near_field_m = max(NEAR_FIELD_WAVELENGTHS * lam, NEAR_FIELD_RULE_OF_THUMB_M)
@@ -321,8 +321,31 @@ def diffraction_losses(distance_m, terrain_m, antenna_a_amsl_m, antenna_b_amsl_m
     }
 
 
-def _radio_results(d, terrain, h_a, h_b, frequency_mhz, ae, radio: RadioSettings):
-    """Losses, budget and LoRa table for one geometry."""
+def radio_results(d, terrain, h_a, h_b, frequency_mhz, ae, radio: RadioSettings):
+    """Losses, link budget and LoRa table for one geometry.
+
+    Parameters
+    ----------
+    d, terrain : ndarray
+        Profile distances from A [m] and terrain heights [m AMSL].
+    h_a, h_b : float
+        Antenna heights [m AMSL] (ground + mast).
+    frequency_mhz : float
+        Working frequency [MHz].
+    ae : float
+        Effective Earth radius [m].
+    radio : RadioSettings
+        Validated settings.
+
+    Returns
+    -------
+    loss : dict
+        The ``loss_db`` block of the JSON report.
+    budget : dict
+        The ``budget`` block (``margin_db``, ``closes``, ``sf``, ...).
+    lora : dict
+        The ``lora`` block (per-SF table and lowest closing SF).
+    """
     pol_a = budget.polarization_angle_deg(radio.polarization_a)
     pol_b = budget.polarization_angle_deg(radio.polarization_b)
     # The spherical-Earth term needs one polarization: that of the transmitting antenna.
