@@ -35,7 +35,6 @@ import math
 from dataclasses import dataclass
 
 import numpy as np
-from scipy.special import fresnel
 
 from .errors import ProfilerError
 
@@ -205,6 +204,8 @@ def j_knife_edge_exact_db(v):
     eqs. (26)-(27).
     """
     v = np.asarray(v, dtype=float)
+    from scipy.special import fresnel  # imported here: keeps CLI start-up fast
+
     s, c = fresnel(v)
     magnitude = np.sqrt((1.0 - c - s) ** 2 + (c - s) ** 2) / 2.0
     return (-20.0 * np.log10(magnitude))[()]
@@ -231,7 +232,8 @@ def _profile_km(distance_m, height_m):
     if not (np.isfinite(d).all() and np.isfinite(h).all()):
         raise ProfilerError("the profile contains NaN or infinite values; fill elevation voids first")
     if not (np.diff(d) > 0.0).all():
-        raise ProfilerError("profile distances must increase strictly from site A to site B; check the sampling")
+        raise ProfilerError(
+            "profile distances must increase strictly from site A to site B; check the sampling")
     return (d - d[0]) * 1e-3, h
 
 
@@ -447,8 +449,8 @@ def _spherical_core(d_km, hts, hrs, ae_km, f_ghz, wavelength_m, vertical, omega)
         return _first_term(d_km, hts, hrs, ae_km, f_ghz, vertical, omega)            # eq. (24)
     c = (hts - hrs) / (hts + hrs)                                                    # eq. (25)
     m = 250.0 * d_km ** 2 / (ae_km * (hts + hrs))                                    # eq. (26)
-    b = (2.0 * math.sqrt((m + 1.0) / (3.0 * m))
-         * math.cos(math.pi / 3.0 + math.acos(min(1.0, max(-1.0, 1.5 * c * math.sqrt(3.0 * m / (m + 1.0) ** 3)))) / 3.0))  # eq. (27)
+    arg = min(1.0, max(-1.0, 1.5 * c * math.sqrt(3.0 * m / (m + 1.0) ** 3)))  # |arg| <= 1 up to rounding
+    b = 2.0 * math.sqrt((m + 1.0) / (3.0 * m)) * math.cos(math.pi / 3.0 + math.acos(arg) / 3.0)  # eq. (27)
     dse1 = 0.5 * d_km * (1.0 + b)                                                    # eq. (28a)
     dse2 = d_km - dse1                                                               # eq. (28b)
     hse = ((hts - 500.0 * dse1 ** 2 / ae_km) * dse2
