@@ -63,8 +63,9 @@ _US_SURVEY_FOOT_M = 1200.0 / 3937.0
 #: sample at a pixel centre returns that pixel's value exactly.
 _SNAP_PX = 1e-6
 
-#: Native blocks smaller than this many pixels (e.g. one-row strips) are read
-#: in larger aligned chunks of about _CHUNK_PX x _CHUNK_PX pixels.
+#: Native blocks of fewer than _CHUNK_PX**2 / 4 pixels (one-row strips, tiny
+#: tiles) are read in aligned groups of whole blocks about _CHUNK_PX pixels on
+#: a side; larger blocks are read one by one.
 _CHUNK_PX = 256
 
 _DEFAULT_CACHE_BYTES = 256 * 1024 * 1024
@@ -169,8 +170,11 @@ class _Tile:
         self.scale = float(ds.scales[0]) if ds.scales else 1.0
         self.offset = float(ds.offsets[0]) if ds.offsets else 0.0
         block_h, block_w = ds.block_shapes[0]
-        self.chunk_h = min(self.height, block_h * max(1, math.ceil(_CHUNK_PX / block_h)))
-        self.chunk_w = min(self.width, block_w * max(1, math.ceil(_CHUNK_PX / block_w)))
+        if block_h * block_w >= _CHUNK_PX * _CHUNK_PX // 4:
+            self.chunk_h, self.chunk_w = block_h, block_w  # read native blocks
+        else:  # tiny tiles or one-row strips: aligned groups of whole blocks
+            self.chunk_h = min(self.height, block_h * max(1, math.ceil(_CHUNK_PX / block_h)))
+            self.chunk_w = min(self.width, block_w * max(1, math.ceil(_CHUNK_PX / block_w)))
         self.n_chunk_cols = math.ceil(self.width / self.chunk_w)
         self.row0 = 0
         self.col0 = 0
@@ -213,7 +217,9 @@ class _Group:
         for p, q in ((ref.a, new.a), (ref.b, new.b), (ref.d, new.d), (ref.e, new.e)):
             if abs(p - q) > 1e-9 * size:
                 return False
-        col, row = ~ref * (new.c, new.f)
+        ia, ib, ic, id_, ie, if_ = self.inverse
+        col = ia * new.c + ib * new.f + ic
+        row = id_ * new.c + ie * new.f + if_
         if abs(col - round(col)) > 1e-4 or abs(row - round(row)) > 1e-4:
             return False
         tile.col0, tile.row0 = int(round(col)), int(round(row))
@@ -230,6 +236,12 @@ class _Group:
         self.order = min(t.index for t in self.tiles)
         self.resolution_m = min(t.info.resolution_m for t in self.tiles)
         self.is_geographic = bool(self.pcrs.is_geographic)
+        self.chunk_h = np.array([t.chunk_h for t in self.tiles])
+        self.chunk_w = np.array([t.chunk_w for t in self.tiles])
+        self.n_chunk_cols = np.array([t.n_chunk_cols for t in self.tiles])
+        n_chunks = np.array([t.n_chunk_cols * math.ceil(t.height / t.chunk_h) for t in self.tiles])
+        self.block_base = np.concatenate(([0], np.cumsum(n_chunks)[:-1]))
+        self.n_blocks = int(n_chunks.sum())
 
     def pixel_coords(self, lon_deg, lat_deg):
         """Fractional corner-based (row, col) in the group grid for lon/lat."""
@@ -245,6 +257,10 @@ class _Group:
 
     def tile_of(self, rows, cols):
         """Index (into ``self.tiles``) of the first tile holding each pixel, -1 if none."""
+        if len(self.tiles) == 1:
+            inside = ((rows >= self.r0[0]) & (rows < self.r1[0])
+                      & (cols >= self.c0[0]) & (cols < self.c1[0]))
+            return inside.astype(np.intp) - 1
         found = np.full(rows.shape, -1, dtype=np.intp)
         if rows.size == 0:
             return found
@@ -256,6 +272,23 @@ class _Group:
                       & (cols >= self.c0[k]) & (cols < self.c1[k]))
             found[inside] = k
         return found
+
+    def block_index(self, owner, rows, cols):
+        """Global block number, flat offset in the block and block width.
+
+        Entries whose ``owner`` is negative get meaningless values.
+        """
+        if len(self.tiles) == 1:
+            t = self.tiles[0]
+            br, r_in = np.divmod(rows - t.row0, t.chunk_h)
+            bc, c_in = np.divmod(cols - t.col0, t.chunk_w)
+            return br * t.n_chunk_cols + bc, r_in * t.chunk_w + c_in, np.full(rows.shape, t.chunk_w)
+        k = np.maximum(owner, 0)
+        width = self.chunk_w[k]
+        br, r_in = np.divmod(rows - self.r0[k], self.chunk_h[k])
+        bc, c_in = np.divmod(cols - self.c0[k], width)
+        key = self.block_base[k] + br * self.n_chunk_cols[k] + bc
+        return key, r_in * width + c_in, width
 
 
 def _floor_int(frac):
@@ -374,7 +407,7 @@ class ElevationModel:
         Bilinear interpolation on a unit square, e.g. Press et al., Numerical
         Recipes, 3rd ed., eq. (3.6.5).
         """
-        values, _ = self._sample(lon_deg, lat_deg)
+        values, _ = self._sample(lon_deg, lat_deg, want_used=False)
         return values
 
     def covers(self, lon_deg, lat_deg):
@@ -501,20 +534,23 @@ class ElevationModel:
         return False
 
     # ------------------------------------------------------------ internals
-    def _sample(self, lon_deg, lat_deg):
+    def _sample(self, lon_deg, lat_deg, want_used=True):
         lon, lat, shape = _flat_points(lon_deg, lat_deg)
         out = np.full(lon.shape, np.nan)
         used = set()
-        for group in self._groups:
-            todo = np.flatnonzero(np.isnan(out))
-            if todo.size == 0:
-                break
-            values, tiles_used = self._sample_group(group, lon[todo], lat[todo])
-            out[todo] = values
+        for number, group in enumerate(self._groups):
+            if number == 0:
+                out, tiles_used = self._sample_group(group, lon, lat, want_used)
+            else:
+                todo = np.flatnonzero(np.isnan(out))
+                if todo.size == 0:
+                    break
+                out[todo], tiles_used = self._sample_group(group, lon[todo], lat[todo],
+                                                           want_used)
             used.update(tiles_used)
         return out.reshape(shape), used
 
-    def _sample_group(self, group, lon, lat):
+    def _sample_group(self, group, lon, lat, want_used=True):
         """Bilinear samples from one mosaic (NaN where void or not covered)."""
         result = np.full(lon.shape, np.nan)
         frow, fcol = group.pixel_coords(lon, lat)
@@ -522,8 +558,11 @@ class ElevationModel:
         inside = group.tile_of(own_r, own_c) >= 0
         if not inside.any():
             return result, set()
-        idx = np.flatnonzero(inside)
-        own_r, own_c = own_r[idx], own_c[idx]
+        if inside.all():
+            idx = slice(None)
+        else:
+            idx = np.flatnonzero(inside)
+            own_r, own_c = own_r[idx], own_c[idx]
         # Pixel centres sit at integer + 0.5 in corner-based coordinates.
         u = fcol[idx] - 0.5
         v = frow[idx] - 0.5
@@ -534,9 +573,54 @@ class ElevationModel:
         wx = u - j0
         wy = v - i0
         # A neighbour with zero weight is the same pixel (no read, no NaN).
-        j1 = np.where(wx > 0.0, j0 + 1, j0)
-        i1 = np.where(wy > 0.0, i0 + 1, i0)
+        dj = (wx > 0.0).astype(np.int64)
+        di = (wy > 0.0).astype(np.int64)
+        j1 = j0 + dj
+        i1 = i0 + di
 
+        # Fast path: all four neighbours in one block of one tile (nearly all
+        # samples); one look-up per sample, four offsets into the block.
+        t00 = group.tile_of(i0, j0)
+        t11 = group.tile_of(i1, j1)
+        key00, local00, width00 = group.block_index(t00, i0, j0)
+        key11, _, _ = group.block_index(t11, i1, j1)
+        fast = (t00 >= 0) & (t00 == t11) & (key00 == key11)
+        n = u.size
+        z = np.empty((4, n))
+        owner_used = []
+        f = np.flatnonzero(fast)
+        if f.size:
+            base = local00[f]
+            step_c = dj[f]
+            step_r = di[f] * width00[f]
+            locals4 = np.stack([base, base + step_c, base + step_r, base + step_r + step_c])
+            z[:, f] = self._gather(group, key00[f], locals4)
+            owner_used.append(t00[f])
+        slow = np.flatnonzero(~fast)
+        if slow.size:
+            z[:, slow], owner = self._gather_clamped(
+                group, i0[slow], j0[slow], i1[slow], j1[slow], own_r[slow], own_c[slow])
+            owner_used.append(owner.reshape(4, -1))
+        top = z[0] + wx * (z[1] - z[0])
+        bottom = z[2] + wx * (z[3] - z[2])
+        z = top + wy * (bottom - top)
+        if group.vertical_scale != 1.0:
+            z = z * group.vertical_scale
+        result[idx] = z
+        if not want_used:
+            return result, set()
+        valid = np.isfinite(z)
+        counts = np.zeros(len(group.tiles), dtype=np.int64)
+        if f.size:
+            counts += np.bincount(t00[f][valid[f]], minlength=len(group.tiles))
+        if slow.size:
+            ok = np.broadcast_to(valid[slow], (4, slow.size))
+            counts += np.bincount(owner_used[-1][ok], minlength=len(group.tiles))
+        used = {group.tiles[k].index for k in np.flatnonzero(counts)}
+        return result, used
+
+    def _gather_clamped(self, group, i0, j0, i1, j1, own_r, own_c):
+        """Four neighbours per sample, clamped at the mosaic edge; (4, n) values."""
         rows = np.concatenate([i0, i0, i1, i1])
         cols = np.concatenate([j0, j1, j0, j1])
         own_r4 = np.tile(own_r, 4)
@@ -548,47 +632,48 @@ class ElevationModel:
             missing = owner < 0
             if not missing.any():
                 break
-            r_try = np.where(use_row, own_r4[missing], rows[missing])
-            c_try = np.where(use_col, own_c4[missing], cols[missing])
+            r_try = own_r4[missing] if use_row else rows[missing]
+            c_try = own_c4[missing] if use_col else cols[missing]
             found = group.tile_of(r_try, c_try)
             ok = found >= 0
             sel = np.flatnonzero(missing)[ok]
             rows[sel], cols[sel], owner[sel] = r_try[ok], c_try[ok], found[ok]
+        key, local, _ = group.block_index(owner, rows, cols)
+        values = self._gather(group, key, local[np.newaxis])[0]
+        return values.reshape(4, -1), owner
 
-        values = self._gather(group, owner, rows, cols)
-        n = idx.size
-        z00, z01, z10, z11 = values[:n], values[n:2 * n], values[2 * n:3 * n], values[3 * n:]
-        top = z00 + wx * (z01 - z00)
-        bottom = z10 + wx * (z11 - z10)
-        z = top + wy * (bottom - top)
-        if group.vertical_scale != 1.0:
-            z = z * group.vertical_scale
-        result[idx] = z
-        valid = np.tile(np.isfinite(z), 4)
-        used = {group.tiles[k].index for k in np.unique(owner[valid])}
-        return result, used
+    def _gather(self, group, key, local):
+        """Values (stored units, NaN void) at offsets ``local`` of blocks ``key``.
 
-    def _gather(self, group, owner, rows, cols):
-        """Pixel values (stored units, NaN void) for group-grid pixels."""
-        values = np.empty(rows.shape, dtype=float)
-        order = np.argsort(owner, kind="stable")
-        owner_sorted = owner[order]
-        bounds = np.flatnonzero(np.diff(owner_sorted)) + 1
-        for part in np.split(order, bounds):
-            tile = group.tiles[owner[part[0]]]
-            r = rows[part] - tile.row0
-            c = cols[part] - tile.col0
-            br = r // tile.chunk_h
-            bc = c // tile.chunk_w
-            key = br * tile.n_chunk_cols + bc
-            korder = np.argsort(key, kind="stable")
-            ksorted = key[korder]
-            kbounds = np.flatnonzero(np.diff(ksorted)) + 1
-            for sub in np.split(korder, kbounds):
-                block_r, block_c = int(br[sub[0]]), int(bc[sub[0]])
-                block = self._block(tile, block_r, block_c)
-                values[part[sub]] = block[r[sub] - block_r * tile.chunk_h,
-                                          c[sub] - block_c * tile.chunk_w]
+        Parameters
+        ----------
+        key : ndarray of int, shape (n,)
+            Global block number of each sample in the group.
+        local : ndarray of int, shape (m, n)
+            Flat offsets inside that block (m offsets per sample).
+
+        One (radix) sort groups the samples by block; each block is fetched
+        once and indexed with ``take``.
+        """
+        if group.n_blocks < 65536:  # small integers: numpy's stable sort is a radix sort
+            order = np.argsort(key.astype(np.uint16), kind="stable")
+        else:
+            order = np.argsort(key, kind="stable")
+        key_sorted = key[order]
+        local_sorted = local[:, order]
+        starts = np.concatenate(([0], np.flatnonzero(np.diff(key_sorted)) + 1))
+        ends = np.append(starts[1:], key_sorted.size)
+        block_keys = key_sorted[starts]
+        tile_ids = np.searchsorted(group.block_base, block_keys, side="right") - 1
+        in_tile = block_keys - group.block_base[tile_ids]
+        values_sorted = np.empty(local_sorted.shape, dtype=float)
+        for start, end, k, number in zip(starts.tolist(), ends.tolist(), tile_ids.tolist(),
+                                         in_tile.tolist()):
+            tile = group.tiles[k]
+            block = self._block(tile, *divmod(number, tile.n_chunk_cols))
+            values_sorted[:, start:end] = np.take(block, local_sorted[:, start:end])
+        values = np.empty_like(values_sorted)
+        values[:, order] = values_sorted
         return values
 
     def _block(self, tile, block_r, block_c):
@@ -610,6 +695,11 @@ class ElevationModel:
                 f"cannot read elevation data from {tile.info.path} ({reason}); "
                 "the file may be truncated or corrupt") from exc
         block = tile.to_nan(raw)
+        if block.shape != (tile.chunk_h, tile.chunk_w):  # edge block: pad to full size
+            padded = np.full((tile.chunk_h, tile.chunk_w), np.nan, dtype=block.dtype)
+            padded[:block.shape[0], :block.shape[1]] = block
+            block = padded
+        block = block.ravel()
         self.blocks_read += 1
         self._cache[key] = block
         self._cache_bytes += block.nbytes

@@ -451,7 +451,8 @@ def _spherical_core(d_km, hts, hrs, ae_km, f_ghz, wavelength_m, vertical, omega)
     m = 250.0 * d_km ** 2 / (ae_km * (hts + hrs))                                    # eq. (26)
     arg = min(1.0, max(-1.0, 1.5 * c * math.sqrt(3.0 * m / (m + 1.0) ** 3)))  # |arg| <= 1 up to rounding
     b = 2.0 * math.sqrt((m + 1.0) / (3.0 * m)) * math.cos(math.pi / 3.0 + math.acos(arg) / 3.0)  # eq. (27)
-    dse1 = 0.5 * d_km * (1.0 + b)                                                    # eq. (28a)
+    # Rounding can push b a hair past 1 when one height is zero: keep the split on the path.
+    dse1 = min(d_km, max(0.0, 0.5 * d_km * (1.0 + b)))                               # eq. (28a)
     dse2 = d_km - dse1                                                               # eq. (28b)
     hse = ((hts - 500.0 * dse1 ** 2 / ae_km) * dse2
            + (hrs - 500.0 * dse2 ** 2 / ae_km) * dse1) / d_km                        # eq. (29)
@@ -460,7 +461,11 @@ def _spherical_core(d_km, hts, hrs, ae_km, f_ghz, wavelength_m, vertical, omega)
         return 0.0
     aem = 500.0 * (d_km / (math.sqrt(hts) + math.sqrt(hrs))) ** 2                    # eq. (31)
     ldft = _first_term(d_km, hts, hrs, aem, f_ghz, vertical, omega)
-    return 0.0 if ldft < 0.0 else (1.0 - hse / hreq) * ldft                          # eq. (32)
+    if ldft < 0.0:
+        return 0.0
+    if hreq <= 0.0:  # degenerate: closest approach at an antenna of zero height (grazing)
+        return ldft
+    return (1.0 - hse / hreq) * ldft                                                 # eq. (32)
 
 
 def spherical_earth(distance_m, h_tx_eff_m, h_rx_eff_m, frequency_mhz, effective_radius_m,
