@@ -107,8 +107,7 @@ class LinkResult:
 
     def to_dict(self) -> dict:
         """The JSON report as plain Python types (lists, floats, None)."""
-        profile = {k: [_num(x) for x in np.asarray(v, dtype=float)] if v is not None else None
-                   for k, v in self.profile.items()}
+        profile = {k: _float_list(v) for k, v in self.profile.items()}
         return {
             "schema": self.schema,
             "tool_version": self.tool_version,
@@ -147,6 +146,18 @@ def _num(x):
         return int(x)
     x = float(x)
     return x if math.isfinite(x) else None
+
+
+def _float_list(values):
+    """An array as a list of floats, non-finite values as None (vectorized; None stays None)."""
+    if values is None:
+        return None
+    a = np.asarray(values, dtype=float)
+    out = a.tolist()
+    bad = np.flatnonzero(~np.isfinite(a))
+    for i in bad:  # rare: only non-finite entries
+        out[i] = None
+    return out
 
 
 def _clean(obj):

@@ -46,23 +46,34 @@ def link(site_a=None, site_b=None, *, dem=None, profile_csv=None, mast_a_m: floa
     """
     f_mhz, band_name = resolve_frequency_mhz(frequency_mhz, band)
     k = parse_k_factor(k_factor)
-    if profile_csv is not None:
-        if dem:
-            raise ProfilerError("give either --dem or --profile, not both")
-        prof = read_profile_csv(profile_csv)
-    else:
-        if not dem:
-            raise ProfilerError("no elevation data: give --dem FILE_OR_FOLDER or --profile FILE.csv")
-        if site_a is None or site_b is None:
-            raise ProfilerError("both --site-a and --site-b are needed with --dem (format LAT,LON)")
-        from .dem import ElevationModel
-
-        with ElevationModel.open(dem) as model:
-            prof = profile_from_dem(model, site_a[0], site_a[1], site_b[0], site_b[1], step_m=step_m,
-                                    fill_voids=fill_voids, name_a=f"site A ({name_a})" if name_a != "A" else "site A",
-                                    name_b=f"site B ({name_b})" if name_b != "B" else "site B")
+    prof = load_profile(site_a, site_b, dem=dem, profile_csv=profile_csv, step_m=step_m,
+                        fill_voids=fill_voids, name_a=name_a, name_b=name_b)
     return analyze_link(prof, mast_a_m=mast_a_m, mast_b_m=mast_b_m, frequency_mhz=f_mhz, band=band_name,
                         k_factor=k, clearance_ratio_required=clearance_ratio, radio=radio,
                         name_a=name_a, name_b=name_b,
                         site_a_lat_lon=tuple(site_a) if site_a is not None else None,
                         site_b_lat_lon=tuple(site_b) if site_b is not None else None)
+
+
+def load_profile(site_a=None, site_b=None, *, dem=None, profile_csv=None, step_m: float | None = None,
+                 fill_voids: bool = False, name_a: str = "A", name_b: str = "B"):
+    """The terrain profile from a surveyed CSV file or from elevation data along the geodesic.
+
+    Parameters are those of :func:`link`.  Returns a
+    :class:`~profiler.terrain.TerrainProfile`.
+    """
+    if profile_csv is not None:
+        if dem:
+            raise ProfilerError("give either --dem or --profile, not both")
+        return read_profile_csv(profile_csv)
+    if not dem:
+        raise ProfilerError("no elevation data: give --dem FILE_OR_FOLDER or --profile FILE.csv")
+    if site_a is None or site_b is None:
+        raise ProfilerError("both --site-a and --site-b are needed with --dem (format LAT,LON)")
+    from .dem import ElevationModel
+
+    with ElevationModel.open(dem) as model:
+        return profile_from_dem(model, site_a[0], site_a[1], site_b[0], site_b[1], step_m=step_m,
+                                fill_voids=fill_voids,
+                                name_a=f"site A ({name_a})" if name_a != "A" else "site A",
+                                name_b=f"site B ({name_b})" if name_b != "B" else "site B")

@@ -165,8 +165,7 @@ class _Tile:
         self.width = ds.width
         self.height = ds.height
         self.dtype = np.dtype(ds.dtypes[0])
-        self.value_dtype = np.result_type(self.dtype, np.float32)
-        self.nodata = ds.nodata
+        self.void_value = _void_value(self.dtype, ds.nodata)
         self.scale = float(ds.scales[0]) if ds.scales else 1.0
         self.offset = float(ds.offsets[0]) if ds.offsets else 0.0
         block_h, block_w = ds.block_shapes[0]
@@ -179,20 +178,27 @@ class _Tile:
         self.row0 = 0
         self.col0 = 0
 
-    def to_nan(self, raw):
-        """Convert a raw block to float heights in stored units, NaN for voids."""
-        values = raw.astype(self.value_dtype)
-        nodata = self.nodata
-        if nodata is not None and not math.isnan(nodata):
-            if self.dtype.kind in "iu":
-                limits = np.iinfo(self.dtype)
-                if float(nodata).is_integer() and limits.min <= nodata <= limits.max:
-                    values[raw == self.dtype.type(nodata)] = np.nan
-            else:
-                values[raw == self.dtype.type(nodata)] = np.nan
+    def to_float(self, raw):
+        """Stored values (native dtype) to float64 heights in stored units, NaN void."""
+        values = raw.astype(np.float64)
+        if self.void_value is not None:
+            values[raw == self.void_value] = np.nan
         if self.scale != 1.0 or self.offset != 0.0:
             values = values * self.scale + self.offset
         return values
+
+
+def _void_value(dtype, nodata):
+    """The nodata value in the raster's dtype, or None (NaN is always void)."""
+    if nodata is None or math.isnan(nodata):
+        return None
+    if dtype.kind in "iu":
+        limits = np.iinfo(dtype)
+        if not (float(nodata).is_integer() and limits.min <= nodata <= limits.max):
+            return None
+    elif dtype.kind == "c":
+        return None
+    return dtype.type(nodata)
 
 
 class _Group:
@@ -232,7 +238,6 @@ class _Group:
         self.c0 = np.array([t.col0 for t in self.tiles])
         self.r1 = self.r0 + np.array([t.height for t in self.tiles])
         self.c1 = self.c0 + np.array([t.width for t in self.tiles])
-        self.bbox = (self.r0.min(), self.r1.max(), self.c0.min(), self.c1.max())
         self.order = min(t.index for t in self.tiles)
         self.resolution_m = min(t.info.resolution_m for t in self.tiles)
         self.is_geographic = bool(self.pcrs.is_geographic)
@@ -242,6 +247,14 @@ class _Group:
         n_chunks = np.array([t.n_chunk_cols * math.ceil(t.height / t.chunk_h) for t in self.tiles])
         self.block_base = np.concatenate(([0], np.cumsum(n_chunks)[:-1]))
         self.n_blocks = int(n_chunks.sum())
+        # All tiles store heights alike: gather raw values, convert once.
+        first = self.tiles[0]
+        same = all(t.dtype == first.dtype and t.scale == first.scale and t.offset == first.offset
+                   and ((t.void_value is None and first.void_value is None)
+                        or (t.void_value is not None and first.void_value is not None
+                            and t.void_value == first.void_value))
+                   for t in self.tiles)
+        self.uniform_tile = first if same else None
 
     def pixel_coords(self, lon_deg, lat_deg):
         """Fractional corner-based (row, col) in the group grid for lon/lat."""
@@ -253,7 +266,8 @@ class _Group:
             x = np.asarray(x, dtype=float)
             y = np.asarray(y, dtype=float)
         ia, ib, ic, id_, ie, if_ = self.inverse
-        return id_ * x + ie * y + if_, ia * x + ib * y + ic
+        with np.errstate(invalid="ignore"):  # non-finite input stays non-finite
+            return id_ * x + ie * y + if_, ia * x + ib * y + ic
 
     def tile_of(self, rows, cols):
         """Index (into ``self.tiles``) of the first tile holding each pixel, -1 if none."""
@@ -566,8 +580,9 @@ class ElevationModel:
         # Pixel centres sit at integer + 0.5 in corner-based coordinates.
         u = fcol[idx] - 0.5
         v = frow[idx] - 0.5
-        u = np.where(np.abs(u - np.round(u)) < _SNAP_PX, np.round(u), u)
-        v = np.where(np.abs(v - np.round(v)) < _SNAP_PX, np.round(v), v)
+        nearest_u, nearest_v = np.rint(u), np.rint(v)
+        u = np.where(np.abs(u - nearest_u) < _SNAP_PX, nearest_u, u)
+        v = np.where(np.abs(v - nearest_v) < _SNAP_PX, nearest_v, v)
         j0 = np.floor(u).astype(np.int64)
         i0 = np.floor(v).astype(np.int64)
         wx = u - j0
@@ -593,8 +608,9 @@ class ElevationModel:
             base = local00[f]
             step_c = dj[f]
             step_r = di[f] * width00[f]
-            locals4 = np.stack([base, base + step_c, base + step_r, base + step_r + step_c])
-            z[:, f] = self._gather(group, key00[f], locals4)
+            locals4 = np.stack([base, base + step_c, base + step_r, base + step_r + step_c],
+                               axis=1)
+            z[:, f] = self._gather(group, key00[f], locals4).T
             owner_used.append(t00[f])
         slow = np.flatnonzero(~fast)
         if slow.size:
@@ -639,7 +655,7 @@ class ElevationModel:
             sel = np.flatnonzero(missing)[ok]
             rows[sel], cols[sel], owner[sel] = r_try[ok], c_try[ok], found[ok]
         key, local, _ = group.block_index(owner, rows, cols)
-        values = self._gather(group, key, local[np.newaxis])[0]
+        values = self._gather(group, key, local[:, np.newaxis])[:, 0]
         return values.reshape(4, -1), owner
 
     def _gather(self, group, key, local):
@@ -649,31 +665,50 @@ class ElevationModel:
         ----------
         key : ndarray of int, shape (n,)
             Global block number of each sample in the group.
-        local : ndarray of int, shape (m, n)
+        local : ndarray of int, shape (n, m)
             Flat offsets inside that block (m offsets per sample).
 
-        One (radix) sort groups the samples by block; each block is fetched
-        once and indexed with ``take``.
+        Returns
+        -------
+        ndarray of float, shape (n, m)
+
+        Samples along a path come in long runs in the same block: such runs
+        are used as they are.  Otherwise one (radix) sort groups the samples
+        by block.  Each run is fetched once and indexed with ``take``.
         """
-        if group.n_blocks < 65536:  # small integers: numpy's stable sort is a radix sort
-            order = np.argsort(key.astype(np.uint16), kind="stable")
+        changes = np.flatnonzero(key[1:] != key[:-1]) + 1
+        if changes.size < max(64, key.size // 32):
+            order = None
+            key_sorted, local_sorted = key, local
         else:
-            order = np.argsort(key, kind="stable")
-        key_sorted = key[order]
-        local_sorted = local[:, order]
-        starts = np.concatenate(([0], np.flatnonzero(np.diff(key_sorted)) + 1))
+            if group.n_blocks < 65536:  # small integers: numpy's stable sort is radix
+                order = np.argsort(key.astype(np.uint16), kind="stable")
+            else:
+                order = np.argsort(key, kind="stable")
+            key_sorted = key[order]
+            local_sorted = local[order]
+            changes = np.flatnonzero(key_sorted[1:] != key_sorted[:-1]) + 1
+        starts = np.concatenate(([0], changes))
         ends = np.append(starts[1:], key_sorted.size)
         block_keys = key_sorted[starts]
         tile_ids = np.searchsorted(group.block_base, block_keys, side="right") - 1
         in_tile = block_keys - group.block_base[tile_ids]
-        values_sorted = np.empty(local_sorted.shape, dtype=float)
+        uniform = group.uniform_tile
+        raw_sorted = np.empty(local_sorted.shape,
+                              dtype=uniform.dtype if uniform is not None else float)
         for start, end, k, number in zip(starts.tolist(), ends.tolist(), tile_ids.tolist(),
                                          in_tile.tolist()):
             tile = group.tiles[k]
             block = self._block(tile, *divmod(number, tile.n_chunk_cols))
-            values_sorted[:, start:end] = np.take(block, local_sorted[:, start:end])
+            if uniform is not None:
+                np.take(block, local_sorted[start:end], out=raw_sorted[start:end])
+            else:
+                raw_sorted[start:end] = tile.to_float(np.take(block, local_sorted[start:end]))
+        values_sorted = uniform.to_float(raw_sorted) if uniform is not None else raw_sorted
+        if order is None:
+            return values_sorted
         values = np.empty_like(values_sorted)
-        values[:, order] = values_sorted
+        values[order] = values_sorted
         return values
 
     def _block(self, tile, block_r, block_c):
@@ -694,9 +729,9 @@ class ElevationModel:
             raise ProfilerError(
                 f"cannot read elevation data from {tile.info.path} ({reason}); "
                 "the file may be truncated or corrupt") from exc
-        block = tile.to_nan(raw)
+        block = raw  # kept in the raster's dtype; converted per sample in _gather
         if block.shape != (tile.chunk_h, tile.chunk_w):  # edge block: pad to full size
-            padded = np.full((tile.chunk_h, tile.chunk_w), np.nan, dtype=block.dtype)
+            padded = np.zeros((tile.chunk_h, tile.chunk_w), dtype=block.dtype)
             padded[:block.shape[0], :block.shape[1]] = block
             block = padded
         block = block.ravel()

@@ -74,7 +74,7 @@ def round_up_mm(height_m):
     spare after rounding (floating-point noise cannot flip the verdict).
     """
     h = np.asarray(height_m, dtype=float)
-    out = np.ceil((h + 1e-6) * 1000.0) / 1000.0
+    out = np.round(np.ceil((h + 1e-6) * 1000.0) / 1000.0, 3)
     return float(out) if out.ndim == 0 else out
 
 
@@ -546,8 +546,11 @@ def solve_mast(profile: TerrainProfile, *, frequency_mhz: float, solve: str = "b
                             hi = mid
                         else:
                             lo = mid
-                    rounded = min(round_up_mm(lo), float(t))
-                    return rounded if radio_at(rounded)["margin_db"] >= x_db else hi
+                    # Prefer a whole millimetre; keep the verified bracket end otherwise.
+                    for r in (round_up_mm(lo), round(round_up_mm(lo) + 0.001, 3), round_up_mm(hi)):
+                        if r <= float(t) + 1e-12 and radio_at(r)["margin_db"] >= x_db:
+                            return r
+                    return hi
                 prev = float(t)
             return None
 
@@ -706,8 +709,10 @@ def _cheapest_split(d, g_a, g_b, clearance_req, max_mast_m, step, min_margin_db,
                 hi = mid
             else:
                 lo = mid
-        rounded = min(round_up_mm(lo), hi)
-        return rounded if margin_fn(m_a, rounded) >= min_margin_db else hi
+        for r in (round_up_mm(lo), round(round_up_mm(lo) + 0.001, 3), round_up_mm(hi)):
+            if r <= max_mast_m and margin_fn(m_a, r) >= min_margin_db:
+                return r
+        return hi
 
     grid = _height_grid(0.0, 0.0, max_mast_m, step)
     sums = []

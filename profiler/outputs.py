@@ -61,3 +61,21 @@ def write_bytes(path: str | os.PathLike, data: bytes) -> None:
             tmp.write_bytes(data)
         except OSError as exc:
             raise ProfilerError(f"cannot write {path}: {exc.strerror}") from exc
+
+
+def check_output_path(path, suffixes: tuple[str, ...] | None = None, option: str = "output") -> None:
+    """Refuse early an output path whose folder is missing or whose extension is wrong.
+
+    Called before any computation so that a run never stops half-way through
+    writing its outputs.  ``-`` (standard output) is always accepted.
+    """
+    if path is None or str(path) == "-":
+        return
+    target = Path(path)
+    directory = target.parent if str(target.parent) else Path(".")
+    if not directory.is_dir():
+        raise ProfilerError(f"cannot write {target} ({option}): folder {directory} does not exist; create it first")
+    if target.is_dir():
+        raise ProfilerError(f"cannot write {target} ({option}): it is a folder; give a file name")
+    if suffixes and target.suffix.lower() not in suffixes:
+        raise ProfilerError(f"{option} {target}: unknown file type {target.suffix or '(none)'}; use {', '.join(suffixes)}")

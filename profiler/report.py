@@ -39,7 +39,8 @@ def inert_text(text) -> str:
 
 def json_text(report: dict) -> str:
     """The JSON report as text (UTF-8, indented, no NaN)."""
-    return json.dumps(report, indent=2, allow_nan=False, ensure_ascii=False) + "\n"
+    # No indent: the C encoder is ~20x faster on long profiles; use `jq .` to pretty-print.
+    return json.dumps(report, allow_nan=False, ensure_ascii=False) + "\n"
 
 
 def write_json(report: dict, path) -> None:

@@ -124,7 +124,8 @@ def test_usgs_3arcsec_sample_data_exact_at_pixel_centres(write_dem):
     # USGS 3 arc-second DEM shipped with matplotlib (sample_data).  Its extent
     # values are outer pixel edges: (xmax - xmin) / dx = 403 = number of columns.
     # Row 0 is the northern row (matplotlib's shading examples draw it with
-    # imshow's default origin='upper'); the key 'ymin' holds the northern edge.
+    # imshow's default origin='upper', from memory); the key 'ymin' holds the
+    # northern edge.
     data = cbook.get_sample_data("jacksboro_fault_dem.npz")
     elevation = data["elevation"]
     dx, dy = float(data["dx"]), float(data["dy"])
@@ -284,8 +285,10 @@ def test_geographic_tiles_are_seamless(write_dem, tmp_path):
     single = write_dem("one.tif", values, transform)
     for i in range(2):
         for j in range(2):
+            # Different nodata values per tile: the mosaic still joins them.
             write_dem(f"quad/q{i}{j}.tif", values[120 * i:120 * (i + 1), 120 * j:120 * (j + 1)],
-                      from_origin(7.0 + 0.1 * j, 45.2 - 0.1 * i, ARCSEC3_DEG, ARCSEC3_DEG))
+                      from_origin(7.0 + 0.1 * j, 45.2 - 0.1 * i, ARCSEC3_DEG, ARCSEC3_DEG),
+                      nodata=-9999.0 - i - 2 * j)
     lon = np.linspace(7.0, 7.2, 5001)[1:-1]
     lat = np.linspace(45.19, 45.01, 5001)[1:-1]
     with ElevationModel.open(single) as one, ElevationModel.open([tmp_path / "quad"]) as four:
@@ -474,3 +477,50 @@ def test_multiband_uses_band_one(write_dem):
         assert dem.sources[0].crs == "EPSG:4326"
         assert len(dem.sources[0].sha256) == 64
         assert math.isclose(dem.sources[0].bounds_lonlat[0], 7.0)
+
+
+# ------------------------------------------------------------ other formats
+def test_vrt_and_ascii_grid(write_dem, tmp_path):
+    transform = from_origin(7.0, 45.2, ARCSEC3_DEG, ARCSEC3_DEG)
+    lon_c, lat_c = grid_centres(transform, 240, 240)
+    values = bilinear_surface_m(lon_c, lat_c)
+    tif = write_dem("base.tif", values, transform)
+    # A hand-written GDAL VRT (format described in the GDAL "VRT" driver docs).
+    vrt = tmp_path / "mosaic.vrt"
+    vrt.write_text(f"""<VRTDataset rasterXSize="240" rasterYSize="240">
+  <SRS>EPSG:4326</SRS>
+  <GeoTransform>7.0, {ARCSEC3_DEG!r}, 0.0, 45.2, 0.0, {-ARCSEC3_DEG!r}</GeoTransform>
+  <VRTRasterBand dataType="Float64" band="1">
+    <SimpleSource>
+      <SourceFilename relativeToVRT="1">base.tif</SourceFilename>
+      <SourceBand>1</SourceBand>
+    </SimpleSource>
+  </VRTRasterBand>
+</VRTDataset>""")
+    # ESRI ASCII grid without a .prj: taken as WGS84 longitude/latitude.
+    asc = tmp_path / "grid.asc"
+    with rasterio.open(tif) as src, rasterio.open(
+            asc, "w", driver="AAIGrid", width=240, height=240, count=1, dtype="float64",
+            transform=transform) as dst:
+        dst.write(src.read(1), 1)
+    lon, lat = random_points(np.random.default_rng(5), 300, 7.01, 45.01, 7.19, 45.19)
+    # The ASCII grid stores values as decimal text with limited digits: 1e-4 m.
+    for path, atol in ((vrt, 1e-6), (asc, 1e-4)):
+        with ElevationModel.open(path) as dem:
+            # Bilinear on a bilinear function is exact (Numerical Recipes eq. 3.6.5).
+            np.testing.assert_allclose(dem.sample(lon, lat), bilinear_surface_m(lon, lat),
+                                       rtol=0, atol=atol)
+            assert dem.sources[0].crs == "EPSG:4326"
+
+
+def test_void_in_fine_source_is_taken_from_coarser(write_dem):
+    coarse = geographic_dem(write_dem, lambda lon, lat: np.full_like(lon, 100.0),
+                            name="coarse.tif", step_deg=2 * ARCSEC3_DEG)
+    fine_values = np.full((240, 240), 200, dtype="int16")
+    fine_values[100:140, 100:140] = -32768
+    fine = write_dem("fine.tif", fine_values,
+                     from_origin(7.0, 45.2, ARCSEC3_DEG, ARCSEC3_DEG), nodata=-32768)
+    with ElevationModel.open([coarse, fine]) as dem:
+        z = dem.sample([7.05, 7.1], [45.15, 45.1])
+        assert [Path(s.path).name for s in dem.sources_used([7.1], [45.1])] == ["coarse.tif"]
+    np.testing.assert_array_equal(z, [200.0, 100.0])

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import click
 
-from .options import (POSITIVE, frequency_options, plot_options, radio_options, radio_settings,
+from .options import (frequency_options, plot_options, radio_options, radio_settings,
                       site_options, terrain_options)
 
 
@@ -35,8 +35,13 @@ def link_command(site_a, site_b, name_a, name_b, mast_a_m, mast_b_m, dem_paths, 
       profiler link --dem dem_samples --site-a 46.0,7.0 --site-b 46.1,7.1
     """
     from ..api import link
+    from ..outputs import check_output_path
     from ..report import summary_text, write_csv, write_json
 
+    for path, option, suffixes in ((json_path, "--json", None), (csv_path, "--csv", None),
+                                   (geojson_path, "--geojson", None), (kml_path, "--kml", None),
+                                   (plot_path, "--plot", (".png", ".pdf", ".svg"))):
+        check_output_path(path, suffixes, option)
     radio = radio_settings(radio_kw)
     result = link(site_a, site_b, dem=list(dem_paths), profile_csv=profile_csv, mast_a_m=mast_a_m,
                   mast_b_m=mast_b_m, name_a=name_a, name_b=name_b, k_factor=k_text, frequency_mhz=freq_mhz,

@@ -1,0 +1,223 @@
+"""``profiler mast``: the lowest mast that meets the clearance and margin criteria."""
+
+from __future__ import annotations
+
+import click
+
+from ..errors import ProfilerError
+from .options import (NUMBER, POSITIVE, frequency_options, plot_options, radio_options, radio_settings,
+                      site_options, terrain_options)
+
+PAPER_IN = {"a4": (11.69, 8.27), "letter": (11.0, 8.5)}
+"""Landscape paper sizes [inch]."""
+
+
+class InfeasibleMast(ProfilerError):
+    """No height up to the maximum meets the criteria (exit status 3)."""
+
+    exit_code = 3
+
+
+@click.command("mast")
+@site_options
+@terrain_options
+@click.option("--k", "k_text", default="4/3", show_default=True,
+              help="Effective-Earth-radius factor, a decimal or a fraction such as 4/3.")
+@frequency_options
+@click.option("--clearance-ratio", type=click.FloatRange(0.0, 10.0), default=0.6, show_default=True,
+              help="Required clearance as a fraction of the first Fresnel radius at --k.")
+@click.option("--low-k", "low_k_text", default="2/3", show_default=True,
+              help="Low effective-Earth-radius factor for the second clearance criterion.")
+@click.option("--low-k-clearance", "low_k_clearance", type=click.FloatRange(0.0, 10.0), default=0.0,
+              show_default=True, help="Required clearance as a fraction of F1 at --low-k.")
+@click.option("--no-low-k", is_flag=True, help="Drop the low-k clearance criterion.")
+@click.option("--no-clearance", is_flag=True,
+              help="Drop both clearance criteria (diffraction accepted); needs --min-margin-db.")
+@click.option("--min-margin-db", type=NUMBER, default=None,
+              help="Least link margin [dB] at --sf (or the recommended SF) with the --diffraction method.")
+@click.option("--solve", type=click.Choice(["a", "b", "both"]), default="b", show_default=True,
+              help="End to raise: a, b, or both by the same added height (also reports the cheapest split).")
+@click.option("--max-mast-m", type=POSITIVE, default=60.0, show_default=True, help="Highest allowed mast [m].")
+@click.option("--mast-step-m", type=POSITIVE, default=1.0, show_default=True,
+              help="Height step of the table and of the margin scan [m].")
+@radio_options
+@click.option("--json", "json_path", default=None, metavar="FILE", help="Write the JSON report ('-' for stdout).")
+@plot_options
+def mast_command(site_a, site_b, name_a, name_b, mast_a_m, mast_b_m, dem_paths, profile_csv, step_m, fill_voids,
+                 k_text, freq_mhz, band_name, clearance_ratio, low_k_text, low_k_clearance, no_low_k,
+                 no_clearance, min_margin_db, solve, max_mast_m, mast_step_m, json_path, plot_path, paper, dpi,
+                 **radio_kw):
+    """Find the lowest mast that meets every given criterion.
+
+    Criteria (all that are given must hold): clearance >= --clearance-ratio
+    F1 at --k, clearance >= --low-k-clearance F1 at --low-k, and, when
+    given, margin >= --min-margin-db.  --mast-a / --mast-b are the fixed
+    height of the end not solved and the first row of the table.  Exits
+    with status 3 when no height up to --max-mast-m works (the report is
+    still written).
+
+    \b
+    Example:
+      profiler mast --dem dem_samples --site-a 46.0,7.0 --site-b 46.1,7.1 --solve b
+    """
+    from ..bands import resolve_frequency_mhz
+    from ..mast import solve_mast
+    from ..outputs import check_output_path
+    from ..report import write_json
+
+    # Refuse a bad output path before any computation.
+    check_output_path(json_path, None, "--json")
+    check_output_path(plot_path, (".png", ".pdf", ".svg"), "--plot")
+    radio = radio_settings(radio_kw)
+    if no_clearance and min_margin_db is None:
+        raise ProfilerError("--no-clearance leaves no criterion: give --min-margin-db too")
+    f_mhz, band = resolve_frequency_mhz(freq_mhz, band_name)
+    from ..api import load_profile
+
+    profile = load_profile(site_a, site_b, dem=list(dem_paths), profile_csv=profile_csv, step_m=step_m,
+                           fill_voids=fill_voids, name_a=name_a, name_b=name_b)
+    result = solve_mast(
+        profile, frequency_mhz=f_mhz, band=band, solve=solve, mast_a_m=mast_a_m, mast_b_m=mast_b_m,
+        clearance_ratio=None if no_clearance else clearance_ratio, k_factor=k_text,
+        low_k_clearance_ratio=None if (no_clearance or no_low_k) else low_k_clearance, low_k_factor=low_k_text,
+        min_margin_db=min_margin_db, radio=radio, max_mast_m=max_mast_m, mast_step_m=mast_step_m,
+        name_a=name_a, name_b=name_b, site_a_lat_lon=site_a if profile_csv is None else None,
+        site_b_lat_lon=site_b if profile_csv is None else None)
+    report = result.to_dict()
+    if json_path:
+        write_json(report, json_path)
+    if plot_path:
+        write_mast_figure(report, plot_path, paper=paper, dpi=dpi)
+    if json_path != "-":
+        click.echo(mast_summary_text(report), nl=False)
+    if not report["feasible"]:
+        raise InfeasibleMast(report["message"])
+
+
+def _criterion_text(c) -> str:
+    if c["criterion"] == "margin":
+        sf = f"SF{c['sf']}" if c["sf"] is not None else "recommended SF"
+        return f"margin >= {c['min_margin_db']:g} dB ({sf}, {c['diffraction_method']})"
+    return f"clearance >= {c['clearance_ratio']:g} F1 at k = {c['k_factor']:.4g}"
+
+
+def _up(x, digits=2):
+    """Format a height rounded up (a printed height never undercuts the solution)."""
+    import math
+
+    scale = 10 ** digits
+    return f"{math.ceil(x * scale - 1e-9) / scale:.{digits}f}"
+
+
+def mast_summary_text(report: dict) -> str:
+    """Short human summary of the mast report: heights, why, and what each extra metre buys."""
+    from .. import CAUTION
+
+    a, b = report["site_a"], report["site_b"]
+    solve = report["solve"]
+    lines = [f"Mast {a['name']} -> {b['name']} (raise {'both ends' if solve == 'both' else solve.upper()})"]
+    band = f" ({report['band']})" if report.get("band") else ""
+    lines.append(f"  distance      {report['distance_m'] / 1000:.3f} km, {report['frequency_mhz']:.4f} MHz{band}")
+    lines.append(f"  criteria      {'; '.join(_criterion_text(c) for c in report['criteria'])}")
+    bind = report["binding"]
+    if report["feasible"]:
+        def end(key, letter):
+            given = solve not in (letter, "both")
+            return f"{letter.upper()} {_up(report[key])} m{' (given)' if given else ''}"
+
+        lines.append(f"  required      {end('required_mast_a_m', 'a')}, {end('required_mast_b_m', 'b')}"
+                     + (f" ({'+' if report['added_height_m'] >= 0 else ''}{_up(report['added_height_m'])} m "
+                        "at both ends)" if solve == "both" else ""))
+        if bind["criterion"] == "none":
+            lines.append("  binding       none: every criterion holds with the lowest allowed mast")
+        else:
+            lines.append(f"  binding       {bind['criterion']}, obstruction {bind['distance_m'] / 1000:.3f} km from A "
+                         f"(terrain {bind['terrain_m']:.1f} m)")
+        at = report["at_required"]
+        low = f", {at['worst_ratio_low_k']:.2f} F1 at low k" if at["worst_ratio_low_k"] is not None else ""
+        lines.append(f"  at that mast  worst clearance {at['worst_ratio']:.2f} F1{low}, diffraction "
+                     f"{at['diffraction_db']:.1f} dB, margin {at['margin_db']:.1f} dB (SF{at['sf']})")
+        pm = report["per_extra_metre"]
+        if pm is not None:
+            what = "height added at both ends" if solve == "both" else f"mast {solve.upper()}"
+            lines.append(f"  each metre    {pm['margin_db_per_m']:+.2f} dB margin, {pm['worst_ratio_per_m']:+.3f} F1 "
+                         f"clearance, {pm['diffraction_db_per_m']:+.2f} dB diffraction "
+                         f"({what} {pm['from_m']:.3f} -> {pm['to_m']:.3f} m)")
+    else:
+        lines.append(f"  result        INFEASIBLE: {report['message']}")
+    split = report.get("cheapest_split")
+    if split is not None:
+        lines.append(f"  cheapest      A {_up(split['mast_a_m'])} m + B {_up(split['mast_b_m'])} m = "
+                     f"{split['total_m']:.2f} m in total")
+    table = report["table"]
+    if table:
+        every = next(e for e in (1, 2, 5, 10, 20, 50, 100, 200, 500, 1000, 10**9) if len(table) <= 12 * e)
+        shown = table[::every] + ([table[-1]] if (len(table) - 1) % every else [])
+        lines.append("  table         mast A [m]  mast B [m]  worst F1  low-k F1  diffr [dB]  margin [dB]"
+                     + (f"  (every {every}th row)" if every > 1 else ""))
+        for row in shown:
+            lines.append(f"                {row['mast_a_m']:10.2f}  {row['mast_b_m']:10.2f}  {_f(row['worst_ratio'])}"
+                         f"  {_f(row['worst_ratio_low_k'])}  {row['diffraction_db']:10.1f}  {row['margin_db']:11.1f}")
+    for msg in report["notes"] + report["warnings"]:
+        lines.append(f"  note          {msg}")
+    lines.append(f"  {CAUTION}")
+    return "\n".join(lines) + "\n"
+
+
+def _f(x) -> str:
+    return f"{x:8.2f}" if x is not None else "       -"
+
+
+def write_mast_figure(report: dict, path, paper: str = "a4", dpi: int = 200) -> None:
+    """Margin and worst clearance ratio against mast height, the chosen height marked."""
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
+    from matplotlib.figure import Figure
+
+    from .. import CAUTION
+    from ..outputs import atomic_path
+
+    solve = report["solve"]
+    rows = report["table"]
+    if solve == "both":
+        x = [r["mast_a_m"] - report["site_a"]["mast_m"] for r in rows]
+        xlabel, chosen = "height added at both ends [m]", report["added_height_m"]
+    else:
+        key = f"mast_{solve}_m"
+        x = [r[key] for r in rows]
+        name = report["site_" + solve]["name"]
+        label = solve.upper() if name == solve.upper() else f"{solve.upper()} ({name})"
+        xlabel, chosen = f"mast at {label} [m]", report[f"required_{key}"]
+    fig = Figure(figsize=PAPER_IN[paper], layout="constrained")
+    fig.get_layout_engine().set(rect=(0.0, 0.03, 1.0, 0.97))  # leave a strip for the caution line
+    FigureCanvasAgg(fig)
+    ax_m, ax_c = fig.subplots(2, 1, sharex=True)
+    ax_m.plot(x, [r["margin_db"] for r in rows], "o-", ms=3, label="margin")
+    ax_c.plot(x, [r["worst_ratio"] for r in rows], "o-", ms=3, label="worst clearance / F1 (k)")
+    ax_c.plot(x, [r["worst_ratio_low_k"] for r in rows], "s--", ms=3, label="worst clearance / F1 (low k)")
+    for c in report["criteria"]:
+        if c["criterion"] == "margin":
+            ax_m.axhline(c["min_margin_db"], color="C3", lw=1, ls=":", label=f"required {c['min_margin_db']:g} dB")
+        else:
+            ax_c.axhline(c["clearance_ratio"], color="C3" if c["criterion"] == "clearance" else "C4", lw=1, ls=":",
+                         label=f"required {c['clearance_ratio']:g} F1 at k = {c['k_factor']:.3g}")
+    if report["feasible"] and chosen is not None:
+        for ax in (ax_m, ax_c):
+            ax.axvline(chosen, color="k", lw=1.2)
+        ax_m.annotate(f"chosen {chosen:.2f} m ({report['binding']['criterion']})", (chosen, 1.0),
+                      xycoords=("data", "axes fraction"), xytext=(4, -12), textcoords="offset points", fontsize=8)
+    ax_m.set_ylabel("link margin [dB]")
+    ax_c.set_ylabel("clearance / F1")
+    ax_c.set_xlabel(xlabel)
+    for ax in (ax_m, ax_c):
+        ax.grid(True, alpha=0.3)
+        ax.legend(fontsize=8, loc="best")
+    a, b = report["site_a"]["name"], report["site_b"]["name"]
+    verdict = "" if report["feasible"] else " - no height up to the maximum works"
+    fig.suptitle(f"Mast height {a} -> {b}, {report['distance_m'] / 1000:.2f} km, "
+                 f"{report['frequency_mhz']:.2f} MHz{verdict}")
+    fig.text(0.5, 0.005, CAUTION, ha="center", va="bottom", fontsize=7)
+    with atomic_path(path) as tmp:
+        try:
+            fig.savefig(tmp, dpi=dpi)
+        except (OSError, ValueError) as exc:
+            raise ProfilerError(f"cannot write figure {path}: {exc}") from exc
