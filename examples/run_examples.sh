@@ -27,10 +27,10 @@ profiler link --dem dem_samples --site-a "$GW" --site-b -29.965,-19.82 \
 profiler mast --dem dem_samples --site-a "$GW" --site-b -30.0,-19.845 \
   --name-a "Cairnfell Beacon" --name-b "Wendle Reservoir" --solve b --max-mast-m 60 || true
 
-# 6. LoRa case: diffraction accepted, only a 10 dB margin at SF10 is required.
+# 6. LoRa case: diffraction accepted, only a 10 dB margin at SF12 is required.
 profiler mast --dem dem_samples --site-a "$GW" --site-b -30.0,-19.845 \
   --name-a "Cairnfell Beacon" --name-b "Wendle Reservoir" --solve b --no-clearance \
-  --min-margin-db 10 --sf 10
+  --min-margin-db 10 --sf 12
 
 # 7. A surveyed profile (distance_m,elevation_m) instead of elevation data.
 profiler link --profile examples/surveyed_profile.csv --name-a "Ridge Farm" --name-b "Low Meadow" \
