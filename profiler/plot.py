@@ -63,6 +63,7 @@ _MAST = "#1c1c1c"
 _RULE = "0.35"
 _SHADE = "0.93"
 
+_MAX_CELL_IN = 1.12       # widest table cell at 7 pt [in]; longer text is shortened with an ellipsis
 _FRESNEL_STYLE = (0, (5.0, 2.5))
 _REQUIRED_STYLE = (0, (7.0, 2.0, 1.5, 2.0))
 _SHORT_HATCH = "xxxx"
@@ -347,7 +348,23 @@ def _draw_header(ax, report: dict, renderer) -> None:
     name_a, name_b = _name(report["site_a"]), _name(report["site_b"])
     title = _text(ax, 0.0, height - 0.02, f"{name_a} {_EN} {name_b}", ha="left", va="top",
                   fontsize=15, fontweight="bold")
-    _fit(title, width - verdict_w - 0.3, renderer)
+    room = width - verdict_w - 0.3
+    dpi = ax.figure.dpi
+    if title.get_window_extent(renderer).width / dpi > room:
+        # Too long: shorten the longer name first, so both names stay visible.
+        widths = []
+        for name in (name_a, name_b, f" {_EN} "):
+            title.set_text(name)
+            widths.append(title.get_window_extent(renderer).width / dpi)
+        share = room - widths[2]
+        short = min(widths[0], widths[1], share / 2.0)
+        budgets = (short, share - short) if widths[0] <= widths[1] else (share - short, short)
+        fitted = []
+        for name, budget in zip((name_a, name_b), budgets):
+            title.set_text(name)
+            _fit(title, budget, renderer)
+            fitted.append(title.get_text())
+        title.set_text(f"{fitted[0]} {_EN} {fitted[1]}")
     band = report.get("band")
     freq = _f(report.get("frequency_mhz"), ".4f", " MHz") + (f" ({_clean(band)})" if band else "")
     parts = ["Point-to-point radio path profile", _f(_km(report.get("distance_m")), ".3f", " km"), freq,
@@ -493,7 +510,7 @@ def _draw_profile(fig, ax, report: dict, width_in: float, height_in: float) -> N
     bulge_max = float(np.nanmax(bulge)) if bulge.size else 0.0
     note = (f"Curved-Earth convention: terrain raised by the Earth bulge for k = {k_text} "
             f"(up to {bulge_max:.1f} m), line of sight straight.   Vertical exaggeration "
-            f"\u00d7{_round_sig(ve)}.")
+            f"\u00d7{_round_sig(ve)}")
     fig.text((pos.x0 + pos.x1) / 2, pos.y0 - 0.40 / height_in, note, ha="center", va="top", fontsize=6.8,
              style="italic", color="0.15", parse_math=False)
 
@@ -738,7 +755,7 @@ def _degree_ticks(ax, west, east, south, north) -> None:
         labels = []
         for v in values:
             w = (v + 180.0) % 360.0 - 180.0 if wrap else v
-            hemi = pos if w > 0 else (neg if w < 0 else "")
+            hemi = "" if (w == 0 or abs(abs(w) - 180.0) < 1e-9) else (pos if w > 0 else neg)
             labels.append(f"{abs(w):.{decimals}f}\u00b0{hemi}")
         return values, labels
 
@@ -866,7 +883,8 @@ def _draw_results(ax, report: dict, renderer) -> None:
             cols = []
             for j in range(len(head)):
                 head_w = text_width(head[j], bold) if (j > 0 or len(head) == 3) else 0.0
-                cols.append(max([text_width(row[j], regular) for row in rows] + [head_w]) + 2 * pad)
+                widest = max([text_width(row[j], regular) for row in rows] + [head_w])
+                cols.append(min(widest, _MAX_CELL_IN * fontsize / 7.0) + 2 * pad)   # long names get cut
             if len(head) == 2:          # a two-column block's title spans both columns
                 cols[1] = max(cols[1], text_width(head[0], bold) + 2 * pad - cols[0])
             natural.append(cols)

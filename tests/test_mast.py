@@ -220,7 +220,7 @@ def test_cheapest_split_with_margin_criterion_against_link(tmp_path):
 
 def test_margin_not_monotone_is_reported(tmp_path):
     # With no --sf the margin is taken at the recommended (lowest closing) SF: when a lower SF starts to
-    # close the margin drops by its sensitivity step (about 2.5 dB per SF, Semtech datasheets, common
+    # close the margin drops by its sensitivity step (about 2.5 dB per SF, LoRa modem datasheets, common
     # practice), so the curve is a saw-tooth and must be reported as not monotone.
     d, h = knife_edge_terrain(obstacle_m=40.0)
     csv = write_profile(tmp_path, d, h)
