@@ -32,6 +32,10 @@ def atomic_path(path: str | os.PathLike) -> Iterator[Path]:
     fd, tmp = tempfile.mkstemp(prefix=f".{target.name}.", suffix=target.suffix or ".tmp", dir=directory)
     os.close(fd)
     tmp_path = Path(tmp)
+    # mkstemp makes the file owner-only; give it the permissions a normal new file would get.
+    umask = os.umask(0)
+    os.umask(umask)
+    os.chmod(tmp_path, 0o666 & ~umask)
     try:
         yield tmp_path
         os.replace(tmp_path, target)

@@ -34,6 +34,7 @@ import numpy as np
 
 from . import CAUTION, __version__
 from .errors import ProfilerError
+from .geometry import fresnel_radius_m
 from .outputs import atomic_path
 from .report import inert_text, verdict
 
@@ -131,13 +132,12 @@ def write_link_figure(report: dict, path, paper: str = "a4", dpi: float = 200,
         raise ProfilerError(f"--dpi must be a number, got {dpi!r}") from None
     if not (math.isfinite(dpi) and 10.0 <= dpi <= 2400.0):
         raise ProfilerError(f"--dpi must be between 10 and 2400, got {dpi:g}")
-    with _style():
+    with atomic_path(path) as tmp, _style():      # a missing folder fails here, before drawing
         fig = build_link_figure(report, paper=paper, dem_paths=dem_paths, date_text=date_text)
-        with atomic_path(path) as tmp:
-            try:
-                fig.savefig(tmp, format=fmt, dpi=dpi, metadata=_metadata(report, fmt))
-            except OSError as exc:
-                raise ProfilerError(f"cannot write {path}: {exc.strerror or exc}") from exc
+        try:
+            fig.savefig(tmp, format=fmt, dpi=dpi, metadata=_metadata(report, fmt))
+        except OSError as exc:
+            raise ProfilerError(f"cannot write {path}: {exc.strerror or exc}") from exc
 
 
 def build_link_figure(report: dict, paper: str = "a4", dem_paths=None, *, date_text: str | None = None):
@@ -391,7 +391,6 @@ def _draw_profile(fig, ax, report: dict, width_in: float, height_in: float) -> N
     f1 = np.nan_to_num(_arr(prof["fresnel_radius_m"]), nan=0.0)
     surface = terrain + bulge                          # curved-Earth convention
     ratio_req = float(report.get("clearance_ratio_required") or 0.0)
-    required = los - ratio_req * f1
     clearance = los - surface
     n = x_km.size
     interior = np.zeros(n, dtype=bool)
@@ -403,7 +402,17 @@ def _draw_profile(fig, ax, report: dict, width_in: float, height_in: float) -> N
     tip_a, tip_b = float(site_a["antenna_amsl_m"]), float(site_b["antenna_amsl_m"])
     length_km = float(x_km[-1])
 
-    top = float(np.nanmax(np.concatenate([los + f1, surface, [tip_a, tip_b]])))
+    # The Fresnel ellipse and the clearance boundary are smooth: draw them on a fine grid (all
+    # samples kept) so that a sparsely sampled profile still shows their true shape.
+    fine_km = np.union1d(x_km, np.linspace(0.0, length_km, 600))
+    fine_d = fine_km * 1000.0
+    wavelength = report.get("wavelength_m") or 299_792_458.0 / (float(report["frequency_mhz"]) * 1e6)
+    fine_f1 = fresnel_radius_m(fine_d, fine_d[-1] - fine_d, wavelength)
+    fine_los = np.interp(fine_km, x_km, los)
+    fine_surface = np.interp(fine_km, x_km, surface)
+    fine_required = fine_los - ratio_req * fine_f1
+
+    top = float(np.nanmax(np.concatenate([fine_los + fine_f1, surface, [tip_a, tip_b]])))
     low = float(np.nanmin(np.concatenate([surface, los - 0.5 * f1])))
     low = max(low, float(np.nanmin(surface)) - 0.35 * max(top - float(np.nanmin(surface)), 1.0))
     span = max(top - low, 10.0)
@@ -416,15 +425,16 @@ def _draw_profile(fig, ax, report: dict, width_in: float, height_in: float) -> N
     ax.grid(True, color="0.82", lw=0.5, ls=(0, (1, 2)))
 
     # First Fresnel zone (under the terrain), terrain, shortfall, boundaries, line of sight.
-    ax.fill_between(x_km, los - f1, los + f1, facecolor=_FRESNEL_FACE, edgecolor="none", zorder=1)
+    ax.fill_between(fine_km, fine_los - fine_f1, fine_los + fine_f1, facecolor=_FRESNEL_FACE, edgecolor="none",
+                    zorder=1)
     ax.fill_between(x_km, y0 - span, surface, facecolor=_TERRAIN_FACE, edgecolor="none", zorder=2)
     ax.plot(x_km, surface, color=_TERRAIN_EDGE, lw=0.9, zorder=2.5)
-    ax.fill_between(x_km, required, surface, where=surface > required, interpolate=True,
+    ax.fill_between(fine_km, fine_required, fine_surface, where=fine_surface > fine_required, interpolate=True,
                     facecolor=_SHORT_FACE, edgecolor=_SHORT_EDGE, hatch=_SHORT_HATCH, lw=0.0, zorder=3)
     for sign in (1.0, -1.0):
-        ax.plot(x_km, los + sign * f1, color=_FRESNEL_EDGE, lw=0.8, ls=_FRESNEL_STYLE, zorder=4)
+        ax.plot(fine_km, fine_los + sign * fine_f1, color=_FRESNEL_EDGE, lw=0.8, ls=_FRESNEL_STYLE, zorder=4)
     if ratio_req > 0:
-        ax.plot(x_km, required, color=_REQUIRED, lw=1.0, ls=_REQUIRED_STYLE, zorder=4)
+        ax.plot(fine_km, fine_required, color=_REQUIRED, lw=1.0, ls=_REQUIRED_STYLE, zorder=4)
     ax.plot(x_km, los, color="black", lw=1.5, zorder=5)
 
     # Stretches short of the requirement, also as a hatched bar along the bottom.
@@ -624,8 +634,8 @@ def _draw_locator(ax, report: dict, dem_paths, renderer) -> None:
                                 path_effects=[patheffects.withStroke(linewidth=2.6, foreground="white")])
             moved = _keep_inside(label, ax, renderer)
             box = label.get_window_extent(renderer).transformed(ax.transAxes.inverted())
-            score = (_points_in(points, box) + 20.0 * sum(_overlap(box, other) for other in boxes) / max(box.width * box.height, 1e-9)
-                     + moved / 30.0 + 0.02 * step)
+            covered = sum(_overlap(box, other) for other in boxes) / max(box.width * box.height, 1e-9)
+            score = _points_in(points, box) + 20.0 * covered + moved / 30.0 + 0.02 * step
             if best is None or score < best[0]:
                 if best is not None:
                     best[1].remove()

@@ -123,7 +123,7 @@ def test_png_has_the_paper_size_at_the_dpi(tmp_path, los_report, paper):
 
 def test_pdf_is_one_landscape_a4_page_with_names_as_text(tmp_path, los_report):
     out = tmp_path / "link.pdf"
-    write_link_figure(los_report, out, paper="a4", dem_paths=DEM)
+    write_link_figure(los_report, out, paper="a4", dpi=72, dem_paths=DEM)
     data = out.read_bytes()
     assert data.startswith(b"%PDF-")
     assert len(re.findall(rb"/Type\s*/Page(?![a-zA-Z])", data)) == 1
@@ -140,7 +140,7 @@ def test_pdf_is_one_landscape_a4_page_with_names_as_text(tmp_path, los_report):
 
 def test_svg_holds_distance_and_verdict_as_text_elements(tmp_path, los_report):
     out = tmp_path / "link.svg"
-    write_link_figure(los_report, out, paper="letter", dem_paths=DEM)
+    write_link_figure(los_report, out, paper="letter", dpi=72, dem_paths=DEM)
     texts = _svg_texts(out)
     assert verdict(los_report) in texts
     km = f"{los_report['distance_m'] / 1000:.3f} km"
@@ -196,10 +196,7 @@ def test_blocked_link_and_surveyed_profile_render(tmp_path, blocked_report, surv
 def test_terrain_is_drawn_raised_by_the_earth_bulge(los_report):
     """The drawn terrain line equals terrain + d1 d2 / (2 k a), a = 6371 km
     (ITU-R P.452-18 eq. 14 Earth-curvature term; mean Earth radius per P.452 eq. 6a)."""
-    import matplotlib
-
-    with matplotlib.rc_context():
-        fig = build_link_figure(los_report, dem_paths=None)
+    fig = build_link_figure(los_report, dem_paths=None)
     profile_ax = next(ax for ax in fig.axes if ax.get_xlabel().startswith("Distance from site A"))
     prof = los_report["profile"]
     d = np.array(prof["distance_m"])
