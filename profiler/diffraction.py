@@ -36,6 +36,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from .bands import wavelength_m as _wavelength_m
 from .errors import ProfilerError
 
 __all__ = [
@@ -52,7 +53,6 @@ __all__ = [
 ]
 
 # Speed of light in vacuum [m/s] (SI definition).
-_SPEED_OF_LIGHT_M_S = 299_792_458.0
 
 # Ground electrical constants of P.452-18 section 4.2.2.1:
 # (relative permittivity, conductivity [S/m]).
@@ -354,7 +354,7 @@ def knife_edge(distance_m, height_m, h_tx_amsl_m, h_rx_amsl_m, frequency_mhz, ef
     d_km, h = _profile_km(distance_m, height_m)
     hts = _finite("antenna height at site A", h_tx_amsl_m)
     hrs = _finite("antenna height at site B", h_rx_amsl_m)
-    wavelength_m = _SPEED_OF_LIGHT_M_S / (_positive("frequency (MHz)", frequency_mhz) * 1e6)
+    wavelength_m = _wavelength_m(_positive("frequency (MHz)", frequency_mhz))
     ae_km = _positive("effective Earth radius (m)", effective_radius_m) * 1e-3
     di, dd, d_total, bulge = _interior(d_km, ae_km)
     v = _v_profile(h[1:-1] + bulge, di, dd, d_total, hts, hrs, wavelength_m)
@@ -396,7 +396,7 @@ def bullington(distance_m, height_m, h_tx_amsl_m, h_rx_amsl_m, frequency_mhz, ef
     d_km, h = _profile_km(distance_m, height_m)
     hts = _finite("antenna height at site A", h_tx_amsl_m)
     hrs = _finite("antenna height at site B", h_rx_amsl_m)
-    wavelength_m = _SPEED_OF_LIGHT_M_S / (_positive("frequency (MHz)", frequency_mhz) * 1e6)
+    wavelength_m = _wavelength_m(_positive("frequency (MHz)", frequency_mhz))
     ae_km = _positive("effective Earth radius (m)", effective_radius_m) * 1e-3
     di, dd, d_total, bulge = _interior(d_km, ae_km)
     return _bullington_core(h[1:-1] + bulge, di, dd, d_total, hts, hrs, wavelength_m)[0]
@@ -515,7 +515,7 @@ def spherical_earth(distance_m, h_tx_eff_m, h_rx_eff_m, frequency_mhz, effective
     ae_km = _positive("effective Earth radius (m)", effective_radius_m) * 1e-3
     vertical = _polarization(polarization) == "vertical"
     omega = _sea_fraction(sea_fraction)
-    return _spherical_core(d_km, hts, hrs, ae_km, f_mhz * 1e-3, _SPEED_OF_LIGHT_M_S / (f_mhz * 1e6),
+    return _spherical_core(d_km, hts, hrs, ae_km, f_mhz * 1e-3, _wavelength_m(f_mhz),
                            vertical, omega)
 
 
@@ -636,7 +636,7 @@ def delta_bullington(distance_m, height_m, h_tx_amsl_m, h_rx_amsl_m, frequency_m
     ae_km = _positive("effective Earth radius (m)", effective_radius_m) * 1e-3
     vertical = _polarization(polarization) == "vertical"
     omega = _sea_fraction(sea_fraction)
-    wavelength_m = _SPEED_OF_LIGHT_M_S / (f_mhz * 1e6)
+    wavelength_m = _wavelength_m(f_mhz)
 
     di, dd, d_total, bulge = _interior(d_km, ae_km)
     # Bullington loss of the actual profile, Lbulla.

@@ -34,11 +34,12 @@ import numpy as np
 
 from . import CAUTION, __version__
 from .errors import ProfilerError
+from .bands import wavelength_m
 from .geometry import fresnel_radius_m
 from .outputs import atomic_path
 from .report import inert_text, verdict
 
-__all__ = ["PAPER_SIZES_IN", "FIGURE_FORMATS", "figure_format", "paper_size_in",
+__all__ = ["PAPER_SIZES_IN", "FIGURE_FORMATS", "figure_format", "paper_size_in", "write_mast_figure",
            "build_link_figure", "write_link_figure"]
 
 #: Landscape paper sizes (width, height) [in]: ISO 216 A4 is 297 mm x 210 mm,
@@ -406,7 +407,7 @@ def _draw_profile(fig, ax, report: dict, width_in: float, height_in: float) -> N
     # samples kept) so that a sparsely sampled profile still shows their true shape.
     fine_km = np.union1d(x_km, np.linspace(0.0, length_km, 600))
     fine_d = fine_km * 1000.0
-    wavelength = report.get("wavelength_m") or 299_792_458.0 / (float(report["frequency_mhz"]) * 1e6)
+    wavelength = report.get("wavelength_m") or wavelength_m(float(report["frequency_mhz"]))
     fine_f1 = fresnel_radius_m(fine_d, fine_d[-1] - fine_d, wavelength)
     fine_los = np.interp(fine_km, x_km, los)
     fine_surface = np.interp(fine_km, x_km, surface)
@@ -1000,3 +1001,55 @@ def _draw_footer(ax, report: dict, renderer, date_text) -> None:
     _fit(line2, width, renderer)
     line3 = _text(ax, 0.0, height - 0.33, CAUTION, ha="left", va="top", fontsize=7.0, fontweight="bold")
     _fit(line3, width, renderer)
+
+
+def write_mast_figure(report: dict, path, paper: str = "a4", dpi: int = 200) -> None:
+    """Margin and worst clearance ratio against mast height, the chosen height marked."""
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
+    from matplotlib.figure import Figure
+
+    solve = report["solve"]
+    rows = report["table"]
+    if solve == "both":
+        x = [r["mast_a_m"] - report["site_a"]["mast_m"] for r in rows]
+        xlabel, chosen = "height added at both ends [m]", report["added_height_m"]
+    else:
+        key = f"mast_{solve}_m"
+        x = [r[key] for r in rows]
+        name = report["site_" + solve]["name"]
+        label = solve.upper() if name == solve.upper() else f"{solve.upper()} ({name})"
+        xlabel, chosen = f"mast at {label} [m]", report[f"required_{key}"]
+    fig = Figure(figsize=paper_size_in(paper), layout="constrained")
+    fig.get_layout_engine().set(rect=(0.0, 0.03, 1.0, 0.97))  # leave a strip for the caution line
+    FigureCanvasAgg(fig)
+    ax_m, ax_c = fig.subplots(2, 1, sharex=True)
+    ax_m.plot(x, [r["margin_db"] for r in rows], "o-", ms=3, label="margin")
+    ax_c.plot(x, [r["worst_ratio"] for r in rows], "o-", ms=3, label="worst clearance / F1 (k)")
+    ax_c.plot(x, [r["worst_ratio_low_k"] for r in rows], "s--", ms=3, label="worst clearance / F1 (low k)")
+    for c in report["criteria"]:
+        if c["criterion"] == "margin":
+            ax_m.axhline(c["min_margin_db"], color="C3", lw=1, ls=":", label=f"required {c['min_margin_db']:g} dB")
+        else:
+            ax_c.axhline(c["clearance_ratio"], color="C3" if c["criterion"] == "clearance" else "C4", lw=1, ls=":",
+                         label=f"required {c['clearance_ratio']:g} F1 at k = {c['k_factor']:.3g}")
+    if report["feasible"] and chosen is not None:
+        for ax in (ax_m, ax_c):
+            ax.axvline(chosen, color="k", lw=1.2)
+        ax_m.annotate(f"chosen {chosen:.2f} m ({report['binding']['criterion']})", (chosen, 1.0),
+                      xycoords=("data", "axes fraction"), xytext=(4, -12), textcoords="offset points", fontsize=8)
+    ax_m.set_ylabel("link margin [dB]")
+    ax_c.set_ylabel("clearance / F1")
+    ax_c.set_xlabel(xlabel)
+    for ax in (ax_m, ax_c):
+        ax.grid(True, alpha=0.3)
+        ax.legend(fontsize=8, loc="best")
+    a, b = report["site_a"]["name"], report["site_b"]["name"]
+    verdict = "" if report["feasible"] else " - no height up to the maximum works"
+    fig.suptitle(f"Mast height {a} -> {b}, {report['distance_m'] / 1000:.2f} km, "
+                 f"{report['frequency_mhz']:.2f} MHz{verdict}")
+    fig.text(0.5, 0.005, CAUTION, ha="center", va="bottom", fontsize=7)
+    with atomic_path(path) as tmp:
+        try:
+            fig.savefig(tmp, dpi=dpi)
+        except (OSError, ValueError) as exc:
+            raise ProfilerError(f"cannot write figure {path}: {exc}") from exc

@@ -4,18 +4,16 @@ from __future__ import annotations
 
 import click
 
-from .options import (frequency_options, plot_options, radio_options, radio_settings,
+from .options import (clearance_ratio_option, frequency_options, k_option, plot_options, radio_options, radio_settings,
                       site_options, terrain_options)
 
 
 @click.command("link")
 @site_options
 @terrain_options
-@click.option("--k", "k_text", default="4/3", show_default=True,
-              help="Effective-Earth-radius factor, a decimal or a fraction such as 4/3.")
+@k_option
 @frequency_options
-@click.option("--clearance-ratio", type=click.FloatRange(0.0, 10.0), default=0.6, show_default=True,
-              help="Required clearance as a fraction of the first Fresnel radius.")
+@clearance_ratio_option()
 @radio_options
 @click.option("--json", "json_path", default=None, metavar="FILE", help="Write the JSON report ('-' for stdout).")
 @click.option("--csv", "csv_path", default=None, metavar="FILE", help="Write one CSV row per profile sample.")

@@ -5,10 +5,9 @@ from __future__ import annotations
 import click
 
 from ..errors import ProfilerError
-from .options import (NUMBER, POSITIVE, frequency_options, plot_options, radio_options, radio_settings,
+from .options import (NUMBER, POSITIVE, clearance_ratio_option, frequency_options, k_option, plot_options, radio_options, radio_settings,
                       site_options, terrain_options)
 
-PAPER_IN = {"a4": (11.69, 8.27), "letter": (11.0, 8.5)}
 """Landscape paper sizes [inch]."""
 
 
@@ -21,11 +20,9 @@ class InfeasibleMast(ProfilerError):
 @click.command("mast")
 @site_options
 @terrain_options
-@click.option("--k", "k_text", default="4/3", show_default=True,
-              help="Effective-Earth-radius factor, a decimal or a fraction such as 4/3.")
+@k_option
 @frequency_options
-@click.option("--clearance-ratio", type=click.FloatRange(0.0, 10.0), default=0.6, show_default=True,
-              help="Required clearance as a fraction of the first Fresnel radius at --k.")
+@clearance_ratio_option("Required clearance as a fraction of the first Fresnel radius at --k.")
 @click.option("--low-k", "low_k_text", default="2/3", show_default=True,
               help="Low effective-Earth-radius factor for the second clearance criterion.")
 @click.option("--low-k-clearance", "low_k_clearance", type=click.FloatRange(0.0, 10.0), default=0.0,
@@ -87,6 +84,8 @@ def mast_command(site_a, site_b, name_a, name_b, mast_a_m, mast_b_m, dem_paths, 
     if json_path:
         write_json(report, json_path)
     if plot_path:
+        from ..plot import write_mast_figure
+
         write_mast_figure(report, plot_path, paper=paper, dpi=dpi)
     if json_path != "-":
         click.echo(mast_summary_text(report), nl=False)
@@ -166,58 +165,3 @@ def mast_summary_text(report: dict) -> str:
 
 def _f(x) -> str:
     return f"{x:8.2f}" if x is not None else "       -"
-
-
-def write_mast_figure(report: dict, path, paper: str = "a4", dpi: int = 200) -> None:
-    """Margin and worst clearance ratio against mast height, the chosen height marked."""
-    from matplotlib.backends.backend_agg import FigureCanvasAgg
-    from matplotlib.figure import Figure
-
-    from .. import CAUTION
-    from ..outputs import atomic_path
-
-    solve = report["solve"]
-    rows = report["table"]
-    if solve == "both":
-        x = [r["mast_a_m"] - report["site_a"]["mast_m"] for r in rows]
-        xlabel, chosen = "height added at both ends [m]", report["added_height_m"]
-    else:
-        key = f"mast_{solve}_m"
-        x = [r[key] for r in rows]
-        name = report["site_" + solve]["name"]
-        label = solve.upper() if name == solve.upper() else f"{solve.upper()} ({name})"
-        xlabel, chosen = f"mast at {label} [m]", report[f"required_{key}"]
-    fig = Figure(figsize=PAPER_IN[paper], layout="constrained")
-    fig.get_layout_engine().set(rect=(0.0, 0.03, 1.0, 0.97))  # leave a strip for the caution line
-    FigureCanvasAgg(fig)
-    ax_m, ax_c = fig.subplots(2, 1, sharex=True)
-    ax_m.plot(x, [r["margin_db"] for r in rows], "o-", ms=3, label="margin")
-    ax_c.plot(x, [r["worst_ratio"] for r in rows], "o-", ms=3, label="worst clearance / F1 (k)")
-    ax_c.plot(x, [r["worst_ratio_low_k"] for r in rows], "s--", ms=3, label="worst clearance / F1 (low k)")
-    for c in report["criteria"]:
-        if c["criterion"] == "margin":
-            ax_m.axhline(c["min_margin_db"], color="C3", lw=1, ls=":", label=f"required {c['min_margin_db']:g} dB")
-        else:
-            ax_c.axhline(c["clearance_ratio"], color="C3" if c["criterion"] == "clearance" else "C4", lw=1, ls=":",
-                         label=f"required {c['clearance_ratio']:g} F1 at k = {c['k_factor']:.3g}")
-    if report["feasible"] and chosen is not None:
-        for ax in (ax_m, ax_c):
-            ax.axvline(chosen, color="k", lw=1.2)
-        ax_m.annotate(f"chosen {chosen:.2f} m ({report['binding']['criterion']})", (chosen, 1.0),
-                      xycoords=("data", "axes fraction"), xytext=(4, -12), textcoords="offset points", fontsize=8)
-    ax_m.set_ylabel("link margin [dB]")
-    ax_c.set_ylabel("clearance / F1")
-    ax_c.set_xlabel(xlabel)
-    for ax in (ax_m, ax_c):
-        ax.grid(True, alpha=0.3)
-        ax.legend(fontsize=8, loc="best")
-    a, b = report["site_a"]["name"], report["site_b"]["name"]
-    verdict = "" if report["feasible"] else " - no height up to the maximum works"
-    fig.suptitle(f"Mast height {a} -> {b}, {report['distance_m'] / 1000:.2f} km, "
-                 f"{report['frequency_mhz']:.2f} MHz{verdict}")
-    fig.text(0.5, 0.005, CAUTION, ha="center", va="bottom", fontsize=7)
-    with atomic_path(path) as tmp:
-        try:
-            fig.savefig(tmp, dpi=dpi)
-        except (OSError, ValueError) as exc:
-            raise ProfilerError(f"cannot write figure {path}: {exc}") from exc

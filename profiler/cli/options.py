@@ -160,3 +160,15 @@ def plot_options(f):
         click.option("--dpi", type=click.IntRange(50, 1200), default=200, show_default=True,
                      help="Resolution of a PNG figure [dots per inch]."),
     ])(f)
+
+
+def k_option(f):
+    """``--k``: the effective-Earth-radius factor (text, parsed by ``geometry.parse_k_factor``)."""
+    return click.option("--k", "k_text", default="4/3", show_default=True,
+                        help="Effective-Earth-radius factor, a decimal or a fraction such as 4/3.")(f)
+
+
+def clearance_ratio_option(help_text="Required clearance as a fraction of the first Fresnel radius."):
+    """``--clearance-ratio``: required clearance as a fraction of F1 (default 0.6, common practice)."""
+    return click.option("--clearance-ratio", type=click.FloatRange(0.0, 10.0), default=0.6, show_default=True,
+                        help=help_text)
