@@ -1036,7 +1036,8 @@ def write_mast_figure(report: dict, path, paper: str = "a4", dpi: int = 200) -> 
         for ax in (ax_m, ax_c):
             ax.axvline(chosen, color="k", lw=1.2)
         ax_m.annotate(f"chosen {chosen:.2f} m ({report['binding']['criterion']})", (chosen, 1.0),
-                      xycoords=("data", "axes fraction"), xytext=(4, -12), textcoords="offset points", fontsize=8)
+                      xycoords=("data", "axes fraction"), xytext=(4, -14), textcoords="offset points", fontsize=8,
+                      bbox={"boxstyle": "round,pad=0.2", "fc": "white", "ec": "0.5", "lw": 0.5})
     ax_m.set_ylabel("link margin [dB]")
     ax_c.set_ylabel("clearance / F1")
     ax_c.set_xlabel(xlabel)
