@@ -9,13 +9,14 @@ samples processed per second.  The project target is under 2 ms per call for
 
 import argparse
 import sys
-import time
 from pathlib import Path
 
 import numpy as np
 
 sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
+sys.path.insert(0, str(Path(__file__).resolve().parent))
 
+from _timing import best_of  # noqa: E402
 from profiler.diffraction import bullington, delta_bullington, knife_edge  # noqa: E402
 
 
@@ -26,15 +27,6 @@ def synthetic_profile(samples, length_m=30_000.0, seed=7):
     h = (250.0 + 60.0 * np.sin(d / 3_500.0) + 40.0 * np.exp(-((d - 0.55 * length_m) / 1_500.0) ** 2)
          + rng.normal(0.0, 2.0, samples))
     return d, h
-
-
-def best_time_s(func, repeat):
-    best = float("inf")
-    for _ in range(repeat):
-        t0 = time.perf_counter()
-        func()
-        best = min(best, time.perf_counter() - t0)
-    return best
 
 
 def main(argv=None):
@@ -57,7 +49,7 @@ def main(argv=None):
           f"Ld = {result.loss_db:.2f} dB (best of {args.repeat})")
     for name, func in cases.items():
         func()  # warm-up
-        t = best_time_s(func, args.repeat)
+        t = best_of(func, args.repeat)
         print(f"{name:17s} {t * 1e3:8.3f} ms   {args.samples / t:14,.0f} samples/s")
 
 

@@ -30,11 +30,13 @@ from pathlib import Path
 import numpy as np
 
 sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
+sys.path.insert(0, str(Path(__file__).resolve().parent))
 
 import rasterio  # noqa: E402
 from affine import Affine  # noqa: E402
 from pyproj import Geod  # noqa: E402
 
+from _timing import best_of  # noqa: E402
 from profiler.dem import ElevationModel  # noqa: E402
 
 TILE_SAMPLES = 3601
@@ -94,15 +96,6 @@ def one_by_one_s(tile, lon, lat):
         elapsed = time.perf_counter() - t0
     assert len(values) == lon.size
     return elapsed
-
-
-def best_of(func, repeat):
-    best = float("inf")
-    for _ in range(repeat):
-        t0 = time.perf_counter()
-        func()
-        best = min(best, time.perf_counter() - t0)
-    return best
 
 
 def cli_ratio(tile, site_a, site_b, repeat):

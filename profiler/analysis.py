@@ -370,20 +370,18 @@ def radio_results(d, terrain, h_a, h_b, frequency_mhz, ae, radio: RadioSettings)
     loss = {"free_space": free, "diffraction": diff, "extra": float(radio.extra_loss_db),
             "polarization": pol_loss, "total": total, "diffraction_method": method, **parts}
 
-    eirp_rx = budget.link_budget(total, tx_power_dbm=radio.tx_power_dbm, gain_a_dbi=radio.gain_a_dbi,
-                                 gain_b_dbi=radio.gain_b_dbi, cable_loss_a_db=radio.cable_loss_a_db,
-                                 cable_loss_b_db=radio.cable_loss_b_db, sensitivity_dbm=0.0,
-                                 fade_margin_db=radio.fade_margin_db)
-    table = budget.lora_table(eirp_rx.rx_power_dbm, radio.bw_khz, radio.noise_figure_db,
+    antennas = dict(tx_power_dbm=radio.tx_power_dbm, gain_a_dbi=radio.gain_a_dbi, gain_b_dbi=radio.gain_b_dbi,
+                    cable_loss_a_db=radio.cable_loss_a_db, cable_loss_b_db=radio.cable_loss_b_db,
+                    fade_margin_db=radio.fade_margin_db)
+    # The received level does not depend on the sensitivity: get it first, then choose the SF.
+    rx_power_dbm = budget.link_budget(total, sensitivity_dbm=0.0, **antennas).rx_power_dbm
+    table = budget.lora_table(rx_power_dbm, radio.bw_khz, radio.noise_figure_db,
                               radio.payload_bytes, radio.fade_margin_db)
     lowest = budget.lowest_closing_sf(table)
     sf = radio.sf if radio.sf is not None else (lowest if lowest is not None else 12)
     sensitivity = (radio.sensitivity_dbm if radio.sensitivity_dbm is not None
                    else float(budget.lora_sensitivity_dbm(sf, radio.bw_khz, radio.noise_figure_db)))
-    final = budget.link_budget(total, tx_power_dbm=radio.tx_power_dbm, gain_a_dbi=radio.gain_a_dbi,
-                               gain_b_dbi=radio.gain_b_dbi, cable_loss_a_db=radio.cable_loss_a_db,
-                               cable_loss_b_db=radio.cable_loss_b_db, sensitivity_dbm=sensitivity,
-                               fade_margin_db=radio.fade_margin_db)
+    final = budget.link_budget(total, sensitivity_dbm=sensitivity, **antennas)
     budget_dict = {"tx_power_dbm": final.tx_power_dbm, "eirp_dbm": final.eirp_dbm,
                    "rx_power_dbm": final.rx_power_dbm, "sensitivity_dbm": final.sensitivity_dbm,
                    "margin_db": final.margin_db, "fade_margin_required_db": final.fade_margin_required_db,

@@ -278,6 +278,13 @@ def _sea_fraction(sea_fraction):
 # Bullington part (P.452-18 section 4.2.1)
 # ---------------------------------------------------------------------------
 
+def _path_inputs(distance_m, height_m, h_tx_amsl_m, h_rx_amsl_m):
+    """Validate a profile and both antenna heights: (d [km], h [m], h_ts [m], h_rs [m])."""
+    d_km, h = _profile_km(distance_m, height_m)
+    return (d_km, h, _finite("antenna height at site A", h_tx_amsl_m),
+            _finite("antenna height at site B", h_rx_amsl_m))
+
+
 def _interior(d_km, effective_radius_km):
     """Interior distances di, d - di [km] and Earth-curvature term 500 Ce di (d - di) [m]."""
     di = d_km[1:-1]
@@ -351,9 +358,7 @@ def knife_edge(distance_m, height_m, h_tx_amsl_m, h_rx_amsl_m, frequency_mhz, ef
     ITU-R P.452-18 section 4.2.1, eq. (16); ITU-R P.526-15 section 4.1,
     eqs. (22) and (31).
     """
-    d_km, h = _profile_km(distance_m, height_m)
-    hts = _finite("antenna height at site A", h_tx_amsl_m)
-    hrs = _finite("antenna height at site B", h_rx_amsl_m)
+    d_km, h, hts, hrs = _path_inputs(distance_m, height_m, h_tx_amsl_m, h_rx_amsl_m)
     wavelength_m = _wavelength_m(_positive("frequency (MHz)", frequency_mhz))
     ae_km = _positive("effective Earth radius (m)", effective_radius_m) * 1e-3
     di, dd, d_total, bulge = _interior(d_km, ae_km)
@@ -393,9 +398,7 @@ def bullington(distance_m, height_m, h_tx_amsl_m, h_rx_amsl_m, frequency_mhz, ef
     ----------
     ITU-R P.452-18 section 4.2.1, eqs. (14)-(22); ITU-R P.526-15 section 4.5.1.
     """
-    d_km, h = _profile_km(distance_m, height_m)
-    hts = _finite("antenna height at site A", h_tx_amsl_m)
-    hrs = _finite("antenna height at site B", h_rx_amsl_m)
+    d_km, h, hts, hrs = _path_inputs(distance_m, height_m, h_tx_amsl_m, h_rx_amsl_m)
     wavelength_m = _wavelength_m(_positive("frequency (MHz)", frequency_mhz))
     ae_km = _positive("effective Earth radius (m)", effective_radius_m) * 1e-3
     di, dd, d_total, bulge = _interior(d_km, ae_km)
@@ -579,9 +582,7 @@ def smooth_earth_heights(distance_m, height_m, h_tx_amsl_m, h_rx_amsl_m):
     ITU-R P.452-18 Attachment 2 to Annex 1, section 5.1.6.2, eqs. (161)-(164),
     and section 5.1.6.3, eqs. (165)-(167).
     """
-    d_km, h = _profile_km(distance_m, height_m)
-    hts = _finite("antenna height at site A", h_tx_amsl_m)
-    hrs = _finite("antenna height at site B", h_rx_amsl_m)
+    d_km, h, hts, hrs = _path_inputs(distance_m, height_m, h_tx_amsl_m, h_rx_amsl_m)
     hst, hsr, hstd, hsrd = _smooth_heights_core(d_km, h, hts, hrs)
     return SmoothEarthHeights(surface_height_a_m=hst, surface_height_b_m=hsr,
                               effective_height_a_m=hstd, effective_height_b_m=hsrd)
@@ -629,9 +630,7 @@ def delta_bullington(distance_m, height_m, h_tx_amsl_m, h_rx_amsl_m, frequency_m
     4.2.2, 4.2.2.1 and Attachment 2 section 5.1.6; ITU-R P.526-15
     section 4.5.2.
     """
-    d_km, h = _profile_km(distance_m, height_m)
-    hts = _finite("antenna height at site A", h_tx_amsl_m)
-    hrs = _finite("antenna height at site B", h_rx_amsl_m)
+    d_km, h, hts, hrs = _path_inputs(distance_m, height_m, h_tx_amsl_m, h_rx_amsl_m)
     f_mhz = _positive("frequency (MHz)", frequency_mhz)
     ae_km = _positive("effective Earth radius (m)", effective_radius_m) * 1e-3
     vertical = _polarization(polarization) == "vertical"

@@ -6,9 +6,11 @@ see exactly what the JSON contract holds.  Files are written atomically.
 
 from __future__ import annotations
 
+import csv
 import io
 import json
-import csv
+
+import numpy as np
 
 from . import CAUTION
 from .outputs import write_text
@@ -66,18 +68,26 @@ def csv_text(report: dict) -> str:
     """
     prof = report["profile"]
     n = len(prof["distance_m"])
-    ratio_col = []
-    for c, f in zip(prof["clearance_m"], prof["fresnel_radius_m"]):
-        ratio_col.append(c / f if (c is not None and f) else None)
+
+    def column(values, digits):
+        """Format a whole column at once; missing or non-finite values become empty cells."""
+        if values is None:
+            return np.full(n, "", dtype=object)
+        a = np.array(values, dtype=float)  # None -> NaN
+        text = np.char.mod(f"%.{digits}f", np.nan_to_num(a)).astype(object)
+        text[~np.isfinite(a)] = ""
+        return text
+
+    clearance = np.array(prof["clearance_m"], dtype=float)
+    fresnel = np.array(prof["fresnel_radius_m"], dtype=float)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        ratio = np.where(fresnel > 0, clearance / fresnel, np.nan)
+    digits = {"lat_deg": 7, "lon_deg": 7}
+    cols = [column(prof.get(key), digits.get(key, 3)) for key, _ in CSV_COLUMNS] + [column(ratio, 4)]
     buf = io.StringIO()
     w = csv.writer(buf, lineterminator="\n")
     w.writerow([name for _, name in CSV_COLUMNS] + ["clearance_fresnel_ratio"])
-    cols = [prof[key] if prof.get(key) is not None else [None] * n for key, _ in CSV_COLUMNS]
-    digits = {"lat_deg": 7, "lon_deg": 7}
-    for i in range(n):
-        row = [_fmt(col[i], digits.get(key, 3)) for (key, _), col in zip(CSV_COLUMNS, cols)]
-        row.append(_fmt(ratio_col[i], 4))
-        w.writerow(row)
+    w.writerows(zip(*cols))
     buf.write("\n")
     for key, value in summary_rows(report):
         w.writerow(["# " + key, inert_text(value) if isinstance(value, str) else _fmt(value, 3)])

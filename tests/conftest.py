@@ -39,3 +39,24 @@ def write_dem(tmp_path):
         return path
 
     return _write
+
+
+@pytest.fixture(scope="session")
+def los_report():
+    """Sample link with line of sight over Harrowback Ridge, Fresnel zone obstructed (JSON dict)."""
+    from sample_sites import DEM, GATEWAY, PUMP
+
+    from profiler.api import link
+
+    return link(GATEWAY, PUMP, dem=DEM, name_a="Cairnfell Beacon", name_b="Osterby Farm pump",
+                mast_a_m=10.0, mast_b_m=2.0).to_dict()
+
+
+@pytest.fixture(scope="session")
+def evil_report():
+    """The same link with hostile site names (JSON dict)."""
+    from sample_sites import DEM, EVIL_A, EVIL_B, GATEWAY, PUMP
+
+    from profiler.api import link
+
+    return link(GATEWAY, PUMP, dem=DEM, name_a=EVIL_A, name_b=EVIL_B, mast_a_m=10.0, mast_b_m=2.0).to_dict()

@@ -9,7 +9,6 @@ import html
 import io
 import json
 import xml.etree.ElementTree as ET
-from pathlib import Path
 
 import numpy as np
 import pytest
@@ -23,26 +22,17 @@ from profiler.path import geodesic_path
 from profiler.report import csv_text, inert_text
 from profiler.terrain import TerrainProfile
 
-ROOT = Path(__file__).resolve().parents[1]
-DEM = [ROOT / "dem_samples" / "vellmoor_synthetic_1s.tif"]
-GATEWAY = (-29.9125, -19.955)          # invented sites on the synthetic terrain (lat, lon)
-PUMP = (-29.9, -19.825)
-EVIL_A = '<b>&"=HYPERLINK("x")'
-EVIL_B = '=HYPERLINK("x")&"<i>"'
+from sample_sites import EVIL_A, EVIL_B, GATEWAY, PUMP  # noqa: E402
+
 KML = "{http://www.opengis.net/kml/2.2}"
 FORMULA_START = ("=", "+", "-", "@", "\t", "\r")    # OWASP "CSV injection" trigger characters
 EARTH_RADIUS_M = 6_371_000.0                         # ITU-R P.452-18 eq. (6a), mean Earth radius
 
 
 @pytest.fixture(scope="module")
-def report():
-    return link(GATEWAY, PUMP, dem=DEM, name_a="Cairnfell Beacon", name_b="Osterby Farm pump",
-                mast_a_m=10.0, mast_b_m=2.0).to_dict()
-
-
-@pytest.fixture(scope="module")
-def evil_report():
-    return link(GATEWAY, PUMP, dem=DEM, name_a=EVIL_A, name_b=EVIL_B, mast_a_m=10.0, mast_b_m=2.0).to_dict()
+def report(los_report):
+    """The sample link (shared fixture ``los_report``)."""
+    return los_report
 
 
 @pytest.fixture(scope="module")

@@ -9,7 +9,6 @@ to keep the file fast.
 import re
 import xml.etree.ElementTree as ET
 import zlib
-from pathlib import Path
 
 import numpy as np
 import pytest
@@ -19,27 +18,13 @@ from profiler.errors import ProfilerError
 from profiler.plot import build_link_figure, write_link_figure
 from profiler.report import inert_text, verdict
 
-ROOT = Path(__file__).resolve().parents[1]
-DEM = [ROOT / "dem_samples" / "vellmoor_synthetic_1s.tif"]
-GATEWAY = (-29.9125, -19.955)          # invented sites on the synthetic terrain
-PUMP = (-29.9, -19.825)
-TANK = (-29.85, -19.78)
-SHEEPFOLD = (-29.95, -19.93)
-EVIL_A = '<b>&"=HYPERLINK("x")'
-EVIL_B = '=HYPERLINK("x")&"<i>"'
+from sample_sites import DEM, EVIL_A, EVIL_B, GATEWAY, PUMP, SHEEPFOLD, TANK  # noqa: E402
 
 MM_PER_IN = 25.4                       # exact, by definition of the inch
 PT_PER_IN = 72.0                       # PostScript/PDF point (ISO 32000-1, 8.3.2.3)
 PAPER_IN = {"a4": (297.0 / MM_PER_IN, 210.0 / MM_PER_IN),   # ISO 216 A4, landscape
             "letter": (11.0, 8.5)}                           # ANSI letter, landscape
 SVG_NS = "{http://www.w3.org/2000/svg}"
-
-
-@pytest.fixture(scope="module")
-def los_report():
-    """Line of sight over Harrowback Ridge, Fresnel zone obstructed."""
-    return link(GATEWAY, PUMP, dem=DEM, name_a="Cairnfell Beacon", name_b="Osterby Farm pump",
-                mast_a_m=10.0, mast_b_m=2.0).to_dict()
 
 
 @pytest.fixture(scope="module")
@@ -53,11 +38,6 @@ def blocked_report():
 def clear_report():
     return link(GATEWAY, TANK, dem=DEM, name_a="Cairnfell Beacon", name_b="Millbrook Tank",
                 mast_a_m=10.0, mast_b_m=2.0).to_dict()
-
-
-@pytest.fixture(scope="module")
-def evil_report():
-    return link(GATEWAY, PUMP, dem=DEM, name_a=EVIL_A, name_b=EVIL_B, mast_a_m=10.0, mast_b_m=2.0).to_dict()
 
 
 @pytest.fixture(scope="module")
