@@ -95,7 +95,7 @@ def mast_command(site_a, site_b, name_a, name_b, mast_a_m, mast_b_m, dem_paths, 
 
 def _criterion_text(c) -> str:
     if c["criterion"] == "margin":
-        sf = f"SF{c['sf']}" if c["sf"] is not None else "recommended SF"
+        sf = f"SF{c['sf']}" if c["sf"] is not None else "recommended data rate"
         return f"margin >= {c['min_margin_db']:g} dB ({sf}, {c['diffraction_method']})"
     return f"clearance >= {c['clearance_ratio']:g} F1 at k = {c['k_factor']:.4g}"
 
