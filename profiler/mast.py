@@ -54,7 +54,7 @@ from .bands import wavelength_m as _wavelength_m
 from .errors import ProfilerError
 from .terrain import TerrainProfile
 
-SCHEMA = "profiler.mast/1"
+SCHEMA = "profiler.mast/2"
 SOLVE_ENDS = ("a", "b", "both")
 CRITERIA = ("clearance", "clearance_low_k", "margin")
 MAX_GRID_POINTS = 5001
@@ -240,7 +240,7 @@ def cheapest_split_m(distance_m, target_m, ground_a_m, ground_b_m, max_mast_m):
 
 @dataclass(frozen=True)
 class MastResult:
-    """Everything the mast solver found; ``to_dict()`` is the JSON report (``profiler.mast/1``)."""
+    """Everything the mast solver found; ``to_dict()`` is the JSON report (``profiler.mast/2``)."""
 
     site_a: dict
     site_b: dict
