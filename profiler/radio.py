@@ -28,6 +28,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from . import budget, diffraction, lorawan
+from .bands import SPEED_OF_LIGHT_M_S
 from .errors import ProfilerError
 from .regional import Plan, dwell_time_limit_ms, max_tx_power_dbm
 
@@ -114,41 +115,71 @@ class RadioSettings:
         return "b" if self.gateway == "a" else "a"
 
 
-def resolve_ends(radio: RadioSettings, plan: Plan | None):
-    """Powers, gains, feeder losses and noise figures of both ends, and ``--cap-eirp`` notes.
+def resolve_ends(radio: RadioSettings, plan: Plan | None, n_links: int = 1, overrides: dict | None = None):
+    """Powers, gains, feeder losses, noise figures and polarizations of both ends, one value per link.
+
+    Parameters
+    ----------
+    radio : RadioSettings
+        The command's settings.
+    plan : Plan or None
+        Regional plan (its EIRP limit sets the default powers and ``--cap-eirp``).
+    n_links : int
+        Number of links L.
+    overrides : dict, optional
+        ``{"gateway": {...}, "node": {...}}`` with per-link arrays for any of
+        ``tx_power_dbm``, ``gain_dbi``, ``cable_loss_db``, ``noise_figure_db``
+        (NaN: use the option) and ``polarization_deg`` (NaN: use the option),
+        e.g. from the per-site columns of a network site list.
 
     Returns
     -------
     ends : dict
-        ``{"gateway": {...}, "node": {...}}``, each with ``end`` ("a"/"b"),
-        ``tx_power_dbm``, ``gain_dbi``, ``cable_loss_db``, ``noise_figure_db``.
+        ``{"gateway": {...}, "node": {...}}``, each with ``end`` ("a"/"b") and
+        arrays of shape (L,): ``tx_power_dbm``, ``gain_dbi``, ``cable_loss_db``,
+        ``noise_figure_db``, ``polarization_deg``.
     notes : list of str
         What ``--cap-eirp`` changed.
     """
     if radio.cap_eirp and plan is None:
         raise ProfilerError("--cap-eirp needs a regional plan: give --band instead of --freq-mhz")
+    overrides = overrides or {}
     ends, notes = {}, []
     for role, end in (("gateway", radio.gateway), ("node", radio.node)):
-        gain = float(getattr(radio, f"gain_{end}_dbi"))
-        loss = float(getattr(radio, f"cable_loss_{end}_db"))
-        power = getattr(radio, f"tx_power_{end}_dbm")
-        if power is None and role == "node":
-            power = radio.tx_power_dbm
-        if power is None:
-            typical = NODE_TX_POWER_DBM if role == "node" or plan is None else GATEWAY_TX_POWER_DBM
-            power = typical if plan is None else min(typical, max_tx_power_dbm(plan, gain, loss))
-        elif radio.cap_eirp and power > max_tx_power_dbm(plan, gain, loss) + 1e-9:
-            capped = max_tx_power_dbm(plan, gain, loss)
-            notes.append(f"--cap-eirp: {role} power lowered from {power:g} to {capped:.2f} dBm to meet the "
-                         f"{plan.name} EIRP limit of {plan.max_eirp_dbm:g} dBm")
-            power = capped
-        nf = getattr(radio, f"noise_figure_{end}_db")
-        if nf is None:
-            nf = radio.noise_figure_db
-        if nf is None:
-            nf = GATEWAY_NOISE_FIGURE_DB if role == "gateway" else NODE_NOISE_FIGURE_DB
-        ends[role] = {"end": end, "tx_power_dbm": float(power), "gain_dbi": gain, "cable_loss_db": loss,
-                      "noise_figure_db": float(nf)}
+        given = overrides.get(role, {})
+
+        def value(key, option):
+            base = np.full(n_links, np.nan if option is None else float(option))
+            extra = given.get(key)
+            return base if extra is None else np.where(np.isfinite(extra), extra, base)
+
+        gain = value("gain_dbi", getattr(radio, f"gain_{end}_dbi"))
+        loss = value("cable_loss_db", getattr(radio, f"cable_loss_{end}_db"))
+        option_power = getattr(radio, f"tx_power_{end}_dbm")
+        if option_power is None and role == "node":
+            option_power = radio.tx_power_dbm
+        power = value("tx_power_dbm", option_power)
+        typical = NODE_TX_POWER_DBM if role == "node" or plan is None else GATEWAY_TX_POWER_DBM
+        limit = None if plan is None else max_tx_power_dbm(plan, gain, loss)
+        default = np.full(n_links, typical) if plan is None else np.minimum(typical, limit)
+        unset = ~np.isfinite(power)
+        power = np.where(unset, default, power)
+        if radio.cap_eirp:
+            over = ~unset & (power > limit + 1e-9)
+            if over.any():
+                i = int(np.argmax(over))
+                what = f"{role} power" if n_links == 1 else f"power of {int(over.sum())} {role}(s)"
+                notes.append(f"--cap-eirp: {what} lowered from {power[i]:g} to {limit[i]:.2f} dBm to meet the "
+                             f"{plan.name} EIRP limit of {plan.max_eirp_dbm:g} dBm")
+                power = np.where(over, limit, power)
+        nf_option = getattr(radio, f"noise_figure_{end}_db")
+        if nf_option is None:
+            nf_option = radio.noise_figure_db
+        if nf_option is None:
+            nf_option = GATEWAY_NOISE_FIGURE_DB if role == "gateway" else NODE_NOISE_FIGURE_DB
+        pol = value("polarization_deg", budget.polarization_angle_deg(getattr(radio, f"polarization_{end}")))
+        ends[role] = {"end": end, "tx_power_dbm": power, "gain_dbi": gain, "cable_loss_db": loss,
+                      "noise_figure_db": value("noise_figure_db", nf_option), "polarization_deg": pol}
     return ends, notes
 
 
@@ -180,45 +211,43 @@ def slant_distance_m(distance_m, antenna_a_amsl_m, antenna_b_amsl_m, earth_radiu
     return np.sqrt((ha - hb) ** 2 + 4.0 * (earth_radius_m + ha) * (earth_radius_m + hb) * s * s)
 
 
+def path_loss_batch(d, terrain, n, h_a, h_b, frequency_mhz, ae, radio: RadioSettings, pol_a_deg, pol_b_deg):
+    """The ``loss_db`` block for one frequency, one value per link [dB].
+
+    Free space over the slant distance (ITU-R P.525-4), the chosen diffraction
+    method (ITU-R P.526-15 / P.452-18, :func:`profiler.diffraction.diffraction_batch`),
+    the fixed extra loss and the polarization mismatch.  The spherical-Earth
+    term uses the polarization of antenna A.  ``smooth_surface_height_a_m``/
+    ``_b_m`` are the smooth-surface heights hstd, hsrd of the diffraction model
+    (P.452-18 Attachment 2 eqs. 165-167), not antenna heights.
+    """
+    vertical = np.abs(np.cos(np.radians(pol_a_deg))) >= math.sqrt(0.5)
+    parts = diffraction.diffraction_batch(d, terrain, n, h_a, h_b, frequency_mhz, ae, vertical, radio.sea_fraction)
+    method = radio.diffraction_method
+    diff = np.zeros_like(h_a) if method == "none" else parts[method.replace("-", "_")]
+    rows = np.arange(d.shape[0])
+    slant = slant_distance_m(d[rows, n - 1], h_a, h_b)
+    free = 20.0 * np.log10(4.0 * np.pi * slant * frequency_mhz * 1e6 / SPEED_OF_LIGHT_M_S)  # P.525-4 eq. (4)
+    pol_loss = budget.polarization_mismatch_db(pol_a_deg, pol_b_deg) + np.zeros_like(h_a)
+    total = free + diff + radio.extra_loss_db + pol_loss
+    return {"free_space": free, "diffraction": diff, "extra": np.full_like(h_a, radio.extra_loss_db),
+            "polarization": pol_loss, "total": total, "diffraction_method": method,
+            "knife_edge": parts["knife_edge"], "bullington": parts["bullington"],
+            "delta_bullington": parts["delta_bullington"], "spherical_earth": parts["spherical_earth"],
+            "smooth_surface_height_a_m": parts["hstd"], "smooth_surface_height_b_m": parts["hsrd"]}
+
+
 def diffraction_losses(distance_m, terrain_m, antenna_a_amsl_m, antenna_b_amsl_m, frequency_mhz,
                        effective_radius_m, polarization="vertical", sea_fraction=0.0) -> dict:
-    """Knife-edge, Bullington and delta-Bullington losses of one profile [dB].
-
-    Returns a dict with keys ``knife_edge``, ``bullington``,
-    ``delta_bullington``, ``spherical_earth``, ``smooth_surface_height_a_m``,
-    ``smooth_surface_height_b_m`` (the smooth-surface heights hstd, hsrd of
-    the diffraction model, not antenna heights).
-
-    References
-    ----------
-    ITU-R P.526-15 sections 4.1 and 4.5; ITU-R P.452-18 section 4.2 and
-    Attachment 2 eqs. (165)-(167).
-    """
-    args = (distance_m, terrain_m, antenna_a_amsl_m, antenna_b_amsl_m, frequency_mhz, effective_radius_m)
-    ke = diffraction.knife_edge(*args)
-    bu = diffraction.bullington(*args)
-    db = diffraction.delta_bullington(*args, polarization=polarization, sea_fraction=sea_fraction)
-    return {"knife_edge": float(ke.loss_db), "bullington": float(bu), "delta_bullington": float(db.loss_db),
-            "spherical_earth": float(db.spherical_earth_db),
-            "smooth_surface_height_a_m": float(db.effective_height_a_m),
-            "smooth_surface_height_b_m": float(db.effective_height_b_m)}
-
-
-def path_loss(d, terrain, h_a, h_b, frequency_mhz, ae, radio: RadioSettings) -> dict:
-    """The ``loss_db`` block for one frequency: free space (slant distance), diffraction, extra, polarization."""
-    pol_a = budget.polarization_angle_deg(radio.polarization_a)
-    pol_b = budget.polarization_angle_deg(radio.polarization_b)
-    # The spherical-Earth term needs one polarization: that of antenna A.
-    ground_pol = "vertical" if abs(math.cos(math.radians(pol_a))) >= math.sqrt(0.5) else "horizontal"
-    parts = diffraction_losses(d, terrain, h_a, h_b, frequency_mhz, ae, ground_pol, radio.sea_fraction)
-    method = radio.diffraction_method
-    diff = 0.0 if method == "none" else parts[method.replace("-", "_")]
-    slant = float(slant_distance_m(d[-1], h_a, h_b))
-    free = float(budget.free_space_loss_db(slant, frequency_mhz))
-    pol_loss = float(budget.polarization_mismatch_db(pol_a, pol_b))
-    total = free + diff + radio.extra_loss_db + pol_loss
-    return {"free_space": free, "diffraction": diff, "extra": float(radio.extra_loss_db),
-            "polarization": pol_loss, "total": total, "diffraction_method": method, **parts}
+    """Knife-edge, Bullington and delta-Bullington losses of one profile [dB] (a batch of one)."""
+    d = np.asarray(distance_m, dtype=float)[None, :]
+    out = diffraction.diffraction_batch(d, np.asarray(terrain_m, dtype=float)[None, :], np.array([d.shape[1]]),
+                                        float(antenna_a_amsl_m), float(antenna_b_amsl_m), frequency_mhz,
+                                        effective_radius_m, polarization == "vertical", sea_fraction)
+    return {"knife_edge": float(out["knife_edge"][0]), "bullington": float(out["bullington"][0]),
+            "delta_bullington": float(out["delta_bullington"][0]),
+            "spherical_earth": float(out["spherical_earth"][0]),
+            "smooth_surface_height_a_m": float(out["hstd"][0]), "smooth_surface_height_b_m": float(out["hsrd"][0])}
 
 
 def check_separation(slant_m: float, wavelength_m: float) -> None:
@@ -229,66 +258,180 @@ def check_separation(slant_m: float, wavelength_m: float) -> None:
                             f"least {need:.2f} m; check the coordinates and masts")
 
 
-def _budget_block(direction, tx, rx, loss_total, frequency_mhz, sensitivity, fade, sf, bw, dr, source):
-    eirp = float(lorawan.eirp_dbm(tx["tx_power_dbm"], tx["gain_dbi"], tx["cable_loss_db"]))
-    rx_power = eirp - loss_total + rx["gain_dbi"] - rx["cable_loss_db"]
-    margin = rx_power - sensitivity
-    return {"direction": direction, "transmitter": tx["end"], "receiver": rx["end"],
-            "frequency_mhz": float(frequency_mhz), "path_loss_db": float(loss_total),
-            "tx_power_dbm": tx["tx_power_dbm"], "eirp_dbm": eirp, "rx_power_dbm": rx_power,
-            "noise_figure_db": rx["noise_figure_db"], "sensitivity_dbm": float(sensitivity),
-            "margin_db": float(margin), "fade_margin_required_db": float(fade), "closes": bool(margin >= fade),
-            "sf": sf, "bw_khz": bw, "dr": dr, "sensitivity_source": source}
-
-
 def _rx_power(tx, rx, loss_total):
-    return float(lorawan.eirp_dbm(tx["tx_power_dbm"], tx["gain_dbi"], tx["cable_loss_db"])
-                 - loss_total + rx["gain_dbi"] - rx["cable_loss_db"])
+    """Received power [dBm], one value per link: EIRP - path loss + receiving gain - feeder loss."""
+    return lorawan.eirp_dbm(tx["tx_power_dbm"], tx["gain_dbi"], tx["cable_loss_db"]) - loss_total \
+        + rx["gain_dbi"] - rx["cable_loss_db"]
 
 
-def _dr_of(rules, sf, bw):
-    hit = np.flatnonzero((rules["sf"] == sf) & (rules["bw_khz"] == bw))
-    return None if hit.size == 0 else int(rules["dr"][hit[0]])
+def _sensitivity_dbm(sf, bw_khz, nf_db):
+    """LoRa sensitivity for arrays of SF, bandwidth and noise figure (see budget.lora_sensitivity_dbm)."""
+    snr = np.asarray(budget.LORA_SNR_MIN_DB)[np.asarray(sf, dtype=np.int64) - 7]
+    return budget.THERMAL_NOISE_DBM_PER_HZ + 10.0 * np.log10(np.asarray(bw_khz, dtype=float) * 1e3) + nf_db + snr
 
 
-def _choose(rules, recommended, radio):
-    """(sf, bw, dr) of a direction's budget: --sf, else the recommended DR, else the slowest allowed."""
+def _direction_batch(plan, radio, direction, tx, rx, loss_total, frequency_mhz, phy, app, dwell):
+    """Per-DR margins, the recommended DR and the budget's (sf, bw, dr, sensitivity) for one direction."""
+    rules = lorawan.dr_rules(plan, direction, phy, app, dwell, frequency_mhz)
+    p_rx = _rx_power(tx, rx, loss_total)
+    sens, margin, closes, rec = lorawan.dr_margins(p_rx, rules, rx["noise_figure_db"], radio.fade_margin_db)
     if radio.sf is not None:
-        return int(radio.sf), float(radio.bw_khz), _dr_of(rules, int(radio.sf), float(radio.bw_khz))
-    i = recommended if recommended >= 0 else lorawan.slowest_allowed(rules)
-    if i < 0:
-        i = int(np.argmin(rules["bitrate_bps"]))
-    return int(rules["sf"][i]), float(rules["bw_khz"][i]), int(rules["dr"][i])
+        sf = np.full(rec.shape, int(radio.sf))
+        bw = np.full(rec.shape, float(radio.bw_khz))
+        hit = np.flatnonzero((rules["sf"] == radio.sf) & (rules["bw_khz"] == radio.bw_khz))
+        dr = np.full(rec.shape, int(rules["dr"][hit[0]]) if hit.size else -1)
+    else:
+        fallback = lorawan.slowest_allowed(rules)
+        if fallback < 0:
+            fallback = int(np.argmin(rules["bitrate_bps"]))
+        idx = np.where(rec >= 0, rec, fallback)
+        sf, bw, dr = rules["sf"][idx], rules["bw_khz"][idx], rules["dr"][idx]
+    return {"rules": rules, "rx_power_dbm": p_rx, "sensitivity_dbm": sens, "margin_db": margin,
+            "closes": closes, "recommended": rec, "sf": sf, "bw_khz": bw, "dr": dr,
+            "budget_sensitivity_dbm": _sensitivity_dbm(sf, bw, rx["noise_figure_db"])}
 
 
-def _plan_directions(plan, radio, ends, losses, phy, app, dwell):
-    """Uplink and downlink per-DR blocks, the budgets and warnings with a regional plan."""
+def radio_batch(d, terrain, n, h_a, h_b, frequency_mhz, ae, radio: RadioSettings, plan: Plan | None = None,
+                overrides: dict | None = None) -> dict:
+    """Losses and both budgets of many links at once; every value an array over links.
+
+    Parameters
+    ----------
+    d, terrain : ndarray, shape (L, N)
+        Padded profiles (distance from A [m], terrain [m AMSL]); row l uses ``n[l]`` samples.
+    n : ndarray of int, shape (L,)
+        Samples per link.
+    h_a, h_b : ndarray, shape (L,)
+        Antenna heights [m AMSL].
+    frequency_mhz : float
+        Working (uplink) frequency [MHz].
+    ae : float or ndarray
+        Effective Earth radius [m].
+    radio : RadioSettings
+        Validated settings.
+    plan : Plan, optional
+        Regional plan; None when only a frequency was given.
+    overrides : dict, optional
+        Per-link end values, see :func:`resolve_ends`.
+
+    Returns
+    -------
+    dict
+        ``losses`` ({frequency: loss block of arrays}), ``ends``, ``cap_notes``,
+        ``uplink`` and ``downlink`` (rx power, the budget's margin, sf, bw,
+        dr and sensitivity; with a plan also the per-DR arrays, the rules and
+        the recommended index), ``rx2`` (with a plan), ``per_sf`` (uplink
+        margins for SF7-SF12 at --bw-khz), ``phy_bytes``, ``app_bytes``,
+        ``dwell_ms``, ``downlink_frequency_mhz``.
+    """
+    h_a = np.asarray(h_a, dtype=float)
+    h_b = np.asarray(h_b, dtype=float)
+    ends, cap_notes = resolve_ends(radio, plan, h_a.size, overrides)
+    if plan is None and radio.dwell_time is not None:
+        raise ProfilerError("--dwell-time needs a regional plan: give --band instead of --freq-mhz")
+    dwell = dwell_time_limit_ms(plan, radio.dwell_time) if plan is not None else None
+    f_down = plan.downlink_frequency_mhz if plan is not None else frequency_mhz
+    freqs = {frequency_mhz, f_down} | ({plan.rx2_frequency_mhz} if plan is not None else set())
+    pol_a = ends["gateway" if radio.gateway == "a" else "node"]["polarization_deg"]
+    pol_b = ends["node" if radio.gateway == "a" else "gateway"]["polarization_deg"]
+    losses = {f: path_loss_batch(d, terrain, n, h_a, h_b, f, ae, radio, pol_a, pol_b) for f in sorted(freqs)}
+    phy, app = lorawan.payload_sizes(radio.payload_bytes, radio.app_payload_bytes)
+    gw, node = ends["gateway"], ends["node"]
+    out = {"losses": losses, "ends": ends, "cap_notes": cap_notes, "phy_bytes": phy, "app_bytes": app,
+           "dwell_ms": dwell, "downlink_frequency_mhz": f_down}
+    sf_axis = np.asarray(budget.LORA_SPREADING_FACTORS)
+    up_rx = _rx_power(node, gw, losses[frequency_mhz]["total"])
+    per_sf_sens = _sensitivity_dbm(sf_axis[None, :], radio.bw_khz, gw["noise_figure_db"][:, None])
+    out["per_sf"] = {"sensitivity_dbm": per_sf_sens, "margin_db": up_rx[:, None] - per_sf_sens}
+    if plan is not None and radio.sensitivity_dbm is None:
+        out["uplink"] = _direction_batch(plan, radio, "uplink", node, gw, losses[frequency_mhz]["total"],
+                                         frequency_mhz, phy, app, dwell)
+        out["downlink"] = _direction_batch(plan, radio, "downlink", gw, node, losses[f_down]["total"],
+                                           f_down, phy, app, dwell)
+        sf2, bw2 = plan.data_rates[plan.rx2_dr]
+        s2 = _sensitivity_dbm(sf2, bw2, node["noise_figure_db"])
+        out["rx2"] = {"sensitivity_dbm": s2,
+                      "margin_db": _rx_power(gw, node, losses[plan.rx2_frequency_mhz]["total"]) - s2}
+        return out
+    closes = out["per_sf"]["margin_db"] >= radio.fade_margin_db
+    lowest = np.where(closes.any(axis=1), sf_axis[np.argmax(closes, axis=1)], -1)
+    for direction, tx, rx, f in (("uplink", node, gw, frequency_mhz), ("downlink", gw, node, f_down)):
+        if radio.sensitivity_dbm is not None:
+            sf = bw = dr = None
+            sens = np.full(h_a.shape, float(radio.sensitivity_dbm))
+        else:
+            sf = np.full(h_a.shape, int(radio.sf)) if radio.sf is not None else np.where(lowest > 0, lowest, 12)
+            bw = np.full(h_a.shape, float(radio.bw_khz))
+            dr = np.full(h_a.shape, -1)
+            sens = _sensitivity_dbm(sf, bw, rx["noise_figure_db"])
+        out[direction] = {"rx_power_dbm": _rx_power(tx, rx, losses[f]["total"]), "sf": sf, "bw_khz": bw,
+                          "dr": dr, "budget_sensitivity_dbm": sens, "lowest_closing_sf": lowest}
+    return out
+
+
+def _budget_block(rb, direction, i, fade, frequency_mhz, source):
+    """One direction's budget dict for link ``i`` of a :func:`radio_batch` result."""
+    ends = rb["ends"]
+    tx, rx = (ends["node"], ends["gateway"]) if direction == "uplink" else (ends["gateway"], ends["node"])
+    b = rb[direction]
+    loss = rb["losses"][frequency_mhz]["total"][i]
+    p_rx = float(b["rx_power_dbm"][i])
+    sens = float(b["budget_sensitivity_dbm"][i])
+    margin = p_rx - sens
+    sf = None if b["sf"] is None else int(b["sf"][i])
+    dr = None if b["dr"] is None or int(b["dr"][i]) < 0 else int(b["dr"][i])
+    return {"direction": direction, "transmitter": tx["end"], "receiver": rx["end"],
+            "frequency_mhz": float(frequency_mhz), "path_loss_db": float(loss),
+            "tx_power_dbm": float(tx["tx_power_dbm"][i]),
+            "eirp_dbm": float(lorawan.eirp_dbm(tx["tx_power_dbm"][i], tx["gain_dbi"][i], tx["cable_loss_db"][i])),
+            "rx_power_dbm": p_rx, "noise_figure_db": float(rx["noise_figure_db"][i]), "sensitivity_dbm": sens,
+            "margin_db": margin, "fade_margin_required_db": float(fade), "closes": bool(margin >= fade),
+            "sf": sf, "bw_khz": None if b["bw_khz"] is None else float(b["bw_khz"][i]), "dr": dr,
+            "sensitivity_source": source}
+
+
+def _lora_blocks(rb, plan, radio, i, frequency_mhz):
+    """(lora dict, warnings) for link ``i``."""
+    warnings = []
     fade = radio.fade_margin_db
-    out, warnings = {}, []
-    for direction, tx, rx, f in (("uplink", ends["node"], ends["gateway"], plan.uplink_frequency_mhz),
-                                 ("downlink", ends["gateway"], ends["node"], plan.downlink_frequency_mhz)):
-        rules = lorawan.dr_rules(plan, direction, phy, app, dwell, f)
-        p_rx = _rx_power(tx, rx, losses[f]["total"])
-        sens, margin, closes, rec = lorawan.dr_margins(p_rx, rules, rx["noise_figure_db"], fade)
-        block = lorawan.direction_block(rules, f, sens, margin, closes, int(rec))
-        sf, bw, dr = _choose(rules, int(rec), radio)
-        if block["recommended_dr"] is None:
-            best = int(np.argmax(np.where(rules["allowed"], margin, -np.inf)))
+    ends = rb["ends"]
+    per_sf_margin = rb["per_sf"]["margin_db"][i]
+    toa = np.asarray(budget.lora_time_on_air_ms(np.asarray(budget.LORA_SPREADING_FACTORS), radio.bw_khz,
+                                                rb["phy_bytes"]))
+    per_hour = np.asarray(budget.uplinks_per_hour(toa, 0.01))
+    table = [{"sf": int(sf), "sensitivity_dbm": float(rb["per_sf"]["sensitivity_dbm"][i, j]),
+              "margin_db": float(per_sf_margin[j]), "closes": bool(per_sf_margin[j] >= fade),
+              "time_on_air_ms": float(toa[j]), "uplinks_per_hour_1pct": int(per_hour[j])}
+             for j, sf in enumerate(budget.LORA_SPREADING_FACTORS)]
+    lora = {"bw_khz": float(radio.bw_khz), "payload_bytes": rb["phy_bytes"], "app_payload_bytes": rb["app_bytes"],
+            "noise_figure_db": float(ends["gateway"]["noise_figure_db"][i]),
+            "noise_figure_node_db": float(ends["node"]["noise_figure_db"][i]),
+            "per_sf": table, "lowest_closing_sf": None, "uplink": None, "downlink": None}
+    if plan is None:
+        low = int(rb["uplink"]["lowest_closing_sf"][i])
+        lora["lowest_closing_sf"] = low if low > 0 else None
+        return lora, warnings
+    for direction, f in (("uplink", frequency_mhz), ("downlink", rb["downlink_frequency_mhz"])):
+        b = rb[direction]
+        rec = int(b["recommended"][i])
+        block = lorawan.direction_block(b["rules"], f, b["sensitivity_dbm"][i], b["margin_db"][i], b["closes"][i], rec)
+        lora[direction] = block
+        if rec < 0:
+            allowed = b["rules"]["allowed"]
+            j = int(np.argmax(np.where(allowed, b["margin_db"][i], -np.inf)))
             warnings.append(f"no allowed {direction} data rate of {plan.name} closes with the {fade:g} dB fade "
-                            f"margin (best: DR{rules['dr'][best]} at {margin[best]:.1f} dB)")
-        if radio.sf is not None and (dr is None or dr not in block_allowed(block)):
-            warnings.append(f"SF{sf} at {bw:g} kHz is not an allowed {direction} data rate of {plan.name}")
-        s = float(budget.lora_sensitivity_dbm(sf, bw, rx["noise_figure_db"])) if radio.sensitivity_dbm is None \
-            else radio.sensitivity_dbm
-        out[direction] = (block, _budget_block(direction, tx, rx, losses[f]["total"], f, s, fade, sf, bw, dr, "lora"))
-    rx2_f = plan.rx2_frequency_mhz
+                            f"margin (best: DR{b['rules']['dr'][j]} at {b['margin_db'][i, j]:.1f} dB)")
+        if radio.sf is not None and (int(b["dr"][i]) < 0 or int(b["dr"][i]) not in block_allowed(block)):
+            warnings.append(f"SF{radio.sf} at {radio.bw_khz:g} kHz is not an allowed {direction} data rate of "
+                            f"{plan.name}")
+    rec_up = lora["uplink"]["recommended_dr"]
+    lora["lowest_closing_sf"] = plan.data_rates[rec_up][0] if rec_up is not None else None
     sf2, bw2 = plan.data_rates[plan.rx2_dr]
-    node = ends["node"]
-    s2 = float(budget.lora_sensitivity_dbm(sf2, bw2, node["noise_figure_db"]))
-    m2 = _rx_power(ends["gateway"], node, losses[rx2_f]["total"]) - s2
-    out["downlink"][0]["rx2"] = {"frequency_mhz": rx2_f, "dr": plan.rx2_dr, "sf": sf2, "bw_khz": float(bw2),
-                                 "sensitivity_dbm": s2, "margin_db": float(m2), "closes": bool(m2 >= fade)}
-    return out, warnings
+    m2 = float(rb["rx2"]["margin_db"][i])
+    lora["downlink"]["rx2"] = {"frequency_mhz": plan.rx2_frequency_mhz, "dr": plan.rx2_dr, "sf": sf2,
+                               "bw_khz": float(bw2), "sensitivity_dbm": float(rb["rx2"]["sensitivity_dbm"][i]),
+                               "margin_db": m2, "closes": bool(m2 >= fade)}
+    return lora, warnings
 
 
 def block_allowed(block) -> set:
@@ -297,22 +440,10 @@ def block_allowed(block) -> set:
 
 
 def radio_results(d, terrain, h_a, h_b, frequency_mhz, ae, radio: RadioSettings, plan: Plan | None = None):
-    """Losses, both budgets, the LoRa tables and compliance for one geometry.
+    """Losses, both budgets, the LoRa tables and compliance for one geometry (a batch of one).
 
-    Parameters
-    ----------
-    d, terrain : ndarray
-        Profile distances from A [m] and terrain heights [m AMSL].
-    h_a, h_b : float
-        Antenna heights [m AMSL] (ground + mast).
-    frequency_mhz : float
-        Working (uplink) frequency [MHz]; with a plan, its uplink frequency.
-    ae : float
-        Effective Earth radius [m].
-    radio : RadioSettings
-        Validated settings.
-    plan : Plan, optional
-        Regional plan; None when only a frequency was given.
+    Parameters are those of :func:`radio_batch` for a single 1-D profile
+    ``d``, ``terrain`` and scalar antenna heights.
 
     Returns
     -------
@@ -320,50 +451,24 @@ def radio_results(d, terrain, h_a, h_b, frequency_mhz, ae, radio: RadioSettings,
     (uplink, node -> gateway), ``budget_downlink``, ``lora`` (None with a
     given sensitivity), ``compliance``, ``slant_distance_m``, ``warnings``.
     """
-    ends, cap_notes = resolve_ends(radio, plan)
-    dwell = dwell_time_limit_ms(plan, radio.dwell_time) if plan is not None else None
-    if plan is None and radio.dwell_time is not None:
-        raise ProfilerError("--dwell-time needs a regional plan: give --band instead of --freq-mhz")
-    freqs = {frequency_mhz}
-    if plan is not None:
-        freqs |= {plan.uplink_frequency_mhz, plan.downlink_frequency_mhz, plan.rx2_frequency_mhz}
-    losses = {f: path_loss(d, terrain, h_a, h_b, f, ae, radio) for f in sorted(freqs)}
-    phy, app = lorawan.payload_sizes(radio.payload_bytes, radio.app_payload_bytes)
+    d2 = np.asarray(d, dtype=float)[None, :]
+    rb = radio_batch(d2, np.asarray(terrain, dtype=float)[None, :], np.array([d2.shape[1]]),
+                     np.array([float(h_a)]), np.array([float(h_b)]), frequency_mhz, ae, radio, plan)
+    source = "given" if radio.sensitivity_dbm is not None else "lora"
     fade = radio.fade_margin_db
-    up_rx = _rx_power(ends["node"], ends["gateway"], losses[frequency_mhz]["total"])
-    table = budget.lora_table(up_rx, radio.bw_khz, ends["gateway"]["noise_figure_db"], phy, fade)
-    warnings = [n for n in cap_notes]
-    if plan is not None and radio.sensitivity_dbm is None:
-        blocks, w = _plan_directions(plan, radio, ends, losses, phy, app, dwell)
-        warnings += w
-        (up_block, up_budget), (down_block, down_budget) = blocks["uplink"], blocks["downlink"]
-        lowest = (plan.data_rates[up_block["recommended_dr"]][0] if up_block["recommended_dr"] is not None else None)
-    else:
-        up_block = down_block = None
-        lowest = budget.lowest_closing_sf(table)
-        if radio.sensitivity_dbm is not None:
-            sf = bw = None
-            s_up = s_down = float(radio.sensitivity_dbm)
-        else:
-            sf = int(radio.sf) if radio.sf is not None else (lowest if lowest is not None else 12)
-            bw = float(radio.bw_khz)
-            s_up = float(budget.lora_sensitivity_dbm(sf, bw, ends["gateway"]["noise_figure_db"]))
-            s_down = float(budget.lora_sensitivity_dbm(sf, bw, ends["node"]["noise_figure_db"]))
-        source = "given" if radio.sensitivity_dbm is not None else "lora"
-        f_down = plan.downlink_frequency_mhz if plan is not None else frequency_mhz
-        up_budget = _budget_block("uplink", ends["node"], ends["gateway"], losses[frequency_mhz]["total"],
-                                  frequency_mhz, s_up, fade, sf, bw, None, source)
-        down_budget = _budget_block("downlink", ends["gateway"], ends["node"], losses[f_down]["total"],
-                                    f_down, s_down, fade, sf, bw, None, source)
-    compliance = lorawan.compliance_block(plan, {k: v for k, v in ends.items()}, dwell, cap_notes)
-    if compliance["eirp_ok"] is False:
-        warnings += [n for n in compliance["notes"] if "above the" in n]
+    loss = {k: (v if isinstance(v, str) else float(v[0])) for k, v in rb["losses"][frequency_mhz].items()}
+    warnings = list(rb["cap_notes"])
     lora = None
     if radio.sensitivity_dbm is None:
-        lora = {"bw_khz": float(radio.bw_khz), "payload_bytes": phy, "app_payload_bytes": app,
-                "noise_figure_db": ends["gateway"]["noise_figure_db"],
-                "noise_figure_node_db": ends["node"]["noise_figure_db"],
-                "per_sf": table, "lowest_closing_sf": lowest, "uplink": up_block, "downlink": down_block}
-    return {"loss_db": losses[frequency_mhz], "budget": up_budget, "budget_downlink": down_budget, "lora": lora,
-            "compliance": compliance, "ends": ends,
-            "slant_distance_m": float(slant_distance_m(d[-1], h_a, h_b)), "warnings": warnings}
+        lora, w = _lora_blocks(rb, plan, radio, 0, frequency_mhz)
+        warnings += w
+    ends0 = {role: {k: (v if isinstance(v, str) else float(v[0])) for k, v in e.items()}
+             for role, e in rb["ends"].items()}
+    compliance = lorawan.compliance_block(plan, ends0, rb["dwell_ms"], rb["cap_notes"])
+    if compliance["eirp_ok"] is False:
+        warnings += [n for n in compliance["notes"] if "above the" in n]
+    return {"loss_db": loss,
+            "budget": _budget_block(rb, "uplink", 0, fade, frequency_mhz, source),
+            "budget_downlink": _budget_block(rb, "downlink", 0, fade, rb["downlink_frequency_mhz"], source),
+            "lora": lora, "compliance": compliance, "ends": ends0,
+            "slant_distance_m": float(slant_distance_m(d2[0, -1], h_a, h_b)), "warnings": warnings}

@@ -50,6 +50,8 @@ from __future__ import annotations
 
 from dataclasses import dataclass, field
 
+import numpy as np
+
 from .errors import ProfilerError
 
 LORAWAN_OVERHEAD_BYTES = 13
@@ -272,11 +274,12 @@ def max_tx_power_dbm(p: Plan, gain_dbi, cable_loss_db):
     conducted limit with an antenna-gain allowance (US915), the power is also
     at most ``max_conducted_dbm - max(0, G - max_antenna_gain_dbi)``.
     """
-    limit = p.max_eirp_dbm - gain_dbi + cable_loss_db
+    gain = np.asarray(gain_dbi, dtype=float)
+    limit = p.max_eirp_dbm - gain + np.asarray(cable_loss_db, dtype=float)
     if p.max_conducted_dbm is not None:
-        excess = max(0.0, gain_dbi - p.max_antenna_gain_dbi)
-        limit = min(limit, p.max_conducted_dbm - excess)
-    return limit
+        excess = np.maximum(0.0, gain - p.max_antenna_gain_dbi)
+        limit = np.minimum(limit, p.max_conducted_dbm - excess)
+    return limit[()] if limit.ndim == 0 else limit
 
 
 def plan_dict(p: Plan) -> dict:
