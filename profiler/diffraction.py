@@ -314,14 +314,15 @@ def _paths(d_km, h, n, ae_km):
     n = np.asarray(n, dtype=np.int64)
     rows = np.arange(d_km.shape[0])
     cols = np.arange(d_km.shape[1])
+    valid = cols[None, :] < n[:, None]
+    d_km = np.where(valid, d_km, 0.0)       # padding (NaN or anything) never reaches a sum
     interior = (cols >= 1) & (cols[None, :] < (n - 1)[:, None])
     d_total = d_km[rows, n - 1]
     di = np.where(interior, d_km, 1.0)
     dd = np.where(interior, d_total[:, None] - d_km, 1.0)
     ae = np.asarray(ae_km, dtype=float).reshape(-1, 1) if np.ndim(ae_km) else ae_km
     bulge = np.where(interior, (500.0 / ae) * di * dd, 0.0)
-    return _Paths(d_km, np.where(cols[None, :] < n[:, None], h, 0.0), n, d_total, interior, di, dd, bulge,
-                  h[:, 0], h[rows, n - 1])
+    return _Paths(d_km, np.where(valid, h, 0.0), n, d_total, interior, di, dd, bulge, h[:, 0], h[rows, n - 1])
 
 
 def _masked_max(values, mask):
