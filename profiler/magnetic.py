@@ -214,14 +214,16 @@ def compass_caution(lat_deg, lon_deg, date: _dt.date, height_m=0.0):
     .. [1] WMM2025 Technical Report (Blackout and Caution Zones).
     """
     _, h_nt = _field(lat_deg, lon_deg, date, height_m)
-    texts = [
-        f"compass unreliable here (WMM Blackout Zone: horizontal field {h:.0f} nT < {BLACKOUT_H_NT:.0f} nT)"
-        if h < BLACKOUT_H_NT else
-        f"compass may be unreliable here (WMM Caution Zone: horizontal field {h:.0f} nT < {CAUTION_H_NT:.0f} nT)"
-        if h < CAUTION_H_NT else ""
-        for h in h_nt.ravel()
-    ]
+    texts = [_caution_text(h) for h in h_nt.ravel()]
     return texts[0] if h_nt.ndim == 0 else texts
+
+
+def _caution_text(h_nt):
+    if h_nt < BLACKOUT_H_NT:
+        return f"compass unreliable here (WMM Blackout Zone: horizontal field {h_nt:.0f} nT < {BLACKOUT_H_NT:.0f} nT)"
+    if h_nt < CAUTION_H_NT:
+        return f"compass may be unreliable here (WMM Caution Zone: horizontal field {h_nt:.0f} nT < {CAUTION_H_NT:.0f} nT)"
+    return ""
 
 
 def magnetic_azimuth_deg(true_azimuth_deg, declination_deg):
@@ -247,3 +249,48 @@ def magnetic_azimuth_deg(true_azimuth_deg, declination_deg):
     az = np.mod(np.asarray(true_azimuth_deg, dtype=float) - np.asarray(declination_deg, dtype=float), 360.0)
     az = np.where(az >= 360.0, 0.0, az)  # mod of a tiny negative number rounds up to 360
     return float(az) if az.ndim == 0 else az
+
+
+def bearing_block(lat_a_deg, lon_a_deg, lat_b_deg, lon_b_deg, azimuth_a_to_b_deg, azimuth_b_to_a_deg,
+                  date: _dt.date, height_a_m=0.0, height_b_m=0.0) -> dict:
+    """The JSON magnetic-bearing keys of a link.
+
+    Each magnetic azimuth uses the declination at the site it is read from
+    (A to B at A, B to A at B).
+
+    Parameters
+    ----------
+    lat_a_deg, lon_a_deg, lat_b_deg, lon_b_deg : float
+        Site coordinates (WGS84) [deg].
+    azimuth_a_to_b_deg, azimuth_b_to_a_deg : float
+        True azimuths at A towards B and at B towards A [deg].
+    date : datetime.date
+        Date of the sheet.
+    height_a_m, height_b_m : float, optional
+        Site heights above mean sea level [m].
+
+    Returns
+    -------
+    dict
+        ``{"declination_a_deg", "declination_b_deg",
+        "azimuth_a_to_b_magnetic_deg", "azimuth_b_to_a_magnetic_deg",
+        "magnetic_model": model_info(date), "compass_caution_a",
+        "compass_caution_b"}`` (floats unrounded; cautions "" when none).
+
+    References
+    ----------
+    .. [1] WMM2025 Technical Report (field elements; Blackout and Caution Zones).
+    """
+    lat = [lat_a_deg, lat_b_deg]
+    lon = [lon_a_deg, lon_b_deg]
+    height = [height_a_m, height_b_m]
+    (dec_a, dec_b), (h_a, h_b) = _field(lat, lon, date, height)
+    return {
+        "declination_a_deg": float(dec_a),
+        "declination_b_deg": float(dec_b),
+        "azimuth_a_to_b_magnetic_deg": magnetic_azimuth_deg(azimuth_a_to_b_deg, dec_a),
+        "azimuth_b_to_a_magnetic_deg": magnetic_azimuth_deg(azimuth_b_to_a_deg, dec_b),
+        "magnetic_model": model_info(date),
+        "compass_caution_a": _caution_text(h_a),
+        "compass_caution_b": _caution_text(h_b),
+    }

@@ -123,3 +123,19 @@ def test_compass_caution_near_magnetic_pole():
     assert "Blackout Zone" in near_pole
     assert mid_latitude == ""
     assert magnetic.compass_caution(47.0, 8.0, dt.date(2026, 6, 1)) == ""
+
+
+def test_bearing_block_uses_each_sites_declination():
+    # A link across a large span (47 N 8 E to 60.2 N 24.9 E) so the two declinations differ;
+    # the reference declinations are IGRF-14 (ppigrf), magnetic = true - D (hand formula).
+    date = dt.date(2026, 12, 2)
+    block = magnetic.bearing_block(47.0, 8.0, 60.2, 24.9, 30.0, 225.0, date, 400.0, 20.0)
+    igrf_a = _igrf_declination_deg(47.0, 8.0, 0.4, date)
+    igrf_b = _igrf_declination_deg(60.2, 24.9, 0.02, date)
+    assert block["declination_a_deg"] == pytest.approx(igrf_a, abs=IGRF_TOLERANCE_DEG)
+    assert block["declination_b_deg"] == pytest.approx(igrf_b, abs=IGRF_TOLERANCE_DEG)
+    assert block["azimuth_a_to_b_magnetic_deg"] == pytest.approx(30.0 - igrf_a, abs=IGRF_TOLERANCE_DEG)
+    assert block["azimuth_b_to_a_magnetic_deg"] == pytest.approx(225.0 - igrf_b, abs=IGRF_TOLERANCE_DEG)
+    assert block["magnetic_model"]["model"] == "WMM2025"
+    assert (block["compass_caution_a"], block["compass_caution_b"]) == ("", "")
+    assert abs(block["declination_a_deg"] - block["declination_b_deg"]) > 1.0  # the two ends are distinct
