@@ -242,11 +242,10 @@ def greedy_siting(hears, cost, fixed_mask, redundancy: int, max_gateways: int | 
     demand = np.where(reachable, np.maximum(redundancy - h[is_open].sum(axis=0), 0), 0)
     budget = math.inf if max_gateways is None else max_gateways - int(is_open.sum())
     while budget > 0 and demand.any():          # one iteration per site opened
-        units = h[:, demand > 0].sum(axis=1).astype(float)
-        units[is_open] = 0.0
+        units = np.where(is_open, 0.0, h[:, demand > 0].sum(axis=1))
         if units.max() <= 0.0:
             break
-        j = int(np.argmax(units / weight))
+        j = int(np.argmax(np.where(units > 0.0, units / np.where(is_open, 1.0, weight), -np.inf)))
         is_open[j] = True
         demand = demand - (h[j] & (demand > 0))
         budget -= 1
