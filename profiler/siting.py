@@ -148,8 +148,9 @@ def hearing_matrix(margin_db, allowed, min_margin_db: float) -> np.ndarray:
     if margin.ndim != 2 or ok.shape != margin.shape:
         raise ProfilerError(f"hearing matrix: margins {margin.shape} and allowed flags {ok.shape} "
                             "must be two arrays of the same (sites x nodes) shape")
-    if not math.isfinite(float(min_margin_db)):
-        raise ProfilerError(f"--min-margin-db must be a finite number of dB, not {min_margin_db}")
+    if not (isinstance(min_margin_db, (int, float)) and not isinstance(min_margin_db, bool)
+            and math.isfinite(min_margin_db)):
+        raise ProfilerError(f"--min-margin-db must be a finite number of dB, not {min_margin_db!r}")
     with np.errstate(invalid="ignore"):
         return ok & (margin >= float(min_margin_db))
 

@@ -93,10 +93,13 @@ def margin_matrix(network_report: dict) -> MarginMatrix:
     site_at = {name: k for k, name in enumerate(site_names)}
     node_at = {name: k for k, name in enumerate(node_names)}
     m, n = len(site_names), len(node_names)
-    rows = np.array([(site_at.get(lk.get("gateway"), -1), node_at.get(lk.get("node"), -1),
-                      np.nan if lk.get("margin_db") is None else lk["margin_db"],
-                      not lk.get("error"), lk.get("recommended_dr") is not None) for lk in links],
-                    dtype=float).reshape(-1, 5)
+    try:
+        rows = np.array([(site_at.get(lk.get("gateway"), -1), node_at.get(lk.get("node"), -1),
+                          np.nan if lk.get("margin_db") is None else lk["margin_db"],
+                          not lk.get("error"), lk.get("recommended_dr") is not None) for lk in links],
+                        dtype=float).reshape(-1, 5)
+    except (AttributeError, TypeError, ValueError) as exc:
+        raise ProfilerError(f"the network report's links[] are malformed ({exc}): rerun the network engine") from exc
     gi, ni = rows[:, 0].astype(int), rows[:, 1].astype(int)
     bad = np.flatnonzero((gi < 0) | (ni < 0))
     if bad.size:

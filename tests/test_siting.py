@@ -384,3 +384,14 @@ def test_siting_geojson():
     gj = siting_geojson_dict(out, rep)
     crossing = [f for f in gj["features"] if f["id"] == "link:Cairnfell Beacon:Osterby Farm pump"][0]
     assert crossing["geometry"]["type"] == "MultiLineString"
+
+
+def test_malformed_network_inputs_are_one_line_errors():
+    rep = network_report()
+    rep["links"][0]["margin_db"] = "lots"
+    with pytest.raises(ProfilerError, match="malformed"):
+        margin_matrix(rep)
+    with pytest.raises(ProfilerError, match="--min-margin-db"):
+        siting_from_network(network_report(), min_margin_db=None)
+    with pytest.raises(ProfilerError, match="--min-margin-db"):
+        siting_from_network(network_report(), min_margin_db=float("nan"))
