@@ -33,7 +33,7 @@ import numpy as np
 from . import CAUTION, __version__
 from .errors import ProfilerError
 from .exports import _position, _positions, split_at_antimeridian, wrap_longitude
-from .report import inert_text
+from .report import _fmt, inert_text
 from .siting import hearing_matrix, solve_siting
 
 __all__ = ["SCHEMA", "MarginMatrix", "margin_matrix", "site_costs", "siting_from_network", "siting_report",
@@ -331,13 +331,8 @@ NODE_CSV_COLUMNS = ("node", "covered", "unreachable", "heard_by_count", "heard_b
 
 
 def _cell(value) -> str:
-    if value is None:
-        return ""
-    if isinstance(value, bool):
-        return "true" if value else "false"
-    if isinstance(value, float):
-        return f"{value:.2f}"
-    return inert_text(value) if isinstance(value, str) else str(value)
+    """A CSV cell: text made inert, numbers as in the link CSV (2 decimals)."""
+    return inert_text(value) if isinstance(value, str) else _fmt(value, 2)
 
 
 def siting_csv_text(report: dict) -> str:
