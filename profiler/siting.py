@@ -349,7 +349,7 @@ def _heard_by(h, margin, chosen) -> tuple:
     """Per node, the chosen sites that hear it, best margin first (or by index)."""
     sub = h[chosen]                                            # (k, n)
     if margin is None:
-        key = np.zeros(sub.shape)
+        key = np.broadcast_to(chosen[:, np.newaxis].astype(float), sub.shape)
     else:
         key = np.where(sub, -margin[chosen], np.inf)
     order = np.argsort(key, axis=0, kind="stable")
@@ -489,6 +489,14 @@ def solve_siting(hears, *, cost=None, fixed=None, redundancy: int = 1, max_gatew
         is_open, proven, gap, status = _settle(x, res, greedy_open, score, time_limit_s)
         is_open, proven, status = _tiebreak(h, margin, fixed_mask, redundancy, max_gateways, reachable,
                                             is_open, proven, status, score, time_limit_s - spent)
+    reference = score(is_open)
+
+    def no_worse(mask):
+        """Feasible (every reachable node still heard R times, in the cost mode) and scores no less."""
+        feasible = mode == "max_coverage" or bool(np.all((h[mask].sum(axis=0) >= redundancy)[reachable]))
+        return feasible and score(mask) >= reference
+
+    is_open = _prune(h, is_open, fixed_mask, no_worse)
     chosen = _order_by_hearing(h, is_open)
     covered = h[is_open].sum(axis=0) >= redundancy
     return SitingSolution(
@@ -497,6 +505,23 @@ def solve_siting(hears, *, cost=None, fixed=None, redundancy: int = 1, max_gatew
         unreachable=np.flatnonzero(~reachable), margin_total_db=_margin_total(h, margin, is_open, covered),
         greedy_chosen=_order_by_hearing(h, greedy_open),
         greedy_objective=_objective(h, c, greedy_open, redundancy, mode))
+
+
+def _prune(h, is_open, fixed_mask, acceptable):
+    """Close open candidates that add nothing, fewest nodes heard first.
+
+    A site is closed when ``acceptable(mask without it)``: the choice stays
+    feasible and its score (cost, or coverage and total margin) is no
+    worse, so an optimum stays optimal; in the maximum-coverage mode this
+    drops sites the solver had no reason to leave closed.
+    """
+    mask = is_open.copy()
+    for j in _order_by_hearing(h, mask & ~fixed_mask)[::-1]:    # one trial per open site
+        trial = mask.copy()
+        trial[j] = False
+        if acceptable(trial):
+            mask = trial
+    return mask
 
 
 def _tiebreak(h, margin, fixed_mask, redundancy, max_gateways, reachable, is_open, proven, status, score,

@@ -395,3 +395,23 @@ def test_malformed_network_inputs_are_one_line_errors():
         siting_from_network(network_report(), min_margin_db=None)
     with pytest.raises(ProfilerError, match="--min-margin-db"):
         siting_from_network(network_report(), min_margin_db=float("nan"))
+
+
+def test_max_coverage_opens_no_useless_site():
+    # Site 0 hears both nodes; with K = 3 and no margins, sites 1 and 2 add nothing and stay closed.
+    hears = np.array([[1, 1], [1, 0], [0, 1]], dtype=bool)
+    sol = solve_siting(hears, max_gateways=3)
+    assert sol.chosen.tolist() == [0] and sol.objective == 2
+    # With margins, a second site that improves a node's best margin is worth opening.
+    margin = np.array([[10.0, 10.0], [15.0, np.nan], [np.nan, 9.0]])
+    sol2 = solve_siting(hears, max_gateways=3, margin_db=margin)
+    assert sorted(sol2.chosen.tolist()) == [0, 1] and sol2.margin_total_db == pytest.approx(25.0)
+
+
+def test_heard_by_order_without_margins_is_by_index():
+    # Site 2 hears the most nodes, so it comes first in `chosen`, but heard_by lists sites by index.
+    hears = np.array([[1, 0, 0, 0], [0, 1, 0, 0], [1, 1, 1, 1]], dtype=bool)
+    sol = solve_siting(hears, redundancy=2, max_gateways=3)
+    assert sol.chosen.tolist() == [2, 0, 1]
+    assert [a.tolist() for a in sol.heard_by] == [[0, 2], [1, 2], [2], [2]]   # heard once is listed too
+    assert sol.covered.tolist() == [True, True, False, False] and sol.unreachable.tolist() == [2, 3]
