@@ -478,17 +478,8 @@ def solve_siting(hears, *, cost=None, fixed=None, redundancy: int = 1, max_gatew
         total = _margin_total(h, margin, mask, covered) if mode == "max_coverage" else None
         return (-obj if mode == "min_cost" else obj, total or 0.0)
 
-    if not reachable.any():
-        is_open, proven, gap = fixed_mask, True, 0.0
-        status = f"nothing to solve: no node can be heard {redundancy} time(s) even with every site open"
-    elif mode == "min_cost":
-        x, res = _solve_min_cost(h, c, fixed_mask, redundancy, reachable, time_limit_s)
-        is_open, proven, gap, status = _settle(x, res, greedy_open, score, time_limit_s)
-    else:
-        x, res, spent = _solve_max_coverage(h, fixed_mask, redundancy, max_gateways, reachable, time_limit_s)
-        is_open, proven, gap, status = _settle(x, res, greedy_open, score, time_limit_s)
-        is_open, proven, status = _tiebreak(h, margin, fixed_mask, redundancy, max_gateways, reachable,
-                                            is_open, proven, status, score, time_limit_s - spent)
+    is_open, proven, gap, status = _solve_exact(h, c, fixed_mask, redundancy, max_gateways, margin, reachable,
+                                                greedy_open, score, time_limit_s)
     reference = score(is_open)
 
     def no_worse(mask):
@@ -505,6 +496,21 @@ def solve_siting(hears, *, cost=None, fixed=None, redundancy: int = 1, max_gatew
         unreachable=np.flatnonzero(~reachable), margin_total_db=_margin_total(h, margin, is_open, covered),
         greedy_chosen=_order_by_hearing(h, greedy_open),
         greedy_objective=_objective(h, c, greedy_open, redundancy, mode))
+
+
+def _solve_exact(h, c, fixed_mask, redundancy, max_gateways, margin, reachable, greedy_open, score, time_limit_s):
+    """Dispatch to the MILP of the mode; returns (open mask, proven, gap, status)."""
+    if not reachable.any():
+        status = f"nothing to solve: no node can be heard {redundancy} time(s) even with every site open"
+        return fixed_mask, True, 0.0, status
+    if max_gateways is None:
+        x, res = _solve_min_cost(h, c, fixed_mask, redundancy, reachable, time_limit_s)
+        return _settle(x, res, greedy_open, score, time_limit_s)
+    x, res, spent = _solve_max_coverage(h, fixed_mask, redundancy, max_gateways, reachable, time_limit_s)
+    is_open, proven, gap, status = _settle(x, res, greedy_open, score, time_limit_s)
+    is_open, proven, status = _tiebreak(h, margin, fixed_mask, redundancy, max_gateways, reachable,
+                                        is_open, proven, status, score, time_limit_s - spent)
+    return is_open, proven, gap, status
 
 
 def _prune(h, is_open, fixed_mask, acceptable):
