@@ -398,7 +398,8 @@ def _settle(x, res, greedy_open, score, time_limit_s):
     if x is None or score(greedy_open) > score(x):
         why = "no solution found" if x is None else "the greedy choice beats the best solution found"
         gap = _relative_gap(-score(greedy_open)[0], bound)
-        return greedy_open, False, gap, f"{limit}; {why}, the greedy choice is returned, not proven optimal"
+        return greedy_open, False, gap, (f"{limit}; {why}, the greedy choice (less any site that adds nothing) "
+                                         "is returned, not proven optimal")
     return x, False, _gap(res), f"{limit}; best solution found is returned, not proven optimal"
 
 
@@ -478,16 +479,19 @@ def solve_siting(hears, *, cost=None, fixed=None, redundancy: int = 1, max_gatew
         total = _margin_total(h, margin, mask, covered) if mode == "max_coverage" else None
         return (-obj if mode == "min_cost" else obj, total or 0.0)
 
+    def pruned(mask):
+        """``mask`` with the candidates closed that keep it feasible and score no less."""
+        reference = score(mask)
+
+        def no_worse(trial):
+            feasible = mode == "max_coverage" or bool(np.all((h[trial].sum(axis=0) >= redundancy)[reachable]))
+            return feasible and score(trial) >= reference
+
+        return _prune(h, mask, fixed_mask, no_worse)
+
     is_open, proven, gap, status = _solve_exact(h, c, fixed_mask, redundancy, max_gateways, margin, reachable,
-                                                greedy_open, score, time_limit_s)
-    reference = score(is_open)
-
-    def no_worse(mask):
-        """Feasible (every reachable node still heard R times, in the cost mode) and scores no less."""
-        feasible = mode == "max_coverage" or bool(np.all((h[mask].sum(axis=0) >= redundancy)[reachable]))
-        return feasible and score(mask) >= reference
-
-    is_open = _prune(h, is_open, fixed_mask, no_worse)
+                                                pruned(greedy_open), score, time_limit_s)
+    is_open = pruned(is_open)
     chosen = _order_by_hearing(h, is_open)
     covered = h[is_open].sum(axis=0) >= redundancy
     return SitingSolution(
