@@ -12,7 +12,7 @@ node, margin_db`` (uplink, node -> gateway, at ``recommended_dr``),
 A node is heard by a site when their link has no error, an allowed data
 rate closes (``recommended_dr`` not null) and ``margin_db >=
 min_margin_db``.  :func:`siting_from_network` builds the matrices, solves
-with :func:`profiler.siting.solve_siting` and returns the JSON report.
+with :func:`profiler.setcover.solve_siting` and returns the JSON report.
 
 References
 ----------
@@ -34,7 +34,7 @@ from . import CAUTION, __version__
 from .errors import ProfilerError
 from .exports import _position, _positions, split_at_antimeridian, wrap_longitude
 from .report import _fmt, inert_text
-from .siting import hearing_matrix, solve_siting
+from .setcover import hearing_matrix, solve_siting
 
 __all__ = ["SCHEMA", "MarginMatrix", "margin_matrix", "site_costs", "siting_from_network", "siting_report",
            "siting_csv_text", "siting_geojson_dict", "siting_geojson_text"]
@@ -93,10 +93,14 @@ def margin_matrix(network_report: dict) -> MarginMatrix:
     site_at = {name: k for k, name in enumerate(site_names)}
     node_at = {name: k for k, name in enumerate(node_names)}
     m, n = len(site_names), len(node_names)
+    # max_margin_db (the best uplink margin over the plan's allowed data rates) says whether any allowed
+    # rate reaches the required margin; without it, the margin at the recommended rate is used.
+    key = "max_margin_db" if links and "max_margin_db" in links[0] else "margin_db"
     try:
         rows = np.array([(site_at.get(lk.get("gateway"), -1), node_at.get(lk.get("node"), -1),
-                          np.nan if lk.get("margin_db") is None else lk["margin_db"],
-                          not lk.get("error"), lk.get("recommended_dr") is not None) for lk in links],
+                          np.nan if lk.get(key) is None else lk[key],
+                          not lk.get("error"), key == "max_margin_db" or lk.get("recommended_dr") is not None)
+                         for lk in links],
                         dtype=float).reshape(-1, 5)
     except (AttributeError, TypeError, ValueError) as exc:
         raise ProfilerError(f"the network report's links[] are malformed ({exc}): rerun the network engine") from exc
@@ -161,7 +165,7 @@ def siting_from_network(network_report: dict, *, min_margin_db: float, redundanc
         Least uplink margin for a node to count as heard [dB]; the command
         passes ``--min-margin-db`` or, by default, the fade margin.
     redundancy, max_gateways, time_limit_s
-        As in :func:`profiler.siting.solve_siting`.
+        As in :func:`profiler.setcover.solve_siting`.
     costs : dict, optional
         ``site name -> cost`` overriding the sites' ``cost`` fields.
     """

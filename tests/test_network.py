@@ -176,7 +176,7 @@ def test_sample_scenario_outputs(tmp_path):
 
 def test_dask_local_cluster_gives_identical_results(tmp_path):
     pytest.importorskip("distributed")
-    from profiler.network import network
+    from profiler.network_analysis import network
     from profiler.sites import read_sites_csv
 
     table = read_sites_csv(random_sites(tmp_path, 10))

@@ -19,7 +19,7 @@ import pytest
 
 from profiler import CAUTION
 from profiler.errors import ProfilerError
-from profiler.siting import greedy_siting, hearing_matrix, solve_siting
+from profiler.setcover import greedy_siting, hearing_matrix, solve_siting
 from profiler.siting_report import (margin_matrix, site_costs, siting_csv_text, siting_from_network,
                                     siting_geojson_dict, siting_geojson_text)
 

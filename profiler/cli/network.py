@@ -62,7 +62,7 @@ def network_command(dem_paths, sites_csv, pairs_csv, max_distance_km, step_m, fi
       profiler network --dem dem_samples --sites examples/vellmoor_network.csv --csv links.csv
     """
     from ..errors import ProfilerError
-    from ..network import network
+    from ..network_analysis import network
     from ..outputs import check_output_path
 
     for path, option, suffixes in ((json_path, "--json", None), (csv_path, "--csv", None),
