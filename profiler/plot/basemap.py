@@ -200,27 +200,30 @@ def place_furniture(ax, ext: MapExtent, points: np.ndarray, boxes=()) -> None:
         area = Bbox([[x0, y0], [x1, y1]])
         return points_in(points, area) + 50.0 * sum(overlap(area, b) for b in boxes)
 
+    height_in = ax.get_window_extent().height / ax.figure.dpi       # furniture keeps its size on a big map
     arrow_x = min((0.92, 0.08), key=lambda x: crowding(x - 0.06, 0.74, x + 0.06, 0.98))
-    north_arrow(ax, halo(), arrow_x)
+    north_arrow(ax, halo(), arrow_x, length=min(0.15, 0.38 / height_in))
     bar_right = crowding(0.02, 0.02, 0.5, 0.18) > crowding(0.5, 0.02, 0.98, 0.18)
-    scale_bar(ax, geod(), ext.west, ext.east, ext.south, ext.north, bar_right)
+    scale_bar(ax, geod(), ext.west, ext.east, ext.south, ext.north, bar_right,
+              height_frac=min(0.018, 0.045 / height_in))
     degree_ticks(ax, ext.west, ext.east, ext.south, ext.north)
 
 
-def north_arrow(ax, path_effects, x: float) -> None:
-    """North arrow at axes-fraction ``x`` (the map is drawn north up)."""
-    ax.annotate("", xy=(x, 0.95), xytext=(x, 0.80), xycoords="axes fraction", zorder=8,
+def north_arrow(ax, path_effects, x: float, length: float = 0.15) -> None:
+    """North arrow at axes-fraction ``x``, ``length`` axes fractions long (the map is drawn north up)."""
+    ax.annotate("", xy=(x, 0.95), xytext=(x, 0.95 - length), xycoords="axes fraction", zorder=8,
                 arrowprops=dict(arrowstyle="-|>,head_length=0.8,head_width=0.35", lw=1.4, color="black",
                                 shrinkA=0, shrinkB=0))
-    put_text(ax, x, 0.785, "N", transform=ax.transAxes, ha="center", va="top", fontsize=8,
+    put_text(ax, x, 0.935 - length, "N", transform=ax.transAxes, ha="center", va="top", fontsize=8,
              fontweight="bold", zorder=8, path_effects=path_effects)
 
 
-def scale_bar(ax, g, west, east, south, north, right: bool = False) -> None:
+def scale_bar(ax, g, west, east, south, north, right: bool = False, height_frac: float = 0.018) -> None:
     """Scale bar along the parallel in a lower corner; lengths from pyproj.Geod (WGS84).
 
     The bar is a 1-2-5 length about a third of the map's width, drawn as a
-    black and a white half; both halves carry the gid ``scale-bar``.
+    black and a white half, ``height_frac`` of the map's height; both
+    halves carry the gid ``scale-bar``.
     """
     from matplotlib.patches import Rectangle
 
@@ -232,7 +235,7 @@ def scale_bar(ax, g, west, east, south, north, right: bool = False) -> None:
     length_deg = (g.fwd(west, y0, 90.0, nice)[0] - west) % 360.0
     x0 = east - 0.12 * (east - west) - length_deg if right else west + 0.06 * (east - west)
     x1 = x0 + length_deg
-    h = 0.018 * (north - south)
+    h = height_frac * (north - south)
     xm = 0.5 * (x0 + x1)
     ax.add_patch(Rectangle((x0 - 0.02 * (east - west), y0 - 2.6 * h), (x1 - x0) + 0.09 * (east - west),
                            6.4 * h, fc="white", ec="none", alpha=0.8, zorder=7))

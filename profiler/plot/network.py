@@ -16,9 +16,11 @@ Link status (:func:`link_status`):
 * ``error``: the link could not be computed (``error`` is not null, or no
   margin): drawn thin, dotted and grey.
 
-The palette (dark blue, amber, vermilion, grey) keeps apart for the common
-colour-vision deficiencies; line width and dash pattern differ as well, so
-the statuses also read in greyscale.  Links are drawn as straight lines
+The palette (dark blue, amber, vermilion, grey) avoids red-green pairs and
+steps in lightness (relative luminance about 0.08, 0.42, 0.22 and 0.26
+by IEC 61966-2-1 / ITU-R BT.709); line width and dash pattern differ as
+well, so the statuses also read with a colour-vision deficiency and in
+greyscale.  Links are drawn as straight lines
 between the sites on the equirectangular map (one collection per status),
 and the relief is one rasterized image, so the sheet stays fast.
 """
@@ -40,9 +42,9 @@ STATUSES = ("closes", "marginal", "fails", "error")
 
 #: Line style of each status: colour, width [pt], dash pattern; drawn bottom to top in reverse order.
 STATUS_STYLE = {
-    "closes": {"color": "#1b5e9e", "lw": 2.0, "ls": "-"},
-    "marginal": {"color": "#e39b00", "lw": 1.7, "ls": (0, (6.0, 2.5))},
-    "fails": {"color": "#c23b22", "lw": 1.3, "ls": (0, (4.0, 1.8, 1.0, 1.8))},
+    "closes": {"color": "#1a4f8b", "lw": 2.0, "ls": "-"},
+    "marginal": {"color": "#e5a000", "lw": 1.7, "ls": (0, (6.0, 2.5))},
+    "fails": {"color": "#d35f1d", "lw": 1.3, "ls": (0, (4.0, 1.8, 1.0, 1.8))},
     "error": {"color": "0.55", "lw": 0.7, "ls": (0, (1.0, 1.6))},
 }
 
@@ -54,7 +56,7 @@ ROLE_STYLE = {
     "node_uncovered": {"marker": "o", "ms": 5.5, "mfc": "white", "mec": "black", "mew": 1.1},
 }
 HIGHLIGHT_STYLE = {"marker": "o", "ms": 15.0, "mfc": "none", "mec": "black", "mew": 2.0}
-MARKED_STYLE = {"marker": "x", "ms": 11.0, "mec": "#c23b22", "mew": 2.2}
+MARKED_STYLE = {"marker": "x", "ms": 11.0, "mec": "#d35f1d", "mew": 2.2}
 
 MAX_NODE_LABELS = 40      # at most this many node names on the map; gateways are always named
 
@@ -191,7 +193,7 @@ def _draw_header(ax, report: dict, renderer) -> None:
 # --------------------------------------------------------------------------- map
 def _draw_map(ax, report, sites, status, dem_paths, highlight, marked, renderer) -> None:
     """Relief, links, sites, labels, north arrow, scale bar and degree ticks."""
-    ext = basemap.map_extent(ax, sites["lon"], sites["lat"], margin_frac=0.08, min_margin_m=500.0)
+    ext = basemap.map_extent(ax, sites["lon"], sites["lat"], margin_frac=0.1, min_margin_m=500.0)
     basemap.prepare_map(ax, ext)
     caption = "no elevation model given: sites and links only"
     if dem_paths:
@@ -201,7 +203,7 @@ def _draw_map(ax, report, sites, status, dem_paths, highlight, marked, renderer)
     basemap.finish_map(ax, ext)
     label_boxes, omitted = _label_sites(ax, sites, highlight, marked, renderer)
     if omitted:
-        caption += f"  {MIDDOT}  {omitted} node names left out where crowded"
+        caption += f"  {MIDDOT}  {omitted} of {len(sites['name'])} site names left out (crowded)"
     ax.annotate(f"{caption}  {MIDDOT}  links drawn as straight lines between sites", xy=(0.5, 0.0),
                 xycoords="axes fraction", xytext=(0.0, -13.0), textcoords="offset points", ha="center", va="top",
                 fontsize=6.2, color="0.25", parse_math=False)
@@ -268,54 +270,69 @@ def _label_order(sites, highlight, marked) -> list[int]:
 def _label_sites(ax, sites, highlight, marked, renderer):
     """Name the sites where a label fits clear of markers and other labels (else abbreviated, else left out).
 
-    Returns the label boxes (axes fraction) and the number of sites left unnamed.
+    Returns the label boxes (axes fraction) and the number of sites left unnamed.  The labels sit
+    on a translucent white box rather than a stroked halo, so that they stay text in SVG and PDF.
     """
     from matplotlib.transforms import Bbox
 
     dpi = ax.figure.dpi
     xy = ax.transData.transform(np.column_stack([sites["lon"], sites["lat"]]))
     frame = ax.get_window_extent(renderer)
-    taken = [Bbox.from_extents(x - 4, y - 4, x + 4, y + 4) for x, y in xy]      # the markers
+    half = _marker_half_px(sites, highlight, marked, dpi)
+    taken = [Bbox.from_extents(x - r, y - r, x + r, y + r) for (x, y), r in zip(xy, half)]     # the markers
     placed, order = [], _label_order(sites, highlight, marked)
     for i in order:
         strong = sites["role"][i] != "node"
         size = 6.8 if strong else 5.8
-        spot = _free_spot(sites["label"][i], xy[i], taken, frame, renderer, size, strong, i)
+        spot = _free_spot(sites["label"][i], xy[i], half[i] + 2.0, taken, frame, renderer, size, strong)
         if spot is None:
             continue
-        text, (ox, oy), ha, va, box = spot
+        text, (ox, oy), ha, va, box, far = spot
+        leader = dict(arrowstyle="-", lw=0.5, color="0.2", shrinkA=0, shrinkB=3) if far else None
         ax.annotate(text, xy=(sites["lon"][i], sites["lat"][i]), xytext=(ox * 72.0 / dpi, oy * 72.0 / dpi),
                     textcoords="offset points", ha=ha, va=va, fontsize=size, zorder=8, parse_math=False,
-                    fontweight="bold" if strong else "normal", path_effects=basemap.halo(2.4))
+                    fontweight="bold" if strong else "normal", arrowprops=leader,
+                    bbox=dict(boxstyle="square,pad=0.12", fc="white", ec="none", alpha=0.72))
         taken.append(box)
         placed.append(box.transformed(ax.transAxes.inverted()))
     return placed, len(sites["name"]) - len(placed)
 
 
-def _free_spot(name, point, taken, frame, renderer, size, bold, own):
-    """The first of eight places around ``point`` [px] where the label overlaps nothing taken.
+def _marker_half_px(sites, highlight, marked, dpi) -> np.ndarray:
+    """Half the drawn size [px] of each site's largest marker (ring and cross included)."""
+    ms = np.select([sites["role"] == "gateway", sites["role"] == "candidate"],
+                   [ROLE_STYLE["gateway"]["ms"], ROLE_STYLE["candidate"]["ms"]], ROLE_STYLE["node"]["ms"])
+    names = np.array(sites["name"], dtype=object)
+    ms = np.where(np.isin(names, list(marked or ())), np.maximum(ms, MARKED_STYLE["ms"]), ms)
+    ms = np.where(np.isin(names, list(highlight or ())), np.maximum(ms, HIGHLIGHT_STYLE["ms"]), ms)
+    return 0.5 * ms * dpi / 72.0
+
+
+def _free_spot(name, point, gap, taken, frame, renderer, size, bold):
+    """The first of eight places around ``point`` [px], ``gap`` [px] out then farther, where the
+    label overlaps nothing taken (markers included).
 
     Tries the full name, then the name cut to 14 characters.  Returns
-    ``(text, (dx, dy) [px], ha, va, Bbox)`` or None.
+    ``(text, (dx, dy) [px], ha, va, Bbox, far)`` or None; a far label gets a leader line.
     """
     from matplotlib.transforms import Bbox
 
-    dpi = renderer.dpi
-    h = size * 1.25 / 72.0 * dpi
-    gap = 6.0
+    h = size * 1.25 / 72.0 * renderer.dpi
     for text in dict.fromkeys((name, abbreviate(name, 14))):
-        w = text_width_in(renderer, text, size, bold) * dpi
-        for ox, oy in ((1, 0), (-1, 0), (0, 1), (0, -1), (1, 1), (-1, 1), (1, -1), (-1, -1)):
-            x0 = point[0] + (gap if ox > 0 else (-gap - w if ox < 0 else -w / 2))
-            y0 = point[1] + (gap * 0.6 if oy > 0 else (-gap * 0.6 - h if oy < 0 else -h / 2))
-            box = Bbox.from_extents(x0, y0, x0 + w, y0 + h)
-            if box.x0 < frame.x0 + 2 or box.x1 > frame.x1 - 2 or box.y0 < frame.y0 + 2 or box.y1 > frame.y1 - 2:
-                continue
-            if any(j != own and basemap.overlap(box, other) > 0 for j, other in enumerate(taken)):
-                continue
-            ha = "left" if ox > 0 else ("right" if ox < 0 else "center")
-            va = "bottom" if oy > 0 else ("top" if oy < 0 else "center")
-            return text, (ox * gap, oy * gap * 0.6), ha, va, box
+        w = text_width_in(renderer, text, size, bold) * renderer.dpi
+        for far, out in ((False, gap), (True, gap + 10.0)):
+            for ox, oy in ((1, 0), (-1, 0), (0, 1), (0, -1), (1, 1), (-1, 1), (1, -1), (-1, -1)):
+                dx, dy = ox * out, oy * (out if ox == 0 else 0.6 * out)
+                x0 = point[0] + dx - (0.0 if ox > 0 else (w if ox < 0 else w / 2))
+                y0 = point[1] + dy - (0.0 if oy > 0 else (h if oy < 0 else h / 2))
+                box = Bbox.from_extents(x0 - 1, y0 - 1, x0 + w + 1, y0 + h + 1)
+                if box.x0 < frame.x0 + 2 or box.x1 > frame.x1 - 2 or box.y0 < frame.y0 + 2 or box.y1 > frame.y1 - 2:
+                    continue
+                if any(basemap.overlap(box, other) > 0 for other in taken):
+                    continue
+                ha = "left" if ox > 0 else ("right" if ox < 0 else "center")
+                va = "bottom" if oy > 0 else ("top" if oy < 0 else "center")
+                return text, (dx, dy), ha, va, box, far
     return None
 
 
@@ -323,7 +340,7 @@ def _free_spot(name, point, taken, frame, renderer, size, bold, own):
 def _draw_side(fig, box, width_in, height_in, report, sites, status, renderer, highlight, marked) -> None:
     """Legend, summary table, radio settings and the nodes not covered, top to bottom."""
     left, bottom, w, h = box
-    legend_h = 1.95 + 0.16 * (bool(highlight) + bool(marked))
+    legend_h = 1.5 + 0.16 * (bool(highlight) + bool(marked))
     legend_ax = inch_axes(fig, (left, bottom + h - legend_h, w, legend_h), width_in, height_in)
     _draw_legend(legend_ax, report, status, highlight, marked)
     table_h = 1.85
