@@ -118,7 +118,7 @@ def _layout(width_in: float, height_in: float) -> dict:
 
 # --------------------------------------------------------------------------- header
 def _verdict_style(report: dict) -> dict:
-    closes = report["budget"]["closes"]
+    closes = report["budget"]["closes"] and (report.get("budget_downlink") or report["budget"])["closes"]
     if report["fresnel_clear"] and closes:
         return BADGE_GOOD
     if closes:
@@ -241,7 +241,9 @@ def _label_sites(ax, report: dict, lon, lat, ext, points, renderer) -> list:
 # --------------------------------------------------------------------------- results table
 def _results_blocks(report: dict) -> list[tuple[str, list[str] | None, list[tuple]]]:
     """The three tables of the results band: sites, path and clearance, link budget."""
-    return [("Sites", ["", "Site A (TX)", "Site B"], _site_rows(report)),
+    gw = report.get("gateway", "a")
+    roles = ("gateway", "node") if gw == "a" else ("node", "gateway")
+    return [("Sites", ["", f"Site A ({roles[0]})", f"Site B ({roles[1]})"], _site_rows(report)),
             ("Path and clearance", None, _path_rows(report)),
             ("Link budget", None, _budget_rows(report))]
 
@@ -296,22 +298,35 @@ def _path_rows(report: dict) -> list[tuple]:
     ]
 
 
+def _rate(bud: dict) -> str:
+    """``DR5 SF7/125`` (``SF7/125`` without a plan); empty without a LoRa rate (a given sensitivity)."""
+    if bud.get("sf") is None:
+        return ""
+    rate = f"SF{bud['sf']}/{bud['bw_khz']:g}"
+    return rate if bud.get("dr") is None else f"DR{bud['dr']} {rate}"
+
+
 def _budget_rows(report: dict) -> list[tuple]:
-    loss, bud, lora = report["loss_db"], report["budget"], report.get("lora") or {}
+    loss, up = report["loss_db"], report["budget"]
+    down = report.get("budget_downlink") or up
+    comp = report.get("compliance") or {}
     other = (loss.get("extra") or 0.0) + (loss.get("polarization") or 0.0)
-    closing = lora.get("lowest_closing_sf")
+    if comp.get("max_eirp_dbm") is None:
+        limit = "not checked (no plan)"
+    else:
+        limit = f"{num(comp['max_eirp_dbm'], 'g', ' dBm')}: " + ("met" if comp.get("eirp_ok") else "EXCEEDED")
     return [
         ("Diffraction method", clean(loss.get("diffraction_method") or DASH)),
         ("Free-space loss", num(loss.get("free_space"), ".1f", " dB")),
         ("Diffraction loss", num(loss.get("diffraction"), ".1f", " dB")),
         ("Other losses", num(other, ".1f", " dB")),
         ("Total path loss", num(loss.get("total"), ".1f", " dB")),
-        ("TX power / EIRP", f"{num(bud.get('tx_power_dbm'), '.1f')} / {num(bud.get('eirp_dbm'), '.1f', ' dBm')}"),
-        ("Received level", num(bud.get("rx_power_dbm"), ".1f", " dBm")),
-        (f"Sensitivity (SF{bud.get('sf')})", num(bud.get("sensitivity_dbm"), ".1f", " dBm")),
-        ("Margin (required)", f"{num(bud.get('margin_db'), '+.1f', ' dB')} "
-         f"(\u2265 {num(bud.get('fade_margin_required_db'), '.1f')})"),
-        ("Lowest closing SF", f"SF{closing}" if closing is not None else "none"),
-        ("Link closes", "yes" if bud.get("closes") else "NO"),
+        ("EIRP node / gateway", f"{num(up.get('eirp_dbm'), '.1f')} / {num(down.get('eirp_dbm'), '.1f', ' dBm')}"),
+        ("EIRP limit", limit),
+        ("Margin up / down", f"{num(up.get('margin_db'), '+.1f')} / {num(down.get('margin_db'), '+.1f', ' dB')}"),
+        *([("Data rate up", f"{_rate(up)} kHz"), ("Data rate down", f"{_rate(down)} kHz")]
+          if up.get("sf") is not None else []),
+        ("Margin required", f"\u2265 {num(up.get('fade_margin_required_db'), '.1f', ' dB')}"),
+        ("Link closes", f"up {'yes' if up.get('closes') else 'NO'} / down {'yes' if down.get('closes') else 'NO'}"),
     ]
 
