@@ -172,9 +172,12 @@ def _layout(width_in: float, height_in: float) -> dict:
 
 
 def _title(report: dict) -> str:
-    gateways = [clean(s.get("name") or "") for s in (report.get("sites") or [])
-                if s.get("role") in ("gateway", "candidate")]
-    return ", ".join(gateways) if gateways else "no gateway"
+    sites = report.get("sites") or []
+    gateways = [clean(s.get("name") or "") for s in sites if s.get("role") in ("gateway", "candidate")]
+    nodes = sum(1 for s in sites if s.get("role") not in ("gateway", "candidate"))
+    if len(gateways) == 1:
+        return f"{gateways[0]} and {nodes} nodes"
+    return f"{len(gateways)} gateway sites and {nodes} nodes" if gateways else "no gateway"
 
 
 def _draw_header(ax, report: dict, renderer) -> None:
