@@ -119,36 +119,69 @@ def compute_links(model, settings: NetworkSettings, lat_gw, lon_gw, mast_gw, lat
 
 
 def _fill_results(out, rows, s, d, terrain, n, h_a, h_b, lam, ae, settings, overrides):
+    sub = None if overrides is None else {role: {k: v[rows] for k, v in o.items()} for role, o in overrides.items()}
+    res = link_fields(d, terrain, n, h_a, h_b, settings, sub, wavelength=lam, effective_radius=ae)
+    out["distance_m"][rows] = s.length_m[rows]
+    out["azimuth_deg"][rows] = s.azimuth_a_to_b_deg[rows]
+    for key in ("worst_fresnel_ratio", "worst_distance_m", "line_of_sight", "fresnel_clear", "diffraction_db",
+                "total_loss_db", "margin_db", "downlink_margin_db", "closes", "downlink_closes", "recommended_dr",
+                "max_margin_db"):
+        out[key][rows] = res[key]
+
+
+def link_fields(d, terrain, n, h_a, h_b, settings: NetworkSettings, overrides=None, *, wavelength=None,
+                effective_radius=None) -> dict:
+    """Geometry, losses and both budgets of a batch of sampled links (the engine, no sampling).
+
+    Parameters
+    ----------
+    d, terrain : ndarray, shape (L, N)
+        Padded profiles (distance from the gateway [m], terrain [m AMSL]).
+    n : ndarray of int, shape (L,)
+        Samples per link (at least 3).
+    h_a, h_b : ndarray, shape (L,)
+        Gateway and node antenna heights [m AMSL].
+    settings : NetworkSettings
+        Band, k, clearance and radio settings.
+    overrides : dict, optional
+        Per-link end values, see :func:`profiler.radio.resolve_ends`.
+    wavelength, effective_radius : float, optional
+        Wavelength and effective Earth radius [m] (default: from ``settings``).
+
+    Returns
+    -------
+    dict of ndarray, shape (L,)
+        ``worst_fresnel_ratio``, ``worst_distance_m``, ``line_of_sight``,
+        ``fresnel_clear``, ``diffraction_db``, ``total_loss_db``,
+        ``rx_level_dbm`` (uplink, at the gateway), ``margin_db``,
+        ``downlink_margin_db``, ``closes``, ``downlink_closes``,
+        ``recommended_dr`` (-1: none), ``max_margin_db``.
+    """
     from .engine import geometry_batch
 
     radio = settings.radio
+    lam = float(wavelength_m(settings.frequency_mhz)) if wavelength is None else wavelength
+    ae = float(geometry.effective_radius_m(settings.k_factor)) if effective_radius is None else effective_radius
     plan = regional_plan(settings.band) if settings.band is not None else None
     g = geometry_batch(d, terrain, n, h_a, h_b, lam, ae, settings.clearance_ratio)
-    sub = None if overrides is None else {role: {k: v[rows] for k, v in o.items()} for role, o in overrides.items()}
-    rb = radio_batch(d, terrain, n, h_a, h_b, settings.frequency_mhz, ae, radio, plan, sub)
+    rb = radio_batch(d, terrain, n, h_a, h_b, settings.frequency_mhz, ae, radio, plan, overrides)
     fade = radio.fade_margin_db
     up, down = rb["uplink"], rb["downlink"]
     margin_up = up["rx_power_dbm"] - up["budget_sensitivity_dbm"]
     margin_down = down["rx_power_dbm"] - down["budget_sensitivity_dbm"]
-    out["distance_m"][rows] = s.length_m[rows]
-    out["azimuth_deg"][rows] = s.azimuth_a_to_b_deg[rows]
-    out["worst_fresnel_ratio"][rows] = g.worst_ratio
-    out["worst_distance_m"][rows] = g.worst_distance_m
-    out["line_of_sight"][rows] = g.line_of_sight
-    out["fresnel_clear"][rows] = g.fresnel_clear
     loss = rb["losses"][settings.frequency_mhz]
-    out["diffraction_db"][rows] = loss["diffraction"]
-    out["total_loss_db"][rows] = loss["total"]
-    out["margin_db"][rows] = margin_up
-    out["downlink_margin_db"][rows] = margin_down
-    out["closes"][rows] = margin_up >= fade
-    out["downlink_closes"][rows] = margin_down >= fade
+    out = {"worst_fresnel_ratio": g.worst_ratio, "worst_distance_m": g.worst_distance_m,
+           "line_of_sight": g.line_of_sight, "fresnel_clear": g.fresnel_clear, "diffraction_db": loss["diffraction"],
+           "total_loss_db": loss["total"], "rx_level_dbm": up["rx_power_dbm"], "margin_db": margin_up,
+           "downlink_margin_db": margin_down, "closes": margin_up >= fade, "downlink_closes": margin_down >= fade}
     if "recommended" in up:
-        out["recommended_dr"][rows] = np.where(up["recommended"] >= 0, up["dr"], -1)
+        out["recommended_dr"] = np.where(up["recommended"] >= 0, up["dr"], -1)
         allowed = up["rules"]["allowed"]
-        out["max_margin_db"][rows] = np.max(np.where(allowed, up["margin_db"], -np.inf), axis=1)
+        out["max_margin_db"] = np.max(np.where(allowed, up["margin_db"], -np.inf), axis=1)
     else:
-        out["max_margin_db"][rows] = margin_up
+        out["recommended_dr"] = np.full(margin_up.shape, -1)
+        out["max_margin_db"] = margin_up
+    return out
 
 
 def _chunk_job(idx, *, settings, sites_arrays, model=None):
