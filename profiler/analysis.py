@@ -12,7 +12,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from . import __version__, budget, diffraction, geometry
+from . import __version__, budget, diffraction, geometry, limits
 from .bands import NEAR_FIELD_RULE_OF_THUMB_M, NEAR_FIELD_WAVELENGTHS, wavelength_m
 from .errors import ProfilerError
 from .terrain import TerrainProfile
@@ -49,6 +49,7 @@ class RadioSettings:
 
     def validate(self) -> "RadioSettings":
         """Check the settings; raise :class:`ProfilerError` on the first problem."""
+        limits.check_fields(self)  # physical ranges of every field with an option in limits.LIMITS
         for name in ("tx_power_dbm", "gain_a_dbi", "gain_b_dbi", "cable_loss_a_db", "cable_loss_b_db",
                      "fade_margin_db", "noise_figure_db", "extra_loss_db", "sea_fraction"):
             value = getattr(self, name)
@@ -225,6 +226,8 @@ def analyze_link(profile: TerrainProfile, *, mast_a_m: float = 10.0, mast_b_m: f
     if not (math.isfinite(frequency_mhz) and frequency_mhz > 0):
         raise ProfilerError(f"frequency must be a positive number of MHz, got {frequency_mhz}")
     k = geometry.parse_k_factor(k_factor)
+    limits.check_values({"--mast-a": mast_a, "--mast-b": mast_b, "--freq-mhz": frequency_mhz, "--k": k,
+                         "--clearance-ratio": clearance_ratio_required})
     if not (math.isfinite(clearance_ratio_required) and clearance_ratio_required >= 0):
         raise ProfilerError(f"--clearance-ratio must be 0 or more, got {clearance_ratio_required}")
 

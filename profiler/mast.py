@@ -47,7 +47,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from . import CAUTION, __version__, geometry
+from . import CAUTION, __version__, geometry, limits
 from .analysis import RadioSettings, radio_results
 from .bands import wavelength_m as _wavelength_m
 from .errors import ProfilerError
@@ -429,6 +429,9 @@ def solve_mast(profile: TerrainProfile, *, frequency_mhz: float, solve: str = "b
         raise ProfilerError("no criterion left: with --no-clearance give --min-margin-db")
     k = geometry.parse_k_factor(k_factor)
     k_low = geometry.parse_k_factor(low_k_factor)
+    limits.check_values({"--freq-mhz": frequency_mhz, "--mast-a": m_a0, "--mast-b": m_b0, "--max-mast-m": max_mast_m,
+                         "--mast-step-m": mast_step_m, "--clearance-ratio": ratio, "--low-k-clearance": ratio_low,
+                         "--min-margin-db": min_margin_db, "--k": k, "--low-k": k_low})
 
     d = np.asarray(profile.distance_m, dtype=float)
     terrain = np.asarray(profile.terrain_m, dtype=float)

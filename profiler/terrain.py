@@ -9,17 +9,21 @@ coordinates and provenance when they are known.
 from __future__ import annotations
 
 import csv
-import math
 from dataclasses import dataclass, field
 from pathlib import Path
 
 import numpy as np
 
 from .errors import ProfilerError
+from .limits import MAX_PROFILE_SAMPLES, check, check_array
 from .path import geodesic_path, validate_lat_lon
 
-MAX_SAMPLES = 500_000
-"""Upper bound on profile samples; a finer step is refused with a hint."""
+MAX_SAMPLES = MAX_PROFILE_SAMPLES
+"""Upper bound on profile samples; a finer step is refused with a hint (see :mod:`profiler.limits`)."""
+
+
+MIN_SURVEY_SPACING_M = 0.01
+"""Closest allowed spacing of surveyed profile rows [m] (the smallest --step-m)."""
 
 
 @dataclass(frozen=True)
@@ -101,12 +105,9 @@ def profile_from_dem(model, lat_a_deg: float, lon_a_deg: float, lat_b_deg: float
         coarse = geodesic_path(lat_a, lon_a, lat_b, lon_b, step_m=max(1.0, _coarse_step(lat_a, lon_a, lat_b, lon_b)))
         covered = model.covers(coarse.lon_deg, coarse.lat_deg)
         step_m = float(model.pixel_size_m(coarse.lon_deg[covered], coarse.lat_deg[covered]))
-    elif not (math.isfinite(step_m) and step_m > 0):
-        raise ProfilerError(f"--step-m must be a positive number of metres, got {step_m}")
-    path = geodesic_path(lat_a, lon_a, lat_b, lon_b, step_m)
-    if path.distance_m.size > MAX_SAMPLES:
-        raise ProfilerError(
-            f"the path would need {path.distance_m.size} samples at {step_m:g} m; give a coarser --step-m")
+    else:
+        step_m = check("--step-m", step_m)
+    path = geodesic_path(lat_a, lon_a, lat_b, lon_b, step_m)  # refuses more than MAX_SAMPLES samples
     covered = model.covers(path.lon_deg, path.lat_deg)
     if not covered.all():
         i = int(np.argmin(covered))
@@ -124,6 +125,9 @@ def profile_from_dem(model, lat_a_deg: float, lon_a_deg: float, lat_b_deg: float
                 f"{_describe_point(path.distance_m[i], path.lat_deg[i], path.lon_deg[i])}; "
                 "use --fill-voids to interpolate across it or add better data")
         terrain, n_filled = fill_voids_along_profile(path.distance_m, terrain)
+    # An undeclared void value (e.g. -3.4e38) is refused here, not computed with.
+    check_array("terrain", terrain, lambda i: "the elevation data's height "
+                + _describe_point(path.distance_m[i], path.lat_deg[i], path.lon_deg[i]))
     sources = [
         {"path": s.path, "sha256": s.sha256, "crs": s.crs, "resolution": list(s.resolution)}
         for s in model.sources_used(path.lon_deg, path.lat_deg)
@@ -169,6 +173,8 @@ def read_profile_csv(path) -> TerrainProfile:
     body = rows[1:]
     if len(body) < 3:
         raise ProfilerError(f"profile file {p} has {len(body)} data rows; at least 3 are needed")
+    if len(body) > MAX_SAMPLES:
+        raise ProfilerError(f"profile file {p} has {len(body)} data rows; at most {MAX_SAMPLES} are allowed")
     try:
         d = np.array([float(r[i_d]) for r in body], dtype=float)
         h = np.array([float(r[i_h]) for r in body], dtype=float)
@@ -178,11 +184,17 @@ def read_profile_csv(path) -> TerrainProfile:
     if not np.all(np.isfinite(d)) or not np.all(np.isfinite(h)):
         bad = int(np.argmax(~(np.isfinite(d) & np.isfinite(h)))) + 2
         raise ProfilerError(f"profile file {p} line {bad}: distance and elevation must be finite numbers (no NaN)")
+    check_array("terrain", h, lambda i: f"profile file {p} line {i + 2}: elevation_m")
+    check_array("distance", np.abs(d - d[0]), lambda i: f"profile file {p} line {i + 2}: distance_m (from the first row)")
     steps = np.diff(d)
     if np.any(steps <= 0):
         bad = int(np.argmax(steps <= 0)) + 3
         kind = "duplicate" if steps[bad - 3] == 0 else "decreasing"
         raise ProfilerError(f"profile file {p} line {bad}: {kind} distance; distances must strictly increase from site A to site B")
+    if np.any(steps < MIN_SURVEY_SPACING_M):
+        bad = int(np.argmax(steps < MIN_SURVEY_SPACING_M)) + 3
+        raise ProfilerError(f"profile file {p} line {bad}: rows only {steps[bad - 3]:.3g} m apart; "
+                            f"rows must be at least {MIN_SURVEY_SPACING_M:g} m apart")
     d = d - d[0]
     source = {"path": str(p), "sha256": hashlib.sha256(raw).hexdigest(), "crs": None, "resolution": None}
     return TerrainProfile(distance_m=d, terrain_m=h, sources=[source], kind="surveyed")

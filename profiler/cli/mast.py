@@ -5,7 +5,7 @@ from __future__ import annotations
 import click
 
 from ..errors import ProfilerError
-from .options import (NUMBER, POSITIVE, clearance_ratio_option, frequency_options, k_option, plot_options, radio_options, radio_settings,
+from .options import (NUMBER, POSITIVE, KFactor, clearance_ratio_option, frequency_options, k_option, plot_options, radio_options, radio_settings,
                       site_options, terrain_options)
 
 """Landscape paper sizes [inch]."""
@@ -23,9 +23,9 @@ class InfeasibleMast(ProfilerError):
 @k_option
 @frequency_options
 @clearance_ratio_option("Required clearance as a fraction of the first Fresnel radius at --k.")
-@click.option("--low-k", "low_k_text", default="2/3", show_default=True,
+@click.option("--low-k", "low_k_text", type=KFactor(), default="2/3", show_default=True,
               help="Low effective-Earth-radius factor for the second clearance criterion.")
-@click.option("--low-k-clearance", "low_k_clearance", type=click.FloatRange(0.0, 10.0), default=0.0,
+@click.option("--low-k-clearance", "low_k_clearance", type=NUMBER, default=0.0,
               show_default=True, help="Required clearance as a fraction of F1 at --low-k.")
 @click.option("--no-low-k", is_flag=True, help="Drop the low-k clearance criterion.")
 @click.option("--no-clearance", is_flag=True,
