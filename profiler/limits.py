@@ -91,7 +91,7 @@ LIMITS: dict[str, Limit] = {
     "--noise-figure-b-db": Limit(0.0, 30.0, "dB", "receiver noise figure at B"),
     "--sf": Limit(7, 12, "", "LoRa spreading factor", integer=True),
     # LoRa PHY payload length is one byte (Semtech SX1276 datasheet, section 4.1.1.6): at most 255.
-    "--payload-bytes": Limit(0, 255, "bytes", "LoRa PHY payload", integer=True),
+    "--payload-bytes": Limit(1, 255, "bytes", "LoRa PHY payload", integer=True),
     "--app-payload-bytes": Limit(0, 255, "bytes", "application payload", integer=True),
     "--sea-fraction": Limit(0.0, 1.0, "", "fraction of the path over sea"),
     "--extra-loss-db": Limit(0.0, 300.0, "dB", "fixed extra loss"),
