@@ -108,7 +108,7 @@ MAX_PROFILE_SAMPLES = 500_000
 
 
 def _number_text(x) -> str:
-    if isinstance(x, float) and x.is_integer() and abs(x) < 1e7:
+    if isinstance(x, float) and x.is_integer() and abs(x) < 1e9:
         return str(int(x))
     return f"{x:g}" if isinstance(x, float) else str(x)
 

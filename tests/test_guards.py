@@ -231,3 +231,13 @@ def test_regional_model_refuses_with_a_true_message(write_dem):
     assert result.exit_code == 2
     assert "site A (49.50000, 180.00000) is outside the elevation data; coverage: lon 10.0000 to 11.0000" \
         in result.stderr
+
+
+def test_readme_ranges_table_matches_the_limits_table():
+    import re
+
+    readme = (Path(__file__).resolve().parents[1] / "README.md").read_text(encoding="utf-8")
+    section = readme.split("## Exit codes and the output promise", 1)[1].split("\n## ", 1)[0]
+    rows = dict(re.findall(r"^\| `(--[a-z0-9-]+)` \| ([^|]+?) \|", section, flags=re.M))
+    assert len(rows) >= 25
+    assert {opt: limits.range_text(opt) for opt in rows} == rows
