@@ -236,11 +236,15 @@ def write_outputs(outputs: Sequence, report=None) -> None:
 
 def _print_bytes(data: bytes) -> None:
     """Write bytes to standard output (UTF-8 text whatever the terminal's encoding)."""
-    sys.stdout.flush()
-    buffer = getattr(sys.stdout, "buffer", None)
-    if buffer is not None:
-        buffer.write(data)
-        buffer.flush()
-    else:  # a text-only stream (some test harnesses)
-        sys.stdout.write(data.decode("utf-8", errors="replace"))
+    try:
         sys.stdout.flush()
+        buffer = getattr(sys.stdout, "buffer", None)
+        if buffer is not None:
+            buffer.write(data)
+            buffer.flush()
+        else:  # a text-only stream (some test harnesses)
+            sys.stdout.write(data.decode("utf-8", errors="replace"))
+            sys.stdout.flush()
+    except BrokenPipeError:  # the reader stopped early (`| head`): not an error of this run
+        with contextlib.suppress(OSError):
+            os.dup2(os.open(os.devnull, os.O_WRONLY), sys.stdout.fileno())
