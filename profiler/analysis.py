@@ -2,7 +2,7 @@
 
 :func:`analyze_link` is the one Python call behind ``profiler link``.  It
 returns a :class:`LinkResult` whose :meth:`LinkResult.to_dict` is exactly the
-JSON report (schema ``profiler.link/2``).
+JSON report (schema ``profiler.link/3``).
 """
 
 from __future__ import annotations
@@ -12,65 +12,15 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from . import __version__, budget, diffraction, geometry, limits
+from . import __version__, diffraction, geometry, limits
 from .bands import NEAR_FIELD_RULE_OF_THUMB_M, NEAR_FIELD_WAVELENGTHS, wavelength_m
 from .errors import ProfilerError
+from .radio import slant_distance_m as radio_slant
+from .radio import DIFFRACTION_METHODS, RadioSettings, check_separation, diffraction_losses, radio_results  # noqa: F401
+from .regional import plan as regional_plan
 from .terrain import TerrainProfile
 
-SCHEMA = "profiler.link/2"
-DIFFRACTION_METHODS = ("delta-bullington", "bullington", "knife-edge", "none")
-
-
-@dataclass(frozen=True)
-class RadioSettings:
-    """Radio, antenna and modem settings for the link budget.
-
-    All powers in dBm, gains in dBi, losses and margins in dB.  Site A is
-    the transmitter; path loss is reciprocal, so the margin holds for the
-    reverse direction when both ends use the same power and sensitivity.
-    """
-
-    tx_power_dbm: float = 14.0
-    gain_a_dbi: float = 2.15
-    gain_b_dbi: float = 2.15
-    cable_loss_a_db: float = 0.0
-    cable_loss_b_db: float = 0.0
-    fade_margin_db: float = 10.0
-    sensitivity_dbm: float | None = None
-    bw_khz: float = 125.0
-    noise_figure_db: float = 6.0
-    sf: int | None = None
-    payload_bytes: int = 12
-    polarization_a: str = "vertical"
-    polarization_b: str = "vertical"
-    sea_fraction: float = 0.0
-    diffraction_method: str = "delta-bullington"
-    extra_loss_db: float = 0.0
-
-    def validate(self) -> "RadioSettings":
-        """Check the settings; raise :class:`ProfilerError` on the first problem."""
-        limits.check_fields(self)  # physical ranges of every field with an option in limits.LIMITS
-        for name in ("tx_power_dbm", "gain_a_dbi", "gain_b_dbi", "cable_loss_a_db", "cable_loss_b_db",
-                     "fade_margin_db", "noise_figure_db", "extra_loss_db", "sea_fraction"):
-            value = getattr(self, name)
-            if not math.isfinite(float(value)):
-                raise ProfilerError(f"--{name.replace('_', '-')} must be a finite number, got {value}")
-        for name in ("cable_loss_a_db", "cable_loss_b_db", "extra_loss_db"):
-            if getattr(self, name) < 0:
-                raise ProfilerError(f"--{name.replace('_', '-')} must not be negative, got {getattr(self, name)}")
-        if not 0.0 <= self.sea_fraction <= 1.0:
-            raise ProfilerError(f"--sea-fraction must be between 0 and 1, got {self.sea_fraction}")
-        if self.diffraction_method not in DIFFRACTION_METHODS:
-            raise ProfilerError(f"unknown diffraction method {self.diffraction_method!r}; use one of {', '.join(DIFFRACTION_METHODS)}")
-        if self.sensitivity_dbm is not None and not math.isfinite(self.sensitivity_dbm):
-            raise ProfilerError("--sensitivity-dbm must be a finite number")
-        if self.sf is not None:
-            budget.lora_sensitivity_dbm(self.sf, self.bw_khz, self.noise_figure_db)
-        budget.lora_sensitivity_dbm(12, self.bw_khz, self.noise_figure_db)
-        budget.lora_time_on_air_ms(12, self.bw_khz, self.payload_bytes)
-        budget.polarization_angle_deg(self.polarization_a)
-        budget.polarization_angle_deg(self.polarization_b)
-        return self
+SCHEMA = "profiler.link/3"
 
 
 @dataclass(frozen=True)
@@ -100,8 +50,12 @@ class LinkResult:
     clearance_ratio_required: float
     loss_db: dict
     budget: dict
-    lora: dict
+    lora: dict | None
     dem: dict
+    budget_downlink: dict = field(default_factory=dict)
+    compliance: dict = field(default_factory=dict)
+    gateway: str = "a"
+    slant_distance_m: float | None = None
     warnings: list = field(default_factory=list)
     tool_version: str = __version__
     schema: str = SCHEMA
@@ -120,6 +74,8 @@ class LinkResult:
             "k_factor": _num(self.k_factor),
             "effective_radius_m": _num(self.effective_radius_m),
             "distance_m": _num(self.distance_m),
+            "slant_distance_m": _num(self.slant_distance_m),
+            "gateway": self.gateway,
             "azimuth_a_to_b_deg": _num(self.azimuth_a_to_b_deg),
             "azimuth_b_to_a_deg": _num(self.azimuth_b_to_a_deg),
             "elevation_angle_a_deg": _num(self.elevation_angle_a_deg),
@@ -131,7 +87,9 @@ class LinkResult:
             "clearance_ratio_required": _num(self.clearance_ratio_required),
             "loss_db": _clean(self.loss_db),
             "budget": _clean(self.budget),
+            "budget_downlink": _clean(self.budget_downlink),
             "lora": _clean(self.lora),
+            "compliance": _clean(self.compliance),
             "dem": _clean(self.dem),
             "warnings": list(self.warnings),
         }
@@ -268,17 +226,21 @@ def analyze_link(profile: TerrainProfile, *, mast_a_m: float = 10.0, mast_b_m: f
     angle_a = float(geometry.elevation_angle_deg(h_a, h_b, total, ae))
     angle_b = float(geometry.elevation_angle_deg(h_b, h_a, total, ae))
 
-    loss, budget_dict, lora = radio_results(d, terrain, h_a, h_b, frequency_mhz, ae, radio)
+    plan = regional_plan(band) if band is not None else None
+    slant = float(radio_slant(total, h_a, h_b))
+    check_separation(slant, lam)
+    rr = radio_results(d, terrain, h_a, h_b, frequency_mhz, ae, radio, plan)
 
-    warnings = []
+    warnings = list(rr["warnings"])
     near_field_m = max(NEAR_FIELD_WAVELENGTHS * lam, NEAR_FIELD_RULE_OF_THUMB_M)
-    if total < near_field_m:
+    if slant < near_field_m:
         warnings.append(
-            f"the antennas are {total:.2f} m apart, closer than {NEAR_FIELD_WAVELENGTHS:g} wavelengths "
+            f"the antennas are {slant:.2f} m apart, closer than {NEAR_FIELD_WAVELENGTHS:g} wavelengths "
             f"({NEAR_FIELD_WAVELENGTHS * lam:.2f} m) or the {NEAR_FIELD_RULE_OF_THUMB_M:g} m rule of thumb: "
             "near-field coupling makes these results unreliable")
     if profile.voids_filled:
         warnings.append(f"{profile.voids_filled} profile samples were interpolated across elevation voids")
+    loss = rr["loss_db"]
     if radio.polarization_a != radio.polarization_b and loss["polarization"] > 0:
         warnings.append(f"antenna polarizations differ: {loss['polarization']:.1f} dB mismatch loss included")
 
@@ -300,97 +262,8 @@ def analyze_link(profile: TerrainProfile, *, mast_a_m: float = 10.0, mast_b_m: f
                  "fresnel_radius_m": f1, "clearance_m": clearance},
         worst=worst, line_of_sight=line_of_sight, fresnel_clear=fresnel_clear,
         clearance_ratio_required=float(clearance_ratio_required),
-        loss_db=loss, budget=budget_dict, lora=lora,
+        loss_db=loss, budget=rr["budget"], lora=rr["lora"], budget_downlink=rr["budget_downlink"],
+        compliance=rr["compliance"], gateway=radio.gateway, slant_distance_m=rr["slant_distance_m"],
         dem={"kind": profile.kind, "sources": list(profile.sources), "voids_filled": int(profile.voids_filled)},
         warnings=warnings,
     )
-
-
-def diffraction_losses(distance_m, terrain_m, antenna_a_amsl_m, antenna_b_amsl_m, frequency_mhz,
-                       effective_radius_m, polarization="vertical", sea_fraction=0.0) -> dict:
-    """Knife-edge, Bullington and delta-Bullington losses of one profile [dB].
-
-    Returns a dict with keys ``knife_edge``, ``bullington``,
-    ``delta_bullington``, ``spherical_earth``, ``effective_height_a_m``,
-    ``effective_height_b_m``.
-
-    References
-    ----------
-    ITU-R P.526-15 sections 4.1 and 4.5; ITU-R P.452-18 section 4.2.
-    """
-    ke = diffraction.knife_edge(distance_m, terrain_m, antenna_a_amsl_m, antenna_b_amsl_m,
-                                frequency_mhz, effective_radius_m)
-    bu = diffraction.bullington(distance_m, terrain_m, antenna_a_amsl_m, antenna_b_amsl_m,
-                                frequency_mhz, effective_radius_m)
-    db = diffraction.delta_bullington(distance_m, terrain_m, antenna_a_amsl_m, antenna_b_amsl_m,
-                                      frequency_mhz, effective_radius_m, polarization=polarization,
-                                      sea_fraction=sea_fraction)
-    return {
-        "knife_edge": float(ke.loss_db),
-        "bullington": float(bu),
-        "delta_bullington": float(db.loss_db),
-        "spherical_earth": float(db.spherical_earth_db),
-        "effective_height_a_m": float(db.effective_height_a_m),
-        "effective_height_b_m": float(db.effective_height_b_m),
-    }
-
-
-def radio_results(d, terrain, h_a, h_b, frequency_mhz, ae, radio: RadioSettings):
-    """Losses, link budget and LoRa table for one geometry.
-
-    Parameters
-    ----------
-    d, terrain : ndarray
-        Profile distances from A [m] and terrain heights [m AMSL].
-    h_a, h_b : float
-        Antenna heights [m AMSL] (ground + mast).
-    frequency_mhz : float
-        Working frequency [MHz].
-    ae : float
-        Effective Earth radius [m].
-    radio : RadioSettings
-        Validated settings.
-
-    Returns
-    -------
-    loss : dict
-        The ``loss_db`` block of the JSON report.
-    budget : dict
-        The ``budget`` block (``margin_db``, ``closes``, ``sf``, ...).
-    lora : dict
-        The ``lora`` block (per-SF table and lowest closing SF).
-    """
-    pol_a = budget.polarization_angle_deg(radio.polarization_a)
-    pol_b = budget.polarization_angle_deg(radio.polarization_b)
-    # The spherical-Earth term needs one polarization: that of the transmitting antenna.
-    ground_pol = "vertical" if abs(math.cos(math.radians(pol_a))) >= math.sqrt(0.5) else "horizontal"
-    parts = diffraction_losses(d, terrain, h_a, h_b, frequency_mhz, ae, ground_pol, radio.sea_fraction)
-    method = radio.diffraction_method
-    diff = 0.0 if method == "none" else parts[method.replace("-", "_")]
-    free = float(budget.free_space_loss_db(d[-1], frequency_mhz))
-    pol_loss = float(budget.polarization_mismatch_db(pol_a, pol_b))
-    total = free + diff + radio.extra_loss_db + pol_loss
-    loss = {"free_space": free, "diffraction": diff, "extra": float(radio.extra_loss_db),
-            "polarization": pol_loss, "total": total, "diffraction_method": method, **parts}
-
-    antennas = dict(tx_power_dbm=radio.tx_power_dbm, gain_a_dbi=radio.gain_a_dbi, gain_b_dbi=radio.gain_b_dbi,
-                    cable_loss_a_db=radio.cable_loss_a_db, cable_loss_b_db=radio.cable_loss_b_db,
-                    fade_margin_db=radio.fade_margin_db)
-    # The received level does not depend on the sensitivity: get it first, then choose the SF.
-    rx_power_dbm = budget.link_budget(total, sensitivity_dbm=0.0, **antennas).rx_power_dbm
-    table = budget.lora_table(rx_power_dbm, radio.bw_khz, radio.noise_figure_db,
-                              radio.payload_bytes, radio.fade_margin_db)
-    lowest = budget.lowest_closing_sf(table)
-    sf = radio.sf if radio.sf is not None else (lowest if lowest is not None else 12)
-    sensitivity = (radio.sensitivity_dbm if radio.sensitivity_dbm is not None
-                   else float(budget.lora_sensitivity_dbm(sf, radio.bw_khz, radio.noise_figure_db)))
-    final = budget.link_budget(total, sensitivity_dbm=sensitivity, **antennas)
-    budget_dict = {"tx_power_dbm": final.tx_power_dbm, "eirp_dbm": final.eirp_dbm,
-                   "rx_power_dbm": final.rx_power_dbm, "sensitivity_dbm": final.sensitivity_dbm,
-                   "margin_db": final.margin_db, "fade_margin_required_db": final.fade_margin_required_db,
-                   "closes": bool(final.closes), "sf": int(sf),
-                   "sensitivity_source": "given" if radio.sensitivity_dbm is not None else "lora"}
-    lora = {"bw_khz": float(radio.bw_khz), "payload_bytes": int(radio.payload_bytes),
-            "noise_figure_db": float(radio.noise_figure_db),
-            "per_sf": table, "lowest_closing_sf": lowest}
-    return loss, budget_dict, lora

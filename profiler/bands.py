@@ -43,8 +43,15 @@ class Band:
 
     @property
     def frequency_mhz(self) -> float:
-        """Working frequency: mean of the lowest and highest channel [MHz]."""
-        return 0.5 * (self.low_mhz + self.high_mhz)
+        """Working (uplink) frequency: mean of the lowest and highest uplink channel [MHz].
+
+        For plans whose downlinks reuse the uplink channels (EU868, ...) this
+        is the mean of the whole span; for US915, AU915 and CN470 it is the
+        mean of the uplink channels (see :mod:`profiler.regional`).
+        """
+        from .regional import PLANS
+
+        return PLANS[self.name].uplink_frequency_mhz
 
 
 BANDS: dict[str, Band] = {

@@ -516,9 +516,23 @@ class ElevationModel:
         ----------
         WGS84 meridional and parallel radii, NIMA TR8350.2 ch. 4.
         """
+        sizes = self.pixel_sizes_m(lon_deg, lat_deg)
+        best = float(np.min(sizes)) if sizes.size else math.inf
+        if not math.isfinite(best):
+            raise ProfilerError(
+                f"the path is outside the elevation model ({self.bounds_text()}); "
+                "use a DEM that covers both sites")
+        return best
+
+    def pixel_sizes_m(self, lon_deg, lat_deg):
+        """Finest pixel size of the sources covering each point [m]; inf where none covers it.
+
+        The per-point form of :meth:`pixel_size_m` (same rules), so that a
+        batch of links gets each link's sampling step in one call.
+        """
         lon, lat, _ = _flat_points(lon_deg, lat_deg)
-        best = math.inf
-        for group in self._groups:
+        best = np.full(lon.shape, math.inf)
+        for group in self._groups:  # a handful of source groups, not points
             fr, fc = group.pixel_coords(lon, lat)
             inside = group.owner_pixels(fr, fc)[2] >= 0
             if not inside.any():
@@ -528,15 +542,10 @@ class ElevationModel:
                 # Measured at pixel centres: the pixel next to a pole has a width, the pole itself has none.
                 centre_lat = np.clip(lat[inside], -90.0 + res_y / 2.0, 90.0 - res_y / 2.0)
                 m_lat, m_lon = _metres_per_degree(centre_lat)
-                size = min(float(np.min(res_y * m_lat)), float(np.min(res_x * m_lon)))
+                size = np.minimum(res_y * m_lat, res_x * m_lon)
             else:
-                unit_m = _linear_unit_m(group.pcrs)
-                size = min(res_x, res_y) * unit_m
-            best = min(best, size)
-        if not math.isfinite(best):
-            raise ProfilerError(
-                f"the path is outside the elevation model ({self.bounds_text()}); "
-                "use a DEM that covers both sites")
+                size = min(res_x, res_y) * _linear_unit_m(group.pcrs)
+            best[inside] = np.minimum(best[inside], size)
         return best
 
     def bounds_text(self):

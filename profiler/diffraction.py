@@ -38,6 +38,7 @@ import numpy as np
 
 from .bands import wavelength_m as _wavelength_m
 from .errors import ProfilerError
+from .spherical_earth import spherical_earth_db
 
 __all__ = [
     "KnifeEdge",
@@ -54,10 +55,6 @@ __all__ = [
 
 # Speed of light in vacuum [m/s] (SI definition).
 
-# Ground electrical constants of P.452-18 section 4.2.2.1:
-# (relative permittivity, conductivity [S/m]).
-_LAND_EPS_R, _LAND_SIGMA_S_M = 22.0, 0.003
-_SEA_EPS_R, _SEA_SIGMA_S_M = 80.0, 5.0
 
 _POLARIZATIONS = ("horizontal", "vertical")
 
@@ -285,42 +282,186 @@ def _path_inputs(distance_m, height_m, h_tx_amsl_m, h_rx_amsl_m):
             _finite("antenna height at site B", h_rx_amsl_m))
 
 
-def _interior(d_km, effective_radius_km):
-    """Interior distances di, d - di [km] and Earth-curvature term 500 Ce di (d - di) [m]."""
-    di = d_km[1:-1]
-    d_total = float(d_km[-1])
-    dd = d_total - di
-    bulge = (500.0 / effective_radius_km) * di * dd
-    return di, dd, d_total, bulge
+# ---------------------------------------------------------------------------
+# Batched cores: many profiles at once (links x samples, padded)
+# ---------------------------------------------------------------------------
 
+@dataclass(frozen=True)
+class _Paths:
+    """Padded profiles in the recommendation's units; one row per path.
 
-def _v_profile(hc, di, dd, d_total, hts, hrs, wavelength_m):
-    """Diffraction parameter of every interior sample, P.452-18 eq. (16)."""
-    return (hc - (hts * dd + hrs * di) / d_total) * np.sqrt(0.002 * d_total / (wavelength_m * di * dd))
-
-
-def _bullington_core(hc, di, dd, d_total, hts, hrs, wavelength_m):
-    """Bullington loss of a profile whose interior heights + bulge are ``hc``.
-
-    Returns (Lbull [dB], v of the Bullington point [-], trans_horizon).
+    ``d_km`` and ``h`` are (L, N); row l uses its first ``n[l]`` samples
+    (site A first, site B at ``n[l] - 1``); ``interior`` masks samples
+    1 .. n - 2.  ``di`` and ``dd`` are the distances to each end, set to 1 km
+    outside the interior so that no division fails there.
     """
-    stim = float(np.max((hc - hts) / di))                   # eq. (14) [m/km]
-    s_tr = (hrs - hts) / d_total                             # eq. (15) [m/km]
-    srim = float(np.max((hc - hrs) / dd)) if stim >= s_tr else 0.0  # eq. (18)
-    if stim < s_tr or stim + srim <= 0.0:
-        # Case 1, LoS path (the second test only catches an edge exactly grazing
-        # the line, where eq. (19) is 0/0 and eq. (16) gives the same v = 0).
-        v = float(np.max(_v_profile(hc, di, dd, d_total, hts, hrs, wavelength_m)))  # eq. (16)
-        trans_horizon = False
-    else:
-        # Case 2, trans-horizon path.
-        dbp = (hrs - hts + srim * d_total) / (stim + srim)  # eq. (19) [km]
-        v = ((hts + stim * dbp - (hts * (d_total - dbp) + hrs * dbp) / d_total)
-             * math.sqrt(0.002 * d_total / (wavelength_m * dbp * (d_total - dbp))))  # eq. (20)
-        trans_horizon = True
-    luc = float(j_knife_edge_db(v))                          # eqs. (17) / (21)
-    lbull = luc + (1.0 - math.exp(-luc / 6.0)) * (10.0 + 0.02 * d_total)  # eq. (22)
-    return lbull, v, trans_horizon
+
+    d_km: np.ndarray
+    h: np.ndarray
+    n: np.ndarray
+    d_total: np.ndarray
+    interior: np.ndarray
+    di: np.ndarray
+    dd: np.ndarray
+    bulge: np.ndarray
+    h_first: np.ndarray
+    h_last: np.ndarray
+
+
+def _paths(d_km, h, n, ae_km):
+    d_km = np.asarray(d_km, dtype=float)
+    h = np.asarray(h, dtype=float)
+    n = np.asarray(n, dtype=np.int64)
+    rows = np.arange(d_km.shape[0])
+    cols = np.arange(d_km.shape[1])
+    valid = cols[None, :] < n[:, None]
+    d_km = np.where(valid, d_km, 0.0)       # padding (NaN or anything) never reaches a sum
+    interior = (cols >= 1) & (cols[None, :] < (n - 1)[:, None])
+    d_total = d_km[rows, n - 1]
+    di = np.where(interior, d_km, 1.0)
+    dd = np.where(interior, d_total[:, None] - d_km, 1.0)
+    ae = np.asarray(ae_km, dtype=float).reshape(-1, 1) if np.ndim(ae_km) else ae_km
+    bulge = np.where(interior, (500.0 / ae) * di * dd, 0.0)
+    return _Paths(d_km, np.where(valid, h, 0.0), n, d_total, interior, di, dd, bulge, h[:, 0], h[rows, n - 1])
+
+
+def _masked_max(values, mask):
+    return np.max(np.where(mask, values, -np.inf), axis=-1)
+
+
+def _col(x):
+    return np.asarray(x, dtype=float).reshape(-1, 1) if np.ndim(x) else float(x)
+
+
+def _v_profile(p: _Paths, hc, hts, hrs, wavelength_m):
+    """Diffraction parameter of every interior sample, P.452-18 eq. (16) [-]."""
+    d = p.d_total[:, None]
+    return (hc - (_col(hts) * p.dd + _col(hrs) * p.di) / d) * np.sqrt(
+        0.002 * d / (_col(wavelength_m) * p.di * p.dd))
+
+
+def _bullington_batch(p: _Paths, hc, hts, hrs, wavelength_m):
+    """Bullington loss of profiles whose interior heights + bulge are ``hc`` (L, N).
+
+    Returns (Lbull [dB], v of the Bullington point [-], trans_horizon, v_max of the
+    LoS form), each of shape (L,).
+    """
+    hts = np.broadcast_to(np.asarray(hts, dtype=float), p.d_total.shape)
+    hrs = np.broadcast_to(np.asarray(hrs, dtype=float), p.d_total.shape)
+    d = p.d_total
+    stim = _masked_max((hc - hts[:, None]) / p.di, p.interior)                  # eq. (14) [m/km]
+    s_tr = (hrs - hts) / d                                                       # eq. (15) [m/km]
+    srim = _masked_max((hc - hrs[:, None]) / p.dd, p.interior)                  # eq. (18)
+    v_los = _masked_max(_v_profile(p, hc, hts, hrs, wavelength_m), p.interior)  # eq. (16)
+    # Case 1 (LoS) also catches an edge exactly grazing the line, where eq. (19) is 0/0.
+    los = (stim < s_tr) | (stim + srim <= 0.0)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        dbp = (hrs - hts + srim * d) / np.where(los, 1.0, stim + srim)          # eq. (19) [km]
+        v_th = ((hts + stim * dbp - (hts * (d - dbp) + hrs * dbp) / d)
+                * np.sqrt(0.002 * d / (np.asarray(wavelength_m, dtype=float) * dbp * (d - dbp))))  # eq. (20)
+    v = np.where(los, v_los, v_th)
+    luc = j_knife_edge_db(v)                                                     # eqs. (17) / (21)
+    lbull = luc + (1.0 - np.exp(-luc / 6.0)) * (10.0 + 0.02 * d)                # eq. (22)
+    return lbull, v, ~los, v_los
+
+
+def _smooth_heights_batch(p: _Paths, hts, hrs):
+    """(hst, hsr, hstd, hsrd) [m amsl], each (L,): P.452-18 Attachment 2 eqs. (161)-(167)."""
+    d_total = p.d_total
+    cols = np.arange(p.d_km.shape[1] - 1)
+    seg_ok = cols[None, :] < (p.n - 1)[:, None]
+    seg = np.where(seg_ok, np.diff(p.d_km, axis=1), 0.0)
+    d0, d1 = p.d_km[:, :-1], p.d_km[:, 1:]
+    h0, h1 = p.h[:, :-1], p.h[:, 1:]
+    v1 = np.sum(seg * (h1 + h0), axis=1)                                        # eq. (161)
+    v2 = np.sum(seg * (h1 * (2.0 * d1 + d0) + h0 * (d1 + 2.0 * d0)), axis=1)    # eq. (162)
+    hst = (2.0 * v1 * d_total - v2) / d_total ** 2                              # eq. (163)
+    hsr = (v2 - v1 * d_total) / d_total ** 2                                    # eq. (164)
+    big_h = p.h - (_col(hts) * p.dd + _col(hrs) * p.di) / d_total[:, None]      # eq. (165d)
+    hobs = _masked_max(big_h, p.interior)                                       # eq. (165a)
+    alpha_obt = _masked_max(big_h / p.di, p.interior)                           # eq. (165b)
+    alpha_obr = _masked_max(big_h / p.dd, p.interior)                           # eq. (165c)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        gt = alpha_obt / (alpha_obt + alpha_obr)                                # eq. (166e)
+        gr = alpha_obr / (alpha_obt + alpha_obr)                                # eq. (166f)
+    obstructed = hobs > 0.0
+    hstp = np.where(obstructed, hst - hobs * np.where(obstructed, gt, 0.0), hst)  # eq. (166a, c)
+    hsrp = np.where(obstructed, hsr - hobs * np.where(obstructed, gr, 0.0), hsr)  # eq. (166b, d)
+    hstd = np.minimum(hstp, p.h_first)                                          # eq. (167a, b)
+    hsrd = np.minimum(hsrp, p.h_last)                                           # eq. (167c, d)
+    return hst, hsr, hstd, hsrd
+
+
+def diffraction_batch(distance_m, height_m, n_samples, h_tx_amsl_m, h_rx_amsl_m, frequency_mhz,
+                      effective_radius_m, vertical=True, sea_fraction=0.0) -> dict:
+    """Knife-edge, Bullington and delta-Bullington losses of many profiles at once.
+
+    Parameters
+    ----------
+    distance_m, height_m : ndarray, shape (L, N)
+        Padded profiles: row l holds ``n_samples[l]`` samples from site A
+        (distance 0) to site B; values beyond are ignored.  Distances [m]
+        strictly increase; heights [m amsl].
+    n_samples : ndarray of int, shape (L,)
+        Samples per profile, at least 3.
+    h_tx_amsl_m, h_rx_amsl_m : float or ndarray, shape (L,)
+        Antenna heights at A and B [m amsl].
+    frequency_mhz : float
+        Frequency [MHz].
+    effective_radius_m : float or ndarray, shape (L,)
+        Effective Earth radius [m].
+    vertical : bool or ndarray of bool
+        Polarization of the spherical-Earth first-term part.
+    sea_fraction : float or ndarray
+        Fraction of each path over sea [-].
+
+    Returns
+    -------
+    dict of ndarray, shape (L,)
+        ``knife_edge`` (J(v_max)), ``knife_edge_index``, ``knife_edge_v``,
+        ``bullington`` (Lbulla), ``bullington_v``, ``trans_horizon``,
+        ``delta_bullington`` (Ld, eq. 43), ``bullington_smooth`` (Lbulls),
+        ``spherical_earth`` (Ldsph), ``hst``, ``hsr``, ``hstd``, ``hsrd``
+        [m amsl], ``modified_height_a_m``, ``modified_height_b_m``.
+
+    References
+    ----------
+    ITU-R P.452-18 section 4.2 (eqs. 13-43) and Attachment 2 section 5.1.6
+    (eqs. 161-167); ITU-R P.526-15 sections 4.1 and 4.5.
+    """
+    f_mhz = float(frequency_mhz)
+    wavelength_m = float(_wavelength_m(f_mhz))
+    ae_km = np.asarray(effective_radius_m, dtype=float) * 1e-3
+    p = _paths(np.asarray(distance_m, dtype=float) * 1e-3, height_m, n_samples, ae_km)
+    hts = np.broadcast_to(np.asarray(h_tx_amsl_m, dtype=float), p.d_total.shape)
+    hrs = np.broadcast_to(np.asarray(h_rx_amsl_m, dtype=float), p.d_total.shape)
+    hc = np.where(p.interior, p.h + p.bulge, 0.0)
+    lbulla, v_bull, trans, v_max = _bullington_batch(p, hc, hts, hrs, wavelength_m)
+    v_all = np.where(p.interior, _v_profile(p, hc, hts, hrs, wavelength_m), -np.inf)
+    ke_index = np.argmax(v_all, axis=1)
+    hst, hsr, hstd, hsrd = _smooth_heights_batch(p, hts, hrs)
+    hts_mod, hrs_mod = hts - hstd, hrs - hsrd
+    lbulls = _bullington_batch(p, p.bulge, hts_mod, hrs_mod, wavelength_m)[0]
+    ldsph = spherical_earth_db(p.d_total, np.maximum(hts_mod, 0.0), np.maximum(hrs_mod, 0.0),
+                               ae_km, f_mhz * 1e-3, wavelength_m, vertical, sea_fraction)
+    return {"knife_edge": j_knife_edge_db(v_max), "knife_edge_index": ke_index, "knife_edge_v": v_max,
+            "bullington": lbulla, "bullington_v": v_bull, "trans_horizon": trans,
+            "delta_bullington": lbulla + np.maximum(ldsph - lbulls, 0.0),             # eq. (43)
+            "bullington_smooth": lbulls, "spherical_earth": ldsph, "hst": hst, "hsr": hsr,
+            "hstd": hstd, "hsrd": hsrd, "modified_height_a_m": hts_mod, "modified_height_b_m": hrs_mod}
+
+
+def _one(distance_m, height_m, h_tx_amsl_m, h_rx_amsl_m, frequency_mhz, effective_radius_m,
+         polarization="vertical", sea_fraction=0.0):
+    """Validate one profile and run :func:`diffraction_batch` on it; scalars out."""
+    d_km, h, hts, hrs = _path_inputs(distance_m, height_m, h_tx_amsl_m, h_rx_amsl_m)
+    f = _positive("frequency (MHz)", frequency_mhz)
+    ae = _positive("effective Earth radius (m)", effective_radius_m)
+    vertical = _polarization(polarization) == "vertical"
+    omega = _sea_fraction(sea_fraction)
+    out = diffraction_batch(d_km[None, :] * 1e3, h[None, :], np.array([d_km.size]), hts, hrs, f, ae,
+                            vertical, omega)
+    return out  # arrays of length 1
 
 
 def knife_edge(distance_m, height_m, h_tx_amsl_m, h_rx_amsl_m, frequency_mhz, effective_radius_m):
@@ -358,14 +499,9 @@ def knife_edge(distance_m, height_m, h_tx_amsl_m, h_rx_amsl_m, frequency_mhz, ef
     ITU-R P.452-18 section 4.2.1, eq. (16); ITU-R P.526-15 section 4.1,
     eqs. (22) and (31).
     """
-    d_km, h, hts, hrs = _path_inputs(distance_m, height_m, h_tx_amsl_m, h_rx_amsl_m)
-    wavelength_m = _wavelength_m(_positive("frequency (MHz)", frequency_mhz))
-    ae_km = _positive("effective Earth radius (m)", effective_radius_m) * 1e-3
-    di, dd, d_total, bulge = _interior(d_km, ae_km)
-    v = _v_profile(h[1:-1] + bulge, di, dd, d_total, hts, hrs, wavelength_m)
-    i = int(np.argmax(v))
-    v_max = float(v[i])
-    return KnifeEdge(loss_db=float(j_knife_edge_db(v_max)), index=i + 1, v_max=v_max)
+    out = _one(distance_m, height_m, h_tx_amsl_m, h_rx_amsl_m, frequency_mhz, effective_radius_m)
+    return KnifeEdge(loss_db=float(out["knife_edge"][0]), index=int(out["knife_edge_index"][0]),
+                     v_max=float(out["knife_edge_v"][0]))
 
 
 def bullington(distance_m, height_m, h_tx_amsl_m, h_rx_amsl_m, frequency_mhz, effective_radius_m):
@@ -398,78 +534,13 @@ def bullington(distance_m, height_m, h_tx_amsl_m, h_rx_amsl_m, frequency_mhz, ef
     ----------
     ITU-R P.452-18 section 4.2.1, eqs. (14)-(22); ITU-R P.526-15 section 4.5.1.
     """
-    d_km, h, hts, hrs = _path_inputs(distance_m, height_m, h_tx_amsl_m, h_rx_amsl_m)
-    wavelength_m = _wavelength_m(_positive("frequency (MHz)", frequency_mhz))
-    ae_km = _positive("effective Earth radius (m)", effective_radius_m) * 1e-3
-    di, dd, d_total, bulge = _interior(d_km, ae_km)
-    return _bullington_core(h[1:-1] + bulge, di, dd, d_total, hts, hrs, wavelength_m)[0]
+    return float(_one(distance_m, height_m, h_tx_amsl_m, h_rx_amsl_m, frequency_mhz,
+                      effective_radius_m)["bullington"][0])
 
 
 # ---------------------------------------------------------------------------
 # Spherical-Earth loss (P.452-18 section 4.2.2 and 4.2.2.1)
 # ---------------------------------------------------------------------------
-
-def _first_term_one_ground(d_km, hts, hrs, adft_km, f_ghz, eps_r, sigma, vertical):
-    """First-term spherical-Earth loss for one ground type [dB], eqs. (34)-(41)."""
-    k = (0.036 * (adft_km * f_ghz) ** (-1.0 / 3.0)
-         * ((eps_r - 1.0) ** 2 + (18.0 * sigma / f_ghz) ** 2) ** -0.25)          # eq. (34a)
-    if vertical:
-        k *= math.sqrt(eps_r ** 2 + (18.0 * sigma / f_ghz) ** 2)                 # eq. (34b)
-    k2 = k * k
-    beta = (1.0 + 1.6 * k2 + 0.67 * k2 * k2) / (1.0 + 4.5 * k2 + 1.53 * k2 * k2)  # eq. (35)
-    x = 21.88 * beta * (f_ghz / adft_km ** 2) ** (1.0 / 3.0) * d_km              # eq. (36)
-    y = 0.9575 * beta * (f_ghz ** 2 / adft_km) ** (1.0 / 3.0)                    # eq. (37)
-    if x >= 1.6:                                                                 # eq. (38)
-        fx = 11.0 + 10.0 * math.log10(x) - 17.6 * x
-    else:
-        fx = -20.0 * math.log10(x) - 5.6488 * x ** 1.425
-    g_min = 2.0 + 20.0 * math.log10(k)
-
-    def height_gain(h_m):
-        b = beta * y * h_m                                                       # eq. (39)
-        if b > 2.0:                                                              # eq. (40)
-            g = 17.6 * math.sqrt(b - 1.1) - 5.0 * math.log10(b - 1.1) - 8.0
-        else:
-            g = 20.0 * math.log10(b + 0.1 * b ** 3) if b > 0.0 else -math.inf
-        return max(g, g_min)
-
-    return -fx - height_gain(hts) - height_gain(hrs)                             # eq. (41)
-
-
-def _first_term(d_km, hts, hrs, adft_km, f_ghz, vertical, omega):
-    """First-term loss mixing land and sea, Ldft = w Ldft_sea + (1 - w) Ldft_land, eq. (33)."""
-    land = _first_term_one_ground(d_km, hts, hrs, adft_km, f_ghz, _LAND_EPS_R, _LAND_SIGMA_S_M, vertical)
-    if omega == 0.0:
-        return land
-    sea = _first_term_one_ground(d_km, hts, hrs, adft_km, f_ghz, _SEA_EPS_R, _SEA_SIGMA_S_M, vertical)
-    return omega * sea + (1.0 - omega) * land
-
-
-def _spherical_core(d_km, hts, hrs, ae_km, f_ghz, wavelength_m, vertical, omega):
-    """Spherical-Earth diffraction loss Ldsph [dB], eqs. (23)-(32)."""
-    dlos = math.sqrt(2.0 * ae_km) * (math.sqrt(0.001 * hts) + math.sqrt(0.001 * hrs))  # eq. (23)
-    if d_km >= dlos:
-        return _first_term(d_km, hts, hrs, ae_km, f_ghz, vertical, omega)            # eq. (24)
-    c = (hts - hrs) / (hts + hrs)                                                    # eq. (25)
-    m = 250.0 * d_km ** 2 / (ae_km * (hts + hrs))                                    # eq. (26)
-    arg = min(1.0, max(-1.0, 1.5 * c * math.sqrt(3.0 * m / (m + 1.0) ** 3)))  # |arg| <= 1 up to rounding
-    b = 2.0 * math.sqrt((m + 1.0) / (3.0 * m)) * math.cos(math.pi / 3.0 + math.acos(arg) / 3.0)  # eq. (27)
-    # Rounding can push b a hair past 1 when one height is zero: keep the split on the path.
-    dse1 = min(d_km, max(0.0, 0.5 * d_km * (1.0 + b)))                               # eq. (28a)
-    dse2 = d_km - dse1                                                               # eq. (28b)
-    hse = ((hts - 500.0 * dse1 ** 2 / ae_km) * dse2
-           + (hrs - 500.0 * dse2 ** 2 / ae_km) * dse1) / d_km                        # eq. (29)
-    hreq = 17.456 * math.sqrt(dse1 * dse2 * wavelength_m / d_km)                     # eq. (30)
-    if hse > hreq:
-        return 0.0
-    aem = 500.0 * (d_km / (math.sqrt(hts) + math.sqrt(hrs))) ** 2                    # eq. (31)
-    ldft = _first_term(d_km, hts, hrs, aem, f_ghz, vertical, omega)
-    if ldft < 0.0:
-        return 0.0
-    if hreq <= 0.0:  # degenerate: closest approach at an antenna of zero height (grazing)
-        return ldft
-    return (1.0 - hse / hreq) * ldft                                                 # eq. (32)
-
 
 def spherical_earth(distance_m, h_tx_eff_m, h_rx_eff_m, frequency_mhz, effective_radius_m,
                     polarization="vertical", sea_fraction=0.0):
@@ -518,41 +589,12 @@ def spherical_earth(distance_m, h_tx_eff_m, h_rx_eff_m, frequency_mhz, effective
     ae_km = _positive("effective Earth radius (m)", effective_radius_m) * 1e-3
     vertical = _polarization(polarization) == "vertical"
     omega = _sea_fraction(sea_fraction)
-    return _spherical_core(d_km, hts, hrs, ae_km, f_mhz * 1e-3, _wavelength_m(f_mhz),
-                           vertical, omega)
+    return float(spherical_earth_db(d_km, hts, hrs, ae_km, f_mhz * 1e-3, _wavelength_m(f_mhz), vertical, omega))
 
 
 # ---------------------------------------------------------------------------
 # Smooth-Earth heights (P.452-18 Attachment 2, section 5.1.6)
 # ---------------------------------------------------------------------------
-
-def _smooth_heights_core(d_km, h, hts, hrs):
-    """Return (hst, hsr, hstd, hsrd) [m amsl]."""
-    d_total = float(d_km[-1])
-    seg = np.diff(d_km)
-    d0, d1 = d_km[:-1], d_km[1:]
-    h0, h1 = h[:-1], h[1:]
-    v1 = float(np.dot(seg, h1 + h0))                                        # eq. (161)
-    v2 = float(np.dot(seg, h1 * (2.0 * d1 + d0) + h0 * (d1 + 2.0 * d0)))    # eq. (162)
-    hst = (2.0 * v1 * d_total - v2) / d_total ** 2                          # eq. (163)
-    hsr = (v2 - v1 * d_total) / d_total ** 2                                # eq. (164)
-
-    di = d_km[1:-1]
-    big_h = h[1:-1] - (hts * (d_total - di) + hrs * di) / d_total            # eq. (165d)
-    hobs = float(np.max(big_h))                                             # eq. (165a)
-    if hobs <= 0.0:
-        hstp, hsrp = hst, hsr                                               # eq. (166a, b)
-    else:
-        alpha_obt = float(np.max(big_h / di))                               # eq. (165b)
-        alpha_obr = float(np.max(big_h / (d_total - di)))                   # eq. (165c)
-        gt = alpha_obt / (alpha_obt + alpha_obr)                            # eq. (166e)
-        gr = alpha_obr / (alpha_obt + alpha_obr)                            # eq. (166f)
-        hstp = hst - hobs * gt                                              # eq. (166c)
-        hsrp = hsr - hobs * gr                                              # eq. (166d)
-    hstd = min(hstp, float(h[0]))                                           # eq. (167a, b)
-    hsrd = min(hsrp, float(h[-1]))                                          # eq. (167c, d)
-    return hst, hsr, hstd, hsrd
-
 
 def smooth_earth_heights(distance_m, height_m, h_tx_amsl_m, h_rx_amsl_m):
     """Smooth-Earth surface heights at both ends of a profile.
@@ -582,8 +624,8 @@ def smooth_earth_heights(distance_m, height_m, h_tx_amsl_m, h_rx_amsl_m):
     ITU-R P.452-18 Attachment 2 to Annex 1, section 5.1.6.2, eqs. (161)-(164),
     and section 5.1.6.3, eqs. (165)-(167).
     """
-    d_km, h, hts, hrs = _path_inputs(distance_m, height_m, h_tx_amsl_m, h_rx_amsl_m)
-    hst, hsr, hstd, hsrd = _smooth_heights_core(d_km, h, hts, hrs)
+    out = _one(distance_m, height_m, h_tx_amsl_m, h_rx_amsl_m, 1000.0, 8.5e6)
+    hst, hsr, hstd, hsrd = float(out["hst"][0]), float(out["hsr"][0]), float(out["hstd"][0]), float(out["hsrd"][0])
     return SmoothEarthHeights(surface_height_a_m=hst, surface_height_b_m=hsr,
                               effective_height_a_m=hstd, effective_height_b_m=hsrd)
 
@@ -630,28 +672,13 @@ def delta_bullington(distance_m, height_m, h_tx_amsl_m, h_rx_amsl_m, frequency_m
     4.2.2, 4.2.2.1 and Attachment 2 section 5.1.6; ITU-R P.526-15
     section 4.5.2.
     """
-    d_km, h, hts, hrs = _path_inputs(distance_m, height_m, h_tx_amsl_m, h_rx_amsl_m)
-    f_mhz = _positive("frequency (MHz)", frequency_mhz)
-    ae_km = _positive("effective Earth radius (m)", effective_radius_m) * 1e-3
-    vertical = _polarization(polarization) == "vertical"
-    omega = _sea_fraction(sea_fraction)
-    wavelength_m = _wavelength_m(f_mhz)
-
-    di, dd, d_total, bulge = _interior(d_km, ae_km)
-    # Bullington loss of the actual profile, Lbulla.
-    lbulla, v_actual, trans_horizon = _bullington_core(h[1:-1] + bulge, di, dd, d_total, hts, hrs,
-                                                       wavelength_m)
-    # Smooth-surface heights and modified antenna heights (hstd <= h1 and
-    # hsrd <= hn, so both modified heights are at least the mast heights).
-    _, _, hstd, hsrd = _smooth_heights_core(d_km, h, hts, hrs)
-    hts_mod = hts - hstd
-    hrs_mod = hrs - hsrd
-    # Bullington loss of the zero-height profile, Lbulls.
-    lbulls = _bullington_core(bulge, di, dd, d_total, hts_mod, hrs_mod, wavelength_m)[0]
-    # Spherical-Earth loss for the modified heights, Ldsph.
-    ldsph = _spherical_core(d_total, max(hts_mod, 0.0), max(hrs_mod, 0.0), ae_km, f_mhz * 1e-3,
-                            wavelength_m, vertical, omega)
-    loss = lbulla + max(ldsph - lbulls, 0.0)                                # eq. (43)
+    out = _one(distance_m, height_m, h_tx_amsl_m, h_rx_amsl_m, frequency_mhz, effective_radius_m,
+               polarization, sea_fraction)
+    lbulla, lbulls = float(out["bullington"][0]), float(out["bullington_smooth"][0])
+    ldsph, loss = float(out["spherical_earth"][0]), float(out["delta_bullington"][0])
+    hstd, hsrd = float(out["hstd"][0]), float(out["hsrd"][0])
+    hts_mod, hrs_mod = float(out["modified_height_a_m"][0]), float(out["modified_height_b_m"][0])
+    trans_horizon, v_actual = bool(out["trans_horizon"][0]), float(out["bullington_v"][0])
     return DeltaBullington(
         loss_db=loss,
         bullington_actual_db=lbulla,

@@ -62,7 +62,7 @@ LIMITS: dict[str, Limit] = {
     # sites and terrain
     "--mast-a": Limit(0.0, 1000.0, "m", "antenna height above ground at A"),
     "--mast-b": Limit(0.0, 1000.0, "m", "antenna height above ground at B"),
-    "--step-m": Limit(0.01, 10_000.0, "m", "largest profile sample spacing"),
+    "--step-m": Limit(0.001, 10_000.0, "m", "largest profile sample spacing"),
     # Lowest and highest land surface on Earth: about -430 m and 8849 m; the sea floor reaches -10935 m.
     "terrain": Limit(-11_000.0, 9_000.0, "m", "terrain height above mean sea level"),
     # Half the WGS84 meridian circumference is about 20 004 km: no path between two sites is longer.
@@ -99,6 +99,9 @@ LIMITS: dict[str, Limit] = {
     "--min-margin-db": Limit(-100.0, 100.0, "dB", "least link margin"),
     "--max-mast-m": Limit(0.0, 1000.0, "m", "highest allowed mast", low_open=True),
     "--mast-step-m": Limit(0.01, 100.0, "m", "height step of the mast search"),
+    # network
+    "--max-distance-km": Limit(0.0, 20_100.0, "km", "longest link considered", low_open=True),
+    "--workers": Limit(1, 256, "", "worker processes", integer=True),
     # figure
     "--dpi": Limit(50, 1200, "dots per inch", "figure resolution", integer=True),
 }

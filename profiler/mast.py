@@ -48,12 +48,13 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from . import CAUTION, __version__, geometry, limits
-from .analysis import RadioSettings, radio_results
+from .radio import RadioSettings, radio_results
+from .regional import plan as regional_plan
 from .bands import wavelength_m as _wavelength_m
 from .errors import ProfilerError
 from .terrain import TerrainProfile
 
-SCHEMA = "profiler.mast/1"
+SCHEMA = "profiler.mast/2"
 SOLVE_ENDS = ("a", "b", "both")
 CRITERIA = ("clearance", "clearance_low_k", "margin")
 MAX_GRID_POINTS = 5001
@@ -62,8 +63,9 @@ MAX_GRID_POINTS = 5001
 MARGIN_TOLERANCE_M = 1e-3
 """Bisection stops when the bracket on the margin criterion is this narrow [m]."""
 
-MONOTONE_TOLERANCE_DB = 1e-6
-"""A margin drop larger than this between grid heights marks the curve as not monotone [dB]."""
+MONOTONE_TOLERANCE_DB = 0.005
+"""A margin drop larger than this between grid heights marks the curve as not monotone [dB]
+(smaller drops come from the slant distance growing with height and are not shown)."""
 
 
 def round_up_mm(height_m):
@@ -238,7 +240,7 @@ def cheapest_split_m(distance_m, target_m, ground_a_m, ground_b_m, max_mast_m):
 
 @dataclass(frozen=True)
 class MastResult:
-    """Everything the mast solver found; ``to_dict()`` is the JSON report (``profiler.mast/1``)."""
+    """Everything the mast solver found; ``to_dict()`` is the JSON report (``profiler.mast/2``)."""
 
     site_a: dict
     site_b: dict
@@ -346,6 +348,258 @@ def _height_grid(lower, current, upper, step):
     return grid[(grid >= lower - 1e-12) & (grid <= upper + 1e-12)]
 
 
+class _MastProblem:
+    """The geometry and radio of one mast search; the solved parameter ``t`` is the mast at A
+    (``solve="a"``), at B (``"b"``) or the height added at both ends (``"both"``)."""
+
+    def __init__(self, profile, solve, m_a0, m_b0, frequency_mhz, k, k_low, radio, plan, max_mast_m):
+        self.profile, self.solve, self.m_a0, self.m_b0 = profile, solve, m_a0, m_b0
+        self.frequency_mhz, self.k, self.k_low, self.radio, self.plan = frequency_mhz, k, k_low, radio, plan
+        d = self.d = np.asarray(profile.distance_m, dtype=float)
+        terrain = self.terrain = np.asarray(profile.terrain_m, dtype=float)
+        if d.size < 3:
+            raise ProfilerError("the profile needs at least 3 samples (the two sites and one between)")
+        self.total = float(d[-1])
+        self.g_a, self.g_b = float(terrain[0]), float(terrain[-1])
+        self.lam = float(_wavelength_m(frequency_mhz))
+        self.ae = float(geometry.effective_radius_m(k))
+        self.ae_low = float(geometry.effective_radius_m(k_low))
+        d2 = self.total - d
+        self.f1 = geometry.fresnel_radius_m(d, d2, self.lam)
+        self.bulge = geometry.earth_bulge_m(d, d2, self.ae)
+        self.bulge_low = geometry.earth_bulge_m(d, d2, self.ae_low)
+        if solve == "a":
+            self.lower, self.current, self.upper = 0.0, m_a0, max_mast_m
+        elif solve == "b":
+            self.lower, self.current, self.upper = 0.0, m_b0, max_mast_m
+        else:
+            self.lower, self.current, self.upper = -min(m_a0, m_b0), 0.0, max_mast_m - max(m_a0, m_b0)
+        self._cache: dict[float, dict] = {}
+
+    def masts_at(self, t):
+        """(mast A, mast B) [m] for the solved parameter ``t`` (rounded to 1 um: no float noise)."""
+        if self.solve == "a":
+            return round(t, 6), self.m_b0
+        if self.solve == "b":
+            return self.m_a0, round(t, 6)
+        return round(self.m_a0 + t, 6), round(self.m_b0 + t, 6)
+
+    def worst(self, ma, mb, low_k=False):
+        """Smallest interior clearance ratio and its sample index for masts ``ma``, ``mb``."""
+        los = geometry.line_of_sight_m(self.d, self.total, self.g_a + ma, self.g_b + mb)
+        bulge = self.bulge_low if low_k else self.bulge
+        r = geometry.clearance_ratio(geometry.clearance_m(los, self.terrain, bulge), self.f1)[1:-1]
+        i = int(np.argmin(r))
+        return float(r[i]), i + 1
+
+    def radio_masts(self, ma, mb):
+        """Uplink budget (the link report's ``budget``) and diffraction for masts ``ma``, ``mb``."""
+        rr = radio_results(self.d, self.terrain, self.g_a + ma, self.g_b + mb, self.frequency_mhz, self.ae,
+                           self.radio, self.plan)
+        bud = rr["budget"]
+        return {"diffraction_db": float(rr["loss_db"]["diffraction"]), "margin_db": float(bud["margin_db"]),
+                "sf": bud["sf"], "bw_khz": bud["bw_khz"], "dr": bud["dr"]}
+
+    def radio_at(self, t):
+        key = round(float(t), 9)
+        if key not in self._cache:
+            self._cache[key] = self.radio_masts(*self.masts_at(key))
+        return self._cache[key]
+
+    def margin_at(self, t):
+        return self.radio_at(t)["margin_db"]
+
+    def state(self, t):
+        ma, mb = self.masts_at(t)
+        return {"mast_a_m": ma, "mast_b_m": mb, "worst_ratio": self.worst(ma, mb)[0],
+                "worst_ratio_low_k": self.worst(ma, mb, True)[0], **self.radio_at(t)}
+
+    def pair(self, t):
+        ma, mb = self.masts_at(t)
+        return {"required_mast_a_m": ma, "required_mast_b_m": mb}
+
+    def point(self, index):
+        out = {"distance_m": float(self.d[index]), "terrain_m": float(self.terrain[index])}
+        if self.profile.lat_deg is not None:
+            out["lat_deg"] = float(self.profile.lat_deg[index])
+            out["lon_deg"] = float(self.profile.lon_deg[index])
+        return out
+
+
+def _clearance_criteria(pb: _MastProblem, ratio, ratio_low):
+    """Closed-form clearance requirements: (criteria rows, {name: (bound, index, target)})."""
+    criteria, req = [], {}
+    for name, r, kk, ae_k in (("clearance", ratio, pb.k, pb.ae), ("clearance_low_k", ratio_low, pb.k_low, pb.ae_low)):
+        if r is None:
+            continue
+        target = clearance_target_m(pb.d, pb.terrain, pb.lam, ae_k, r)
+        bound, idx = required_height_m(pb.d, target, pb.g_a, pb.g_b, pb.solve, pb.m_a0, pb.m_b0)
+        req[name] = (bound, idx, target)
+        t_req = max(pb.lower, round_up_mm(bound))
+        criteria.append({"criterion": name, "clearance_ratio": r, "k_factor": kk, "effective_radius_m": ae_k,
+                         **pb.pair(t_req), "within_max": bool(t_req <= pb.upper + 1e-12), **pb.point(idx)})
+    return criteria, req
+
+
+def _lowest_meeting(pb: _MastProblem, grid, t_lo, x_db):
+    """Lowest t >= t_lo on [t_lo, upper] with margin >= x_db (grid scan, then bisection to 1 mm), or None."""
+    if t_lo > pb.upper + 1e-12:
+        return None
+    if pb.margin_at(t_lo) >= x_db:
+        return t_lo
+    prev = t_lo
+    for t in grid[grid > t_lo + 1e-9]:
+        if pb.margin_at(t) >= x_db:
+            return _bisect_up(pb.margin_at, prev, float(t), x_db, float(t))
+        prev = float(t)
+    return None
+
+
+def _bisect_up(margin_fn, lo, hi, x_db, limit):
+    """Bisection on [lo, hi] (margin(hi) >= x_db) to 1 mm; prefer a whole millimetre that is verified."""
+    while hi - lo > MARGIN_TOLERANCE_M:
+        mid = 0.5 * (lo + hi)
+        if margin_fn(mid) >= x_db:
+            hi = mid
+        else:
+            lo = mid
+    for r in (round_up_mm(lo), round(round_up_mm(lo) + 0.001, 3), round_up_mm(hi)):
+        if r <= limit + 1e-12 and margin_fn(r) >= x_db:
+            return r
+    return hi
+
+
+def _monotone_note(pb: _MastProblem, grid, margins, x_db, step):
+    """Whether the margin rises steadily over the grid, and a note naming the first drop and its cause."""
+    drops = np.diff(margins) < -MONOTONE_TOLERANCE_DB
+    if not drops.any():
+        return True, []
+    j = int(np.argmax(drops))
+    r0, r1 = pb.radio_at(grid[j]), pb.radio_at(grid[j + 1])
+    cause = ""
+    if (r0["sf"], r0["bw_khz"], r0["dr"]) != (r1["sf"], r1["bw_khz"], r1["dr"]) and r0["sf"] is not None:
+        cause = (f" because the recommended data rate changes from {_rate(r0)} to {_rate(r1)} (faster, so it "
+                 "needs more signal)")
+    what = (f"; the solver took the lowest grid height meeting {x_db:g} dB and refined within its {step:g} m cell"
+            if x_db is not None else "")
+    return False, [f"the margin does not increase steadily with height: it drops from {margins[j]:.2f} dB to "
+                   f"{margins[j + 1]:.2f} dB between grid heights {grid[j]:g} and {grid[j + 1]:g} m{cause}{what}"]
+
+
+def _rate(r) -> str:
+    rate = f"SF{r['sf']}/{r['bw_khz']:g} kHz"
+    return rate if r["dr"] is None else f"DR{r['dr']} ({rate})"
+
+
+def _margin_criterion(pb: _MastProblem, grid, min_margin_db, t_clear, clearance_ok, step):
+    """(criterion row, t meeting margin and clearance or None, monotone flag, notes)."""
+    x_db = float(min_margin_db)
+    margins = np.array([pb.margin_at(t) for t in grid])
+    monotone, notes = _monotone_note(pb, grid, margins, x_db, step)
+    t_alone = _lowest_meeting(pb, grid, pb.lower, x_db)
+    row = {"criterion": "margin", "min_margin_db": x_db, "sf": pb.radio.sf,
+           "diffraction_method": pb.radio.diffraction_method, "k_factor": pb.k,
+           **(pb.pair(t_alone) if t_alone is not None else {"required_mast_a_m": None, "required_mast_b_m": None}),
+           "within_max": t_alone is not None, "monotone": monotone}
+    if not clearance_ok or t_alone is None:
+        t_margin = None
+    elif t_alone >= t_clear:
+        t_margin = t_alone
+    else:
+        t_margin = _lowest_meeting(pb, grid, t_clear, x_db)
+    return row, t_margin, monotone, notes
+
+
+def _feasible_binding(pb, t_sol, t_clear, name_c, clearance_req, min_margin_db):
+    if min_margin_db is not None and t_sol > t_clear + 1e-12:
+        criterion = "margin"
+    elif name_c is not None and clearance_req[name_c][0] > pb.lower:
+        criterion = name_c
+    elif min_margin_db is not None and t_sol > pb.lower:
+        criterion = "margin"
+    else:
+        criterion = "none"
+    idx = clearance_req[criterion][1] if criterion in clearance_req else pb.worst(*pb.masts_at(t_sol))[1]
+    return {"criterion": criterion, **pb.point(idx)}
+
+
+def _infeasible(pb, grid, clearance_ok, name_c, clearance_req, ratios, x_db, max_mast_m):
+    """(binding, best achievable state, one-line message) when no height works."""
+    solve = pb.solve
+    if not clearance_ok:
+        criterion, idx = name_c, clearance_req[name_c][1]
+        r_need, k_need = ratios[name_c]
+        best = pb.state(pb.upper)
+        best_ratio = best["worst_ratio"] if name_c == "clearance" else best["worst_ratio_low_k"]
+        need = round_up_mm(clearance_req[name_c][0])
+        need_text = f"{_up_text(need)} m at {solve.upper()}" if solve != "both" else f"{_up_text(need)} m added at both ends"
+        what = (f"clearance {r_need:g} F1 at k = {k_need:.4g} would need {need_text}; best achievable worst "
+                f"clearance {best_ratio:.2f} F1")
+    else:
+        criterion = "margin"
+        t_clear = max(pb.lower, round_up_mm(clearance_req[name_c][0])) if name_c else pb.lower
+        t_ok = grid[grid >= t_clear - 1e-9]
+        vals = np.array([pb.margin_at(t) for t in t_ok])
+        t_best = float(t_ok[int(np.argmax(vals))])
+        best = pb.state(t_best)
+        idx = pb.worst(*pb.masts_at(t_best))[1]
+        what = f"best achievable margin {best['margin_db']:.1f} dB (need {x_db:g} dB)"
+    where = {"a": "at A", "b": "at B", "both": "at both ends"}[solve]
+    at = (f"with {_up_text(best['mast_a_m'])} m at A and {_up_text(best['mast_b_m'])} m at B" if solve == "both"
+          else f"with {_up_text(best['mast_' + solve + '_m'])} m")
+    message = (f"no mast up to {max_mast_m:g} m {where} meets the criteria: binding obstruction at "
+               f"{pb.d[idx] / 1000.0:.3f} km (terrain {pb.terrain[idx]:.1f} m); {what} {at}")
+    return {"criterion": criterion, **pb.point(idx)}, best, message
+
+
+def _up_text(x) -> str:
+    """A height rounded up to the centimetre, as text (a printed height never undercuts the solution)."""
+    return f"{math.ceil(x * 100 - 1e-9) / 100:.2f}"
+
+
+def _per_extra_metre(pb, t_sol):
+    t0, t1 = (t_sol, t_sol + 1.0) if t_sol + 1.0 <= pb.upper + 1e-12 else (max(pb.lower, t_sol - 1.0), t_sol)
+    if not t1 > t0:
+        return None
+    s0, s1 = pb.state(t0), pb.state(t1)
+    span = t1 - t0
+    return {"from_m": round(t0, 6), "to_m": round(t1, 6),
+            **{f"{key}_per_m": (s1[key] - s0[key]) / span
+               for key in ("worst_ratio", "worst_ratio_low_k", "diffraction_db", "margin_db")}}
+
+
+def _validated(solve, frequency_mhz, max_mast_m, mast_step_m, mast_a_m, mast_b_m, clearance_ratio,
+               low_k_clearance_ratio, min_margin_db):
+    if solve not in SOLVE_ENDS:
+        raise ProfilerError(f"--solve must be one of {', '.join(SOLVE_ENDS)}, got {solve!r}")
+    if not (math.isfinite(frequency_mhz) and frequency_mhz > 0):
+        raise ProfilerError(f"frequency must be a positive number of MHz, got {frequency_mhz}")
+    max_mast_m, mast_step_m = float(max_mast_m), float(mast_step_m)
+    if not (math.isfinite(max_mast_m) and max_mast_m > 0):
+        raise ProfilerError(f"--max-mast-m must be a positive height, got {max_mast_m}")
+    if not (math.isfinite(mast_step_m) and mast_step_m > 0):
+        raise ProfilerError(f"--mast-step-m must be a positive height, got {mast_step_m}")
+    masts = {}
+    for end, value in (("a", mast_a_m), ("b", mast_b_m)):
+        v = float(value)
+        if not (math.isfinite(v) and v >= 0):
+            raise ProfilerError(f"--mast-{end} must be a height of 0 m or more, got {value}")
+        if solve in (end, "both") and v > max_mast_m:
+            raise ProfilerError(f"--mast-{end} {v:g} m is above --max-mast-m {max_mast_m:g} m; "
+                                "raise --max-mast-m or give a lower current mast")
+        masts[end] = v
+    ratio = _check_ratio(clearance_ratio, "--clearance-ratio")
+    ratio_low = _check_ratio(low_k_clearance_ratio, "--low-k-clearance")
+    if min_margin_db is not None and not math.isfinite(float(min_margin_db)):
+        raise ProfilerError(f"--min-margin-db must be a finite number, got {min_margin_db}")
+    if ratio is None and ratio_low is None and min_margin_db is None:
+        raise ProfilerError("no criterion left: with --no-clearance give --min-margin-db")
+    limits.check_values({"--freq-mhz": frequency_mhz, "--mast-a": masts["a"], "--mast-b": masts["b"],
+                         "--max-mast-m": max_mast_m, "--mast-step-m": mast_step_m, "--clearance-ratio": ratio,
+                         "--low-k-clearance": ratio_low, "--min-margin-db": min_margin_db})
+    return max_mast_m, mast_step_m, masts["a"], masts["b"], ratio, ratio_low
+
+
 def solve_mast(profile: TerrainProfile, *, frequency_mhz: float, solve: str = "b",
                mast_a_m: float = 10.0, mast_b_m: float = 2.0,
                clearance_ratio: float | None = 0.6, k_factor=4.0 / 3.0,
@@ -378,8 +632,8 @@ def solve_mast(profile: TerrainProfile, *, frequency_mhz: float, solve: str = "b
     low_k_factor : float or str
         Low effective-Earth-radius factor k2.
     min_margin_db : float or None
-        Least link margin [dB] at the chosen or recommended spreading
-        factor (``budget.margin_db`` of the link report; None: off).
+        Least uplink margin [dB] at the chosen or recommended data rate
+        (``budget.margin_db`` of the link report; None: off).
     radio : RadioSettings, optional
         Link-budget, LoRa and diffraction settings.
     max_mast_m : float
@@ -398,253 +652,51 @@ def solve_mast(profile: TerrainProfile, *, frequency_mhz: float, solve: str = "b
     References
     ----------
     ITU-R P.530-18 section 2.2.2.1 (planning criteria); ITU-R P.526-15
-    section 2, eq. (2); margin as :func:`profiler.analysis.radio_results`.
+    section 2, eq. (2); margin as :func:`profiler.radio.radio_results`.
     """
     radio = (radio or RadioSettings()).validate()
-    if solve not in SOLVE_ENDS:
-        raise ProfilerError(f"--solve must be one of {', '.join(SOLVE_ENDS)}, got {solve!r}")
-    if not (math.isfinite(frequency_mhz) and frequency_mhz > 0):
-        raise ProfilerError(f"frequency must be a positive number of MHz, got {frequency_mhz}")
-    max_mast_m = float(max_mast_m)
-    mast_step_m = float(mast_step_m)
-    if not (math.isfinite(max_mast_m) and max_mast_m > 0):
-        raise ProfilerError(f"--max-mast-m must be a positive height, got {max_mast_m}")
-    if not (math.isfinite(mast_step_m) and mast_step_m > 0):
-        raise ProfilerError(f"--mast-step-m must be a positive height, got {mast_step_m}")
-    masts = {}
-    for end, value in (("a", mast_a_m), ("b", mast_b_m)):
-        v = float(value)
-        if not (math.isfinite(v) and v >= 0):
-            raise ProfilerError(f"--mast-{end} must be a height of 0 m or more, got {value}")
-        if solve in (end, "both") and v > max_mast_m:
-            raise ProfilerError(f"--mast-{end} {v:g} m is above --max-mast-m {max_mast_m:g} m; "
-                                "raise --max-mast-m or give a lower current mast")
-        masts[end] = v
-    m_a0, m_b0 = masts["a"], masts["b"]
-    ratio = _check_ratio(clearance_ratio, "--clearance-ratio")
-    ratio_low = _check_ratio(low_k_clearance_ratio, "--low-k-clearance")
-    if min_margin_db is not None and not math.isfinite(float(min_margin_db)):
-        raise ProfilerError(f"--min-margin-db must be a finite number, got {min_margin_db}")
-    if ratio is None and ratio_low is None and min_margin_db is None:
-        raise ProfilerError("no criterion left: with --no-clearance give --min-margin-db")
-    k = geometry.parse_k_factor(k_factor)
-    k_low = geometry.parse_k_factor(low_k_factor)
-    limits.check_values({"--freq-mhz": frequency_mhz, "--mast-a": m_a0, "--mast-b": m_b0, "--max-mast-m": max_mast_m,
-                         "--mast-step-m": mast_step_m, "--clearance-ratio": ratio, "--low-k-clearance": ratio_low,
-                         "--min-margin-db": min_margin_db, "--k": k, "--low-k": k_low})
+    max_mast_m, mast_step_m, m_a0, m_b0, ratio, ratio_low = _validated(
+        solve, frequency_mhz, max_mast_m, mast_step_m, mast_a_m, mast_b_m, clearance_ratio,
+        low_k_clearance_ratio, min_margin_db)
+    plan = regional_plan(band) if band is not None else None
+    k, k_low = geometry.parse_k_factor(k_factor), geometry.parse_k_factor(low_k_factor)
+    limits.check_values({"--k": k, "--low-k": k_low})
+    pb = _MastProblem(profile, solve, m_a0, m_b0, frequency_mhz, k, k_low, radio, plan, max_mast_m)
 
-    d = np.asarray(profile.distance_m, dtype=float)
-    terrain = np.asarray(profile.terrain_m, dtype=float)
-    if d.size < 3:
-        raise ProfilerError("the profile needs at least 3 samples (the two sites and one between)")
-    total = float(d[-1])
-    g_a, g_b = float(terrain[0]), float(terrain[-1])
-    lam = float(_wavelength_m(frequency_mhz))
-    ae = float(geometry.effective_radius_m(k))
-    ae_low = float(geometry.effective_radius_m(k_low))
-    d2 = total - d
-    f1 = geometry.fresnel_radius_m(d, d2, lam)
-    bulge = geometry.earth_bulge_m(d, d2, ae)
-    bulge_low = geometry.earth_bulge_m(d, d2, ae_low)
+    criteria, clearance_req = _clearance_criteria(pb, ratio, ratio_low)
+    name_c = max(clearance_req, key=lambda n: clearance_req[n][0]) if clearance_req else None
+    t_clear = max(pb.lower, round_up_mm(clearance_req[name_c][0])) if name_c else pb.lower
+    clearance_ok = t_clear <= pb.upper + 1e-12
 
-    # The solved parameter t: mast at A, mast at B, or the height added at both ends.
-    if solve == "a":
-        lower, current, upper = 0.0, m_a0, max_mast_m
-    elif solve == "b":
-        lower, current, upper = 0.0, m_b0, max_mast_m
-    else:
-        lower, current, upper = -min(m_a0, m_b0), 0.0, max_mast_m - max(m_a0, m_b0)
-
-    def masts_at(t):
-        if solve == "a":
-            return t, m_b0
-        if solve == "b":
-            return m_a0, t
-        return m_a0 + t, m_b0 + t
-
-    def worst(ma, mb, bulge_k):
-        los = geometry.line_of_sight_m(d, total, g_a + ma, g_b + mb)
-        r = geometry.clearance_ratio(geometry.clearance_m(los, terrain, bulge_k), f1)[1:-1]
-        i = int(np.argmin(r))
-        return float(r[i]), i + 1
-
-    cache: dict[float, dict] = {}
-
-    def radio_at(t):
-        key = round(float(t), 9)
-        if key not in cache:
-            ma, mb = masts_at(key)
-            loss, bud, _ = radio_results(d, terrain, g_a + ma, g_b + mb, frequency_mhz, ae, radio)
-            cache[key] = {"diffraction_db": float(loss["diffraction"]), "margin_db": float(bud["margin_db"]),
-                          "sf": int(bud["sf"])}
-        return cache[key]
-
-    def state(t):
-        ma, mb = masts_at(t)
-        return {"mast_a_m": ma, "mast_b_m": mb, "worst_ratio": worst(ma, mb, bulge)[0],
-                "worst_ratio_low_k": worst(ma, mb, bulge_low)[0], **radio_at(t)}
-
-    def pair(t):
-        ma, mb = masts_at(t)
-        return {"required_mast_a_m": ma, "required_mast_b_m": mb}
-
-    def point(index):
-        out = {"distance_m": float(d[index]), "terrain_m": float(terrain[index])}
-        if profile.lat_deg is not None:
-            out["lat_deg"] = float(profile.lat_deg[index])
-            out["lon_deg"] = float(profile.lon_deg[index])
-        return out
-
-    # --- clearance criteria: closed form -------------------------------------------------
-    criteria = []
-    clearance_req = {}  # name -> (exact bound, index, target array)
-    for name, r, kk, ae_k in (("clearance", ratio, k, ae), ("clearance_low_k", ratio_low, k_low, ae_low)):
-        if r is None:
-            continue
-        target = clearance_target_m(d, terrain, lam, ae_k, r)
-        bound, idx = required_height_m(d, target, g_a, g_b, solve, m_a0, m_b0)
-        clearance_req[name] = (bound, idx, target)
-        t_req = max(lower, round_up_mm(bound))
-        criteria.append({"criterion": name, "clearance_ratio": r, "k_factor": kk, "effective_radius_m": ae_k,
-                         **pair(t_req), "within_max": bool(t_req <= upper + 1e-12), **point(idx)})
-
-    if clearance_req:
-        name_c = max(clearance_req, key=lambda n: clearance_req[n][0])
-        t_clear = max(lower, round_up_mm(clearance_req[name_c][0]))
-    else:
-        name_c, t_clear = None, lower
-    clearance_ok = t_clear <= upper + 1e-12
-
-    # --- margin criterion: grid scan, then bisection ---------------------------------------
-    grid = _height_grid(lower, current, upper, mast_step_m)
-    table_t = grid[grid >= current - 1e-9]
-    notes = []
-    margin_monotone = None
-    t_margin = None
+    grid = _height_grid(pb.lower, pb.current, pb.upper, mast_step_m)
+    table_t = grid[grid >= pb.current - 1e-9]
+    notes, t_margin, x_db = [], None, None
     if min_margin_db is not None:
         x_db = float(min_margin_db)
-        margins = np.array([radio_at(t)["margin_db"] for t in grid])
-        drops = np.diff(margins) < -MONOTONE_TOLERANCE_DB
-        margin_monotone = not bool(drops.any())
-        if not margin_monotone:
-            j = int(np.argmax(drops))
-            notes.append(
-                f"the margin does not increase steadily with height: it drops from {margins[j]:.2f} dB to "
-                f"{margins[j + 1]:.2f} dB between grid heights {grid[j]:g} and {grid[j + 1]:g} m; the solver "
-                f"took the lowest grid height meeting {x_db:g} dB and refined within its {mast_step_m:g} m cell")
-
-        def lowest_meeting(t_lo):
-            """Lowest t >= t_lo on [t_lo, upper] with margin >= x_db (grid scan, then bisection)."""
-            if t_lo > upper + 1e-12:
-                return None
-            if radio_at(t_lo)["margin_db"] >= x_db:
-                return t_lo
-            prev = t_lo
-            for t in grid[grid > t_lo + 1e-9]:
-                if radio_at(t)["margin_db"] >= x_db:
-                    lo, hi = prev, float(t)
-                    while hi - lo > MARGIN_TOLERANCE_M:
-                        mid = 0.5 * (lo + hi)
-                        if radio_at(mid)["margin_db"] >= x_db:
-                            hi = mid
-                        else:
-                            lo = mid
-                    # Prefer a whole millimetre; keep the verified bracket end otherwise.
-                    for r in (round_up_mm(lo), round(round_up_mm(lo) + 0.001, 3), round_up_mm(hi)):
-                        if r <= float(t) + 1e-12 and radio_at(r)["margin_db"] >= x_db:
-                            return r
-                    return hi
-                prev = float(t)
-            return None
-
-        t_margin_alone = lowest_meeting(lower)
-        criteria.append({"criterion": "margin", "min_margin_db": x_db, "sf": radio.sf,
-                         "diffraction_method": radio.diffraction_method, "k_factor": k,
-                         **(pair(t_margin_alone) if t_margin_alone is not None
-                            else {"required_mast_a_m": None, "required_mast_b_m": None}),
-                         "within_max": t_margin_alone is not None, "monotone": margin_monotone})
-        if not clearance_ok or t_margin_alone is None:
-            t_margin = None
-        elif t_margin_alone >= t_clear:
-            t_margin = t_margin_alone
-        else:
-            t_margin = lowest_meeting(t_clear)
+        row, t_margin, margin_monotone, notes = _margin_criterion(pb, grid, x_db, t_clear, clearance_ok, mast_step_m)
+        criteria.append(row)
     else:
-        x_db = None
-        margins = np.array([radio_at(t)["margin_db"] for t in table_t])
-        if margins.size > 1:
-            margin_monotone = not bool((np.diff(margins) < -MONOTONE_TOLERANCE_DB).any())
+        margins = np.array([pb.margin_at(t) for t in table_t])
+        margin_monotone, notes = (_monotone_note(pb, table_t, margins, None, mast_step_m) if margins.size > 1
+                                  else (None, []))
 
-    # --- the answer -------------------------------------------------------------------------
     feasible = clearance_ok and (min_margin_db is None or t_margin is not None)
-    message = None
-    best = None
-    t_sol = None
+    message = best = t_sol = None
     if feasible:
         t_sol = t_margin if min_margin_db is not None else t_clear
-        if min_margin_db is not None and t_sol > t_clear + 1e-12:
-            criterion = "margin"
-        elif name_c is not None and clearance_req[name_c][0] > lower:
-            criterion = name_c
-        elif min_margin_db is not None and t_sol > lower:
-            criterion = "margin"
-        else:
-            criterion = "none"
-        if criterion in clearance_req:
-            idx = clearance_req[criterion][1]
-        else:
-            idx = worst(*masts_at(t_sol), bulge)[1]
-        binding = {"criterion": criterion, **point(idx)}
+        binding = _feasible_binding(pb, t_sol, t_clear, name_c, clearance_req, min_margin_db)
     else:
-        if not clearance_ok:
-            criterion = name_c
-            idx = clearance_req[name_c][1]
-            r_need = ratio if name_c == "clearance" else ratio_low
-            k_need = k if name_c == "clearance" else k_low
-            best = {**state(upper)}
-            best_ratio = best["worst_ratio"] if name_c == "clearance" else best["worst_ratio_low_k"]
-            need = round_up_mm(clearance_req[name_c][0])
-            need_text = (f"{need:.2f} m at {solve.upper()}" if solve != "both"
-                         else f"{need:.2f} m added at both ends")
-            what = (f"clearance {r_need:g} F1 at k = {k_need:.4g} would need {need_text}; best achievable worst "
-                    f"clearance {best_ratio:.2f} F1")
-        else:
-            criterion = "margin"
-            t_ok = grid[grid >= t_clear - 1e-9]
-            vals = np.array([radio_at(t)["margin_db"] for t in t_ok])
-            t_best = float(t_ok[int(np.argmax(vals))])
-            best = {**state(t_best)}
-            idx = worst(*masts_at(t_best), bulge)[1]
-            what = f"best achievable margin {best['margin_db']:.1f} dB (need {x_db:g} dB)"
-        binding = {"criterion": criterion, **point(idx)}
-        where = {"a": "at A", "b": "at B", "both": "at both ends"}[solve]
-        at = (f"with {best['mast_a_m']:.2f} m at A and {best['mast_b_m']:.2f} m at B" if solve == "both"
-              else f"with {best['mast_' + solve + '_m']:.2f} m")
-        message = (f"no mast up to {max_mast_m:g} m {where} meets the criteria: binding obstruction at "
-                   f"{d[idx] / 1000.0:.3f} km (terrain {terrain[idx]:.1f} m); {what} {at}")
+        ratios = {"clearance": (ratio, pb.k), "clearance_low_k": (ratio_low, pb.k_low)}
+        binding, best, message = _infeasible(pb, grid, clearance_ok, name_c, clearance_req, ratios, x_db, max_mast_m)
 
-    at_required = state(t_sol) if feasible else None
-    per_metre = None
-    if feasible:
-        t0, t1 = (t_sol, t_sol + 1.0) if t_sol + 1.0 <= upper + 1e-12 else (max(lower, t_sol - 1.0), t_sol)
-        if t1 > t0:
-            s0, s1 = state(t0), state(t1)
-            span = t1 - t0
-            per_metre = {"from_m": t0, "to_m": t1,
-                         **{f"{key}_per_m": (s1[key] - s0[key]) / span
-                            for key in ("worst_ratio", "worst_ratio_low_k", "diffraction_db", "margin_db")}}
-
-    # --- cheapest split when both ends may be raised ----------------------------------------
     split = None
     if solve == "both":
-        split = _cheapest_split(d, g_a, g_b, clearance_req, max_mast_m, mast_step_m, x_db,
-                                lambda ma, mb: radio_results(d, terrain, g_a + ma, g_b + mb, frequency_mhz,
-                                                             ae, radio)[1]["margin_db"])
+        split = _cheapest_split(pb.d, pb.g_a, pb.g_b, clearance_req, max_mast_m, mast_step_m, x_db,
+                                lambda ma, mb: pb.radio_masts(ma, mb)["margin_db"])
         if split is not None:
-            split.update({"worst_ratio": worst(split["mast_a_m"], split["mast_b_m"], bulge)[0],
-                          "worst_ratio_low_k": worst(split["mast_a_m"], split["mast_b_m"], bulge_low)[0]})
+            split.update({"worst_ratio": pb.worst(split["mast_a_m"], split["mast_b_m"])[0],
+                          "worst_ratio_low_k": pb.worst(split["mast_a_m"], split["mast_b_m"], True)[0]})
 
-    table = [state(t) for t in table_t]
     warnings = []
     if profile.voids_filled:
         warnings.append(f"{profile.voids_filled} profile samples were interpolated across elevation voids")
@@ -655,22 +707,25 @@ def solve_mast(profile: TerrainProfile, *, frequency_mhz: float, solve: str = "b
                 "lon_deg": None if lat_lon is None else float(lat_lon[1]),
                 "ground_m": float(ground), "mast_m": float(mast)}
 
-    req_a, req_b = masts_at(t_sol) if feasible else (None, None)
-    if not feasible:
+    if feasible:
+        req_a, req_b = pb.masts_at(t_sol)
+    else:
         req_a = None if solve in ("a", "both") else m_a0
         req_b = None if solve in ("b", "both") else m_b0
     return MastResult(
-        site_a=site(name_a, site_a_lat_lon, g_a, m_a0),
-        site_b=site(name_b, site_b_lat_lon, g_b, m_b0),
-        frequency_mhz=float(frequency_mhz), band=band, wavelength_m=lam, distance_m=total,
+        site_a=site(name_a, site_a_lat_lon, pb.g_a, m_a0),
+        site_b=site(name_b, site_b_lat_lon, pb.g_b, m_b0),
+        frequency_mhz=float(frequency_mhz), band=band, wavelength_m=pb.lam, distance_m=pb.total,
         solve=solve, criteria=criteria, feasible=bool(feasible),
         required_mast_a_m=req_a, required_mast_b_m=req_b,
-        added_height_m=t_sol if (feasible and solve == "both") else None,
-        binding=binding, at_required=at_required, per_extra_metre=per_metre, best_achievable=best,
+        added_height_m=round(t_sol, 6) if (feasible and solve == "both") else None,
+        binding=binding, at_required=pb.state(t_sol) if feasible else None,
+        per_extra_metre=_per_extra_metre(pb, t_sol) if feasible else None, best_achievable=best,
         cheapest_split=split, margin_monotone=margin_monotone, max_mast_m=max_mast_m, mast_step_m=mast_step_m,
         search={"parameter": {"a": "mast_a_m", "b": "mast_b_m", "both": "added_height_m"}[solve],
-                "lower_m": lower, "current_m": current, "upper_m": upper},
-        table=table, diffraction_method=radio.diffraction_method, message=message, notes=notes,
+                "lower_m": pb.lower, "current_m": pb.current, "upper_m": pb.upper},
+        table=[pb.state(t) for t in table_t], diffraction_method=radio.diffraction_method, message=message,
+        notes=notes,
         dem={"kind": profile.kind, "sources": list(profile.sources), "voids_filled": int(profile.voids_filled)},
         warnings=warnings,
     )

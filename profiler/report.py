@@ -110,7 +110,9 @@ def summary_rows(report: dict) -> list[tuple[str, object]]:
         ("diffraction_method", loss["diffraction_method"]),
         ("extra_loss_db", loss["extra"]), ("polarization_loss_db", loss["polarization"]),
         ("total_loss_db", loss["total"]), ("rx_power_dbm", bud["rx_power_dbm"]),
-        ("margin_db", bud["margin_db"]), ("sf", bud["sf"]), ("closes", bud["closes"]),
+        ("margin_db", bud["margin_db"]), ("sf", bud["sf"]), ("dr", bud.get("dr")), ("closes", bud["closes"]),
+        ("downlink_margin_db", report["budget_downlink"]["margin_db"]),
+        ("downlink_closes", report["budget_downlink"]["closes"]),
         ("caution", CAUTION),
     ]
 
@@ -154,12 +156,43 @@ def summary_text(report: dict) -> str:
     lines.append(f"  losses        free space {loss['free_space']:.1f} dB + diffraction {loss['diffraction']:.1f} dB "
                  f"({loss['diffraction_method']}) + extra {loss['extra']:.1f} dB + polarization "
                  f"{loss['polarization']:.1f} dB = {loss['total']:.1f} dB")
-    lines.append(f"  budget        EIRP {bud['eirp_dbm']:.1f} dBm, received {bud['rx_power_dbm']:.1f} dBm, "
-                 f"sensitivity {bud['sensitivity_dbm']:.1f} dBm (SF{bud['sf']}), margin {bud['margin_db']:.1f} dB "
-                 f"(need {bud['fade_margin_required_db']:.1f} dB)")
-    sf = lora["lowest_closing_sf"]
-    lines.append(f"  recommended   {'SF' + str(sf) if sf is not None else 'no spreading factor closes the link'}")
+    lines += budget_lines(report)
     for msg in report["warnings"]:
         lines.append(f"  warning       {msg}")
     lines.append(f"  {CAUTION}")
     return "\n".join(lines) + "\n"
+
+
+def rate_text(sf, bw_khz, dr=None) -> str:
+    """``DR5 (SF7/125 kHz)``, or ``SF7/125 kHz`` without a DR number."""
+    rate = f"SF{sf}/{bw_khz:g} kHz"
+    return rate if dr is None else f"DR{dr} ({rate})"
+
+
+def budget_lines(report: dict) -> list[str]:
+    """The two budget lines and the recommendation of the human summary."""
+    lines = []
+    lora = report["lora"]
+    for label, bud in (("uplink", report["budget"]), ("downlink", report["budget_downlink"])):
+        tx, rx = bud["transmitter"].upper(), bud["receiver"].upper()
+        rate = f" at {rate_text(bud['sf'], bud['bw_khz'], bud['dr'])}" if bud["sf"] is not None else ""
+        lines.append(f"  {label:<13} {tx}->{rx}: EIRP {bud['eirp_dbm']:.1f} dBm, received {bud['rx_power_dbm']:.1f} dBm, "
+                     f"sensitivity {bud['sensitivity_dbm']:.1f} dBm{rate}, margin {bud['margin_db']:.1f} dB "
+                     f"(need {bud['fade_margin_required_db']:.1f} dB)")
+    if lora is None:
+        return lines
+    if lora.get("uplink") is not None:
+        parts = []
+        for direction in ("uplink", "downlink"):
+            block = lora[direction]
+            dr = block["recommended_dr"]
+            if dr is None:
+                parts.append(f"{direction}: no allowed data rate closes")
+            else:
+                row = next(r for r in block["per_dr"] if r["dr"] == dr)
+                parts.append(f"{direction} {rate_text(row['sf'], row['bw_khz'], dr)}")
+        lines.append(f"  recommended   {'; '.join(parts)}")
+    else:
+        sf = lora["lowest_closing_sf"]
+        lines.append(f"  recommended   {rate_text(sf, lora['bw_khz']) if sf is not None else 'no spreading factor closes the link'}")
+    return lines

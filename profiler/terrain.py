@@ -15,15 +15,13 @@ from pathlib import Path
 import numpy as np
 
 from .errors import ProfilerError
-from .limits import MAX_PROFILE_SAMPLES, check, check_array
-from .path import geodesic_path, validate_lat_lon
+from .engine import MAX_SAMPLES  # noqa: F401  (re-exported)
+from .limits import check, check_array
+from .path import validate_lat_lon
 
-MAX_SAMPLES = MAX_PROFILE_SAMPLES
-"""Upper bound on profile samples; a finer step is refused with a hint (see :mod:`profiler.limits`)."""
-
-
-MIN_SURVEY_SPACING_M = 0.01
+MIN_SURVEY_SPACING_M = 0.001
 """Closest allowed spacing of surveyed profile rows [m] (the smallest --step-m)."""
+
 
 
 @dataclass(frozen=True)
@@ -65,10 +63,6 @@ class TerrainProfile:
         return float(self.distance_m[-1])
 
 
-def _describe_point(distance_m: float, lat: float, lon: float) -> str:
-    return f"{distance_m / 1000.0:.3f} km from site A ({lat:.5f}, {lon:.5f})"
-
-
 def profile_from_dem(model, lat_a_deg: float, lon_a_deg: float, lat_b_deg: float, lon_b_deg: float,
                      step_m: float | None = None, fill_voids: bool = False,
                      name_a: str = "site A", name_b: str = "site B") -> TerrainProfile:
@@ -90,60 +84,27 @@ def profile_from_dem(model, lat_a_deg: float, lon_a_deg: float, lat_b_deg: float
     -------
     TerrainProfile
     """
-    from .dem import fill_voids_along_profile
+    from .engine import sample_links
 
     lat_a, lon_a = validate_lat_lon(lat_a_deg, lon_a_deg, name_a)
     lat_b, lon_b = validate_lat_lon(lat_b_deg, lon_b_deg, name_b)
-    ends_lon = np.array([lon_a, lon_b])
-    ends_lat = np.array([lat_a, lat_b])
-    inside = model.covers(ends_lon, ends_lat)
-    for ok, name, lat, lon in zip(inside, (name_a, name_b), ends_lat, ends_lon):
-        if not ok:
-            raise ProfilerError(
-                f"{name} ({lat:.5f}, {lon:.5f}) is outside the elevation data; coverage: {model.bounds_text()}")
-    if step_m is None:
-        coarse = geodesic_path(lat_a, lon_a, lat_b, lon_b, step_m=max(1.0, _coarse_step(lat_a, lon_a, lat_b, lon_b)))
-        covered = model.covers(coarse.lon_deg, coarse.lat_deg)
-        step_m = float(model.pixel_size_m(coarse.lon_deg[covered], coarse.lat_deg[covered]))
-    else:
+    if step_m is not None:
         step_m = check("--step-m", step_m)
-    path = geodesic_path(lat_a, lon_a, lat_b, lon_b, step_m)  # refuses more than MAX_SAMPLES samples
-    covered = model.covers(path.lon_deg, path.lat_deg)
-    if not covered.all():
-        i = int(np.argmin(covered))
-        raise ProfilerError(
-            f"the path leaves the elevation data at {_describe_point(path.distance_m[i], path.lat_deg[i], path.lon_deg[i])}; "
-            f"add the missing tiles with --dem (coverage: {model.bounds_text()})")
-    terrain = model.sample(path.lon_deg, path.lat_deg)
-    voids = ~np.isfinite(terrain)
-    n_filled = 0
-    if voids.any():
-        if not fill_voids:
-            i = int(np.argmax(voids))
-            raise ProfilerError(
-                f"the elevation data has a void ({int(voids.sum())} samples) starting "
-                f"{_describe_point(path.distance_m[i], path.lat_deg[i], path.lon_deg[i])}; "
-                "use --fill-voids to interpolate across it or add better data")
-        terrain, n_filled = fill_voids_along_profile(path.distance_m, terrain)
-    # An undeclared void value (e.g. -3.4e38) is refused here, not computed with.
-    check_array("terrain", terrain, lambda i: "the elevation data's height "
-                + _describe_point(path.distance_m[i], path.lat_deg[i], path.lon_deg[i]))
+    batch = sample_links(model, lat_a, lon_a, lat_b, lon_b, step_m=step_m, fill_voids=fill_voids,
+                         names_a=[name_a], names_b=[name_b])
+    if batch.error[0] is not None:
+        raise ProfilerError(batch.error[0])
+    m = int(batch.n[0])
+    lat, lon = batch.lat_deg[0, :m], batch.lon_deg[0, :m]
     sources = [
         {"path": s.path, "sha256": s.sha256, "crs": s.crs, "resolution": list(s.resolution)}
-        for s in model.sources_used(path.lon_deg, path.lat_deg)
+        for s in model.sources_used(lon, lat)
     ]
-    return TerrainProfile(distance_m=path.distance_m, terrain_m=np.asarray(terrain, dtype=float),
-                          lat_deg=path.lat_deg, lon_deg=path.lon_deg,
-                          azimuth_a_to_b_deg=path.azimuth_a_to_b_deg,
-                          azimuth_b_to_a_deg=path.azimuth_b_to_a_deg,
-                          sources=sources, voids_filled=int(n_filled), kind="dem")
-
-
-def _coarse_step(lat_a, lon_a, lat_b, lon_b) -> float:
-    from .path import geodesic_inverse
-
-    length, _, _ = geodesic_inverse(lat_a, lon_a, lat_b, lon_b)
-    return length / 64.0
+    return TerrainProfile(distance_m=batch.distance_m[0, :m], terrain_m=batch.terrain_m[0, :m],
+                          lat_deg=lat, lon_deg=lon,
+                          azimuth_a_to_b_deg=float(batch.azimuth_a_to_b_deg[0]),
+                          azimuth_b_to_a_deg=float(batch.azimuth_b_to_a_deg[0]),
+                          sources=sources, voids_filled=int(batch.voids_filled[0]), kind="dem")
 
 
 def read_profile_csv(path) -> TerrainProfile:

@@ -314,14 +314,26 @@ def test_module_has_no_python_loops():
     assert loops == []
 
 
-def test_delta_bullington_speed_on_3000_samples():
-    # Project requirement: under 2 ms per call on 3,000 samples (checked loosely here
-    # at 5 ms best-of-30 so a busy CI machine does not fail the suite).
-    d = np.linspace(0.0, 30_000.0, 3000)
-    h = 200.0 + 80.0 * np.sin(d / 4_000.0) + 3.0 * np.cos(d / 37.0)
-    best = math.inf
-    for _ in range(30):
-        t0 = time.perf_counter()
-        delta_bullington(d, h, h[0] + 15.0, h[-1] + 10.0, 868.0, 8_500_000.0)
-        best = min(best, time.perf_counter() - t0)
-    assert best < 5e-3
+def test_batch_equals_single_profiles():
+    # One engine: a batch of padded profiles of different lengths gives, row by row, exactly the
+    # single-profile results (the single-profile functions are checked against the ITU-R SG3
+    # validation examples above).  The check value is the scalar path, validated externally.
+    rng = np.random.default_rng(7)
+    rows = []
+    for n in (5, 40, 333):
+        d = np.linspace(0.0, rng.uniform(2e3, 4e4), n)
+        h = 100.0 + rng.uniform(0.0, 120.0, n)
+        rows.append((d, h, h[0] + rng.uniform(1, 30), h[-1] + rng.uniform(1, 30)))
+    n_max = max(r[0].size for r in rows)
+    dd = np.zeros((3, n_max))
+    hh = np.zeros((3, n_max))
+    for i, (d, h, _, _) in enumerate(rows):
+        dd[i, :d.size], hh[i, :h.size] = d, h
+    out = diffraction.diffraction_batch(dd, hh, np.array([r[0].size for r in rows]),
+                                        np.array([r[2] for r in rows]), np.array([r[3] for r in rows]),
+                                        868.0, 8.5e6)
+    for i, (d, h, ha, hb) in enumerate(rows):
+        single = delta_bullington(d, h, ha, hb, 868.0, 8.5e6)
+        assert out["delta_bullington"][i] == pytest.approx(single.loss_db, abs=1e-9)
+        assert out["spherical_earth"][i] == pytest.approx(single.spherical_earth_db, abs=1e-9)
+        assert out["knife_edge"][i] == pytest.approx(knife_edge(d, h, ha, hb, 868.0, 8.5e6).loss_db, abs=1e-9)

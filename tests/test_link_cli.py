@@ -25,7 +25,8 @@ QUARRY = "-29.965,-19.82"        # path crosses the synthetic void
 TOP_KEYS = {"schema", "tool_version", "site_a", "site_b", "frequency_mhz", "band", "wavelength_m", "k_factor",
             "effective_radius_m", "distance_m", "azimuth_a_to_b_deg", "azimuth_b_to_a_deg",
             "elevation_angle_a_deg", "elevation_angle_b_deg", "profile", "worst", "line_of_sight",
-            "fresnel_clear", "clearance_ratio_required", "dem", "warnings", "loss_db", "budget", "lora"}
+            "fresnel_clear", "clearance_ratio_required", "dem", "warnings", "loss_db", "budget", "lora",
+            "budget_downlink", "compliance", "slant_distance_m", "gateway"}
 SITE_KEYS = {"name", "lat_deg", "lon_deg", "ground_m", "mast_m", "antenna_amsl_m"}
 PROFILE_KEYS = {"distance_m", "lat_deg", "lon_deg", "terrain_m", "bulge_m", "los_m", "fresnel_radius_m", "clearance_m"}
 
@@ -53,7 +54,7 @@ def test_json_contract_on_sample_terrain():
     r = run_json("--dem", SAMPLE, "--site-a", GW, "--site-b", PUMP, "--name-a", "Cairnfell Beacon",
                  "--name-b", "Osterby Farm pump")
     assert TOP_KEYS <= set(r)
-    assert r["schema"] == "profiler.link/2"
+    assert r["schema"] == "profiler.link/3"
     assert SITE_KEYS <= set(r["site_a"]) and SITE_KEYS <= set(r["site_b"])
     assert PROFILE_KEYS <= set(r["profile"])
     assert {"distance_m", "clearance_m", "fresnel_ratio", "v"} <= set(r["worst"])
@@ -61,8 +62,8 @@ def test_json_contract_on_sample_terrain():
     src = r["dem"]["sources"][0]
     assert {"path", "sha256", "crs", "resolution"} <= set(src) and len(src["sha256"]) == 64
     assert {"free_space", "diffraction", "extra", "polarization", "total", "diffraction_method", "knife_edge",
-            "bullington", "delta_bullington", "spherical_earth", "effective_height_a_m",
-            "effective_height_b_m"} <= set(r["loss_db"])
+            "bullington", "delta_bullington", "spherical_earth", "smooth_surface_height_a_m",
+            "smooth_surface_height_b_m"} <= set(r["loss_db"])
     assert {"tx_power_dbm", "eirp_dbm", "rx_power_dbm", "sensitivity_dbm", "margin_db",
             "fade_margin_required_db", "closes", "sf"} <= set(r["budget"])
     assert {"bw_khz", "payload_bytes", "per_sf", "lowest_closing_sf"} <= set(r["lora"])
@@ -104,8 +105,10 @@ def test_total_loss_is_the_sum_of_its_parts():
     assert loss["polarization"] == pytest.approx(3.0103, abs=1e-3)
     assert loss["total"] == pytest.approx(loss["free_space"] + loss["diffraction"] + 7.5 + loss["polarization"])
     assert loss["diffraction"] == loss["delta_bullington"]
-    # ITU-R P.525-4: free-space loss 32.45 + 20 log f(MHz) + 20 log d(km) (constant 20 log10(4 pi 1e9 / c)).
-    f, dk = r["frequency_mhz"], r["distance_m"] / 1000
+    # ITU-R P.525-4: free-space loss 32.45 + 20 log f(MHz) + 20 log d(km) (constant 20 log10(4 pi 1e9 / c)),
+    # d the straight line between the antenna tips (hypot of ground distance and height difference).
+    dz = r["site_a"]["antenna_amsl_m"] - r["site_b"]["antenna_amsl_m"]
+    f, dk = r["frequency_mhz"], math.hypot(r["distance_m"], dz) / 1000
     assert loss["free_space"] == pytest.approx(32.4478 + 20 * math.log10(f) + 20 * math.log10(dk), abs=1e-3)
 
 
@@ -152,9 +155,40 @@ def test_csv_has_units_and_summary(tmp_path):
 
 def test_near_field_warning():
     # Two points about 2 m apart: closer than the 3 m rule of thumb (common practice).
-    r = run_json("--dem", SAMPLE, "--site-a", "-29.9,-19.9", "--site-b", "-29.9,-19.89998", "--step-m", "0.5")
+    r = run_json("--dem", SAMPLE, "--site-a", "-29.9,-19.9", "--site-b", "-29.9,-19.89998", "--step-m", "0.5",
+                 "--mast-a", "2", "--mast-b", "2")
     assert r["distance_m"] < 3
+    assert r["slant_distance_m"] < 3
     assert any("wavelengths" in w for w in r["warnings"])
+
+
+def test_slant_distance_and_free_space_use_the_antenna_tips():
+    # Equal ground distance, 10 m vs 2 m masts: the free-space loss uses the straight line between the
+    # antenna tips.  Reference: the Euclidean distance between the two tips in Earth-centred coordinates
+    # from pyproj (WGS84 geocentric, EPSG:4978), heights taken as ellipsoidal.
+    from pyproj import Transformer
+    r = run_json("--dem", SAMPLE, "--site-a", "-29.9,-19.9", "--site-b", "-29.9,-19.89998", "--step-m", "0.5")
+    a, b = r["site_a"]["antenna_amsl_m"], r["site_b"]["antenna_amsl_m"]
+    to_ecef = Transformer.from_crs("EPSG:4979", "EPSG:4978", always_xy=True)
+    pa = to_ecef.transform(-19.9, -29.9, a)
+    pb = to_ecef.transform(-19.89998, -29.9, b)
+    chord = math.dist(pa, pb)
+    assert r["slant_distance_m"] == pytest.approx(chord, rel=1e-6)
+    # Flat-Earth check (hypot): agrees to 1e-4 (the (R + h) / R arc stretch at ~650 m AMSL is 1e-4).
+    assert r["slant_distance_m"] == pytest.approx(math.hypot(r["distance_m"], a - b), rel=2e-4)
+    # P.525-4 eq. (4) with c from scipy.constants.
+    from scipy import constants
+    lam = constants.c / (r["frequency_mhz"] * 1e6)
+    assert r["loss_db"]["free_space"] == pytest.approx(20 * math.log10(4 * math.pi * chord / lam), abs=1e-6)
+
+
+def test_sites_centimetres_apart_are_refused_as_too_close():
+    # Two points about 2 cm apart (1e-7 deg of longitude at 30 S is about 1 cm; common geodesy).
+    r = run("link", "--dem", SAMPLE, "--site-a", "-29.9,-19.9", "--site-b", "-29.9,-19.8999998", "--step-m", "0.005",
+            "--mast-a", "2", "--mast-b", "2")
+    assert r.exit_code == 2
+    assert "too close" in r.stderr and "path loss" not in r.stderr
+    assert len(r.stderr.strip().splitlines()) == 1
 
 
 @pytest.mark.parametrize("args,needle", [

@@ -246,7 +246,7 @@ def test_sample_dem_solve_a_end_to_end(tmp_path):
     assert result.exit_code == 0, result.stderr
     assert "Cairnfell Beacon" in result.stdout and "each metre" in result.stdout
     report = json.loads(out.read_text())
-    assert report["schema"] == "profiler.mast/1"
+    assert report["schema"] == "profiler.mast/2"
     for key in ("feasible", "required_mast_a_m", "required_mast_b_m", "binding", "table"):
         assert key in report
     assert set(report["binding"]) >= {"criterion", "distance_m", "terrain_m"}
@@ -355,3 +355,33 @@ def test_bad_plot_extension_is_refused_before_solving(tmp_path):
     result = run("mast", "--profile", csv, "--solve", "a", "--plot", tmp_path / "mast.jpg")
     assert result.exit_code == 2 and result.stderr.startswith("profiler: error:") and ".png" in result.stderr
     assert not (tmp_path / "mast.jpg").exists()
+
+
+def test_mast_rounding_and_data_rate_per_row(tmp_path):
+    # EU868 plan, no --sf: the recommended data rate (RP002-1.0.4 2.4.3) changes as the mast rises, and a
+    # faster rate needs more signal, so the margin at the recommended rate drops there: the text table
+    # shows the DR of every row and flags the drop.
+    d, h = knife_edge_terrain(obstacle_m=40.0)
+    csv = write_profile(tmp_path, d, h)
+    common = ["--profile", csv, "--band", "EU868", "--mast-b", 2.3, "--tx-power-dbm", 0]
+    args = ["mast", *common, "--mast-a", 0.7, "--solve", "both", "--no-clearance", "--min-margin-db", 11.0,
+            "--max-mast-m", 40, "--mast-step-m", 0.7]
+    report = run_json(*args)
+    for row in report["table"]:
+        assert row["dr"] is not None and row["sf"] is not None
+        for key in ("mast_a_m", "mast_b_m"):
+            assert row[key] == round(row[key], 6)   # no float noise such as 35.089999999999996
+    assert report["required_mast_a_m"] == round(report["required_mast_a_m"], 6)
+    text = run(*args).stdout
+    assert "data rate" in text and "DR" in text
+    assert "faster data rate recommended" in text or not any(
+        b["margin_db"] < a["margin_db"] - 1e-6 and b["dr"] != a["dr"]
+        for a, b in zip(report["table"], report["table"][1:]))
+    # Heights in the text are rounded up to the centimetre and the parts add up.
+    req_line = next(ln for ln in text.splitlines() if ln.strip().startswith("required"))
+    a_txt = req_line.split("A ")[1].split(" m")[0]
+    assert float(a_txt) == math.ceil(report["required_mast_a_m"] * 100 - 1e-9) / 100
+    split_line = next(ln for ln in text.splitlines() if ln.strip().startswith("cheapest"))
+    parts = [float(x) for x in split_line.replace("=", "+").replace("m", "").split()[1:] if
+             x.replace(".", "").isdigit()]
+    assert parts[0] + parts[1] == pytest.approx(parts[2], abs=1e-9)

@@ -83,6 +83,9 @@ def _register():
     except ImportError:  # pragma: no cover - during development only
         return
     main.add_command(mast_command)
+    from .network import network_command
+
+    main.add_command(network_command)
 
 
 _register()

@@ -121,7 +121,7 @@ def mast_outputs(json_path, plot_path, paper="a4", dpi=200):
 
 def _criterion_text(c) -> str:
     if c["criterion"] == "margin":
-        sf = f"SF{c['sf']}" if c["sf"] is not None else "recommended SF"
+        sf = f"SF{c['sf']}" if c["sf"] is not None else "recommended data rate"
         return f"margin >= {c['min_margin_db']:g} dB ({sf}, {c['diffraction_method']})"
     return f"clearance >= {c['clearance_ratio']:g} F1 at k = {c['k_factor']:.4g}"
 
@@ -161,7 +161,7 @@ def mast_summary_text(report: dict) -> str:
         at = report["at_required"]
         low = f", {at['worst_ratio_low_k']:.2f} F1 at low k" if at["worst_ratio_low_k"] is not None else ""
         lines.append(f"  at that mast  worst clearance {at['worst_ratio']:.2f} F1{low}, diffraction "
-                     f"{at['diffraction_db']:.1f} dB, margin {at['margin_db']:.1f} dB (SF{at['sf']})")
+                     f"{at['diffraction_db']:.1f} dB, margin {at['margin_db']:.1f} dB{_rate(at)}")
         pm = report["per_extra_metre"]
         if pm is not None:
             what = "height added at both ends" if solve == "both" else f"mast {solve.upper()}"
@@ -172,21 +172,37 @@ def mast_summary_text(report: dict) -> str:
         lines.append(f"  result        INFEASIBLE: {report['message']}")
     split = report.get("cheapest_split")
     if split is not None:
-        lines.append(f"  cheapest      A {_up(split['mast_a_m'])} m + B {_up(split['mast_b_m'])} m = "
-                     f"{split['total_m']:.2f} m in total")
+        a_txt, b_txt = _up(split['mast_a_m']), _up(split['mast_b_m'])
+        lines.append(f"  cheapest      A {a_txt} m + B {b_txt} m = {float(a_txt) + float(b_txt):.2f} m in total")
     table = report["table"]
     if table:
         every = next(e for e in (1, 2, 5, 10, 20, 50, 100, 200, 500, 1000, 10**9) if len(table) <= 12 * e)
         shown = table[::every] + ([table[-1]] if (len(table) - 1) % every else [])
-        lines.append("  table         mast A [m]  mast B [m]  worst F1  low-k F1  diffr [dB]  margin [dB]"
+        lines.append("  table         mast A [m]  mast B [m]  worst F1  low-k F1  diffr [dB]  margin [dB]  data rate"
                      + (f"  (every {every}th row)" if every > 1 else ""))
+        previous = None
         for row in shown:
-            lines.append(f"                {row['mast_a_m']:10.2f}  {row['mast_b_m']:10.2f}  {_f(row['worst_ratio'])}"
-                         f"  {_f(row['worst_ratio_low_k'])}  {row['diffraction_db']:10.1f}  {row['margin_db']:11.1f}")
+            rate = _rate(row).strip(" ()") or "-"
+            change = ""
+            if previous is not None and row["margin_db"] < previous["margin_db"] - 1e-6 and \
+                    _rate(row) != _rate(previous):
+                change = "  <- lower margin: faster data rate recommended"
+            lines.append(f"                {_up(row['mast_a_m']):>10}  {_up(row['mast_b_m']):>10}  {_f(row['worst_ratio'])}"
+                         f"  {_f(row['worst_ratio_low_k'])}  {row['diffraction_db']:10.1f}  {row['margin_db']:11.1f}"
+                         f"  {rate}{change}")
+            previous = row
     for msg in report["notes"] + report["warnings"]:
         lines.append(f"  note          {msg}")
     lines.append(f"  {CAUTION}")
     return "\n".join(lines) + "\n"
+
+
+def _rate(row) -> str:
+    """`` (DR5, SF7/125 kHz)`` for a table row, empty without a LoRa rate (a given sensitivity)."""
+    if row.get("sf") is None:
+        return ""
+    rate = f"SF{row['sf']}/{row['bw_khz']:g} kHz"
+    return f" ({rate})" if row.get("dr") is None else f" (DR{row['dr']}, {rate})"
 
 
 def _f(x) -> str:

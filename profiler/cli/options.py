@@ -6,7 +6,7 @@ import math
 
 import click
 
-from ..analysis import DIFFRACTION_METHODS
+from ..radio import DIFFRACTION_METHODS
 from ..errors import ProfilerError
 
 
@@ -166,7 +166,16 @@ def frequency_options(f):
 def radio_options(f):
     """Link budget, LoRa modem, antennas, losses."""
     return _apply([
-        click.option("--tx-power-dbm", type=NUMBER, default=14.0, show_default=True, help="Transmitter power at A [dBm]."),
+        click.option("--gateway", type=click.Choice(["a", "b"]), default="a", show_default=True,
+                     help="Which end is the gateway; the other end is the node."),
+        click.option("--tx-power-dbm", type=NUMBER, default=None,
+                     help="The node's transmitter power [dBm] (shorthand for --tx-power-a/b-dbm of the node end; "
+                          "default 14 dBm, or the plan's EIRP limit if lower)."),
+        click.option("--tx-power-a-dbm", type=NUMBER, default=None,
+                     help="Transmitter power at A [dBm] (default: node 14 dBm, gateway 27 dBm, each at most the "
+                          "plan's EIRP limit)."),
+        click.option("--tx-power-b-dbm", type=NUMBER, default=None, help="Transmitter power at B [dBm]."),
+        click.option("--cap-eirp", is_flag=True, help="Lower each transmitter's power to the plan's EIRP limit."),
         click.option("--gain-a-dbi", type=NUMBER, default=2.15, show_default=True, help="Antenna gain at A [dBi]."),
         click.option("--gain-b-dbi", type=NUMBER, default=2.15, show_default=True, help="Antenna gain at B [dBi]."),
         click.option("--cable-loss-a-db", type=NON_NEGATIVE, default=0.0, show_default=True, help="Feeder loss at A [dB]."),
@@ -176,11 +185,18 @@ def radio_options(f):
         click.option("--sensitivity-dbm", type=NUMBER, default=None,
                      help="Receiver sensitivity [dBm]; default computed from the LoRa settings."),
         click.option("--bw-khz", type=NUMBER, default=125.0, show_default=True, help="LoRa bandwidth: 125, 250 or 500 [kHz]."),
-        click.option("--noise-figure-db", type=NON_NEGATIVE, default=6.0, show_default=True, help="Receiver noise figure [dB]."),
+        click.option("--noise-figure-db", type=NON_NEGATIVE, default=None,
+                     help="Receiver noise figure of both ends [dB] (default: gateway 3 dB, node 6 dB)."),
+        click.option("--noise-figure-a-db", type=NON_NEGATIVE, default=None, help="Receiver noise figure at A [dB]."),
+        click.option("--noise-figure-b-db", type=NON_NEGATIVE, default=None, help="Receiver noise figure at B [dB]."),
         click.option("--sf", type=INTEGER, default=None,
                      help="Spreading factor 7-12 for the budget (default: the lowest that closes, else 12)."),
-        click.option("--payload-bytes", type=INTEGER, default=12, show_default=True,
-                     help="LoRa PHY payload per uplink for time on air [bytes]."),
+        click.option("--payload-bytes", type=INTEGER, default=None,
+                     help="LoRa PHY payload per message for time on air [bytes] (default 12)."),
+        click.option("--app-payload-bytes", type=INTEGER, default=None,
+                     help="Application payload instead [bytes]: PHY = N + 13 (header, port, MIC)."),
+        click.option("--dwell-time", type=click.Choice(["on", "off"]), default=None,
+                     help="Uplink dwell-time limit where the plan lets the network choose (AS923, AU915)."),
         click.option("--polarization-a", default="vertical", show_default=True,
                      help="Antenna polarization at A: vertical, horizontal or degrees from vertical."),
         click.option("--polarization-b", default="vertical", show_default=True,
@@ -196,11 +212,12 @@ def radio_options(f):
 
 def radio_settings(kw):
     """Build :class:`RadioSettings` from the parsed radio options (popping them from ``kw``)."""
-    from ..analysis import RadioSettings
+    from ..radio import RadioSettings
 
-    names = ("tx_power_dbm", "gain_a_dbi", "gain_b_dbi", "cable_loss_a_db", "cable_loss_b_db", "fade_margin_db",
-             "sensitivity_dbm", "bw_khz", "noise_figure_db", "sf", "payload_bytes", "polarization_a",
-             "polarization_b", "sea_fraction", "diffraction_method", "extra_loss_db")
+    names = ("gateway", "tx_power_dbm", "tx_power_a_dbm", "tx_power_b_dbm", "cap_eirp", "gain_a_dbi", "gain_b_dbi",
+             "cable_loss_a_db", "cable_loss_b_db", "fade_margin_db", "sensitivity_dbm", "bw_khz", "noise_figure_db",
+             "noise_figure_a_db", "noise_figure_b_db", "sf", "payload_bytes", "app_payload_bytes", "dwell_time",
+             "polarization_a", "polarization_b", "sea_fraction", "diffraction_method", "extra_loss_db")
     return RadioSettings(**{n: kw.pop(n) for n in names})
 
 

@@ -1,0 +1,187 @@
+"""profiler network: one engine with profiler link, errors per row, the JSON contract, Dask."""
+
+import json
+import math
+from pathlib import Path
+
+import numpy as np
+import pytest
+from click.testing import CliRunner
+from geographiclib.geodesic import Geodesic
+
+from profiler.cli import main
+
+ROOT = Path(__file__).resolve().parents[1]
+SAMPLE = str(ROOT / "dem_samples")
+EXAMPLE_SITES = ROOT / "examples" / "vellmoor_network.csv"
+GW = (-29.9125, -19.955)        # Cairnfell Beacon (invented)
+GW2 = (-29.8535, -19.787)       # Tollan Down mast (invented)
+HEADER = "name,lat_deg,lon_deg,mast_m,role\n"
+
+LINK_KEYS = {"gateway", "node", "distance_m", "azimuth_deg", "line_of_sight", "fresnel_clear", "worst_fresnel_ratio",
+             "worst_distance_m", "diffraction_db", "total_loss_db", "margin_db", "downlink_margin_db",
+             "recommended_dr", "closes", "error"}
+
+
+def run(*args):
+    return CliRunner().invoke(main, [str(a) for a in args], catch_exceptions=False)
+
+
+def net_json(*args):
+    res = run("network", *args, "--json", "-", "--no-progress")
+    assert res.exit_code == 0, res.output
+    return json.loads(res.stdout)
+
+
+def random_sites(tmp_path, n_nodes=25, seed=3, extra=""):
+    """Two gateways and random nodes inside the sample DEM (lat -30.05..-29.8, lon -20..-19.75)."""
+    rng = np.random.default_rng(seed)
+    lat = rng.uniform(-30.04, -29.81, n_nodes)
+    lon = rng.uniform(-19.99, -19.76, n_nodes)
+    mast = rng.choice([1.5, 2.0, 3.0, 6.0], n_nodes)
+    rows = [f"Gate One,{GW[0]},{GW[1]},10,gateway", f"Gate Two,{GW2[0]},{GW2[1]},15,gateway"]
+    rows += [f"node {i:02d},{float(lat[i])!r},{float(lon[i])!r},{float(mast[i])!r},node" for i in range(n_nodes)]
+    path = tmp_path / "sites.csv"
+    path.write_text(HEADER + "\n".join(rows) + "\n" + extra)
+    return path
+
+
+def test_every_network_number_equals_profiler_link(tmp_path):
+    # One engine: each link of the table equals `profiler link --site-a GATEWAY --site-b NODE --gateway a`
+    # with the same masts and options, to 0.01 dB and 1 cm (the issue's contract).
+    sites = random_sites(tmp_path)
+    opts = ["--band", "EU868", "--gain-a-dbi", "4", "--cable-loss-a-db", "1", "--fill-voids"]
+    report = net_json("--dem", SAMPLE, "--sites", sites, *opts)
+    by_name = {s["name"]: s for s in report["sites"]}
+    checked = 0
+    for row in report["links"][::3]:
+        if row["error"]:
+            continue
+        g, n = by_name[row["gateway"]], by_name[row["node"]]
+        one = json.loads(run("link", "--dem", SAMPLE, "--site-a", f"{g['lat_deg']},{g['lon_deg']}",
+                             "--site-b", f"{n['lat_deg']},{n['lon_deg']}", "--mast-a", g["mast_m"],
+                             "--mast-b", n["mast_m"], "--gateway", "a", *opts, "--json", "-").stdout)
+        assert row["distance_m"] == pytest.approx(one["distance_m"], abs=0.01)
+        assert row["worst_distance_m"] == pytest.approx(one["worst"]["distance_m"], abs=0.01)
+        assert row["worst_fresnel_ratio"] == pytest.approx(one["worst"]["fresnel_ratio"], abs=1e-6)
+        assert row["azimuth_deg"] == pytest.approx(one["azimuth_a_to_b_deg"], abs=1e-9)
+        assert row["diffraction_db"] == pytest.approx(one["loss_db"]["diffraction"], abs=0.01)
+        assert row["total_loss_db"] == pytest.approx(one["loss_db"]["total"], abs=0.01)
+        assert row["margin_db"] == pytest.approx(one["budget"]["margin_db"], abs=0.01)
+        assert row["downlink_margin_db"] == pytest.approx(one["budget_downlink"]["margin_db"], abs=0.01)
+        assert row["recommended_dr"] == one["lora"]["uplink"]["recommended_dr"]
+        assert row["closes"] == one["budget"]["closes"]
+        assert row["line_of_sight"] == one["line_of_sight"] and row["fresnel_clear"] == one["fresnel_clear"]
+        checked += 1
+    assert checked >= 12
+
+
+def test_distances_and_azimuths_against_geographiclib(tmp_path):
+    report = net_json("--dem", SAMPLE, "--sites", random_sites(tmp_path, 8), "--fill-voids")
+    by_name = {s["name"]: s for s in report["sites"]}
+    for row in report["links"]:
+        g, n = by_name[row["gateway"]], by_name[row["node"]]
+        ref = Geodesic.WGS84.Inverse(g["lat_deg"], g["lon_deg"], n["lat_deg"], n["lon_deg"])
+        assert row["distance_m"] == pytest.approx(ref["s12"], abs=1e-3)
+        assert (row["azimuth_deg"] - ref["azi1"] + 180) % 360 - 180 == pytest.approx(0.0, abs=1e-6)
+
+
+def test_contract_nodes_and_summary(tmp_path):
+    report = net_json("--dem", SAMPLE, "--sites", random_sites(tmp_path, 12), "--fill-voids")
+    assert report["schema"] == "profiler.network/1"
+    assert {"sites", "links", "nodes", "summary", "band", "frequency_mhz", "k_factor", "dem", "warnings",
+            "caution"} <= set(report)
+    assert LINK_KEYS <= set(report["links"][0])
+    assert {"name", "lat_deg", "lon_deg", "mast_m", "role", "ground_m"} <= set(report["sites"][0])
+    assert report["dem"]["sources"][0]["sha256"]
+    # Recount from the links table (independent of the aggregation code).
+    fade = report["fade_margin_db"]
+    for node in report["nodes"]:
+        rows = [r for r in report["links"] if r["node"] == node["name"] and not r["error"]]
+        assert node["gateways_heard"] == sum(r["margin_db"] >= fade for r in rows)
+        best = max(rows, key=lambda r: r["margin_db"])
+        assert node["best_gateway"] == best["gateway"]
+        assert node["best_margin_db"] == pytest.approx(best["margin_db"])
+    s = report["summary"]
+    assert s["links"] == len(report["links"]) == 2 * 12
+    assert s["nodes_covered"] == sum(n["gateways_heard"] >= 1 for n in report["nodes"])
+    assert s["nodes_covered_twice"] == sum(n["gateways_heard"] >= 2 for n in report["nodes"])
+
+
+def test_failed_link_is_reported_in_its_row_and_the_run_goes_on(tmp_path):
+    sites = random_sites(tmp_path, 4, extra="Far Away,-29.0,-19.9,2,node\n")
+    report = net_json("--dem", SAMPLE, "--sites", sites, "--fill-voids", "--max-distance-km", 200)
+    bad = [r for r in report["links"] if r["node"] == "Far Away"]
+    assert bad and all(r["error"] and "outside the elevation data" in r["error"] for r in bad)
+    assert all(r["margin_db"] is None and r["closes"] is False for r in bad)
+    assert report["summary"]["errors"] == len(bad)
+    assert any(not r["error"] for r in report["links"])
+
+
+def test_every_link_failing_exits_non_zero(tmp_path):
+    path = tmp_path / "sites.csv"
+    path.write_text(HEADER + "Gate,-29.0,-19.9,10,gateway\nFar,-29.01,-19.9,2,node\n")
+    res = run("network", "--dem", SAMPLE, "--sites", path, "--json", tmp_path / "out.json")
+    assert res.exit_code == 2
+    assert "no link could be computed" in res.stderr and len(res.stderr.strip().splitlines()) == 1
+    assert not (tmp_path / "out.json").exists()
+
+
+@pytest.mark.parametrize("body,needle", [
+    ("name,lat_deg,lon_deg,role\nA,-29.9,-19.9,gateway\n", "mast_m"),
+    (HEADER + "A,-29.9,-19.9,10,gateway\nA,-29.91,-19.9,2,node\n", "already used"),
+    (HEADER + "A,-29.9,-19.9,ten,gateway\n", "line 2"),
+    (HEADER + "A,-99.9,-19.9,10,gateway\n", "lat"),
+])
+def test_malformed_site_list_is_refused_whole(tmp_path, body, needle):
+    path = tmp_path / "sites.csv"
+    path.write_text(body)
+    out = tmp_path / "out.csv"
+    res = run("network", "--dem", SAMPLE, "--sites", path, "--csv", out)
+    assert res.exit_code == 2 and needle in res.stderr
+    assert len(res.stderr.strip().splitlines()) == 1 and "Traceback" not in res.output
+    assert not out.exists()
+
+
+def test_pairs_file_gives_exactly_those_links(tmp_path):
+    sites = random_sites(tmp_path, 6)
+    pairs = tmp_path / "pairs.csv"
+    pairs.write_text("gateway,node\nGate One,node 03\nGate Two,node 00\n")
+    report = net_json("--dem", SAMPLE, "--sites", sites, "--pairs", pairs, "--fill-voids")
+    assert [(r["gateway"], r["node"]) for r in report["links"]] == [("Gate One", "node 03"), ("Gate Two", "node 00")]
+    res = run("network", "--dem", SAMPLE, "--sites", sites, "--pairs", pairs, "--max-distance-km", 10)
+    assert res.exit_code == 2 and "not both" in res.stderr
+
+
+def test_max_distance_filters_pairs(tmp_path):
+    sites = random_sites(tmp_path, 10)
+    near = net_json("--dem", SAMPLE, "--sites", sites, "--max-distance-km", 12, "--fill-voids")
+    assert near["links"] and all(r["distance_m"] is None or r["distance_m"] <= 12_000 for r in near["links"])
+
+
+def test_sample_scenario_outputs(tmp_path):
+    files = {k: tmp_path / f"net.{k}" for k in ("json", "csv", "geojson", "kml")}
+    res = run("network", "--dem", SAMPLE, "--sites", EXAMPLE_SITES, "--no-progress",
+              *[x for k, p in files.items() for x in (f"--{k}", p)])
+    assert res.exit_code == 0, res.output
+    assert "Network:" in res.stdout and "Planning aid only" in res.stdout
+    report = json.loads(files["json"].read_text())
+    assert report["summary"]["nodes_total"] == 40
+    header = files["csv"].read_text().splitlines()[0]
+    assert "margin_db" in header
+    assert json.loads(files["geojson"].read_text())["type"] == "FeatureCollection"
+    import xml.etree.ElementTree as ET
+    ET.fromstring(files["kml"].read_bytes())
+
+
+def test_dask_local_cluster_gives_identical_results(tmp_path):
+    pytest.importorskip("distributed")
+    from profiler.network import network
+    from profiler.sites import read_sites_csv
+
+    table = read_sites_csv(random_sites(tmp_path, 10))
+    local = network(table, dem=[SAMPLE], fill_voids=True, chunk_links=6).to_dict()
+    remote = network(table, dem=[SAMPLE], fill_voids=True, chunk_links=6, workers=2, progress=False).to_dict()
+    assert local["links"] == remote["links"]
+    assert local["nodes"] == remote["nodes"]
+    assert math.isfinite(local["links"][0]["margin_db"])
