@@ -32,7 +32,7 @@ from bench_profile import TILE_SOUTH, TILE_WEST, cli_ratio, make_tile, tile_path
 
 from profiler.analysis import analyze_link  # noqa: E402
 from profiler.dem import ElevationModel  # noqa: E402
-from profiler.network import network  # noqa: E402
+from profiler.network_analysis import network  # noqa: E402
 from profiler.sites import sites_from_records  # noqa: E402
 from profiler.terrain import profile_from_dem  # noqa: E402
 

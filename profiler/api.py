@@ -77,3 +77,39 @@ def load_profile(site_a=None, site_b=None, *, dem=None, profile_csv=None, step_m
                                 fill_voids=fill_voids,
                                 name_a=f"site A ({name_a})" if name_a != "A" else "site A",
                                 name_b=f"site B ({name_b})" if name_b != "B" else "site B")
+
+
+def network(sites, *, dem, **kwargs):
+    """Every gateway -> node link of a site list: see :func:`profiler.network_analysis.network`.
+
+    Returns a :class:`~profiler.network_analysis.NetworkResult` whose
+    ``to_dict()`` is the ``profiler.network/1`` JSON report.
+    """
+    from .network_analysis import network as _network
+
+    return _network(sites, dem=dem, **kwargs)
+
+
+def siting(sites, *, dem, redundancy: int = 1, min_margin_db: float | None = None, max_gateways: int | None = None,
+           time_limit_s: float = 60.0, return_network: bool = False, **kwargs):
+    """The cheapest set of candidate gateway sites that hears every node (``profiler.siting/1``).
+
+    Runs the network engine from every ``gateway`` and ``candidate`` site to
+    every node (``kwargs`` as for :func:`network`), then solves the set
+    multicover (or, with ``max_gateways``, maximum coverage) programme of
+    :mod:`profiler.setcover`.  A node is heard by a site when the best
+    uplink margin over the plan's allowed data rates reaches
+    ``min_margin_db`` (default: the fade margin).
+
+    Returns the siting report dict, or ``(report, network_report)`` with
+    ``return_network``.
+    """
+    from .radio import RadioSettings
+    from .siting_report import siting_from_network
+
+    radio = kwargs.get("radio") or RadioSettings()
+    net = network(sites, dem=dem, **kwargs).to_dict()
+    threshold = radio.fade_margin_db if min_margin_db is None else float(min_margin_db)
+    report = siting_from_network(net, min_margin_db=threshold, redundancy=redundancy, max_gateways=max_gateways,
+                                 time_limit_s=time_limit_s)
+    return (report, net) if return_network else report

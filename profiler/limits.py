@@ -102,6 +102,10 @@ LIMITS: dict[str, Limit] = {
     # network
     "--max-distance-km": Limit(0.0, 20_100.0, "km", "longest link considered", low_open=True),
     "--workers": Limit(1, 256, "", "worker processes", integer=True),
+    # siting
+    "--redundancy": Limit(1, 10, "", "gateways each node must hear", integer=True),
+    "--max-gateways": Limit(1, 10_000, "", "most gateways to choose", integer=True),
+    "--time-limit-s": Limit(0.01, 86_400.0, "s", "solver time limit"),
     # figure
     "--dpi": Limit(50, 1200, "dots per inch", "figure resolution", integer=True),
 }

@@ -130,8 +130,17 @@ def verdict(report: dict) -> str:
         geom = "line of sight, Fresnel zone obstructed"
     else:
         geom = "obstructed (no line of sight)"
-    closes = report["budget"]["closes"]
-    return f"{geom}; link {'closes' if closes else 'does NOT close'}"
+    up = report["budget"]["closes"]
+    down = (report.get("budget_downlink") or report["budget"])["closes"]
+    if up and down:
+        radio = "link closes both ways"
+    elif up:
+        radio = "uplink closes, downlink does NOT"
+    elif down:
+        radio = "downlink closes, uplink does NOT"
+    else:
+        radio = "link does NOT close"
+    return f"{geom}; {radio}"
 
 
 def summary_text(report: dict) -> str:

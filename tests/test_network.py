@@ -176,7 +176,7 @@ def test_sample_scenario_outputs(tmp_path):
 
 def test_dask_local_cluster_gives_identical_results(tmp_path):
     pytest.importorskip("distributed")
-    from profiler.network import network
+    from profiler.network_analysis import network
     from profiler.sites import read_sites_csv
 
     table = read_sites_csv(random_sites(tmp_path, 10))
@@ -185,3 +185,27 @@ def test_dask_local_cluster_gives_identical_results(tmp_path):
     assert local["links"] == remote["links"]
     assert local["nodes"] == remote["nodes"]
     assert math.isfinite(local["links"][0]["margin_db"])
+
+
+def test_siting_command_on_the_sample_scenario(tmp_path):
+    # The chosen set must hear every reachable node R times by the network table's own margins (recounted
+    # here), be no dearer than greedy, and be proven optimal by the solver (HiGHS status).
+    sites = ROOT / "examples" / "siting_sites.csv"
+    out = tmp_path / "siting.json"
+    res = run("siting", "--dem", SAMPLE, "--sites", sites, "--redundancy", 2, "--json", out, "--no-progress",
+              "--csv", tmp_path / "siting.csv", "--geojson", tmp_path / "siting.geojson")
+    assert res.exit_code == 0, res.output
+    rep = json.loads(out.read_text())
+    assert rep["schema"] == "profiler.siting/1" and rep["proven_optimal"] is True
+    assert rep["objective"] <= rep["greedy"]["objective"]
+    net = net_json("--dem", SAMPLE, "--sites", sites)
+    chosen = set(rep["chosen"])
+    fade = net["fade_margin_db"]
+    unreachable = {u["name"] for u in rep["unreachable"]}
+    for node in [s["name"] for s in net["sites"] if s["role"] == "node"]:
+        heard = {r["gateway"] for r in net["links"] if r["node"] == node and not r["error"]
+                 and r["max_margin_db"] >= fade}
+        if node not in unreachable:
+            assert len(heard & chosen) >= 2, node
+    assert {s["name"] for s in net["sites"] if s["role"] == "gateway"} <= chosen   # existing ones always kept
+    assert "Siting:" in res.stdout and "Planning aid only" in res.stdout

@@ -86,6 +86,9 @@ def _register():
     from .network import network_command
 
     main.add_command(network_command)
+    from .siting import siting_command
+
+    main.add_command(siting_command)
 
 
 _register()

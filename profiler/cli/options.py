@@ -243,3 +243,49 @@ def clearance_ratio_option(help_text="Required clearance as a fraction of the fi
     """``--clearance-ratio``: required clearance as a fraction of F1 (default 0.6, common practice)."""
     return click.option("--clearance-ratio", type=NUMBER, default=0.6, show_default=True,
                         help=help_text)
+
+
+def network_options(f):
+    """Site list, pairs, elevation data and every link option of a batch command (network, siting)."""
+    f = radio_options(clearance_ratio_option()(frequency_options(k_option(f))))
+    return _apply([
+        click.option("--dem", "dem_paths", multiple=True, metavar="PATH",
+                     help="Elevation file (GeoTIFF, .hgt, VRT, ...) or folder of tiles; repeatable."),
+        click.option("--sites", "sites_csv", required=True, type=click.Path(dir_okay=False), metavar="SITES.csv",
+                     help="Site list: name,lat_deg,lon_deg,mast_m,role (gateway, node or candidate) [+ overrides]."),
+        click.option("--pairs", "pairs_csv", default=None, type=click.Path(dir_okay=False), metavar="PAIRS.csv",
+                     help="Exactly these links (header gateway,node) instead of every pair within --max-distance-km."),
+        click.option("--max-distance-km", type=POSITIVE, default=None,
+                     help="Longest gateway-node link considered [km] (default 50)."),
+        click.option("--step-m", type=POSITIVE, default=None,
+                     help="Largest sample spacing [m] (default: the finest DEM pixel along each path)."),
+        click.option("--fill-voids", is_flag=True, help="Interpolate across elevation voids instead of failing the link."),
+    ])(f)
+
+
+def network_call_kwargs(kw):
+    """Keyword arguments of :func:`profiler.network` from the parsed options of :func:`network_options`."""
+    from ..errors import ProfilerError
+
+    if not kw["dem_paths"]:
+        raise ProfilerError("no elevation data: give --dem FILE_OR_FOLDER")
+    if kw["pairs_csv"] is not None and kw["max_distance_km"] is not None:
+        raise ProfilerError("give either --pairs or --max-distance-km, not both")
+    radio = radio_settings(kw)
+    return {"sites": kw["sites_csv"], "dem": list(kw["dem_paths"]), "pairs": kw["pairs_csv"],
+            "max_distance_km": 50.0 if kw["max_distance_km"] is None else kw["max_distance_km"],
+            "band": kw["band_name"], "frequency_mhz": kw["freq_mhz"], "k_factor": kw["k_text"],
+            "clearance_ratio": kw["clearance_ratio"], "step_m": kw["step_m"], "fill_voids": kw["fill_voids"],
+            "radio": radio}
+
+
+def cluster_options(f):
+    """``--workers N`` / ``--scheduler ADDRESS`` / ``--no-progress`` (shared by batch commands)."""
+    return _apply([
+        click.option("--workers", type=INTEGER, default=None,
+                     help="Run on a local Dask cluster of N worker processes (pip install -e \".[cluster]\")."),
+        click.option("--scheduler", default=None, metavar="ADDRESS",
+                     help="Run on an existing Dask cluster, e.g. tcp://10.0.0.5:8786 (the elevation files must be "
+                          "visible to every worker at the same path)."),
+        click.option("--no-progress", is_flag=True, help="No progress bar (it is shown only on a terminal anyway)."),
+    ])(f)

@@ -30,7 +30,7 @@ CHUNK_LINKS = 256
 """Links per chunk: the unit of work of a worker and of the progress bar."""
 
 LINK_FLOAT_KEYS = ("distance_m", "azimuth_deg", "worst_fresnel_ratio", "worst_distance_m", "diffraction_db",
-                   "total_loss_db", "margin_db", "downlink_margin_db")
+                   "total_loss_db", "margin_db", "downlink_margin_db", "max_margin_db")
 
 
 @dataclass(frozen=True)
@@ -145,6 +145,10 @@ def _fill_results(out, rows, s, d, terrain, n, h_a, h_b, lam, ae, settings, over
     out["downlink_closes"][rows] = margin_down >= fade
     if "recommended" in up:
         out["recommended_dr"][rows] = np.where(up["recommended"] >= 0, up["dr"], -1)
+        allowed = up["rules"]["allowed"]
+        out["max_margin_db"][rows] = np.max(np.where(allowed, up["margin_db"], -np.inf), axis=1)
+    else:
+        out["max_margin_db"][rows] = margin_up
 
 
 def _chunk_job(idx, *, settings, sites_arrays, model=None):
@@ -315,7 +319,8 @@ def network(sites, *, dem, pairs=None, max_distance_km: float = 50.0, band: str 
         raise ProfilerError(f"no link could be computed; the first failed with: {res['error'][0]}")
     nodes, summary = node_summary(table, gw, node, res)
     site_rows = [{"name": r["name"], "lat_deg": r["lat_deg"], "lon_deg": r["lon_deg"], "mast_m": r["mast_m"],
-                  "role": r["role"], "ground_m": _num(ground[i])} for i, r in enumerate(table.to_records())]
+                  "role": r["role"], "ground_m": _num(ground[i]), "cost": r["cost"]}
+                 for i, r in enumerate(table.to_records())]
     warnings = []
     if summary["errors"]:
         warnings.append(f"{summary['errors']} of {summary['links']} links could not be computed (see their error)")

@@ -1,0 +1,100 @@
+"""``profiler siting``: the fewest (or cheapest) gateway sites that hear every node, proven optimal."""
+
+from __future__ import annotations
+
+import click
+
+from .options import INTEGER, NUMBER, cluster_options, network_call_kwargs, network_options
+
+
+@click.command("siting")
+@network_options
+@click.option("--redundancy", type=INTEGER, default=1, show_default=True,
+              help="Gateways that must hear each node.")
+@click.option("--min-margin-db", type=NUMBER, default=None,
+              help="Least uplink margin for a node to count as heard [dB] (default: --fade-margin-db).")
+@click.option("--max-gateways", type=INTEGER, default=None,
+              help="Choose at most K sites (existing gateways included) hearing the most nodes.")
+@click.option("--time-limit-s", type=NUMBER, default=60.0, show_default=True,
+              help="Solver time limit [s]; the best set found is returned with its gap.")
+@click.option("--json", "json_path", default=None, metavar="FILE", help="Write the JSON report ('-' for stdout).")
+@click.option("--csv", "csv_path", default=None, metavar="FILE", help="Write one CSV row per node.")
+@click.option("--geojson", "geojson_path", default=None, metavar="FILE",
+              help="Write the sites (chosen or not) and the links used as GeoJSON.")
+@click.option("--plot", "plot_path", type=click.Path(dir_okay=False), default=None,
+              help="Write the network map with the chosen sites highlighted: .png, .pdf or .svg.")
+@click.option("--paper", type=click.Choice(["a4", "letter"]), default="a4", show_default=True,
+              help="Paper size of the figure (landscape).")
+@click.option("--dpi", type=click.IntRange(50, 1200), default=200, show_default=True,
+              help="Resolution of a PNG figure [dots per inch].")
+@cluster_options
+def siting_command(redundancy, min_margin_db, max_gateways, time_limit_s, json_path, csv_path, geojson_path,
+                   plot_path, paper, dpi, workers, scheduler, no_progress, **kw):
+    """Choose where the gateways go: the cheapest set of candidate sites that hears every node.
+
+    Roles in SITES.csv: 'candidate' may get a gateway (optional 'cost'
+    column, default 1), 'gateway' is an existing one that is always kept,
+    'node' must be heard. Solved exactly (integer programme, HiGHS); the
+    greedy choice is reported for comparison.
+
+    \b
+    Example:
+      profiler siting --dem dem_samples --sites examples/siting_sites.csv --redundancy 2
+    """
+    from ..api import siting
+    from ..outputs import check_output_path
+
+    for path, option, suffixes in ((json_path, "--json", None), (csv_path, "--csv", None),
+                                   (geojson_path, "--geojson", None), (plot_path, "--plot", (".png", ".pdf", ".svg"))):
+        check_output_path(path, suffixes, option)
+    call = network_call_kwargs(kw)
+    report, net = siting(call.pop("sites"), redundancy=redundancy, min_margin_db=min_margin_db,
+                         max_gateways=max_gateways, time_limit_s=time_limit_s, workers=workers, scheduler=scheduler,
+                         progress=False if no_progress else None, return_network=True, **call)
+    write_siting_outputs(report, net, json_path=json_path, csv_path=csv_path, geojson_path=geojson_path,
+                         plot_path=plot_path, paper=paper, dpi=dpi, dem_paths=call["dem"])
+    if json_path != "-":
+        click.echo(siting_summary_text(report), nl=False)
+
+
+def write_siting_outputs(report, net, *, json_path=None, csv_path=None, geojson_path=None, plot_path=None,
+                         paper="a4", dpi=200, dem_paths=None):
+    """Write every requested output of a siting report."""
+    from ..outputs import write_text
+    from ..report import json_text
+    from ..siting_report import siting_csv_text, siting_geojson_text
+
+    if json_path and json_path != "-":
+        write_text(json_path, json_text(report))
+    if csv_path:
+        write_text(csv_path, siting_csv_text(report))
+    if geojson_path:
+        write_text(geojson_path, siting_geojson_text(report, net))
+    if plot_path:
+        from ..plot import write_network_figure
+
+        write_network_figure(net, plot_path, paper=paper, dpi=dpi, dem_paths=dem_paths,
+                             highlight=set(report["chosen"]), marked={u["name"] for u in report["unreachable"]})
+    if json_path == "-":
+        click.echo(json_text(report), nl=False)
+
+
+def siting_summary_text(report: dict) -> str:
+    """Short human summary: the chosen sites, the proof, greedy for comparison, the unreachable nodes."""
+    from .. import CAUTION
+
+    s = report.get("summary", {})
+    proven = "proven optimal" if report.get("proven_optimal") else f"not proven optimal (gap {report.get('gap')})"
+    lines = [f"Siting: {len(report['chosen'])} site(s) chosen, objective {report['objective']:g} ({proven})",
+             f"  chosen        {', '.join(report['chosen']) or '-'}",
+             f"  greedy        {', '.join(report['greedy']['chosen']) or '-'} "
+             f"(objective {report['greedy']['objective']:g})"]
+    if s:
+        lines.append(f"  nodes         {s.get('nodes_heard')} of {s.get('nodes_total')} heard "
+                     f"{report.get('redundancy', s.get('redundancy', 1))} time(s); {s.get('nodes_unreachable')} unreachable")
+    for u in report["unreachable"]:
+        lines.append(f"  unreachable   {u['name']}: {u['reason']}")
+    for msg in report.get("warnings", []):
+        lines.append(f"  warning       {msg}")
+    lines.append(f"  {CAUTION}")
+    return "\n".join(lines) + "\n"

@@ -1,0 +1,22 @@
+"""Sheets (figures) drawn from the JSON reports: one module per sheet, the shared style in one place.
+
+* :mod:`profiler.plot.sheet`: paper sizes, fonts, frame, title block,
+  tables, legend style, provenance footer and caution line, text helpers;
+* :mod:`profiler.plot.basemap`: map extent, hillshade, north arrow, scale
+  bar, degree ticks, label geometry;
+* :mod:`profiler.plot.link` (+ :mod:`profiler.plot.profile_panel`): the
+  link sheet; :mod:`profiler.plot.mast`: the mast sheet;
+  :mod:`profiler.plot.network`: the network map.
+
+Importing this package does not import matplotlib: the modules import it
+inside the functions that draw, so ``profiler link --json -`` starts fast.
+"""
+
+from .link import build_link_figure, write_link_figure
+from .mast import write_mast_figure
+from .network import build_network_figure, link_status, write_network_figure
+from .sheet import FIGURE_FORMATS, PAPER_SIZES_IN, figure_format, paper_size_in
+
+__all__ = ["PAPER_SIZES_IN", "FIGURE_FORMATS", "figure_format", "paper_size_in", "write_mast_figure",
+           "build_link_figure", "write_link_figure", "build_network_figure", "write_network_figure",
+           "link_status"]

@@ -1,0 +1,332 @@
+"""The link sheet: terrain profile, locator map, title block and results table.
+
+:func:`write_link_figure` draws one landscape sheet (A4 or US letter) from
+the JSON report dictionary (``LinkResult.to_dict()``) and writes it as PNG,
+PDF or SVG, chosen by the file extension.  The sheet holds
+
+* the profile panel: terrain raised by the Earth bulge for the chosen k,
+  the straight line of sight between the antenna tips, the first Fresnel
+  zone, the required-clearance boundary, the masts to scale, every stretch
+  where the clearance falls short of the requirement and the worst point;
+* the locator panel: the path over a hillshade of the elevation model with
+  a north arrow and a scale bar (a note instead for a surveyed profile);
+* the title block and the results table (sites, path, link budget), the
+  elevation data used, the tool version, the date and a caution line.
+
+The shared style (paper, fonts, title block, tables, footer) is
+:mod:`profiler.plot.sheet`; the map helpers are :mod:`profiler.plot.basemap`.
+"""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+
+from ..report import verdict
+from . import basemap
+from .sheet import (BADGE_BAD, BADGE_GOOD, BADGE_WARN, DASH, EN, MIDDOT, arr, clean, dms, draw_footer, draw_tables,
+                    draw_title_block, fit, fraction, inch_axes, k_text, km, nanmax, new_sheet, num, site_name,
+                    source_text, style, write_sheet)
+from .profile_panel import draw_profile
+
+__all__ = ["build_link_figure", "write_link_figure"]
+
+
+# --------------------------------------------------------------------------- public API
+def write_link_figure(report: dict, path, paper: str = "a4", dpi: float = 200,
+                      dem_paths=None, *, date_text: str | None = None) -> None:
+    """Draw the link sheet and write it to ``path`` (PNG, PDF or SVG by extension).
+
+    Parameters
+    ----------
+    report : dict
+        The JSON report (``LinkResult.to_dict()``).
+    path : str or os.PathLike
+        Output file; ``.png``, ``.pdf`` or ``.svg``.  Written atomically
+        (temporary file beside it, then renamed), so a failure leaves nothing
+        half-written.
+    paper : {"a4", "letter"}
+        Landscape paper size: A4 297 mm x 210 mm or letter 11 in x 8.5 in.
+    dpi : float
+        Resolution [dots per inch] of a PNG and of the hillshade embedded in
+        a PDF or SVG.
+    dem_paths : list of str or os.PathLike, optional
+        Elevation files or folders for the locator hillshade; none (or a
+        surveyed profile) draws the panel with a note instead of a map.
+    date_text : str, optional
+        Date printed on the sheet; default today's date (ISO 8601).
+
+    Raises
+    ------
+    ProfilerError
+        Unknown extension or paper size, a non-positive dpi, a missing output
+        folder or a write error.
+    """
+    title = f"Radio path profile: {site_name(report['site_a'])} {EN} {site_name(report['site_b'])}"
+    write_sheet(path, paper, dpi, lambda: build_link_figure(report, paper=paper, dem_paths=dem_paths,
+                                                            date_text=date_text), title, report)
+
+
+def build_link_figure(report: dict, paper: str = "a4", dem_paths=None, *, date_text: str | None = None):
+    """Build the link sheet as a :class:`matplotlib.figure.Figure` (Agg canvas).
+
+    Parameters are those of :func:`write_link_figure`.  The figure is not
+    attached to pyplot; save it with ``fig.savefig(...)`` inside
+    :func:`profiler.plot.sheet.style` for output identical to
+    :func:`write_link_figure`.
+
+    Returns
+    -------
+    matplotlib.figure.Figure
+    """
+    with style():
+        fig, renderer, width_in, height_in = new_sheet(paper)
+        boxes = _layout(width_in, height_in)
+        _draw_header(inch_axes(fig, boxes["header"], width_in, height_in), report, renderer)
+        profile_ax = fig.add_axes(fraction(boxes["profile"], width_in, height_in))
+        draw_profile(fig, profile_ax, report, width_in, height_in)
+        map_ax = fig.add_axes(fraction(boxes["map"], width_in, height_in))
+        _draw_locator(map_ax, report, dem_paths, renderer)
+        draw_tables(inch_axes(fig, boxes["table"], width_in, height_in), renderer, _results_blocks(report))
+        n_points = len(report["profile"]["distance_m"])
+        draw_footer(inch_axes(fig, boxes["footer"], width_in, height_in), renderer, report,
+                    source_text(report.get("dem"), n_points), date_text)
+    return fig
+
+
+def _layout(width_in: float, height_in: float) -> dict:
+    """Boxes (left, bottom, width, height) [in] of the sheet's parts."""
+    margin = 0.38
+    inner_w = width_in - 2 * margin
+    footer = (margin, margin, inner_w, 0.44)
+    band_bottom = margin + 0.52
+    band_h = 2.78 + (height_in - 8.27)
+    map_left = margin + 0.5
+    map_w = 2.6 - 0.6 * max(0.0, 11.69 - width_in)      # narrower paper: narrower map
+    map_box = (map_left, band_bottom + 0.36, map_w, band_h - 0.36 - 0.2)
+    table_left = map_left + map_w + 0.25
+    table = (table_left, band_bottom, width_in - margin - table_left, band_h)
+    header_h = 0.66
+    header = (margin, height_in - margin - header_h, inner_w, header_h)
+    prof_top = height_in - margin - header_h - 0.36
+    prof_bottom = band_bottom + band_h + 0.62
+    prof_left = margin + 0.58
+    profile = (prof_left, prof_bottom, width_in - margin - 0.08 - prof_left, prof_top - prof_bottom)
+    return {"header": header, "profile": profile, "map": map_box, "table": table, "footer": footer}
+
+
+# --------------------------------------------------------------------------- header
+def _verdict_style(report: dict) -> dict:
+    closes = report["budget"]["closes"] and (report.get("budget_downlink") or report["budget"])["closes"]
+    if report["fresnel_clear"] and closes:
+        return BADGE_GOOD
+    if closes:
+        return BADGE_WARN
+    return BADGE_BAD
+
+
+def _draw_header(ax, report: dict, renderer) -> None:
+    name_a, name_b = site_name(report["site_a"]), site_name(report["site_b"])
+    band = report.get("band")
+    freq = num(report.get("frequency_mhz"), ".4f", " MHz") + (f" ({clean(band)})" if band else "")
+    parts = ["Point-to-point radio path profile", num(km(report.get("distance_m")), ".3f", " km"), freq,
+             f"k = {k_text(report.get('k_factor'))}"]
+    draw_title_block(ax, renderer, f"{name_a} {EN} {name_b}", f"  {MIDDOT}  ".join(parts), clean(verdict(report)),
+                     _verdict_style(report),
+                     fit_title=lambda title, room: _fit_pair(title, name_a, name_b, room, renderer))
+
+
+def _fit_pair(title, name_a: str, name_b: str, room: float, renderer) -> None:
+    """Shorten the longer name first, so that both names of "A - B" stay visible within ``room`` [in]."""
+    dpi = title.figure.dpi
+    widths = []
+    for name in (name_a, name_b, f" {EN} "):
+        title.set_text(name)
+        widths.append(title.get_window_extent(renderer).width / dpi)
+    share = room - widths[2]
+    short = min(widths[0], widths[1], share / 2.0)
+    budgets = (short, share - short) if widths[0] <= widths[1] else (share - short, short)
+    fitted = []
+    for name, budget in zip((name_a, name_b), budgets):
+        title.set_text(name)
+        fit(title, budget, renderer)
+        fitted.append(title.get_text())
+    title.set_text(f"{fitted[0]} {EN} {fitted[1]}")
+
+
+# --------------------------------------------------------------------------- locator panel
+def _draw_locator(ax, report: dict, dem_paths, renderer) -> None:
+    """The path over the hillshade, sites labelled clear of the path, north arrow and scale bar."""
+    ax.set_title("Locator", loc="left", fontsize=7.5, fontweight="bold", pad=3)
+    prof = report["profile"]
+    if prof.get("lat_deg") is None or prof.get("lon_deg") is None:
+        basemap.empty_panel(ax, "no map: surveyed profile", "the profile has no coordinates")
+        return
+    lat = arr(prof["lat_deg"])
+    lon = np.degrees(np.unwrap(np.radians(arr(prof["lon_deg"]))))   # continuous across 180 deg
+    ext = basemap.map_extent(ax, lon, lat)
+    basemap.prepare_map(ax, ext)
+    caption = "no elevation model given: path only"
+    if dem_paths:
+        caption = basemap.hillshade(ax, dem_paths, ext)
+    ax.annotate(caption, xy=(0.5, 0.0), xycoords="axes fraction", xytext=(0.0, -13.0), textcoords="offset points",
+                ha="center", va="top", fontsize=6.2, color="0.25", parse_math=False)
+    _draw_path(ax, report, lon, lat)
+    basemap.finish_map(ax, ext)
+    to_axes = ax.transData + ax.transAxes.inverted()
+    points = to_axes.transform(np.column_stack([lon, lat])[:: max(1, lon.size // 400)])
+    boxes = _label_sites(ax, report, lon, lat, ext, points, renderer)
+    basemap.place_furniture(ax, ext, points, boxes)
+
+
+def _draw_path(ax, report: dict, lon, lat) -> None:
+    """Path (white halo), stretches short of the requirement, site markers, worst point."""
+    from .profile_panel import SHORT_EDGE
+
+    prof = report["profile"]
+    ax.plot(lon, lat, color="black", lw=1.6, zorder=4, path_effects=basemap.halo(), solid_capstyle="round")
+    clearance = arr(prof["los_m"]) - arr(prof["terrain_m"]) - np.nan_to_num(arr(prof["bulge_m"]))
+    short = clearance < float(report.get("clearance_ratio_required") or 0.0) * np.nan_to_num(
+        arr(prof["fresnel_radius_m"]))
+    short[0] = short[-1] = False
+    if short.any():
+        ax.plot(lon, np.where(short, lat, np.nan), color=SHORT_EDGE, lw=2.6, ls=(0, (2.0, 1.0)), zorder=5)
+    ax.plot(lon[0], lat[0], marker="^", ms=8, mfc="black", mec="white", mew=1.0, zorder=6)
+    ax.plot(lon[-1], lat[-1], marker="o", ms=7, mfc="white", mec="black", mew=1.4, zorder=6)
+    worst = report.get("worst") or {}
+    if worst.get("lon_deg") is not None:
+        wl = lon[int(np.argmin(np.abs(arr(prof["distance_m"]) - worst["distance_m"])))]
+        ax.plot(wl, worst["lat_deg"], marker="X", ms=7, mfc="white", mec="black", mew=0.9, zorder=6)
+
+
+def _label_sites(ax, report: dict, lon, lat, ext, points, renderer) -> list:
+    """Site labels: of eight places around each marker, the one least in the way of the path,
+    the other label and the frame; first choice on opposite sides of the path.  Returns their boxes."""
+    ux, uy = (lon[-1] - lon[0]) * ext.m_lon, (lat[-1] - lat[0]) * ext.m_lat
+    norm = math.hypot(ux, uy) or 1.0
+    nx_, ny_ = -uy / norm, ux / norm
+    if ny_ < 0 or (ny_ == 0 and nx_ < 0):
+        nx_, ny_ = -nx_, -ny_
+    boxes = []
+    for key, x, y, sign in (("a", lon[0], lat[0], 1.0), ("b", lon[-1], lat[-1], -1.0)):
+        name = site_name(report[f"site_{key}"])
+        if len(name) > 26:
+            name = name[:25].rstrip() + "\u2026"
+        first = math.atan2(sign * ny_, sign * nx_)
+        best = None
+        for step in range(8):
+            angle = first + ((step + 1) // 2) * (math.pi / 4) * (1 if step % 2 else -1)
+            ox, oy = math.cos(angle), math.sin(angle)
+            label = ax.annotate(f"{key.upper()} {name}", xy=(x, y), xytext=(8 * ox, 8 * oy),
+                                textcoords="offset points",
+                                ha="left" if ox > 0.38 else ("right" if ox < -0.38 else "center"),
+                                va="bottom" if oy > 0.38 else ("top" if oy < -0.38 else "center"),
+                                fontsize=6.8, fontweight="bold", zorder=8, parse_math=False,
+                                path_effects=basemap.halo(2.6))
+            moved = basemap.keep_inside(label, ax, renderer)
+            box = label.get_window_extent(renderer).transformed(ax.transAxes.inverted())
+            covered = sum(basemap.overlap(box, other) for other in boxes) / max(box.width * box.height, 1e-9)
+            score = basemap.points_in(points, box) + 20.0 * covered + moved / 30.0 + 0.02 * step
+            if best is None or score < best[0]:
+                if best is not None:
+                    best[1].remove()
+                best = (score, label, box)
+            else:
+                label.remove()
+        boxes.append(best[2])
+    return boxes
+
+
+# --------------------------------------------------------------------------- results table
+def _results_blocks(report: dict) -> list[tuple[str, list[str] | None, list[tuple]]]:
+    """The three tables of the results band: sites, path and clearance, link budget."""
+    gw = report.get("gateway", "a")
+    roles = ("gateway", "node") if gw == "a" else ("node", "gateway")
+    return [("Sites", ["", f"Site A ({roles[0]})", f"Site B ({roles[1]})"], _site_rows(report)),
+            ("Path and clearance", None, _path_rows(report)),
+            ("Link budget", None, _budget_rows(report))]
+
+
+def _site_rows(report: dict) -> list[tuple]:
+    a, b = report["site_a"], report["site_b"]
+
+    def tilt(angle):
+        if angle is None:
+            return DASH
+        return num(angle, "+.3f", "\u00b0") + (" (up)" if angle > 0 else (" (down)" if angle < 0 else ""))
+
+    def both(key, spec, unit):
+        return num(a.get(key), spec, unit), num(b.get(key), spec, unit)
+
+    return [
+        ("Name", site_name(a), site_name(b)),
+        ("Latitude", *both("lat_deg", ".6f", "\u00b0")),
+        ("", dms(a.get("lat_deg"), "N", "S"), dms(b.get("lat_deg"), "N", "S")),
+        ("Longitude", *both("lon_deg", ".6f", "\u00b0")),
+        ("", dms(a.get("lon_deg"), "E", "W"), dms(b.get("lon_deg"), "E", "W")),
+        ("Ground elevation", *both("ground_m", ".1f", " m AMSL")),
+        ("Mast height", *both("mast_m", ".1f", " m")),
+        ("Antenna height", *both("antenna_amsl_m", ".1f", " m AMSL")),
+        ("Azimuth (true)", num(report.get("azimuth_a_to_b_deg"), ".2f", "\u00b0"),
+         num(report.get("azimuth_b_to_a_deg"), ".2f", "\u00b0")),
+        ("Elevation angle", tilt(report.get("elevation_angle_a_deg")), tilt(report.get("elevation_angle_b_deg"))),
+    ]
+
+
+def _path_rows(report: dict) -> list[tuple]:
+    worst = report.get("worst") or {}
+    ratio_req = float(report.get("clearance_ratio_required") or 0.0)
+    prof = report["profile"]
+    pct = None if worst.get("fresnel_ratio") is None else 100.0 * worst["fresnel_ratio"]
+    return [
+        ("Distance A\u2013B", num(km(report.get("distance_m")), ".3f", " km")),
+        ("Frequency", num(report.get("frequency_mhz"), ".4f", " MHz")),
+        ("Band", clean(report["band"]) if report.get("band") else DASH),
+        ("k-factor (a\u2091)", f"{k_text(report.get('k_factor'))} "
+         f"({num(km(report.get('effective_radius_m')), '.0f', ' km')})"),
+        ("Max. bulge / F1", f"{num(nanmax(arr(prof['bulge_m'])), '.1f')} / "
+         f"{num(nanmax(arr(prof['fresnel_radius_m'])), '.1f', ' m')}"),
+        ("Clearance required", f"{ratio_req * 100:.0f} % of F1"),
+        ("Line of sight", "yes" if report["line_of_sight"] else "NO"),
+        ("Fresnel clearance", "met" if report["fresnel_clear"] else "NOT met"),
+        ("Worst point from A", num(km(worst.get("distance_m")), ".3f", " km")),
+        ("Worst clearance", num(worst.get("clearance_m"), "+.1f", " m")),
+        ("Worst clearance / F1", num(pct, ".0f", " %")),
+        ("v / knife-edge loss", f"{num(worst.get('v'), '.2f')} / "
+         f"{num(worst.get('knife_edge_loss_db'), '.1f', ' dB')}"),
+    ]
+
+
+def _rate(bud: dict) -> str:
+    """``DR5 SF7/125`` (``SF7/125`` without a plan); empty without a LoRa rate (a given sensitivity)."""
+    if bud.get("sf") is None:
+        return ""
+    rate = f"SF{bud['sf']}/{bud['bw_khz']:g}"
+    return rate if bud.get("dr") is None else f"DR{bud['dr']} {rate}"
+
+
+def _budget_rows(report: dict) -> list[tuple]:
+    loss, up = report["loss_db"], report["budget"]
+    down = report.get("budget_downlink") or up
+    comp = report.get("compliance") or {}
+    other = (loss.get("extra") or 0.0) + (loss.get("polarization") or 0.0)
+    if comp.get("max_eirp_dbm") is None:
+        limit = "not checked (no plan)"
+    else:
+        limit = f"{num(comp['max_eirp_dbm'], 'g', ' dBm')}: " + ("met" if comp.get("eirp_ok") else "EXCEEDED")
+    return [
+        ("Diffraction method", clean(loss.get("diffraction_method") or DASH)),
+        ("Free-space loss", num(loss.get("free_space"), ".1f", " dB")),
+        ("Diffraction loss", num(loss.get("diffraction"), ".1f", " dB")),
+        ("Other losses", num(other, ".1f", " dB")),
+        ("Total path loss", num(loss.get("total"), ".1f", " dB")),
+        ("EIRP node / gateway", f"{num(up.get('eirp_dbm'), '.1f')} / {num(down.get('eirp_dbm'), '.1f', ' dBm')}"),
+        ("EIRP limit", limit),
+        ("Margin up / down", f"{num(up.get('margin_db'), '+.1f')} / {num(down.get('margin_db'), '+.1f', ' dB')}"),
+        *([("Data rate up", f"{_rate(up)} kHz"), ("Data rate down", f"{_rate(down)} kHz")]
+          if up.get("sf") is not None else []),
+        ("Margin required", f"\u2265 {num(up.get('fade_margin_required_db'), '.1f', ' dB')}"),
+        ("Link closes", f"up {'yes' if up.get('closes') else 'NO'} / down {'yes' if down.get('closes') else 'NO'}"),
+    ]
+
