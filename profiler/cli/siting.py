@@ -4,18 +4,18 @@ from __future__ import annotations
 
 import click
 
-from .options import cluster_options, network_call_kwargs, network_options
+from .options import INTEGER, NUMBER, cluster_options, network_call_kwargs, network_options
 
 
 @click.command("siting")
 @network_options
-@click.option("--redundancy", type=click.IntRange(1, 10), default=1, show_default=True,
+@click.option("--redundancy", type=INTEGER, default=1, show_default=True,
               help="Gateways that must hear each node.")
-@click.option("--min-margin-db", type=float, default=None,
+@click.option("--min-margin-db", type=NUMBER, default=None,
               help="Least uplink margin for a node to count as heard [dB] (default: --fade-margin-db).")
-@click.option("--max-gateways", type=click.IntRange(1, 10_000), default=None,
+@click.option("--max-gateways", type=INTEGER, default=None,
               help="Choose at most K sites (existing gateways included) hearing the most nodes.")
-@click.option("--time-limit-s", type=click.FloatRange(0.01, 86_400.0), default=60.0, show_default=True,
+@click.option("--time-limit-s", type=NUMBER, default=60.0, show_default=True,
               help="Solver time limit [s]; the best set found is returned with its gap.")
 @click.option("--json", "json_path", default=None, metavar="FILE", help="Write the JSON report ('-' for stdout).")
 @click.option("--csv", "csv_path", default=None, metavar="FILE", help="Write one CSV row per node.")
