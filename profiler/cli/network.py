@@ -2,8 +2,6 @@
 
 from __future__ import annotations
 
-import sys
-
 import click
 
 from .options import cluster_options, network_call_kwargs, network_options, plot_options  # noqa: F401
@@ -32,44 +30,56 @@ def network_command(json_path, csv_path, geojson_path, kml_path, plot_path, pape
       profiler network --dem dem_samples --sites examples/vellmoor_network.csv --csv links.csv
     """
     from ..api import network
-    from ..outputs import check_output_path
+    from ..limits import quiet_numerics
+    from ..outputs import check_outputs
 
-    for path, option, suffixes in ((json_path, "--json", None), (csv_path, "--csv", None),
-                                   (geojson_path, "--geojson", None), (kml_path, "--kml", None),
-                                   (plot_path, "--plot", (".png", ".pdf", ".svg"))):
-        check_output_path(path, suffixes, option)
+    outputs = network_outputs(json_path=json_path, csv_path=csv_path, geojson_path=geojson_path, kml_path=kml_path,
+                              plot_path=plot_path, paper=paper, dpi=dpi, dem_paths=kw.get("dem_paths") or ())
+    check_outputs(outputs)  # refuse bad outputs before any computation
     call = network_call_kwargs(kw)
-    result = network(call.pop("sites"), workers=workers, scheduler=scheduler,
-                     progress=False if no_progress else None, **call)
-    report = result.to_dict()
-    write_network_outputs(report, json_path=json_path, csv_path=csv_path, geojson_path=geojson_path,
-                          kml_path=kml_path, plot_path=plot_path, paper=paper, dpi=dpi, dem_paths=call["dem"])
-    if json_path != "-":
-        click.echo(network_summary_text(report), nl=False)
+    with quiet_numerics():
+        result = network(call.pop("sites"), workers=workers, scheduler=scheduler,
+                         progress=False if no_progress else None, **call)
+        report = result.to_dict()
+        write_network_outputs(report, json_path=json_path, csv_path=csv_path, geojson_path=geojson_path,
+                              kml_path=kml_path, plot_path=plot_path, paper=paper, dpi=dpi, dem_paths=call["dem"],
+                              summary=True)
+
+
+def network_outputs(*, json_path=None, csv_path=None, geojson_path=None, kml_path=None, plot_path=None,
+                    paper="a4", dpi=200, dem_paths=None, summary=False):
+    """The outputs of ``profiler network`` for :func:`profiler.outputs.write_outputs`."""
+    from ..outputs import Output
+
+    def text(name):
+        def render(report, path):
+            from .. import exports_network
+            from ..report import json_text
+
+            return json_text(report) if name == "json" else getattr(exports_network, f"network_{name}_text")(report)
+        return render
+
+    def render_plot(report, path):
+        from ..plot import write_network_figure
+
+        write_network_figure(report, path, paper=paper, dpi=dpi, dem_paths=dem_paths)
+
+    files = (json_path, csv_path, geojson_path, kml_path)
+    to_stdout = summary and "-" not in map(str, filter(None, files))
+    return [Output("--json", json_path, text("json"), "json"), Output("--csv", csv_path, text("csv"), "csv"),
+            Output("--geojson", geojson_path, text("geojson"), "json"), Output("--kml", kml_path, text("kml"), "xml"),
+            Output("--plot", plot_path, render_plot, "figure", suffixes=(".png", ".pdf", ".svg"), stdout=False),
+            Output("summary", "-" if to_stdout else None, lambda r, p: network_summary_text(r), "terminal")]
 
 
 def write_network_outputs(report, *, json_path=None, csv_path=None, geojson_path=None, kml_path=None,
-                          plot_path=None, paper="a4", dpi=200, dem_paths=None):
-    """Write every requested output of a network report."""
-    from ..outputs import write_text
-    from ..report import json_text
+                          plot_path=None, paper="a4", dpi=200, dem_paths=None, summary=False):
+    """Write every requested output of a network report, all or nothing (and the summary when asked)."""
+    from ..outputs import write_outputs
 
-    if csv_path or geojson_path or kml_path:
-        from ..exports_network import network_csv_text, network_geojson_text, network_kml_text
-    if json_path and json_path != "-":
-        write_text(json_path, json_text(report))
-    if csv_path:
-        write_text(csv_path, network_csv_text(report))
-    if geojson_path:
-        write_text(geojson_path, network_geojson_text(report))
-    if kml_path:
-        write_text(kml_path, network_kml_text(report))
-    if plot_path:
-        from ..plot import write_network_figure
-
-        write_network_figure(report, plot_path, paper=paper, dpi=dpi, dem_paths=dem_paths)
-    if json_path == "-":
-        sys.stdout.write(json_text(report))
+    write_outputs(network_outputs(json_path=json_path, csv_path=csv_path, geojson_path=geojson_path,
+                                  kml_path=kml_path, plot_path=plot_path, paper=paper, dpi=dpi,
+                                  dem_paths=dem_paths, summary=summary), report)
 
 
 def network_summary_text(report: dict) -> str:

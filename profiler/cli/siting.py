@@ -25,7 +25,7 @@ from .options import INTEGER, NUMBER, cluster_options, network_call_kwargs, netw
               help="Write the network map with the chosen sites highlighted: .png, .pdf or .svg.")
 @click.option("--paper", type=click.Choice(["a4", "letter"]), default="a4", show_default=True,
               help="Paper size of the figure (landscape).")
-@click.option("--dpi", type=click.IntRange(50, 1200), default=200, show_default=True,
+@click.option("--dpi", type=INTEGER, default=200, show_default=True,
               help="Resolution of a PNG figure [dots per inch].")
 @cluster_options
 def siting_command(redundancy, min_margin_db, max_gateways, time_limit_s, json_path, csv_path, geojson_path,
@@ -42,41 +42,64 @@ def siting_command(redundancy, min_margin_db, max_gateways, time_limit_s, json_p
       profiler siting --dem dem_samples --sites examples/siting_sites.csv --redundancy 2
     """
     from ..api import siting
-    from ..outputs import check_output_path
+    from ..limits import quiet_numerics
+    from ..outputs import check_outputs
 
-    for path, option, suffixes in ((json_path, "--json", None), (csv_path, "--csv", None),
-                                   (geojson_path, "--geojson", None), (plot_path, "--plot", (".png", ".pdf", ".svg"))):
-        check_output_path(path, suffixes, option)
+    outputs = siting_outputs(None, json_path=json_path, csv_path=csv_path, geojson_path=geojson_path,
+                             plot_path=plot_path, paper=paper, dpi=dpi)
+    check_outputs(outputs)  # refuse bad outputs before any computation
     call = network_call_kwargs(kw)
-    report, net = siting(call.pop("sites"), redundancy=redundancy, min_margin_db=min_margin_db,
-                         max_gateways=max_gateways, time_limit_s=time_limit_s, workers=workers, scheduler=scheduler,
-                         progress=False if no_progress else None, return_network=True, **call)
-    write_siting_outputs(report, net, json_path=json_path, csv_path=csv_path, geojson_path=geojson_path,
-                         plot_path=plot_path, paper=paper, dpi=dpi, dem_paths=call["dem"])
-    if json_path != "-":
-        click.echo(siting_summary_text(report), nl=False)
+    with quiet_numerics():
+        report, net = siting(call.pop("sites"), redundancy=redundancy, min_margin_db=min_margin_db,
+                             max_gateways=max_gateways, time_limit_s=time_limit_s, workers=workers,
+                             scheduler=scheduler, progress=False if no_progress else None, return_network=True,
+                             **call)
+        write_siting_outputs(report, net, json_path=json_path, csv_path=csv_path, geojson_path=geojson_path,
+                             plot_path=plot_path, paper=paper, dpi=dpi, dem_paths=call["dem"], summary=True)
+
+
+def siting_outputs(net, *, json_path=None, csv_path=None, geojson_path=None, plot_path=None, paper="a4", dpi=200,
+                   dem_paths=None, summary=False):
+    """The outputs of ``profiler siting`` (``net``: its network report) for :func:`profiler.outputs.write_outputs`."""
+    from ..outputs import Output
+    from ..textsafe import safe_strings
+
+    def render_json(report, path):
+        from ..report import json_text
+
+        return json_text(report)
+
+    def render_csv(report, path):
+        from ..siting_report import siting_csv_text
+
+        return siting_csv_text(report)
+
+    def render_geojson(report, path):
+        from ..siting_report import siting_geojson_text
+
+        return siting_geojson_text(report, safe_strings(net, "json"))
+
+    def render_plot(report, path):
+        from ..plot import write_network_figure
+
+        write_network_figure(safe_strings(net, "figure"), path, paper=paper, dpi=dpi, dem_paths=dem_paths,
+                             highlight=set(report["chosen"]), marked={u["name"] for u in report["unreachable"]})
+
+    to_stdout = summary and str(json_path) != "-"
+    return [Output("--json", json_path, render_json, "json"), Output("--csv", csv_path, render_csv, "csv"),
+            Output("--geojson", geojson_path, render_geojson, "json"),
+            Output("--plot", plot_path, render_plot, "figure", suffixes=(".png", ".pdf", ".svg"), stdout=False),
+            Output("summary", "-" if to_stdout else None, lambda r, p: siting_summary_text(r), "terminal")]
 
 
 def write_siting_outputs(report, net, *, json_path=None, csv_path=None, geojson_path=None, plot_path=None,
-                         paper="a4", dpi=200, dem_paths=None):
-    """Write every requested output of a siting report."""
-    from ..outputs import write_text
-    from ..report import json_text
-    from ..siting_report import siting_csv_text, siting_geojson_text
+                         paper="a4", dpi=200, dem_paths=None, summary=False):
+    """Write every requested output of a siting report, all or nothing (and the summary when asked)."""
+    from ..outputs import write_outputs
 
-    if json_path and json_path != "-":
-        write_text(json_path, json_text(report))
-    if csv_path:
-        write_text(csv_path, siting_csv_text(report))
-    if geojson_path:
-        write_text(geojson_path, siting_geojson_text(report, net))
-    if plot_path:
-        from ..plot import write_network_figure
-
-        write_network_figure(net, plot_path, paper=paper, dpi=dpi, dem_paths=dem_paths,
-                             highlight=set(report["chosen"]), marked={u["name"] for u in report["unreachable"]})
-    if json_path == "-":
-        click.echo(json_text(report), nl=False)
+    write_outputs(siting_outputs(net, json_path=json_path, csv_path=csv_path, geojson_path=geojson_path,
+                                 plot_path=plot_path, paper=paper, dpi=dpi, dem_paths=dem_paths, summary=summary),
+                  report)
 
 
 def siting_summary_text(report: dict) -> str:
