@@ -187,6 +187,11 @@ def _run_on_dask(func, chunks, sizes, bar, workers, scheduler, connect_timeout_s
             from None
     try:
         return _gather(distributed, client, func, chunks, sizes, bar)
+    except ProfilerError:
+        raise
+    except Exception as exc:  # the cluster itself failed (scheduler gone, connection lost)
+        raise ProfilerError(f"the Dask cluster failed: {type(exc).__name__}: {_one_line(exc)}; "
+                            "check the scheduler and its workers, or run without --workers/--scheduler") from None
     finally:
         client.close()
         if cluster is not None:

@@ -21,9 +21,8 @@ from profiler.exports_network import (LINK_COLUMNS, link_status, network_csv_tex
                                       network_geojson_text, network_kml_text)
 
 from sample_sites import EVIL_B  # noqa: E402
-
-KML = "{http://www.opengis.net/kml/2.2}"
-FORMULA_START = ("=", "+", "-", "@", "\t", "\r")    # OWASP "CSV injection" trigger characters
+from test_exports import FORMULA_START, KML, _is_number  # noqa: E402  (shared checks of the link exports)
+from test_exports import _string_values as _strings  # noqa: E402
 LINK_KEYS = [key for key, _ in LINK_COLUMNS]
 
 
@@ -102,14 +101,6 @@ def test_csv_one_row_per_link_with_the_link_fields(report):
     assert comments["# caution"] == CAUTION and comments["# warning"].startswith("'+")
 
 
-def _is_number(text):
-    try:
-        float(text)
-    except ValueError:
-        return False
-    return True
-
-
 # --------------------------------------------------------------------------- GeoJSON
 def test_geojson_sites_and_links(report):
     doc = json.loads(network_geojson_text(report))
@@ -134,17 +125,6 @@ def test_geojson_sites_and_links(report):
     assert err["status"] == "error" and err["margin_db"] is None and err["error"].startswith("'=")
     for value in _strings(doc):
         assert not value.startswith(FORMULA_START)
-
-
-def _strings(obj):
-    if isinstance(obj, str):
-        yield obj
-    elif isinstance(obj, dict):
-        for v in obj.values():
-            yield from _strings(v)
-    elif isinstance(obj, list):
-        for v in obj:
-            yield from _strings(v)
 
 
 def test_geojson_cuts_a_link_at_the_antimeridian(report):
