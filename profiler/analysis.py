@@ -12,7 +12,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from . import __version__, diffraction, geometry
+from . import __version__, diffraction, geometry, limits
 from .bands import NEAR_FIELD_RULE_OF_THUMB_M, NEAR_FIELD_WAVELENGTHS, wavelength_m
 from .errors import ProfilerError
 from .radio import slant_distance_m as radio_slant
@@ -184,6 +184,8 @@ def analyze_link(profile: TerrainProfile, *, mast_a_m: float = 10.0, mast_b_m: f
     if not (math.isfinite(frequency_mhz) and frequency_mhz > 0):
         raise ProfilerError(f"frequency must be a positive number of MHz, got {frequency_mhz}")
     k = geometry.parse_k_factor(k_factor)
+    limits.check_values({"--mast-a": mast_a, "--mast-b": mast_b, "--freq-mhz": frequency_mhz, "--k": k,
+                         "--clearance-ratio": clearance_ratio_required})
     if not (math.isfinite(clearance_ratio_required) and clearance_ratio_required >= 0):
         raise ProfilerError(f"--clearance-ratio must be 0 or more, got {clearance_ratio_required}")
 

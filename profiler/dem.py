@@ -63,6 +63,9 @@ _US_SURVEY_FOOT_M = 1200.0 / 3937.0
 #: sample at a pixel centre returns that pixel's value exactly.
 _SNAP_PX = 1e-6
 
+#: A point this close (in pixels) outside the bottom or right edge of a mosaic is on that edge.
+_EDGE_PX = 1e-9
+
 #: Native blocks of fewer than _CHUNK_PX**2 / 4 pixels (one-row strips, tiny
 #: tiles) are read in aligned groups of whole blocks about _CHUNK_PX pixels on
 #: a side; larger blocks are read one by one.
@@ -241,6 +244,11 @@ class _Group:
         self.order = min(t.index for t in self.tiles)
         self.resolution_m = min(t.info.resolution_m for t in self.tiles)
         self.is_geographic = bool(self.pcrs.is_geographic)
+        # Longitudes wrap (lon 180 = lon -180): the mosaic's west edge for a north-up grid in degrees.
+        t = self.transform
+        in_degrees = any(str(a.unit_name).lower().startswith("degree") for a in self.pcrs.axis_info)
+        self.wrap_west = (t.c + t.a * float(self.c0.min())
+                          if self.is_geographic and in_degrees and t.b == 0 and t.d == 0 and t.a > 0 else None)
         self.chunk_h = np.array([t.chunk_h for t in self.tiles])
         self.chunk_w = np.array([t.chunk_w for t in self.tiles])
         self.n_chunk_cols = np.array([t.n_chunk_cols for t in self.tiles])
@@ -265,9 +273,29 @@ class _Group:
                 x, y = self.transformer.transform(lon_deg, lat_deg, errcheck=False)
             x = np.asarray(x, dtype=float)
             y = np.asarray(y, dtype=float)
+        if self.wrap_west is not None:  # the same meridian, inside the grid's 360-degree window
+            with np.errstate(invalid="ignore"):
+                x = self.wrap_west + np.mod(np.asarray(x, dtype=float) - self.wrap_west, 360.0)
         ia, ib, ic, id_, ie, if_ = self.inverse
         with np.errstate(invalid="ignore"):  # non-finite input stays non-finite
             return id_ * x + ie * y + if_, ia * x + ib * y + ic
+
+    def owner_pixels(self, frow, fcol):
+        """Pixel (row, col) holding each point and its tile (-1 if none).
+
+        The mosaic's far edges are closed: a point exactly on the bottom or
+        right edge (latitude -90 on a global grid) belongs to the edge pixel.
+        """
+        rows, cols = _floor_int(frow), _floor_int(fcol)
+        owner = self.tile_of(rows, cols)
+        missing = owner < 0
+        if missing.any():
+            r2 = np.where(missing, _floor_int(frow - _EDGE_PX), rows)
+            c2 = np.where(missing, _floor_int(fcol - _EDGE_PX), cols)
+            o2 = self.tile_of(r2, c2)
+            fix = missing & (o2 >= 0)
+            rows, cols, owner = np.where(fix, r2, rows), np.where(fix, c2, cols), np.where(fix, o2, owner)
+        return rows, cols, owner
 
     def tile_of(self, rows, cols):
         """Index (into ``self.tiles``) of the first tile holding each pixel, -1 if none."""
@@ -444,7 +472,7 @@ class ElevationModel:
             if todo.size == 0:
                 break
             fr, fc = group.pixel_coords(lon[todo], lat[todo])
-            covered[todo] = group.tile_of(_floor_int(fr), _floor_int(fc)) >= 0
+            covered[todo] = group.owner_pixels(fr, fc)[2] >= 0
         return covered.reshape(shape)
 
     def sources_used(self, lon_deg, lat_deg):
@@ -506,12 +534,14 @@ class ElevationModel:
         best = np.full(lon.shape, math.inf)
         for group in self._groups:  # a handful of source groups, not points
             fr, fc = group.pixel_coords(lon, lat)
-            inside = group.tile_of(_floor_int(fr), _floor_int(fc)) >= 0
+            inside = group.owner_pixels(fr, fc)[2] >= 0
             if not inside.any():
                 continue
             res_x, res_y = group.tiles[0].info.resolution
             if group.is_geographic:
-                m_lat, m_lon = _metres_per_degree(lat[inside])
+                # Measured at pixel centres: the pixel next to a pole has a width, the pole itself has none.
+                centre_lat = np.clip(lat[inside], -90.0 + res_y / 2.0, 90.0 - res_y / 2.0)
+                m_lat, m_lon = _metres_per_degree(centre_lat)
                 size = np.minimum(res_y * m_lat, res_x * m_lon)
             else:
                 size = min(res_x, res_y) * _linear_unit_m(group.pcrs)
@@ -577,8 +607,8 @@ class ElevationModel:
         """Bilinear samples from one mosaic (NaN where void or not covered)."""
         result = np.full(lon.shape, np.nan)
         frow, fcol = group.pixel_coords(lon, lat)
-        own_r, own_c = _floor_int(frow), _floor_int(fcol)
-        inside = group.tile_of(own_r, own_c) >= 0
+        own_r, own_c, owner = group.owner_pixels(frow, fcol)
+        inside = owner >= 0
         if not inside.any():
             return result, set()
         if inside.all():

@@ -27,9 +27,11 @@ from dataclasses import dataclass
 import numpy as np
 
 from . import geometry
+from .errors import ProfilerError
+from .limits import LIMITS, MAX_PROFILE_SAMPLES, check
 
-MAX_SAMPLES = 500_000
-"""Upper bound on samples of one link; a finer step is refused with a hint."""
+MAX_SAMPLES = MAX_PROFILE_SAMPLES
+"""Upper bound on samples of one link; a finer step is refused with a hint (see :mod:`profiler.limits`)."""
 
 ANCHOR_M = 250.0
 """Spacing of the exact geodesic anchors between which samples are interpolated [m]."""
@@ -141,8 +143,9 @@ def sample_links(model, lat_a_deg, lon_a_deg, lat_b_deg, lon_b_deg, *, step_m=No
     with np.errstate(divide="ignore", invalid="ignore"):
         n = np.where(ok, np.maximum(np.ceil(length / step) + 1, 3), 3)
     too_many = ok & (n > MAX_SAMPLES)
-    _set_error(errors, too_many, lambda i: f"the path would need {int(n[i])} samples at {step[i]:g} m; give a "
-                                           "coarser --step-m")
+    _set_error(errors, too_many, lambda i: (
+        f"the {length[i] / 1000:.3f} km path would need more than {MAX_SAMPLES} samples at {step[i]:g} m "
+        f"spacing; give a coarser --step-m (at least {length[i] / (MAX_SAMPLES - 1):.3g} m)"))
     ok &= ~too_many
     n = np.where(ok, n, 3).astype(np.int64)
     n_max = int(n.max()) if n_links else 3
@@ -190,11 +193,27 @@ def sample_links(model, lat_a_deg, lon_a_deg, lat_b_deg, lon_b_deg, *, step_m=No
             continue
         out["terrain_m"][i, :m] = filled
         voids_filled[i] = count
+    _check_heights(out, errors)
     bad = np.array([e is not None for e in errors], dtype=bool)
     for key in out:
         out[key][bad] = np.nan
     return LinkSamples(n=np.where(bad, 3, n), length_m=np.where(bad, np.nan, length), azimuth_a_to_b_deg=az_ab % 360.0,
                        azimuth_b_to_a_deg=az_back % 360.0, voids_filled=voids_filled, error=errors, **out)
+
+
+def _check_heights(out, errors):
+    """Fail links whose terrain leaves the range of Earth's surface (an undeclared void value such as -3.4e38)."""
+    lim = LIMITS["terrain"]
+    t = out["terrain_m"]
+    with np.errstate(invalid="ignore"):
+        wild = np.isfinite(t) & ((t < lim.low) | (t > lim.high))
+    for i in np.flatnonzero(wild.any(axis=1)):  # rare: only links with impossible heights
+        j = int(np.argmax(wild[i]))
+        where = _point_text(out["distance_m"][i, j], out["lat_deg"][i, j], out["lon_deg"][i, j])
+        try:
+            check("terrain", float(t[i, j]), label=f"the elevation data's height {where}")
+        except ProfilerError as exc:
+            errors[i] = errors[i] or str(exc)
 
 
 def _anchors(geod, lat_a, lon_a, az_ab, length, ok):

@@ -13,4 +13,6 @@ class ProfilerError(Exception):
     exit_code = 2
 
     def __init__(self, message: str):
-        super().__init__(" ".join(str(message).split()))
+        from .textsafe import terminal_text  # control characters a user typed never reach the terminal raw
+
+        super().__init__(terminal_text(" ".join(str(message).split())))

@@ -47,7 +47,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from . import CAUTION, __version__, geometry
+from . import CAUTION, __version__, geometry, limits
 from .radio import RadioSettings, radio_results
 from .regional import plan as regional_plan
 from .bands import wavelength_m as _wavelength_m
@@ -594,6 +594,9 @@ def _validated(solve, frequency_mhz, max_mast_m, mast_step_m, mast_a_m, mast_b_m
         raise ProfilerError(f"--min-margin-db must be a finite number, got {min_margin_db}")
     if ratio is None and ratio_low is None and min_margin_db is None:
         raise ProfilerError("no criterion left: with --no-clearance give --min-margin-db")
+    limits.check_values({"--freq-mhz": frequency_mhz, "--mast-a": masts["a"], "--mast-b": masts["b"],
+                         "--max-mast-m": max_mast_m, "--mast-step-m": mast_step_m, "--clearance-ratio": ratio,
+                         "--low-k-clearance": ratio_low, "--min-margin-db": min_margin_db})
     return max_mast_m, mast_step_m, masts["a"], masts["b"], ratio, ratio_low
 
 
@@ -656,8 +659,9 @@ def solve_mast(profile: TerrainProfile, *, frequency_mhz: float, solve: str = "b
         solve, frequency_mhz, max_mast_m, mast_step_m, mast_a_m, mast_b_m, clearance_ratio,
         low_k_clearance_ratio, min_margin_db)
     plan = regional_plan(band) if band is not None else None
-    pb = _MastProblem(profile, solve, m_a0, m_b0, frequency_mhz, geometry.parse_k_factor(k_factor),
-                      geometry.parse_k_factor(low_k_factor), radio, plan, max_mast_m)
+    k, k_low = geometry.parse_k_factor(k_factor), geometry.parse_k_factor(low_k_factor)
+    limits.check_values({"--k": k, "--low-k": k_low})
+    pb = _MastProblem(profile, solve, m_a0, m_b0, frequency_mhz, k, k_low, radio, plan, max_mast_m)
 
     criteria, clearance_req = _clearance_criteria(pb, ratio, ratio_low)
     name_c = max(clearance_req, key=lambda n: clearance_req[n][0]) if clearance_req else None

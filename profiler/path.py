@@ -15,6 +15,7 @@ import numpy as np
 from pyproj import Geod
 
 from .errors import ProfilerError
+from .limits import sample_count
 
 
 @dataclass(frozen=True)
@@ -88,13 +89,11 @@ def geodesic_path(lat_a_deg: float, lon_a_deg: float, lat_b_deg: float, lon_b_de
     """
     lat_a, lon_a = validate_lat_lon(lat_a_deg, lon_a_deg, "site A")
     lat_b, lon_b = validate_lat_lon(lat_b_deg, lon_b_deg, "site B")
-    if not (math.isfinite(step_m) and step_m > 0):
-        raise ProfilerError(f"sample step must be a positive number of metres, got {step_m}")
     geod = Geod(ellps="WGS84")
     az_ab, az_back, length = geod.inv(lon_a, lat_a, lon_b, lat_b)
     if length <= 0.0:
         raise ProfilerError("site A and site B are the same point; give two different sites")
-    n = max(int(math.ceil(length / step_m)) + 1, 3)
+    n = sample_count(length, step_m)  # refused here, before any array is allocated
     line = geod.inv_intermediate(lon_a, lat_a, lon_b, lat_b, npts=n, initial_idx=0, terminus_idx=0,
                                  return_back_azimuth=True)
     lons = np.asarray(line.lons, dtype=float)

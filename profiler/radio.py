@@ -27,7 +27,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from . import budget, diffraction, lorawan
+from . import budget, diffraction, limits, lorawan
 from .bands import SPEED_OF_LIGHT_M_S
 from .errors import ProfilerError
 from .regional import Plan, dwell_time_limit_ms, max_tx_power_dbm
@@ -80,6 +80,7 @@ class RadioSettings:
 
     def validate(self) -> "RadioSettings":
         """Check the settings; raise :class:`ProfilerError` on the first problem."""
+        limits.check_fields(self)  # physical ranges of every field with an option in limits.LIMITS
         if self.gateway not in ("a", "b"):
             raise ProfilerError(f"--gateway must be a or b, got {self.gateway!r}")
         for name in ("tx_power_dbm", "tx_power_a_dbm", "tx_power_b_dbm", "gain_a_dbi", "gain_b_dbi",

@@ -14,6 +14,7 @@ import numpy as np
 
 from . import CAUTION
 from .outputs import write_text
+from .textsafe import csv_cell, safe_strings
 
 CSV_COLUMNS = (
     ("distance_m", "distance_m"),
@@ -30,19 +31,19 @@ FORMULA_TRIGGERS = ("=", "+", "-", "@", "\t", "\r")
 
 
 def inert_text(text) -> str:
-    """Make a text cell inert in spreadsheets: prefix ``'`` when it starts like a formula.
+    """Make a text cell inert in spreadsheets (see :func:`profiler.textsafe.csv_cell`).
 
-    Cells beginning with ``= + - @``, a tab or a carriage return are read as
-    formulas by common spreadsheet programs (OWASP "CSV injection").
+    Control characters (tab, CR, LF, ESC, ...) become visible escapes, and a
+    cell whose first non-space character is ``= + - @`` gets a leading ``'``
+    (OWASP "CSV injection").
     """
-    s = "" if text is None else str(text)
-    return "'" + s if s.startswith(FORMULA_TRIGGERS) else s
+    return csv_cell(text)
 
 
 def json_text(report: dict) -> str:
     """The JSON report as text (UTF-8, indented, no NaN)."""
     # No indent: the C encoder is ~20x faster on long profiles; use `jq .` to pretty-print.
-    return json.dumps(report, allow_nan=False, ensure_ascii=False) + "\n"
+    return json.dumps(safe_strings(report, "json"), allow_nan=False, ensure_ascii=False) + "\n"
 
 
 def write_json(report: dict, path) -> None:

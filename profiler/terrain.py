@@ -9,7 +9,6 @@ coordinates and provenance when they are known.
 from __future__ import annotations
 
 import csv
-import math
 from dataclasses import dataclass, field
 from pathlib import Path
 
@@ -17,7 +16,11 @@ import numpy as np
 
 from .errors import ProfilerError
 from .engine import MAX_SAMPLES  # noqa: F401  (re-exported)
+from .limits import check, check_array
 from .path import validate_lat_lon
+
+MIN_SURVEY_SPACING_M = 0.001
+"""Closest allowed spacing of surveyed profile rows [m] (the smallest --step-m)."""
 
 
 
@@ -85,8 +88,8 @@ def profile_from_dem(model, lat_a_deg: float, lon_a_deg: float, lat_b_deg: float
 
     lat_a, lon_a = validate_lat_lon(lat_a_deg, lon_a_deg, name_a)
     lat_b, lon_b = validate_lat_lon(lat_b_deg, lon_b_deg, name_b)
-    if step_m is not None and not (math.isfinite(step_m) and step_m > 0):
-        raise ProfilerError(f"--step-m must be a positive number of metres, got {step_m}")
+    if step_m is not None:
+        step_m = check("--step-m", step_m)
     batch = sample_links(model, lat_a, lon_a, lat_b, lon_b, step_m=step_m, fill_voids=fill_voids,
                          names_a=[name_a], names_b=[name_b])
     if batch.error[0] is not None:
@@ -131,6 +134,8 @@ def read_profile_csv(path) -> TerrainProfile:
     body = rows[1:]
     if len(body) < 3:
         raise ProfilerError(f"profile file {p} has {len(body)} data rows; at least 3 are needed")
+    if len(body) > MAX_SAMPLES:
+        raise ProfilerError(f"profile file {p} has {len(body)} data rows; at most {MAX_SAMPLES} are allowed")
     try:
         d = np.array([float(r[i_d]) for r in body], dtype=float)
         h = np.array([float(r[i_h]) for r in body], dtype=float)
@@ -140,11 +145,17 @@ def read_profile_csv(path) -> TerrainProfile:
     if not np.all(np.isfinite(d)) or not np.all(np.isfinite(h)):
         bad = int(np.argmax(~(np.isfinite(d) & np.isfinite(h)))) + 2
         raise ProfilerError(f"profile file {p} line {bad}: distance and elevation must be finite numbers (no NaN)")
+    check_array("terrain", h, lambda i: f"profile file {p} line {i + 2}: elevation_m")
+    check_array("distance", np.abs(d - d[0]), lambda i: f"profile file {p} line {i + 2}: distance_m (from the first row)")
     steps = np.diff(d)
     if np.any(steps <= 0):
         bad = int(np.argmax(steps <= 0)) + 3
         kind = "duplicate" if steps[bad - 3] == 0 else "decreasing"
         raise ProfilerError(f"profile file {p} line {bad}: {kind} distance; distances must strictly increase from site A to site B")
+    if np.any(steps < MIN_SURVEY_SPACING_M):
+        bad = int(np.argmax(steps < MIN_SURVEY_SPACING_M)) + 3
+        raise ProfilerError(f"profile file {p} line {bad}: rows only {steps[bad - 3]:.3g} m apart; "
+                            f"rows must be at least {MIN_SURVEY_SPACING_M:g} m apart")
     d = d - d[0]
     source = {"path": str(p), "sha256": hashlib.sha256(raw).hexdigest(), "crs": None, "resolution": None}
     return TerrainProfile(distance_m=d, terrain_m=h, sources=[source], kind="surveyed")

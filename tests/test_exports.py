@@ -217,6 +217,10 @@ def test_hostile_names_survive_every_export_escaped_and_inert(tmp_path, evil_rep
 
 def test_inert_text_rule():
     # OWASP "CSV injection": cells starting with = + - @ tab or CR get a leading quote.
-    for text in ("=1+1", "+1", "-1", "@SUM(A1)", "\tx", "\rx"):
+    for text in ("=1+1", "+1", "-1", "@SUM(A1)", "  =1+1"):
         assert inert_text(text) == "'" + text
+    # Tab and CR (also OWASP triggers) never reach the file raw: they are written as visible escapes.
+    for text in ("\tx", "\rx", "\r=1+1"):
+        out = inert_text(text)
+        assert not any(c in out for c in "\t\r\n") and not out.lstrip().startswith(FORMULA_START)
     assert inert_text("Cairnfell Beacon") == "Cairnfell Beacon"

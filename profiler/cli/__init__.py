@@ -13,6 +13,7 @@ import click
 
 from .. import __version__
 from ..errors import ProfilerError
+from ..textsafe import terminal_text
 
 
 class ProfilerGroup(click.Group):
@@ -28,7 +29,7 @@ class ProfilerGroup(click.Group):
             hint = ""
             if isinstance(exc, click.UsageError) and exc.ctx is not None:
                 hint = f" (see '{exc.ctx.command_path} --help')"
-            click.echo(f"profiler: error: {exc.format_message()}{hint}", err=True)
+            click.echo(f"profiler: error: {terminal_text(' '.join(exc.format_message().split()))}{hint}", err=True)
             sys.exit(exc.exit_code)
         except click.Abort:
             click.echo("profiler: aborted", err=True)
@@ -52,7 +53,7 @@ class ProfilerGroup(click.Group):
         except Exception as exc:  # last resort: never a traceback for the user
             if os.environ.get("PROFILER_DEBUG"):
                 raise
-            message = " ".join(str(exc).split()) or type(exc).__name__
+            message = terminal_text(" ".join(str(exc).split())) or type(exc).__name__
             click.echo(f"profiler: error: {message} (set PROFILER_DEBUG=1 for details and please report it)",
                        err=True)
             ctx.exit(1)

@@ -33,33 +33,72 @@ def link_command(site_a, site_b, name_a, name_b, mast_a_m, mast_b_m, dem_paths, 
       profiler link --dem dem_samples --site-a 46.0,7.0 --site-b 46.1,7.1
     """
     from ..api import link
-    from ..outputs import check_output_path
-    from ..report import summary_text, write_csv, write_json
+    from ..limits import quiet_numerics, require_finite
+    from ..outputs import check_outputs, write_outputs
 
-    for path, option, suffixes in ((json_path, "--json", None), (csv_path, "--csv", None),
-                                   (geojson_path, "--geojson", None), (kml_path, "--kml", None),
-                                   (plot_path, "--plot", (".png", ".pdf", ".svg"))):
-        check_output_path(path, suffixes, option)
+    outputs = link_outputs(json_path, csv_path, geojson_path, kml_path, plot_path, paper, dpi, list(dem_paths))
+    check_outputs(outputs)  # refuse bad outputs before any computation
     radio = radio_settings(radio_kw)
-    result = link(site_a, site_b, dem=list(dem_paths), profile_csv=profile_csv, mast_a_m=mast_a_m,
-                  mast_b_m=mast_b_m, name_a=name_a, name_b=name_b, k_factor=k_text, frequency_mhz=freq_mhz,
-                  band=band_name, step_m=step_m, clearance_ratio=clearance_ratio, fill_voids=fill_voids,
-                  radio=radio)
-    report = result.to_dict()
-    if json_path:
-        write_json(report, json_path)
-    if csv_path:
-        write_csv(report, csv_path)
-    if geojson_path or kml_path:
-        from ..exports import write_geojson, write_kml
+    with quiet_numerics():
+        result = link(site_a, site_b, dem=list(dem_paths), profile_csv=profile_csv, mast_a_m=mast_a_m,
+                      mast_b_m=mast_b_m, name_a=name_a, name_b=name_b, k_factor=k_text, frequency_mhz=freq_mhz,
+                      band=band_name, step_m=step_m, clearance_ratio=clearance_ratio, fill_voids=fill_voids,
+                      radio=radio)
+        report = result.to_dict()
+        require_finite(report, LINK_FINITE, "link analysis")
+        write_outputs(outputs, report)
 
-        if geojson_path:
-            write_geojson(report, geojson_path)
-        if kml_path:
-            write_kml(report, kml_path)
-    if plot_path:
+
+#: Numbers the summary, figure and exports need; a non-finite one is refused (limits.require_finite).
+LINK_FINITE = ("distance_m", "frequency_mhz", "k_factor", "elevation_angle_a_deg", "elevation_angle_b_deg",
+               "site_a.antenna_amsl_m", "site_b.antenna_amsl_m", "worst.distance_m", "worst.clearance_m",
+               "worst.v", "loss_db.free_space", "loss_db.diffraction", "loss_db.total", "budget.eirp_dbm",
+               "budget.rx_power_dbm", "budget.sensitivity_dbm", "budget.margin_db")
+
+
+def link_outputs(json_path, csv_path, geojson_path, kml_path, plot_path, paper="a4", dpi=200, dem_paths=()):
+    """The outputs of ``profiler link`` for :func:`profiler.outputs.write_outputs`.
+
+    The terminal summary goes to standard output unless another output does.
+    """
+    from ..outputs import Output
+
+    def render_geojson(report, path):
+        from ..exports import geojson_text
+
+        return geojson_text(report)
+
+    def render_kml(report, path):
+        from ..exports import kml_text
+
+        return kml_text(report)
+
+    def render_plot(report, path):
         from ..plot import write_link_figure
 
-        write_link_figure(report, plot_path, paper=paper, dpi=dpi, dem_paths=list(dem_paths))
-    if json_path != "-":
-        click.echo(summary_text(report), nl=False)
+        write_link_figure(report, path, paper=paper, dpi=dpi, dem_paths=list(dem_paths))
+
+    def render_summary(report, path):
+        from ..report import summary_text
+
+        return summary_text(report)
+
+    def render_json(report, path):
+        from ..report import json_text
+
+        return json_text(report)
+
+    def render_csv(report, path):
+        from ..report import csv_text
+
+        return csv_text(report)
+
+    files = (json_path, csv_path, geojson_path, kml_path)
+    return [
+        Output("--json", json_path, render_json, "json"),
+        Output("--csv", csv_path, render_csv, "csv"),
+        Output("--geojson", geojson_path, render_geojson, "json"),
+        Output("--kml", kml_path, render_kml, "xml"),
+        Output("--plot", plot_path, render_plot, "figure", suffixes=(".png", ".pdf", ".svg"), stdout=False),
+        Output("summary", None if "-" in map(str, filter(None, files)) else "-", render_summary, "terminal"),
+    ]

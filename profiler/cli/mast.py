@@ -5,7 +5,7 @@ from __future__ import annotations
 import click
 
 from ..errors import ProfilerError
-from .options import (NUMBER, POSITIVE, clearance_ratio_option, frequency_options, k_option, plot_options, radio_options, radio_settings,
+from .options import (NUMBER, POSITIVE, KFactor, clearance_ratio_option, frequency_options, k_option, plot_options, radio_options, radio_settings,
                       site_options, terrain_options)
 
 """Landscape paper sizes [inch]."""
@@ -23,9 +23,9 @@ class InfeasibleMast(ProfilerError):
 @k_option
 @frequency_options
 @clearance_ratio_option("Required clearance as a fraction of the first Fresnel radius at --k.")
-@click.option("--low-k", "low_k_text", default="2/3", show_default=True,
+@click.option("--low-k", "low_k_text", type=KFactor(), default="2/3", show_default=True,
               help="Low effective-Earth-radius factor for the second clearance criterion.")
-@click.option("--low-k-clearance", "low_k_clearance", type=click.FloatRange(0.0, 10.0), default=0.0,
+@click.option("--low-k-clearance", "low_k_clearance", type=NUMBER, default=0.0,
               show_default=True, help="Required clearance as a fraction of F1 at --low-k.")
 @click.option("--no-low-k", is_flag=True, help="Drop the low-k clearance criterion.")
 @click.option("--no-clearance", is_flag=True,
@@ -58,39 +58,65 @@ def mast_command(site_a, site_b, name_a, name_b, mast_a_m, mast_b_m, dem_paths, 
       profiler mast --dem dem_samples --site-a 46.0,7.0 --site-b 46.1,7.1 --solve b
     """
     from ..bands import resolve_frequency_mhz
+    from ..limits import quiet_numerics, require_finite
     from ..mast import solve_mast
-    from ..outputs import check_output_path
-    from ..report import write_json
+    from ..outputs import check_outputs, write_outputs
 
-    # Refuse a bad output path before any computation.
-    check_output_path(json_path, None, "--json")
-    check_output_path(plot_path, (".png", ".pdf", ".svg"), "--plot")
+    outputs = mast_outputs(json_path, plot_path, paper, dpi)
+    check_outputs(outputs)  # refuse bad outputs before any computation
     radio = radio_settings(radio_kw)
     if no_clearance and min_margin_db is None:
         raise ProfilerError("--no-clearance leaves no criterion: give --min-margin-db too")
     f_mhz, band = resolve_frequency_mhz(freq_mhz, band_name)
     from ..api import load_profile
 
-    profile = load_profile(site_a, site_b, dem=list(dem_paths), profile_csv=profile_csv, step_m=step_m,
-                           fill_voids=fill_voids, name_a=name_a, name_b=name_b)
-    result = solve_mast(
-        profile, frequency_mhz=f_mhz, band=band, solve=solve, mast_a_m=mast_a_m, mast_b_m=mast_b_m,
-        clearance_ratio=None if no_clearance else clearance_ratio, k_factor=k_text,
-        low_k_clearance_ratio=None if (no_clearance or no_low_k) else low_k_clearance, low_k_factor=low_k_text,
-        min_margin_db=min_margin_db, radio=radio, max_mast_m=max_mast_m, mast_step_m=mast_step_m,
-        name_a=name_a, name_b=name_b, site_a_lat_lon=site_a if profile_csv is None else None,
-        site_b_lat_lon=site_b if profile_csv is None else None)
-    report = result.to_dict()
-    if json_path:
-        write_json(report, json_path)
-    if plot_path:
-        from ..plot import write_mast_figure
-
-        write_mast_figure(report, plot_path, paper=paper, dpi=dpi)
-    if json_path != "-":
-        click.echo(mast_summary_text(report), nl=False)
+    with quiet_numerics():
+        profile = load_profile(site_a, site_b, dem=list(dem_paths), profile_csv=profile_csv, step_m=step_m,
+                               fill_voids=fill_voids, name_a=name_a, name_b=name_b)
+        result = solve_mast(
+            profile, frequency_mhz=f_mhz, band=band, solve=solve, mast_a_m=mast_a_m, mast_b_m=mast_b_m,
+            clearance_ratio=None if no_clearance else clearance_ratio, k_factor=k_text,
+            low_k_clearance_ratio=None if (no_clearance or no_low_k) else low_k_clearance, low_k_factor=low_k_text,
+            min_margin_db=min_margin_db, radio=radio, max_mast_m=max_mast_m, mast_step_m=mast_step_m,
+            name_a=name_a, name_b=name_b, site_a_lat_lon=site_a if profile_csv is None else None,
+            site_b_lat_lon=site_b if profile_csv is None else None)
+        report = result.to_dict()
+        require_finite(report, MAST_FINITE + (MAST_FEASIBLE_FINITE if report["feasible"] else ()), "mast search")
+        write_outputs(outputs, report)  # an infeasible search still writes its report, then exits 3
     if not report["feasible"]:
         raise InfeasibleMast(report["message"])
+
+
+#: Numbers the summary and figure need (limits.require_finite); the second set only when feasible.
+MAST_FINITE = ("distance_m", "frequency_mhz")
+MAST_FEASIBLE_FINITE = ("required_mast_a_m", "required_mast_b_m", "at_required.worst_ratio",
+                        "at_required.diffraction_db", "at_required.margin_db")
+
+
+def mast_outputs(json_path, plot_path, paper="a4", dpi=200):
+    """The outputs of ``profiler mast`` for :func:`profiler.outputs.write_outputs`."""
+    from ..outputs import Output
+
+    def render_json(report, path):
+        from ..report import json_text
+
+        return json_text(report)
+
+    def render_plot(report, path):
+        from ..plot import write_mast_figure
+
+        # The mast figure's labels go through mathtext: a '$' in a name must stay a dollar sign.
+        names = {k: {**report[k], "name": report[k]["name"].replace("$", r"\$")} for k in ("site_a", "site_b")}
+        write_mast_figure({**report, **names}, path, paper=paper, dpi=dpi)
+
+    def render_summary(report, path):
+        return mast_summary_text(report)
+
+    return [
+        Output("--json", json_path, render_json, "json"),
+        Output("--plot", plot_path, render_plot, "figure", suffixes=(".png", ".pdf", ".svg"), stdout=False),
+        Output("summary", None if str(json_path) == "-" else "-", render_summary, "terminal"),
+    ]
 
 
 def _criterion_text(c) -> str:

@@ -7,6 +7,7 @@ import math
 import click
 
 from ..radio import DIFFRACTION_METHODS
+from ..errors import ProfilerError
 
 
 class LatLon(click.ParamType):
@@ -42,6 +43,9 @@ class FiniteFloat(click.ParamType):
         self.min_value, self.max_value, self.min_open = min_value, max_value, min_open
 
     def convert(self, value, param, ctx):
+        limit = _limit_name(param)
+        if limit is not None:  # the physical range from profiler.limits (one table for CLI and API)
+            return _checked(limit, value, ctx)
         if isinstance(value, float):
             x = value
         else:
@@ -59,9 +63,59 @@ class FiniteFloat(click.ParamType):
         return x
 
 
+class WholeNumber(FiniteFloat):
+    """A whole number, checked against its range in :data:`profiler.limits.LIMITS`."""
+
+    name = "INTEGER"
+
+    def convert(self, value, param, ctx):
+        limit = _limit_name(param)
+        if limit is not None:
+            return _checked(limit, value, ctx)
+        try:
+            return int(str(value).strip())
+        except ValueError:
+            self.fail(f"{value!r} is not a whole number", param, ctx)
+
+
+class KFactor(click.ParamType):
+    """An effective-Earth-radius factor: a decimal or a fraction such as 4/3, within its range."""
+
+    name = "K"
+
+    def convert(self, value, param, ctx):
+        from ..geometry import parse_k_factor
+
+        try:
+            return _checked(_limit_name(param) or "--k", parse_k_factor(value), ctx)
+        except ProfilerError as exc:
+            raise click.UsageError(str(exc), ctx) from None
+
+
+def _limit_name(param):
+    """The :data:`~profiler.limits.LIMITS` key of a click option, or None."""
+    from ..limits import LIMITS
+
+    for opt in getattr(param, "opts", ()) if param is not None else ():
+        if opt in LIMITS:
+            return opt
+    return None
+
+
+def _checked(name, value, ctx):
+    """``limits.check`` with its message as a one-line usage error."""
+    from ..limits import check
+
+    try:
+        return check(name, value)
+    except ProfilerError as exc:
+        raise click.UsageError(str(exc), ctx) from None
+
+
 NUMBER = FiniteFloat()
 NON_NEGATIVE = FiniteFloat(0.0)
 POSITIVE = FiniteFloat(0.0, min_open=True)
+INTEGER = WholeNumber()
 
 
 def _apply(options):
@@ -135,11 +189,11 @@ def radio_options(f):
                      help="Receiver noise figure of both ends [dB] (default: gateway 3 dB, node 6 dB)."),
         click.option("--noise-figure-a-db", type=NON_NEGATIVE, default=None, help="Receiver noise figure at A [dB]."),
         click.option("--noise-figure-b-db", type=NON_NEGATIVE, default=None, help="Receiver noise figure at B [dB]."),
-        click.option("--sf", type=int, default=None,
+        click.option("--sf", type=INTEGER, default=None,
                      help="Spreading factor 7-12 for the budget (default: the lowest that closes, else 12)."),
-        click.option("--payload-bytes", type=int, default=None,
+        click.option("--payload-bytes", type=INTEGER, default=None,
                      help="LoRa PHY payload per message for time on air [bytes] (default 12)."),
-        click.option("--app-payload-bytes", type=int, default=None,
+        click.option("--app-payload-bytes", type=INTEGER, default=None,
                      help="Application payload instead [bytes]: PHY = N + 13 (header, port, MIC)."),
         click.option("--dwell-time", type=click.Choice(["on", "off"]), default=None,
                      help="Uplink dwell-time limit where the plan lets the network choose (AS923, AU915)."),
@@ -174,20 +228,20 @@ def plot_options(f):
                      help="Write a figure: .png, .pdf or .svg."),
         click.option("--paper", type=click.Choice(["a4", "letter"]), default="a4", show_default=True,
                      help="Paper size of the figure (landscape)."),
-        click.option("--dpi", type=click.IntRange(50, 1200), default=200, show_default=True,
+        click.option("--dpi", type=INTEGER, default=200, show_default=True,
                      help="Resolution of a PNG figure [dots per inch]."),
     ])(f)
 
 
 def k_option(f):
     """``--k``: the effective-Earth-radius factor (text, parsed by ``geometry.parse_k_factor``)."""
-    return click.option("--k", "k_text", default="4/3", show_default=True,
+    return click.option("--k", "k_text", type=KFactor(), default="4/3", show_default=True,
                         help="Effective-Earth-radius factor, a decimal or a fraction such as 4/3.")(f)
 
 
 def clearance_ratio_option(help_text="Required clearance as a fraction of the first Fresnel radius."):
     """``--clearance-ratio``: required clearance as a fraction of F1 (default 0.6, common practice)."""
-    return click.option("--clearance-ratio", type=click.FloatRange(0.0, 10.0), default=0.6, show_default=True,
+    return click.option("--clearance-ratio", type=NUMBER, default=0.6, show_default=True,
                         help=help_text)
 
 
@@ -228,7 +282,7 @@ def network_call_kwargs(kw):
 def cluster_options(f):
     """``--workers N`` / ``--scheduler ADDRESS`` / ``--no-progress`` (shared by batch commands)."""
     return _apply([
-        click.option("--workers", type=click.IntRange(1, 256), default=None,
+        click.option("--workers", type=INTEGER, default=None,
                      help="Run on a local Dask cluster of N worker processes (pip install -e \".[cluster]\")."),
         click.option("--scheduler", default=None, metavar="ADDRESS",
                      help="Run on an existing Dask cluster, e.g. tcp://10.0.0.5:8786 (the elevation files must be "

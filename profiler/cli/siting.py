@@ -4,18 +4,18 @@ from __future__ import annotations
 
 import click
 
-from .options import cluster_options, network_call_kwargs, network_options
+from .options import INTEGER, NUMBER, cluster_options, network_call_kwargs, network_options
 
 
 @click.command("siting")
 @network_options
-@click.option("--redundancy", type=click.IntRange(1, 10), default=1, show_default=True,
+@click.option("--redundancy", type=INTEGER, default=1, show_default=True,
               help="Gateways that must hear each node.")
-@click.option("--min-margin-db", type=float, default=None,
+@click.option("--min-margin-db", type=NUMBER, default=None,
               help="Least uplink margin for a node to count as heard [dB] (default: --fade-margin-db).")
-@click.option("--max-gateways", type=click.IntRange(1, 10_000), default=None,
+@click.option("--max-gateways", type=INTEGER, default=None,
               help="Choose at most K sites (existing gateways included) hearing the most nodes.")
-@click.option("--time-limit-s", type=click.FloatRange(0.01, 86_400.0), default=60.0, show_default=True,
+@click.option("--time-limit-s", type=NUMBER, default=60.0, show_default=True,
               help="Solver time limit [s]; the best set found is returned with its gap.")
 @click.option("--json", "json_path", default=None, metavar="FILE", help="Write the JSON report ('-' for stdout).")
 @click.option("--csv", "csv_path", default=None, metavar="FILE", help="Write one CSV row per node.")
@@ -42,41 +42,51 @@ def siting_command(redundancy, min_margin_db, max_gateways, time_limit_s, json_p
       profiler siting --dem dem_samples --sites examples/siting_sites.csv --redundancy 2
     """
     from ..api import siting
-    from ..outputs import check_output_path
+    from ..limits import quiet_numerics
+    from ..outputs import check_outputs, write_outputs
 
-    for path, option, suffixes in ((json_path, "--json", None), (csv_path, "--csv", None),
-                                   (geojson_path, "--geojson", None), (plot_path, "--plot", (".png", ".pdf", ".svg"))):
-        check_output_path(path, suffixes, option)
     call = network_call_kwargs(kw)
-    report, net = siting(call.pop("sites"), redundancy=redundancy, min_margin_db=min_margin_db,
-                         max_gateways=max_gateways, time_limit_s=time_limit_s, workers=workers, scheduler=scheduler,
-                         progress=False if no_progress else None, return_network=True, **call)
-    write_siting_outputs(report, net, json_path=json_path, csv_path=csv_path, geojson_path=geojson_path,
-                         plot_path=plot_path, paper=paper, dpi=dpi, dem_paths=call["dem"])
-    if json_path != "-":
-        click.echo(siting_summary_text(report), nl=False)
+    outputs = siting_outputs(json_path, csv_path, geojson_path, plot_path, paper, dpi, call["dem"])
+    check_outputs(outputs)
+    with quiet_numerics():
+        report, net = siting(call.pop("sites"), redundancy=redundancy, min_margin_db=min_margin_db,
+                             max_gateways=max_gateways, time_limit_s=time_limit_s, workers=workers,
+                             scheduler=scheduler, progress=False if no_progress else None, return_network=True,
+                             **call)
+        write_outputs(outputs, {"siting": report, "network": net})
 
 
-def write_siting_outputs(report, net, *, json_path=None, csv_path=None, geojson_path=None, plot_path=None,
-                         paper="a4", dpi=200, dem_paths=None):
-    """Write every requested output of a siting report."""
-    from ..outputs import write_text
-    from ..report import json_text
-    from ..siting_report import siting_csv_text, siting_geojson_text
+def siting_outputs(json_path, csv_path, geojson_path, plot_path, paper="a4", dpi=200, dem_paths=()):
+    """The outputs of ``profiler siting``; each render gets ``{"siting": report, "network": network_report}``."""
+    from ..outputs import Output
 
-    if json_path and json_path != "-":
-        write_text(json_path, json_text(report))
-    if csv_path:
-        write_text(csv_path, siting_csv_text(report))
-    if geojson_path:
-        write_text(geojson_path, siting_geojson_text(report, net))
-    if plot_path:
+    def render_json(both, path):
+        from ..report import json_text
+        return json_text(both["siting"])
+
+    def render_csv(both, path):
+        from ..siting_report import siting_csv_text
+        return siting_csv_text(both["siting"])
+
+    def render_geojson(both, path):
+        from ..siting_report import siting_geojson_text
+        return siting_geojson_text(both["siting"], both["network"])
+
+    def render_plot(both, path):
         from ..plot import write_network_figure
+        rep = both["siting"]
+        write_network_figure(both["network"], path, paper=paper, dpi=dpi, dem_paths=list(dem_paths),
+                             highlight=set(rep["chosen"]), marked={u["name"] for u in rep["unreachable"]})
 
-        write_network_figure(net, plot_path, paper=paper, dpi=dpi, dem_paths=dem_paths,
-                             highlight=set(report["chosen"]), marked={u["name"] for u in report["unreachable"]})
-    if json_path == "-":
-        click.echo(json_text(report), nl=False)
+    files = (json_path, csv_path, geojson_path)
+    return [
+        Output("--json", json_path, render_json, "json"),
+        Output("--csv", csv_path, render_csv, "csv"),
+        Output("--geojson", geojson_path, render_geojson, "json"),
+        Output("--plot", plot_path, render_plot, "figure", suffixes=(".png", ".pdf", ".svg"), stdout=False),
+        Output("summary", None if "-" in map(str, filter(None, files)) else "-",
+               lambda both, path: siting_summary_text(both["siting"]), "terminal"),
+    ]
 
 
 def siting_summary_text(report: dict) -> str:

@@ -7,6 +7,8 @@ dotted lines, the caution line along the bottom.
 
 from __future__ import annotations
 
+import math
+
 from .. import CAUTION
 from ..errors import ProfilerError
 from ..outputs import atomic_path
@@ -47,7 +49,8 @@ def write_mast_figure(report: dict, path, paper: str = "a4", dpi: int = 200) -> 
     if report["feasible"] and chosen is not None:
         for ax in (ax_m, ax_c):
             ax.axvline(chosen, color="k", lw=1.2)
-        ax_m.annotate(f"chosen {chosen:.2f} m ({report['binding']['criterion']})", (chosen, 1.0),
+        shown = math.ceil(chosen * 100 - 1e-9) / 100   # rounded up to the centimetre, as in the text
+        ax_m.annotate(f"chosen {shown:.2f} m ({report['binding']['criterion']})", (chosen, 1.0),
                       xycoords=("data", "axes fraction"), xytext=(4, -14), textcoords="offset points", fontsize=8,
                       bbox={"boxstyle": "round,pad=0.2", "fc": "white", "ec": "0.5", "lw": 0.5})
     ax_m.set_ylabel("link margin [dB]")
