@@ -22,9 +22,10 @@ CAUTION = ("Planning aid only: verify on site; local codes, permits, RF-exposure
 
 def __getattr__(name):
     # Lazy public API so that `import profiler` (and the CLI start-up) stays fast.
-    if name in ("analyze_link", "LinkResult", "RadioSettings", "link", "network", "siting"):
+    if name in ("analyze_link", "LinkResult", "RadioSettings", "link", "network", "siting",
+                "coverage"):
         from . import analysis, api
-        return getattr(api if name in ("link", "network", "siting") else analysis, name)
+        return getattr(api if name in ("link", "network", "siting", "coverage") else analysis, name)
     if name in ("TerrainProfile", "profile_from_dem", "read_profile_csv"):
         from . import terrain
         return getattr(terrain, name)
@@ -38,4 +39,4 @@ def __getattr__(name):
 
 
 __all__ = ["CAUTION", "ElevationModel", "LinkResult", "ProfilerError", "RadioSettings", "TerrainProfile",
-           "analyze_link", "link", "network", "profile_from_dem", "read_profile_csv", "siting"]
+           "analyze_link", "coverage", "link", "network", "profile_from_dem", "read_profile_csv", "siting"]

@@ -113,3 +113,15 @@ def siting(sites, *, dem, redundancy: int = 1, min_margin_db: float | None = Non
     report = siting_from_network(net, min_margin_db=threshold, redundancy=redundancy, max_gateways=max_gateways,
                                  time_limit_s=time_limit_s)
     return (report, net) if return_network else report
+
+
+def coverage(site=None, *, dem, **kwargs):
+    """Coverage of a site within a radius: see :func:`profiler.coverage_map.coverage`.
+
+    Returns a :class:`~profiler.coverage_map.CoverageResult` (``bands``: name
+    -> float32 array, ``grid``, ``report`` = the ``profiler.coverage/1``
+    summary) and writes the files given by ``out``, ``plot``, ``kmz``, ``json``.
+    """
+    from .coverage_map import coverage as _coverage
+
+    return _coverage(site, dem=dem, **kwargs)

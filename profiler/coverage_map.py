@@ -529,7 +529,7 @@ def coverage(site=None, *, dem, mast_m=None, name="site", sites=None, radius_km:
         outside = ~np.asarray(model.covers(lon_g, lat_g))
         if outside.any():
             g = gateways[int(np.argmax(outside))]
-            raise ProfilerError(f"site {g.name} ({g.lat_deg:.5f}, {g.lon_deg:.5f}) is outside the elevation data; "
+            raise ProfilerError(f"{g.name} ({g.lat_deg:.5f}, {g.lon_deg:.5f}) is outside the elevation data; "
                                 f"coverage: {model.bounds_text()}")
         res = float(resolution_m) if resolution_m is not None else float(model.pixel_size_m(lon_g[:1], lat_g[:1]))
         grid = make_grid(gateways, radius_m, res)

@@ -89,6 +89,9 @@ def _register():
     from .siting import siting_command
 
     main.add_command(siting_command)
+    from .coverage import coverage_command
+
+    main.add_command(coverage_command)
 
 
 _register()

@@ -1,0 +1,67 @@
+"""``profiler coverage``: margin and data rate at every pixel within a radius of a gateway site."""
+
+from __future__ import annotations
+
+import click
+
+from .options import (NON_NEGATIVE, POSITIVE, LatLon, clearance_ratio_option, cluster_options, frequency_options,
+                      k_option, plot_options, radio_options, radio_settings)
+
+
+@click.command("coverage")
+@click.option("--dem", "dem_paths", multiple=True, metavar="PATH",
+              help="Elevation file (GeoTIFF, .hgt, VRT, ...) or folder of tiles; repeatable.")
+@click.option("--site", type=LatLon(), default=None, help="The gateway as LAT,LON in decimal degrees (WGS84).")
+@click.option("--mast-m", type=NON_NEGATIVE, default=None, help="Gateway antenna height above ground [m].")
+@click.option("--name", default="site", show_default=True, help="Name of the site.")
+@click.option("--sites", "sites_csv", default=None, type=click.Path(dir_okay=False), metavar="GATEWAYS.csv",
+              help="Site list (the network format): a composite over its gateway rows, each with its own mast.")
+@click.option("--radius-km", type=POSITIVE, required=True, help="Radius around each gateway [km].")
+@click.option("--resolution-m", type=POSITIVE, default=None,
+              help="Output pixel size [m] (default: the elevation pixel at the site).")
+@click.option("--node-mast-m", type=NON_NEGATIVE, default=1.5, show_default=True,
+              help="Node antenna height above ground at every pixel [m].")
+@click.option("--fill-voids", is_flag=True, help="Interpolate across elevation voids instead of leaving nodata.")
+@k_option
+@frequency_options
+@clearance_ratio_option()
+@radio_options
+@click.option("--out", "out_path", required=True, type=click.Path(dir_okay=False), metavar="COVERAGE.tif",
+              help="Write the bands as a float32 GeoTIFF.")
+@click.option("--kmz", "kmz_path", default=None, type=click.Path(dir_okay=False), metavar="OVERLAY.kmz",
+              help="Write a KML 2.2 ground overlay of the margin classes with the site placemark.")
+@click.option("--json", "json_path", default=None, metavar="FILE", help="Write the JSON summary ('-' for stdout).")
+@plot_options
+@cluster_options
+def coverage_command(dem_paths, site, mast_m, name, sites_csv, radius_km, resolution_m, node_mast_m, fill_voids,
+                     k_text, freq_mhz, band_name, clearance_ratio, out_path, kmz_path, json_path, plot_path, paper,
+                     dpi, workers, scheduler, no_progress, **kw):
+    """Where a node at --node-mast-m is heard from a site, at which data rate: every pixel within --radius-km.
+
+    The site is the gateway (end A); every pixel centre is a node. Bands:
+    terrain_m, worst_fresnel_ratio, path_loss_db, rx_level_dbm, margin_db,
+    downlink_margin_db, recommended_dr, line_of_sight (+ best_gateway and
+    gateways_heard with --sites).
+
+    \b
+    Example:
+      profiler coverage --dem dem_samples --site -29.9125,-19.955 --mast-m 10 --radius-km 10 --out cov.tif
+    """
+    from ..coverage_io import coverage_outputs
+    from ..coverage_map import coverage
+    from ..errors import ProfilerError
+    from ..limits import quiet_numerics
+    from ..outputs import check_outputs, write_outputs
+
+    if not dem_paths:
+        raise ProfilerError("no elevation data: give --dem FILE_OR_FOLDER")
+    radio = radio_settings(kw)
+    check_outputs(coverage_outputs(out_path, plot_path, kmz_path, json_path, paper=paper, dpi=dpi))
+    with quiet_numerics():
+        result = coverage(site, dem=list(dem_paths), mast_m=mast_m, name=name, sites=sites_csv, radius_km=radius_km,
+                          resolution_m=resolution_m, node_mast_m=node_mast_m, band=band_name, frequency_mhz=freq_mhz,
+                          k_factor=k_text, clearance_ratio=clearance_ratio, fill_voids=fill_voids, radio=radio,
+                          workers=workers, scheduler=scheduler, progress=False if no_progress else None)
+        outputs = coverage_outputs(out_path, plot_path, kmz_path, json_path, paper=paper, dpi=dpi,
+                                   dem_paths=dem_paths, result=result, summary=True)
+        write_outputs(outputs, result.to_dict())
