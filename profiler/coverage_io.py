@@ -23,38 +23,49 @@ from . import CAUTION
 
 KML_NAMESPACE = "http://www.opengis.net/kml/2.2"
 
-CLASS_COLOURS = ("#1d3a6e", "#3f8fc0", "#f2c14e", "#9a9a9a")
-"""Margin classes, strong to none: dark blue, mid blue, amber, grey (own choice; distinct in the
-common colour-vision deficiencies because they differ in lightness and in the blue-yellow axis)."""
-CLASS_ALPHA = (0.78, 0.72, 0.72, 0.45)
+CLASS_COLOURS = ("#1d3a6e", "#3f8fc0", "#a6d4e6", "#f2c14e", "#9a9a9a")
+"""Classes, best to none: dark blue, mid blue, pale blue, amber, grey (own choice: they step in lightness
+and lie on the blue-yellow axis, so they stay distinct with red-green colour-vision deficiencies)."""
+CLASS_ALPHA = (0.8, 0.75, 0.7, 0.75, 0.5)
+DR_CLASSES = ((5, 99), (3, 4), (0, 2))
+"""Recommended-DR groups of classes 0-2 (fast, middle, slow) when a regional plan is known."""
 
 
-def margin_classes(margin_db, fade_margin_db: float) -> np.ndarray:
-    """Class of every pixel: 0 margin >= fade + 10 dB, 1 >= fade, 2 >= 0 dB, 3 below 0 dB, -1 nodata."""
-    m = np.asarray(margin_db, dtype=float)
+def margin_classes(bands, fade_margin_db: float) -> np.ndarray:
+    """Class of every pixel (-1 nodata).
+
+    With data rates (a regional plan): 0 recommended DR5 or faster, 1 DR3-DR4,
+    2 DR0-DR2 (all with the fade margin), 3 margin 0 dB to the fade margin,
+    4 below 0 dB.  Without: 0 margin >= fade + 20 dB, 1 >= fade + 10 dB,
+    2 >= fade, 3 >= 0 dB, 4 below 0 dB.
+    """
+    m = np.asarray(bands["margin_db"], dtype=float)
+    dr = np.asarray(bands["recommended_dr"], dtype=float)
     cls = np.full(m.shape, -1, dtype=np.int8)
     ok = np.isfinite(m)
-    cls[ok] = 3
-    cls[ok & (m >= 0.0)] = 2
-    cls[ok & (m >= fade_margin_db)] = 1
-    cls[ok & (m >= fade_margin_db + 10.0)] = 0
+    cls[ok] = 4
+    cls[ok & (m >= 0.0)] = 3
+    closes = ok & (m >= fade_margin_db)
+    if np.isfinite(dr).any():
+        for i, (lo, hi) in reversed(list(enumerate(DR_CLASSES))):
+            cls[closes & (dr >= lo) & (dr <= hi)] = i
+    else:
+        cls[closes] = 2
+        cls[ok & (m >= fade_margin_db + 10.0)] = 1
+        cls[ok & (m >= fade_margin_db + 20.0)] = 0
     return cls
 
 
 def class_labels(bands, fade_margin_db: float) -> list[str]:
-    """Legend text of the four classes in dB, with the data rates found in each."""
-    cls = margin_classes(bands["margin_db"], fade_margin_db)
-    dr = bands["recommended_dr"]
-    ranges = (f">= {fade_margin_db + 10:g} dB", f"{fade_margin_db:g} to {fade_margin_db + 10:g} dB",
-              f"0 to {fade_margin_db:g} dB (below the fade margin)", "< 0 dB (not heard)")
-    labels = []
-    for i, text in enumerate(ranges):
-        values = dr[(cls == i) & np.isfinite(dr)]
-        if values.size and i < 2:
-            lo, hi = int(values.min()), int(values.max())
-            text += f", DR{lo}" if lo == hi else f", DR{lo}-DR{hi}"
-        labels.append(text)
-    return labels
+    """Legend text of the five classes, in data rate and dB."""
+    f = fade_margin_db
+    tail = [f"0 to {f:g} dB (below the fade margin)", "< 0 dB (not heard)"]
+    dr = np.asarray(bands["recommended_dr"], dtype=float)
+    if np.isfinite(dr).any():
+        top = int(np.nanmax(dr))
+        heads = [f"DR5-DR{max(top, 5)}" if top > 5 else "DR5", "DR3-DR4", "DR0-DR2"]
+        return [f"{h}, margin >= {f:g} dB" for h in heads] + tail
+    return [f">= {f + 20:g} dB", f"{f + 10:g} to {f + 20:g} dB", f"{f:g} to {f + 10:g} dB"] + tail
 
 
 def class_rgba(cls) -> np.ndarray:
@@ -109,7 +120,7 @@ def _geographic_classes(result, max_pixels: int = 2048):
     col = np.floor((np.asarray(x) - c) / a).astype(np.int64)
     row = np.floor((np.asarray(y) - f) / e).astype(np.int64)
     inside = (col >= 0) & (col < grid.width) & (row >= 0) & (row < grid.height)
-    cls_grid = margin_classes(result.bands["margin_db"], result.report["settings"]["fade_margin_db"])
+    cls_grid = margin_classes(result.bands, result.report["settings"]["fade_margin_db"])
     cls = np.full(glon.shape, -1, dtype=np.int8)
     cls[inside] = cls_grid[row[inside], col[inside]]
     return cls, (west, east, south, north)

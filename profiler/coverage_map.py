@@ -244,7 +244,8 @@ def sample_radials(model, gw: Gateway, azimuth_deg, radius_m: float, step_m: flo
     t = np.full((size, n_full), np.nan)
     n = np.zeros(size, dtype=np.int64)
     ok = s.ok & (s.n == n_full)
-    d[ok], t[ok], n[ok] = s.distance_m[ok, :n_full], s.terrain_m[ok, :n_full], n_full
+    if ok.any():
+        d[ok], t[ok], n[ok] = s.distance_m[ok, :n_full], s.terrain_m[ok, :n_full], n_full
     bad = np.flatnonzero(~ok)
     if bad.size:
         steps = np.arange(n_full) * spacing
