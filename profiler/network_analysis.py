@@ -164,7 +164,7 @@ def link_fields(d, terrain, n, h_a, h_b, settings: NetworkSettings, overrides=No
     ae = float(geometry.effective_radius_m(settings.k_factor)) if effective_radius is None else effective_radius
     plan = regional_plan(settings.band) if settings.band is not None else None
     g = geometry_batch(d, terrain, n, h_a, h_b, lam, ae, settings.clearance_ratio)
-    rb = radio_batch(d, terrain, n, h_a, h_b, settings.frequency_mhz, ae, radio, plan, overrides)
+    rb = radio_batch(d, terrain, n, h_a, h_b, settings.frequency_mhz, ae, radio, plan, overrides, rx2=False)
     fade = radio.fade_margin_db
     up, down = rb["uplink"], rb["downlink"]
     margin_up = up["rx_power_dbm"] - up["budget_sensitivity_dbm"]
