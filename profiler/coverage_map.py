@@ -271,6 +271,31 @@ def sample_radials(model, gw: Gateway, azimuth_deg, radius_m: float, step_m: flo
     return d, t, n
 
 
+def keep_freed_memory() -> bool:
+    """Ask glibc's allocator to keep freed memory for reuse (process-wide; no-op elsewhere).
+
+    The prefix batches allocate and free many temporaries of a few MB; by
+    default glibc returns them to the kernel (``munmap``, heap trim) and every
+    new array faults its pages in again, which cost more system time than the
+    arithmetic itself (measured: 2.9 s -> 1.2 s for a 4 km run).  Raising
+    M_MMAP_THRESHOLD to 32 MiB and M_TRIM_THRESHOLD to 1 GiB (mallopt(3))
+    keeps them in the heap.  Returns True when applied.
+    """
+    import ctypes
+    import ctypes.util
+    import sys
+
+    if not sys.platform.startswith("linux"):
+        return False
+    try:
+        libc = ctypes.CDLL(ctypes.util.find_library("c") or "libc.so.6")
+        m_trim_threshold, m_mmap_threshold = -1, -3
+        return bool(libc.mallopt(m_mmap_threshold, 32 * 1024 * 1024)) and \
+            bool(libc.mallopt(m_trim_threshold, 1024 * 1024 * 1024))
+    except (OSError, AttributeError):   # not glibc
+        return False
+
+
 def _sector_job(chunk, *, settings, n_radials, radius_m, step_m, node_mast_m, model=None):
     """One task ``(gateway, radial indices)``: sample a sector and run the engine on every sample.
 
@@ -283,6 +308,7 @@ def _sector_job(chunk, *, settings, n_radials, radius_m, step_m, node_mast_m, mo
             return _sector_job(chunk, settings=settings, n_radials=n_radials, radius_m=radius_m, step_m=step_m,
                                node_mast_m=node_mast_m, model=opened)
     gw, indices = chunk
+    keep_freed_memory()
     az = np.asarray(indices) * (360.0 / n_radials)
     d, t, n = sample_radials(model, gw, az, radius_m, step_m, settings.fill_voids)
     ae = float(geometry.effective_radius_m(settings.k_factor))
