@@ -54,7 +54,7 @@ BANDS = ("terrain_m", "worst_fresnel_ratio", "path_loss_db", "rx_level_dbm", "ma
 COMPOSITE_BANDS = BANDS + ("best_gateway", "gateways_heard")
 RADIALS_PER_CHUNK = 32
 """Radials per task (one sector)."""
-BLOCK_ELEMENTS = 300_000
+BLOCK_ELEMENTS = 100_000
 """Profile samples per engine call (rows x columns of one block); bounds memory per worker."""
 MAX_PIXELS = 40_000_000
 _FIELDS = {"worst_fresnel_ratio": "worst_fresnel_ratio", "path_loss_db": "total_loss_db",

@@ -102,6 +102,11 @@ LIMITS: dict[str, Limit] = {
     # network
     "--max-distance-km": Limit(0.0, 20_100.0, "km", "longest link considered", low_open=True),
     "--workers": Limit(1, 256, "", "worker processes", integer=True),
+    # coverage (the grid limit MAX_PIXELS of profiler.coverage_map bounds radius / resolution as well)
+    "--mast-m": Limit(0.0, 1000.0, "m", "gateway antenna height above ground"),
+    "--node-mast-m": Limit(0.0, 1000.0, "m", "node antenna height above ground"),
+    "--radius-km": Limit(0.0, 200.0, "km", "coverage radius", low_open=True),
+    "--resolution-m": Limit(0.1, 10_000.0, "m", "coverage pixel size"),
     # siting
     "--redundancy": Limit(1, 10, "", "gateways each node must hear", integer=True),
     "--max-gateways": Limit(1, 10_000, "", "most gateways to choose", integer=True),
