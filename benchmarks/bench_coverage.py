@@ -34,8 +34,8 @@ sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
 from bench_profile import TILE_SOUTH, TILE_WEST, make_tile, tile_path  # noqa: E402
 
 from profiler import geometry  # noqa: E402
-from profiler.coverage_map import (Gateway, coverage, make_grid, radial_count, radial_lookup,  # noqa: E402
-                                   line_of_sight_radials, sample_radials)
+from profiler.coverage_map import (Gateway, coverage, line_of_sight_radials, make_grid,  # noqa: E402
+                                   pixel_polar, radial_count, radial_lookup, sample_radials)
 from profiler.dem import ElevationModel  # noqa: E402
 from profiler.radio import RadioSettings  # noqa: E402
 
@@ -52,8 +52,7 @@ def los_only(dem, radius_m, res_m):
     with ElevationModel.open([dem]) as model:
         d, t, n = sample_radials(model, gw, np.arange(n_rad) * 360.0 / n_rad, radius_m, res_m, False)
     los = line_of_sight_radials(d, t, n, t[:, 0] + MAST_M, NODE_M, float(geometry.effective_radius_m(4 / 3)))
-    lon, lat = grid.lon_lat()
-    k, j, inside = radial_lookup(gw, lon, lat, n_rad, radius_m / (d.shape[1] - 1), radius_m)
+    k, j, inside = radial_lookup(*pixel_polar(grid, gw), n_rad, radius_m / (d.shape[1] - 1), radius_m)
     ok = inside & (j < n[k])
     out = np.full(k.shape, np.nan, dtype=np.float32)
     out[ok] = los[k[ok], j[ok]]

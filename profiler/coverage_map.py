@@ -384,12 +384,25 @@ def make_grid(gateways, radius_m: float, resolution_m: float) -> CoverageGrid:
                         height=height, resolution_m=float(resolution_m))
 
 
-def radial_lookup(gw: Gateway, lon, lat, n_radials: int, spacing_m: float, radius_m: float):
-    """Nearest radial sample of every pixel: ``(radial, sample, inside)`` arrays of the pixels' shape."""
+def pixel_polar(grid: CoverageGrid, gw: Gateway):
+    """Geodesic azimuth [deg] and distance [m] from the gateway to every pixel centre.
+
+    At the projection's centre they are read off the grid (the
+    azimuthal-equidistant projection keeps both exactly [2]_); elsewhere by
+    the inverse geodesic problem (pyproj.Geod).
+    """
     from pyproj import Geod
 
+    if f"+lat_0={gw.lat_deg:.9f} +lon_0={gw.lon_deg:.9f} " in grid.proj4:
+        x, y = grid.centres()
+        return np.degrees(np.arctan2(x, y)), np.hypot(x, y)
+    lon, lat = grid.lon_lat()
     az, _, dist = Geod(ellps="WGS84").inv(np.full(lon.shape, gw.lon_deg), np.full(lat.shape, gw.lat_deg), lon, lat)
-    az, dist = np.asarray(az), np.asarray(dist)
+    return np.asarray(az), np.asarray(dist)
+
+
+def radial_lookup(az, dist, n_radials: int, spacing_m: float, radius_m: float):
+    """Nearest radial sample of every pixel: ``(radial, sample, inside)`` arrays of the pixels' shape."""
     k = np.rint((az % 360.0) / (360.0 / n_radials)).astype(np.int64) % n_radials
     j = np.rint(dist / spacing_m).astype(np.int64)
     return k, j, dist <= radius_m
@@ -569,17 +582,20 @@ def coverage(site=None, *, dem, mast_m=None, name="site", sites=None, radius_km:
                                 node_mast_m=float(node_mast_m), model=model if local else None)
         parts = run_chunks(job, chunks, workers=workers, scheduler=scheduler, progress=progress, desc="radials",
                            weights=[c[1].size for c in chunks])
-        lon, lat = grid.lon_lat()
         per_gateway = []
-        inside_any = np.zeros(lon.shape, dtype=bool)
+        inside_any = np.zeros((grid.height, grid.width), dtype=bool)
         per_chunks = len(chunked(n_radials, RADIALS_PER_CHUNK))
         for i, g in enumerate(gateways):
-            lookup = radial_lookup(g, lon, lat, n_radials, spacing, radius_m)
+            lookup = radial_lookup(*pixel_polar(grid, g), n_radials, spacing, radius_m)
             inside_any |= lookup[2]
             per_gateway.append(_to_grid(parts[i * per_chunks:(i + 1) * per_chunks], lookup, n_radials, n_full))
+        lon, lat = grid.lon_lat()
+        outside_data = ~np.asarray(model.covers(lon, lat))   # a pixel centre off the data: nodata, whatever
         sources = [{"path": s.path, "sha256": s.sha256, "crs": s.crs, "resolution": list(s.resolution)}
                    for s in model.sources_used(lon_g, lat_g)]
     bands = per_gateway[0] if sites is None else composite(per_gateway, radio.fade_margin_db)
+    for values in bands.values():   # its nearest radial sample is (near the edge of the data)
+        values[outside_data] = np.nan
     plan = regional_plan(band_name) if band_name is not None else None
     dr_values = sorted(plan.data_rates) if plan is not None else []
     warnings = []

@@ -249,3 +249,16 @@ def test_bad_input_one_line_exit_2_nothing_written(tmp_path, args, words):
     assert r.exit_code == 2
     assert words in r.output and "Traceback" not in r.output
     assert list(tmp_path.iterdir()) == []
+
+
+def test_nodata_outside_the_elevation_data():
+    from profiler.dem import ElevationModel
+
+    r = coverage(GATEWAY, dem=DEM, mast_m=10.0, radius_km=6.0, resolution_m=150.0, progress=False)
+    lon, lat = r.grid.lon_lat()
+    with ElevationModel.open(DEM) as model:
+        covered = np.asarray(model.covers(lon, lat))
+    margin = r.bands["margin_db"]
+    assert (~covered).sum() > 100
+    assert np.isnan(margin[~covered]).all()
+    assert any("no value" in w for w in r.report["warnings"])
