@@ -315,8 +315,8 @@ def radio_batch(d, terrain, n, h_a, h_b, frequency_mhz, ae, radio: RadioSettings
     overrides : dict, optional
         Per-link end values, see :func:`resolve_ends`.
     rx2 : bool
-        Also the RX2 downlink window (its own frequency: one more loss
-        computation); batch callers that report no RX2 figure pass False.
+        Also compute the RX2 downlink window (a third frequency); a network
+        table does not need it.
 
     Returns
     -------

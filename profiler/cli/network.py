@@ -45,37 +45,20 @@ def network_command(json_path, csv_path, geojson_path, kml_path, plot_path, pape
 def network_outputs(json_path, csv_path, geojson_path, kml_path, plot_path, paper="a4", dpi=200, dem_paths=()):
     """The outputs of ``profiler network`` for :func:`profiler.outputs.write_outputs` (summary on stdout
     unless another output goes there)."""
-    from ..outputs import Output
-
-    def render_json(report, path):
-        from ..report import json_text
-        return json_text(report)
-
-    def render_csv(report, path):
-        from ..exports_network import network_csv_text
-        return network_csv_text(report)
-
-    def render_geojson(report, path):
-        from ..exports_network import network_geojson_text
-        return network_geojson_text(report)
-
-    def render_kml(report, path):
-        from ..exports_network import network_kml_text
-        return network_kml_text(report)
+    from ..outputs import Output, summary_output, text_of
 
     def render_plot(report, path):
         from ..plot import write_network_figure
         write_network_figure(report, path, paper=paper, dpi=dpi, dem_paths=list(dem_paths))
 
-    files = (json_path, csv_path, geojson_path, kml_path)
     return [
-        Output("--json", json_path, render_json, "json"),
-        Output("--csv", csv_path, render_csv, "csv"),
-        Output("--geojson", geojson_path, render_geojson, "json"),
-        Output("--kml", kml_path, render_kml, "xml"),
+        Output("--json", json_path, text_of("report", "json_text"), "json"),
+        Output("--csv", csv_path, text_of("exports_network", "network_csv_text"), "csv"),
+        Output("--geojson", geojson_path, text_of("exports_network", "network_geojson_text"), "json"),
+        Output("--kml", kml_path, text_of("exports_network", "network_kml_text"), "xml"),
         Output("--plot", plot_path, render_plot, "figure", suffixes=(".png", ".pdf", ".svg"), stdout=False),
-        Output("summary", None if "-" in map(str, filter(None, files)) else "-",
-               lambda report, path: network_summary_text(report), "terminal"),
+        summary_output(lambda report, path: network_summary_text(report), json_path, csv_path, geojson_path,
+                       kml_path),
     ]
 
 

@@ -58,15 +58,10 @@ def siting_command(redundancy, min_margin_db, max_gateways, time_limit_s, json_p
 
 def siting_outputs(json_path, csv_path, geojson_path, plot_path, paper="a4", dpi=200, dem_paths=()):
     """The outputs of ``profiler siting``; each render gets ``{"siting": report, "network": network_report}``."""
-    from ..outputs import Output
+    from ..outputs import Output, summary_output, text_of
 
-    def render_json(both, path):
-        from ..report import json_text
-        return json_text(both["siting"])
-
-    def render_csv(both, path):
-        from ..siting_report import siting_csv_text
-        return siting_csv_text(both["siting"])
+    def of_siting(render):
+        return lambda both, path: render(both["siting"], path)
 
     def render_geojson(both, path):
         from ..siting_report import siting_geojson_text
@@ -78,14 +73,12 @@ def siting_outputs(json_path, csv_path, geojson_path, plot_path, paper="a4", dpi
         write_network_figure(both["network"], path, paper=paper, dpi=dpi, dem_paths=list(dem_paths),
                              highlight=set(rep["chosen"]), marked={u["name"] for u in rep["unreachable"]})
 
-    files = (json_path, csv_path, geojson_path)
     return [
-        Output("--json", json_path, render_json, "json"),
-        Output("--csv", csv_path, render_csv, "csv"),
+        Output("--json", json_path, of_siting(text_of("report", "json_text")), "json"),
+        Output("--csv", csv_path, of_siting(text_of("siting_report", "siting_csv_text")), "csv"),
         Output("--geojson", geojson_path, render_geojson, "json"),
         Output("--plot", plot_path, render_plot, "figure", suffixes=(".png", ".pdf", ".svg"), stdout=False),
-        Output("summary", None if "-" in map(str, filter(None, files)) else "-",
-               lambda both, path: siting_summary_text(both["siting"]), "terminal"),
+        summary_output(lambda both, path: siting_summary_text(both["siting"]), json_path, csv_path, geojson_path),
     ]
 
 
