@@ -41,22 +41,20 @@ from __future__ import annotations
 
 import functools
 import math
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 
 import numpy as np
 
 from . import CAUTION, __version__, geometry
+from .coverage_grid import (BANDS, COMPOSITE_BANDS, MAX_PIXELS, CoverageGrid, Gateway, composite,  # noqa: F401
+                            make_grid, pixel_polar, radial_lookup, to_grid)
 from .errors import ProfilerError
 
 SCHEMA = "profiler.coverage/1"
-BANDS = ("terrain_m", "worst_fresnel_ratio", "path_loss_db", "rx_level_dbm", "margin_db", "downlink_margin_db",
-         "recommended_dr", "line_of_sight")
-COMPOSITE_BANDS = BANDS + ("best_gateway", "gateways_heard")
 RADIALS_PER_CHUNK = 32
 """Radials per task (one sector)."""
 BLOCK_ELEMENTS = 100_000
 """Profile samples per engine call (rows x columns of one block); bounds memory per worker."""
-MAX_PIXELS = 40_000_000
 _FIELDS = {"worst_fresnel_ratio": "worst_fresnel_ratio", "path_loss_db": "total_loss_db",
            "rx_level_dbm": "rx_level_dbm", "margin_db": "margin_db", "downlink_margin_db": "downlink_margin_db",
            "recommended_dr": "recommended_dr"}
@@ -210,17 +208,6 @@ def _fresnel_only(out, d, t, n, mast_m, node_mast_m, settings) -> None:
 
 
 # --------------------------------------------------------------------------- radials
-@dataclass(frozen=True)
-class Gateway:
-    """One site of a coverage run (picklable)."""
-
-    name: str
-    lat_deg: float
-    lon_deg: float
-    mast_m: float
-    overrides: dict = field(default_factory=dict)
-
-
 def sample_radials(model, gw: Gateway, azimuth_deg, radius_m: float, step_m: float, fill_voids: bool):
     """Terrain along radials from the site, each cut where it leaves the data (or meets a void).
 
@@ -318,124 +305,6 @@ def _sector_job(chunk, *, settings, n_radials, radius_m, step_m, node_mast_m, mo
     out["line_of_sight"] = np.where(np.isfinite(out["margin_db"]), los.astype(float), np.nan)
     out["n"] = n
     return {k: (v.astype(np.float32) if k != "n" else v) for k, v in out.items()}
-
-
-# --------------------------------------------------------------------------- output grid
-@dataclass(frozen=True)
-class CoverageGrid:
-    """The output grid: a local azimuthal-equidistant CRS (WGS84) in metres, north up.
-
-    ``transform`` is the GDAL/rasterio affine (a, b, c, d, e, f):
-    ``x = a col + b row + c``, ``y = d col + e row + f`` at pixel corners.
-    """
-
-    proj4: str
-    crs_wkt: str
-    transform: tuple
-    width: int
-    height: int
-    resolution_m: float
-
-    def centres(self):
-        """Pixel-centre projected coordinates ``(x, y)`` [m], each (height, width)."""
-        a, _, c, _, e, f = self.transform
-        x = c + a * (np.arange(self.width) + 0.5)
-        y = f + e * (np.arange(self.height) + 0.5)
-        return np.meshgrid(x, y)
-
-    def lon_lat(self):
-        """Pixel-centre WGS84 longitude and latitude [deg], each (height, width)."""
-        from pyproj import Transformer
-
-        x, y = self.centres()
-        tr = Transformer.from_crs(self.proj4, "EPSG:4326", always_xy=True)
-        lon, lat = tr.transform(x, y)
-        return np.asarray(lon), np.asarray(lat)
-
-    def to_dict(self) -> dict:
-        return {"crs": "local azimuthal equidistant (WGS84), metres", "proj4": self.proj4, "wkt": self.crs_wkt,
-                "transform": list(self.transform), "width": self.width, "height": self.height,
-                "resolution_m": self.resolution_m}
-
-
-def make_grid(gateways, radius_m: float, resolution_m: float) -> CoverageGrid:
-    """Grid of pixels ``resolution_m`` square covering every gateway's circle; centred on the (mean) site.
-
-    The azimuthal-equidistant projection keeps true distance and azimuth from
-    its centre [2]_, so with one site the radius is exact in the grid and the
-    site sits at the centre of a pixel; with several the centre is their mean.
-    """
-    from pyproj import CRS, Transformer
-
-    lat0 = float(np.mean([g.lat_deg for g in gateways]))
-    lon0 = float(np.degrees(np.angle(np.mean(np.exp(1j * np.radians([g.lon_deg for g in gateways]))))))
-    proj4 = f"+proj=aeqd +lat_0={lat0:.9f} +lon_0={lon0:.9f} +x_0=0 +y_0=0 +datum=WGS84 +units=m +no_defs"
-    tr = Transformer.from_crs("EPSG:4326", proj4, always_xy=True)
-    x, y = tr.transform([g.lon_deg for g in gateways], [g.lat_deg for g in gateways])
-    reach = radius_m * 1.002 + resolution_m
-    i0, i1 = math.floor((min(x) - reach) / resolution_m), math.ceil((max(x) + reach) / resolution_m)
-    j0, j1 = math.floor((min(y) - reach) / resolution_m), math.ceil((max(y) + reach) / resolution_m)
-    width, height = i1 - i0 + 1, j1 - j0 + 1
-    if width * height > MAX_PIXELS:
-        raise ProfilerError(f"the grid would have {width * height:,} pixels (more than {MAX_PIXELS:,}); give a "
-                            "coarser --resolution-m or a smaller --radius-km")
-    transform = (resolution_m, 0.0, (i0 - 0.5) * resolution_m, 0.0, -resolution_m, (j1 + 0.5) * resolution_m)
-    return CoverageGrid(proj4=proj4, crs_wkt=CRS.from_proj4(proj4).to_wkt(), transform=transform, width=width,
-                        height=height, resolution_m=float(resolution_m))
-
-
-def pixel_polar(grid: CoverageGrid, gw: Gateway):
-    """Geodesic azimuth [deg] and distance [m] from the gateway to every pixel centre.
-
-    At the projection's centre they are read off the grid (the
-    azimuthal-equidistant projection keeps both exactly [2]_); elsewhere by
-    the inverse geodesic problem (pyproj.Geod).
-    """
-    from pyproj import Geod
-
-    if f"+lat_0={gw.lat_deg:.9f} +lon_0={gw.lon_deg:.9f} " in grid.proj4:
-        x, y = grid.centres()
-        return np.degrees(np.arctan2(x, y)), np.hypot(x, y)
-    lon, lat = grid.lon_lat()
-    az, _, dist = Geod(ellps="WGS84").inv(np.full(lon.shape, gw.lon_deg), np.full(lat.shape, gw.lat_deg), lon, lat)
-    return np.asarray(az), np.asarray(dist)
-
-
-def radial_lookup(az, dist, n_radials: int, spacing_m: float, radius_m: float):
-    """Nearest radial sample of every pixel: ``(radial, sample, inside)`` arrays of the pixels' shape."""
-    k = np.rint((az % 360.0) / (360.0 / n_radials)).astype(np.int64) % n_radials
-    j = np.rint(dist / spacing_m).astype(np.int64)
-    return k, j, dist <= radius_m
-
-
-def _to_grid(parts, lookup, n_radials, n_full):
-    """Per-radial results of one gateway's sectors -> bands on the grid (NaN outside)."""
-    k, j, inside = lookup
-    n = np.concatenate([p["n"] for p in parts])
-    valid = inside & (j < n[k])
-    bands = {}
-    for name in BANDS:
-        table = np.concatenate([p[name] for p in parts])
-        grid = np.full(k.shape, np.nan, dtype=np.float32)
-        grid[valid] = table[k[valid], j[valid]]
-        bands[name] = grid
-    return bands
-
-
-def composite(per_gateway: list, fade_margin_db: float) -> dict:
-    """Bands of the best gateway (highest uplink margin) per pixel plus ``best_gateway`` and ``gateways_heard``."""
-    margin = np.stack([b["margin_db"] for b in per_gateway])
-    score = np.where(np.isfinite(margin), margin, -np.inf)
-    best = np.argmax(score, axis=0)
-    has = np.isfinite(score).any(axis=0)
-    out = {}
-    for name in BANDS:
-        stack = np.stack([b[name] for b in per_gateway])
-        out[name] = np.take_along_axis(stack, best[None], axis=0)[0]
-    out["best_gateway"] = np.where(has, best, np.nan).astype(np.float32)
-    heard = np.sum(np.where(np.isfinite(margin), margin >= fade_margin_db, False), axis=0)
-    out["gateways_heard"] = np.where(has, heard, np.nan).astype(np.float32)
-    return out
 
 
 # --------------------------------------------------------------------------- the run
@@ -538,32 +407,17 @@ def coverage(site=None, *, dem, mast_m=None, name="site", sites=None, radius_km:
     -------
     CoverageResult
     """
-    from .bands import resolve_frequency_mhz
-    from .cluster import chunked, run_chunks
     from .coverage_io import coverage_outputs
     from .dem import ElevationModel
-    from .network_analysis import NetworkSettings
     from .outputs import check_outputs, write_outputs
-    from .radio import RadioSettings
-    from .regional import plan as regional_plan
 
     outputs = coverage_outputs(out, plot, kmz, json, paper=paper, dpi=dpi, dem_paths=dem)
     check_outputs(outputs)
     _check_numbers(radius_km, resolution_m, node_mast_m)
     gateways = _gateways(site, mast_m, name, sites)
-    radio = (radio or RadioSettings()).validate()
-    if radio.gateway != "a":
-        raise ProfilerError("in a coverage map the site is the gateway (end A); drop --gateway b")
-    f_mhz, band_name = resolve_frequency_mhz(frequency_mhz, band)
-    k = geometry.parse_k_factor(k_factor)
-    dem_paths = tuple(str(p) for p in (dem if isinstance(dem, (list, tuple)) else [dem]))
-    if not dem_paths:
-        raise ProfilerError("no elevation data: give --dem FILE_OR_FOLDER")
-    settings = NetworkSettings(dem_paths=dem_paths, frequency_mhz=f_mhz, band=band_name, k_factor=k,
-                               clearance_ratio=float(clearance_ratio), step_m=None, fill_voids=bool(fill_voids),
-                               radio=radio)
+    settings = _settings(dem, band, frequency_mhz, k_factor, clearance_ratio, fill_voids, radio)
     radius_m = float(radius_km) * 1000.0
-    with ElevationModel.open(list(dem_paths)) as model:
+    with ElevationModel.open(list(settings.dem_paths)) as model:
         lon_g = np.array([g.lon_deg for g in gateways])
         lat_g = np.array([g.lat_deg for g in gateways])
         outside = ~np.asarray(model.covers(lon_g, lat_g))
@@ -573,55 +427,89 @@ def coverage(site=None, *, dem, mast_m=None, name="site", sites=None, radius_km:
                                 f"coverage: {model.bounds_text()}")
         res = float(resolution_m) if resolution_m is not None else float(model.pixel_size_m(lon_g[:1], lat_g[:1]))
         grid = make_grid(gateways, radius_m, res)
-        n_radials = radial_count(radius_m, res)
-        n_full = max(math.ceil(radius_m / res) + 1, 3)
-        spacing = radius_m / (n_full - 1)
-        chunks = [(g, np.arange(n_radials)[sl]) for g in gateways for sl in chunked(n_radials, RADIALS_PER_CHUNK)]
-        local = workers is None and scheduler is None
-        job = functools.partial(_sector_job, settings=settings, n_radials=n_radials, radius_m=radius_m, step_m=res,
-                                node_mast_m=float(node_mast_m), model=model if local else None)
-        parts = run_chunks(job, chunks, workers=workers, scheduler=scheduler, progress=progress, desc="radials",
-                           weights=[c[1].size for c in chunks])
-        per_gateway = []
-        inside_any = np.zeros((grid.height, grid.width), dtype=bool)
-        per_chunks = len(chunked(n_radials, RADIALS_PER_CHUNK))
-        for i, g in enumerate(gateways):
-            lookup = radial_lookup(*pixel_polar(grid, g), n_radials, spacing, radius_m)
-            inside_any |= lookup[2]
-            per_gateway.append(_to_grid(parts[i * per_chunks:(i + 1) * per_chunks], lookup, n_radials, n_full))
+        per_gateway, inside_any, sweep = _sweep(model, settings, gateways, grid, radius_m, res, float(node_mast_m),
+                                                workers, scheduler, progress)
         lon, lat = grid.lon_lat()
-        outside_data = ~np.asarray(model.covers(lon, lat))   # a pixel centre off the data: nodata, whatever
+        outside_data = ~np.asarray(model.covers(lon, lat))
         sources = [{"path": s.path, "sha256": s.sha256, "crs": s.crs, "resolution": list(s.resolution)}
                    for s in model.sources_used(lon_g, lat_g)]
-    bands = per_gateway[0] if sites is None else composite(per_gateway, radio.fade_margin_db)
-    for values in bands.values():   # its nearest radial sample is (near the edge of the data)
+    bands = per_gateway[0] if sites is None else composite(per_gateway, settings.radio.fade_margin_db)
+    for values in bands.values():   # a pixel centre off the data is nodata, whatever its nearest radial sample
         values[outside_data] = np.nan
-    plan = regional_plan(band_name) if band_name is not None else None
-    dr_values = sorted(plan.data_rates) if plan is not None else []
-    warnings = []
     if not np.isfinite(bands["margin_db"]).any():
         raise ProfilerError("no pixel could be computed: the radius lies outside the elevation data or in a void; "
                             "check --dem, --site and --fill-voids")
-    missing = int(np.sum(inside_any & ~np.isfinite(bands["margin_db"])))
-    if missing:
-        warnings.append(f"{missing / max(int(inside_any.sum()), 1):.1%} of the area within the radius has no value: "
-                        "outside the elevation data, or behind it or a void along the radial")
-    report = {"schema": SCHEMA, "tool_version": __version__,
-              "site": None if sites is not None else _gateway_record(gateways[0]),
-              "gateways": [_gateway_record(g) for g in gateways] if sites is not None else None,
-              "settings": {"radius_km": float(radius_km), "resolution_m": res, "node_mast_m": float(node_mast_m),
-                           "band": band_name, "frequency_mhz": f_mhz, "k_factor": k,
-                           "clearance_ratio": float(clearance_ratio), "fade_margin_db": radio.fade_margin_db,
-                           "diffraction": radio.diffraction_method, "fill_voids": bool(fill_voids),
-                           "radials": n_radials, "radial_step_m": spacing},
-              "grid": grid.to_dict(), "bands": list(bands),
-              "summary": _area_summary(bands, res, radio.fade_margin_db, dr_values),
-              "dem": {"sources": sources}, "warnings": warnings, "caution": CAUTION}
+    settings_record = {"radius_km": float(radius_km), "resolution_m": res, "node_mast_m": float(node_mast_m),
+                       "band": settings.band, "frequency_mhz": settings.frequency_mhz, "k_factor": settings.k_factor,
+                       "clearance_ratio": settings.clearance_ratio, "fade_margin_db": settings.radio.fade_margin_db,
+                       "diffraction": settings.radio.diffraction_method, "fill_voids": settings.fill_voids, **sweep}
+    report = _report(gateways, sites is not None, settings_record, grid, bands, inside_any, sources)
     result = CoverageResult(bands=bands, grid=grid, report=report)
     if outputs:
         write_outputs(coverage_outputs(out, plot, kmz, json, paper=paper, dpi=dpi, dem_paths=dem, result=result),
                       report)
     return result
+
+
+def _settings(dem, band, frequency_mhz, k_factor, clearance_ratio, fill_voids, radio):
+    """Validated engine settings (a picklable NetworkSettings) of a coverage run."""
+    from .bands import resolve_frequency_mhz
+    from .network_analysis import NetworkSettings
+    from .radio import RadioSettings
+
+    radio = (radio or RadioSettings()).validate()
+    if radio.gateway != "a":
+        raise ProfilerError("in a coverage map the site is the gateway (end A); drop --gateway b")
+    f_mhz, band_name = resolve_frequency_mhz(frequency_mhz, band)
+    dem_paths = tuple(str(p) for p in (dem if isinstance(dem, (list, tuple)) else [dem]))
+    if not dem_paths:
+        raise ProfilerError("no elevation data: give --dem FILE_OR_FOLDER")
+    return NetworkSettings(dem_paths=dem_paths, frequency_mhz=f_mhz, band=band_name,
+                           k_factor=geometry.parse_k_factor(k_factor), clearance_ratio=float(clearance_ratio),
+                           step_m=None, fill_voids=bool(fill_voids), radio=radio)
+
+
+def _sweep(model, settings, gateways, grid, radius_m, res, node_mast_m, workers, scheduler, progress):
+    """Every gateway's radial sectors through the engine (the tasks), then onto the grid."""
+    from .cluster import chunked, run_chunks
+
+    n_radials = radial_count(radius_m, res)
+    n_full = max(math.ceil(radius_m / res) + 1, 3)
+    spacing = radius_m / (n_full - 1)
+    sectors = chunked(n_radials, RADIALS_PER_CHUNK)
+    chunks = [(g, np.arange(n_radials)[sl]) for g in gateways for sl in sectors]
+    local = workers is None and scheduler is None
+    job = functools.partial(_sector_job, settings=settings, n_radials=n_radials, radius_m=radius_m, step_m=res,
+                            node_mast_m=node_mast_m, model=model if local else None)
+    parts = run_chunks(job, chunks, workers=workers, scheduler=scheduler, progress=progress, desc="radials",
+                       weights=[c[1].size for c in chunks])
+    per_gateway = []
+    inside_any = np.zeros((grid.height, grid.width), dtype=bool)
+    for i, g in enumerate(gateways):
+        lookup = radial_lookup(*pixel_polar(grid, g), n_radials, spacing, radius_m)
+        inside_any |= lookup[2]
+        per_gateway.append(to_grid(parts[i * len(sectors):(i + 1) * len(sectors)], lookup, n_radials, n_full))
+    return per_gateway, inside_any, {"radials": n_radials, "radial_step_m": spacing}
+
+
+def _report(gateways, composite_run, settings_record, grid, bands, inside_any, sources) -> dict:
+    """The ``profiler.coverage/1`` summary."""
+    from .regional import plan as regional_plan
+
+    band_name = settings_record["band"]
+    plan = regional_plan(band_name) if band_name is not None else None
+    warnings = []
+    missing = int(np.sum(inside_any & ~np.isfinite(bands["margin_db"])))
+    if missing:
+        warnings.append(f"{missing / max(int(inside_any.sum()), 1):.1%} of the area within the radius has no value: "
+                        "outside the elevation data, or behind it or a void along the radial")
+    return {"schema": SCHEMA, "tool_version": __version__,
+            "site": None if composite_run else _gateway_record(gateways[0]),
+            "gateways": [_gateway_record(g) for g in gateways] if composite_run else None,
+            "settings": settings_record, "grid": grid.to_dict(), "bands": list(bands),
+            "summary": _area_summary(bands, settings_record["resolution_m"], settings_record["fade_margin_db"],
+                                     sorted(plan.data_rates) if plan is not None else []),
+            "dem": {"sources": sources}, "warnings": warnings, "caution": CAUTION}
 
 
 def _gateway_record(g: Gateway) -> dict:
