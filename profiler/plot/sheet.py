@@ -55,6 +55,8 @@ ELLIPSIS = "\u2026"
 RULE = "0.35"             # table rules
 SHADE = "0.93"            # alternate table rows
 NODATA_HATCH = "////"     # no data (map outside the elevation model, empty panel)
+WRAP_LINE = 0.62          # each further line of a wrapped cell adds this fraction of a row height
+WRAP_EXTRA = 0.62         # rows reserved per wrapped row when sizing the table (one extra line)
 MAX_CELL_IN = 1.12        # widest table cell at 7 pt [in]; longer text is shortened with an ellipsis
 
 #: Title-block badge styles (``bbox`` keywords): heavier border as the news gets worse, so the
@@ -362,7 +364,8 @@ def draw_title_block(ax, renderer, title: str, subtitle: str, badge: str, badge_
 
 
 # --------------------------------------------------------------------------- tables
-def draw_tables(ax, renderer, blocks, gap: float = 0.12, pad: float = 0.045, max_row_h: float = 0.215) -> None:
+def draw_tables(ax, renderer, blocks, gap: float = 0.12, pad: float = 0.045, max_row_h: float = 0.215,
+                wrap_rows=(), max_fontsize: float = 7.0) -> None:
     """Ruled tables side by side across ``ax`` (an :func:`inch_axes`); widths from their contents.
 
     Parameters
@@ -372,12 +375,17 @@ def draw_tables(ax, renderer, blocks, gap: float = 0.12, pad: float = 0.045, max
         heads; ``rows`` are tuples of cell strings.  A two-column table's
         title spans both columns.  The font is the largest from 7 pt down to
         6 pt at which the contents fit; cells still too wide are shortened
-        with an ellipsis.
+        with an ellipsis, except in the rows named in ``wrap_rows``.
+    wrap_rows : iterable of str
+        Row labels (first cell) whose cells are wrapped onto two or more
+        lines instead of shortened (full site names).
+    max_fontsize : float
+        Largest font [pt].
     """
     width, height = ax.get_xlim()[1], ax.get_ylim()[1]
     tables = [([title] + (header[1:] if header is not None else [""]), rows) for title, header, rows in blocks]
     usable = width - gap * (len(tables) - 1)
-    fontsize = 7.0
+    fontsize = max_fontsize
     natural = _natural_widths(tables, renderer, fontsize, pad)
     n_cols = sum(len(cols) for cols in natural)
     total = sum(sum(cols) for cols in natural)
@@ -389,11 +397,12 @@ def draw_tables(ax, renderer, blocks, gap: float = 0.12, pad: float = 0.045, max
         widths = [[w + (usable - total) / n_cols for w in cols] for cols in natural]
     else:
         widths = [[w * usable / total for w in cols] for cols in natural]
-    n_rows = max(len(rows) for _, rows in tables) + 1
+    wrap_rows = set(wrap_rows)
+    n_rows = max(len(rows) + WRAP_EXTRA * sum(row[0] in wrap_rows for row in rows) for _, rows in tables) + 1
     row_h = min(max_row_h, (height - 0.02) / n_rows)
     x = 0.0
     for (head, rows), cols in zip(tables, widths):
-        draw_table(ax, renderer, x, height, cols, head, rows, fontsize, row_h, pad)
+        draw_table(ax, renderer, x, height, cols, head, rows, fontsize, row_h, pad, wrap_rows=wrap_rows)
         x += sum(cols) + gap
 
 
@@ -412,8 +421,19 @@ def _natural_widths(tables, renderer, fontsize, pad):
     return natural
 
 
-def draw_table(ax, renderer, x0, y_top, widths, header, rows, fontsize, row_h, pad) -> None:
-    """One ruled table: dark header row, shaded alternate rows; "NO..." cells in bold."""
+def _row_cells(renderer, row, widths, fontsize, pad, wrap: bool):
+    """A row's cells as lists of lines: wrapped at spaces when ``wrap`` (never cut), else one line each."""
+    if not wrap:
+        return [[cell] for cell in row]
+    return [[cell] if j == 0 else wrap_text(cell, w - 2 * pad, renderer, fontsize) for j, (cell, w)
+            in enumerate(zip(row, widths))]
+
+
+def draw_table(ax, renderer, x0, y_top, widths, header, rows, fontsize, row_h, pad, wrap_rows=()) -> None:
+    """One ruled table: dark header row, shaded alternate rows; "NO..." cells in bold.
+
+    Rows whose label is in ``wrap_rows`` are as tall as their longest wrapped cell.
+    """
     from matplotlib.patches import Rectangle
 
     total = sum(widths)
@@ -426,16 +446,24 @@ def draw_table(ax, renderer, x0, y_top, widths, header, rows, fontsize, row_h, p
         t = put_text(ax, left + pad, y_top - 0.5 * row_h, cell, ha="left", va="center", fontsize=fontsize,
                      fontweight="bold", color="white", zorder=2)
         fit(t, room - 2 * pad, renderer)
+    top = y_top - row_h
     for i, row in enumerate(rows, start=1):
-        y = y_top - (i + 0.5) * row_h
+        wrap = row[0] in wrap_rows
+        cells = _row_cells(renderer, row, widths, fontsize, pad, wrap)
+        n_lines = max(len(lines) for lines in cells)
+        h = row_h * (1.0 + WRAP_LINE * (n_lines - 1))
+        y = top - 0.5 * h
         if i % 2 == 0:
-            ax.add_patch(Rectangle((x0, y_top - (i + 1) * row_h), total, row_h, fc=SHADE, ec="none", zorder=0))
-        for j, (cell, left, w) in enumerate(zip(row, lefts, widths)):
+            ax.add_patch(Rectangle((x0, top - h), total, h, fc=SHADE, ec="none", zorder=0))
+        for j, (lines, left, w) in enumerate(zip(cells, lefts, widths)):
+            cell = "\n".join(lines)
             strong = j > 0 and (cell.startswith("NO") or cell.startswith("NOT"))
-            t = put_text(ax, left + pad, y, cell, ha="left", va="center", fontsize=fontsize,
+            t = put_text(ax, left + pad, y, cell, ha="left", va="center", fontsize=fontsize, linespacing=1.0,
                          color="0.25" if j == 0 else "black", fontweight="bold" if strong else "normal", zorder=2)
-            fit(t, w - 2 * pad, renderer)
-    bottom = y_top - (len(rows) + 1) * row_h
+            if not wrap:
+                fit(t, w - 2 * pad, renderer)
+        top -= h
+    bottom = top
     ax.plot([x0, x0 + total], [bottom, bottom], color=RULE, lw=0.8)
     for left in lefts[1:]:
         ax.plot([left, left], [bottom, y_top - row_h], color="0.75", lw=0.4)
@@ -500,3 +528,93 @@ def draw_footer(ax, renderer, report: dict, source_line: str, date_text: str | N
     fit(line2, width, renderer)
     line3 = put_text(ax, 0.0, height - 0.33, CAUTION, ha="left", va="top", fontsize=7.0, fontweight="bold")
     fit(line3, width, renderer)
+
+
+# --------------------------------------------------------------------------- title block (lower right)
+def title_block_rows(sheet: dict | None, title: str, report: dict, sheet_no: int = 1, sheet_count: int = 1):
+    """The cells of the lower-right title block: ``[[(label, value), ...], ...]`` row by row.
+
+    ``sheet`` is the report's ``sheet`` block (project, document, revision,
+    prepared_by, checked_by, organisation, notes, date); missing or empty
+    fields stay empty, drawn as blank boxes to fill by hand.
+    """
+    s = {k: clean(v) for k, v in (sheet or {}).items() if isinstance(v, str)}
+    rows = [[("Title", clean(title))],
+            [("Project", s.get("project", ""))],
+            [("Organisation", s.get("organisation", ""))],
+            [("Document", s.get("document", "")), ("Revision", s.get("revision", ""))],
+            [("Prepared by", s.get("prepared_by", "")), ("Checked by", s.get("checked_by", ""))],
+            [("Date", s.get("date") or datetime.date.today().isoformat()),
+             ("Sheet", f"{sheet_no} of {sheet_count}"),
+             ("Tool", f"profiler {clean(report.get('tool_version') or __version__)}")]]
+    if s.get("notes"):
+        rows.insert(3, [("Notes", s["notes"])])
+    return rows
+
+
+def draw_title_box(ax, renderer, rows, fontsize: float = 7.0, label_size: float = 5.2) -> float:
+    """A ruled title block filling the width of ``ax`` from its top: labelled cells, values wrapped, never cut.
+
+    Parameters
+    ----------
+    ax : matplotlib.axes.Axes
+        An :func:`inch_axes` at the lower right of the sheet.
+    rows : list of list of (label, value)
+        Cells of each row share its width equally; a value is wrapped at
+        spaces onto as many lines as it needs (the first row's value in
+        bold); an empty value leaves the box blank.
+
+    Returns
+    -------
+    float
+        Height used [in] (may exceed the axes when the text is very long).
+    """
+    from matplotlib.patches import Rectangle
+
+    width, height = ax.get_xlim()[1], ax.get_ylim()[1]
+    pad, line_h, label_h = 0.04, fontsize * 1.22 / 72.0, label_size * 1.25 / 72.0
+    y = height
+    for r, cells in enumerate(rows):
+        cell_w = width / len(cells)
+        wrapped = [wrap_text(value, cell_w - 2 * pad, renderer, fontsize, bold=(r == 0)) if value else [""]
+                   for _, value in cells]
+        row_h = label_h + line_h * max(len(lines) for lines in wrapped) + 1.4 * pad
+        for j, ((label, _), lines) in enumerate(zip(cells, wrapped)):
+            x = j * cell_w
+            ax.add_patch(Rectangle((x, y - row_h), cell_w, row_h, fill=False, ec="0.15", lw=0.6, clip_on=False))
+            put_text(ax, x + pad, y - 0.5 * pad, label.upper(), ha="left", va="top", fontsize=label_size,
+                     color="0.35", fontweight="bold", clip_on=False)
+            put_text(ax, x + pad, y - 0.5 * pad - label_h, "\n".join(lines), ha="left", va="top",
+                     fontsize=fontsize, fontweight="bold" if r == 0 else "normal", linespacing=1.05,
+                     clip_on=False)
+        y -= row_h
+    ax.add_patch(Rectangle((0.0, y), width, height - y, fill=False, ec="0.1", lw=1.1, clip_on=False))
+    return height - y
+
+
+def draw_notes(ax, renderer, lines, fontsize: float = 6.0, bold_last: bool = True) -> None:
+    """Lines of provenance and cautions from the top of ``ax``, each wrapped to its width (never cut).
+
+    Repeated lines are drawn once; the last line (the caution) in bold.
+    """
+    width, height = ax.get_xlim()[1], ax.get_ylim()[1]
+    line_h = fontsize * 1.25 / 72.0
+    y = height - 0.03
+    lines = list(dict.fromkeys(line for line in lines if line))
+    for i, line in enumerate(lines):
+        strong = bold_last and i == len(lines) - 1
+        for part in wrap_text(line, width, renderer, fontsize, bold=strong):
+            put_text(ax, 0.0, y, part, ha="left", va="top", fontsize=fontsize, color="0.1",
+                     fontweight="bold" if strong else "normal")
+            y -= line_h
+        y -= 0.15 * line_h
+
+
+def provenance_lines(report: dict, source_line: str, extra=()) -> list[str]:
+    """Footer lines of a sheet: elevation data, datums, extras, tool / schema / warnings, and the caution."""
+    warnings = list(dict.fromkeys(clean(w) for w in (report.get("warnings") or [])))
+    tool = f"profiler {clean(report.get('tool_version') or __version__)}  {MIDDOT}  report {clean(report.get('schema') or '')}"
+    if warnings:
+        tool += f"  {MIDDOT}  warnings: " + "; ".join(warnings)
+    datum = report.get("datum")
+    return [source_line, *([f"Datums: {clean(datum)}"] if datum else []), *extra, tool, CAUTION]
