@@ -6,7 +6,7 @@ import sys
 
 import click
 
-from .options import cluster_options, network_call_kwargs, network_options, plot_options  # noqa: F401
+from .options import cluster_options, network_call_kwargs, network_options, plot_options, sheet_options, sheet_settings  # noqa: F401
 
 
 @click.command("network")
@@ -16,6 +16,7 @@ from .options import cluster_options, network_call_kwargs, network_options, plot
 @click.option("--geojson", "geojson_path", default=None, metavar="FILE", help="Write sites and links as GeoJSON.")
 @click.option("--kml", "kml_path", default=None, metavar="FILE", help="Write sites and links as KML.")
 @plot_options
+@sheet_options
 @cluster_options
 def network_command(json_path, csv_path, geojson_path, kml_path, plot_path, paper, dpi, workers, scheduler,
                     no_progress, **kw):
@@ -38,18 +39,20 @@ def network_command(json_path, csv_path, geojson_path, kml_path, plot_path, pape
                                    (geojson_path, "--geojson", None), (kml_path, "--kml", None),
                                    (plot_path, "--plot", (".png", ".pdf", ".svg"))):
         check_output_path(path, suffixes, option)
+    sheet_info, date = sheet_settings(kw)
     call = network_call_kwargs(kw)
     result = network(call.pop("sites"), workers=workers, scheduler=scheduler,
                      progress=False if no_progress else None, **call)
     report = result.to_dict()
     write_network_outputs(report, json_path=json_path, csv_path=csv_path, geojson_path=geojson_path,
-                          kml_path=kml_path, plot_path=plot_path, paper=paper, dpi=dpi, dem_paths=call["dem"])
+                          kml_path=kml_path, plot_path=plot_path, paper=paper, dpi=dpi, dem_paths=call["dem"],
+                          sheet={**sheet_info.to_dict(), "date": date.isoformat()})
     if json_path != "-":
         click.echo(network_summary_text(report), nl=False)
 
 
 def write_network_outputs(report, *, json_path=None, csv_path=None, geojson_path=None, kml_path=None,
-                          plot_path=None, paper="a4", dpi=200, dem_paths=None):
+                          plot_path=None, paper="a4", dpi=200, dem_paths=None, sheet=None):
     """Write every requested output of a network report."""
     from ..outputs import write_text
     from ..report import json_text
@@ -67,7 +70,10 @@ def write_network_outputs(report, *, json_path=None, csv_path=None, geojson_path
     if plot_path:
         from ..plot import write_network_figure
 
-        write_network_figure(report, plot_path, paper=paper, dpi=dpi, dem_paths=dem_paths)
+        from ..textsafe import safe_strings
+
+        write_network_figure(report, plot_path, paper=paper, dpi=dpi, dem_paths=dem_paths,
+                             sheet=safe_strings(sheet, "figure") if sheet else None)
     if json_path == "-":
         sys.stdout.write(json_text(report))
 
