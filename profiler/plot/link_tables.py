@@ -16,7 +16,7 @@ from .sheet import DASH, clean, num
 
 __all__ = ["radio_block", "bearing_lines", "exposure_line", "declination_text", "exposure_distance_text"]
 
-RADIO_HEADER = ["", "Tx power", "Antenna gain", "Feeder loss", "EIRP (plan limit)", "Rx sensitivity",
+RADIO_HEADER = ["", "Tx power", "Antenna gain", "Feeder loss", "EIRP [dBm] (limit)", "Rx sensitivity",
                 "Sensitivity source", "Margin received", "Rate received [kHz]"]
 
 
@@ -58,10 +58,10 @@ def radio_block(report: dict):
         receives = up if up.get("receiver") == key else down
         direction = "uplink" if receives is up else "downlink"
         limit = end.get("max_eirp_dbm")
-        eirp = num(end.get("eirp_dbm"), ".1f", " dBm")
+        eirp = num(end.get("eirp_dbm"), ".1f")
         if limit is not None:
             ok = end["eirp_dbm"] <= limit + 1e-9
-            eirp += f" ({num(limit, 'g')}: {'met' if ok else 'EXCEEDED'})"
+            eirp += f" ({num(limit, 'g')}) {'met' if ok else 'EXCEEDED'}"
         rows.append((f"{key.upper()} {clean(end.get('role') or '')}",
                      num(end.get("tx_power_dbm"), ".2f", " dBm"), num(end.get("gain_dbi"), ".2f", " dBi"),
                      num(end.get("cable_loss_db"), ".2f", " dB"), eirp,
