@@ -14,6 +14,7 @@ import json
 import math
 import shutil
 import subprocess
+import sys
 import xml.etree.ElementTree as ET
 
 import numpy as np
@@ -57,10 +58,12 @@ def link_run(tmp_path_factory):
     info = folder / "sheet.toml"
     info.write_text('project = "Vellmoor valley LoRaWAN telemetry"\ndocument = "VV-RF-0012"\nrevision = "A"\n'
                     'prepared_by = "A. Planner"\norganisation = "Vellmoor water board"\n', encoding="utf-8")
-    res = run("link", *SITES, *RADIO, "--name-a", LONG_A, "--name-b", LONG_B, "--sheet-info", info,
-              "--revision", "C", "--date", DATE, "--json", folder / "r.json", "--plot", folder / "s.svg",
-              "--report", folder / "r.pdf")
-    assert res.exit_code == 0, res.output
+    # a real process, so that the record page shows the real command line
+    res = subprocess.run([sys.executable, "-m", "profiler", "link", *SITES, *RADIO, "--name-a", LONG_A, "--name-b",
+                          LONG_B, "--sheet-info", str(info), "--revision", "C", "--date", DATE, "--json",
+                          str(folder / "r.json"), "--plot", str(folder / "s.svg"), "--report", str(folder / "r.pdf")],
+                         capture_output=True, text=True)
+    assert res.returncode == 0, res.stderr
     report = json.loads((folder / "r.json").read_text(encoding="utf-8"))
     return report, _svg_text(folder / "s.svg"), folder
 

@@ -85,15 +85,13 @@ def _table_page(report, paper, title, groups, sheet_no, name):
                                height_in), renderer, clean(title), "Planning aid report", f"sheet {sheet_no} of {PAGES}",
                      BADGE_GOOD, badge_label="PAGE")
     top = height_in - margin - 0.85
-    row_h = 0.158
     for blocks in groups:
-        n_rows = max(len(rows) for _, _, rows in blocks) + 1
-        h = n_rows * row_h + 0.02
-        if top - h < margin + 1.7:
-            h = top - margin - 1.7
-        draw_tables(inch_axes(fig, (margin, top - h, width_in - 2 * margin, h), width_in, height_in), renderer,
-                    blocks, max_row_h=row_h, wrap_rows=("Command line", "sha256", "Name", "Path"))
-        top -= h + 0.22
+        room = top - (margin + 1.7)
+        if room < 0.3:
+            break
+        used = draw_tables(inch_axes(fig, (margin, top - room, width_in - 2 * margin, room), width_in, height_in),
+                           renderer, blocks, max_row_h=0.14, wrap_rows=("Command line", "sha256", "note"))
+        top -= used + 0.18
     draw_title_box(inch_axes(fig, (width_in - margin - block_w, margin, block_w, 1.5), width_in, height_in), renderer,
                    title_block_rows(report.get("sheet"), name, report, sheet_no, PAGES))
     draw_notes(inch_axes(fig, (margin, margin, width_in - 2 * margin - block_w - 0.2, 0.6), width_in, height_in),
@@ -144,13 +142,13 @@ def _link_budget_blocks(report):
         block = lora.get(direction)
         if not block:
             continue
-        rows = [(f"DR{r['dr']}", f"SF{r['sf']}/{r['bw_khz']:g}", _cell(r.get("sensitivity_dbm"), ".1f dBm"),
+        rec = block.get("recommended_dr")
+        rows = [(f"DR{r['dr']}{' (recommended)' if r['dr'] == rec else ''}", f"SF{r['sf']}/{r['bw_khz']:g}", _cell(r.get("sensitivity_dbm"), ".1f dBm"),
                  _cell(r.get("margin_db"), "+.1f dB"), _cell(r.get("closes"), "b"),
                  _cell(r.get("time_on_air_ms"), ".1f ms"), "yes" if r.get("allowed") else
                  f"no: {clean(r.get('reason') or '')}")
                 for r in block.get("per_dr") or []]
-        rec = block.get("recommended_dr")
-        dr_blocks.append((f"{direction.capitalize()}, recommended DR{rec if rec is not None else DASH}",
+        dr_blocks.append((direction.capitalize(),
                           ["", "Rate [kHz]", "Sensitivity", "Margin", "Closes", "Time on air", "Allowed"], rows))
     if dr_blocks:
         groups.append(dr_blocks)
@@ -182,16 +180,20 @@ def _record_blocks(report, record):
     record = record or {}
     options = sorted((record.get("options") or {}).items())
     opt_rows = [(clean(k.replace("_", "-")), clean(v) or DASH) for k, v in options]
-    half = (len(opt_rows) + 1) // 2
-    run = [("Command line", clean(" ".join(record.get("command_line") or [])) or DASH),
-           ("Report schema", clean(report.get("schema") or "")), ("Date", clean((report.get("sheet") or {}).get("date") or ""))]
+    third = (len(opt_rows) + 2) // 3
+    import shlex
+
+    command = [("Command line", clean(shlex.join(record.get("command_line") or [])) or DASH)]
+    run = [("Report schema", clean(report.get("schema") or "")), ("Date", clean((report.get("sheet") or {}).get("date") or ""))]
     files = []
     for s in (report.get("dem") or {}).get("sources") or []:
         files += [("Path", clean(os.path.basename(str(s.get("path") or "")))),
                   ("sha256", " ".join(_chunks(clean(str(s.get("sha256") or DASH)), 16))), ("CRS", clean(str(s.get("crs") or DASH)))]
     versions = [(n, clean(v)) for n, v in library_versions()]
-    groups = [[("Run", None, run), ("Elevation files", None, files or [("Path", DASH)]),
+    groups = [[("Command", None, command)], [("Run", None, run), ("Elevation files", None, files or [("Path", DASH)]),
                ("Versions", None, versions)]]
     if opt_rows:
-        groups.append([("Options", None, opt_rows[:half]), ("Options (continued)", None, opt_rows[half:] or [("", "")])])
+        groups.append([("Options", None, opt_rows[:third]),
+                       ("Options (continued)", None, opt_rows[third:2 * third] or [("", "")]),
+                       ("Options (continued)", None, opt_rows[2 * third:] or [("", "")])])
     return groups

@@ -296,7 +296,7 @@ def wrap_text(s: str, max_width_in: float, renderer, fontsize: float, bold: bool
     char_in = max(text_width_in(renderer, "n", fontsize, bold), 1e-3)
     width = max(int(max_width_in / char_in), 4)
     while True:
-        lines = textwrap.wrap(s, width=width, break_long_words=False) or [""]
+        lines = textwrap.wrap(s, width=width, break_long_words=False, break_on_hyphens=False) or [""]
         if width <= 4 or all(text_width_in(renderer, line, fontsize, bold) <= max_width_in for line in lines):
             return lines
         width -= 1
@@ -365,7 +365,7 @@ def draw_title_block(ax, renderer, title: str, subtitle: str, badge: str, badge_
 
 # --------------------------------------------------------------------------- tables
 def draw_tables(ax, renderer, blocks, gap: float = 0.12, pad: float = 0.045, max_row_h: float = 0.215,
-                wrap_rows=(), max_fontsize: float = 7.0) -> None:
+                wrap_rows=(), max_fontsize: float = 7.0) -> float:
     """Ruled tables side by side across ``ax`` (an :func:`inch_axes`); widths from their contents.
 
     Parameters
@@ -381,6 +381,11 @@ def draw_tables(ax, renderer, blocks, gap: float = 0.12, pad: float = 0.045, max
         lines instead of shortened (full site names).
     max_fontsize : float
         Largest font [pt].
+
+    Returns
+    -------
+    float
+        Height drawn [in], from the top of ``ax`` to the lowest table's bottom rule.
     """
     width, height = ax.get_xlim()[1], ax.get_ylim()[1]
     tables = [([title] + (header[1:] if header is not None else [""]), rows) for title, header, rows in blocks]
@@ -400,10 +405,12 @@ def draw_tables(ax, renderer, blocks, gap: float = 0.12, pad: float = 0.045, max
     wrap_rows = set(wrap_rows)
     n_rows = max(len(rows) + WRAP_EXTRA * sum(row[0] in wrap_rows for row in rows) for _, rows in tables) + 1
     row_h = min(max_row_h, (height - 0.02) / n_rows)
-    x = 0.0
+    x, lowest = 0.0, height
     for (head, rows), cols in zip(tables, widths):
-        draw_table(ax, renderer, x, height, cols, head, rows, fontsize, row_h, pad, wrap_rows=wrap_rows)
+        lowest = min(lowest, draw_table(ax, renderer, x, height, cols, head, rows, fontsize, row_h, pad,
+                                        wrap_rows=wrap_rows))
         x += sum(cols) + gap
+    return height - lowest
 
 
 def _natural_widths(tables, renderer, fontsize, pad):
@@ -429,10 +436,11 @@ def _row_cells(renderer, row, widths, fontsize, pad, wrap: bool):
             in enumerate(zip(row, widths))]
 
 
-def draw_table(ax, renderer, x0, y_top, widths, header, rows, fontsize, row_h, pad, wrap_rows=()) -> None:
+def draw_table(ax, renderer, x0, y_top, widths, header, rows, fontsize, row_h, pad, wrap_rows=()) -> float:
     """One ruled table: dark header row, shaded alternate rows; "NO..." cells in bold.
 
-    Rows whose label is in ``wrap_rows`` are as tall as their longest wrapped cell.
+    Rows whose label is in ``wrap_rows`` are as tall as their longest wrapped cell.  Returns the
+    y of the bottom rule [in].
     """
     from matplotlib.patches import Rectangle
 
@@ -467,6 +475,7 @@ def draw_table(ax, renderer, x0, y_top, widths, header, rows, fontsize, row_h, p
     ax.plot([x0, x0 + total], [bottom, bottom], color=RULE, lw=0.8)
     for left in lefts[1:]:
         ax.plot([left, left], [bottom, y_top - row_h], color="0.75", lw=0.4)
+    return bottom
 
 
 # --------------------------------------------------------------------------- provenance footer
