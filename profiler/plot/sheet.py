@@ -128,7 +128,9 @@ def write_sheet(path, paper: str, dpi, build, title: str, report: dict) -> None:
     with atomic_path(path) as tmp, style():
         fig = build()
         try:
-            fig.savefig(tmp, format=fmt, dpi=dpi, metadata=metadata(title, report, fmt))
+            # zlib level 1 for PNG: about 0.15 s less at 200 dpi for a slightly larger file
+            extra = {"pil_kwargs": {"compress_level": 1}} if fmt == "png" else {}
+            fig.savefig(tmp, format=fmt, dpi=dpi, metadata=metadata(title, report, fmt), **extra)
         except OSError as exc:
             raise ProfilerError(f"cannot write {path}: {exc.strerror or exc}") from exc
 
@@ -473,8 +475,10 @@ def draw_table(ax, renderer, x0, y_top, widths, header, rows, fontsize, row_h, p
         top -= h
     bottom = top
     ax.plot([x0, x0 + total], [bottom, bottom], color=RULE, lw=0.8)
-    for left in lefts[1:]:
-        ax.plot([left, left], [bottom, y_top - row_h], color="0.75", lw=0.4)
+    if len(lefts) > 1:   # every column rule in one artist (fewer artists: faster drawing)
+        xs = np.repeat(lefts[1:], 3)
+        ys = np.tile([bottom, y_top - row_h, np.nan], len(lefts) - 1)
+        ax.plot(xs, ys, color="0.75", lw=0.4)
     return bottom
 
 
