@@ -16,7 +16,6 @@ import datetime as _dt
 
 from . import __version__, diffraction, geometry, limits
 from .bands import NEAR_FIELD_RULE_OF_THUMB_M, NEAR_FIELD_WAVELENGTHS, wavelength_m
-from .datum import datum_text
 from .errors import ProfilerError
 from .radio import slant_distance_m as radio_slant
 from .radio import DIFFRACTION_METHODS, RadioSettings, check_separation, diffraction_losses, radio_results  # noqa: F401
@@ -63,7 +62,6 @@ class LinkResult:
     bearings: dict = field(default_factory=dict)
     rf_exposure: dict = field(default_factory=dict)
     sheet: dict = field(default_factory=dict)
-    datum: str | None = None
     warnings: list = field(default_factory=list)
     tool_version: str = __version__
     schema: str = SCHEMA
@@ -102,7 +100,6 @@ class LinkResult:
             "radio_ends": _clean(self.radio_ends),
             "rf_exposure": _clean(self.rf_exposure),
             "dem": _clean(self.dem),
-            "datum": self.datum,
             "sheet": dict(self.sheet),
             "warnings": list(self.warnings),
         }
@@ -287,7 +284,7 @@ def analyze_link(profile: TerrainProfile, *, mast_a_m: float = 10.0, mast_b_m: f
         compliance=rr["compliance"], gateway=radio.gateway, slant_distance_m=rr["slant_distance_m"],
         radio_ends=ends, rf_exposure=exposure_blocks(ends),
         bearings=magnetic_bearings(site_a_lat_lon, site_b_lat_lon, profile, h_a, h_b, date),
-        sheet=sheet_block(sheet_info, date), datum=datum_text([s.get("crs") for s in profile.sources]),
+        sheet=sheet_block(sheet_info, date),
         dem={"kind": profile.kind, "sources": list(profile.sources), "voids_filled": int(profile.voids_filled)},
         warnings=warnings,
     )

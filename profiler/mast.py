@@ -270,7 +270,6 @@ class MastResult:
     dem: dict = field(default_factory=dict)
     warnings: list = field(default_factory=list)
     sheet: dict = field(default_factory=dict)
-    datum: str | None = None
     tool_version: str = __version__
     schema: str = SCHEMA
 
@@ -305,7 +304,6 @@ class MastResult:
             "message": self.message,
             "notes": list(self.notes),
             "dem": self.dem,
-            "datum": self.datum,
             "sheet": dict(self.sheet),
             "warnings": list(self.warnings),
             "caution": CAUTION,

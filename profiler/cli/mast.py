@@ -97,14 +97,12 @@ MAST_FEASIBLE_FINITE = ("required_mast_a_m", "required_mast_b_m", "at_required.w
 
 
 def with_sheet(result, profile, sheet_info, date):
-    """The mast result with its ``sheet`` block (title-block fields, date) and datum statement."""
+    """The mast result with its ``sheet`` block (title-block fields, date)."""
     import dataclasses
 
     from ..analysis import sheet_block
-    from ..datum import datum_text
 
-    return dataclasses.replace(result, sheet=sheet_block(sheet_info, date),
-                               datum=datum_text([s.get("crs") for s in profile.sources]))
+    return dataclasses.replace(result, sheet=sheet_block(sheet_info, date))
 
 
 def mast_outputs(json_path, plot_path, paper="a4", dpi=200, *, report_path=None, record=None):

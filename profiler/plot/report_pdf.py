@@ -16,6 +16,7 @@ import platform
 
 from .. import CAUTION, __version__
 from ..errors import ProfilerError
+from .sheet import datum_line
 from .sheet import (DASH, clean, draw_notes, draw_tables, draw_title_block, draw_title_box, inch_axes, metadata,
                     new_sheet, num, paper_size_in, check_dpi, site_name, style, title_block_rows, EN, BADGE_GOOD)
 
@@ -95,7 +96,7 @@ def _table_page(report, paper, title, groups, sheet_no, name):
     draw_title_box(inch_axes(fig, (width_in - margin - block_w, margin, block_w, 1.5), width_in, height_in), renderer,
                    title_block_rows(report.get("sheet"), name, report, sheet_no, PAGES))
     draw_notes(inch_axes(fig, (margin, margin, width_in - 2 * margin - block_w - 0.2, 0.6), width_in, height_in),
-               renderer, [f"Datums: {clean(report.get('datum') or DASH)}", CAUTION])
+               renderer, [f"Datums: {clean(datum_line(report))}", CAUTION])
     return fig
 
 

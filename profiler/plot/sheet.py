@@ -629,5 +629,15 @@ def provenance_lines(report: dict, source_line: str, extra=()) -> list[str]:
     tool = f"profiler {clean(report.get('tool_version') or __version__)}  {MIDDOT}  report {clean(report.get('schema') or '')}"
     if warnings:
         tool += f"  {MIDDOT}  warnings: " + "; ".join(warnings)
-    datum = report.get("datum")
-    return [source_line, *([f"Datums: {clean(datum)}"] if datum else []), *extra, tool, CAUTION]
+    return [source_line, f"Datums: {clean(datum_line(report))}", *extra, tool, CAUTION]
+
+
+def datum_line(report: dict) -> str:
+    """The datum statement (:func:`profiler.datum.datum_text`) for the report's elevation files."""
+    from ..datum import datum_text
+
+    sources = (report.get("dem") or {}).get("sources") or []
+    try:
+        return datum_text([s.get("crs") for s in sources])
+    except ProfilerError:      # an unreadable CRS string: say so rather than fail the sheet
+        return datum_text([]).replace("not stated in the data", "unreadable CRS in the data")
