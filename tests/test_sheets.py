@@ -203,3 +203,17 @@ def test_network_accepts_sheet_options(tmp_path):
     assert res.exit_code == 0, res.output
     svg = _svg_text(tmp_path / "n.svg")
     assert "Vellmoor network" in svg and "VV-NET-1" in svg and DATE in svg
+
+
+def test_mast_sheet_writes_the_rate_and_the_reason_of_a_drop(tmp_path):
+    from profiler.plot import write_mast_figure
+
+    res = run("mast", *SITES, "--band", "EU868", "--clearance-ratio", "0.3", "--json", tmp_path / "m.json")
+    assert res.exit_code == 0, res.output
+    report = json.loads((tmp_path / "m.json").read_text())
+    for i, row in enumerate(report["table"]):     # a slower rate below 8 m, as a lower mast would recommend
+        if i < 6:
+            row.update(sf=9, bw_khz=125.0, dr=3, margin_db=row["margin_db"] + 8.0)
+    write_mast_figure(report, tmp_path / "m.svg")
+    svg = _svg_text(tmp_path / "m.svg")
+    assert "DR3 SF9/125" in svg and "\u2193 DR6 SF7/250" in svg and "margin drops where a taller mast" in svg

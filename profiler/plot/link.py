@@ -219,8 +219,8 @@ def _draw_path(ax, report: dict, lon, lat) -> None:
     short[0] = short[-1] = False
     if short.any():
         ax.plot(lon, np.where(short, lat, np.nan), color=SHORT_EDGE, lw=2.6, ls=(0, (2.0, 1.0)), zorder=5)
-    ax.plot(lon[0], lat[0], marker="^", ms=8, mfc="black", mec="white", mew=1.0, zorder=6)
-    ax.plot(lon[-1], lat[-1], marker="o", ms=7, mfc="white", mec="black", mew=1.4, zorder=6)
+    ax.plot(lon[0], lat[0], marker="^", ms=8, mfc="black", mec="white", mew=1.0, zorder=7)   # sites above the worst point
+    ax.plot(lon[-1], lat[-1], marker="o", ms=7, mfc="white", mec="black", mew=1.4, zorder=7)
     worst = report.get("worst") or {}
     if worst.get("lon_deg") is not None:
         wl = lon[int(np.argmin(np.abs(arr(prof["distance_m"]) - worst["distance_m"])))]

@@ -139,21 +139,28 @@ def _panels(ax_m, ax_c, report):
     ax_c.set_xlabel(xlabel, parse_math=False)
     for ax in (ax_m, ax_c):
         ax.grid(True, alpha=0.3, lw=0.5)
-        ax.legend(fontsize=6.5, loc="lower right", frameon=True, framealpha=0.9)
+        ax.legend(fontsize=6.5, loc="lower right" if ax is ax_c else "upper right", frameon=True, framealpha=0.9)
     ax_m.tick_params(labelbottom=False)
 
 
 def _rate_notes(ax, x, margin, rows):
-    """The data rate written along the margin curve: at the start and at each change (reason for a drop)."""
+    """The data rate written along the margin curve (at the start and at each change), each drop
+    marked, and one note giving the reason for the drops."""
     if not rows or rows[0].get("sf") is None:
         return
-    ax.annotate(rate_label(rows[0]), (x[0], margin[0]), xytext=(7, -2), textcoords="offset points", fontsize=6,
-                color="0.2", parse_math=False, va="top")
+    halo = dict(boxstyle="square,pad=0.1", fc="white", ec="none", alpha=0.85)
+    ax.annotate(rate_label(rows[0]), (x[0], margin[0]), xytext=(5, 5), textcoords="offset points", fontsize=6,
+                color="0.15", parse_math=False, va="bottom", bbox=halo)
     changes = rate_changes(rows)
-    for n, (i, reason) in enumerate(changes[:6]):
-        ax.annotate(reason if "lower" in reason else rate_label(rows[i]), (x[i], margin[i]),
-                    xytext=(4, -12 - 9 * (n % 3)), textcoords="offset points", fontsize=6, color="0.15",
-                    parse_math=False, arrowprops=dict(arrowstyle="-", lw=0.5, color="0.4"))
+    for i, reason in changes[:8]:
+        drop = "lower" in reason
+        ax.annotate(("\u2193 " if drop else "") + rate_label(rows[i]), (x[i], margin[i]), xytext=(5, -4),
+                    textcoords="offset points", fontsize=6, color="0.15", parse_math=False, va="top", bbox=halo)
+    if any("lower" in reason for _, reason in changes):
+        ax.margins(y=0.15)
+        ax.text(0.0, -0.03, "\u2193 margin drops where a taller mast lets a faster (less sensitive) data rate "
+                "close: the margin is counted at the recommended rate", transform=ax.transAxes, fontsize=6.3,
+                color="0.1", ha="left", va="top", parse_math=False)
 
 
 def _result_rows(report):
