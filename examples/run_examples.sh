@@ -15,7 +15,7 @@ profiler link --dem dem_samples --site-a "$GW" --site-b -29.85,-19.78 \
   --name-a "Cairnfell Beacon" --name-b "Millbrook Tank" --band US915 \
   --geojson out/millbrook.geojson --kml out/millbrook.kml
 
-# 3. Blocked path: which spreading factor closes with a 6 dBi gateway antenna and 2 dB of feeder?
+# 3. Blocked path: which data rate closes both ways with a 6 dBi gateway antenna and 2 dB of feeder?
 profiler link --dem dem_samples --site-a "$GW" --site-b -30.0,-19.845 \
   --name-a "Cairnfell Beacon" --name-b "Wendle Reservoir" --gain-a-dbi 6 --cable-loss-a-db 2
 
@@ -27,7 +27,7 @@ profiler link --dem dem_samples --site-a "$GW" --site-b -29.965,-19.82 \
 profiler mast --dem dem_samples --site-a "$GW" --site-b -30.0,-19.845 \
   --name-a "Cairnfell Beacon" --name-b "Wendle Reservoir" --solve b --max-mast-m 60 || true
 
-# 6. LoRa case: diffraction accepted, only a 10 dB margin at SF12 is required.
+# 6. LoRa case: diffraction accepted, only a 10 dB uplink margin at SF12 is required.
 profiler mast --dem dem_samples --site-a "$GW" --site-b -30.0,-19.845 \
   --name-a "Cairnfell Beacon" --name-b "Wendle Reservoir" --solve b --no-clearance \
   --min-margin-db 10 --sf 12
@@ -36,5 +36,22 @@ profiler mast --dem dem_samples --site-a "$GW" --site-b -30.0,-19.845 \
 profiler link --profile examples/surveyed_profile.csv --name-a "Ridge Farm" --name-b "Low Meadow" \
   --mast-a 6 --mast-b 3 --plot out/surveyed.png
 
-# 8. The frequency plans.
+# 8. The frequency plans, and one in full.
 profiler bands
+profiler bands US915
+
+# 9. A gateway whose EIRP would be over the EU868 limit: the warning, then --cap-eirp.
+profiler link --dem dem_samples --site-a "$GW" --site-b -29.85,-19.78 \
+  --name-a "Cairnfell Beacon" --name-b "Millbrook Tank" --tx-power-a-dbm 14 --gain-a-dbi 6 --cable-loss-a-db 2
+profiler link --dem dem_samples --site-a "$GW" --site-b -29.85,-19.78 \
+  --name-a "Cairnfell Beacon" --name-b "Millbrook Tank" --tx-power-a-dbm 14 --gain-a-dbi 6 --cable-loss-a-db 2 \
+  --cap-eirp
+
+# 10. The whole network: 2 gateways, 4 candidate sites, 40 nodes; table, map and GIS layers.
+profiler network --dem dem_samples --sites examples/vellmoor_network.csv --fill-voids \
+  --json out/network.json --csv out/network.csv --geojson out/network.geojson --kml out/network.kml \
+  --plot out/network.png
+
+# 11. Where to put the gateways: every node heard twice, at the lowest cost, proven optimal.
+profiler siting --dem dem_samples --sites examples/siting_sites.csv --redundancy 2 \
+  --json out/siting.json --csv out/siting.csv --plot out/siting.png

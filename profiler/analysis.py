@@ -16,6 +16,7 @@ import datetime as _dt
 
 from . import __version__, diffraction, geometry, limits
 from .bands import NEAR_FIELD_RULE_OF_THUMB_M, NEAR_FIELD_WAVELENGTHS, wavelength_m
+from .engine import geometry_batch
 from .errors import ProfilerError
 from .radio import slant_distance_m as radio_slant
 from .radio import DIFFRACTION_METHODS, RadioSettings, check_separation, diffraction_losses, radio_results  # noqa: F401
@@ -212,16 +213,12 @@ def analyze_link(profile: TerrainProfile, *, mast_a_m: float = 10.0, mast_b_m: f
     h_a = float(terrain[0]) + mast_a
     h_b = float(terrain[-1]) + mast_b
 
-    d2 = total - d
-    bulge = geometry.earth_bulge_m(d, d2, ae)
-    los = geometry.line_of_sight_m(d, total, h_a, h_b)
-    f1 = geometry.fresnel_radius_m(d, d2, lam)
-    clearance = geometry.clearance_m(los, terrain, bulge)
-    ratio = geometry.clearance_ratio(clearance, f1)
-
-    interior = slice(1, -1)
-    i_worst = 1 + int(np.argmin(ratio[interior]))
-    worst_ratio = float(ratio[i_worst])
+    # The geometry of the link engine, as a batch of one.
+    g = geometry_batch(d[None, :], terrain[None, :], np.array([d.size]), np.array([h_a]), np.array([h_b]),
+                       lam, ae, clearance_ratio_required)
+    bulge, los, f1, clearance = g.bulge_m[0], g.los_m[0], g.fresnel_radius_m[0], g.clearance_m[0]
+    i_worst = int(g.worst_index[0])
+    worst_ratio = float(g.worst_ratio[0])
     # Diffraction parameter at the worst point: v = -sqrt(2) c / F1 (P.526-15 eqs. 22-23 with h = -c).
     worst_v = -math.sqrt(2.0) * worst_ratio
     worst = {
@@ -235,11 +232,8 @@ def analyze_link(profile: TerrainProfile, *, mast_a_m: float = 10.0, mast_b_m: f
     if profile.lat_deg is not None:
         worst["lat_deg"] = float(profile.lat_deg[i_worst])
         worst["lon_deg"] = float(profile.lon_deg[i_worst])
-    line_of_sight = bool(np.all(clearance[interior] > 0.0))
-    fresnel_clear = bool(np.all(ratio[interior] >= clearance_ratio_required))
-
-    angle_a = float(geometry.elevation_angle_deg(h_a, h_b, total, ae))
-    angle_b = float(geometry.elevation_angle_deg(h_b, h_a, total, ae))
+    line_of_sight, fresnel_clear = bool(g.line_of_sight[0]), bool(g.fresnel_clear[0])
+    angle_a, angle_b = float(g.elevation_angle_a_deg[0]), float(g.elevation_angle_b_deg[0])
 
     plan = regional_plan(band) if band is not None else None
     slant = float(radio_slant(total, h_a, h_b))

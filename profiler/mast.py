@@ -48,7 +48,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from . import CAUTION, __version__, geometry, limits
-from .radio import RadioSettings, radio_results
+from .radio import RadioSettings, radio_batch
 from .regional import plan as regional_plan
 from .bands import wavelength_m as _wavelength_m
 from .errors import ProfilerError
@@ -59,6 +59,9 @@ SOLVE_ENDS = ("a", "b", "both")
 CRITERIA = ("clearance", "clearance_low_k", "margin")
 MAX_GRID_POINTS = 5001
 """Upper bound on height-grid points (range / step); a finer step is refused with a hint."""
+
+MAST_BATCH = 64
+"""Heights per batch of the link engine in a mast scan."""
 
 MARGIN_TOLERANCE_M = 1e-3
 """Bisection stops when the bracket on the margin criterion is this narrow [m]."""
@@ -395,12 +398,39 @@ class _MastProblem:
         return float(r[i]), i + 1
 
     def radio_masts(self, ma, mb):
-        """Uplink budget (the link report's ``budget``) and diffraction for masts ``ma``, ``mb``."""
-        rr = radio_results(self.d, self.terrain, self.g_a + ma, self.g_b + mb, self.frequency_mhz, self.ae,
-                           self.radio, self.plan)
-        bud = rr["budget"]
-        return {"diffraction_db": float(rr["loss_db"]["diffraction"]), "margin_db": float(bud["margin_db"]),
-                "sf": bud["sf"], "bw_khz": bud["bw_khz"], "dr": bud["dr"]}
+        """Uplink budget (the link report's ``budget``) and diffraction for masts ``ma``, ``mb`` (arrays or scalars).
+
+        The heights are the link axis of one :func:`profiler.radio.radio_batch` call: a mast scan is the
+        link engine vectorized over heights.  Scalars in, one dict out; arrays in, a list of dicts.
+        """
+        ma_arr, mb_arr = np.broadcast_arrays(np.atleast_1d(np.asarray(ma, dtype=float)),
+                                             np.atleast_1d(np.asarray(mb, dtype=float)))
+        rows = []
+        for start in range(0, ma_arr.size, MAST_BATCH):  # chunks bound the memory of a long scan
+            sl = slice(start, start + MAST_BATCH)
+            k = ma_arr[sl].size
+            d = np.broadcast_to(self.d, (k, self.d.size))
+            t = np.broadcast_to(self.terrain, (k, self.d.size))
+            rb = radio_batch(d, t, np.full(k, self.d.size), self.g_a + ma_arr[sl], self.g_b + mb_arr[sl],
+                             self.frequency_mhz, self.ae, self.radio, self.plan, rx2=False)
+            up = rb["uplink"]
+            margin = up["rx_power_dbm"] - up["budget_sensitivity_dbm"]
+            diff = rb["losses"][self.frequency_mhz]["diffraction"]
+            for i in range(k):  # one dict per height for the table and the cache
+                rows.append({"diffraction_db": float(diff[i]), "margin_db": float(margin[i]),
+                             "sf": None if up["sf"] is None else int(up["sf"][i]),
+                             "bw_khz": None if up["bw_khz"] is None else float(up["bw_khz"][i]),
+                             "dr": None if up["dr"] is None or up["dr"][i] < 0 else int(up["dr"][i])})
+        return rows if np.ndim(ma) or np.ndim(mb) else rows[0]
+
+    def prefetch(self, ts):
+        """Compute the radio state of every height in ``ts`` not cached yet, in one batch."""
+        keys = [round(float(t), 9) for t in ts]
+        todo = sorted({k for k in keys if k not in self._cache})
+        if todo:
+            masts = np.array([self.masts_at(k) for k in todo])
+            for key, row in zip(todo, self.radio_masts(masts[:, 0], masts[:, 1])):
+                self._cache[key] = row
 
     def radio_at(self, t):
         key = round(float(t), 9)
@@ -426,6 +456,11 @@ class _MastProblem:
             out["lat_deg"] = float(self.profile.lat_deg[index])
             out["lon_deg"] = float(self.profile.lon_deg[index])
         return out
+
+
+def _table(pb: _MastProblem, heights):
+    pb.prefetch(heights)
+    return [pb.state(t) for t in heights]
 
 
 def _clearance_criteria(pb: _MastProblem, ratio, ratio_low):
@@ -496,6 +531,7 @@ def _rate(r) -> str:
 def _margin_criterion(pb: _MastProblem, grid, min_margin_db, t_clear, clearance_ok, step):
     """(criterion row, t meeting margin and clearance or None, monotone flag, notes)."""
     x_db = float(min_margin_db)
+    pb.prefetch(grid)
     margins = np.array([pb.margin_at(t) for t in grid])
     monotone, notes = _monotone_note(pb, grid, margins, x_db, step)
     t_alone = _lowest_meeting(pb, grid, pb.lower, x_db)
@@ -678,6 +714,7 @@ def solve_mast(profile: TerrainProfile, *, frequency_mhz: float, solve: str = "b
         row, t_margin, margin_monotone, notes = _margin_criterion(pb, grid, x_db, t_clear, clearance_ok, mast_step_m)
         criteria.append(row)
     else:
+        pb.prefetch(table_t)
         margins = np.array([pb.margin_at(t) for t in table_t])
         margin_monotone, notes = (_monotone_note(pb, table_t, margins, None, mast_step_m) if margins.size > 1
                                   else (None, []))
@@ -726,7 +763,7 @@ def solve_mast(profile: TerrainProfile, *, frequency_mhz: float, solve: str = "b
         cheapest_split=split, margin_monotone=margin_monotone, max_mast_m=max_mast_m, mast_step_m=mast_step_m,
         search={"parameter": {"a": "mast_a_m", "b": "mast_b_m", "both": "added_height_m"}[solve],
                 "lower_m": pb.lower, "current_m": pb.current, "upper_m": pb.upper},
-        table=[pb.state(t) for t in table_t], diffraction_method=radio.diffraction_method, message=message,
+        table=_table(pb, table_t), diffraction_method=radio.diffraction_method, message=message,
         notes=notes,
         dem={"kind": profile.kind, "sources": list(profile.sources), "voids_filled": int(profile.voids_filled)},
         warnings=warnings,

@@ -125,7 +125,7 @@ def _fill_results(out, rows, s, d, terrain, n, h_a, h_b, lam, ae, settings, over
     plan = regional_plan(settings.band) if settings.band is not None else None
     g = geometry_batch(d, terrain, n, h_a, h_b, lam, ae, settings.clearance_ratio)
     sub = None if overrides is None else {role: {k: v[rows] for k, v in o.items()} for role, o in overrides.items()}
-    rb = radio_batch(d, terrain, n, h_a, h_b, settings.frequency_mhz, ae, radio, plan, sub)
+    rb = radio_batch(d, terrain, n, h_a, h_b, settings.frequency_mhz, ae, radio, plan, sub, rx2=False)
     fade = radio.fade_margin_db
     up, down = rb["uplink"], rb["downlink"]
     margin_up = up["rx_power_dbm"] - up["budget_sensitivity_dbm"]

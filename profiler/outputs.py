@@ -141,6 +141,26 @@ class Output:
     stdout: bool = True
 
 
+def text_of(module: str, function: str) -> Callable:
+    """A ``render`` that imports ``profiler.<module>`` only when called and returns ``function(report)``.
+
+    For outputs whose content is a text built from the report (JSON, CSV,
+    GeoJSON, KML writers); keeps heavy modules out of the command's start-up.
+    """
+    def render(report, path):
+        import importlib
+
+        return getattr(importlib.import_module(f"profiler.{module}"), function)(report)
+
+    return render
+
+
+def summary_output(render: Callable, *paths) -> Output:
+    """The terminal summary: to standard output unless one of ``paths`` (the other outputs) already goes there."""
+    taken = any(str(p) == "-" for p in paths if p is not None)
+    return Output("summary", None if taken else "-", render, "terminal")
+
+
 def _as_output(item) -> Output:
     if isinstance(item, Output):
         return item

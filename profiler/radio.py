@@ -293,7 +293,7 @@ def _direction_batch(plan, radio, direction, tx, rx, loss_total, frequency_mhz, 
 
 
 def radio_batch(d, terrain, n, h_a, h_b, frequency_mhz, ae, radio: RadioSettings, plan: Plan | None = None,
-                overrides: dict | None = None) -> dict:
+                overrides: dict | None = None, rx2: bool = True) -> dict:
     """Losses and both budgets of many links at once; every value an array over links.
 
     Parameters
@@ -314,6 +314,9 @@ def radio_batch(d, terrain, n, h_a, h_b, frequency_mhz, ae, radio: RadioSettings
         Regional plan; None when only a frequency was given.
     overrides : dict, optional
         Per-link end values, see :func:`resolve_ends`.
+    rx2 : bool
+        Also compute the RX2 downlink window (a third frequency); a network
+        table does not need it.
 
     Returns
     -------
@@ -332,7 +335,7 @@ def radio_batch(d, terrain, n, h_a, h_b, frequency_mhz, ae, radio: RadioSettings
         raise ProfilerError("--dwell-time needs a regional plan: give --band instead of --freq-mhz")
     dwell = dwell_time_limit_ms(plan, radio.dwell_time) if plan is not None else None
     f_down = plan.downlink_frequency_mhz if plan is not None else frequency_mhz
-    freqs = {frequency_mhz, f_down} | ({plan.rx2_frequency_mhz} if plan is not None else set())
+    freqs = {frequency_mhz, f_down} | ({plan.rx2_frequency_mhz} if plan is not None and rx2 else set())
     pol_a = ends["gateway" if radio.gateway == "a" else "node"]["polarization_deg"]
     pol_b = ends["node" if radio.gateway == "a" else "gateway"]["polarization_deg"]
     losses = {f: path_loss_batch(d, terrain, n, h_a, h_b, f, ae, radio, pol_a, pol_b) for f in sorted(freqs)}
@@ -349,10 +352,11 @@ def radio_batch(d, terrain, n, h_a, h_b, frequency_mhz, ae, radio: RadioSettings
                                          frequency_mhz, phy, app, dwell)
         out["downlink"] = _direction_batch(plan, radio, "downlink", gw, node, losses[f_down]["total"],
                                            f_down, phy, app, dwell)
-        sf2, bw2 = plan.data_rates[plan.rx2_dr]
-        s2 = _sensitivity_dbm(sf2, bw2, node["noise_figure_db"])
-        out["rx2"] = {"sensitivity_dbm": s2,
-                      "margin_db": _rx_power(gw, node, losses[plan.rx2_frequency_mhz]["total"]) - s2}
+        if rx2:
+            sf2, bw2 = plan.data_rates[plan.rx2_dr]
+            s2 = _sensitivity_dbm(sf2, bw2, node["noise_figure_db"])
+            out["rx2"] = {"sensitivity_dbm": s2,
+                          "margin_db": _rx_power(gw, node, losses[plan.rx2_frequency_mhz]["total"]) - s2}
         return out
     closes = out["per_sf"]["margin_db"] >= radio.fade_margin_db
     lowest = np.where(closes.any(axis=1), sf_axis[np.argmax(closes, axis=1)], -1)

@@ -12,7 +12,6 @@ import ast
 import csv
 import functools
 import math
-import time
 from pathlib import Path
 
 import numpy as np

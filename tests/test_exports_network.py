@@ -11,7 +11,6 @@ import io
 import json
 import xml.etree.ElementTree as ET
 
-import numpy as np
 import pytest
 from geographiclib.geodesic import Geodesic
 

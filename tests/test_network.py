@@ -209,3 +209,25 @@ def test_siting_command_on_the_sample_scenario(tmp_path):
             assert len(heard & chosen) >= 2, node
     assert {s["name"] for s in net["sites"] if s["role"] == "gateway"} <= chosen   # existing ones always kept
     assert "Siting:" in res.stdout and "Planning aid only" in res.stdout
+
+
+def test_network_outputs_are_all_or_nothing_and_text_safe(tmp_path):
+    # A hostile site name (formula start after a carriage return, an XML-forbidden control character)
+    # and an output in a missing folder: nothing is written; with good paths, the CSV cell is inert
+    # (OWASP CSV injection) and the KML parses (XML 1.0 forbids U+0001).
+    sites = random_sites(tmp_path, 3, extra='"\r=1+1\x01 pump",-29.95,-19.9,2,node\n')
+    good = tmp_path / "net.json"
+    res = run("network", "--dem", SAMPLE, "--sites", sites, "--json", good, "--kml", tmp_path / "no" / "x.kml")
+    assert res.exit_code == 2 and not good.exists()
+    assert list(tmp_path.glob(".*")) == []                     # no temporary file left behind
+    res = run("network", "--dem", SAMPLE, "--sites", sites, "--csv", tmp_path / "n.csv", "--kml", tmp_path / "n.kml",
+              "--fill-voids")
+    assert res.exit_code == 0, res.output
+    import csv as csv_module
+    import xml.etree.ElementTree as ET
+    rows = list(csv_module.reader((tmp_path / "n.csv").read_text().splitlines()))
+    cells = [c for r in rows for c in r]
+    assert not any(c.lstrip().startswith(("=", "+", "@")) for c in cells if "pump" in c)
+    assert not any("\r" in c or "\x01" in c for c in cells)
+    ET.fromstring((tmp_path / "n.kml").read_bytes())
+    assert "\x01" not in res.stdout

@@ -21,7 +21,6 @@ import hashlib
 import io
 import json
 import math
-import os
 import tempfile
 import warnings
 import xml.etree.ElementTree as ET

@@ -2,8 +2,6 @@
 
 from __future__ import annotations
 
-import sys
-
 import click
 
 from .options import cluster_options, network_call_kwargs, network_options, plot_options, sheet_options, sheet_settings  # noqa: F401
@@ -33,49 +31,42 @@ def network_command(json_path, csv_path, geojson_path, kml_path, plot_path, pape
       profiler network --dem dem_samples --sites examples/vellmoor_network.csv --csv links.csv
     """
     from ..api import network
-    from ..outputs import check_output_path
+    from ..limits import quiet_numerics
+    from ..outputs import check_outputs, write_outputs
 
-    for path, option, suffixes in ((json_path, "--json", None), (csv_path, "--csv", None),
-                                   (geojson_path, "--geojson", None), (kml_path, "--kml", None),
-                                   (plot_path, "--plot", (".png", ".pdf", ".svg"))):
-        check_output_path(path, suffixes, option)
     sheet_info, date = sheet_settings(kw)
     call = network_call_kwargs(kw)
-    result = network(call.pop("sites"), workers=workers, scheduler=scheduler,
-                     progress=False if no_progress else None, **call)
-    report = result.to_dict()
-    write_network_outputs(report, json_path=json_path, csv_path=csv_path, geojson_path=geojson_path,
-                          kml_path=kml_path, plot_path=plot_path, paper=paper, dpi=dpi, dem_paths=call["dem"],
-                          sheet={**sheet_info.to_dict(), "date": date.isoformat()})
-    if json_path != "-":
-        click.echo(network_summary_text(report), nl=False)
+    outputs = network_outputs(json_path, csv_path, geojson_path, kml_path, plot_path, paper, dpi, call["dem"],
+                              sheet={**sheet_info.to_dict(), "date": date.isoformat()})
+    check_outputs(outputs)
+    with quiet_numerics():
+        result = network(call.pop("sites"), workers=workers, scheduler=scheduler,
+                         progress=False if no_progress else None, **call)
+        write_outputs(outputs, result.to_dict())
 
 
-def write_network_outputs(report, *, json_path=None, csv_path=None, geojson_path=None, kml_path=None,
-                          plot_path=None, paper="a4", dpi=200, dem_paths=None, sheet=None):
-    """Write every requested output of a network report."""
-    from ..outputs import write_text
-    from ..report import json_text
+def network_outputs(json_path, csv_path, geojson_path, kml_path, plot_path, paper="a4", dpi=200, dem_paths=(), *,
+                    sheet=None):
+    """The outputs of ``profiler network`` for :func:`profiler.outputs.write_outputs` (summary on stdout
+    unless another output goes there); ``sheet`` holds the title-block fields and date of the map."""
+    from ..outputs import Output, summary_output, text_of
 
-    if csv_path or geojson_path or kml_path:
-        from ..exports_network import network_csv_text, network_geojson_text, network_kml_text
-    if json_path and json_path != "-":
-        write_text(json_path, json_text(report))
-    if csv_path:
-        write_text(csv_path, network_csv_text(report))
-    if geojson_path:
-        write_text(geojson_path, network_geojson_text(report))
-    if kml_path:
-        write_text(kml_path, network_kml_text(report))
-    if plot_path:
+    def render_plot(report, path):
         from ..plot import write_network_figure
-
         from ..textsafe import safe_strings
 
-        write_network_figure(report, plot_path, paper=paper, dpi=dpi, dem_paths=dem_paths,
+        write_network_figure(report, path, paper=paper, dpi=dpi, dem_paths=list(dem_paths),
                              sheet=safe_strings(sheet, "figure") if sheet else None)
-    if json_path == "-":
-        sys.stdout.write(json_text(report))
+
+    return [
+        Output("--json", json_path, text_of("report", "json_text"), "json"),
+        Output("--csv", csv_path, text_of("exports_network", "network_csv_text"), "csv"),
+        Output("--geojson", geojson_path, text_of("exports_network", "network_geojson_text"), "json"),
+        Output("--kml", kml_path, text_of("exports_network", "network_kml_text"), "xml"),
+        Output("--plot", plot_path, render_plot, "figure", suffixes=(".png", ".pdf", ".svg"), stdout=False),
+        summary_output(lambda report, path: network_summary_text(report), json_path, csv_path, geojson_path,
+                       kml_path),
+    ]
 
 
 def network_summary_text(report: dict) -> str:

@@ -42,41 +42,44 @@ def siting_command(redundancy, min_margin_db, max_gateways, time_limit_s, json_p
       profiler siting --dem dem_samples --sites examples/siting_sites.csv --redundancy 2
     """
     from ..api import siting
-    from ..outputs import check_output_path
+    from ..limits import quiet_numerics
+    from ..outputs import check_outputs, write_outputs
 
-    for path, option, suffixes in ((json_path, "--json", None), (csv_path, "--csv", None),
-                                   (geojson_path, "--geojson", None), (plot_path, "--plot", (".png", ".pdf", ".svg"))):
-        check_output_path(path, suffixes, option)
     call = network_call_kwargs(kw)
-    report, net = siting(call.pop("sites"), redundancy=redundancy, min_margin_db=min_margin_db,
-                         max_gateways=max_gateways, time_limit_s=time_limit_s, workers=workers, scheduler=scheduler,
-                         progress=False if no_progress else None, return_network=True, **call)
-    write_siting_outputs(report, net, json_path=json_path, csv_path=csv_path, geojson_path=geojson_path,
-                         plot_path=plot_path, paper=paper, dpi=dpi, dem_paths=call["dem"])
-    if json_path != "-":
-        click.echo(siting_summary_text(report), nl=False)
+    outputs = siting_outputs(json_path, csv_path, geojson_path, plot_path, paper, dpi, call["dem"])
+    check_outputs(outputs)
+    with quiet_numerics():
+        report, net = siting(call.pop("sites"), redundancy=redundancy, min_margin_db=min_margin_db,
+                             max_gateways=max_gateways, time_limit_s=time_limit_s, workers=workers,
+                             scheduler=scheduler, progress=False if no_progress else None, return_network=True,
+                             **call)
+        write_outputs(outputs, {"siting": report, "network": net})
 
 
-def write_siting_outputs(report, net, *, json_path=None, csv_path=None, geojson_path=None, plot_path=None,
-                         paper="a4", dpi=200, dem_paths=None):
-    """Write every requested output of a siting report."""
-    from ..outputs import write_text
-    from ..report import json_text
-    from ..siting_report import siting_csv_text, siting_geojson_text
+def siting_outputs(json_path, csv_path, geojson_path, plot_path, paper="a4", dpi=200, dem_paths=()):
+    """The outputs of ``profiler siting``; each render gets ``{"siting": report, "network": network_report}``."""
+    from ..outputs import Output, summary_output, text_of
 
-    if json_path and json_path != "-":
-        write_text(json_path, json_text(report))
-    if csv_path:
-        write_text(csv_path, siting_csv_text(report))
-    if geojson_path:
-        write_text(geojson_path, siting_geojson_text(report, net))
-    if plot_path:
+    def of_siting(render):
+        return lambda both, path: render(both["siting"], path)
+
+    def render_geojson(both, path):
+        from ..siting_report import siting_geojson_text
+        return siting_geojson_text(both["siting"], both["network"])
+
+    def render_plot(both, path):
         from ..plot import write_network_figure
+        rep = both["siting"]
+        write_network_figure(both["network"], path, paper=paper, dpi=dpi, dem_paths=list(dem_paths),
+                             highlight=set(rep["chosen"]), marked={u["name"] for u in rep["unreachable"]})
 
-        write_network_figure(net, plot_path, paper=paper, dpi=dpi, dem_paths=dem_paths,
-                             highlight=set(report["chosen"]), marked={u["name"] for u in report["unreachable"]})
-    if json_path == "-":
-        click.echo(json_text(report), nl=False)
+    return [
+        Output("--json", json_path, of_siting(text_of("report", "json_text")), "json"),
+        Output("--csv", csv_path, of_siting(text_of("siting_report", "siting_csv_text")), "csv"),
+        Output("--geojson", geojson_path, render_geojson, "json"),
+        Output("--plot", plot_path, render_plot, "figure", suffixes=(".png", ".pdf", ".svg"), stdout=False),
+        summary_output(lambda both, path: siting_summary_text(both["siting"]), json_path, csv_path, geojson_path),
+    ]
 
 
 def siting_summary_text(report: dict) -> str:
