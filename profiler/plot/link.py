@@ -25,9 +25,10 @@ import numpy as np
 
 from ..report import verdict
 from . import basemap
-from .sheet import (BADGE_BAD, BADGE_GOOD, BADGE_WARN, DASH, EN, MIDDOT, arr, clean, dms, draw_notes, draw_tables,
-                    draw_title_block, draw_title_box, fit, fraction, inch_axes, k_text, km, nanmax, new_sheet, num,
-                    provenance_lines, site_name, source_text, style, title_block_rows, write_sheet)
+from .titleblock import draw_notes, draw_title_box, provenance_lines, title_block_rows
+from .sheet import (BADGE_BAD, BADGE_GOOD, BADGE_WARN, DASH, EN, MIDDOT, arr, clean, dms, draw_tables,
+                    draw_title_block, fit, fraction, inch_axes, k_text, km, nanmax, new_sheet, num,
+                    site_name, source_text, style, write_sheet)
 from .link_tables import bearing_lines, declination_text, exposure_line, radio_block
 from .profile_panel import draw_profile
 

@@ -15,9 +15,10 @@ from __future__ import annotations
 
 import math
 
-from .sheet import (BADGE_BAD, BADGE_GOOD, EN, MIDDOT, clean, draw_notes, draw_tables, draw_title_block,
-                    draw_title_box, fraction, inch_axes, new_sheet, num, provenance_lines, site_name, source_text,
-                    style, title_block_rows, write_sheet)
+from .titleblock import draw_notes, draw_title_box, provenance_lines, title_block_rows
+from .sheet import (BADGE_BAD, BADGE_GOOD, EN, MIDDOT, clean, draw_tables, draw_title_block,
+                    fraction, inch_axes, new_sheet, num, site_name, source_text,
+                    style, write_sheet)
 
 __all__ = ["write_mast_figure", "build_mast_figure", "rate_changes"]
 

@@ -31,7 +31,7 @@ import numpy as np
 
 from ..errors import ProfilerError
 from . import basemap
-from .sheet import draw_title_box, title_block_rows
+from .titleblock import draw_title_box, title_block_rows
 from .sheet import (BADGE_BAD, BADGE_GOOD, BADGE_WARN, DASH, EN, MIDDOT, abbreviate, clean, draw_footer,
                     draw_tables, draw_title_block, fraction, inch_axes, k_text, new_sheet, num, put_text,
                     sheet_legend, source_text, style, text_width_in, wrap_text, write_sheet)

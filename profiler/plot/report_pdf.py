@@ -16,9 +16,9 @@ import platform
 
 from .. import CAUTION, __version__
 from ..errors import ProfilerError
-from .sheet import datum_line
-from .sheet import (DASH, clean, draw_notes, draw_tables, draw_title_block, draw_title_box, inch_axes, metadata,
-                    new_sheet, num, paper_size_in, check_dpi, site_name, style, title_block_rows, EN, BADGE_GOOD)
+from .titleblock import datum_line, draw_notes, draw_title_box, title_block_rows
+from .sheet import (DASH, clean, draw_tables, draw_title_block, inch_axes, metadata,
+                    new_sheet, num, paper_size_in, check_dpi, site_name, style, EN, BADGE_GOOD)
 
 __all__ = ["write_link_report", "write_mast_report", "library_versions"]
 
