@@ -139,7 +139,7 @@ def test_radio_table_per_end_reproduces_the_budget(link_run):
     up = report["budget"]
     assert up["rx_power_dbm"] == pytest.approx(ends["b"]["eirp_dbm"] - up["path_loss_db"] + ends["a"]["gain_dbi"]
                                                - ends["a"]["cable_loss_db"], abs=1e-6)
-    for text in ("27.00 dBm", "6.00 dBi", "33.0 (16) EXCEEDED", "LoRa SF", "(up)", "(down)"):
+    for text in ("Tx [dBm]", "27.00", "Gain [dBi]", "6.00", "33.0 > 16 EXCEEDED", "LoRa SF", " up", " down"):
         assert text in svg, text
 
 

@@ -126,7 +126,7 @@ def _layout(width_in: float, height_in: float) -> dict:
     left_w = inner_w - block_w - 0.15
     footer = (margin, margin, left_w, 0.95)
     radio = (margin, margin + 0.99, left_w, 0.55)
-    title_block = (width_in - margin - block_w, margin, block_w, 1.5)
+    title_block = (width_in - margin - block_w, margin, block_w, 1.62)
     band_bottom = margin + 1.66
     band_h = 2.3 + 0.5 * (height_in - 8.27)
     map_left = margin + 0.5

@@ -16,8 +16,8 @@ from .sheet import DASH, clean, num
 
 __all__ = ["radio_block", "bearing_lines", "exposure_line", "declination_text", "exposure_distance_text"]
 
-RADIO_HEADER = ["", "Tx power", "Antenna gain", "Feeder loss", "EIRP [dBm] (limit)", "Rx sensitivity",
-                "Sensitivity source", "Margin received", "Rate received [kHz]"]
+RADIO_HEADER = ["", "Tx [dBm]", "Gain [dBi]", "Feeder [dB]", "EIRP [dBm]", "Sens. [dBm]",
+                "Sensitivity source", "Margin (req.)", "Rate rx [kHz]"]
 
 
 def declination_text(value) -> str:
@@ -42,7 +42,7 @@ def _source(end: dict, bud: dict) -> str:
         return "given"
     if bud.get("sf") is None:
         return clean(end.get("sensitivity_source") or DASH)
-    return f"LoRa SF{bud['sf']}/{bud['bw_khz']:g}, NF {num(end.get('noise_figure_db'), 'g', ' dB')}"
+    return f"LoRa SF{bud['sf']}/{bud['bw_khz']:g}, NF {num(end.get('noise_figure_db'), 'g')} dB"
 
 
 def radio_block(report: dict):
@@ -61,14 +61,14 @@ def radio_block(report: dict):
         eirp = num(end.get("eirp_dbm"), ".1f")
         if limit is not None:
             ok = end["eirp_dbm"] <= limit + 1e-9
-            eirp += f" ({num(limit, 'g')}) {'met' if ok else 'EXCEEDED'}"
+            eirp += f" \u2264 {num(limit, 'g')} met" if ok else f" > {num(limit, 'g')} EXCEEDED"
         rows.append((f"{key.upper()} {clean(end.get('role') or '')}",
-                     num(end.get("tx_power_dbm"), ".2f", " dBm"), num(end.get("gain_dbi"), ".2f", " dBi"),
-                     num(end.get("cable_loss_db"), ".2f", " dB"), eirp,
-                     num(end.get('sensitivity_dbm'), '.1f', ' dBm'), _source(end, receives),
+                     num(end.get("tx_power_dbm"), ".2f"), num(end.get("gain_dbi"), ".2f"),
+                     num(end.get("cable_loss_db"), ".2f"), eirp,
+                     num(end.get('sensitivity_dbm'), '.1f'), _source(end, receives),
                      f"{num(receives.get('margin_db'), '+.1f')} (\u2265 "
-                     f"{num(receives.get('fade_margin_required_db'), '.1f', ' dB')})",
-                     f"{_rate(receives, lora.get(direction))} ({'up' if direction == 'uplink' else 'down'})"))
+                     f"{num(receives.get('fade_margin_required_db'), '.1f')}) dB",
+                     f"{_rate(receives, lora.get(direction))} {'up' if direction == 'uplink' else 'down'}"))
     return ("Radio", RADIO_HEADER, rows)
 
 

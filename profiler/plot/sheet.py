@@ -56,7 +56,6 @@ RULE = "0.35"             # table rules
 SHADE = "0.93"            # alternate table rows
 NODATA_HATCH = "////"     # no data (map outside the elevation model, empty panel)
 WRAP_LINE = 0.62          # each further line of a wrapped cell adds this fraction of a row height
-WRAP_EXTRA = 0.62         # rows reserved per wrapped row when sizing the table (one extra line)
 MAX_CELL_IN = 1.12        # widest table cell at 7 pt [in]; longer text is shortened with an ellipsis
 
 #: Title-block badge styles (``bbox`` keywords): heavier border as the news gets worse, so the
@@ -412,7 +411,12 @@ def draw_tables(ax, renderer, blocks, gap: float = 0.12, pad: float = 0.045, max
     else:
         widths = [[w * usable / total for w in cols] for cols in natural]
     wrap_rows = set(wrap_rows)
-    n_rows = max(len(rows) + WRAP_EXTRA * sum(row[0] in wrap_rows for row in rows) for _, rows in tables) + 1
+
+    def extra_lines(rows, cols):     # further lines of the wrapped rows, in row heights
+        return sum(WRAP_LINE * (max(len(lines) for lines in _row_cells(renderer, row, cols, fontsize, pad, True)) - 1)
+                   for row in rows if row[0] in wrap_rows)
+
+    n_rows = max(len(rows) + extra_lines(rows, cols) for (_, rows), cols in zip(tables, widths)) + 1
     row_h = min(max_row_h, (height - 0.02) / n_rows)
     x, lowest = 0.0, height
     for (head, rows), cols in zip(tables, widths):

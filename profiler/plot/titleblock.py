@@ -43,33 +43,49 @@ def title_block_rows(sheet: dict | None, title: str, report: dict, sheet_no: int
     return rows
 
 
+def _row_heights(rows, width, renderer, fontsize, label_size):
+    """Wrapped values and heights [in] of the title-block rows at ``fontsize``."""
+    pad, line_h, label_h = 0.04, fontsize * 1.22 / 72.0, label_size * 1.25 / 72.0
+    out = []
+    for r, cells in enumerate(rows):
+        cell_w = width / len(cells)
+        wrapped = [wrap_text(value, cell_w - 2 * pad, renderer, fontsize, bold=(r == 0)) if value else [""]
+                   for _, value in cells]
+        out.append((wrapped, label_h + line_h * max(len(lines) for lines in wrapped) + 1.1 * pad))
+    return out
+
+
 def draw_title_box(ax, renderer, rows, fontsize: float = 7.0, label_size: float = 5.2) -> float:
     """A ruled title block filling the width of ``ax`` from its top: labelled cells, values wrapped, never cut.
 
     Parameters
     ----------
     ax : matplotlib.axes.Axes
-        An :func:`inch_axes` at the lower right of the sheet.
+        An :func:`~profiler.plot.sheet.inch_axes` at the lower right of the sheet.
     rows : list of list of (label, value)
         Cells of each row share its width equally; a value is wrapped at
         spaces onto as many lines as it needs (the first row's value in
         bold); an empty value leaves the box blank.
+    fontsize, label_size : float
+        Largest sizes [pt]; both shrink (down to 5 pt) until the block fits
+        the height of ``ax``.
 
     Returns
     -------
     float
-        Height used [in] (may exceed the axes when the text is very long).
+        Height used [in] (more than the axes only when even 5 pt does not fit).
     """
     from matplotlib.patches import Rectangle
 
     width, height = ax.get_xlim()[1], ax.get_ylim()[1]
-    pad, line_h, label_h = 0.04, fontsize * 1.22 / 72.0, label_size * 1.25 / 72.0
+    layout = _row_heights(rows, width, renderer, fontsize, label_size)
+    while sum(h for _, h in layout) > height and fontsize > 5.0:
+        fontsize, label_size = fontsize - 0.25, max(4.5, label_size - 0.15)
+        layout = _row_heights(rows, width, renderer, fontsize, label_size)
+    pad, label_h = 0.04, label_size * 1.25 / 72.0
     y = height
-    for r, cells in enumerate(rows):
+    for r, (cells, (wrapped, row_h)) in enumerate(zip(rows, layout)):
         cell_w = width / len(cells)
-        wrapped = [wrap_text(value, cell_w - 2 * pad, renderer, fontsize, bold=(r == 0)) if value else [""]
-                   for _, value in cells]
-        row_h = label_h + line_h * max(len(lines) for lines in wrapped) + 1.4 * pad
         for j, ((label, _), lines) in enumerate(zip(cells, wrapped)):
             x = j * cell_w
             ax.add_patch(Rectangle((x, y - row_h), cell_w, row_h, fill=False, ec="0.15", lw=0.6, clip_on=False))
