@@ -190,6 +190,8 @@ def test_bad_sheet_info_is_one_line_exit_2(tmp_path):
     assert res.exit_code == 2 and "unknown key 'projekt'" in res.output
     res = run("link", *SITES, "--date", "2026-13-01", "--json", tmp_path / "r.json")
     assert res.exit_code == 2 and "not a date" in res.output
+    res = run("link", *SITES, "--report", tmp_path / "r.png", "--json", tmp_path / "r.json")
+    assert res.exit_code == 2 and "--report" in res.output and ".pdf" in res.output
     assert not (tmp_path / "r.json").exists()
 
 

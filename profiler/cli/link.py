@@ -89,7 +89,10 @@ def link_outputs(json_path, csv_path, geojson_path, kml_path, plot_path, paper="
     def render_report(report, path):
         from ..plot.report_pdf import write_link_report
 
-        write_link_report(report, path, paper=paper, dpi=dpi, dem_paths=list(dem_paths), record=record)
+        from ..textsafe import safe_strings
+
+        write_link_report(report, path, paper=paper, dpi=dpi, dem_paths=list(dem_paths),
+                          record=safe_strings(record, "figure"))
 
     def render_summary(report, path):
         from ..report import summary_text

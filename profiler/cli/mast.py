@@ -122,7 +122,9 @@ def mast_outputs(json_path, plot_path, paper="a4", dpi=200, *, report_path=None,
     def render_report(report, path):
         from ..plot.report_pdf import write_mast_report
 
-        write_mast_report(report, path, paper=paper, dpi=dpi, record=record)
+        from ..textsafe import safe_strings
+
+        write_mast_report(report, path, paper=paper, dpi=dpi, record=safe_strings(record, "figure"))
 
     def render_summary(report, path):
         return mast_summary_text(report)
