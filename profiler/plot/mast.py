@@ -92,9 +92,11 @@ def build_mast_figure(report: dict, paper: str = "a4", *, sheet_no: int = 1, she
         name = f"Mast height {site_name(report['site_a'])} {EN} {site_name(report['site_b'])}"
         draw_title_box(inch_axes(fig, (right, margin, block_w, 1.6), width_in, height_in), renderer,
                        title_block_rows(report.get("sheet"), name, report, sheet_no, sheet_count))
-        n = None if (report.get("dem") or {}).get("kind") != "surveyed" else "surveyed"
+        source = source_text(report.get("dem"))
+        if (report.get("dem") or {}).get("kind") == "surveyed":   # the mast report holds no profile samples
+            source = source.split(" (", 1)[0] + " (no coordinates)"
         draw_notes(inch_axes(fig, (margin, margin, left_w, 0.8), width_in, height_in), renderer,
-                   provenance_lines(report, source_text(report.get("dem"), n)))
+                   provenance_lines(report, source))
     return fig
 
 
