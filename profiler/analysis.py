@@ -12,6 +12,8 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+import datetime as _dt
+
 from . import __version__, diffraction, geometry, limits
 from .bands import NEAR_FIELD_RULE_OF_THUMB_M, NEAR_FIELD_WAVELENGTHS, wavelength_m
 from .engine import geometry_batch
@@ -57,6 +59,10 @@ class LinkResult:
     compliance: dict = field(default_factory=dict)
     gateway: str = "a"
     slant_distance_m: float | None = None
+    radio_ends: dict = field(default_factory=dict)
+    bearings: dict = field(default_factory=dict)
+    rf_exposure: dict = field(default_factory=dict)
+    sheet: dict = field(default_factory=dict)
     warnings: list = field(default_factory=list)
     tool_version: str = __version__
     schema: str = SCHEMA
@@ -79,6 +85,7 @@ class LinkResult:
             "gateway": self.gateway,
             "azimuth_a_to_b_deg": _num(self.azimuth_a_to_b_deg),
             "azimuth_b_to_a_deg": _num(self.azimuth_b_to_a_deg),
+            **_clean(self.bearings),
             "elevation_angle_a_deg": _num(self.elevation_angle_a_deg),
             "elevation_angle_b_deg": _num(self.elevation_angle_b_deg),
             "profile": profile,
@@ -91,7 +98,10 @@ class LinkResult:
             "budget_downlink": _clean(self.budget_downlink),
             "lora": _clean(self.lora),
             "compliance": _clean(self.compliance),
+            "radio_ends": _clean(self.radio_ends),
+            "rf_exposure": _clean(self.rf_exposure),
             "dem": _clean(self.dem),
+            "sheet": dict(self.sheet),
             "warnings": list(self.warnings),
         }
 
@@ -144,7 +154,8 @@ def analyze_link(profile: TerrainProfile, *, mast_a_m: float = 10.0, mast_b_m: f
                  clearance_ratio_required: float = 0.6, radio: RadioSettings | None = None,
                  name_a: str = "A", name_b: str = "B",
                  site_a_lat_lon: tuple[float, float] | None = None,
-                 site_b_lat_lon: tuple[float, float] | None = None) -> LinkResult:
+                 site_b_lat_lon: tuple[float, float] | None = None,
+                 date: _dt.date | None = None, sheet_info=None) -> LinkResult:
     """Analyse a point-to-point link over a terrain profile.
 
     Parameters
@@ -168,6 +179,10 @@ def analyze_link(profile: TerrainProfile, *, mast_a_m: float = 10.0, mast_b_m: f
         Site names.
     site_a_lat_lon, site_b_lat_lon : tuple, optional
         Site coordinates [deg] for the report (None for a surveyed profile).
+    date : datetime.date, optional
+        Date of the sheet and of the magnetic declination (default today).
+    sheet_info : profiler.sheetinfo.SheetInfo, optional
+        Title-block fields, copied into the report's ``sheet`` block.
 
     Returns
     -------
@@ -238,6 +253,9 @@ def analyze_link(profile: TerrainProfile, *, mast_a_m: float = 10.0, mast_b_m: f
     if radio.polarization_a != radio.polarization_b and loss["polarization"] > 0:
         warnings.append(f"antenna polarizations differ: {loss['polarization']:.1f} dB mismatch loss included")
 
+    date = date or _dt.date.today()
+    ends = end_blocks(rr, radio.gateway, plan)
+
     def site(name, lat_lon, ground, mast):
         return {"name": name,
                 "lat_deg": None if lat_lon is None else float(lat_lon[0]),
@@ -258,6 +276,63 @@ def analyze_link(profile: TerrainProfile, *, mast_a_m: float = 10.0, mast_b_m: f
         clearance_ratio_required=float(clearance_ratio_required),
         loss_db=loss, budget=rr["budget"], lora=rr["lora"], budget_downlink=rr["budget_downlink"],
         compliance=rr["compliance"], gateway=radio.gateway, slant_distance_m=rr["slant_distance_m"],
+        radio_ends=ends, rf_exposure=exposure_blocks(ends),
+        bearings=magnetic_bearings(site_a_lat_lon, site_b_lat_lon, profile, h_a, h_b, date),
+        sheet=sheet_block(sheet_info, date),
         dem={"kind": profile.kind, "sources": list(profile.sources), "voids_filled": int(profile.voids_filled)},
         warnings=warnings,
     )
+
+
+def end_blocks(rr: dict, gateway: str, plan) -> dict:
+    """The report's ``radio_ends``: per end ("a", "b") its role and radio, so the sheet's table is reproducible.
+
+    Each end: ``role``, ``tx_power_dbm``, ``gain_dbi``, ``cable_loss_db``,
+    ``noise_figure_db``, ``eirp_dbm`` (P + G - L), ``transmit_frequency_mhz``
+    (uplink frequency for the node, downlink for the gateway),
+    ``max_eirp_dbm`` (the plan's limit, None without a plan),
+    ``sensitivity_dbm`` and ``sensitivity_source`` of its receiver.
+    """
+    up, down = rr["budget"], rr["budget_downlink"] or rr["budget"]
+    out = {}
+    for role, e in rr["ends"].items():
+        tx_budget, rx_budget = (up, down) if role == "node" else (down, up)
+        out[e["end"]] = {
+            "role": role,
+            "tx_power_dbm": e["tx_power_dbm"], "gain_dbi": e["gain_dbi"], "cable_loss_db": e["cable_loss_db"],
+            "noise_figure_db": e["noise_figure_db"],
+            "eirp_dbm": e["tx_power_dbm"] + e["gain_dbi"] - e["cable_loss_db"],
+            "transmit_frequency_mhz": tx_budget["frequency_mhz"],
+            "max_eirp_dbm": None if plan is None else float(plan.max_eirp_dbm),
+            "sensitivity_dbm": rx_budget["sensitivity_dbm"], "sensitivity_source": rx_budget["sensitivity_source"],
+        }
+    return dict(sorted(out.items()))
+
+
+def exposure_blocks(ends: dict) -> dict:
+    """The report's ``rf_exposure``: per transmitting end the far-field distances (profiler.rf_exposure)."""
+    from .rf_exposure import rf_exposure_block
+
+    return {key: {"role": e["role"], **rf_exposure_block(e["eirp_dbm"], e["transmit_frequency_mhz"])}
+            for key, e in ends.items()}
+
+
+MAGNETIC_KEYS = ("declination_a_deg", "declination_b_deg", "azimuth_a_to_b_magnetic_deg",
+                 "azimuth_b_to_a_magnetic_deg", "magnetic_model", "compass_caution_a", "compass_caution_b")
+
+
+def magnetic_bearings(site_a_lat_lon, site_b_lat_lon, profile, h_a, h_b, date) -> dict:
+    """The magnetic-bearing keys (profiler.magnetic.bearing_block) or all None without coordinates."""
+    if site_a_lat_lon is None or site_b_lat_lon is None or profile.azimuth_a_to_b_deg is None:
+        return dict.fromkeys(MAGNETIC_KEYS)
+    from .magnetic import bearing_block
+
+    return bearing_block(site_a_lat_lon[0], site_a_lat_lon[1], site_b_lat_lon[0], site_b_lat_lon[1],
+                         profile.azimuth_a_to_b_deg, profile.azimuth_b_to_a_deg, date, h_a, h_b)
+
+
+def sheet_block(sheet_info, date) -> dict:
+    """The report's ``sheet``: title-block fields (empty strings: blank boxes) and the ISO date."""
+    from .sheetinfo import SheetInfo
+
+    return {**(sheet_info or SheetInfo()).to_dict(), "date": date.isoformat()}

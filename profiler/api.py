@@ -13,7 +13,7 @@ def link(site_a=None, site_b=None, *, dem=None, profile_csv=None, mast_a_m: floa
          mast_b_m: float = 2.0, name_a: str = "A", name_b: str = "B", k_factor="4/3",
          frequency_mhz: float | None = None, band: str | None = None, step_m: float | None = None,
          clearance_ratio: float = 0.6, fill_voids: bool = False,
-         radio: RadioSettings | None = None) -> LinkResult:
+         radio: RadioSettings | None = None, date=None, sheet_info=None) -> LinkResult:
     """Analyse the link A-B over elevation data or a surveyed profile.
 
     Parameters
@@ -38,6 +38,10 @@ def link(site_a=None, site_b=None, *, dem=None, profile_csv=None, mast_a_m: floa
         Interpolate across elevation voids instead of refusing.
     radio : RadioSettings, optional
         Link-budget and LoRa settings.
+    date : datetime.date, optional
+        Date of the sheet and of the magnetic declination (default today).
+    sheet_info : profiler.sheetinfo.SheetInfo, optional
+        Title-block fields (project, document, ...) for the report's ``sheet`` block.
 
     Returns
     -------
@@ -52,7 +56,8 @@ def link(site_a=None, site_b=None, *, dem=None, profile_csv=None, mast_a_m: floa
                         k_factor=k, clearance_ratio_required=clearance_ratio, radio=radio,
                         name_a=name_a, name_b=name_b,
                         site_a_lat_lon=tuple(site_a) if site_a is not None else None,
-                        site_b_lat_lon=tuple(site_b) if site_b is not None else None)
+                        site_b_lat_lon=tuple(site_b) if site_b is not None else None,
+                        date=date, sheet_info=sheet_info)
 
 
 def load_profile(site_a=None, site_b=None, *, dem=None, profile_csv=None, step_m: float | None = None,

@@ -272,6 +272,7 @@ class MastResult:
     notes: list = field(default_factory=list)
     dem: dict = field(default_factory=dict)
     warnings: list = field(default_factory=list)
+    sheet: dict = field(default_factory=dict)
     tool_version: str = __version__
     schema: str = SCHEMA
 
@@ -306,6 +307,7 @@ class MastResult:
             "message": self.message,
             "notes": list(self.notes),
             "dem": self.dem,
+            "sheet": dict(self.sheet),
             "warnings": list(self.warnings),
             "caution": CAUTION,
         })

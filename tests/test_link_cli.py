@@ -26,7 +26,9 @@ TOP_KEYS = {"schema", "tool_version", "site_a", "site_b", "frequency_mhz", "band
             "effective_radius_m", "distance_m", "azimuth_a_to_b_deg", "azimuth_b_to_a_deg",
             "elevation_angle_a_deg", "elevation_angle_b_deg", "profile", "worst", "line_of_sight",
             "fresnel_clear", "clearance_ratio_required", "dem", "warnings", "loss_db", "budget", "lora",
-            "budget_downlink", "compliance", "slant_distance_m", "gateway"}
+            "budget_downlink", "compliance", "slant_distance_m", "gateway", "radio_ends", "rf_exposure", "sheet",
+            "declination_a_deg", "declination_b_deg", "azimuth_a_to_b_magnetic_deg",
+            "azimuth_b_to_a_magnetic_deg", "magnetic_model", "compass_caution_a", "compass_caution_b"}
 SITE_KEYS = {"name", "lat_deg", "lon_deg", "ground_m", "mast_m", "antenna_amsl_m"}
 PROFILE_KEYS = {"distance_m", "lat_deg", "lon_deg", "terrain_m", "bulge_m", "los_m", "fresnel_radius_m", "clearance_m"}
 

@@ -5,7 +5,7 @@ from __future__ import annotations
 import click
 
 from .options import (clearance_ratio_option, frequency_options, k_option, plot_options, radio_options, radio_settings,
-                      site_options, terrain_options)
+                      report_option, run_record, sheet_options, sheet_settings, site_options, terrain_options)
 
 
 @click.command("link")
@@ -20,9 +20,11 @@ from .options import (clearance_ratio_option, frequency_options, k_option, plot_
 @click.option("--geojson", "geojson_path", default=None, metavar="FILE", help="Write the path, sites and worst point as GeoJSON.")
 @click.option("--kml", "kml_path", default=None, metavar="FILE", help="Write the path and sites as KML.")
 @plot_options
+@report_option
+@sheet_options
 def link_command(site_a, site_b, name_a, name_b, mast_a_m, mast_b_m, dem_paths, profile_csv, step_m, fill_voids,
                  k_text, freq_mhz, band_name, clearance_ratio, json_path, csv_path, geojson_path, kml_path,
-                 plot_path, paper, dpi, **radio_kw):
+                 plot_path, paper, dpi, report_path, **radio_kw):
     """Analyse the link from site A to site B over the terrain.
 
     Prints a short summary (distance, azimuths, verdict, worst obstruction,
@@ -36,14 +38,16 @@ def link_command(site_a, site_b, name_a, name_b, mast_a_m, mast_b_m, dem_paths, 
     from ..limits import quiet_numerics, require_finite
     from ..outputs import check_outputs, write_outputs
 
-    outputs = link_outputs(json_path, csv_path, geojson_path, kml_path, plot_path, paper, dpi, list(dem_paths))
+    outputs = link_outputs(json_path, csv_path, geojson_path, kml_path, plot_path, paper, dpi, list(dem_paths),
+                           report_path=report_path, record=run_record())
     check_outputs(outputs)  # refuse bad outputs before any computation
+    sheet_info, date = sheet_settings(radio_kw)
     radio = radio_settings(radio_kw)
     with quiet_numerics():
         result = link(site_a, site_b, dem=list(dem_paths), profile_csv=profile_csv, mast_a_m=mast_a_m,
                       mast_b_m=mast_b_m, name_a=name_a, name_b=name_b, k_factor=k_text, frequency_mhz=freq_mhz,
                       band=band_name, step_m=step_m, clearance_ratio=clearance_ratio, fill_voids=fill_voids,
-                      radio=radio)
+                      radio=radio, date=date, sheet_info=sheet_info)
         report = result.to_dict()
         require_finite(report, LINK_FINITE, "link analysis")
         write_outputs(outputs, report)
@@ -56,10 +60,13 @@ LINK_FINITE = ("distance_m", "frequency_mhz", "k_factor", "elevation_angle_a_deg
                "budget.rx_power_dbm", "budget.sensitivity_dbm", "budget.margin_db")
 
 
-def link_outputs(json_path, csv_path, geojson_path, kml_path, plot_path, paper="a4", dpi=200, dem_paths=()):
+def link_outputs(json_path, csv_path, geojson_path, kml_path, plot_path, paper="a4", dpi=200, dem_paths=(), *,
+                 report_path=None, record=None):
     """The outputs of ``profiler link`` for :func:`profiler.outputs.write_outputs`.
 
     The terminal summary goes to standard output unless another output does.
+    ``report_path`` is the ``--report`` PDF; ``record`` the run record for
+    its record page (:func:`profiler.cli.options.run_record`).
     """
     from ..outputs import Output
 
@@ -76,7 +83,16 @@ def link_outputs(json_path, csv_path, geojson_path, kml_path, plot_path, paper="
     def render_plot(report, path):
         from ..plot import write_link_figure
 
-        write_link_figure(report, path, paper=paper, dpi=dpi, dem_paths=list(dem_paths))
+        write_link_figure(report, path, paper=paper, dpi=dpi, dem_paths=list(dem_paths),
+                          date_text=report["sheet"]["date"])
+
+    def render_report(report, path):
+        from ..plot.report_pdf import write_link_report
+
+        from ..textsafe import safe_strings
+
+        write_link_report(report, path, paper=paper, dpi=dpi, dem_paths=list(dem_paths),
+                          record=safe_strings(record, "figure"))
 
     def render_summary(report, path):
         from ..report import summary_text
@@ -100,5 +116,6 @@ def link_outputs(json_path, csv_path, geojson_path, kml_path, plot_path, paper="
         Output("--geojson", geojson_path, render_geojson, "json"),
         Output("--kml", kml_path, render_kml, "xml"),
         Output("--plot", plot_path, render_plot, "figure", suffixes=(".png", ".pdf", ".svg"), stdout=False),
+        Output("--report", report_path, render_report, "figure", suffixes=(".pdf",), stdout=False),
         Output("summary", None if "-" in map(str, filter(None, files)) else "-", render_summary, "terminal"),
     ]

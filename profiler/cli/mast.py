@@ -5,10 +5,9 @@ from __future__ import annotations
 import click
 
 from ..errors import ProfilerError
-from .options import (NUMBER, POSITIVE, KFactor, clearance_ratio_option, frequency_options, k_option, plot_options, radio_options, radio_settings,
+from .options import (NUMBER, POSITIVE, KFactor, clearance_ratio_option, frequency_options, k_option, plot_options,
+                      radio_options, radio_settings, report_option, run_record, sheet_options, sheet_settings,
                       site_options, terrain_options)
-
-"""Landscape paper sizes [inch]."""
 
 
 class InfeasibleMast(ProfilerError):
@@ -40,10 +39,12 @@ class InfeasibleMast(ProfilerError):
 @radio_options
 @click.option("--json", "json_path", default=None, metavar="FILE", help="Write the JSON report ('-' for stdout).")
 @plot_options
+@report_option
+@sheet_options
 def mast_command(site_a, site_b, name_a, name_b, mast_a_m, mast_b_m, dem_paths, profile_csv, step_m, fill_voids,
                  k_text, freq_mhz, band_name, clearance_ratio, low_k_text, low_k_clearance, no_low_k,
                  no_clearance, min_margin_db, solve, max_mast_m, mast_step_m, json_path, plot_path, paper, dpi,
-                 **radio_kw):
+                 report_path, **radio_kw):
     """Find the lowest mast that meets every given criterion.
 
     Criteria (all that are given must hold): clearance >= --clearance-ratio
@@ -62,8 +63,9 @@ def mast_command(site_a, site_b, name_a, name_b, mast_a_m, mast_b_m, dem_paths, 
     from ..mast import solve_mast
     from ..outputs import check_outputs, write_outputs
 
-    outputs = mast_outputs(json_path, plot_path, paper, dpi)
+    outputs = mast_outputs(json_path, plot_path, paper, dpi, report_path=report_path, record=run_record())
     check_outputs(outputs)  # refuse bad outputs before any computation
+    sheet_info, date = sheet_settings(radio_kw)
     radio = radio_settings(radio_kw)
     if no_clearance and min_margin_db is None:
         raise ProfilerError("--no-clearance leaves no criterion: give --min-margin-db too")
@@ -80,6 +82,7 @@ def mast_command(site_a, site_b, name_a, name_b, mast_a_m, mast_b_m, dem_paths, 
             min_margin_db=min_margin_db, radio=radio, max_mast_m=max_mast_m, mast_step_m=mast_step_m,
             name_a=name_a, name_b=name_b, site_a_lat_lon=site_a if profile_csv is None else None,
             site_b_lat_lon=site_b if profile_csv is None else None)
+        result = with_sheet(result, profile, sheet_info, date)
         report = result.to_dict()
         require_finite(report, MAST_FINITE + (MAST_FEASIBLE_FINITE if report["feasible"] else ()), "mast search")
         write_outputs(outputs, report)  # an infeasible search still writes its report, then exits 3
@@ -93,8 +96,17 @@ MAST_FEASIBLE_FINITE = ("required_mast_a_m", "required_mast_b_m", "at_required.w
                         "at_required.diffraction_db", "at_required.margin_db")
 
 
-def mast_outputs(json_path, plot_path, paper="a4", dpi=200):
-    """The outputs of ``profiler mast`` for :func:`profiler.outputs.write_outputs`."""
+def with_sheet(result, profile, sheet_info, date):
+    """The mast result with its ``sheet`` block (title-block fields, date)."""
+    import dataclasses
+
+    from ..analysis import sheet_block
+
+    return dataclasses.replace(result, sheet=sheet_block(sheet_info, date))
+
+
+def mast_outputs(json_path, plot_path, paper="a4", dpi=200, *, report_path=None, record=None):
+    """The outputs of ``profiler mast`` for :func:`profiler.outputs.write_outputs` (``--report``: the PDF)."""
     from ..outputs import Output
 
     def render_json(report, path):
@@ -105,9 +117,14 @@ def mast_outputs(json_path, plot_path, paper="a4", dpi=200):
     def render_plot(report, path):
         from ..plot import write_mast_figure
 
-        # The mast figure's labels go through mathtext: a '$' in a name must stay a dollar sign.
-        names = {k: {**report[k], "name": report[k]["name"].replace("$", r"\$")} for k in ("site_a", "site_b")}
-        write_mast_figure({**report, **names}, path, paper=paper, dpi=dpi)
+        write_mast_figure(report, path, paper=paper, dpi=dpi)
+
+    def render_report(report, path):
+        from ..plot.report_pdf import write_mast_report
+
+        from ..textsafe import safe_strings
+
+        write_mast_report(report, path, paper=paper, dpi=dpi, record=safe_strings(record, "figure"))
 
     def render_summary(report, path):
         return mast_summary_text(report)
@@ -115,6 +132,7 @@ def mast_outputs(json_path, plot_path, paper="a4", dpi=200):
     return [
         Output("--json", json_path, render_json, "json"),
         Output("--plot", plot_path, render_plot, "figure", suffixes=(".png", ".pdf", ".svg"), stdout=False),
+        Output("--report", report_path, render_report, "figure", suffixes=(".pdf",), stdout=False),
         Output("summary", None if str(json_path) == "-" else "-", render_summary, "terminal"),
     ]
 

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import click
 
-from .options import cluster_options, network_call_kwargs, network_options, plot_options  # noqa: F401
+from .options import cluster_options, network_call_kwargs, network_options, plot_options, sheet_options, sheet_settings  # noqa: F401
 
 
 @click.command("network")
@@ -14,6 +14,7 @@ from .options import cluster_options, network_call_kwargs, network_options, plot
 @click.option("--geojson", "geojson_path", default=None, metavar="FILE", help="Write sites and links as GeoJSON.")
 @click.option("--kml", "kml_path", default=None, metavar="FILE", help="Write sites and links as KML.")
 @plot_options
+@sheet_options
 @cluster_options
 def network_command(json_path, csv_path, geojson_path, kml_path, plot_path, paper, dpi, workers, scheduler,
                     no_progress, **kw):
@@ -33,8 +34,10 @@ def network_command(json_path, csv_path, geojson_path, kml_path, plot_path, pape
     from ..limits import quiet_numerics
     from ..outputs import check_outputs, write_outputs
 
+    sheet_info, date = sheet_settings(kw)
     call = network_call_kwargs(kw)
-    outputs = network_outputs(json_path, csv_path, geojson_path, kml_path, plot_path, paper, dpi, call["dem"])
+    outputs = network_outputs(json_path, csv_path, geojson_path, kml_path, plot_path, paper, dpi, call["dem"],
+                              sheet={**sheet_info.to_dict(), "date": date.isoformat()})
     check_outputs(outputs)
     with quiet_numerics():
         result = network(call.pop("sites"), workers=workers, scheduler=scheduler,
@@ -42,14 +45,18 @@ def network_command(json_path, csv_path, geojson_path, kml_path, plot_path, pape
         write_outputs(outputs, result.to_dict())
 
 
-def network_outputs(json_path, csv_path, geojson_path, kml_path, plot_path, paper="a4", dpi=200, dem_paths=()):
+def network_outputs(json_path, csv_path, geojson_path, kml_path, plot_path, paper="a4", dpi=200, dem_paths=(), *,
+                    sheet=None):
     """The outputs of ``profiler network`` for :func:`profiler.outputs.write_outputs` (summary on stdout
-    unless another output goes there)."""
+    unless another output goes there); ``sheet`` holds the title-block fields and date of the map."""
     from ..outputs import Output, summary_output, text_of
 
     def render_plot(report, path):
         from ..plot import write_network_figure
-        write_network_figure(report, path, paper=paper, dpi=dpi, dem_paths=list(dem_paths))
+        from ..textsafe import safe_strings
+
+        write_network_figure(report, path, paper=paper, dpi=dpi, dem_paths=list(dem_paths),
+                             sheet=safe_strings(sheet, "figure") if sheet else None)
 
     return [
         Output("--json", json_path, text_of("report", "json_text"), "json"),

@@ -289,3 +289,79 @@ def cluster_options(f):
                           "visible to every worker at the same path)."),
         click.option("--no-progress", is_flag=True, help="No progress bar (it is shown only on a terminal anyway)."),
     ])(f)
+
+
+class IsoDate(click.ParamType):
+    """A calendar date ``YYYY-MM-DD`` (ISO 8601)."""
+
+    name = "YYYY-MM-DD"
+
+    def convert(self, value, param, ctx):
+        import datetime
+
+        if isinstance(value, datetime.date):
+            return value
+        try:
+            return datetime.date.fromisoformat(str(value).strip())
+        except ValueError:
+            self.fail(f"{value!r} is not a date YYYY-MM-DD (for example 2026-03-15)", param, ctx)
+
+
+#: Title-block options -> SheetInfo field names (profiler.sheetinfo).
+SHEET_FIELD_OPTIONS = (("--project", "project", "Project name"), ("--document", "document", "Document number"),
+                       ("--revision", "revision", "Revision"), ("--prepared-by", "prepared_by", "Prepared by"),
+                       ("--checked-by", "checked_by", "Checked by"),
+                       ("--organisation", "organisation", "Organisation"))
+
+
+def sheet_options(f):
+    """Title-block information of the sheets: ``--sheet-info FILE.toml``, the fields one by one, ``--date``."""
+    return _apply([
+        click.option("--sheet-info", "sheet_info_path", type=click.Path(dir_okay=False), default=None,
+                     metavar="FILE.toml", help="Title-block fields from a TOML file (project, document, revision, "
+                                               "prepared_by, checked_by, organisation, notes)."),
+        *[click.option(opt, dest, default=None, metavar="TEXT", help=f"{text} for the title block (wins over "
+                       "--sheet-info).") for opt, dest, text in SHEET_FIELD_OPTIONS],
+        click.option("--date", "sheet_date", type=IsoDate(), default=None,
+                     help="Date of the sheet and of the magnetic declination (default today)."),
+    ])(f)
+
+
+def sheet_settings(kw):
+    """``(SheetInfo, date)`` from the parsed :func:`sheet_options` (popping them from ``kw``)."""
+    import datetime
+
+    from ..sheetinfo import merge, read_sheet_info
+
+    path = kw.pop("sheet_info_path")
+    info = read_sheet_info(path) if path is not None else None
+    info = merge(info, **{dest: kw.pop(dest) for _, dest, _ in SHEET_FIELD_OPTIONS})
+    return info, kw.pop("sheet_date") or datetime.date.today()
+
+
+def report_option(f):
+    """``--report FILE.pdf``: the multi-page PDF (sheet, budget, record)."""
+    return click.option("--report", "report_path", type=click.Path(dir_okay=False), default=None,
+                        metavar="FILE.pdf", help="Write a multi-page PDF: the sheet, the budget of both directions "
+                                                 "and a record of every input.")(f)
+
+
+def run_record() -> dict:
+    """What the ``--report`` record page lists: the full command line and every option's value.
+
+    Called inside a click command; ``{"command_line": [...], "options": {name: value}}``
+    with values as text.
+    """
+    import sys
+
+    ctx = click.get_current_context(silent=True)
+    params = {} if ctx is None else {k: v for k, v in ctx.params.items()}
+
+    def text(v):
+        if isinstance(v, (tuple, list)):
+            return ", ".join(text(x) for x in v) if v else ""
+        return "" if v is None else str(v)
+
+    return {"command_line": [str(a) for a in sys.argv],
+            "command": None if ctx is None else ctx.command_path,
+            "options": {k: text(v) for k, v in sorted(params.items())}}

@@ -25,9 +25,11 @@ import numpy as np
 
 from ..report import verdict
 from . import basemap
-from .sheet import (BADGE_BAD, BADGE_GOOD, BADGE_WARN, DASH, EN, MIDDOT, arr, clean, dms, draw_footer, draw_tables,
-                    draw_title_block, fit, fraction, inch_axes, k_text, km, nanmax, new_sheet, num, site_name,
-                    source_text, style, write_sheet)
+from .titleblock import draw_notes, draw_title_box, provenance_lines, title_block_rows
+from .sheet import (BADGE_BAD, BADGE_GOOD, BADGE_WARN, DASH, EN, MIDDOT, arr, clean, dms, draw_tables,
+                    draw_title_block, fit, fraction, inch_axes, k_text, km, nanmax, new_sheet, num,
+                    site_name, source_text, style, write_sheet)
+from .link_tables import bearing_lines, declination_text, exposure_line, radio_block
 from .profile_panel import draw_profile
 
 __all__ = ["build_link_figure", "write_link_figure"]
@@ -35,7 +37,8 @@ __all__ = ["build_link_figure", "write_link_figure"]
 
 # --------------------------------------------------------------------------- public API
 def write_link_figure(report: dict, path, paper: str = "a4", dpi: float = 200,
-                      dem_paths=None, *, date_text: str | None = None) -> None:
+                      dem_paths=None, *, date_text: str | None = None, sheet_no: int = 1,
+                      sheet_count: int = 1) -> None:
     """Draw the link sheet and write it to ``path`` (PNG, PDF or SVG by extension).
 
     Parameters
@@ -55,7 +58,10 @@ def write_link_figure(report: dict, path, paper: str = "a4", dpi: float = 200,
         Elevation files or folders for the locator hillshade; none (or a
         surveyed profile) draws the panel with a note instead of a map.
     date_text : str, optional
-        Date printed on the sheet; default today's date (ISO 8601).
+        Date printed on the sheet; default the report's ``sheet.date``, else
+        today's date (ISO 8601).
+    sheet_no, sheet_count : int
+        "Sheet n of m" in the title block.
 
     Raises
     ------
@@ -65,10 +71,12 @@ def write_link_figure(report: dict, path, paper: str = "a4", dpi: float = 200,
     """
     title = f"Radio path profile: {site_name(report['site_a'])} {EN} {site_name(report['site_b'])}"
     write_sheet(path, paper, dpi, lambda: build_link_figure(report, paper=paper, dem_paths=dem_paths,
-                                                            date_text=date_text), title, report)
+                                                            date_text=date_text, sheet_no=sheet_no,
+                                                            sheet_count=sheet_count), title, report)
 
 
-def build_link_figure(report: dict, paper: str = "a4", dem_paths=None, *, date_text: str | None = None):
+def build_link_figure(report: dict, paper: str = "a4", dem_paths=None, *, date_text: str | None = None,
+                      sheet_no: int = 1, sheet_count: int = 1):
     """Build the link sheet as a :class:`matplotlib.figure.Figure` (Agg canvas).
 
     Parameters are those of :func:`write_link_figure`.  The figure is not
@@ -88,20 +96,39 @@ def build_link_figure(report: dict, paper: str = "a4", dem_paths=None, *, date_t
         draw_profile(fig, profile_ax, report, width_in, height_in)
         map_ax = fig.add_axes(fraction(boxes["map"], width_in, height_in))
         _draw_locator(map_ax, report, dem_paths, renderer)
-        draw_tables(inch_axes(fig, boxes["table"], width_in, height_in), renderer, _results_blocks(report))
+        draw_tables(inch_axes(fig, boxes["table"], width_in, height_in), renderer, _results_blocks(report),
+                    wrap_rows=("Name",), max_row_h=0.2)
+        draw_tables(inch_axes(fig, boxes["radio"], width_in, height_in), renderer, [radio_block(report)],
+                    max_row_h=0.19, max_fontsize=6.8)
         n_points = len(report["profile"]["distance_m"])
-        draw_footer(inch_axes(fig, boxes["footer"], width_in, height_in), renderer, report,
-                    source_text(report.get("dem"), n_points), date_text)
+        sheet = dict(report.get("sheet") or {})
+        if date_text:
+            sheet["date"] = date_text
+        name = f"Radio path profile {site_name(report['site_a'])} {EN} {site_name(report['site_b'])}"
+        draw_title_box(inch_axes(fig, boxes["title_block"], width_in, height_in), renderer,
+                       title_block_rows(sheet, name, report, sheet_no, sheet_count))
+        extra = [*bearing_lines(report), exposure_line(report)]
+        draw_notes(inch_axes(fig, boxes["footer"], width_in, height_in), renderer,
+                   provenance_lines(report, source_text(report.get("dem"), n_points), extra))
     return fig
 
 
 def _layout(width_in: float, height_in: float) -> dict:
-    """Boxes (left, bottom, width, height) [in] of the sheet's parts."""
+    """Boxes (left, bottom, width, height) [in] of the sheet's parts.
+
+    Lower right: the title block; left of it the radio table above the
+    provenance notes; above them the locator and the results tables; the
+    profile fills the rest under the header.
+    """
     margin = 0.38
     inner_w = width_in - 2 * margin
-    footer = (margin, margin, inner_w, 0.44)
-    band_bottom = margin + 0.52
-    band_h = 2.78 + (height_in - 8.27)
+    block_w = 3.05
+    left_w = inner_w - block_w - 0.15
+    footer = (margin, margin, left_w, 0.95)
+    radio = (margin, margin + 0.99, left_w, 0.55)
+    title_block = (width_in - margin - block_w, margin, block_w, 1.62)
+    band_bottom = margin + 1.66
+    band_h = 2.3 + 0.5 * (height_in - 8.27)
     map_left = margin + 0.5
     map_w = 2.6 - 0.6 * max(0.0, 11.69 - width_in)      # narrower paper: narrower map
     map_box = (map_left, band_bottom + 0.36, map_w, band_h - 0.36 - 0.2)
@@ -113,7 +140,8 @@ def _layout(width_in: float, height_in: float) -> dict:
     prof_bottom = band_bottom + band_h + 0.62
     prof_left = margin + 0.58
     profile = (prof_left, prof_bottom, width_in - margin - 0.08 - prof_left, prof_top - prof_bottom)
-    return {"header": header, "profile": profile, "map": map_box, "table": table, "footer": footer}
+    return {"header": header, "profile": profile, "map": map_box, "table": table, "footer": footer, "radio": radio,
+            "title_block": title_block}
 
 
 # --------------------------------------------------------------------------- header
@@ -192,8 +220,8 @@ def _draw_path(ax, report: dict, lon, lat) -> None:
     short[0] = short[-1] = False
     if short.any():
         ax.plot(lon, np.where(short, lat, np.nan), color=SHORT_EDGE, lw=2.6, ls=(0, (2.0, 1.0)), zorder=5)
-    ax.plot(lon[0], lat[0], marker="^", ms=8, mfc="black", mec="white", mew=1.0, zorder=6)
-    ax.plot(lon[-1], lat[-1], marker="o", ms=7, mfc="white", mec="black", mew=1.4, zorder=6)
+    ax.plot(lon[0], lat[0], marker="^", ms=8, mfc="black", mec="white", mew=1.0, zorder=7)   # sites above the worst point
+    ax.plot(lon[-1], lat[-1], marker="o", ms=7, mfc="white", mec="black", mew=1.4, zorder=7)
     worst = report.get("worst") or {}
     if worst.get("lon_deg") is not None:
         wl = lon[int(np.argmin(np.abs(arr(prof["distance_m"]) - worst["distance_m"])))]
@@ -270,6 +298,10 @@ def _site_rows(report: dict) -> list[tuple]:
         ("Antenna height", *both("antenna_amsl_m", ".1f", " m AMSL")),
         ("Azimuth (true)", num(report.get("azimuth_a_to_b_deg"), ".2f", "\u00b0"),
          num(report.get("azimuth_b_to_a_deg"), ".2f", "\u00b0")),
+        ("Azimuth (magnetic)", num(report.get("azimuth_a_to_b_magnetic_deg"), ".2f", "\u00b0"),
+         num(report.get("azimuth_b_to_a_magnetic_deg"), ".2f", "\u00b0")),
+        ("Declination", declination_text(report.get("declination_a_deg")),
+         declination_text(report.get("declination_b_deg"))),
         ("Elevation angle", tilt(report.get("elevation_angle_a_deg")), tilt(report.get("elevation_angle_b_deg"))),
     ]
 
@@ -321,7 +353,6 @@ def _budget_rows(report: dict) -> list[tuple]:
         ("Diffraction loss", num(loss.get("diffraction"), ".1f", " dB")),
         ("Other losses", num(other, ".1f", " dB")),
         ("Total path loss", num(loss.get("total"), ".1f", " dB")),
-        ("EIRP node / gateway", f"{num(up.get('eirp_dbm'), '.1f')} / {num(down.get('eirp_dbm'), '.1f', ' dBm')}"),
         ("EIRP limit", limit),
         ("Margin up / down", f"{num(up.get('margin_db'), '+.1f')} / {num(down.get('margin_db'), '+.1f', ' dB')}"),
         *([("Data rate up", f"{_rate(up)} kHz"), ("Data rate down", f"{_rate(down)} kHz")]

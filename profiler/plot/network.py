@@ -31,6 +31,7 @@ import numpy as np
 
 from ..errors import ProfilerError
 from . import basemap
+from .titleblock import draw_title_box, title_block_rows
 from .sheet import (BADGE_BAD, BADGE_GOOD, BADGE_WARN, DASH, EN, MIDDOT, abbreviate, clean, draw_footer,
                     draw_tables, draw_title_block, fraction, inch_axes, k_text, new_sheet, num, put_text,
                     sheet_legend, source_text, style, text_width_in, wrap_text, write_sheet)
@@ -81,7 +82,7 @@ def link_status(links, fade_margin_db) -> list[str]:
 
 
 def write_network_figure(report: dict, path, paper: str = "a4", dpi: float = 200, dem_paths=None, *,
-                         highlight=None, marked=None, date_text: str | None = None) -> None:
+                         highlight=None, marked=None, date_text: str | None = None, sheet: dict | None = None) -> None:
     """Draw the network map sheet and write it to ``path`` (PNG, PDF or SVG by extension).
 
     Parameters
@@ -102,7 +103,10 @@ def write_network_figure(report: dict, path, paper: str = "a4", dpi: float = 200
     marked : iterable of str, optional
         Site names drawn as unreachable (a cross).
     date_text : str, optional
-        Date printed on the sheet; default today's date (ISO 8601).
+        Date printed on the sheet; default ``sheet["date"]``, else today's date (ISO 8601).
+    sheet : dict, optional
+        Title-block fields (``SheetInfo.to_dict()`` plus ``date``); empty
+        fields are drawn as blank boxes.
 
     Raises
     ------
@@ -111,12 +115,12 @@ def write_network_figure(report: dict, path, paper: str = "a4", dpi: float = 200
         a missing output folder or a write error.
     """
     write_sheet(path, paper, dpi, lambda: build_network_figure(
-        report, paper=paper, dem_paths=dem_paths, highlight=highlight, marked=marked, date_text=date_text),
-        f"Network map: {_title(report)}", report)
+        report, paper=paper, dem_paths=dem_paths, highlight=highlight, marked=marked, date_text=date_text,
+        sheet=sheet), f"Network map: {_title(report)}", report)
 
 
 def build_network_figure(report: dict, paper: str = "a4", dem_paths=None, *, highlight=None, marked=None,
-                         date_text: str | None = None):
+                         date_text: str | None = None, sheet: dict | None = None):
     """Build the network map sheet as a :class:`matplotlib.figure.Figure` (Agg canvas).
 
     Parameters are those of :func:`write_network_figure`.  The map axes
@@ -134,6 +138,12 @@ def build_network_figure(report: dict, paper: str = "a4", dem_paths=None, *, hig
         _draw_map(ax, report, sites, status, dem_paths, set(highlight or ()), set(marked or ()), renderer)
         _draw_side(fig, boxes["side"], width_in, height_in, report, sites, status, renderer,
                    bool(highlight), bool(marked))
+        sheet = dict(sheet or {})
+        date_text = date_text or sheet.get("date")
+        if date_text:
+            sheet["date"] = date_text
+        draw_title_box(inch_axes(fig, boxes["title_block"], width_in, height_in), renderer,
+                       title_block_rows(sheet, f"Network map: {_title(report)}", report))
         draw_footer(inch_axes(fig, boxes["footer"], width_in, height_in), renderer, report,
                     source_text(report.get("dem")), date_text)
     return fig
@@ -160,15 +170,16 @@ def _layout(width_in: float, height_in: float) -> dict:
     margin = 0.38
     header_h = 0.66
     header = (margin, height_in - margin - header_h, width_in - 2 * margin, header_h)
-    footer = (margin, margin, width_in - 2 * margin, 0.44)
     side_w = 3.25 - 0.4 * max(0.0, 11.69 - width_in)
     side_left = width_in - margin - side_w
+    footer = (margin, margin, side_left - 0.2 - margin, 0.44)
+    title_block = (side_left, margin, side_w, 1.45)
     map_bottom = margin + 0.52 + 0.42
     map_top = header[1] - 0.28
     map_left = margin + 0.42
     map_box = (map_left, map_bottom, side_left - 0.3 - map_left, map_top - map_bottom)
-    side = (side_left, margin + 0.56, side_w, map_top - margin - 0.56)
-    return {"header": header, "map": map_box, "side": side, "footer": footer}
+    side = (side_left, margin + 1.6, side_w, map_top - margin - 1.6)
+    return {"header": header, "map": map_box, "side": side, "footer": footer, "title_block": title_block}
 
 
 def _title(report: dict) -> str:
