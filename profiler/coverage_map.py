@@ -291,11 +291,11 @@ def _sector_job(chunk, *, settings, n_radials, radius_m, step_m, node_mast_m, mo
     if model is None:
         from .dem import ElevationModel
 
+        keep_freed_memory()   # a worker process of ours: tune its allocator (never a caller's process)
         with ElevationModel.open(list(settings.dem_paths)) as opened:
             return _sector_job(chunk, settings=settings, n_radials=n_radials, radius_m=radius_m, step_m=step_m,
                                node_mast_m=node_mast_m, model=opened)
     gw, indices = chunk
-    keep_freed_memory()
     az = np.asarray(indices) * (360.0 / n_radials)
     d, t, n = sample_radials(model, gw, az, radius_m, step_m, settings.fill_voids)
     ae = float(geometry.effective_radius_m(settings.k_factor))

@@ -57,6 +57,9 @@ def coverage_command(dem_paths, site, mast_m, name, sites_csv, radius_km, resolu
         raise ProfilerError("no elevation data: give --dem FILE_OR_FOLDER")
     radio = radio_settings(kw)
     check_outputs(coverage_outputs(out_path, plot_path, kmz_path, json_path, paper=paper, dpi=dpi))
+    from ..coverage_map import keep_freed_memory
+
+    keep_freed_memory()   # the command owns its process: keep freed temporaries in the heap (see the docstring)
     with quiet_numerics():
         result = coverage(site, dem=list(dem_paths), mast_m=mast_m, name=name, sites=sites_csv, radius_km=radius_km,
                           resolution_m=resolution_m, node_mast_m=node_mast_m, band=band_name, frequency_mhz=freq_mhz,
