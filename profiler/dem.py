@@ -147,12 +147,42 @@ class SourceInfo:
 
     @cached_property
     def sha256(self) -> str:
-        """SHA-256 of the file on disk [hex], computed on first access."""
-        digest = hashlib.sha256()
-        with open(self.file_path or self.path, "rb") as handle:
-            for chunk in iter(lambda: handle.read(1 << 20), b""):
-                digest.update(chunk)
-        return digest.hexdigest()
+        """SHA-256 of the file on disk [hex], computed on first access (or taken from :meth:`start_digest`)."""
+        pending = self.__dict__.pop("_digest_thread", None)
+        if pending is not None:
+            thread, box = pending
+            thread.join()
+            if "hex" in box:
+                return box["hex"]
+        return _file_sha256(self.file_path or self.path)
+
+    def start_digest(self) -> None:
+        """Start hashing the file in a background thread (hashlib releases the GIL), so that the
+        provenance digest costs no wall-clock time while the profile is sampled and analysed."""
+        import threading
+
+        if "sha256" in self.__dict__ or "_digest_thread" in self.__dict__:
+            return
+        box: dict = {}
+
+        def work():
+            try:
+                box["hex"] = _file_sha256(self.file_path or self.path)
+            except OSError:
+                pass  # the property then hashes in the foreground and reports the error there
+
+        thread = threading.Thread(target=work, name="profiler-sha256", daemon=True)
+        self.__dict__["_digest_thread"] = (thread, box)
+        thread.start()
+
+
+def _file_sha256(path) -> str:
+    """SHA-256 of a file [hex]."""
+    digest = hashlib.sha256()
+    with open(path, "rb") as handle:
+        for chunk in iter(lambda: handle.read(1 << 22), b""):
+            digest.update(chunk)
+    return digest.hexdigest()
 
 
 class _Tile:
@@ -420,6 +450,22 @@ class ElevationModel:
         model.sources = [t.info for t in tiles]
         model._groups = _build_groups(tiles, crs_cache)
         return model
+
+    def sources_covering(self, lon_deg, lat_deg):
+        """Sources whose WGS84 bounds contain at least one of the points (a cheap test, no pixel read)."""
+        lon = np.atleast_1d(np.asarray(lon_deg, dtype=float))
+        lat = np.atleast_1d(np.asarray(lat_deg, dtype=float))
+        found = []
+        for source in self.sources:  # a handful of files, not points
+            west, south, east, north = source.bounds_lonlat
+            if np.any((lon >= west) & (lon <= east) & (lat >= south) & (lat <= north)):
+                found.append(source)
+        return found
+
+    def start_digests(self, lon_deg, lat_deg) -> None:
+        """Start hashing, in the background, the files of the sources that cover the points."""
+        for source in self.sources_covering(lon_deg, lat_deg):
+            source.start_digest()
 
     # ------------------------------------------------------------- sampling
     def sample(self, lon_deg, lat_deg):

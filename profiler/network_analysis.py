@@ -338,6 +338,7 @@ def network(sites, *, dem, pairs=None, max_distance_km: float = 50.0, band: str 
                     "overrides": _site_overrides(table, np.arange(len(table)))}
     chunks = [(gw[sl], node[sl]) for sl in chunked(gw.size, chunk_links)]
     with ElevationModel.open(list(dem_paths)) as model:
+        model.start_digests(table.lon_deg, table.lat_deg)
         local = workers is None and scheduler is None
         job = functools.partial(_chunk_job, settings=settings, sites_arrays=sites_arrays,
                                 model=model if local else None)

@@ -90,6 +90,7 @@ def profile_from_dem(model, lat_a_deg: float, lon_a_deg: float, lat_b_deg: float
     lat_b, lon_b = validate_lat_lon(lat_b_deg, lon_b_deg, name_b)
     if step_m is not None:
         step_m = check("--step-m", step_m)
+    model.start_digests([lon_a, lon_b], [lat_a, lat_b])   # provenance hashes run while the path is sampled
     batch = sample_links(model, lat_a, lon_a, lat_b, lon_b, step_m=step_m, fill_voids=fill_voids,
                          names_a=[name_a], names_b=[name_b])
     if batch.error[0] is not None:
