@@ -279,7 +279,8 @@ def analyze_link(profile: TerrainProfile, *, mast_a_m: float = 10.0, mast_b_m: f
         radio_ends=ends, rf_exposure=exposure_blocks(ends),
         bearings=magnetic_bearings(site_a_lat_lon, site_b_lat_lon, profile, h_a, h_b, date),
         sheet=sheet_block(sheet_info, date),
-        dem={"kind": profile.kind, "sources": list(profile.sources), "voids_filled": int(profile.voids_filled)},
+        dem={"kind": profile.kind, "sources": list(profile.sources), "voids_filled": int(profile.voids_filled),
+             "void_stretches_m": [list(map(float, x)) for x in profile.void_stretches_m]},
         warnings=warnings,
     )
 

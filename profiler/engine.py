@@ -57,6 +57,8 @@ class LinkSamples:
         Geodesic length [m] and azimuths at both ends [deg from true north].
     voids_filled : ndarray of int, shape (L,)
         Samples interpolated across voids.
+    void_stretches_m : list of list
+        Per link, ``[[from_m, to_m], ...]`` of the interpolated stretches (distance from A).
     error : list of (str or None)
         One-line message per link that could not be sampled.
     """
@@ -70,6 +72,7 @@ class LinkSamples:
     azimuth_a_to_b_deg: np.ndarray
     azimuth_b_to_a_deg: np.ndarray
     voids_filled: np.ndarray
+    void_stretches_m: list
     error: list
 
     @property
@@ -173,6 +176,7 @@ def sample_links(model, lat_a_deg, lon_a_deg, lat_b_deg, lon_b_deg, *, step_m=No
     terrain[covered] = model.sample(lon_s[covered], lat_s[covered])
     out["terrain_m"][rows, cols] = terrain
     voids_filled = np.zeros(n_links, dtype=np.int64)
+    void_stretches: list = [[] for _ in range(n_links)]
     has_void = np.zeros(n_links, dtype=bool)
     np.logical_or.at(has_void, rows[~np.isfinite(terrain)], True)
     has_void &= ~leaves
@@ -191,6 +195,7 @@ def sample_links(model, lat_a_deg, lon_a_deg, lat_b_deg, lon_b_deg, *, step_m=No
         except Exception as exc:  # a profile that is all void: the link fails, the batch goes on
             errors[i] = errors[i] or " ".join(str(exc).split())
             continue
+        void_stretches[i] = _stretches_m(out["distance_m"][i, :m], ~np.isfinite(t))   # before t is overwritten
         out["terrain_m"][i, :m] = filled
         voids_filled[i] = count
     _check_heights(out, errors)
@@ -198,7 +203,16 @@ def sample_links(model, lat_a_deg, lon_a_deg, lat_b_deg, lon_b_deg, *, step_m=No
     for key in out:
         out[key][bad] = np.nan
     return LinkSamples(n=np.where(bad, 3, n), length_m=np.where(bad, np.nan, length), azimuth_a_to_b_deg=az_ab % 360.0,
-                       azimuth_b_to_a_deg=az_back % 360.0, voids_filled=voids_filled, error=errors, **out)
+                       azimuth_b_to_a_deg=az_back % 360.0, voids_filled=voids_filled, void_stretches_m=void_stretches,
+                       error=errors, **out)
+
+
+def _stretches_m(distance_m, mask) -> list:
+    """``[[from_m, to_m], ...]`` of the runs of True in ``mask`` along a profile."""
+    padded = np.concatenate([[0], mask.astype(np.int8), [0]])
+    step = np.diff(padded)
+    starts, ends = np.flatnonzero(step == 1), np.flatnonzero(step == -1) - 1
+    return [[float(distance_m[a]), float(distance_m[b])] for a, b in zip(starts, ends)]
 
 
 def _check_heights(out, errors):

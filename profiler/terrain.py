@@ -43,6 +43,8 @@ class TerrainProfile:
         used, or the surveyed profile file.
     voids_filled : int
         Number of samples interpolated across elevation voids.
+    void_stretches_m : list
+        ``[[from_m, to_m], ...]`` of the interpolated stretches (distance from A).
     kind : str
         ``"dem"`` or ``"surveyed"``.
     """
@@ -56,6 +58,7 @@ class TerrainProfile:
     sources: list = field(default_factory=list)
     voids_filled: int = 0
     kind: str = "dem"
+    void_stretches_m: list = field(default_factory=list)
 
     @property
     def length_m(self) -> float:
@@ -105,7 +108,8 @@ def profile_from_dem(model, lat_a_deg: float, lon_a_deg: float, lat_b_deg: float
                           lat_deg=lat, lon_deg=lon,
                           azimuth_a_to_b_deg=float(batch.azimuth_a_to_b_deg[0]),
                           azimuth_b_to_a_deg=float(batch.azimuth_b_to_a_deg[0]),
-                          sources=sources, voids_filled=int(batch.voids_filled[0]), kind="dem")
+                          sources=sources, voids_filled=int(batch.voids_filled[0]), kind="dem",
+                          void_stretches_m=list(batch.void_stretches_m[0]))
 
 
 def read_profile_csv(path) -> TerrainProfile:

@@ -336,3 +336,20 @@ def test_raising_a_mast_never_lowers_clearance(terrain, mast_a, mast_b, raise_a,
     high = analyze_link(prof, mast_a_m=mast_a + raise_a, mast_b_m=mast_b + raise_b, frequency_mhz=868.0)
     assert np.all(high.profile["clearance_m"] >= low.profile["clearance_m"] - 1e-9)
     assert high.worst["fresnel_ratio"] >= low.worst["fresnel_ratio"] - 1e-12
+
+
+def test_void_stretches_are_reported_and_marked_on_the_sheet(tmp_path):
+    # The sample DEM has a void on the path to the Quarry Gate sensor (examples/run_examples.sh): with
+    # --fill-voids the report lists the interpolated stretch, its sample count matches the samples inside it,
+    # and the figure's legend names it (SVG text, parsed by xml.etree).
+    import xml.etree.ElementTree as ET
+
+    svg = tmp_path / "void.svg"
+    r = run_json("--dem", SAMPLE, "--site-a", GW, "--site-b", "-29.965,-19.82", "--fill-voids", "--plot", svg)
+    stretches = r["dem"]["void_stretches_m"]
+    assert len(stretches) == 1 and stretches[0][0] < stretches[0][1]
+    d = np.array(r["profile"]["distance_m"])
+    inside = int(np.sum((d >= stretches[0][0]) & (d <= stretches[0][1])))
+    assert inside == r["dem"]["voids_filled"]
+    text = "".join(ET.parse(svg).getroot().itertext())
+    assert "Interpolated across a void" in text

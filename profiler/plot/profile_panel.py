@@ -40,12 +40,13 @@ def draw_profile(fig, ax, report: dict, width_in: float, height_in: float) -> No
     _set_axes(ax, d)
     _draw_zones(ax, d)
     short_label = _draw_shortfall(ax, d)
+    void_label = _draw_voids(ax, report, d)
     _draw_masts(ax, report, d)
     _draw_worst(ax, report, d)
     ax.set_xlabel("Distance from site A [km]", labelpad=2)
     ax.set_ylabel("Height above mean sea level [m]", labelpad=3)
     ax.tick_params(length=3, pad=2)
-    _legend(ax, report, d, short_label)
+    _legend(ax, report, d, short_label, void_label)
     _exaggeration_note(fig, ax, report, d, width_in, height_in)
 
 
@@ -123,6 +124,29 @@ def _draw_shortfall(ax, d) -> str:
     return f"Clearance short of requirement ({starts.size} stretch{plural}, {short_km:.2f} km)"
 
 
+VOID_FACE = "white"
+VOID_EDGE = "0.35"
+VOID_HATCH = "...."
+
+
+def _draw_voids(ax, report: dict, d):
+    """Stretches interpolated across elevation voids: a dotted bar above the shortfall bar, and the
+    terrain line drawn dotted there; returns the legend label (None when the path has no void)."""
+    stretches = (report.get("dem") or {}).get("void_stretches_m") or []
+    if not stretches:
+        return None
+    spans = [(a / 1000.0, max(b - a, 1e-3 * d.length_km * 1000.0) / 1000.0) for a, b in stretches]
+    ax.broken_barh(spans, (0.04, 0.035), transform=ax.get_xaxis_transform(), facecolors=VOID_FACE,
+                   edgecolors=VOID_EDGE, hatch=VOID_HATCH, lw=0.6, zorder=6)
+    inside = np.zeros(d.x_km.size, dtype=bool)
+    for a, b in stretches:
+        inside |= (d.x_km >= a / 1000.0) & (d.x_km <= b / 1000.0)
+    ax.plot(d.x_km, np.where(inside, d.surface, np.nan), color="white", lw=1.4, ls=(0, (1, 1.5)), zorder=2.6)
+    total_km = sum(b - a for a, b in stretches) / 1000.0
+    n = len(stretches)
+    return f"Interpolated across a void ({n} stretch{'' if n == 1 else 'es'}, {total_km:.2f} km)"
+
+
 def _draw_masts(ax, report: dict, d) -> None:
     """Masts to scale, tips marked, each end labelled in a box near the top."""
     ends = ((0.0, float(report["site_a"]["ground_m"]), d.tip_a),
@@ -168,7 +192,7 @@ def _draw_worst(ax, report: dict, d) -> None:
                 arrowprops=dict(arrowstyle="-|>", lw=0.7, color="black", shrinkA=0, shrinkB=5, mutation_scale=8))
 
 
-def _legend(ax, report: dict, d, short_label: str) -> None:
+def _legend(ax, report: dict, d, short_label: str, void_label: str | None = None) -> None:
     from matplotlib.lines import Line2D
     from matplotlib.patches import Patch
 
@@ -184,6 +208,8 @@ def _legend(ax, report: dict, d, short_label: str) -> None:
         Line2D([], [], ls="none", marker="X", ms=7, mfc="white", mec="black", label="Worst point"),
         Line2D([], [], color=MAST, lw=3.0, label="Mast (to scale)"),
     ]
+    if void_label:
+        handles.append(Patch(fc=VOID_FACE, ec=VOID_EDGE, hatch=VOID_HATCH, lw=0.6, label=void_label))
     sheet_legend(ax, handles, loc="lower left", bbox_to_anchor=(-0.005, 1.0), ncol=4)
 
 
