@@ -204,11 +204,11 @@ def split_at_antimeridian(lon_deg, lat_deg) -> list[tuple[np.ndarray, np.ndarray
     return parts
 
 
-def _position(lon, lat) -> list:
+def geojson_position(lon, lat) -> list:
     return [round(float(lon), COORDINATE_DECIMALS), round(float(lat), COORDINATE_DECIMALS)]
 
 
-def _positions(lon: np.ndarray, lat: np.ndarray) -> list:
+def geojson_positions(lon: np.ndarray, lat: np.ndarray) -> list:
     return np.round(np.column_stack([lon, lat]), COORDINATE_DECIMALS).tolist()
 
 
@@ -230,9 +230,9 @@ def geojson_dict(report: dict) -> dict:
     lon, lat = _coordinates(report, "GeoJSON")
     parts = split_at_antimeridian(lon, lat)
     if len(parts) == 1:
-        path_geometry = {"type": "LineString", "coordinates": _positions(*parts[0])}
+        path_geometry = {"type": "LineString", "coordinates": geojson_positions(*parts[0])}
     else:
-        path_geometry = {"type": "MultiLineString", "coordinates": [_positions(*p) for p in parts]}
+        path_geometry = {"type": "MultiLineString", "coordinates": [geojson_positions(*p) for p in parts]}
     path_props = {"feature": "path", **headline_properties(report),
                   "crosses_antimeridian": len(parts) > 1,
                   "description": _text("; ".join(_link_lines(report)))}
@@ -245,7 +245,7 @@ def geojson_dict(report: dict) -> dict:
         site_lat = site.get("lat_deg") if site.get("lat_deg") is not None else lat[0 if key == "a" else -1]
         features.append({
             "type": "Feature", "id": f"site_{key}",
-            "geometry": {"type": "Point", "coordinates": _position(wrap_longitude(site_lon), site_lat)},
+            "geometry": {"type": "Point", "coordinates": geojson_position(wrap_longitude(site_lon), site_lat)},
             "properties": {
                 "feature": "site", "site": key.upper(), "name": _text(site["name"]),
                 "ground_m": site.get("ground_m"), "mast_m": site.get("mast_m"),
@@ -260,7 +260,7 @@ def geojson_dict(report: dict) -> dict:
         features.append({
             "type": "Feature", "id": "worst",
             "geometry": {"type": "Point",
-                         "coordinates": _position(wrap_longitude(worst["lon_deg"]), worst["lat_deg"])},
+                         "coordinates": geojson_position(wrap_longitude(worst["lon_deg"]), worst["lat_deg"])},
             "properties": {
                 "feature": "worst_point", "name": "worst point",
                 "distance_m": worst.get("distance_m"), "clearance_m": worst.get("clearance_m"),

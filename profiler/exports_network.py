@@ -34,7 +34,7 @@ import numpy as np
 
 from . import CAUTION
 from .errors import ProfilerError
-from .exports import (_EN, KML_NAMESPACE, _extended_data, _html_description, _kml_coordinates, _num, _positions,
+from .exports import (_EN, KML_NAMESPACE, _extended_data, _html_description, _kml_coordinates, _num, geojson_positions,
                       _style, _sub, _value, split_at_antimeridian, wrap_longitude)
 from .path import geodesic_path
 from .report import inert_text
@@ -240,8 +240,8 @@ def _crossing_geometry(lat_a: float, lon_a: float, lat_b: float, lon_b: float) -
     path = geodesic_path(lat_a, lon_a, lat_b, lon_b, ANTIMERIDIAN_STEP_M)
     parts = split_at_antimeridian(path.lon_deg, path.lat_deg)
     if len(parts) == 1:
-        return {"type": "LineString", "coordinates": _positions(*parts[0])}
-    return {"type": "MultiLineString", "coordinates": [_positions(*part) for part in parts]}
+        return {"type": "LineString", "coordinates": geojson_positions(*parts[0])}
+    return {"type": "MultiLineString", "coordinates": [geojson_positions(*part) for part in parts]}
 
 
 def network_geojson_dict(report: dict) -> dict:

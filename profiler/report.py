@@ -51,7 +51,8 @@ def write_json(report: dict, path) -> None:
     write_text(path, json_text(report))
 
 
-def _fmt(x, digits=3):
+def format_cell(x, digits=3):
+    """A number for a CSV cell: fixed decimals, ``true``/``false``, empty for None."""
     if x is None:
         return ""
     if isinstance(x, bool):
@@ -91,7 +92,7 @@ def csv_text(report: dict) -> str:
     w.writerows(zip(*cols))
     buf.write("\n")
     for key, value in summary_rows(report):
-        w.writerow(["# " + key, inert_text(value) if isinstance(value, str) else _fmt(value, 3)])
+        w.writerow(["# " + key, inert_text(value) if isinstance(value, str) else format_cell(value, 3)])
     return buf.getvalue()
 
 

@@ -32,8 +32,8 @@ import numpy as np
 
 from . import CAUTION, __version__
 from .errors import ProfilerError
-from .exports import _position, _positions, split_at_antimeridian, wrap_longitude
-from .report import _fmt, inert_text
+from .exports import geojson_position, geojson_positions, split_at_antimeridian, wrap_longitude
+from .report import format_cell, inert_text
 from .setcover import hearing_matrix, solve_siting
 
 __all__ = ["SCHEMA", "MarginMatrix", "margin_matrix", "site_costs", "siting_from_network", "siting_report",
@@ -336,7 +336,7 @@ NODE_CSV_COLUMNS = ("node", "covered", "unreachable", "heard_by_count", "heard_b
 
 def _cell(value) -> str:
     """A CSV cell: text made inert, numbers as in the link CSV (2 decimals)."""
-    return inert_text(value) if isinstance(value, str) else _fmt(value, 2)
+    return inert_text(value) if isinstance(value, str) else format_cell(value, 2)
 
 
 def siting_csv_text(report: dict) -> str:
@@ -414,8 +414,8 @@ def siting_geojson_dict(report: dict, network_report: dict) -> dict:
         for rank, (gw, margin) in enumerate(zip(nd["heard_by"], nd["heard_by_margin_db"])):
             lon, lat = np.array([_site_position(where, gw), _site_position(where, nd["name"])]).T
             parts = split_at_antimeridian(lon, lat)
-            geometry = ({"type": "LineString", "coordinates": _positions(*parts[0])} if len(parts) == 1 else
-                        {"type": "MultiLineString", "coordinates": [_positions(*p) for p in parts]})
+            geometry = ({"type": "LineString", "coordinates": geojson_positions(*parts[0])} if len(parts) == 1 else
+                        {"type": "MultiLineString", "coordinates": [geojson_positions(*p) for p in parts]})
             features.append({"type": "Feature", "id": f"link:{gw}:{nd['name']}", "geometry": geometry,
                              "properties": {"feature": "link", "gateway": inert_text(gw),
                                             "node": inert_text(nd["name"]), "margin_db": margin,
@@ -428,7 +428,7 @@ def _site_position(where: dict, name) -> list:
     lat, lon = s.get("lat_deg"), s.get("lon_deg")
     if lat is None or lon is None:
         raise ProfilerError(f"site {name!r} has no coordinates in the network report; GeoJSON needs them")
-    return _position(wrap_longitude(lon), lat)
+    return geojson_position(wrap_longitude(lon), lat)
 
 
 def siting_geojson_text(report: dict, network_report: dict) -> str:

@@ -68,17 +68,7 @@ def link_outputs(json_path, csv_path, geojson_path, kml_path, plot_path, paper="
     ``report_path`` is the ``--report`` PDF; ``record`` the run record for
     its record page (:func:`profiler.cli.options.run_record`).
     """
-    from ..outputs import Output
-
-    def render_geojson(report, path):
-        from ..exports import geojson_text
-
-        return geojson_text(report)
-
-    def render_kml(report, path):
-        from ..exports import kml_text
-
-        return kml_text(report)
+    from ..outputs import Output, summary_output, text_of
 
     def render_plot(report, path):
         from ..plot import write_link_figure
@@ -94,28 +84,12 @@ def link_outputs(json_path, csv_path, geojson_path, kml_path, plot_path, paper="
         write_link_report(report, path, paper=paper, dpi=dpi, dem_paths=list(dem_paths),
                           record=safe_strings(record, "figure"))
 
-    def render_summary(report, path):
-        from ..report import summary_text
-
-        return summary_text(report)
-
-    def render_json(report, path):
-        from ..report import json_text
-
-        return json_text(report)
-
-    def render_csv(report, path):
-        from ..report import csv_text
-
-        return csv_text(report)
-
-    files = (json_path, csv_path, geojson_path, kml_path)
     return [
-        Output("--json", json_path, render_json, "json"),
-        Output("--csv", csv_path, render_csv, "csv"),
-        Output("--geojson", geojson_path, render_geojson, "json"),
-        Output("--kml", kml_path, render_kml, "xml"),
+        Output("--json", json_path, text_of("report", "json_text"), "json"),
+        Output("--csv", csv_path, text_of("report", "csv_text"), "csv"),
+        Output("--geojson", geojson_path, text_of("exports", "geojson_text"), "json"),
+        Output("--kml", kml_path, text_of("exports", "kml_text"), "xml"),
         Output("--plot", plot_path, render_plot, "figure", suffixes=(".png", ".pdf", ".svg"), stdout=False),
         Output("--report", report_path, render_report, "figure", suffixes=(".pdf",), stdout=False),
-        Output("summary", None if "-" in map(str, filter(None, files)) else "-", render_summary, "terminal"),
+        summary_output(text_of("report", "summary_text"), json_path, csv_path, geojson_path, kml_path),
     ]

@@ -107,12 +107,7 @@ def with_sheet(result, profile, sheet_info, date):
 
 def mast_outputs(json_path, plot_path, paper="a4", dpi=200, *, report_path=None, record=None):
     """The outputs of ``profiler mast`` for :func:`profiler.outputs.write_outputs` (``--report``: the PDF)."""
-    from ..outputs import Output
-
-    def render_json(report, path):
-        from ..report import json_text
-
-        return json_text(report)
+    from ..outputs import Output, summary_output, text_of
 
     def render_plot(report, path):
         from ..plot import write_mast_figure
@@ -126,14 +121,11 @@ def mast_outputs(json_path, plot_path, paper="a4", dpi=200, *, report_path=None,
 
         write_mast_report(report, path, paper=paper, dpi=dpi, record=safe_strings(record, "figure"))
 
-    def render_summary(report, path):
-        return mast_summary_text(report)
-
     return [
-        Output("--json", json_path, render_json, "json"),
+        Output("--json", json_path, text_of("report", "json_text"), "json"),
         Output("--plot", plot_path, render_plot, "figure", suffixes=(".png", ".pdf", ".svg"), stdout=False),
         Output("--report", report_path, render_report, "figure", suffixes=(".pdf",), stdout=False),
-        Output("summary", None if str(json_path) == "-" else "-", render_summary, "terminal"),
+        summary_output(lambda report, path: mast_summary_text(report), json_path),
     ]
 
 
