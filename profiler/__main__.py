@@ -1,3 +1,3 @@
-from profiler.cli import main
+from profiler.cli import run
 
-main()
+run()

@@ -13,7 +13,7 @@ def link(site_a=None, site_b=None, *, dem=None, profile_csv=None, mast_a_m: floa
          mast_b_m: float = 2.0, name_a: str = "A", name_b: str = "B", k_factor="4/3",
          frequency_mhz: float | None = None, band: str | None = None, step_m: float | None = None,
          clearance_ratio: float = 0.6, fill_voids: bool = False,
-         radio: RadioSettings | None = None, date=None, sheet_info=None) -> LinkResult:
+         radio: RadioSettings | None = None, date=None, sheet_info=None, digests=None) -> LinkResult:
     """Analyse the link A-B over elevation data or a surveyed profile.
 
     Parameters
@@ -42,6 +42,8 @@ def link(site_a=None, site_b=None, *, dem=None, profile_csv=None, mast_a_m: floa
         Date of the sheet and of the magnetic declination (default today).
     sheet_info : profiler.sheetinfo.SheetInfo, optional
         Title-block fields (project, document, ...) for the report's ``sheet`` block.
+    digests : profiler.provenance.FileDigests, optional
+        Provenance digests of the elevation files, possibly already started.
 
     Returns
     -------
@@ -51,7 +53,7 @@ def link(site_a=None, site_b=None, *, dem=None, profile_csv=None, mast_a_m: floa
     f_mhz, band_name = resolve_frequency_mhz(frequency_mhz, band)
     k = parse_k_factor(k_factor)
     prof = load_profile(site_a, site_b, dem=dem, profile_csv=profile_csv, step_m=step_m,
-                        fill_voids=fill_voids, name_a=name_a, name_b=name_b)
+                        fill_voids=fill_voids, name_a=name_a, name_b=name_b, digests=digests)
     return analyze_link(prof, mast_a_m=mast_a_m, mast_b_m=mast_b_m, frequency_mhz=f_mhz, band=band_name,
                         k_factor=k, clearance_ratio_required=clearance_ratio, radio=radio,
                         name_a=name_a, name_b=name_b,
@@ -61,7 +63,7 @@ def link(site_a=None, site_b=None, *, dem=None, profile_csv=None, mast_a_m: floa
 
 
 def load_profile(site_a=None, site_b=None, *, dem=None, profile_csv=None, step_m: float | None = None,
-                 fill_voids: bool = False, name_a: str = "A", name_b: str = "B"):
+                 fill_voids: bool = False, name_a: str = "A", name_b: str = "B", digests=None):
     """The terrain profile from a surveyed CSV file or from elevation data along the geodesic.
 
     Parameters are those of :func:`link`.  Returns a
@@ -77,7 +79,7 @@ def load_profile(site_a=None, site_b=None, *, dem=None, profile_csv=None, step_m
         raise ProfilerError("both --site-a and --site-b are needed with --dem (format LAT,LON)")
     from .dem import ElevationModel
 
-    with ElevationModel.open(dem) as model:
+    with ElevationModel.open(dem, digests=digests) as model:
         return profile_from_dem(model, site_a[0], site_a[1], site_b[0], site_b[1], step_m=step_m,
                                 fill_voids=fill_voids,
                                 name_a=f"site A ({name_a})" if name_a != "A" else "site A",

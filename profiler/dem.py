@@ -27,7 +27,6 @@ Only numpy, rasterio and pyproj are imported at module level.
 
 from __future__ import annotations
 
-import hashlib
 import math
 import os
 import warnings
@@ -42,6 +41,7 @@ import rasterio
 from rasterio.windows import Window
 
 from profiler.errors import ProfilerError
+from profiler.provenance import FileDigests, file_sha256
 
 __all__ = ["ElevationModel", "SourceInfo", "fill_voids_along_profile"]
 
@@ -147,42 +147,8 @@ class SourceInfo:
 
     @cached_property
     def sha256(self) -> str:
-        """SHA-256 of the file on disk [hex], computed on first access (or taken from :meth:`start_digest`)."""
-        pending = self.__dict__.pop("_digest_thread", None)
-        if pending is not None:
-            thread, box = pending
-            thread.join()
-            if "hex" in box:
-                return box["hex"]
-        return _file_sha256(self.file_path or self.path)
-
-    def start_digest(self) -> None:
-        """Start hashing the file in a background thread (hashlib releases the GIL), so that the
-        provenance digest costs no wall-clock time while the profile is sampled and analysed."""
-        import threading
-
-        if "sha256" in self.__dict__ or "_digest_thread" in self.__dict__:
-            return
-        box: dict = {}
-
-        def work():
-            try:
-                box["hex"] = _file_sha256(self.file_path or self.path)
-            except OSError:
-                pass  # the property then hashes in the foreground and reports the error there
-
-        thread = threading.Thread(target=work, name="profiler-sha256", daemon=True)
-        self.__dict__["_digest_thread"] = (thread, box)
-        thread.start()
-
-
-def _file_sha256(path) -> str:
-    """SHA-256 of a file [hex]."""
-    digest = hashlib.sha256()
-    with open(path, "rb") as handle:
-        for chunk in iter(lambda: handle.read(1 << 22), b""):
-            digest.update(chunk)
-    return digest.hexdigest()
+        """SHA-256 of the file on disk [hex] (a model's :meth:`ElevationModel.provenance` hashes each file once)."""
+        return file_sha256(self.file_path or self.path)
 
 
 class _Tile:
@@ -386,8 +352,9 @@ class ElevationModel:
     """
 
     def __init__(self, tiles, groups, cache_bytes=_DEFAULT_CACHE_BYTES,
-                 max_open=_DEFAULT_MAX_OPEN):
+                 max_open=_DEFAULT_MAX_OPEN, digests=None):
         self._tiles = tiles
+        self.digests = digests if digests is not None else FileDigests()
         self._groups = groups
         self.sources = [t.info for t in tiles]
         self._cache = OrderedDict()
@@ -399,7 +366,7 @@ class ElevationModel:
 
     # ------------------------------------------------------------------ open
     @classmethod
-    def open(cls, paths, cache_bytes=_DEFAULT_CACHE_BYTES):
+    def open(cls, paths, cache_bytes=_DEFAULT_CACHE_BYTES, digests=None):
         """Open elevation rasters from files and/or folders.
 
         Parameters
@@ -410,6 +377,9 @@ class ElevationModel:
             :data:`RASTER_SUFFIXES`.
         cache_bytes : int, optional
             Upper bound of the in-memory block cache [bytes].
+        digests : profiler.provenance.FileDigests, optional
+            Provenance digests, possibly already started on the files (by a
+            command, before its heavy imports); default a new one.
 
         Returns
         -------
@@ -430,7 +400,7 @@ class ElevationModel:
         for entry in paths:
             files.extend(_expand_path(Path(entry)))
 
-        model = cls([], [], cache_bytes=cache_bytes)
+        model = cls([], [], cache_bytes=cache_bytes, digests=digests)
         crs_cache = {}
         tiles = []
         try:
@@ -464,8 +434,12 @@ class ElevationModel:
 
     def start_digests(self, lon_deg, lat_deg) -> None:
         """Start hashing, in the background, the files of the sources that cover the points."""
-        for source in self.sources_covering(lon_deg, lat_deg):
-            source.start_digest()
+        self.digests.start([s.file_path or s.path for s in self.sources_covering(lon_deg, lat_deg)])
+
+    def provenance(self, sources) -> list:
+        """Report records ``{path, sha256, crs, resolution}`` of ``sources``, each file hashed once per model."""
+        return [{"path": s.path, "sha256": self.digests.sha256(s.file_path or s.path), "crs": s.crs,
+                 "resolution": list(s.resolution)} for s in sources]
 
     # ------------------------------------------------------------- sampling
     def sample(self, lon_deg, lat_deg):

@@ -345,8 +345,7 @@ def network(sites, *, dem, pairs=None, max_distance_km: float = 50.0, band: str 
         parts = run_chunks(job, chunks, workers=workers, scheduler=scheduler, progress=progress,
                            weights=[c[0].size for c in chunks])
         ground = model.sample(table.lon_deg, table.lat_deg)
-        sources = [{"path": s.path, "sha256": s.sha256, "crs": s.crs, "resolution": list(s.resolution)}
-                   for s in model.sources_used(table.lon_deg, table.lat_deg)]
+        sources = model.provenance(model.sources_used(table.lon_deg, table.lat_deg))
     res = {k: np.concatenate([p[k] for p in parts]) for k in parts[0] if k != "error"}
     res["error"] = [e for p in parts for e in p["error"]]
     if all(e is not None for e in res["error"]):

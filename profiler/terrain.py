@@ -100,10 +100,7 @@ def profile_from_dem(model, lat_a_deg: float, lon_a_deg: float, lat_b_deg: float
         raise ProfilerError(batch.error[0])
     m = int(batch.n[0])
     lat, lon = batch.lat_deg[0, :m], batch.lon_deg[0, :m]
-    sources = [
-        {"path": s.path, "sha256": s.sha256, "crs": s.crs, "resolution": list(s.resolution)}
-        for s in model.sources_used(lon, lat)
-    ]
+    sources = model.provenance(model.sources_used(lon, lat))
     return TerrainProfile(distance_m=batch.distance_m[0, :m], terrain_m=batch.terrain_m[0, :m],
                           lat_deg=lat, lon_deg=lon,
                           azimuth_a_to_b_deg=float(batch.azimuth_a_to_b_deg[0]),

@@ -47,6 +47,9 @@ def coverage_command(dem_paths, site, mast_m, name, sites_csv, radius_km, resolu
     Example:
       profiler coverage --dem dem_samples --site -29.9125,-19.955 --mast-m 10 --radius-km 10 --out cov.tif
     """
+    from . import collect_garbage
+
+    collect_garbage()   # long runs and Dask: the collector on as usual
     from ..coverage_io import coverage_outputs
     from ..coverage_map import coverage
     from ..errors import ProfilerError

@@ -34,6 +34,10 @@ def link_command(site_a, site_b, name_a, name_b, mast_a_m, mast_b_m, dem_paths, 
     Example:
       profiler link --dem dem_samples --site-a 46.0,7.0 --site-b 46.1,7.1
     """
+    from ..provenance import FileDigests
+
+    digests = FileDigests()
+    digests.start(dem_paths)   # hash the given files while the numerical libraries load
     from ..api import link
     from ..limits import quiet_numerics, require_finite
     from ..outputs import check_outputs, write_outputs
@@ -47,7 +51,7 @@ def link_command(site_a, site_b, name_a, name_b, mast_a_m, mast_b_m, dem_paths, 
         result = link(site_a, site_b, dem=list(dem_paths), profile_csv=profile_csv, mast_a_m=mast_a_m,
                       mast_b_m=mast_b_m, name_a=name_a, name_b=name_b, k_factor=k_text, frequency_mhz=freq_mhz,
                       band=band_name, step_m=step_m, clearance_ratio=clearance_ratio, fill_voids=fill_voids,
-                      radio=radio, date=date, sheet_info=sheet_info)
+                      radio=radio, date=date, sheet_info=sheet_info, digests=digests)
         report = result.to_dict()
         require_finite(report, LINK_FINITE, "link analysis")
         write_outputs(outputs, report)

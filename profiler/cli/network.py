@@ -30,6 +30,9 @@ def network_command(json_path, csv_path, geojson_path, kml_path, plot_path, pape
     Example:
       profiler network --dem dem_samples --sites examples/vellmoor_network.csv --csv links.csv
     """
+    from . import collect_garbage
+
+    collect_garbage()   # long runs and Dask: the collector on as usual
     from ..api import network
     from ..limits import quiet_numerics
     from ..outputs import check_outputs, write_outputs

@@ -41,6 +41,9 @@ def siting_command(redundancy, min_margin_db, max_gateways, time_limit_s, json_p
     Example:
       profiler siting --dem dem_samples --sites examples/siting_sites.csv --redundancy 2
     """
+    from . import collect_garbage
+
+    collect_garbage()   # long runs and Dask: the collector on as usual
     from ..api import siting
     from ..limits import quiet_numerics
     from ..outputs import check_outputs, write_outputs
