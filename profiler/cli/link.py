@@ -34,12 +34,25 @@ def link_command(site_a, site_b, name_a, name_b, mast_a_m, mast_b_m, dem_paths, 
     Example:
       profiler link --dem dem_samples --site-a 46.0,7.0 --site-b 46.1,7.1
     """
+    from ..figure_worker import drawing_process
+
+    # A figure: matplotlib is imported in a forked drawing process while the link is computed.
+    with drawing_process(bool(plot_path)) as worker:
+        _link(site_a, site_b, name_a, name_b, mast_a_m, mast_b_m, dem_paths, profile_csv, step_m, fill_voids,
+              k_text, freq_mhz, band_name, clearance_ratio, json_path, csv_path, geojson_path, kml_path,
+              plot_path, paper, dpi, report_path, radio_kw, worker)
+
+
+def _link(site_a, site_b, name_a, name_b, mast_a_m, mast_b_m, dem_paths, profile_csv, step_m, fill_voids,
+          k_text, freq_mhz, band_name, clearance_ratio, json_path, csv_path, geojson_path, kml_path,
+          plot_path, paper, dpi, report_path, radio_kw, worker):
+    """The body of :func:`link_command`; ``worker`` draws the ``--plot`` sheet (None: in this process)."""
     from ..api import link
     from ..limits import quiet_numerics, require_finite
     from ..outputs import check_outputs, write_outputs
 
     outputs = link_outputs(json_path, csv_path, geojson_path, kml_path, plot_path, paper, dpi, list(dem_paths),
-                           report_path=report_path, record=run_record())
+                           report_path=report_path, record=run_record(), worker=worker)
     check_outputs(outputs)  # refuse bad outputs before any computation
     sheet_info, date = sheet_settings(radio_kw)
     radio = radio_settings(radio_kw)
@@ -60,21 +73,26 @@ LINK_FINITE = ("distance_m", "frequency_mhz", "k_factor", "elevation_angle_a_deg
                "budget.rx_power_dbm", "budget.sensitivity_dbm", "budget.margin_db")
 
 
-def link_outputs(json_path, csv_path, geojson_path, kml_path, plot_path, paper="a4", dpi=200, dem_paths=(), *,
-                 report_path=None, record=None):
+def link_outputs(json_path, csv_path, geojson_path, kml_path, plot_path, paper="a4", dpi=150, dem_paths=(), *,
+                 report_path=None, record=None, worker=None):
     """The outputs of ``profiler link`` for :func:`profiler.outputs.write_outputs`.
 
     The terminal summary goes to standard output unless another output does.
     ``report_path`` is the ``--report`` PDF; ``record`` the run record for
-    its record page (:func:`profiler.cli.options.run_record`).
+    its record page (:func:`profiler.cli.options.run_record`); ``worker`` a
+    :class:`profiler.figure_worker.FigureWorker` that draws the ``--plot``
+    sheet (None: drawn in this process).
     """
     from ..outputs import Output, summary_output, text_of
 
     def render_plot(report, path):
+        kwargs = dict(paper=paper, dpi=dpi, dem_paths=list(dem_paths), date_text=report["sheet"]["date"])
+        if worker is not None:
+            worker.call("profiler.plot.link:write_link_figure", report, str(path), **kwargs)
+            return
         from ..plot import write_link_figure
 
-        write_link_figure(report, path, paper=paper, dpi=dpi, dem_paths=list(dem_paths),
-                          date_text=report["sheet"]["date"])
+        write_link_figure(report, path, **kwargs)
 
     def render_report(report, path):
         from ..plot.report_pdf import write_link_report

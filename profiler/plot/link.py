@@ -27,7 +27,7 @@ from ..report import verdict
 from . import basemap
 from .titleblock import draw_notes, draw_title_box, provenance_lines, title_block_rows
 from .sheet import (BADGE_BAD, BADGE_GOOD, BADGE_WARN, DASH, EN, MIDDOT, arr, clean, dms, draw_tables,
-                    draw_title_block, fit, fraction, inch_axes, k_text, km, nanmax, new_sheet, num,
+                    draw_title_block, figure_format, fit, fraction, inch_axes, k_text, km, nanmax, new_sheet, num,
                     site_name, source_text, style, write_sheet)
 from .link_tables import bearing_lines, declination_text, exposure_line, radio_block
 from .profile_panel import draw_profile
@@ -36,7 +36,7 @@ __all__ = ["build_link_figure", "write_link_figure"]
 
 
 # --------------------------------------------------------------------------- public API
-def write_link_figure(report: dict, path, paper: str = "a4", dpi: float = 200,
+def write_link_figure(report: dict, path, paper: str = "a4", dpi: float = 150,
                       dem_paths=None, *, date_text: str | None = None, sheet_no: int = 1,
                       sheet_count: int = 1) -> None:
     """Draw the link sheet and write it to ``path`` (PNG, PDF or SVG by extension).
@@ -53,7 +53,7 @@ def write_link_figure(report: dict, path, paper: str = "a4", dpi: float = 200,
         Landscape paper size: A4 297 mm x 210 mm or letter 11 in x 8.5 in.
     dpi : float
         Resolution [dots per inch] of a PNG and of the hillshade embedded in
-        a PDF or SVG.
+        a PDF or SVG; 150 dpi keeps 6 pt text legible on A4.
     dem_paths : list of str or os.PathLike, optional
         Elevation files or folders for the locator hillshade; none (or a
         surveyed profile) draws the panel with a note instead of a map.
@@ -70,16 +70,20 @@ def write_link_figure(report: dict, path, paper: str = "a4", dpi: float = 200,
         folder or a write error.
     """
     title = f"Radio path profile: {site_name(report['site_a'])} {EN} {site_name(report['site_b'])}"
+    # A PNG is built at its own resolution (text measured once, canvas reused when saving); PDF and
+    # SVG text is not rasterized, so it is measured at 100 dpi as before.
+    build_dpi = float(dpi) if figure_format(path) == "png" else 100.0
     write_sheet(path, paper, dpi, lambda: build_link_figure(report, paper=paper, dem_paths=dem_paths,
                                                             date_text=date_text, sheet_no=sheet_no,
-                                                            sheet_count=sheet_count), title, report)
+                                                            sheet_count=sheet_count, dpi=build_dpi), title, report)
 
 
 def build_link_figure(report: dict, paper: str = "a4", dem_paths=None, *, date_text: str | None = None,
-                      sheet_no: int = 1, sheet_count: int = 1):
+                      sheet_no: int = 1, sheet_count: int = 1, dpi: float = 100.0):
     """Build the link sheet as a :class:`matplotlib.figure.Figure` (Agg canvas).
 
-    Parameters are those of :func:`write_link_figure`.  The figure is not
+    Parameters are those of :func:`write_link_figure`; ``dpi`` [dots per
+    inch] is the figure's resolution, best the one it will be saved at.  The figure is not
     attached to pyplot; save it with ``fig.savefig(...)`` inside
     :func:`profiler.plot.sheet.style` for output identical to
     :func:`write_link_figure`.
@@ -89,7 +93,7 @@ def build_link_figure(report: dict, paper: str = "a4", dem_paths=None, *, date_t
     matplotlib.figure.Figure
     """
     with style():
-        fig, renderer, width_in, height_in = new_sheet(paper)
+        fig, renderer, width_in, height_in = new_sheet(paper, dpi)
         boxes = _layout(width_in, height_in)
         _draw_header(inch_axes(fig, boxes["header"], width_in, height_in), report, renderer)
         profile_ax = fig.add_axes(fraction(boxes["profile"], width_in, height_in))
