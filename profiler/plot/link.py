@@ -208,8 +208,17 @@ def _draw_locator(ax, report: dict, dem_paths, renderer) -> None:
     basemap.finish_map(ax, ext)
     to_axes = ax.transData + ax.transAxes.inverted()
     points = to_axes.transform(np.column_stack([lon, lat])[:: max(1, lon.size // 400)])
-    boxes = _label_sites(ax, report, lon, lat, ext, points, renderer)
-    basemap.place_furniture(ax, ext, points, boxes)
+    # The furniture first, kept off the path and off the room around the sites; then the labels, kept
+    # off the furniture, the path and the frame.
+    furniture = basemap.place_furniture(ax, ext, points, _site_room(points), renderer)
+    _label_sites(ax, report, lon, lat, ext, points, renderer, furniture)
+
+
+def _site_room(points) -> list:
+    """Room [axes fractions] around both site markers for their labels (kept free of the furniture)."""
+    from matplotlib.transforms import Bbox
+
+    return [Bbox([[x - 0.2, y - 0.08], [x + 0.2, y + 0.08]]) for x, y in (points[0], points[-1])]
 
 
 def _draw_path(ax, report: dict, lon, lat) -> None:
@@ -229,12 +238,14 @@ def _draw_path(ax, report: dict, lon, lat) -> None:
     worst = report.get("worst") or {}
     if worst.get("lon_deg") is not None:
         wl = lon[int(np.argmin(np.abs(arr(prof["distance_m"]) - worst["distance_m"])))]
-        ax.plot(wl, worst["lat_deg"], marker="X", ms=7, mfc="white", mec="black", mew=0.9, zorder=6)
+        # smaller than the site markers and under them: it never hides a site
+        ax.plot(wl, worst["lat_deg"], marker="X", ms=6, mfc="white", mec="black", mew=0.9, zorder=6)
 
 
-def _label_sites(ax, report: dict, lon, lat, ext, points, renderer) -> list:
-    """Site labels: of eight places around each marker, the one least in the way of the path,
-    the other label and the frame; first choice on opposite sides of the path.  Returns their boxes."""
+def _label_sites(ax, report: dict, lon, lat, ext, points, renderer, furniture=()) -> list:
+    """Site labels: of sixteen places around each marker (eight directions, two distances), the one least in the way of the furniture, the
+    path, the other label and the frame (:func:`basemap.label_score`); first choice on opposite sides of
+    the path; always inside the frame.  Returns their boxes [axes fractions]."""
     ux, uy = (lon[-1] - lon[0]) * ext.m_lon, (lat[-1] - lat[0]) * ext.m_lat
     norm = math.hypot(ux, uy) or 1.0
     nx_, ny_ = -uy / norm, ux / norm
@@ -247,19 +258,19 @@ def _label_sites(ax, report: dict, lon, lat, ext, points, renderer) -> list:
             name = name[:25].rstrip() + "\u2026"
         first = math.atan2(sign * ny_, sign * nx_)
         best = None
-        for step in range(8):
-            angle = first + ((step + 1) // 2) * (math.pi / 4) * (1 if step % 2 else -1)
+        for step in range(16):       # eight directions at 8 pt from the marker, then at 16 pt
+            angle = first + (((step % 8) + 1) // 2) * (math.pi / 4) * (1 if step % 2 else -1)
             ox, oy = math.cos(angle), math.sin(angle)
-            label = ax.annotate(f"{key.upper()} {name}", xy=(x, y), xytext=(8 * ox, 8 * oy),
+            offset = 8.0 if step < 8 else 16.0
+            label = ax.annotate(f"{key.upper()} {name}", xy=(x, y), xytext=(offset * ox, offset * oy),
                                 textcoords="offset points",
                                 ha="left" if ox > 0.38 else ("right" if ox < -0.38 else "center"),
                                 va="bottom" if oy > 0.38 else ("top" if oy < -0.38 else "center"),
                                 fontsize=6.8, fontweight="bold", zorder=8, parse_math=False,
-                                path_effects=basemap.halo(2.6))
+                                path_effects=basemap.halo(2.6), gid=f"site-label-{key}")
             moved = basemap.keep_inside(label, ax, renderer)
             box = label.get_window_extent(renderer).transformed(ax.transAxes.inverted())
-            covered = sum(basemap.overlap(box, other) for other in boxes) / max(box.width * box.height, 1e-9)
-            score = basemap.points_in(points, box) + 20.0 * covered + moved / 30.0 + 0.02 * step
+            score = basemap.label_score(box, points, boxes, furniture, moved) + 0.02 * step
             if best is None or score < best[0]:
                 if best is not None:
                     best[1].remove()
