@@ -270,13 +270,16 @@ def _label_sites(ax, report: dict, lon, lat, ext, points, renderer, furniture=()
                                 path_effects=basemap.halo(2.6), gid=f"site-label-{key}")
             moved = basemap.keep_inside(label, ax, renderer)
             box = label.get_window_extent(renderer).transformed(ax.transAxes.inverted())
-            score = basemap.label_score(box, points, boxes, furniture, moved) + 0.02 * step
+            clash = basemap.label_score(box, points, boxes, furniture, moved)
+            score = clash + 0.02 * step
             if best is None or score < best[0]:
                 if best is not None:
                     best[1].remove()
                 best = (score, label, box)
             else:
                 label.remove()
+            if clash == 0.0 or (step == 7 and best[0] < 10.0):   # free, or no contact: look no further
+                break
         boxes.append(best[2])
     return boxes
 
