@@ -208,9 +208,12 @@ def place_furniture(ax, ext: MapExtent, points: np.ndarray, boxes=(), renderer=N
     height_in = ax.get_window_extent().height / ax.figure.dpi       # furniture keeps its size on a big map
     arrow_x = min((0.92, 0.08), key=lambda x: crowding(x - 0.06, 0.74, x + 0.06, 0.98))
     arrow = north_arrow(ax, halo(), arrow_x, length=min(0.15, 0.38 / height_in))
-    bar_right = crowding(0.02, 0.02, 0.5, 0.18) > crowding(0.5, 0.02, 0.98, 0.18)
-    bar = scale_bar(ax, geod(), ext.west, ext.east, ext.south, ext.north, bar_right,
-                    height_frac=min(0.018, 0.045 / height_in))
+    g = geod()
+    bar_w = bar_length(g, ext.west, ext.east, ext.south, ext.north)[1] / (ext.east - ext.west)
+    lefts = (0.06, 0.5 - 0.5 * bar_w, 0.88 - bar_w)                 # left, middle, right
+    bar_left = min(lefts, key=lambda x: crowding(x - 0.04, 0.02, x + bar_w + 0.1, 0.18))
+    bar = scale_bar(ax, g, ext.west, ext.east, ext.south, ext.north, height_frac=min(0.018, 0.045 / height_in),
+                    left_frac=bar_left)
     degree_ticks(ax, ext.west, ext.east, ext.south, ext.north)
     renderer = renderer or ax.figure.canvas.get_renderer()
     return [artists_box(ax, artists, renderer) for artists in (arrow, bar)]
@@ -258,23 +261,35 @@ def north_arrow(ax, path_effects, x: float, length: float = 0.15) -> list:
     return [arrow, letter]
 
 
-def scale_bar(ax, g, west, east, south, north, right: bool = False, height_frac: float = 0.018) -> list:
-    """Scale bar along the parallel in a lower corner; lengths from pyproj.Geod (WGS84).
-
-    The bar is a 1-2-5 length about a third of the map's width, drawn as a
-    black and a white half (gid ``scale-bar``), ``height_frac`` of the map's
-    height, on a white backing (gid ``scale-bar-backing``) with its numbers
-    and unit (gid ``scale-bar``).  Returns all its artists.
-    """
-    from matplotlib.patches import Rectangle
-
+def bar_length(g, west, east, south, north) -> tuple[float, float, float]:
+    """The scale bar's length: a 1-2-5 value about a third of the map's width [m], the same in
+    longitude [deg], and the latitude it is measured along [deg] (pyproj.Geod, WGS84)."""
     y0 = south + 0.07 * (north - south)
     width_m = g.line_length([west, 0.5 * (west + east), east], [y0] * 3)
     target = 0.32 * width_m
     exponent = math.floor(math.log10(target))
     nice = max(v * 10 ** exponent for v in (1, 2, 5) if v * 10 ** exponent <= target)
-    length_deg = (g.fwd(west, y0, 90.0, nice)[0] - west) % 360.0
-    x0 = east - 0.12 * (east - west) - length_deg if right else west + 0.06 * (east - west)
+    return nice, (g.fwd(west, y0, 90.0, nice)[0] - west) % 360.0, y0
+
+
+def scale_bar(ax, g, west, east, south, north, right: bool = False, height_frac: float = 0.018,
+              left_frac: float | None = None) -> list:
+    """Scale bar along the parallel in a lower corner; lengths from pyproj.Geod (WGS84).
+
+    The bar is a 1-2-5 length about a third of the map's width, drawn as a
+    black and a white half (gid ``scale-bar``), ``height_frac`` of the map's
+    height, on a white backing (gid ``scale-bar-backing``) with its numbers
+    and unit (gid ``scale-bar``), in the lower left or right corner, or
+    with its left end at ``left_frac`` of the map's width.  Returns all its
+    artists.
+    """
+    from matplotlib.patches import Rectangle
+
+    nice, length_deg, y0 = bar_length(g, west, east, south, north)
+    if left_frac is not None:           # the bar's left end at this fraction of the map's width
+        x0 = west + left_frac * (east - west)
+    else:
+        x0 = east - 0.12 * (east - west) - length_deg if right else west + 0.06 * (east - west)
     x1 = x0 + length_deg
     h = height_frac * (north - south)
     xm = 0.5 * (x0 + x1)
