@@ -264,3 +264,30 @@ def test_hostile_site_name_stays_escaped_text(tmp_path):
     write_network_figure(network_report(sites, [("Cairnfell Beacon", evil, 3.0, None)]), out, dpi=40)
     assert any(evil in t for t in _svg_texts(out))
     assert "<b>" not in out.read_text(encoding="utf-8")
+
+
+def test_site_names_clear_of_north_arrow_and_scale_bar():
+    """Nodes at the four corners of the map: no name shares area with the north arrow or the scale bar."""
+    from matplotlib.transforms import Bbox
+
+    corners = [(f"Corner farm {k}", (lat, lon), "node") for k, (lat, lon) in
+               enumerate(((-30.03, -19.985), (-30.03, -19.765), (-29.82, -19.985), (-29.82, -19.765)))]
+    links = [("Cairnfell Beacon", name, 12.0, None) for name, _, _ in corners]
+    fig = build_network_figure(network_report(SITES[:1] + corners, links), dem_paths=None)
+    ax = _map_axes(fig)
+    fig.canvas.draw()
+    renderer = fig.canvas.get_renderer()
+    furniture = []
+    for gid in ("north-arrow", "scale-bar"):
+        parts = [a for a in ax.get_children() if (a.get_gid() or "").startswith(gid)]
+        extents = [a.get_window_extent(renderer) for a in parts]
+        extents += [a.arrow_patch.get_window_extent(renderer) for a in parts if getattr(a, "arrow_patch", None)]
+        furniture.append(Bbox.union(extents))
+    labels = [t for t in ax.texts if t.get_text().startswith(("Corner", "Cairnfell"))]
+    assert len(labels) == 5
+    for label in labels:
+        box = label.get_window_extent(renderer)
+        for other in furniture:
+            shared = max(0.0, min(box.x1, other.x1) - max(box.x0, other.x0)) * max(0.0, min(box.y1, other.y1)
+                                                                                 - max(box.y0, other.y0))
+            assert shared == 0.0

@@ -64,7 +64,7 @@ LINK_FINITE = ("distance_m", "frequency_mhz", "k_factor", "elevation_angle_a_deg
                "budget.rx_power_dbm", "budget.sensitivity_dbm", "budget.margin_db")
 
 
-def link_outputs(json_path, csv_path, geojson_path, kml_path, plot_path, paper="a4", dpi=200, dem_paths=(), *,
+def link_outputs(json_path, csv_path, geojson_path, kml_path, plot_path, paper="a4", dpi=150, dem_paths=(), *,
                  report_path=None, record=None):
     """The outputs of ``profiler link`` for :func:`profiler.outputs.write_outputs`.
 

@@ -228,7 +228,7 @@ def plot_options(f):
                      help="Write a figure: .png, .pdf or .svg."),
         click.option("--paper", type=click.Choice(["a4", "letter"]), default="a4", show_default=True,
                      help="Paper size of the figure (landscape)."),
-        click.option("--dpi", type=INTEGER, default=200, show_default=True,
+        click.option("--dpi", type=INTEGER, default=150, show_default=True,
                      help="Resolution of a PNG figure [dots per inch]."),
     ])(f)
 

@@ -14,7 +14,8 @@ The usual order::
     caption = hillshade(ax, dem_paths, ext) # rasterized relief
     ... draw the content ...
     finish_map(ax, ext)                     # limits, aspect applied
-    place_furniture(ax, ext, points, boxes) # north arrow and scale bar where least in the way
+    furniture = place_furniture(ax, ext, points, reserved)  # north arrow and scale bar where least in the way
+    ... labels scored with label_score(box, points, taken, furniture) ...
 
 matplotlib and pyproj are imported inside the functions.
 """
@@ -188,11 +189,15 @@ def overlap(a, b) -> float:
 
 
 # --------------------------------------------------------------------------- map furniture
-def place_furniture(ax, ext: MapExtent, points: np.ndarray, boxes=()) -> None:
-    """North arrow and scale bar in the corners least covered by ``points`` and label ``boxes``.
+def place_furniture(ax, ext: MapExtent, points: np.ndarray, boxes=(), renderer=None) -> list:
+    """North arrow and scale bar in the corners least covered by ``points`` and ``boxes``; their boxes.
 
-    ``points`` (N x 2) and ``boxes`` (matplotlib ``Bbox``) are in axes
-    fractions.  Degree ticks go on the frame.
+    ``points`` (N x 2) and ``boxes`` (matplotlib ``Bbox``: labels already
+    placed, or room kept around markers still to be labelled) are in axes
+    fractions.  Degree ticks go on the frame.  Returns the bounding boxes of
+    the north arrow and of the scale bar in axes fractions (measured with
+    ``renderer``, default the figure's), so that labels placed afterwards
+    can keep clear of them (:func:`label_score`).
     """
     from matplotlib.transforms import Bbox
 
@@ -202,50 +207,105 @@ def place_furniture(ax, ext: MapExtent, points: np.ndarray, boxes=()) -> None:
 
     height_in = ax.get_window_extent().height / ax.figure.dpi       # furniture keeps its size on a big map
     arrow_x = min((0.92, 0.08), key=lambda x: crowding(x - 0.06, 0.74, x + 0.06, 0.98))
-    north_arrow(ax, halo(), arrow_x, length=min(0.15, 0.38 / height_in))
-    bar_right = crowding(0.02, 0.02, 0.5, 0.18) > crowding(0.5, 0.02, 0.98, 0.18)
-    scale_bar(ax, geod(), ext.west, ext.east, ext.south, ext.north, bar_right,
-              height_frac=min(0.018, 0.045 / height_in))
+    arrow = north_arrow(ax, halo(), arrow_x, length=min(0.15, 0.38 / height_in))
+    g = geod()
+    bar_w = bar_length(g, ext.west, ext.east, ext.south, ext.north)[1] / (ext.east - ext.west)
+    lefts = (0.06, 0.5 - 0.5 * bar_w, 0.88 - bar_w)                 # left, middle, right
+    bar_left = min(lefts, key=lambda x: crowding(x - 0.04, 0.02, x + bar_w + 0.1, 0.18))
+    bar = scale_bar(ax, g, ext.west, ext.east, ext.south, ext.north, height_frac=min(0.018, 0.045 / height_in),
+                    left_frac=bar_left)
     degree_ticks(ax, ext.west, ext.east, ext.south, ext.north)
+    renderer = renderer or ax.figure.canvas.get_renderer()
+    return [artists_box(ax, artists, renderer) for artists in (arrow, bar)]
 
 
-def north_arrow(ax, path_effects, x: float, length: float = 0.15) -> None:
-    """North arrow at axes-fraction ``x``, ``length`` axes fractions long (the map is drawn north up)."""
-    ax.annotate("", xy=(x, 0.95), xytext=(x, 0.95 - length), xycoords="axes fraction", zorder=8,
-                arrowprops=dict(arrowstyle="-|>,head_length=0.8,head_width=0.35", lw=1.4, color="black",
-                                shrinkA=0, shrinkB=0))
-    put_text(ax, x, 0.935 - length, "N", transform=ax.transAxes, ha="center", va="top", fontsize=8,
-             fontweight="bold", zorder=8, path_effects=path_effects)
+def artists_box(ax, artists, renderer):
+    """The union of the drawn extents of ``artists`` (an annotation's arrow included) in axes fractions."""
+    from matplotlib.transforms import Bbox
+
+    extents = []
+    for artist in artists:
+        extents.append(artist.get_window_extent(renderer))
+        patch = getattr(artist, "arrow_patch", None)
+        if patch is not None:
+            extents.append(patch.get_window_extent(renderer))
+    return Bbox.union(extents).transformed(ax.transAxes.inverted())
 
 
-def scale_bar(ax, g, west, east, south, north, right: bool = False, height_frac: float = 0.018) -> None:
-    """Scale bar along the parallel in a lower corner; lengths from pyproj.Geod (WGS84).
+def label_score(box, points, taken=(), furniture=(), moved_pt: float = 0.0) -> float:
+    """How much a candidate label ``box`` (axes fractions) is in the way; lower is better.
 
-    The bar is a 1-2-5 length about a third of the map's width, drawn as a
-    black and a white half, ``height_frac`` of the map's height; both
-    halves carry the gid ``scale-bar``.
+    Sums the fraction of ``points`` it covers, the share of its area over
+    other labels (``taken``) and, weighted most (any contact costs more
+    than all the rest), over the map furniture (``furniture``: north arrow,
+    scale bar, each padded by 0.6 % of the axes), plus the shift [pt] that
+    :func:`keep_inside` needed to keep it within the frame.
     """
-    from matplotlib.patches import Rectangle
+    area = max(box.width * box.height, 1e-9)
+    covered = sum(overlap(box, other) for other in taken) / area
+    pad = 0.006                    # a gap of about 2 pt to the furniture on a small map
+    blocked = sum(overlap(box, other.padded(pad)) for other in furniture) / area
+    return points_in(points, box) + 20.0 * covered + (10.0 + 200.0 * blocked if blocked else 0.0) + moved_pt / 30.0
 
+
+def north_arrow(ax, path_effects, x: float, length: float = 0.15) -> list:
+    """North arrow at axes-fraction ``x``, ``length`` axes fractions long (the map is drawn north up).
+
+    Returns its artists (gid ``north-arrow``).
+    """
+    arrow = ax.annotate("", xy=(x, 0.95), xytext=(x, 0.95 - length), xycoords="axes fraction", zorder=8,
+                        arrowprops=dict(arrowstyle="-|>,head_length=0.8,head_width=0.35", lw=1.4, color="black",
+                                        shrinkA=0, shrinkB=0), gid="north-arrow")
+    letter = put_text(ax, x, 0.935 - length, "N", transform=ax.transAxes, ha="center", va="top", fontsize=8,
+                      fontweight="bold", zorder=8, path_effects=path_effects, gid="north-arrow")
+    return [arrow, letter]
+
+
+def bar_length(g, west, east, south, north) -> tuple[float, float, float]:
+    """The scale bar's length: a 1-2-5 value about a third of the map's width [m], the same in
+    longitude [deg], and the latitude it is measured along [deg] (pyproj.Geod, WGS84)."""
     y0 = south + 0.07 * (north - south)
     width_m = g.line_length([west, 0.5 * (west + east), east], [y0] * 3)
     target = 0.32 * width_m
     exponent = math.floor(math.log10(target))
     nice = max(v * 10 ** exponent for v in (1, 2, 5) if v * 10 ** exponent <= target)
-    length_deg = (g.fwd(west, y0, 90.0, nice)[0] - west) % 360.0
-    x0 = east - 0.12 * (east - west) - length_deg if right else west + 0.06 * (east - west)
+    return nice, (g.fwd(west, y0, 90.0, nice)[0] - west) % 360.0, y0
+
+
+def scale_bar(ax, g, west, east, south, north, right: bool = False, height_frac: float = 0.018,
+              left_frac: float | None = None) -> list:
+    """Scale bar along the parallel in a lower corner; lengths from pyproj.Geod (WGS84).
+
+    The bar is a 1-2-5 length about a third of the map's width, drawn as a
+    black and a white half (gid ``scale-bar``), ``height_frac`` of the map's
+    height, on a white backing (gid ``scale-bar-backing``) with its numbers
+    and unit (gid ``scale-bar``), in the lower left or right corner, or
+    with its left end at ``left_frac`` of the map's width.  Returns all its
+    artists.
+    """
+    from matplotlib.patches import Rectangle
+
+    nice, length_deg, y0 = bar_length(g, west, east, south, north)
+    if left_frac is not None:           # the bar's left end at this fraction of the map's width
+        x0 = west + left_frac * (east - west)
+    else:
+        x0 = east - 0.12 * (east - west) - length_deg if right else west + 0.06 * (east - west)
     x1 = x0 + length_deg
     h = height_frac * (north - south)
     xm = 0.5 * (x0 + x1)
-    ax.add_patch(Rectangle((x0 - 0.02 * (east - west), y0 - 2.6 * h), (x1 - x0) + 0.09 * (east - west),
-                           6.4 * h, fc="white", ec="none", alpha=0.8, zorder=7))
+    artists = [ax.add_patch(Rectangle((x0 - 0.02 * (east - west), y0 - 2.6 * h), (x1 - x0) + 0.09 * (east - west),
+                                      6.4 * h, fc="white", ec="none", alpha=0.8, zorder=7,
+                                      gid="scale-bar-backing"))]
     for left, right_x, face in ((x0, xm, "black"), (xm, x1, "white")):
-        ax.add_patch(Rectangle((left, y0), right_x - left, h, fc=face, ec="black", lw=0.6, zorder=8,
-                               gid="scale-bar"))
+        artists.append(ax.add_patch(Rectangle((left, y0), right_x - left, h, fc=face, ec="black", lw=0.6, zorder=8,
+                                              gid="scale-bar")))
     unit, scale = ("km", 1000.0) if nice >= 1000 else ("m", 1.0)
     for x, value in ((x0, 0.0), (x1, nice / scale)):
-        put_text(ax, x, y0 + 1.6 * h, f"{value:g}", ha="center", va="bottom", fontsize=6.2, zorder=8)
-    put_text(ax, x1 + 0.012 * (east - west), y0 + 0.5 * h, unit, ha="left", va="center", fontsize=6.2, zorder=8)
+        artists.append(put_text(ax, x, y0 + 1.6 * h, f"{value:g}", ha="center", va="bottom", fontsize=6.2, zorder=8,
+                                gid="scale-bar"))
+    artists.append(put_text(ax, x1 + 0.012 * (east - west), y0 + 0.5 * h, unit, ha="left", va="center",
+                            fontsize=6.2, zorder=8, gid="scale-bar"))
+    return artists
 
 
 def degree_ticks(ax, west, east, south, north) -> None:

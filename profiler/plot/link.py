@@ -27,7 +27,7 @@ from ..report import verdict
 from . import basemap
 from .titleblock import draw_notes, draw_title_box, provenance_lines, title_block_rows
 from .sheet import (BADGE_BAD, BADGE_GOOD, BADGE_WARN, DASH, EN, MIDDOT, arr, clean, dms, draw_tables,
-                    draw_title_block, fit, fraction, inch_axes, k_text, km, nanmax, new_sheet, num,
+                    draw_title_block, figure_format, fit, fraction, inch_axes, k_text, km, nanmax, new_sheet, num,
                     site_name, source_text, style, write_sheet)
 from .link_tables import bearing_lines, declination_text, exposure_line, radio_block
 from .profile_panel import draw_profile
@@ -36,7 +36,7 @@ __all__ = ["build_link_figure", "write_link_figure"]
 
 
 # --------------------------------------------------------------------------- public API
-def write_link_figure(report: dict, path, paper: str = "a4", dpi: float = 200,
+def write_link_figure(report: dict, path, paper: str = "a4", dpi: float = 150,
                       dem_paths=None, *, date_text: str | None = None, sheet_no: int = 1,
                       sheet_count: int = 1) -> None:
     """Draw the link sheet and write it to ``path`` (PNG, PDF or SVG by extension).
@@ -53,7 +53,7 @@ def write_link_figure(report: dict, path, paper: str = "a4", dpi: float = 200,
         Landscape paper size: A4 297 mm x 210 mm or letter 11 in x 8.5 in.
     dpi : float
         Resolution [dots per inch] of a PNG and of the hillshade embedded in
-        a PDF or SVG.
+        a PDF or SVG; 150 dpi keeps 6 pt text legible on A4.
     dem_paths : list of str or os.PathLike, optional
         Elevation files or folders for the locator hillshade; none (or a
         surveyed profile) draws the panel with a note instead of a map.
@@ -70,16 +70,20 @@ def write_link_figure(report: dict, path, paper: str = "a4", dpi: float = 200,
         folder or a write error.
     """
     title = f"Radio path profile: {site_name(report['site_a'])} {EN} {site_name(report['site_b'])}"
+    # A PNG is built at its own resolution (text measured once, canvas reused when saving); PDF and
+    # SVG text is not rasterized, so it is measured at 100 dpi as before.
+    build_dpi = float(dpi) if figure_format(path) == "png" else 100.0
     write_sheet(path, paper, dpi, lambda: build_link_figure(report, paper=paper, dem_paths=dem_paths,
                                                             date_text=date_text, sheet_no=sheet_no,
-                                                            sheet_count=sheet_count), title, report)
+                                                            sheet_count=sheet_count, dpi=build_dpi), title, report)
 
 
 def build_link_figure(report: dict, paper: str = "a4", dem_paths=None, *, date_text: str | None = None,
-                      sheet_no: int = 1, sheet_count: int = 1):
+                      sheet_no: int = 1, sheet_count: int = 1, dpi: float = 100.0):
     """Build the link sheet as a :class:`matplotlib.figure.Figure` (Agg canvas).
 
-    Parameters are those of :func:`write_link_figure`.  The figure is not
+    Parameters are those of :func:`write_link_figure`; ``dpi`` [dots per
+    inch] is the figure's resolution, best the one it will be saved at.  The figure is not
     attached to pyplot; save it with ``fig.savefig(...)`` inside
     :func:`profiler.plot.sheet.style` for output identical to
     :func:`write_link_figure`.
@@ -89,7 +93,7 @@ def build_link_figure(report: dict, paper: str = "a4", dem_paths=None, *, date_t
     matplotlib.figure.Figure
     """
     with style():
-        fig, renderer, width_in, height_in = new_sheet(paper)
+        fig, renderer, width_in, height_in = new_sheet(paper, dpi)
         boxes = _layout(width_in, height_in)
         _draw_header(inch_axes(fig, boxes["header"], width_in, height_in), report, renderer)
         profile_ax = fig.add_axes(fraction(boxes["profile"], width_in, height_in))
@@ -204,8 +208,17 @@ def _draw_locator(ax, report: dict, dem_paths, renderer) -> None:
     basemap.finish_map(ax, ext)
     to_axes = ax.transData + ax.transAxes.inverted()
     points = to_axes.transform(np.column_stack([lon, lat])[:: max(1, lon.size // 400)])
-    boxes = _label_sites(ax, report, lon, lat, ext, points, renderer)
-    basemap.place_furniture(ax, ext, points, boxes)
+    # The furniture first, kept off the path and off the room around the sites; then the labels, kept
+    # off the furniture, the path and the frame.
+    furniture = basemap.place_furniture(ax, ext, points, _site_room(points), renderer)
+    _label_sites(ax, report, lon, lat, ext, points, renderer, furniture)
+
+
+def _site_room(points) -> list:
+    """Room [axes fractions] around both site markers for their labels (kept free of the furniture)."""
+    from matplotlib.transforms import Bbox
+
+    return [Bbox([[x - 0.2, y - 0.08], [x + 0.2, y + 0.08]]) for x, y in (points[0], points[-1])]
 
 
 def _draw_path(ax, report: dict, lon, lat) -> None:
@@ -225,12 +238,14 @@ def _draw_path(ax, report: dict, lon, lat) -> None:
     worst = report.get("worst") or {}
     if worst.get("lon_deg") is not None:
         wl = lon[int(np.argmin(np.abs(arr(prof["distance_m"]) - worst["distance_m"])))]
-        ax.plot(wl, worst["lat_deg"], marker="X", ms=7, mfc="white", mec="black", mew=0.9, zorder=6)
+        # smaller than the site markers and under them: it never hides a site
+        ax.plot(wl, worst["lat_deg"], marker="X", ms=6, mfc="white", mec="black", mew=0.9, zorder=6)
 
 
-def _label_sites(ax, report: dict, lon, lat, ext, points, renderer) -> list:
-    """Site labels: of eight places around each marker, the one least in the way of the path,
-    the other label and the frame; first choice on opposite sides of the path.  Returns their boxes."""
+def _label_sites(ax, report: dict, lon, lat, ext, points, renderer, furniture=()) -> list:
+    """Site labels: of sixteen places around each marker (eight directions, two distances), the one least in the way of the furniture, the
+    path, the other label and the frame (:func:`basemap.label_score`); first choice on opposite sides of
+    the path; always inside the frame.  Returns their boxes [axes fractions]."""
     ux, uy = (lon[-1] - lon[0]) * ext.m_lon, (lat[-1] - lat[0]) * ext.m_lat
     norm = math.hypot(ux, uy) or 1.0
     nx_, ny_ = -uy / norm, ux / norm
@@ -243,25 +258,28 @@ def _label_sites(ax, report: dict, lon, lat, ext, points, renderer) -> list:
             name = name[:25].rstrip() + "\u2026"
         first = math.atan2(sign * ny_, sign * nx_)
         best = None
-        for step in range(8):
-            angle = first + ((step + 1) // 2) * (math.pi / 4) * (1 if step % 2 else -1)
+        for step in range(16):       # eight directions at 8 pt from the marker, then at 16 pt
+            angle = first + (((step % 8) + 1) // 2) * (math.pi / 4) * (1 if step % 2 else -1)
             ox, oy = math.cos(angle), math.sin(angle)
-            label = ax.annotate(f"{key.upper()} {name}", xy=(x, y), xytext=(8 * ox, 8 * oy),
+            offset = 8.0 if step < 8 else 16.0
+            label = ax.annotate(f"{key.upper()} {name}", xy=(x, y), xytext=(offset * ox, offset * oy),
                                 textcoords="offset points",
                                 ha="left" if ox > 0.38 else ("right" if ox < -0.38 else "center"),
                                 va="bottom" if oy > 0.38 else ("top" if oy < -0.38 else "center"),
                                 fontsize=6.8, fontweight="bold", zorder=8, parse_math=False,
-                                path_effects=basemap.halo(2.6))
+                                path_effects=basemap.halo(2.6), gid=f"site-label-{key}")
             moved = basemap.keep_inside(label, ax, renderer)
             box = label.get_window_extent(renderer).transformed(ax.transAxes.inverted())
-            covered = sum(basemap.overlap(box, other) for other in boxes) / max(box.width * box.height, 1e-9)
-            score = basemap.points_in(points, box) + 20.0 * covered + moved / 30.0 + 0.02 * step
+            clash = basemap.label_score(box, points, boxes, furniture, moved)
+            score = clash + 0.02 * step
             if best is None or score < best[0]:
                 if best is not None:
                     best[1].remove()
                 best = (score, label, box)
             else:
                 label.remove()
+            if clash == 0.0 or (step == 7 and best[0] < 10.0):   # free, or no contact: look no further
+                break
         boxes.append(best[2])
     return boxes
 

@@ -215,18 +215,24 @@ def _draw_map(ax, report, sites, status, dem_paths, highlight, marked, renderer)
     segments = _draw_links(ax, report, sites, status)
     _draw_sites(ax, sites, highlight, marked)
     basemap.finish_map(ax, ext)
-    label_boxes, omitted = _label_sites(ax, sites, highlight, marked, renderer)
-    if omitted:
-        caption += f"  {MIDDOT}  {omitted} of {len(sites['name'])} site names left out (crowded)"
-    ax.annotate(f"{caption}  {MIDDOT}  links drawn as straight lines between sites", xy=(0.5, 0.0),
-                xycoords="axes fraction", xytext=(0.0, -13.0), textcoords="offset points", ha="center", va="top",
-                fontsize=6.2, color="0.25", parse_math=False)
     to_axes = ax.transData + ax.transAxes.inverted()
     t = np.linspace(0.0, 1.0, 12)[:, None, None]
     along = (segments[:, 0][None] * (1 - t) + segments[:, 1][None] * t).reshape(-1, 2) if len(segments) else []
     points = to_axes.transform(np.vstack([np.column_stack([sites["lon"], sites["lat"]])] +
                                          ([along] if len(along) else [])))
-    basemap.place_furniture(ax, ext, points, label_boxes)
+    # The furniture first, where fewest sites (and the room for their names) and links are; then the
+    # names, clear of it.
+    from matplotlib.transforms import Bbox
+
+    n_sites = len(sites["name"])
+    room = [Bbox([[x - 0.08, y - 0.04], [x + 0.08, y + 0.04]]) for x, y in points[:n_sites]]
+    furniture = basemap.place_furniture(ax, ext, points, room, renderer)
+    _, omitted = _label_sites(ax, sites, highlight, marked, renderer, furniture)
+    if omitted:
+        caption += f"  {MIDDOT}  {omitted} of {len(sites['name'])} site names left out (crowded)"
+    ax.annotate(f"{caption}  {MIDDOT}  links drawn as straight lines between sites", xy=(0.5, 0.0),
+                xycoords="axes fraction", xytext=(0.0, -13.0), textcoords="offset points", ha="center", va="top",
+                fontsize=6.2, color="0.25", parse_math=False)
 
 
 def _draw_links(ax, report, sites, status) -> np.ndarray:
@@ -281,8 +287,9 @@ def _label_order(sites, highlight, marked) -> list[int]:
     return [i for i in order if rank[i] < 3] + nodes[:MAX_NODE_LABELS]
 
 
-def _label_sites(ax, sites, highlight, marked, renderer):
-    """Name the sites where a label fits clear of markers and other labels (else abbreviated, else left out).
+def _label_sites(ax, sites, highlight, marked, renderer, furniture=()):
+    """Name the sites where a label fits clear of markers, other labels and the ``furniture`` (north
+    arrow and scale bar boxes [axes fractions]), else abbreviated, else left out.
 
     Returns the label boxes (axes fraction) and the number of sites left unnamed.  The labels sit
     on a translucent white box rather than a stroked halo, so that they stay text in SVG and PDF.
@@ -294,6 +301,7 @@ def _label_sites(ax, sites, highlight, marked, renderer):
     frame = ax.get_window_extent(renderer)
     half = _marker_half_px(sites, highlight, marked, dpi)
     taken = [Bbox.from_extents(x - r, y - r, x + r, y + r) for (x, y), r in zip(xy, half)]     # the markers
+    taken += [box.transformed(ax.transAxes) for box in furniture]
     placed, order = [], _label_order(sites, highlight, marked)
     for i in order:
         strong = sites["role"][i] != "node"

@@ -169,13 +169,18 @@ def style():
     return stack
 
 
-def new_sheet(paper: str):
-    """A framed landscape sheet: ``(fig, renderer, width_in, height_in)``; call inside :func:`style`."""
+def new_sheet(paper: str, dpi: float = 100.0):
+    """A framed landscape sheet: ``(fig, renderer, width_in, height_in)``; call inside :func:`style`.
+
+    ``dpi`` [dots per inch] should be the resolution the sheet is saved at:
+    the text measured while building is then laid out at that resolution
+    already, and saving reuses the measurements and the canvas.
+    """
     from matplotlib.backends.backend_agg import FigureCanvasAgg
     from matplotlib.figure import Figure
 
     width_in, height_in = paper_size_in(paper)
-    fig = Figure(figsize=(width_in, height_in), dpi=100)
+    fig = Figure(figsize=(width_in, height_in), dpi=dpi)
     FigureCanvasAgg(fig)
     draw_frame(fig, width_in, height_in)
     return fig, fig.canvas.get_renderer(), width_in, height_in
