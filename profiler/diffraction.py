@@ -321,7 +321,7 @@ def _paths(d_km, h, n, ae_km):
     di = np.where(interior, d_km, 1.0)
     dd = np.where(interior, d_total[:, None] - d_km, 1.0)
     ae = np.asarray(ae_km, dtype=float).reshape(-1, 1) if np.ndim(ae_km) else ae_km
-    bulge = np.where(interior, (500.0 / ae) * di * dd, 0.0)
+    bulge = np.where(interior, bulge_km_term(di, dd, ae), 0.0)
     return _Paths(d_km, np.where(valid, h, 0.0), n, d_total, interior, di, dd, bulge, h[:, 0], h[rows, n - 1])
 
 
@@ -333,68 +333,181 @@ def _col(x):
     return np.asarray(x, dtype=float).reshape(-1, 1) if np.ndim(x) else float(x)
 
 
-def _v_profile(p: _Paths, hc, hts, hrs, wavelength_m):
-    """Diffraction parameter of every interior sample, P.452-18 eq. (16) [-]."""
-    d = p.d_total[:, None]
-    return (hc - (_col(hts) * p.dd + _col(hrs) * p.di) / d) * np.sqrt(
-        0.002 * d / (_col(wavelength_m) * p.di * p.dd))
+# ---------------------------------------------------------------------------
+# Elementwise terms of one interior sample (plain arithmetic on arrays or
+# floats).  The numpy reductions below and the numba kernel of
+# profiler.prefix_kernel (coverage) use these same functions.
+# ---------------------------------------------------------------------------
+
+def bulge_km_term(di_km, dd_km, ae_km):
+    """Earth-curvature term 500 C_e d_i (d - d_i) of P.452-18 eq. (14) [m] (C_e = 1 / a_e [1/km])."""
+    return (500.0 / ae_km) * di_km * dd_km
 
 
-def _bullington_batch(p: _Paths, hc, hts, hrs, wavelength_m):
-    """Bullington loss of profiles whose interior heights + bulge are ``hc`` (L, N).
+def slope_term(hc_m, h_end_m, distance_km):
+    """Slope from an antenna to an interior point, P.452-18 eqs. (14), (18) [m/km]."""
+    return (hc_m - h_end_m) / distance_km
 
-    Returns (Lbull [dB], v of the Bullington point [-], trans_horizon, v_max of the
-    LoS form), each of shape (L,).
+
+def obstacle_term(h_m, hts_m, hrs_m, di_km, dd_km, d_km):
+    """Height above the straight antenna-to-antenna line, P.452-18 eq. (165d) [m]."""
+    return h_m - (hts_m * dd_km + hrs_m * di_km) / d_km
+
+
+def v_unit_term(hc_m, hts_m, hrs_m, di_km, dd_km, d_km):
+    """Diffraction parameter of P.452-18 eq. (16) times sqrt(wavelength) [m^0.5].
+
+    v = v_unit / sqrt(lambda [m]); the wavelength is a common factor of every
+    sample, so the reductions (maximum, its index) do not depend on it.
     """
-    hts = np.broadcast_to(np.asarray(hts, dtype=float), p.d_total.shape)
-    hrs = np.broadcast_to(np.asarray(hrs, dtype=float), p.d_total.shape)
-    d = p.d_total
-    stim = _masked_max((hc - hts[:, None]) / p.di, p.interior)                  # eq. (14) [m/km]
+    return obstacle_term(hc_m, hts_m, hrs_m, di_km, dd_km, d_km) * np.sqrt(0.002 * d_km / (di_km * dd_km))
+
+
+def smooth_sum_terms(seg_km, d0_km, d1_km, h0_m, h1_m):
+    """The summands of one profile segment in P.452-18 eqs. (161) and (162): (v1 term, v2 term)."""
+    return seg_km * (h1_m + h0_m), seg_km * (h1_m * (2.0 * d1_km + d0_km) + h0_m * (d1_km + 2.0 * d0_km))
+
+
+# ---------------------------------------------------------------------------
+# Reductions over the interior samples (numpy) and the per-link finish
+# ---------------------------------------------------------------------------
+
+def _numpy_reducer(p: _Paths, ae_km):
+    """The reduction of one Bullington pass over padded profiles (see :func:`diffraction_reductions`)."""
+
+    def reduce(actual, hts, hrs):
+        hc = np.where(p.interior, p.h + p.bulge, 0.0) if actual else p.bulge
+        d = p.d_total[:, None]
+        v = np.where(p.interior, v_unit_term(hc, _col(hts), _col(hrs), p.di, p.dd, d), -np.inf)
+        out = {"stim": _masked_max(slope_term(hc, _col(hts), p.di), p.interior),      # eq. (14)
+               "srim": _masked_max(slope_term(hc, _col(hrs), p.dd), p.interior),      # eq. (18)
+               "v_unit": np.max(v, axis=1), "v_index": np.argmax(v, axis=1)}           # eq. (16)
+        if actual:
+            cols = np.arange(p.d_km.shape[1] - 1)
+            seg_ok = cols[None, :] < (p.n - 1)[:, None]
+            seg = np.where(seg_ok, np.diff(p.d_km, axis=1), 0.0)
+            t1, t2 = smooth_sum_terms(seg, p.d_km[:, :-1], p.d_km[:, 1:], p.h[:, :-1], p.h[:, 1:])
+            big_h = obstacle_term(p.h, _col(hts), _col(hrs), p.di, p.dd, d)          # eq. (165d)
+            out.update(v1=np.sum(t1, axis=1), v2=np.sum(t2, axis=1),                  # eqs. (161), (162)
+                       hobs=_masked_max(big_h, p.interior),                           # eq. (165a)
+                       alpha_obt=_masked_max(big_h / p.di, p.interior),               # eq. (165b)
+                       alpha_obr=_masked_max(big_h / p.dd, p.interior))               # eq. (165c)
+        return out
+
+    return reduce
+
+
+def _bullington_finish(stim, srim, v_los, d, hts, hrs, wavelength_m):
+    """Bullington loss from the reductions of one pass: (Lbull [dB], v [-], trans_horizon), each (L,).
+
+    ``v_los`` is the largest v of eq. (16) [-]; P.452-18 eqs. (15), (17), (19)-(22).
+    """
     s_tr = (hrs - hts) / d                                                       # eq. (15) [m/km]
-    srim = _masked_max((hc - hrs[:, None]) / p.dd, p.interior)                  # eq. (18)
-    v_los = _masked_max(_v_profile(p, hc, hts, hrs, wavelength_m), p.interior)  # eq. (16)
     # Case 1 (LoS) also catches an edge exactly grazing the line, where eq. (19) is 0/0.
     los = (stim < s_tr) | (stim + srim <= 0.0)
     with np.errstate(divide="ignore", invalid="ignore"):
         dbp = (hrs - hts + srim * d) / np.where(los, 1.0, stim + srim)          # eq. (19) [km]
         v_th = ((hts + stim * dbp - (hts * (d - dbp) + hrs * dbp) / d)
-                * np.sqrt(0.002 * d / (np.asarray(wavelength_m, dtype=float) * dbp * (d - dbp))))  # eq. (20)
+                * np.sqrt(0.002 * d / (wavelength_m * dbp * (d - dbp))))        # eq. (20)
     v = np.where(los, v_los, v_th)
     luc = j_knife_edge_db(v)                                                     # eqs. (17) / (21)
     lbull = luc + (1.0 - np.exp(-luc / 6.0)) * (10.0 + 0.02 * d)                # eq. (22)
-    return lbull, v, ~los, v_los
+    return lbull, v, ~los
 
 
-def _smooth_heights_batch(p: _Paths, hts, hrs):
-    """(hst, hsr, hstd, hsrd) [m amsl], each (L,): P.452-18 Attachment 2 eqs. (161)-(167)."""
-    d_total = p.d_total
-    cols = np.arange(p.d_km.shape[1] - 1)
-    seg_ok = cols[None, :] < (p.n - 1)[:, None]
-    seg = np.where(seg_ok, np.diff(p.d_km, axis=1), 0.0)
-    d0, d1 = p.d_km[:, :-1], p.d_km[:, 1:]
-    h0, h1 = p.h[:, :-1], p.h[:, 1:]
-    v1 = np.sum(seg * (h1 + h0), axis=1)                                        # eq. (161)
-    v2 = np.sum(seg * (h1 * (2.0 * d1 + d0) + h0 * (d1 + 2.0 * d0)), axis=1)    # eq. (162)
+def _smooth_finish(v1, v2, hobs, alpha_obt, alpha_obr, d_total, h_first, h_last):
+    """(hst, hsr, hstd, hsrd) [m amsl] from the sums and obstacle maxima: P.452-18 eqs. (163)-(167)."""
     hst = (2.0 * v1 * d_total - v2) / d_total ** 2                              # eq. (163)
     hsr = (v2 - v1 * d_total) / d_total ** 2                                    # eq. (164)
-    big_h = p.h - (_col(hts) * p.dd + _col(hrs) * p.di) / d_total[:, None]      # eq. (165d)
-    hobs = _masked_max(big_h, p.interior)                                       # eq. (165a)
-    alpha_obt = _masked_max(big_h / p.di, p.interior)                           # eq. (165b)
-    alpha_obr = _masked_max(big_h / p.dd, p.interior)                           # eq. (165c)
     with np.errstate(divide="ignore", invalid="ignore"):
         gt = alpha_obt / (alpha_obt + alpha_obr)                                # eq. (166e)
         gr = alpha_obr / (alpha_obt + alpha_obr)                                # eq. (166f)
     obstructed = hobs > 0.0
     hstp = np.where(obstructed, hst - hobs * np.where(obstructed, gt, 0.0), hst)  # eq. (166a, c)
     hsrp = np.where(obstructed, hsr - hobs * np.where(obstructed, gr, 0.0), hsr)  # eq. (166b, d)
-    hstd = np.minimum(hstp, p.h_first)                                          # eq. (167a, b)
-    hsrd = np.minimum(hsrp, p.h_last)                                           # eq. (167c, d)
+    hstd = np.minimum(hstp, h_first)                                            # eq. (167a, b)
+    hsrd = np.minimum(hsrp, h_last)                                             # eq. (167c, d)
     return hst, hsr, hstd, hsrd
+
+
+def diffraction_reductions(reduce, d_total_km, h_first_m, h_last_m, h_tx_amsl_m, h_rx_amsl_m) -> dict:
+    """Everything of the delta-Bullington model that needs the profile samples, per link.
+
+    Parameters
+    ----------
+    reduce : callable ``(actual, hts, hrs) -> dict``
+        One Bullington pass over the interior samples of every link: with
+        ``actual`` the terrain heights plus the bulge, otherwise the bulge
+        alone (the smooth profile), for antenna heights ``hts``, ``hrs``
+        [m amsl] of shape (L,).  Returns per-link arrays ``stim``, ``srim``
+        (max of :func:`slope_term`), ``v_unit`` (max of :func:`v_unit_term`),
+        ``v_index`` (its sample index) and, with ``actual``, ``v1``, ``v2``
+        (sums of :func:`smooth_sum_terms`), ``hobs``, ``alpha_obt``,
+        ``alpha_obr`` (max of :func:`obstacle_term`, and divided by the
+        distances to A and B).  The numpy reduction of
+        :func:`diffraction_batch` and the numba kernel of
+        :mod:`profiler.prefix_kernel` are two such callables.
+    d_total_km : ndarray, shape (L,)
+        Path lengths [km].
+    h_first_m, h_last_m : ndarray, shape (L,)
+        Ground heights at A and B [m amsl].
+    h_tx_amsl_m, h_rx_amsl_m : ndarray, shape (L,)
+        Antenna heights [m amsl].
+
+    Returns
+    -------
+    dict of ndarray, shape (L,)
+        Independent of the frequency: input of :func:`diffraction_finish`.
+
+    References
+    ----------
+    ITU-R P.452-18 section 4.2 (eqs. 14-18) and Attachment 2 section 5.1.6 (eqs. 161-167).
+    """
+    hts = np.asarray(h_tx_amsl_m, dtype=float)
+    hrs = np.asarray(h_rx_amsl_m, dtype=float)
+    first = reduce(True, hts, hrs)
+    hst, hsr, hstd, hsrd = _smooth_finish(first["v1"], first["v2"], first["hobs"], first["alpha_obt"],
+                                          first["alpha_obr"], d_total_km, h_first_m, h_last_m)
+    hts_mod, hrs_mod = hts - hstd, hrs - hsrd
+    second = reduce(False, hts_mod, hrs_mod)
+    return {"d_total_km": d_total_km, "hts": hts, "hrs": hrs, "stim": first["stim"], "srim": first["srim"],
+            "v_unit": first["v_unit"], "v_index": first["v_index"], "hst": hst, "hsr": hsr, "hstd": hstd,
+            "hsrd": hsrd, "hts_mod": hts_mod, "hrs_mod": hrs_mod, "smooth_stim": second["stim"],
+            "smooth_srim": second["srim"], "smooth_v_unit": second["v_unit"]}
+
+
+def diffraction_finish(reduced, frequency_mhz, effective_radius_m, vertical=True, sea_fraction=0.0) -> dict:
+    """The losses of :func:`diffraction_batch` from :func:`diffraction_reductions` (per-link formulas only).
+
+    References
+    ----------
+    ITU-R P.452-18 section 4.2 (eqs. 13-43); ITU-R P.526-15 sections 4.1 and 4.5.
+    """
+    f_mhz = float(frequency_mhz)
+    wavelength_m = float(_wavelength_m(f_mhz))
+    ae_km = np.asarray(effective_radius_m, dtype=float) * 1e-3
+    r = reduced
+    d, hts, hrs, hts_mod, hrs_mod = r["d_total_km"], r["hts"], r["hrs"], r["hts_mod"], r["hrs_mod"]
+    root = math.sqrt(wavelength_m)
+    v_max = r["v_unit"] / root
+    lbulla, v_bull, trans = _bullington_finish(r["stim"], r["srim"], v_max, d, hts, hrs, wavelength_m)
+    lbulls = _bullington_finish(r["smooth_stim"], r["smooth_srim"], r["smooth_v_unit"] / root, d, hts_mod,
+                                hrs_mod, wavelength_m)[0]
+    ldsph = spherical_earth_db(d, np.maximum(hts_mod, 0.0), np.maximum(hrs_mod, 0.0),
+                               ae_km, f_mhz * 1e-3, wavelength_m, vertical, sea_fraction)
+    return {"knife_edge": j_knife_edge_db(v_max), "knife_edge_index": r["v_index"], "knife_edge_v": v_max,
+            "bullington": lbulla, "bullington_v": v_bull, "trans_horizon": trans,
+            "delta_bullington": lbulla + np.maximum(ldsph - lbulls, 0.0),             # eq. (43)
+            "bullington_smooth": lbulls, "spherical_earth": ldsph, "hst": r["hst"], "hsr": r["hsr"],
+            "hstd": r["hstd"], "hsrd": r["hsrd"], "modified_height_a_m": hts_mod, "modified_height_b_m": hrs_mod}
 
 
 def diffraction_batch(distance_m, height_m, n_samples, h_tx_amsl_m, h_rx_amsl_m, frequency_mhz,
                       effective_radius_m, vertical=True, sea_fraction=0.0) -> dict:
     """Knife-edge, Bullington and delta-Bullington losses of many profiles at once.
+
+    The numpy reduction over the samples (:func:`diffraction_reductions`)
+    followed by the per-link formulas (:func:`diffraction_finish`).
 
     Parameters
     ----------
@@ -429,26 +542,12 @@ def diffraction_batch(distance_m, height_m, n_samples, h_tx_amsl_m, h_rx_amsl_m,
     ITU-R P.452-18 section 4.2 (eqs. 13-43) and Attachment 2 section 5.1.6
     (eqs. 161-167); ITU-R P.526-15 sections 4.1 and 4.5.
     """
-    f_mhz = float(frequency_mhz)
-    wavelength_m = float(_wavelength_m(f_mhz))
     ae_km = np.asarray(effective_radius_m, dtype=float) * 1e-3
     p = _paths(np.asarray(distance_m, dtype=float) * 1e-3, height_m, n_samples, ae_km)
     hts = np.broadcast_to(np.asarray(h_tx_amsl_m, dtype=float), p.d_total.shape)
     hrs = np.broadcast_to(np.asarray(h_rx_amsl_m, dtype=float), p.d_total.shape)
-    hc = np.where(p.interior, p.h + p.bulge, 0.0)
-    lbulla, v_bull, trans, v_max = _bullington_batch(p, hc, hts, hrs, wavelength_m)
-    v_all = np.where(p.interior, _v_profile(p, hc, hts, hrs, wavelength_m), -np.inf)
-    ke_index = np.argmax(v_all, axis=1)
-    hst, hsr, hstd, hsrd = _smooth_heights_batch(p, hts, hrs)
-    hts_mod, hrs_mod = hts - hstd, hrs - hsrd
-    lbulls = _bullington_batch(p, p.bulge, hts_mod, hrs_mod, wavelength_m)[0]
-    ldsph = spherical_earth_db(p.d_total, np.maximum(hts_mod, 0.0), np.maximum(hrs_mod, 0.0),
-                               ae_km, f_mhz * 1e-3, wavelength_m, vertical, sea_fraction)
-    return {"knife_edge": j_knife_edge_db(v_max), "knife_edge_index": ke_index, "knife_edge_v": v_max,
-            "bullington": lbulla, "bullington_v": v_bull, "trans_horizon": trans,
-            "delta_bullington": lbulla + np.maximum(ldsph - lbulls, 0.0),             # eq. (43)
-            "bullington_smooth": lbulls, "spherical_earth": ldsph, "hst": hst, "hsr": hsr,
-            "hstd": hstd, "hsrd": hsrd, "modified_height_a_m": hts_mod, "modified_height_b_m": hrs_mod}
+    reduced = diffraction_reductions(_numpy_reducer(p, ae_km), p.d_total, p.h_first, p.h_last, hts, hrs)
+    return diffraction_finish(reduced, frequency_mhz, effective_radius_m, vertical, sea_fraction)
 
 
 def _one(distance_m, height_m, h_tx_amsl_m, h_rx_amsl_m, frequency_mhz, effective_radius_m,
