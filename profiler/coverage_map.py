@@ -130,8 +130,21 @@ def _overrides(values: dict | None, size: int):
     return {"gateway": {k: np.full(size, float(v)) for k, v in values.items()}}
 
 
-def radial_fields(distance_m, terrain_m, n, mast_m, node_mast_m, settings, overrides=None) -> dict:
-    """Engine results for a node at every sample of every radial (prefix batches in row blocks).
+def kernel_available() -> bool:
+    """True when numba is installed (the optional ``fast`` extra): coverage then runs the compiled kernel."""
+    import importlib.util
+
+    return importlib.util.find_spec("numba") is not None
+
+
+def radial_fields(distance_m, terrain_m, n, mast_m, node_mast_m, settings, overrides=None, kernel=None) -> dict:
+    """Engine results for a node at every sample of every radial (every prefix of a radial is one link).
+
+    The reductions over each link's samples run in the compiled kernel of
+    :mod:`profiler.prefix_kernel` (numba), or without numba (or with
+    ``kernel=False``) through the numpy engine in prefix batches of row
+    blocks; the per-link formulas after them are the same numpy functions
+    either way (:func:`profiler.network_analysis.link_fields`).
 
     Parameters
     ----------
@@ -145,6 +158,8 @@ def radial_fields(distance_m, terrain_m, n, mast_m, node_mast_m, settings, overr
         Band, k, clearance and radio settings.
     overrides : dict, optional
         The site's radio values (``tx_power_dbm``, ``gain_dbi``, ...; NaN: the option).
+    kernel : bool, optional
+        Use the numba kernel; default: when numba is installed.
 
     Returns
     -------
@@ -174,7 +189,11 @@ def radial_fields(distance_m, terrain_m, n, mast_m, node_mast_m, settings, overr
         dd = np.stack([np.zeros_like(d_end), d_end / 2.0, d_end], axis=1)
         tt = np.stack([t0, (t0 + t_end) / 2.0, t_end], axis=1)
         run(r, j, dd, tt, np.full(r.size, 3))
-    if fast:
+    if kernel is None:
+        kernel = kernel_available()
+    if kernel:
+        _kernel_fields(out, d, t, n, mast_m, node_mast_m, settings, overrides, fast)
+    elif fast:
         _fresnel_only(out, d, t, n, mast_m, node_mast_m, settings)
     else:
         for j0, j1 in _blocks(int(n.max(initial=0)), d.shape[0]):
@@ -205,6 +224,46 @@ def _fresnel_only(out, d, t, n, mast_m, node_mast_m, settings) -> None:
             g = geometry_batch(d[r, :j1], t[r, :j1], j + 1, t[r, 0] + mast_m, t[r, j] + node_mast_m, lam, ae,
                                settings.clearance_ratio)
             out["worst_fresnel_ratio"][r, j] = g.worst_ratio
+
+
+def _kernel_fields(out, d, t, n, mast_m, node_mast_m, settings, overrides, fast) -> None:
+    """Links to samples 2 .. n - 1 of every radial: the kernel's reductions, then the numpy finish (fills ``out``)."""
+    from . import prefix_kernel
+    from .bands import wavelength_m
+    from .diffraction import diffraction_reductions, smooth_sum_terms
+    from .network_analysis import link_fields
+
+    lam = float(wavelength_m(settings.frequency_mhz))
+    ae = float(geometry.effective_radius_m(settings.k_factor))
+    cols = np.arange(d.shape[1])[None, :]
+    rr, jj = np.nonzero((cols >= 2) & (cols < n[:, None]))
+    if rr.size == 0:
+        return
+    site, node = t[:, 0] + mast_m, t + node_mast_m
+    worst, where = prefix_kernel.worst_ratio_prefixes(d, t, n, site, node, lam, ae)
+    out["worst_fresnel_ratio"][rr, jj] = worst[rr, jj]
+    if fast:
+        return
+    d_km = d * 1e-3
+    seg = np.diff(d_km, axis=1)
+    v1_terms, v2_terms = smooth_sum_terms(seg, d_km[:, :-1], d_km[:, 1:], t[:, :-1], t[:, 1:])
+    v1, v2 = np.cumsum(v1_terms, axis=1), np.cumsum(v2_terms, axis=1)   # eqs. (161)-(162) of every prefix
+
+    def reduce(actual, hts, hrs):
+        full_a, full_b = np.zeros(d.shape), np.zeros(d.shape)
+        full_a[rr, jj], full_b[rr, jj] = hts, hrs
+        red = prefix_kernel.bullington_prefixes(d_km, t, n, full_a, full_b, ae * 1e-3, actual)
+        res = {k: v[rr, jj] for k, v in red.items()}
+        if actual:
+            res.update(v1=v1[rr, jj - 1], v2=v2[rr, jj - 1])
+        return res
+
+    h_a, h_b = site[rr], node[rr, jj]
+    reduced = diffraction_reductions(reduce, d_km[rr, jj], t[rr, 0], t[rr, jj], h_a, h_b)
+    reduced.update(length_m=d[rr, jj], worst_ratio=worst[rr, jj], worst_distance_m=d[rr, where[rr, jj]])
+    res = link_fields(None, None, None, h_a, h_b, settings, _overrides(overrides, rr.size), reduced=reduced)
+    for band, key in _FIELDS.items():
+        out[band][rr, jj] = res[key]
 
 
 # --------------------------------------------------------------------------- radials
