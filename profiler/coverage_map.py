@@ -41,6 +41,7 @@ from __future__ import annotations
 
 import functools
 import math
+from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass
 
 import numpy as np
@@ -181,16 +182,17 @@ def radial_fields(distance_m, terrain_m, n, mast_m, node_mast_m, settings, overr
         for band, key in _FIELDS.items():
             out[band][rr, jj] = res[key]
 
+    if kernel is None:
+        kernel = kernel_available()
     rr, jj = np.nonzero((np.arange(d.shape[1])[None, :] >= 1) & (np.arange(d.shape[1])[None, :] < n[:, None]))
-    straight = (jj == 1) | fast   # free space, or (no diffraction) a loss that depends on the two ends only
+    # free space, or (numpy, no diffraction) a loss that depends on the two ends only
+    straight = (jj == 1) | (fast and not kernel)
     if straight.any():
         r, j = rr[straight], jj[straight]
         d_end, t0, t_end = d[r, j], t[r, 0], t[r, j]
         dd = np.stack([np.zeros_like(d_end), d_end / 2.0, d_end], axis=1)
         tt = np.stack([t0, (t0 + t_end) / 2.0, t_end], axis=1)
         run(r, j, dd, tt, np.full(r.size, 3))
-    if kernel is None:
-        kernel = kernel_available()
     if kernel:
         _kernel_fields(out, d, t, n, mast_m, node_mast_m, settings, overrides, fast)
     elif fast:
@@ -240,9 +242,11 @@ def _kernel_fields(out, d, t, n, mast_m, node_mast_m, settings, overrides, fast)
     if rr.size == 0:
         return
     site, node = t[:, 0] + mast_m, t + node_mast_m
-    worst, where = prefix_kernel.worst_ratio_prefixes(d, t, n, site, node, lam, ae)
-    out["worst_fresnel_ratio"][rr, jj] = worst[rr, jj]
-    if fast:
+    worst = prefix_kernel.worst_ratio_prefixes(d, t, n, site, node, lam, ae)
+    h_a, h_b = site[rr], node[rr, jj]
+    if fast:   # no diffraction: the budget needs the length and the worst ratio only
+        _store(out, rr, jj, link_fields(None, None, None, h_a, h_b, settings, _overrides(overrides, rr.size),
+                                        reduced={"length_m": d[rr, jj], "worst_ratio": worst[rr, jj]}))
         return
     d_km = d * 1e-3
     seg = np.diff(d_km, axis=1)
@@ -258,10 +262,13 @@ def _kernel_fields(out, d, t, n, mast_m, node_mast_m, settings, overrides, fast)
             res.update(v1=v1[rr, jj - 1], v2=v2[rr, jj - 1])
         return res
 
-    h_a, h_b = site[rr], node[rr, jj]
     reduced = diffraction_reductions(reduce, d_km[rr, jj], t[rr, 0], t[rr, jj], h_a, h_b)
-    reduced.update(length_m=d[rr, jj], worst_ratio=worst[rr, jj], worst_distance_m=d[rr, where[rr, jj]])
-    res = link_fields(None, None, None, h_a, h_b, settings, _overrides(overrides, rr.size), reduced=reduced)
+    reduced.update(length_m=d[rr, jj], worst_ratio=worst[rr, jj])
+    _store(out, rr, jj, link_fields(None, None, None, h_a, h_b, settings, _overrides(overrides, rr.size),
+                                    reduced=reduced))
+
+
+def _store(out, rr, jj, res) -> None:
     for band, key in _FIELDS.items():
         out[band][rr, jj] = res[key]
 
@@ -342,7 +349,7 @@ def keep_freed_memory() -> bool:
         return False
 
 
-def _sector_job(chunk, *, settings, n_radials, radius_m, step_m, node_mast_m, model=None):
+def _sector_job(chunk, *, settings, n_radials, radius_m, step_m, node_mast_m, kernel=None, model=None):
     """One task ``(gateway, radial indices)``: sample a sector and run the engine on every sample.
 
     Opens the elevation files by path when no model is given (on a worker).
@@ -353,12 +360,12 @@ def _sector_job(chunk, *, settings, n_radials, radius_m, step_m, node_mast_m, mo
         keep_freed_memory()   # a worker process of ours: tune its allocator (never a caller's process)
         with ElevationModel.open(list(settings.dem_paths)) as opened:
             return _sector_job(chunk, settings=settings, n_radials=n_radials, radius_m=radius_m, step_m=step_m,
-                               node_mast_m=node_mast_m, model=opened)
+                               node_mast_m=node_mast_m, kernel=kernel, model=opened)
     gw, indices = chunk
     az = np.asarray(indices) * (360.0 / n_radials)
     d, t, n = sample_radials(model, gw, az, radius_m, step_m, settings.fill_voids)
     ae = float(geometry.effective_radius_m(settings.k_factor))
-    out = radial_fields(d, t, n, gw.mast_m, node_mast_m, settings, gw.overrides)
+    out = radial_fields(d, t, n, gw.mast_m, node_mast_m, settings, gw.overrides, kernel)
     out["terrain_m"] = np.where(np.isfinite(d), t, np.nan)
     los = line_of_sight_radials(d, t, n, t[:, 0] + gw.mast_m, node_mast_m, ae)
     out["line_of_sight"] = np.where(np.isfinite(out["margin_db"]), los.astype(float), np.nan)
@@ -438,7 +445,7 @@ def _check_numbers(radius_km, resolution_m, node_mast_m):
 def coverage(site=None, *, dem, mast_m=None, name="site", sites=None, radius_km: float, resolution_m=None,
              node_mast_m: float = 1.5, band=None, frequency_mhz=None, k_factor="4/3", clearance_ratio: float = 0.6,
              fill_voids: bool = False, radio=None, workers=None, scheduler=None, progress=None,
-             out=None, plot=None, kmz=None, json=None, paper="a4", dpi=200) -> CoverageResult:
+             out=None, plot=None, kmz=None, json=None, paper="a4", dpi=200, kernel=None) -> CoverageResult:
     """Coverage of one site (or the composite of a site list's gateways) within a radius.
 
     Parameters
@@ -461,6 +468,10 @@ def coverage(site=None, *, dem, mast_m=None, name="site", sites=None, radius_km:
         As for :func:`profiler.network`; radial sectors are the tasks.
     out, plot, kmz, json : str or Path, optional
         Files to write (GeoTIFF, map sheet, KMZ, JSON summary), all or nothing.
+    kernel : bool, optional
+        Reductions over the samples in the numba kernel (default: when numba
+        is installed) or, with False, in the numpy prefix batches; the results
+        agree to rounding.
 
     Returns
     -------
@@ -486,9 +497,11 @@ def coverage(site=None, *, dem, mast_m=None, name="site", sites=None, radius_km:
                                 f"coverage: {model.bounds_text()}")
         res = float(resolution_m) if resolution_m is not None else float(model.pixel_size_m(lon_g[:1], lat_g[:1]))
         grid = make_grid(gateways, radius_m, res)
-        per_gateway, inside_any, sweep = _sweep(model, settings, gateways, grid, radius_m, res, float(node_mast_m),
-                                                workers, scheduler, progress)
-        lon, lat = grid.lon_lat()
+        with ThreadPoolExecutor(1) as pool:   # pyproj releases the GIL: the pixel positions overlap the sweep
+            positions = pool.submit(grid.lon_lat)
+            per_gateway, inside_any, sweep = _sweep(model, settings, gateways, grid, radius_m, res,
+                                                    float(node_mast_m), workers, scheduler, progress, kernel)
+            lon, lat = positions.result()
         outside_data = ~np.asarray(model.covers(lon, lat))
         sources = [{"path": s.path, "sha256": s.sha256, "crs": s.crs, "resolution": list(s.resolution)}
                    for s in model.sources_used(lon_g, lat_g)]
@@ -528,7 +541,7 @@ def _settings(dem, band, frequency_mhz, k_factor, clearance_ratio, fill_voids, r
                            step_m=None, fill_voids=bool(fill_voids), radio=radio)
 
 
-def _sweep(model, settings, gateways, grid, radius_m, res, node_mast_m, workers, scheduler, progress):
+def _sweep(model, settings, gateways, grid, radius_m, res, node_mast_m, workers, scheduler, progress, kernel=None):
     """Every gateway's radial sectors through the engine (the tasks), then onto the grid."""
     from .cluster import chunked, run_chunks
 
@@ -539,7 +552,7 @@ def _sweep(model, settings, gateways, grid, radius_m, res, node_mast_m, workers,
     chunks = [(g, np.arange(n_radials)[sl]) for g in gateways for sl in sectors]
     local = workers is None and scheduler is None
     job = functools.partial(_sector_job, settings=settings, n_radials=n_radials, radius_m=radius_m, step_m=res,
-                            node_mast_m=node_mast_m, model=model if local else None)
+                            node_mast_m=node_mast_m, kernel=kernel, model=model if local else None)
     parts = run_chunks(job, chunks, workers=workers, scheduler=scheduler, progress=progress, desc="radials",
                        weights=[c[1].size for c in chunks])
     per_gateway = []

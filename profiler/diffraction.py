@@ -441,7 +441,8 @@ def diffraction_reductions(reduce, d_total_km, h_first_m, h_last_m, h_tx_amsl_m,
         alone (the smooth profile), for antenna heights ``hts``, ``hrs``
         [m amsl] of shape (L,).  Returns per-link arrays ``stim``, ``srim``
         (max of :func:`slope_term`), ``v_unit`` (max of :func:`v_unit_term`),
-        ``v_index`` (its sample index) and, with ``actual``, ``v1``, ``v2``
+        optionally ``v_index`` (its sample index; else ``knife_edge_index``
+        is None) and, with ``actual``, ``v1``, ``v2``
         (sums of :func:`smooth_sum_terms`), ``hobs``, ``alpha_obt``,
         ``alpha_obr`` (max of :func:`obstacle_term`, and divided by the
         distances to A and B).  The numpy reduction of
@@ -471,7 +472,7 @@ def diffraction_reductions(reduce, d_total_km, h_first_m, h_last_m, h_tx_amsl_m,
     hts_mod, hrs_mod = hts - hstd, hrs - hsrd
     second = reduce(False, hts_mod, hrs_mod)
     return {"d_total_km": d_total_km, "hts": hts, "hrs": hrs, "stim": first["stim"], "srim": first["srim"],
-            "v_unit": first["v_unit"], "v_index": first["v_index"], "hst": hst, "hsr": hsr, "hstd": hstd,
+            "v_unit": first["v_unit"], "v_index": first.get("v_index"), "hst": hst, "hsr": hsr, "hstd": hstd,
             "hsrd": hsrd, "hts_mod": hts_mod, "hrs_mod": hrs_mod, "smooth_stim": second["stim"],
             "smooth_srim": second["srim"], "smooth_v_unit": second["v_unit"]}
 

@@ -151,8 +151,9 @@ def link_fields(d, terrain, n, h_a, h_b, settings: NetworkSettings, overrides=No
         The per-link reductions over the samples, already computed
         (``profiler coverage``'s kernel): the diffraction reductions of
         :func:`profiler.diffraction.diffraction_reductions` plus
-        ``length_m``, ``worst_ratio`` and ``worst_distance_m`` (the minimum of
-        :func:`profiler.geometry.clearance_ratio_term` and where it is); then
+        ``length_m``, ``worst_ratio`` and optionally ``worst_distance_m``
+        (the minimum of :func:`profiler.geometry.clearance_ratio_term` and
+        where it is; NaN when not given); then
         ``d``, ``terrain`` and ``n`` may be None.
 
     Returns
@@ -174,10 +175,11 @@ def link_fields(d, terrain, n, h_a, h_b, settings: NetworkSettings, overrides=No
         g = geometry_batch(d, terrain, n, h_a, h_b, lam, ae, settings.clearance_ratio)
         worst, worst_d, los, clear = g.worst_ratio, g.worst_distance_m, g.line_of_sight, g.fresnel_clear
     else:   # clearance > 0 at every interior sample <=> worst ratio > 0 (F1 > 0 there)
-        worst, worst_d = reduced["worst_ratio"], reduced["worst_distance_m"]
+        worst = reduced["worst_ratio"]
+        worst_d = reduced.get("worst_distance_m", np.full(worst.shape, np.nan))
         los, clear = worst > 0.0, worst >= settings.clearance_ratio
     rb = radio_batch(d, terrain, n, h_a, h_b, settings.frequency_mhz, ae, radio, plan, overrides, rx2=False,
-                     reduced=reduced)
+                     reduced=reduced, informative=False)
     fade = radio.fade_margin_db
     up, down = rb["uplink"], rb["downlink"]
     margin_up = up["rx_power_dbm"] - up["budget_sensitivity_dbm"]

@@ -3,7 +3,7 @@
 In a coverage map every sample ``j`` of a radial is the node end of a link
 whose profile is the first ``j + 1`` samples.  The only work of such a link
 that grows with its length is a handful of reductions over its interior
-samples ``0 < i < j``: the worst clearance / F1 ratio and where it is
+samples ``0 < i < j``: the worst clearance / F1 ratio
 (:func:`profiler.engine.geometry_batch`), and the maxima of one Bullington
 pass (:func:`profiler.diffraction.diffraction_reductions`).  The two kernels
 here loop radial x node index ``j`` x interior sample ``i`` with running
@@ -30,6 +30,7 @@ References
 
 from __future__ import annotations
 
+import hashlib
 import math
 import types
 
@@ -39,67 +40,95 @@ import numpy as np
 from . import diffraction, geometry
 
 
+FASTMATH = {"nsz", "arcp", "contract", "afn", "reassoc"}
+"""LLVM fast-math flags of the kernels: reassociation and reciprocals let the inner loops vectorize (about 2x);
+no ``nnan``/``ninf`` (the running maxima start at -inf).  Results differ from the numpy engine by rounding only."""
+
+
+_TERMS = ((geometry, ("bulge_term", "line_term", "fresnel_term", "clearance_ratio_term")),
+          (diffraction, ("bulge_km_term", "slope_term", "obstacle_term", "v_unit_term")))
+
+
 def _compile_terms(module, names) -> dict:
     """``numba.njit`` copies of ``module``'s term functions, each calling the compiled copies of the others.
 
-    ``names`` are in dependency order (a term after the terms it calls).
+    ``names`` are in dependency order (a term after the terms it calls).  Not
+    cached themselves: they are compiled into the (cached) kernels.
     """
     space = {"np": np, "math": math}
     for name in names:
         f = getattr(module, name)
         copy = types.FunctionType(f.__code__, space, name, f.__defaults__, f.__closure__)
         copy.__module__, copy.__qualname__ = module.__name__, f.__qualname__
-        space[name] = numba.njit(cache=True)(copy)
+        space[name] = numba.njit(fastmath=FASTMATH)(copy)
     return space
 
 
-_G = _compile_terms(geometry, ("bulge_term", "line_term", "fresnel_term", "clearance_ratio_term"))
-_D = _compile_terms(diffraction, ("bulge_km_term", "slope_term", "obstacle_term", "v_unit_term"))
+def _fingerprint() -> str:
+    """Digest of the terms' code and the flags: part of the kernels' cache key.
+
+    numba keys a cached function on its own bytecode and closure only, so an
+    edited term (in geometry.py or diffraction.py) would otherwise be served
+    stale from the cache.
+    """
+    digest = hashlib.sha256(repr(sorted(FASTMATH)).encode())
+    for module, names in _TERMS:
+        for name in names:
+            code = getattr(module, name).__code__
+            digest.update(code.co_code + repr(code.co_consts).encode() + repr(code.co_names).encode())
+    return digest.hexdigest()
+
+
+_G, _D = (_compile_terms(module, names) for module, names in _TERMS)
 _ratio = _G["clearance_ratio_term"]
 _bulge_km, _slope, _obstacle, _v_unit = (_D[k] for k in ("bulge_km_term", "slope_term", "obstacle_term",
                                                           "v_unit_term"))
 
 
-@numba.njit(cache=True, parallel=True)
-def _geometry_kernel(d_m, t_m, n, h_a, h_b, wavelength_m, ae_m, worst, where):   # pragma: no cover (compiled)
-    for r in numba.prange(d_m.shape[0]):
-        for j in range(2, n[r]):
-            best, at = np.inf, 1
-            for i in range(1, j):
-                q = _ratio(d_m[r, i], d_m[r, j], t_m[r, i], h_a[r], h_b[r, j], wavelength_m, ae_m)
-                if q < best:
-                    best, at = q, i
-            worst[r, j], where[r, j] = best, at
+def _kernels(fingerprint: str):
+    """The two compiled kernels (closures over ``fingerprint`` only, which keys their disk cache)."""
+
+    @numba.njit(cache=True, parallel=True, fastmath=FASTMATH)
+    def geometry_kernel(d_m, t_m, n, h_a, h_b, wavelength_m, ae_m, worst):   # pragma: no cover (compiled)
+        _key = fingerprint   # noqa: F841 (the cache key)
+        for r in numba.prange(d_m.shape[0]):
+            for j in range(2, n[r]):
+                best = np.inf
+                for i in range(1, j):
+                    best = min(best, _ratio(d_m[r, i], d_m[r, j], t_m[r, i], h_a[r], h_b[r, j], wavelength_m, ae_m))
+                worst[r, j] = best
+
+    @numba.njit(cache=True, parallel=True, fastmath=FASTMATH)
+    def bullington_kernel(d_km, h_m, n, hts, hrs, ae_km, actual, out):   # pragma: no cover (compiled)
+        _key = fingerprint   # noqa: F841 (the cache key)
+        weight = 1.0 if actual else 0.0
+        for r in numba.prange(d_km.shape[0]):
+            for j in range(2, n[r]):
+                d, a, b = d_km[r, j], hts[r, j], hrs[r, j]
+                stim = srim = v_max = hobs = aobt = aobr = -np.inf
+                for i in range(1, j):
+                    di = d_km[r, i]
+                    dd = d - di
+                    hc = weight * h_m[r, i] + _bulge_km(di, dd, ae_km)
+                    stim = max(stim, _slope(hc, a, di))
+                    srim = max(srim, _slope(hc, b, dd))
+                    v_max = max(v_max, _v_unit(hc, a, b, di, dd, d))
+                    if actual:
+                        ob = _obstacle(h_m[r, i], a, b, di, dd, d)
+                        hobs = max(hobs, ob)
+                        aobt = max(aobt, ob / di)
+                        aobr = max(aobr, ob / dd)
+                out[0, r, j], out[1, r, j], out[2, r, j] = stim, srim, v_max
+                out[3, r, j], out[4, r, j], out[5, r, j] = hobs, aobt, aobr
+
+    return geometry_kernel, bullington_kernel
 
 
-@numba.njit(cache=True, parallel=True)
-def _bullington_kernel(d_km, h_m, n, hts, hrs, ae_km, actual, out):   # pragma: no cover (compiled)
-    weight = 1.0 if actual else 0.0
-    for r in numba.prange(d_km.shape[0]):
-        for j in range(2, n[r]):
-            d, a, b = d_km[r, j], hts[r, j], hrs[r, j]
-            stim = srim = v_max = hobs = aobt = aobr = -np.inf
-            at = 1
-            for i in range(1, j):
-                di = d_km[r, i]
-                dd = d - di
-                hc = weight * h_m[r, i] + _bulge_km(di, dd, ae_km)
-                stim = max(stim, _slope(hc, a, di))
-                srim = max(srim, _slope(hc, b, dd))
-                v = _v_unit(hc, a, b, di, dd, d)
-                if v > v_max:
-                    v_max, at = v, i
-                if actual:
-                    ob = _obstacle(h_m[r, i], a, b, di, dd, d)
-                    hobs = max(hobs, ob)
-                    aobt = max(aobt, ob / di)
-                    aobr = max(aobr, ob / dd)
-            out[0, r, j], out[1, r, j], out[2, r, j], out[3, r, j] = stim, srim, v_max, at
-            out[4, r, j], out[5, r, j], out[6, r, j] = hobs, aobt, aobr
+_geometry_kernel, _bullington_kernel = _kernels(_fingerprint())
 
 
 def worst_ratio_prefixes(distance_m, terrain_m, n, site_amsl_m, node_amsl_m, wavelength_m, effective_radius_m):
-    """Worst clearance / F1 ratio of the link to every sample of every radial, and its sample index.
+    """Worst clearance / F1 ratio of the link to every sample of every radial.
 
     Parameters
     ----------
@@ -116,22 +145,22 @@ def worst_ratio_prefixes(distance_m, terrain_m, n, site_amsl_m, node_amsl_m, wav
 
     Returns
     -------
-    (ndarray, ndarray), shape (R, N)
+    ndarray, shape (R, N)
         Minimum of :func:`profiler.geometry.clearance_ratio_term` over
-        ``0 < i < j`` at ``[r, j]`` (NaN for ``j < 2`` or beyond ``n``), and
-        the ``i`` where it is (the first of equal values, as ``numpy.argmin``).
+        ``0 < i < j`` at ``[r, j]`` (NaN for ``j < 2`` or beyond ``n``).
+        Not where it is: tracking the index would keep the loop from vectorizing.
 
     References
     ----------
     ITU-R P.526-15 section 2 and eq. (2).
     """
     shape = np.shape(distance_m)
-    worst, where = np.full(shape, np.nan), np.zeros(shape, dtype=np.int64)
+    worst = np.full(shape, np.nan)
     _geometry_kernel(np.ascontiguousarray(distance_m, dtype=float), np.ascontiguousarray(terrain_m, dtype=float),
                      np.asarray(n, dtype=np.int64), np.asarray(site_amsl_m, dtype=float),
                      np.ascontiguousarray(node_amsl_m, dtype=float), float(wavelength_m), float(effective_radius_m),
-                     worst, where)
-    return worst, where
+                     worst)
+    return worst
 
 
 def bullington_prefixes(distance_km, height_m, n, hts_m, hrs_m, effective_radius_km, actual):
@@ -153,19 +182,18 @@ def bullington_prefixes(distance_km, height_m, n, hts_m, hrs_m, effective_radius
     Returns
     -------
     dict of ndarray, shape (R, N)
-        ``stim``, ``srim``, ``v_unit``, ``v_index`` and, with ``actual``,
-        ``hobs``, ``alpha_obt``, ``alpha_obr`` of the link ending at
-        ``[r, j]`` (defined for ``2 <= j < n[r]``).
+        ``stim``, ``srim``, ``v_unit`` and, with ``actual``, ``hobs``,
+        ``alpha_obt``, ``alpha_obr`` of the link ending at ``[r, j]``
+        (defined for ``2 <= j < n[r]``); no ``v_index`` (the knife-edge
+        sample, which a coverage map does not show).
 
     References
     ----------
     ITU-R P.452-18 eqs. (14), (16), (18), (165a)-(165d).
     """
-    out = np.full((7,) + np.shape(distance_km), np.nan)
+    out = np.full((6,) + np.shape(distance_km), np.nan)
     _bullington_kernel(np.ascontiguousarray(distance_km, dtype=float), np.ascontiguousarray(height_m, dtype=float),
                        np.asarray(n, dtype=np.int64), np.ascontiguousarray(hts_m, dtype=float),
                        np.ascontiguousarray(hrs_m, dtype=float), float(effective_radius_km), bool(actual), out)
-    keys = ("stim", "srim", "v_unit", "v_index") + (("hobs", "alpha_obt", "alpha_obr") if actual else ())
-    res = {k: out[i] for i, k in enumerate(keys)}
-    res["v_index"] = np.nan_to_num(res["v_index"]).astype(np.int64)
-    return res
+    keys = ("stim", "srim", "v_unit") + (("hobs", "alpha_obt", "alpha_obr") if actual else ())
+    return {k: out[i] for i, k in enumerate(keys)}

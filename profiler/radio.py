@@ -213,7 +213,7 @@ def slant_distance_m(distance_m, antenna_a_amsl_m, antenna_b_amsl_m, earth_radiu
 
 
 def path_loss_batch(d, terrain, n, h_a, h_b, frequency_mhz, ae, radio: RadioSettings, pol_a_deg, pol_b_deg,
-                    reduced=None):
+                    reduced=None, informative=True):
     """The ``loss_db`` block for one frequency, one value per link [dB].
 
     Free space over the slant distance (ITU-R P.525-4), the chosen diffraction
@@ -224,10 +224,17 @@ def path_loss_batch(d, terrain, n, h_a, h_b, frequency_mhz, ae, radio: RadioSett
     (P.452-18 Attachment 2 eqs. 165-167), not antenna heights.  With
     ``reduced`` (:func:`profiler.diffraction.diffraction_reductions` of these
     links, already computed) the profiles are not read again: ``d``,
-    ``terrain`` and ``n`` may be None.
+    ``terrain`` and ``n`` may be None.  With ``informative=False`` and
+    ``--diffraction none`` no diffraction model runs at all (its informative
+    values are NaN).
     """
     vertical = np.abs(np.cos(np.radians(pol_a_deg))) >= math.sqrt(0.5)
-    if reduced is None:
+    if radio.diffraction_method == "none" and not informative:
+        nan = np.full(np.shape(h_a), np.nan)
+        parts = dict.fromkeys(("knife_edge", "bullington", "delta_bullington", "spherical_earth", "hstd", "hsrd"),
+                              nan)
+        length = d[np.arange(d.shape[0]), n - 1] if reduced is None else reduced["length_m"]
+    elif reduced is None:
         parts = diffraction.diffraction_batch(d, terrain, n, h_a, h_b, frequency_mhz, ae, vertical,
                                               radio.sea_fraction)
         length = d[np.arange(d.shape[0]), n - 1]
@@ -302,7 +309,8 @@ def _direction_batch(plan, radio, direction, tx, rx, loss_total, frequency_mhz, 
 
 
 def radio_batch(d, terrain, n, h_a, h_b, frequency_mhz, ae, radio: RadioSettings, plan: Plan | None = None,
-                overrides: dict | None = None, rx2: bool = True, reduced: dict | None = None) -> dict:
+                overrides: dict | None = None, rx2: bool = True, reduced: dict | None = None,
+                informative: bool = True) -> dict:
     """Losses and both budgets of many links at once; every value an array over links.
 
     Parameters
@@ -330,6 +338,9 @@ def radio_batch(d, terrain, n, h_a, h_b, frequency_mhz, ae, radio: RadioSettings
         The frequency-independent reductions of the diffraction model over
         these links (:func:`profiler.diffraction.diffraction_reductions`);
         then ``d``, ``terrain`` and ``n`` may be None (``profiler coverage``).
+    informative : bool
+        With False and ``--diffraction none``, skip the diffraction models
+        whose values are only informative (batch callers report none).
 
     Returns
     -------
@@ -351,7 +362,8 @@ def radio_batch(d, terrain, n, h_a, h_b, frequency_mhz, ae, radio: RadioSettings
     freqs = {frequency_mhz, f_down} | ({plan.rx2_frequency_mhz} if plan is not None and rx2 else set())
     pol_a = ends["gateway" if radio.gateway == "a" else "node"]["polarization_deg"]
     pol_b = ends["node" if radio.gateway == "a" else "gateway"]["polarization_deg"]
-    losses = {f: path_loss_batch(d, terrain, n, h_a, h_b, f, ae, radio, pol_a, pol_b, reduced) for f in sorted(freqs)}
+    losses = {f: path_loss_batch(d, terrain, n, h_a, h_b, f, ae, radio, pol_a, pol_b, reduced, informative)
+              for f in sorted(freqs)}
     phy, app = lorawan.payload_sizes(radio.payload_bytes, radio.app_payload_bytes)
     gw, node = ends["gateway"], ends["node"]
     out = {"losses": losses, "ends": ends, "cap_notes": cap_notes, "phy_bytes": phy, "app_bytes": app,
