@@ -32,6 +32,7 @@ from __future__ import annotations
 
 import hashlib
 import math
+import threading
 import types
 
 import numba
@@ -125,6 +126,9 @@ def _kernels(fingerprint: str):
 
 
 _geometry_kernel, _bullington_kernel = _kernels(_fingerprint())
+_LAUNCH = threading.Lock()
+"""One kernel launch at a time per process: numba's default (workqueue) threading layer aborts on concurrent
+launches from several threads (a Dask worker with more than one thread); each launch uses every core anyway."""
 
 
 def worst_ratio_prefixes(distance_m, terrain_m, n, site_amsl_m, node_amsl_m, wavelength_m, effective_radius_m):
@@ -156,10 +160,11 @@ def worst_ratio_prefixes(distance_m, terrain_m, n, site_amsl_m, node_amsl_m, wav
     """
     shape = np.shape(distance_m)
     worst = np.full(shape, np.nan)
-    _geometry_kernel(np.ascontiguousarray(distance_m, dtype=float), np.ascontiguousarray(terrain_m, dtype=float),
-                     np.asarray(n, dtype=np.int64), np.asarray(site_amsl_m, dtype=float),
-                     np.ascontiguousarray(node_amsl_m, dtype=float), float(wavelength_m), float(effective_radius_m),
-                     worst)
+    with _LAUNCH:
+        _geometry_kernel(np.ascontiguousarray(distance_m, dtype=float), np.ascontiguousarray(terrain_m, dtype=float),
+                         np.asarray(n, dtype=np.int64), np.asarray(site_amsl_m, dtype=float),
+                         np.ascontiguousarray(node_amsl_m, dtype=float), float(wavelength_m),
+                         float(effective_radius_m), worst)
     return worst
 
 
@@ -192,8 +197,10 @@ def bullington_prefixes(distance_km, height_m, n, hts_m, hrs_m, effective_radius
     ITU-R P.452-18 eqs. (14), (16), (18), (165a)-(165d).
     """
     out = np.full((6,) + np.shape(distance_km), np.nan)
-    _bullington_kernel(np.ascontiguousarray(distance_km, dtype=float), np.ascontiguousarray(height_m, dtype=float),
-                       np.asarray(n, dtype=np.int64), np.ascontiguousarray(hts_m, dtype=float),
-                       np.ascontiguousarray(hrs_m, dtype=float), float(effective_radius_km), bool(actual), out)
+    with _LAUNCH:
+        _bullington_kernel(np.ascontiguousarray(distance_km, dtype=float),
+                           np.ascontiguousarray(height_m, dtype=float), np.asarray(n, dtype=np.int64),
+                           np.ascontiguousarray(hts_m, dtype=float), np.ascontiguousarray(hrs_m, dtype=float),
+                           float(effective_radius_km), bool(actual), out)
     keys = ("stim", "srim", "v_unit") + (("hobs", "alpha_obt", "alpha_obr") if actual else ())
     return {k: out[i] for i, k in enumerate(keys)}
