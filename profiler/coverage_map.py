@@ -232,7 +232,7 @@ def _kernel_fields(out, d, t, n, mast_m, node_mast_m, settings, overrides, fast)
     """Links to samples 2 .. n - 1 of every radial: the kernel's reductions, then the numpy finish (fills ``out``)."""
     from . import prefix_kernel
     from .bands import wavelength_m
-    from .diffraction import diffraction_reductions, smooth_sum_terms
+    from .diffraction_engine import diffraction_reductions, smooth_sum_terms
     from .network_analysis import link_fields
 
     lam = float(wavelength_m(settings.frequency_mhz))

@@ -5,13 +5,13 @@ whose profile is the first ``j + 1`` samples.  The only work of such a link
 that grows with its length is a handful of reductions over its interior
 samples ``0 < i < j``: the worst clearance / F1 ratio
 (:func:`profiler.engine.geometry_batch`), and the maxima of one Bullington
-pass (:func:`profiler.diffraction.diffraction_reductions`).  The two kernels
+pass (:func:`profiler.diffraction_engine.diffraction_reductions`).  The two kernels
 here loop radial x node index ``j`` x interior sample ``i`` with running
 maxima/minima, so a radial costs O(n^2) arithmetic and O(n) memory instead
 of the (n, n) numpy temporaries of the prefix batch.
 
 There is no physics in this module: every per-sample term is a function of
-:mod:`profiler.geometry` or :mod:`profiler.diffraction` (the ones the numpy
+`profiler.geometry` or `profiler.diffraction_engine` (the ones the numpy
 reductions use), compiled here by ``numba.njit`` with its globals pointing at
 the compiled versions of the terms it calls.  Everything after the
 reductions (eqs. 15, 19-22, 43, the spherical Earth, the budgets) is the
@@ -24,7 +24,7 @@ numba is imported by this module only, and this module only by
 References
 ----------
 .. [1] ITU-R P.452-18 section 4.2.1, eqs. (14), (16), (18), and Attachment 2
-   section 5.1.6, eqs. (165a)-(165d), through :mod:`profiler.diffraction`.
+   section 5.1.6, eqs. (165a)-(165d), through :mod:`profiler.diffraction_engine`.
 .. [2] ITU-R P.526-15 section 2 and eq. (2), through :mod:`profiler.geometry`.
 """
 
@@ -38,7 +38,7 @@ import types
 import numba
 import numpy as np
 
-from . import diffraction, geometry
+from . import diffraction_engine, geometry
 
 
 FASTMATH = {"nsz", "arcp", "contract", "afn", "reassoc"}
@@ -47,7 +47,7 @@ no ``nnan``/``ninf`` (the running maxima start at -inf).  Results differ from th
 
 
 _TERMS = ((geometry, ("bulge_term", "line_term", "fresnel_term", "clearance_ratio_term")),
-          (diffraction, ("bulge_km_term", "slope_term", "obstacle_term", "v_unit_term")))
+          (diffraction_engine, ("bulge_km_term", "slope_term", "obstacle_term", "v_unit_term")))
 
 
 def _compile_terms(module, names) -> dict:
@@ -69,7 +69,7 @@ def _fingerprint() -> str:
     """Digest of the terms' code and the flags: part of the kernels' cache key.
 
     numba keys a cached function on its own bytecode and closure only, so an
-    edited term (in geometry.py or diffraction.py) would otherwise be served
+    edited term (in geometry.py or diffraction_engine.py) would otherwise be served
     stale from the cache.
     """
     digest = hashlib.sha256(repr(sorted(FASTMATH)).encode())

@@ -54,7 +54,8 @@ def test_kernel_equals_numpy_engine_on_random_radials(band, method):
 
 def test_kernel_reductions_equal_numpy_reducer_on_each_prefix():
     """stim, srim, v and the obstacle maxima of every prefix, one numpy batch of one per prefix."""
-    from profiler import diffraction, prefix_kernel
+    from profiler import diffraction_engine as engine
+    from profiler import prefix_kernel
 
     d, t, n = _random_radials(3)
     r = 5
@@ -63,8 +64,8 @@ def test_kernel_reductions_equal_numpy_reducer_on_each_prefix():
     ae_km = 8494.0
     got = prefix_kernel.bullington_prefixes(d * 1e-3, t, n, hts, hrs, ae_km, True)
     for j in range(2, n[r]):
-        p = diffraction._paths(d[r:r + 1, :j + 1] * 1e-3, t[r:r + 1, :j + 1], np.array([j + 1]), ae_km)
-        ref = diffraction._numpy_reducer(p, ae_km)(True, hts[r, j:j + 1], hrs[r, j:j + 1])
+        p = engine._paths(d[r:r + 1, :j + 1] * 1e-3, t[r:r + 1, :j + 1], np.array([j + 1]), ae_km)
+        ref = engine._numpy_reducer(p, ae_km)(True, hts[r, j:j + 1], hrs[r, j:j + 1])
         for key in ("stim", "srim", "v_unit", "hobs", "alpha_obt", "alpha_obr"):
             assert abs(got[key][r, j] - ref[key][0]) <= TOL * max(1.0, abs(ref[key][0])), (key, j)
 
@@ -80,10 +81,10 @@ def test_coverage_with_and_without_kernel_agree():
 
 
 def test_cache_key_follows_the_terms(monkeypatch):
-    from profiler import diffraction, prefix_kernel
+    from profiler import diffraction_engine, prefix_kernel
 
     before = prefix_kernel._fingerprint()
-    monkeypatch.setattr(diffraction, "slope_term", lambda hc_m, h_end_m, distance_km: (hc_m + h_end_m) / distance_km)
+    monkeypatch.setattr(diffraction_engine, "slope_term", lambda hc_m, h_end_m, distance_km: (hc_m + h_end_m) / distance_km)
     assert prefix_kernel._fingerprint() != before
 
 
