@@ -78,8 +78,8 @@ def viewshed(dem, grid, los_map, radius_m, k_factor=4 / 3):
         warped, out, wkt = Path(tmp) / "dem_grid.tif", Path(tmp) / "vs.tif", Path(tmp) / "grid.wkt"
         wkt.write_text(grid.to_dict()["proj4"])   # the system GDAL may be older than pyproj's WKT2
         t0 = time.perf_counter()
-        subprocess.run([warp, "-q", "-t_srs", str(wkt), "-te", *bounds, "-ts", str(grid.width), str(grid.height), "-r", "bilinear",
-                        "-ot", "Float32", str(dem), str(warped)], check=True, capture_output=True)
+        subprocess.run([warp, "-q", "-t_srs", str(wkt), "-te", *bounds, "-ts", str(grid.width), str(grid.height),
+                        "-r", "bilinear", "-ot", "Float32", str(dem), str(warped)], check=True, capture_output=True)
         t_warp = time.perf_counter() - t0
         t0 = time.perf_counter()
         subprocess.run([exe, "-q", "-ox", "0", "-oy", "0", "-oz", str(MAST_M), "-tz", str(NODE_M),
