@@ -11,8 +11,14 @@ Method
    about two output pixels), each sampled at the output resolution along
    its WGS84 geodesic by :func:`profiler.engine.sample_links`.
 2. Every sample ``j`` of a radial is the node end of one link whose profile
-   is the first ``j + 1`` samples of the radial: the (n, n) prefix batch of
-   a radial, run in row blocks through the engine.  Sample 1 (two samples,
+   is the first ``j + 1`` samples of the radial.  The reductions over each
+   link's interior samples (worst Fresnel ratio, the maxima of the two
+   Bullington passes and the smooth-Earth heights) run for all prefixes of
+   all radials in the numba kernel of :mod:`profiler.prefix_kernel`, or
+   without numba as the (n, n) prefix batch of a radial in row blocks
+   through the numpy engine; the per-link formulas after them are the
+   engine's own (:func:`profiler.diffraction_engine.diffraction_finish`,
+   :func:`profiler.network_analysis.link_fields`).  Sample 1 (two samples,
    no interior point) is a three-sample straight slope, i.e. free space;
    sample 0 (the site itself) takes the value of sample 1.
 3. Line of sight is the exact cumulative maximum of the curvature-corrected
@@ -332,7 +338,8 @@ def keep_freed_memory() -> bool:
     new array faults its pages in again, which cost more system time than the
     arithmetic itself (measured: 2.9 s -> 1.2 s for a 4 km run).  Raising
     M_MMAP_THRESHOLD to 32 MiB and M_TRIM_THRESHOLD to 1 GiB (mallopt(3))
-    keeps them in the heap.  Returns True when applied.
+    keeps them in the heap.  It matters for the numpy path (no numba); the
+    kernel allocates per sector only.  Returns True when applied.
     """
     import ctypes
     import ctypes.util
