@@ -2,18 +2,23 @@
 
 Measured in one run on the machine at hand (figures, never asserted):
 
-* the full run (delta-Bullington at every pixel, both budgets) on a local
-  Dask cluster of ``--workers`` processes (default 2), and in-process unless
-  ``--no-inprocess``;
 * line of sight only: sampling every radial and the exact cumulative-maximum
   test (:func:`profiler.coverage_map.line_of_sight_radials`) put on the grid;
-* the whole command with ``--diffraction none`` (free space; the Fresnel
-  band still needs the geometry of every prefix);
-* GDAL's ``gdal_viewshed`` on the same tile when that program is on the
-  PATH (agreement of the visible pixels and the time ratio); otherwise the
-  script says it is absent.
+* ``--diffraction none`` (line of sight, worst Fresnel ratio of every
+  prefix, free-space budget) and the full delta-Bullington model, each
+  in-process and on a local Dask cluster of ``--workers`` processes, with the
+  numba kernel and (unless ``--no-numpy``) with the numpy prefix batches;
+* GDAL's ``gdal_viewshed`` on the same elevation data (when on the PATH):
+  the tile is warped (bilinear, ``gdalwarp``) onto the coverage grid itself,
+  so both maps have the same pixels; observer height = the mast, target
+  height = the node mast, curvature coefficient ``-cc = a / (k R)`` (GDAL
+  lowers the terrain by ``cc d^2 / (2 a)`` with ``a`` the ellipsoid's
+  semi-major axis, i.e. an Earth ``1 / cc`` times larger; our bulge is
+  ``d^2 / (2 k R)`` with R = 6371 km).  Printed: the share of pixels where
+  visible/invisible agree, and the time ratio.
 
-Usage: ``python benchmarks/bench_coverage.py [--radius-km 20] [--resolution-m 30] [--workers 2] [--no-inprocess]``
+Usage: ``python benchmarks/bench_coverage.py [--radius-km 20] [--resolution-m 30] [--workers 2] [--no-numpy]
+[--no-workers]``
 """
 
 from __future__ import annotations
@@ -34,8 +39,8 @@ sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
 from bench_profile import TILE_SOUTH, TILE_WEST, make_tile, tile_path  # noqa: E402
 
 from profiler import geometry  # noqa: E402
-from profiler.coverage_map import (Gateway, coverage, line_of_sight_radials, make_grid,  # noqa: E402
-                                   pixel_polar, radial_count, radial_lookup, sample_radials)
+from profiler.coverage_map import (Gateway, coverage, keep_freed_memory, line_of_sight_radials,  # noqa: E402
+                                   make_grid, pixel_polar, radial_count, radial_lookup, sample_radials)
 from profiler.dem import ElevationModel  # noqa: E402
 from profiler.radio import RadioSettings  # noqa: E402
 
@@ -59,27 +64,51 @@ def los_only(dem, radius_m, res_m):
     return time.perf_counter() - t0, out, grid
 
 
-def viewshed(dem, grid, los_map, radius_m):
-    """gdal_viewshed on the same tile, if installed: (seconds, agreement) or None."""
-    exe = shutil.which("gdal_viewshed")
-    if exe is None:
+def viewshed(dem, grid, los_map, radius_m, k_factor=4 / 3):
+    """gdal_viewshed on the tile warped onto the coverage grid, if installed: (warp s, viewshed s, agreement, n)."""
+    exe, warp = shutil.which("gdal_viewshed"), shutil.which("gdalwarp")
+    if exe is None or warp is None:
         return None
     import rasterio
-    from rasterio.warp import Resampling, reproject
 
+    a, _, c, _, e, f = grid.transform[:6]
+    bounds = [str(v) for v in (c, f + e * grid.height, c + a * grid.width, f)]
+    cc = 6378137.0 / (k_factor * geometry.EARTH_RADIUS_M)     # WGS84 semi-major axis / (k R)
     with tempfile.TemporaryDirectory() as tmp:
-        out = Path(tmp) / "vs.tif"
+        warped, out, wkt = Path(tmp) / "dem_grid.tif", Path(tmp) / "vs.tif", Path(tmp) / "grid.wkt"
+        wkt.write_text(grid.to_dict()["proj4"])   # the system GDAL may be older than pyproj's WKT2
         t0 = time.perf_counter()
-        subprocess.run([exe, "-ox", str(SITE[1]), "-oy", str(SITE[0]), "-oz", str(MAST_M), "-tz", str(NODE_M),
-                        "-md", str(radius_m), "-cc", str(1 - 0.75), "-vv", "1", "-iv", "0", "-ov", "0",
-                        str(dem), str(out)], check=True, capture_output=True)
-        seconds = time.perf_counter() - t0
-        with rasterio.open(out) as src:
-            dst = np.zeros(los_map.shape, dtype=np.float32)
-            reproject(rasterio.band(src, 1), dst, dst_transform=rasterio.Affine(*grid.transform),
-                      dst_crs=grid.crs_wkt, resampling=Resampling.nearest)
-    ok = np.isfinite(los_map)
-    return seconds, float(np.mean((dst[ok] > 0.5) == (los_map[ok] > 0.5)))
+        subprocess.run([warp, "-q", "-t_srs", str(wkt), "-te", *bounds, "-ts", str(grid.width), str(grid.height),
+                        "-r", "bilinear", "-ot", "Float32", str(dem), str(warped)], check=True, capture_output=True)
+        t_warp = time.perf_counter() - t0
+        t0 = time.perf_counter()
+        subprocess.run([exe, "-q", "-ox", "0", "-oy", "0", "-oz", str(MAST_M), "-tz", str(NODE_M),
+                        "-md", str(radius_m), "-cc", f"{cc:.6f}", "-vv", "1", "-iv", "0", "-ov", "255",
+                        str(warped), str(out)], check=True, capture_output=True)
+        t_view = time.perf_counter() - t0
+        with rasterio.open(out) as src:   # the output may be cut to the window within -md: place it on the grid
+            col0 = round((src.transform.c - c) / a)
+            row0 = round((src.transform.f - f) / e)
+            vs = np.full((grid.height, grid.width), 255, dtype=np.uint8)
+            vs[row0:row0 + src.height, col0:col0 + src.width] = src.read(1)
+    from scipy import ndimage
+
+    ok = np.isfinite(los_map) & (vs != 255)
+    ours, theirs = ok & (los_map > 0.5), ok & (vs == 1)
+    differ = ours != theirs
+    edge = ndimage.binary_dilation(ours, iterations=2) & ndimage.binary_dilation(ok & ~ours, iterations=2)
+    return {"warp_s": t_warp, "viewshed_s": t_view, "agree": 1.0 - differ[ok].mean(), "pixels": int(ok.sum()),
+            "visible_ours": ours[ok].mean(), "visible_gdal": theirs[ok].mean(),
+            "visible_iou": (ours & theirs).sum() / max((ours | theirs).sum(), 1),
+            "near_edge": (differ & edge).sum() / max(differ.sum(), 1)}
+
+
+def timed(label, func):
+    t0 = time.perf_counter()
+    result = func()
+    seconds = time.perf_counter() - t0
+    print(f"{label:<52} {seconds:7.2f} s", flush=True)
+    return seconds, result
 
 
 def main(argv=None):
@@ -87,38 +116,46 @@ def main(argv=None):
     ap.add_argument("--radius-km", type=float, default=20.0)
     ap.add_argument("--resolution-m", type=float, default=30.0)
     ap.add_argument("--workers", type=int, default=2)
-    ap.add_argument("--no-inprocess", action="store_true")
+    ap.add_argument("--no-numpy", action="store_true", help="skip the runs without the kernel")
+    ap.add_argument("--no-workers", action="store_true", help="skip the local Dask cluster runs")
     args = ap.parse_args(argv)
     dem = tile_path()
     make_tile(dem)
     radius_m = args.radius_km * 1000.0
     kw = dict(dem=[dem], mast_m=MAST_M, radius_km=args.radius_km, resolution_m=args.resolution_m,
               node_mast_m=NODE_M, progress=False)
-    t_los, los_map, grid = los_only(dem, radius_m, args.resolution_m)
+    keep_freed_memory()   # as the command does (the numpy path needs it; the kernel does not)
+    coverage(SITE, **{**kw, "radius_km": 1.0})   # load (or compile) the kernel once, outside the timings
+    t_los, (_, los_map, grid) = timed("line of sight only (sampling + cumulative max + grid)",
+                                      lambda: los_only(dem, radius_m, args.resolution_m))
     pixels = int(np.isfinite(los_map).sum())
     print(f"grid {grid.width} x {grid.height}, {pixels:,} pixels within {args.radius_km:g} km at "
           f"{args.resolution_m:g} m, {radial_count(radius_m, args.resolution_m)} radials")
-    print(f"line of sight only (sampling + cumulative maximum + grid): {t_los:6.2f} s")
-    t0 = time.perf_counter()
-    coverage(SITE, radio=RadioSettings(diffraction_method="none"), workers=args.workers, **kw)
-    print(f"--diffraction none, {args.workers} workers:              {time.perf_counter() - t0:6.2f} s")
-    t0 = time.perf_counter()
-    full = coverage(SITE, workers=args.workers, **kw)
-    t_full = time.perf_counter() - t0
-    print(f"delta-Bullington, {args.workers} workers:                {t_full:6.2f} s "
-          f"({pixels / t_full:,.0f} pixels/s)")
-    agree = np.mean((full.bands["line_of_sight"] == 1)[np.isfinite(los_map)] == (los_map == 1)[np.isfinite(los_map)])
+    none = RadioSettings(diffraction_method="none")
+    runs = [("kernel", True)] + ([] if args.no_numpy else [("numpy", False)])
+    full = None
+    for name, kernel in runs:
+        timed(f"--diffraction none, in-process, {name}", lambda: coverage(SITE, radio=none, kernel=kernel, **kw))
+        t, res = timed(f"delta-Bullington, in-process, {name}", lambda: coverage(SITE, kernel=kernel, **kw))
+        print(f"{'':<52} ({pixels / t:,.0f} pixels/s)")
+        full = full or res
+        if not args.no_workers:
+            timed(f"--diffraction none, {args.workers} workers, {name}",
+                  lambda: coverage(SITE, radio=none, kernel=kernel, workers=args.workers, **kw))
+            timed(f"delta-Bullington, {args.workers} workers, {name}",
+                  lambda: coverage(SITE, kernel=kernel, workers=args.workers, **kw))
+    ok = np.isfinite(los_map)
+    agree = np.mean((full.bands["line_of_sight"] == 1)[ok] == (los_map == 1)[ok])
     print(f"line-of-sight map vs the full run's band: {agree:.4%} agree")
-    if not args.no_inprocess:
-        t0 = time.perf_counter()
-        coverage(SITE, **kw)
-        t_in = time.perf_counter() - t0
-        print(f"delta-Bullington, in-process:             {t_in:6.2f} s (workers speed-up {t_in / t_full:.2f}x)")
     vs = viewshed(dem, grid, los_map, radius_m)
     if vs is None:
         print("gdal_viewshed: absent on this machine (no comparison)")
     else:
-        print(f"gdal_viewshed: {vs[0]:.2f} s (ours / GDAL time {t_los / vs[0]:.2f}), agreement {vs[1]:.2%}")
+        print(f"gdal_viewshed: {vs['viewshed_s']:.2f} s (+ gdalwarp onto the grid {vs['warp_s']:.2f} s); our line "
+              f"of sight {t_los:.2f} s = {t_los / vs['viewshed_s']:.2f} x gdal_viewshed")
+        print(f"  visible/invisible agree on {vs['agree']:.2%} of {vs['pixels']:,} common pixels; visible: ours "
+              f"{vs['visible_ours']:.2%}, GDAL {vs['visible_gdal']:.2%}, intersection/union {vs['visible_iou']:.1%}; "
+              f"{vs['near_edge']:.1%} of the differing pixels within 2 px of a shadow edge of our map")
 
 
 if __name__ == "__main__":

@@ -90,7 +90,8 @@ def write_geotiff(result, path) -> None:
     profile = {"driver": "GTiff", "width": grid.width, "height": grid.height, "count": len(names),
                "dtype": "float32", "crs": rasterio.crs.CRS.from_wkt(grid.crs_wkt),
                "transform": Affine(*grid.transform), "nodata": float("nan"), "tiled": True, "blockxsize": 256,
-               "blockysize": 256, "compress": "deflate", "predictor": 3, "BIGTIFF": "IF_SAFER"}
+               "blockysize": 256, "compress": "deflate", "predictor": 3, "BIGTIFF": "IF_SAFER",
+               "num_threads": "all_cpus"}   # GDAL compresses the tiles on every core (lossless, same file)
     with rasterio.open(path, "w", **profile) as ds:
         for i, name in enumerate(names, start=1):
             ds.write(result.bands[name].astype(np.float32), i)

@@ -11,8 +11,14 @@ Method
    about two output pixels), each sampled at the output resolution along
    its WGS84 geodesic by :func:`profiler.engine.sample_links`.
 2. Every sample ``j`` of a radial is the node end of one link whose profile
-   is the first ``j + 1`` samples of the radial: the (n, n) prefix batch of
-   a radial, run in row blocks through the engine.  Sample 1 (two samples,
+   is the first ``j + 1`` samples of the radial.  The reductions over each
+   link's interior samples (worst Fresnel ratio, the maxima of the two
+   Bullington passes and the smooth-Earth heights) run for all prefixes of
+   all radials in the numba kernel of :mod:`profiler.prefix_kernel`, or
+   without numba as the (n, n) prefix batch of a radial in row blocks
+   through the numpy engine; the per-link formulas after them are the
+   engine's own (:func:`profiler.diffraction_engine.diffraction_finish`,
+   :func:`profiler.network_analysis.link_fields`).  Sample 1 (two samples,
    no interior point) is a three-sample straight slope, i.e. free space;
    sample 0 (the site itself) takes the value of sample 1.
 3. Line of sight is the exact cumulative maximum of the curvature-corrected
@@ -41,6 +47,7 @@ from __future__ import annotations
 
 import functools
 import math
+from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass
 
 import numpy as np
@@ -130,8 +137,21 @@ def _overrides(values: dict | None, size: int):
     return {"gateway": {k: np.full(size, float(v)) for k, v in values.items()}}
 
 
-def radial_fields(distance_m, terrain_m, n, mast_m, node_mast_m, settings, overrides=None) -> dict:
-    """Engine results for a node at every sample of every radial (prefix batches in row blocks).
+def kernel_available() -> bool:
+    """True when numba is installed (the optional ``fast`` extra): coverage then runs the compiled kernel."""
+    import importlib.util
+
+    return importlib.util.find_spec("numba") is not None
+
+
+def radial_fields(distance_m, terrain_m, n, mast_m, node_mast_m, settings, overrides=None, kernel=None) -> dict:
+    """Engine results for a node at every sample of every radial (every prefix of a radial is one link).
+
+    The reductions over each link's samples run in the compiled kernel of
+    :mod:`profiler.prefix_kernel` (numba), or without numba (or with
+    ``kernel=False``) through the numpy engine in prefix batches of row
+    blocks; the per-link formulas after them are the same numpy functions
+    either way (:func:`profiler.network_analysis.link_fields`).
 
     Parameters
     ----------
@@ -145,6 +165,8 @@ def radial_fields(distance_m, terrain_m, n, mast_m, node_mast_m, settings, overr
         Band, k, clearance and radio settings.
     overrides : dict, optional
         The site's radio values (``tx_power_dbm``, ``gain_dbi``, ...; NaN: the option).
+    kernel : bool, optional
+        Use the numba kernel; default: when numba is installed.
 
     Returns
     -------
@@ -166,15 +188,20 @@ def radial_fields(distance_m, terrain_m, n, mast_m, node_mast_m, settings, overr
         for band, key in _FIELDS.items():
             out[band][rr, jj] = res[key]
 
+    if kernel is None:
+        kernel = kernel_available()
     rr, jj = np.nonzero((np.arange(d.shape[1])[None, :] >= 1) & (np.arange(d.shape[1])[None, :] < n[:, None]))
-    straight = (jj == 1) | fast   # free space, or (no diffraction) a loss that depends on the two ends only
+    # free space, or (numpy, no diffraction) a loss that depends on the two ends only
+    straight = (jj == 1) | (fast and not kernel)
     if straight.any():
         r, j = rr[straight], jj[straight]
         d_end, t0, t_end = d[r, j], t[r, 0], t[r, j]
         dd = np.stack([np.zeros_like(d_end), d_end / 2.0, d_end], axis=1)
         tt = np.stack([t0, (t0 + t_end) / 2.0, t_end], axis=1)
         run(r, j, dd, tt, np.full(r.size, 3))
-    if fast:
+    if kernel:
+        _kernel_fields(out, d, t, n, mast_m, node_mast_m, settings, overrides, fast)
+    elif fast:
         _fresnel_only(out, d, t, n, mast_m, node_mast_m, settings)
     else:
         for j0, j1 in _blocks(int(n.max(initial=0)), d.shape[0]):
@@ -205,6 +232,51 @@ def _fresnel_only(out, d, t, n, mast_m, node_mast_m, settings) -> None:
             g = geometry_batch(d[r, :j1], t[r, :j1], j + 1, t[r, 0] + mast_m, t[r, j] + node_mast_m, lam, ae,
                                settings.clearance_ratio)
             out["worst_fresnel_ratio"][r, j] = g.worst_ratio
+
+
+def _kernel_fields(out, d, t, n, mast_m, node_mast_m, settings, overrides, fast) -> None:
+    """Links to samples 2 .. n - 1 of every radial: the kernel's reductions, then the numpy finish (fills ``out``)."""
+    from . import prefix_kernel
+    from .bands import wavelength_m
+    from .diffraction_engine import diffraction_reductions, smooth_sum_terms
+    from .network_analysis import link_fields
+
+    lam = float(wavelength_m(settings.frequency_mhz))
+    ae = float(geometry.effective_radius_m(settings.k_factor))
+    cols = np.arange(d.shape[1])[None, :]
+    rr, jj = np.nonzero((cols >= 2) & (cols < n[:, None]))
+    if rr.size == 0:
+        return
+    site, node = t[:, 0] + mast_m, t + node_mast_m
+    worst = prefix_kernel.worst_ratio_prefixes(d, t, n, site, node, lam, ae)
+    h_a, h_b = site[rr], node[rr, jj]
+    if fast:   # no diffraction: the budget needs the length and the worst ratio only
+        _store(out, rr, jj, link_fields(None, None, None, h_a, h_b, settings, _overrides(overrides, rr.size),
+                                        reduced={"length_m": d[rr, jj], "worst_ratio": worst[rr, jj]}))
+        return
+    d_km = d * 1e-3
+    seg = np.diff(d_km, axis=1)
+    v1_terms, v2_terms = smooth_sum_terms(seg, d_km[:, :-1], d_km[:, 1:], t[:, :-1], t[:, 1:])
+    v1, v2 = np.cumsum(v1_terms, axis=1), np.cumsum(v2_terms, axis=1)   # eqs. (161)-(162) of every prefix
+
+    def reduce(actual, hts, hrs):
+        full_a, full_b = np.zeros(d.shape), np.zeros(d.shape)
+        full_a[rr, jj], full_b[rr, jj] = hts, hrs
+        red = prefix_kernel.bullington_prefixes(d_km, t, n, full_a, full_b, ae * 1e-3, actual)
+        res = {k: v[rr, jj] for k, v in red.items()}
+        if actual:
+            res.update(v1=v1[rr, jj - 1], v2=v2[rr, jj - 1])
+        return res
+
+    reduced = diffraction_reductions(reduce, d_km[rr, jj], t[rr, 0], t[rr, jj], h_a, h_b)
+    reduced.update(length_m=d[rr, jj], worst_ratio=worst[rr, jj])
+    _store(out, rr, jj, link_fields(None, None, None, h_a, h_b, settings, _overrides(overrides, rr.size),
+                                    reduced=reduced))
+
+
+def _store(out, rr, jj, res) -> None:
+    for band, key in _FIELDS.items():
+        out[band][rr, jj] = res[key]
 
 
 # --------------------------------------------------------------------------- radials
@@ -266,7 +338,8 @@ def keep_freed_memory() -> bool:
     new array faults its pages in again, which cost more system time than the
     arithmetic itself (measured: 2.9 s -> 1.2 s for a 4 km run).  Raising
     M_MMAP_THRESHOLD to 32 MiB and M_TRIM_THRESHOLD to 1 GiB (mallopt(3))
-    keeps them in the heap.  Returns True when applied.
+    keeps them in the heap.  It matters for the numpy path (no numba); the
+    kernel allocates per sector only.  Returns True when applied.
     """
     import ctypes
     import ctypes.util
@@ -283,7 +356,7 @@ def keep_freed_memory() -> bool:
         return False
 
 
-def _sector_job(chunk, *, settings, n_radials, radius_m, step_m, node_mast_m, model=None):
+def _sector_job(chunk, *, settings, n_radials, radius_m, step_m, node_mast_m, kernel=None, model=None):
     """One task ``(gateway, radial indices)``: sample a sector and run the engine on every sample.
 
     Opens the elevation files by path when no model is given (on a worker).
@@ -294,12 +367,12 @@ def _sector_job(chunk, *, settings, n_radials, radius_m, step_m, node_mast_m, mo
         keep_freed_memory()   # a worker process of ours: tune its allocator (never a caller's process)
         with ElevationModel.open(list(settings.dem_paths)) as opened:
             return _sector_job(chunk, settings=settings, n_radials=n_radials, radius_m=radius_m, step_m=step_m,
-                               node_mast_m=node_mast_m, model=opened)
+                               node_mast_m=node_mast_m, kernel=kernel, model=opened)
     gw, indices = chunk
     az = np.asarray(indices) * (360.0 / n_radials)
     d, t, n = sample_radials(model, gw, az, radius_m, step_m, settings.fill_voids)
     ae = float(geometry.effective_radius_m(settings.k_factor))
-    out = radial_fields(d, t, n, gw.mast_m, node_mast_m, settings, gw.overrides)
+    out = radial_fields(d, t, n, gw.mast_m, node_mast_m, settings, gw.overrides, kernel)
     out["terrain_m"] = np.where(np.isfinite(d), t, np.nan)
     los = line_of_sight_radials(d, t, n, t[:, 0] + gw.mast_m, node_mast_m, ae)
     out["line_of_sight"] = np.where(np.isfinite(out["margin_db"]), los.astype(float), np.nan)
@@ -379,7 +452,7 @@ def _check_numbers(radius_km, resolution_m, node_mast_m):
 def coverage(site=None, *, dem, mast_m=None, name="site", sites=None, radius_km: float, resolution_m=None,
              node_mast_m: float = 1.5, band=None, frequency_mhz=None, k_factor="4/3", clearance_ratio: float = 0.6,
              fill_voids: bool = False, radio=None, workers=None, scheduler=None, progress=None,
-             out=None, plot=None, kmz=None, json=None, paper="a4", dpi=200) -> CoverageResult:
+             out=None, plot=None, kmz=None, json=None, paper="a4", dpi=200, kernel=None) -> CoverageResult:
     """Coverage of one site (or the composite of a site list's gateways) within a radius.
 
     Parameters
@@ -402,6 +475,10 @@ def coverage(site=None, *, dem, mast_m=None, name="site", sites=None, radius_km:
         As for :func:`profiler.network`; radial sectors are the tasks.
     out, plot, kmz, json : str or Path, optional
         Files to write (GeoTIFF, map sheet, KMZ, JSON summary), all or nothing.
+    kernel : bool, optional
+        Reductions over the samples in the numba kernel (default: when numba
+        is installed) or, with False, in the numpy prefix batches; the results
+        agree to rounding.
 
     Returns
     -------
@@ -427,9 +504,11 @@ def coverage(site=None, *, dem, mast_m=None, name="site", sites=None, radius_km:
                                 f"coverage: {model.bounds_text()}")
         res = float(resolution_m) if resolution_m is not None else float(model.pixel_size_m(lon_g[:1], lat_g[:1]))
         grid = make_grid(gateways, radius_m, res)
-        per_gateway, inside_any, sweep = _sweep(model, settings, gateways, grid, radius_m, res, float(node_mast_m),
-                                                workers, scheduler, progress)
-        lon, lat = grid.lon_lat()
+        with ThreadPoolExecutor(1) as pool:   # pyproj releases the GIL: the pixel positions overlap the sweep
+            positions = pool.submit(grid.lon_lat)
+            per_gateway, inside_any, sweep = _sweep(model, settings, gateways, grid, radius_m, res,
+                                                    float(node_mast_m), workers, scheduler, progress, kernel)
+            lon, lat = positions.result()
         outside_data = ~np.asarray(model.covers(lon, lat))
         sources = [{"path": s.path, "sha256": s.sha256, "crs": s.crs, "resolution": list(s.resolution)}
                    for s in model.sources_used(lon_g, lat_g)]
@@ -469,7 +548,7 @@ def _settings(dem, band, frequency_mhz, k_factor, clearance_ratio, fill_voids, r
                            step_m=None, fill_voids=bool(fill_voids), radio=radio)
 
 
-def _sweep(model, settings, gateways, grid, radius_m, res, node_mast_m, workers, scheduler, progress):
+def _sweep(model, settings, gateways, grid, radius_m, res, node_mast_m, workers, scheduler, progress, kernel=None):
     """Every gateway's radial sectors through the engine (the tasks), then onto the grid."""
     from .cluster import chunked, run_chunks
 
@@ -480,7 +559,7 @@ def _sweep(model, settings, gateways, grid, radius_m, res, node_mast_m, workers,
     chunks = [(g, np.arange(n_radials)[sl]) for g in gateways for sl in sectors]
     local = workers is None and scheduler is None
     job = functools.partial(_sector_job, settings=settings, n_radials=n_radials, radius_m=radius_m, step_m=res,
-                            node_mast_m=node_mast_m, model=model if local else None)
+                            node_mast_m=node_mast_m, kernel=kernel, model=model if local else None)
     parts = run_chunks(job, chunks, workers=workers, scheduler=scheduler, progress=progress, desc="radials",
                        weights=[c[1].size for c in chunks])
     per_gateway = []

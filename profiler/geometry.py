@@ -92,7 +92,7 @@ def earth_bulge_m(d1_m, d2_m, effective_radius_m):
     surface with the effective radius); P.452-18 eq. (14) term
     500 C_e d_i (d - d_i) in practical units.
     """
-    return np.asarray(d1_m, dtype=float) * np.asarray(d2_m, dtype=float) / (2.0 * effective_radius_m)
+    return bulge_term(np.asarray(d1_m, dtype=float), np.asarray(d2_m, dtype=float), effective_radius_m)
 
 
 def line_of_sight_m(distance_m, total_distance_m, antenna_a_amsl_m, antenna_b_amsl_m):
@@ -101,8 +101,7 @@ def line_of_sight_m(distance_m, total_distance_m, antenna_a_amsl_m, antenna_b_am
     los(d) = h_A + (h_B - h_A) d / D, with the Earth curvature carried by the
     terrain (terrain + bulge), so the line stays straight.
     """
-    d = np.asarray(distance_m, dtype=float)
-    return antenna_a_amsl_m + (antenna_b_amsl_m - antenna_a_amsl_m) * d / total_distance_m
+    return line_term(np.asarray(distance_m, dtype=float), total_distance_m, antenna_a_amsl_m, antenna_b_amsl_m)
 
 
 def fresnel_radius_m(d1_m, d2_m, wavelength_m, zone: int = 1):
@@ -118,10 +117,9 @@ def fresnel_radius_m(d1_m, d2_m, wavelength_m, zone: int = 1):
     """
     d1 = np.asarray(d1_m, dtype=float)
     d2 = np.asarray(d2_m, dtype=float)
-    total = d1 + d2
     with np.errstate(invalid="ignore", divide="ignore"):
-        r = np.sqrt(zone * wavelength_m * d1 * d2 / total)
-    return np.where(total > 0, r, 0.0)
+        r = fresnel_term(d1, d2, wavelength_m, zone)
+    return np.where(d1 + d2 > 0, r, 0.0)
 
 
 def clearance_m(los_m, terrain_m, bulge_m):
@@ -135,6 +133,43 @@ def clearance_ratio(clearance, fresnel_radius):
     f = np.asarray(fresnel_radius, dtype=float)
     with np.errstate(divide="ignore", invalid="ignore"):
         return np.where(f > 0, c / np.where(f > 0, f, 1.0), np.inf)
+
+
+# --------------------------------------------------------------------------- elementwise terms
+# Plain arithmetic on numpy arrays or floats: the public functions above and
+# profiler.engine.geometry_batch use them, and profiler.prefix_kernel compiles
+# the very same functions with numba (one definition of each term).
+
+def bulge_term(d1_m, d2_m, effective_radius_m):
+    """Earth bulge b = d1 d2 / (2 a_e) [m] (ITU-R P.526-15 section 2); elementwise."""
+    return d1_m * d2_m / (2.0 * effective_radius_m)
+
+
+def line_term(distance_m, total_distance_m, antenna_a_amsl_m, antenna_b_amsl_m):
+    """Height of the straight antenna-to-antenna line at ``distance_m`` [m AMSL]; elementwise."""
+    return antenna_a_amsl_m + (antenna_b_amsl_m - antenna_a_amsl_m) * distance_m / total_distance_m
+
+
+def fresnel_term(d1_m, d2_m, wavelength_m, zone=1):
+    """Fresnel radius sqrt(n lambda d1 d2 / (d1 + d2)) [m] (ITU-R P.526-15 eq. 2); elementwise, d1 + d2 > 0."""
+    return np.sqrt(zone * wavelength_m * d1_m * d2_m / (d1_m + d2_m))
+
+
+def clearance_ratio_term(d1_m, total_m, terrain_m, antenna_a_amsl_m, antenna_b_amsl_m, wavelength_m,
+                         effective_radius_m):
+    """Clearance / F1 of one interior sample (0 < d1 < total) [-]; elementwise.
+
+    ``(line - (terrain + bulge)) / F1``, exactly the ``ratio`` of
+    :func:`profiler.engine.geometry_batch` at an interior sample.
+
+    References
+    ----------
+    ITU-R P.526-15 section 2 and eq. (2).
+    """
+    d2 = total_m - d1_m
+    clearance = line_term(d1_m, total_m, antenna_a_amsl_m, antenna_b_amsl_m) - (
+        terrain_m + bulge_term(d1_m, d2, effective_radius_m))
+    return clearance / fresnel_term(d1_m, d2, wavelength_m)
 
 
 def elevation_angle_deg(h_from_amsl_m, h_to_amsl_m, distance_m, effective_radius_m):

@@ -130,7 +130,7 @@ def _fill_results(out, rows, s, d, terrain, n, h_a, h_b, lam, ae, settings, over
 
 
 def link_fields(d, terrain, n, h_a, h_b, settings: NetworkSettings, overrides=None, *, wavelength=None,
-                effective_radius=None) -> dict:
+                effective_radius=None, reduced=None) -> dict:
     """Geometry, losses and both budgets of a batch of sampled links (the engine, no sampling).
 
     Parameters
@@ -147,6 +147,14 @@ def link_fields(d, terrain, n, h_a, h_b, settings: NetworkSettings, overrides=No
         Per-link end values, see :func:`profiler.radio.resolve_ends`.
     wavelength, effective_radius : float, optional
         Wavelength and effective Earth radius [m] (default: from ``settings``).
+    reduced : dict, optional
+        The per-link reductions over the samples, already computed
+        (``profiler coverage``'s kernel): the diffraction reductions of
+        :func:`profiler.diffraction.diffraction_reductions` plus
+        ``length_m``, ``worst_ratio`` and optionally ``worst_distance_m``
+        (the minimum of :func:`profiler.geometry.clearance_ratio_term` and
+        where it is; NaN when not given); then
+        ``d``, ``terrain`` and ``n`` may be None.
 
     Returns
     -------
@@ -163,15 +171,22 @@ def link_fields(d, terrain, n, h_a, h_b, settings: NetworkSettings, overrides=No
     lam = float(wavelength_m(settings.frequency_mhz)) if wavelength is None else wavelength
     ae = float(geometry.effective_radius_m(settings.k_factor)) if effective_radius is None else effective_radius
     plan = regional_plan(settings.band) if settings.band is not None else None
-    g = geometry_batch(d, terrain, n, h_a, h_b, lam, ae, settings.clearance_ratio)
-    rb = radio_batch(d, terrain, n, h_a, h_b, settings.frequency_mhz, ae, radio, plan, overrides, rx2=False)
+    if reduced is None:
+        g = geometry_batch(d, terrain, n, h_a, h_b, lam, ae, settings.clearance_ratio)
+        worst, worst_d, los, clear = g.worst_ratio, g.worst_distance_m, g.line_of_sight, g.fresnel_clear
+    else:   # clearance > 0 at every interior sample <=> worst ratio > 0 (F1 > 0 there)
+        worst = reduced["worst_ratio"]
+        worst_d = reduced.get("worst_distance_m", np.full(worst.shape, np.nan))
+        los, clear = worst > 0.0, worst >= settings.clearance_ratio
+    rb = radio_batch(d, terrain, n, h_a, h_b, settings.frequency_mhz, ae, radio, plan, overrides, rx2=False,
+                     reduced=reduced, informative=False)
     fade = radio.fade_margin_db
     up, down = rb["uplink"], rb["downlink"]
     margin_up = up["rx_power_dbm"] - up["budget_sensitivity_dbm"]
     margin_down = down["rx_power_dbm"] - down["budget_sensitivity_dbm"]
     loss = rb["losses"][settings.frequency_mhz]
-    out = {"worst_fresnel_ratio": g.worst_ratio, "worst_distance_m": g.worst_distance_m,
-           "line_of_sight": g.line_of_sight, "fresnel_clear": g.fresnel_clear, "diffraction_db": loss["diffraction"],
+    out = {"worst_fresnel_ratio": worst, "worst_distance_m": worst_d,
+           "line_of_sight": los, "fresnel_clear": clear, "diffraction_db": loss["diffraction"],
            "total_loss_db": loss["total"], "rx_level_dbm": up["rx_power_dbm"], "margin_db": margin_up,
            "downlink_margin_db": margin_down, "closes": margin_up >= fade, "downlink_closes": margin_down >= fade}
     if "recommended" in up:

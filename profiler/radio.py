@@ -212,7 +212,8 @@ def slant_distance_m(distance_m, antenna_a_amsl_m, antenna_b_amsl_m, earth_radiu
     return np.sqrt((ha - hb) ** 2 + 4.0 * (earth_radius_m + ha) * (earth_radius_m + hb) * s * s)
 
 
-def path_loss_batch(d, terrain, n, h_a, h_b, frequency_mhz, ae, radio: RadioSettings, pol_a_deg, pol_b_deg):
+def path_loss_batch(d, terrain, n, h_a, h_b, frequency_mhz, ae, radio: RadioSettings, pol_a_deg, pol_b_deg,
+                    reduced=None, informative=True):
     """The ``loss_db`` block for one frequency, one value per link [dB].
 
     Free space over the slant distance (ITU-R P.525-4), the chosen diffraction
@@ -220,14 +221,29 @@ def path_loss_batch(d, terrain, n, h_a, h_b, frequency_mhz, ae, radio: RadioSett
     the fixed extra loss and the polarization mismatch.  The spherical-Earth
     term uses the polarization of antenna A.  ``smooth_surface_height_a_m``/
     ``_b_m`` are the smooth-surface heights hstd, hsrd of the diffraction model
-    (P.452-18 Attachment 2 eqs. 165-167), not antenna heights.
+    (P.452-18 Attachment 2 eqs. 165-167), not antenna heights.  With
+    ``reduced`` (:func:`profiler.diffraction.diffraction_reductions` of these
+    links, already computed) the profiles are not read again: ``d``,
+    ``terrain`` and ``n`` may be None.  With ``informative=False`` and
+    ``--diffraction none`` no diffraction model runs at all (its informative
+    values are NaN).
     """
     vertical = np.abs(np.cos(np.radians(pol_a_deg))) >= math.sqrt(0.5)
-    parts = diffraction.diffraction_batch(d, terrain, n, h_a, h_b, frequency_mhz, ae, vertical, radio.sea_fraction)
+    if radio.diffraction_method == "none" and not informative:
+        nan = np.full(np.shape(h_a), np.nan)
+        parts = dict.fromkeys(("knife_edge", "bullington", "delta_bullington", "spherical_earth", "hstd", "hsrd"),
+                              nan)
+        length = d[np.arange(d.shape[0]), n - 1] if reduced is None else reduced["length_m"]
+    elif reduced is None:
+        parts = diffraction.diffraction_batch(d, terrain, n, h_a, h_b, frequency_mhz, ae, vertical,
+                                              radio.sea_fraction)
+        length = d[np.arange(d.shape[0]), n - 1]
+    else:
+        parts = diffraction.diffraction_finish(reduced, frequency_mhz, ae, vertical, radio.sea_fraction)
+        length = reduced["length_m"]
     method = radio.diffraction_method
     diff = np.zeros_like(h_a) if method == "none" else parts[method.replace("-", "_")]
-    rows = np.arange(d.shape[0])
-    slant = slant_distance_m(d[rows, n - 1], h_a, h_b)
+    slant = slant_distance_m(length, h_a, h_b)
     free = 20.0 * np.log10(4.0 * np.pi * slant * frequency_mhz * 1e6 / SPEED_OF_LIGHT_M_S)  # P.525-4 eq. (4)
     pol_loss = budget.polarization_mismatch_db(pol_a_deg, pol_b_deg) + np.zeros_like(h_a)
     total = free + diff + radio.extra_loss_db + pol_loss
@@ -293,7 +309,8 @@ def _direction_batch(plan, radio, direction, tx, rx, loss_total, frequency_mhz, 
 
 
 def radio_batch(d, terrain, n, h_a, h_b, frequency_mhz, ae, radio: RadioSettings, plan: Plan | None = None,
-                overrides: dict | None = None, rx2: bool = True) -> dict:
+                overrides: dict | None = None, rx2: bool = True, reduced: dict | None = None,
+                informative: bool = True) -> dict:
     """Losses and both budgets of many links at once; every value an array over links.
 
     Parameters
@@ -317,6 +334,13 @@ def radio_batch(d, terrain, n, h_a, h_b, frequency_mhz, ae, radio: RadioSettings
     rx2 : bool
         Also compute the RX2 downlink window (a third frequency); a network
         table does not need it.
+    reduced : dict, optional
+        The frequency-independent reductions of the diffraction model over
+        these links (:func:`profiler.diffraction.diffraction_reductions`);
+        then ``d``, ``terrain`` and ``n`` may be None (``profiler coverage``).
+    informative : bool
+        With False and ``--diffraction none``, skip the diffraction models
+        whose values are only informative (batch callers report none).
 
     Returns
     -------
@@ -338,7 +362,8 @@ def radio_batch(d, terrain, n, h_a, h_b, frequency_mhz, ae, radio: RadioSettings
     freqs = {frequency_mhz, f_down} | ({plan.rx2_frequency_mhz} if plan is not None and rx2 else set())
     pol_a = ends["gateway" if radio.gateway == "a" else "node"]["polarization_deg"]
     pol_b = ends["node" if radio.gateway == "a" else "gateway"]["polarization_deg"]
-    losses = {f: path_loss_batch(d, terrain, n, h_a, h_b, f, ae, radio, pol_a, pol_b) for f in sorted(freqs)}
+    losses = {f: path_loss_batch(d, terrain, n, h_a, h_b, f, ae, radio, pol_a, pol_b, reduced, informative)
+              for f in sorted(freqs)}
     phy, app = lorawan.payload_sizes(radio.payload_bytes, radio.app_payload_bytes)
     gw, node = ends["gateway"], ends["node"]
     out = {"losses": losses, "ends": ends, "cap_notes": cap_notes, "phy_bytes": phy, "app_bytes": app,
