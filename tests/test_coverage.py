@@ -124,10 +124,11 @@ def test_values_equal_profiler_link_at_the_sample_and_near_it_at_the_pixel_centr
         loss_diff.append(abs(got[0] - centre[0]))
         ratio_diff.append(abs(got[1] - centre[1]))
     # at the pixel centre only the sampling differs (up to half a step along, one pixel across the radial);
-    # measured on this terrain: median 0.08 dB, 93 % within 0.5 dB; Fresnel ratio all within 0.05
+    # measured on this terrain (150 pixels): median 0.06 dB, 99 % within 0.5 dB, largest 0.58 dB;
+    # Fresnel ratio all within 0.05
     loss_diff, ratio_diff = np.asarray(loss_diff), np.asarray(ratio_diff)
-    assert np.median(loss_diff) < 0.2
-    assert np.mean(loss_diff < 0.5) >= 0.85
+    assert np.median(loss_diff) < 0.15
+    assert np.mean(loss_diff < 0.5) >= 0.95
     assert np.mean(ratio_diff < 0.05) >= 0.95
 
 
