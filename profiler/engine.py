@@ -123,7 +123,7 @@ def sample_links(model, lat_a_deg, lon_a_deg, lat_b_deg, lon_b_deg, *, step_m=No
     """
     from pyproj import Geod
 
-    from .dem import fill_voids_along_profile
+    from .voids import fill_voids_along_profile
 
     lat_a, lon_a, lat_b, lon_b = (np.atleast_1d(np.asarray(x, dtype=float)) for x in
                                   (lat_a_deg, lon_a_deg, lat_b_deg, lon_b_deg))
