@@ -10,12 +10,10 @@ steadily over the grid is reported (:func:`monotone_note`).
 
 References
 ----------
-.. [1] ITU-R P.530-18 (09/2021), section 2.2.2.1 (planning criteria for
-   antenna heights, from memory).
-.. [2] ITU-R P.526-15 (10/2019), section 2 (Earth bulge d1 d2 / (2 a_e)
-   with the effective radius) and eq. (2) (first Fresnel radius
-   F1 = sqrt(lambda d1 d2 / d)).
-.. [3] ITU-R P.452-18 eq. (6a) / P.834-9: a_e = k * 6371 km.
+.. [1] ITU-R P.526-15 (10/2019), section 2 and eq. (2): the clearance
+   ratio of each height, as :func:`profiler.geometry.clearance_ratio`.
+.. [2] The margin of each height is that of :func:`profiler.radio.radio_batch`
+   (the ``budget.margin_db`` of ``profiler link``).
 """
 
 from __future__ import annotations
@@ -181,13 +179,34 @@ def lowest_meeting(pb: MastProblem, grid, t_lo, x_db):
     prev = t_lo
     for t in grid[grid > t_lo + 1e-9]:
         if pb.margin_at(t) >= x_db:
-            return bisect_up(pb.margin_at, prev, float(t), x_db, float(t))
+            return bisect_up(pb.margin_at, prev, float(t), x_db, float(t) + 1e-12)
         prev = float(t)
     return None
 
 
 def bisect_up(margin_fn, lo, hi, x_db, limit):
-    """Bisection on [lo, hi] (margin(hi) >= x_db) to 1 mm; prefer a whole millimetre that is verified."""
+    """Bisection on [lo, hi] (margin(hi) >= x_db) to 1 mm; prefer a whole millimetre that is verified.
+
+    Parameters
+    ----------
+    margin_fn : callable
+        Margin [dB] of a height [m].
+    lo, hi : float
+        Bracket [m]: the margin is below ``x_db`` at ``lo`` and meets it at ``hi``.
+    x_db : float
+        Margin to meet [dB].
+    limit : float
+        Highest height a rounded candidate may take [m].
+
+    Returns
+    -------
+    float
+        A height within 1 mm above the crossing that meets ``x_db`` [m].
+
+    References
+    ----------
+    Bisection of a bracketed root (common practice).
+    """
     while hi - lo > MARGIN_TOLERANCE_M:
         mid = 0.5 * (lo + hi)
         if margin_fn(mid) >= x_db:
@@ -195,7 +214,7 @@ def bisect_up(margin_fn, lo, hi, x_db, limit):
         else:
             lo = mid
     for r in (round_up_mm(lo), round(round_up_mm(lo) + 0.001, 3), round_up_mm(hi)):
-        if r <= limit + 1e-12 and margin_fn(r) >= x_db:
+        if r <= limit and margin_fn(r) >= x_db:
             return r
     return hi
 

@@ -8,11 +8,11 @@ search (:func:`cheapest_split`).
 
 References
 ----------
-.. [1] ITU-R P.530-18 (09/2021), section 2.2.2.1 (planning criteria for
-   antenna heights, from memory).
-.. [2] ITU-R P.526-15 (10/2019), section 2 (Earth bulge d1 d2 / (2 a_e)
-   with the effective radius) and eq. (2) (first Fresnel radius
-   F1 = sqrt(lambda d1 d2 / d)).
+.. [1] ITU-R P.526-15 (10/2019), section 2: the line of sight is linear in
+   both antenna heights, so each sample is one constraint line.
+.. [2] Linear programming in two variables: the optimum lies on the lower
+   envelope of the constraint lines (common practice); golden-section
+   search for the minimum of a unimodal function (common practice).
 """
 
 from __future__ import annotations
@@ -22,9 +22,50 @@ import math
 import numpy as np
 
 from .mast_clearance import lowest_b_clearance_m, round_up_mm
-from .mast_search import MARGIN_TOLERANCE_M, height_grid
+from .mast_search import bisect_up, height_grid
 
-__all__ = ["cheapest_split_m", "cheapest_split"]
+__all__ = ["cheapest_split_m", "cheapest_split", "golden_section"]
+
+
+def golden_section(fn, lo, hi, tol_m, rel_tol=0.0):
+    """Golden-section search for the minimum of a unimodal function on [lo, hi].
+
+    Parameters
+    ----------
+    fn : callable
+        The function of a height [m] to minimise.
+    lo, hi : float
+        Search interval [m].
+    tol_m : float
+        Stop when the interval is at most ``max(tol_m, rel_tol * hi)`` wide [m].
+    rel_tol : float, optional
+        Relative part of the stopping width [-].
+
+    Returns
+    -------
+    lo, hi : float
+        The final interval [m].
+    (p, fp), (q, fq) : tuple of float
+        Its two interior points and their function values.
+
+    References
+    ----------
+    J. Kiefer (1953), sequential minimax search for a maximum; the golden
+    ratio (sqrt(5) - 1) / 2 shrinks the interval per evaluation (common practice).
+    """
+    golden = (math.sqrt(5.0) - 1.0) / 2.0
+    p, q = hi - golden * (hi - lo), lo + golden * (hi - lo)
+    fp, fq = fn(p), fn(q)
+    while hi - lo > max(tol_m, rel_tol * hi):
+        if fp <= fq:
+            hi, q, fq = q, p, fp
+            p = hi - golden * (hi - lo)
+            fp = fn(p)
+        else:
+            lo, p, fp = p, q, fq
+            q = lo + golden * (hi - lo)
+            fq = fn(q)
+    return lo, hi, (p, fp), (q, fq)
 
 
 def cheapest_split_m(distance_m, target_m, ground_a_m, ground_b_m, max_mast_m):
@@ -73,19 +114,7 @@ def cheapest_split_m(distance_m, target_m, ground_a_m, ground_b_m, max_mast_m):
     a_min = max(0.0, float(np.max((c - x * max_mast_m) / (1.0 - x))))
     if a_min > max_mast_m:
         return None
-    lo, hi = a_min, float(max_mast_m)
-    golden = (math.sqrt(5.0) - 1.0) / 2.0
-    p, q = hi - golden * (hi - lo), lo + golden * (hi - lo)
-    gp, gq = p + f(p), q + f(q)
-    while hi - lo > 1e-9 * max(1.0, hi):
-        if gp <= gq:
-            hi, q, gq = q, p, gp
-            p = hi - golden * (hi - lo)
-            gp = p + f(p)
-        else:
-            lo, p, gp = p, q, gq
-            q = lo + golden * (hi - lo)
-            gq = q + f(q)
+    lo, hi, _, _ = golden_section(lambda m: m + f(m), a_min, float(max_mast_m), 1e-9, 1e-9)
     m_a = 0.5 * (lo + hi)
     for cand in (a_min, float(max_mast_m)):  # the ends of the range, in case the minimum sits there
         if cand + f(cand) < m_a + f(m_a):
@@ -122,17 +151,7 @@ def cheapest_split(d, g_a, g_b, clearance_req, max_mast_m, step, min_margin_db, 
             return lo
         if margin_fn(m_a, max_mast_m) < min_margin_db:
             return None
-        hi = max_mast_m
-        while hi - lo > MARGIN_TOLERANCE_M:
-            mid = 0.5 * (lo + hi)
-            if margin_fn(m_a, mid) >= min_margin_db:
-                hi = mid
-            else:
-                lo = mid
-        for r in (round_up_mm(lo), round(round_up_mm(lo) + 0.001, 3), round_up_mm(hi)):
-            if r <= max_mast_m and margin_fn(m_a, r) >= min_margin_db:
-                return r
-        return hi
+        return bisect_up(lambda m_b: margin_fn(m_a, m_b), lo, max_mast_m, min_margin_db, max_mast_m)
 
     grid = height_grid(0.0, 0.0, max_mast_m, step)
     sums = []
@@ -150,18 +169,7 @@ def cheapest_split(d, g_a, g_b, clearance_req, max_mast_m, step, min_margin_db, 
         m_b = lowest_b(m_a)
         return math.inf if m_b is None else m_a + m_b
 
-    golden = (math.sqrt(5.0) - 1.0) / 2.0
-    p, q = hi - golden * (hi - lo), lo + golden * (hi - lo)
-    sp, sq = total(p), total(q)
-    while hi - lo > 0.01:
-        if sp <= sq:
-            hi, q, sq = q, p, sp
-            p = hi - golden * (hi - lo)
-            sp = total(p)
-        else:
-            lo, p, sp = p, q, sq
-            q = lo + golden * (hi - lo)
-            sq = total(q)
+    _, _, (p, sp), (q, sq) = golden_section(total, lo, hi, 0.01)
     for m_a, s in ((p, sp), (q, sq)):
         m_a_r = round_up_mm(m_a) if m_a > 0 else 0.0
         if m_a_r <= max_mast_m:
