@@ -18,6 +18,7 @@ from . import __version__, diffraction, geometry, limits
 from .bands import NEAR_FIELD_RULE_OF_THUMB_M, NEAR_FIELD_WAVELENGTHS, wavelength_m
 from .engine import geometry_batch
 from .errors import ProfilerError
+from .jsonsafe import json_clean, json_number
 from .radio import slant_distance_m as radio_slant
 from .radio import DIFFRACTION_METHODS, RadioSettings, check_separation, diffraction_losses, radio_results  # noqa: F401
 from .regional import plan as regional_plan
@@ -73,49 +74,37 @@ class LinkResult:
         return {
             "schema": self.schema,
             "tool_version": self.tool_version,
-            "site_a": _clean(self.site_a),
-            "site_b": _clean(self.site_b),
-            "frequency_mhz": _num(self.frequency_mhz),
+            "site_a": json_clean(self.site_a),
+            "site_b": json_clean(self.site_b),
+            "frequency_mhz": json_number(self.frequency_mhz),
             "band": self.band,
-            "wavelength_m": _num(self.wavelength_m),
-            "k_factor": _num(self.k_factor),
-            "effective_radius_m": _num(self.effective_radius_m),
-            "distance_m": _num(self.distance_m),
-            "slant_distance_m": _num(self.slant_distance_m),
+            "wavelength_m": json_number(self.wavelength_m),
+            "k_factor": json_number(self.k_factor),
+            "effective_radius_m": json_number(self.effective_radius_m),
+            "distance_m": json_number(self.distance_m),
+            "slant_distance_m": json_number(self.slant_distance_m),
             "gateway": self.gateway,
-            "azimuth_a_to_b_deg": _num(self.azimuth_a_to_b_deg),
-            "azimuth_b_to_a_deg": _num(self.azimuth_b_to_a_deg),
-            **_clean(self.bearings),
-            "elevation_angle_a_deg": _num(self.elevation_angle_a_deg),
-            "elevation_angle_b_deg": _num(self.elevation_angle_b_deg),
+            "azimuth_a_to_b_deg": json_number(self.azimuth_a_to_b_deg),
+            "azimuth_b_to_a_deg": json_number(self.azimuth_b_to_a_deg),
+            **json_clean(self.bearings),
+            "elevation_angle_a_deg": json_number(self.elevation_angle_a_deg),
+            "elevation_angle_b_deg": json_number(self.elevation_angle_b_deg),
             "profile": profile,
-            "worst": _clean(self.worst),
+            "worst": json_clean(self.worst),
             "line_of_sight": bool(self.line_of_sight),
             "fresnel_clear": bool(self.fresnel_clear),
-            "clearance_ratio_required": _num(self.clearance_ratio_required),
-            "loss_db": _clean(self.loss_db),
-            "budget": _clean(self.budget),
-            "budget_downlink": _clean(self.budget_downlink),
-            "lora": _clean(self.lora),
-            "compliance": _clean(self.compliance),
-            "radio_ends": _clean(self.radio_ends),
-            "rf_exposure": _clean(self.rf_exposure),
-            "dem": _clean(self.dem),
+            "clearance_ratio_required": json_number(self.clearance_ratio_required),
+            "loss_db": json_clean(self.loss_db),
+            "budget": json_clean(self.budget),
+            "budget_downlink": json_clean(self.budget_downlink),
+            "lora": json_clean(self.lora),
+            "compliance": json_clean(self.compliance),
+            "radio_ends": json_clean(self.radio_ends),
+            "rf_exposure": json_clean(self.rf_exposure),
+            "dem": json_clean(self.dem),
             "sheet": dict(self.sheet),
             "warnings": list(self.warnings),
         }
-
-
-def _num(x):
-    """A JSON-safe number: float, int or None for missing / non-finite."""
-    if x is None:
-        return None
-    if isinstance(x, (bool, np.bool_)):
-        return bool(x)
-    if isinstance(x, (int, np.integer)):
-        return int(x)
-    x = float(x)
-    return x if math.isfinite(x) else None
 
 
 def _float_list(values):
@@ -128,18 +117,6 @@ def _float_list(values):
     for i in bad:  # rare: only non-finite entries
         out[i] = None
     return out
-
-
-def _clean(obj):
-    if isinstance(obj, dict):
-        return {k: _clean(v) for k, v in obj.items()}
-    if isinstance(obj, (list, tuple)):
-        return [_clean(v) for v in obj]
-    if isinstance(obj, (str,)) or obj is None:
-        return obj
-    if isinstance(obj, (bool, np.bool_, int, float, np.integer, np.floating)):
-        return _num(obj)
-    return obj
 
 
 def _check_mast(value: float, which: str) -> float:

@@ -7,11 +7,7 @@
 
 References
 ----------
-.. [1] ITU-R P.530-18 (09/2021), section 2.2.2.1 (planning criteria for
-   antenna heights, from memory).
-.. [2] ITU-R P.526-15 (10/2019), section 2 (Earth bulge d1 d2 / (2 a_e)
-   with the effective radius) and eq. (2) (first Fresnel radius
-   F1 = sqrt(lambda d1 d2 / d)).
+.. [1] The criteria and their sources: :mod:`profiler.mast`.
 """
 
 from __future__ import annotations
@@ -22,6 +18,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from . import CAUTION, __version__
+from .jsonsafe import json_clean
 from .mast_clearance import round_up_mm
 
 __all__ = ["SCHEMA", "MastResult", "feasible_binding", "infeasible_outcome", "up_text", "per_extra_metre"]
@@ -66,7 +63,7 @@ class MastResult:
 
     def to_dict(self) -> dict:
         """The JSON report as plain Python types (no NaN: missing values are None)."""
-        return _clean({
+        return json_clean({
             "schema": self.schema,
             "tool_version": self.tool_version,
             "site_a": self.site_a,
@@ -99,23 +96,6 @@ class MastResult:
             "warnings": list(self.warnings),
             "caution": CAUTION,
         })
-
-
-def _clean(obj):
-    """Plain JSON types; non-finite numbers become None."""
-    if isinstance(obj, dict):
-        return {k: _clean(v) for k, v in obj.items()}
-    if isinstance(obj, (list, tuple)):
-        return [_clean(v) for v in obj]
-    if obj is None or isinstance(obj, str):
-        return obj
-    if isinstance(obj, (bool, np.bool_)):
-        return bool(obj)
-    if isinstance(obj, (int, np.integer)):
-        return int(obj)
-    if isinstance(obj, (float, np.floating)):
-        return float(obj) if math.isfinite(obj) else None
-    return obj
 
 
 def feasible_binding(pb, t_sol, t_clear, name_c, clearance_req, min_margin_db):
