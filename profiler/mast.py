@@ -182,16 +182,9 @@ def solve_mast(profile: TerrainProfile, *, frequency_mhz: float, solve: str = "b
 
     grid = height_grid(pb.lower, pb.current, pb.upper, mast_step_m)
     table_t = grid[grid >= pb.current - 1e-9]
-    notes, t_margin, x_db = [], None, None
-    if min_margin_db is not None:
-        x_db = float(min_margin_db)
-        row, t_margin, margin_monotone, notes = margin_criterion(pb, grid, x_db, t_clear, clearance_ok, mast_step_m)
-        criteria.append(row)
-    else:
-        pb.prefetch(table_t)
-        margins = np.array([pb.margin_at(t) for t in table_t])
-        margin_monotone, notes = (monotone_note(pb, table_t, margins, None, mast_step_m) if margins.size > 1
-                                  else (None, []))
+    x_db = None if min_margin_db is None else float(min_margin_db)
+    t_margin, margin_monotone, notes = _margin_scan(pb, grid, table_t, x_db, t_clear, clearance_ok, mast_step_m,
+                                                    criteria)
 
     feasible = clearance_ok and (min_margin_db is None or t_margin is not None)
     message = best = t_sol = None
@@ -202,32 +195,18 @@ def solve_mast(profile: TerrainProfile, *, frequency_mhz: float, solve: str = "b
         ratios = {"clearance": (ratio, pb.k), "clearance_low_k": (ratio_low, pb.k_low)}
         binding, best, message = infeasible_outcome(pb, grid, clearance_ok, name_c, clearance_req, ratios, x_db, max_mast_m)
 
-    split = None
-    if solve == "both":
-        split = cheapest_split(pb.d, pb.g_a, pb.g_b, clearance_req, max_mast_m, mast_step_m, x_db,
-                                lambda ma, mb: pb.radio_masts(ma, mb)["margin_db"])
-        if split is not None:
-            split.update({"worst_ratio": pb.worst(split["mast_a_m"], split["mast_b_m"])[0],
-                          "worst_ratio_low_k": pb.worst(split["mast_a_m"], split["mast_b_m"], True)[0]})
-
+    split = _split_row(pb, clearance_req, max_mast_m, mast_step_m, x_db) if solve == "both" else None
     warnings = []
     if profile.voids_filled:
         warnings.append(f"{profile.voids_filled} profile samples were interpolated across elevation voids")
-
-    def site(name, lat_lon, ground, mast):
-        return {"name": name,
-                "lat_deg": None if lat_lon is None else float(lat_lon[0]),
-                "lon_deg": None if lat_lon is None else float(lat_lon[1]),
-                "ground_m": float(ground), "mast_m": float(mast)}
-
     if feasible:
         req_a, req_b = pb.masts_at(t_sol)
     else:
         req_a = None if solve in ("a", "both") else m_a0
         req_b = None if solve in ("b", "both") else m_b0
     return MastResult(
-        site_a=site(name_a, site_a_lat_lon, pb.g_a, m_a0),
-        site_b=site(name_b, site_b_lat_lon, pb.g_b, m_b0),
+        site_a=_site(name_a, site_a_lat_lon, pb.g_a, m_a0),
+        site_b=_site(name_b, site_b_lat_lon, pb.g_b, m_b0),
         frequency_mhz=float(frequency_mhz), band=band, wavelength_m=pb.lam, distance_m=pb.total,
         solve=solve, criteria=criteria, feasible=bool(feasible),
         required_mast_a_m=req_a, required_mast_b_m=req_b,
@@ -243,3 +222,36 @@ def solve_mast(profile: TerrainProfile, *, frequency_mhz: float, solve: str = "b
         warnings=warnings,
     )
 
+
+def _margin_scan(pb, grid, table_t, x_db, t_clear, clearance_ok, step, criteria):
+    """(t meeting margin and clearance or None, monotone flag, notes); appends the margin criterion row.
+
+    Without a margin criterion (``x_db`` None) the table heights are scanned only to tell whether
+    the margin rises steadily with height.
+    """
+    if x_db is not None:
+        row, t_margin, monotone, notes = margin_criterion(pb, grid, x_db, t_clear, clearance_ok, step)
+        criteria.append(row)
+        return t_margin, monotone, notes
+    pb.prefetch(table_t)
+    margins = np.array([pb.margin_at(t) for t in table_t])
+    monotone, notes = monotone_note(pb, table_t, margins, None, step) if margins.size > 1 else (None, [])
+    return None, monotone, notes
+
+
+def _split_row(pb, clearance_req, max_mast_m, step, x_db):
+    """The report's ``cheapest_split`` (with its worst clearance ratios), or None."""
+    split = cheapest_split(pb.d, pb.g_a, pb.g_b, clearance_req, max_mast_m, step, x_db,
+                           lambda ma, mb: pb.radio_masts(ma, mb)["margin_db"])
+    if split is not None:
+        split.update({"worst_ratio": pb.worst(split["mast_a_m"], split["mast_b_m"])[0],
+                      "worst_ratio_low_k": pb.worst(split["mast_a_m"], split["mast_b_m"], True)[0]})
+    return split
+
+
+def _site(name, lat_lon, ground, mast):
+    """The report's ``site_a`` / ``site_b``."""
+    return {"name": name,
+            "lat_deg": None if lat_lon is None else float(lat_lon[0]),
+            "lon_deg": None if lat_lon is None else float(lat_lon[1]),
+            "ground_m": float(ground), "mast_m": float(mast)}
