@@ -18,6 +18,7 @@ from . import __version__, diffraction, geometry, limits
 from .bands import NEAR_FIELD_RULE_OF_THUMB_M, NEAR_FIELD_WAVELENGTHS, wavelength_m
 from .engine import geometry_batch
 from .errors import ProfilerError
+from .jsonsafe import json_clean, json_number
 from .radio import slant_distance_m as radio_slant
 from .radio import DIFFRACTION_METHODS, RadioSettings, check_separation, diffraction_losses, radio_results  # noqa: F401
 from .regional import plan as regional_plan
@@ -73,49 +74,37 @@ class LinkResult:
         return {
             "schema": self.schema,
             "tool_version": self.tool_version,
-            "site_a": _clean(self.site_a),
-            "site_b": _clean(self.site_b),
-            "frequency_mhz": _num(self.frequency_mhz),
+            "site_a": json_clean(self.site_a),
+            "site_b": json_clean(self.site_b),
+            "frequency_mhz": json_number(self.frequency_mhz),
             "band": self.band,
-            "wavelength_m": _num(self.wavelength_m),
-            "k_factor": _num(self.k_factor),
-            "effective_radius_m": _num(self.effective_radius_m),
-            "distance_m": _num(self.distance_m),
-            "slant_distance_m": _num(self.slant_distance_m),
+            "wavelength_m": json_number(self.wavelength_m),
+            "k_factor": json_number(self.k_factor),
+            "effective_radius_m": json_number(self.effective_radius_m),
+            "distance_m": json_number(self.distance_m),
+            "slant_distance_m": json_number(self.slant_distance_m),
             "gateway": self.gateway,
-            "azimuth_a_to_b_deg": _num(self.azimuth_a_to_b_deg),
-            "azimuth_b_to_a_deg": _num(self.azimuth_b_to_a_deg),
-            **_clean(self.bearings),
-            "elevation_angle_a_deg": _num(self.elevation_angle_a_deg),
-            "elevation_angle_b_deg": _num(self.elevation_angle_b_deg),
+            "azimuth_a_to_b_deg": json_number(self.azimuth_a_to_b_deg),
+            "azimuth_b_to_a_deg": json_number(self.azimuth_b_to_a_deg),
+            **json_clean(self.bearings),
+            "elevation_angle_a_deg": json_number(self.elevation_angle_a_deg),
+            "elevation_angle_b_deg": json_number(self.elevation_angle_b_deg),
             "profile": profile,
-            "worst": _clean(self.worst),
+            "worst": json_clean(self.worst),
             "line_of_sight": bool(self.line_of_sight),
             "fresnel_clear": bool(self.fresnel_clear),
-            "clearance_ratio_required": _num(self.clearance_ratio_required),
-            "loss_db": _clean(self.loss_db),
-            "budget": _clean(self.budget),
-            "budget_downlink": _clean(self.budget_downlink),
-            "lora": _clean(self.lora),
-            "compliance": _clean(self.compliance),
-            "radio_ends": _clean(self.radio_ends),
-            "rf_exposure": _clean(self.rf_exposure),
-            "dem": _clean(self.dem),
+            "clearance_ratio_required": json_number(self.clearance_ratio_required),
+            "loss_db": json_clean(self.loss_db),
+            "budget": json_clean(self.budget),
+            "budget_downlink": json_clean(self.budget_downlink),
+            "lora": json_clean(self.lora),
+            "compliance": json_clean(self.compliance),
+            "radio_ends": json_clean(self.radio_ends),
+            "rf_exposure": json_clean(self.rf_exposure),
+            "dem": json_clean(self.dem),
             "sheet": dict(self.sheet),
             "warnings": list(self.warnings),
         }
-
-
-def _num(x):
-    """A JSON-safe number: float, int or None for missing / non-finite."""
-    if x is None:
-        return None
-    if isinstance(x, (bool, np.bool_)):
-        return bool(x)
-    if isinstance(x, (int, np.integer)):
-        return int(x)
-    x = float(x)
-    return x if math.isfinite(x) else None
 
 
 def _float_list(values):
@@ -128,18 +117,6 @@ def _float_list(values):
     for i in bad:  # rare: only non-finite entries
         out[i] = None
     return out
-
-
-def _clean(obj):
-    if isinstance(obj, dict):
-        return {k: _clean(v) for k, v in obj.items()}
-    if isinstance(obj, (list, tuple)):
-        return [_clean(v) for v in obj]
-    if isinstance(obj, (str,)) or obj is None:
-        return obj
-    if isinstance(obj, (bool, np.bool_, int, float, np.integer, np.floating)):
-        return _num(obj)
-    return obj
 
 
 def _check_mast(value: float, which: str) -> float:
@@ -217,21 +194,7 @@ def analyze_link(profile: TerrainProfile, *, mast_a_m: float = 10.0, mast_b_m: f
     g = geometry_batch(d[None, :], terrain[None, :], np.array([d.size]), np.array([h_a]), np.array([h_b]),
                        lam, ae, clearance_ratio_required)
     bulge, los, f1, clearance = g.bulge_m[0], g.los_m[0], g.fresnel_radius_m[0], g.clearance_m[0]
-    i_worst = int(g.worst_index[0])
-    worst_ratio = float(g.worst_ratio[0])
-    # Diffraction parameter at the worst point: v = -sqrt(2) c / F1 (P.526-15 eqs. 22-23 with h = -c).
-    worst_v = -math.sqrt(2.0) * worst_ratio
-    worst = {
-        "distance_m": float(d[i_worst]),
-        "clearance_m": float(clearance[i_worst]),
-        "fresnel_ratio": worst_ratio,
-        "v": worst_v,
-        "terrain_m": float(terrain[i_worst]),
-        "knife_edge_loss_db": float(diffraction.j_knife_edge_db(worst_v)),
-    }
-    if profile.lat_deg is not None:
-        worst["lat_deg"] = float(profile.lat_deg[i_worst])
-        worst["lon_deg"] = float(profile.lon_deg[i_worst])
+    worst = _worst_block(g, profile)
     line_of_sight, fresnel_clear = bool(g.line_of_sight[0]), bool(g.fresnel_clear[0])
     angle_a, angle_b = float(g.elevation_angle_a_deg[0]), float(g.elevation_angle_b_deg[0])
 
@@ -240,31 +203,13 @@ def analyze_link(profile: TerrainProfile, *, mast_a_m: float = 10.0, mast_b_m: f
     check_separation(slant, lam)
     rr = radio_results(d, terrain, h_a, h_b, frequency_mhz, ae, radio, plan)
 
-    warnings = list(rr["warnings"])
-    near_field_m = max(NEAR_FIELD_WAVELENGTHS * lam, NEAR_FIELD_RULE_OF_THUMB_M)
-    if slant < near_field_m:
-        warnings.append(
-            f"the antennas are {slant:.2f} m apart, closer than {NEAR_FIELD_WAVELENGTHS:g} wavelengths "
-            f"({NEAR_FIELD_WAVELENGTHS * lam:.2f} m) or the {NEAR_FIELD_RULE_OF_THUMB_M:g} m rule of thumb: "
-            "near-field coupling makes these results unreliable")
-    if profile.voids_filled:
-        warnings.append(f"{profile.voids_filled} profile samples were interpolated across elevation voids")
+    warnings = _link_warnings(rr, slant, lam, profile, radio)
     loss = rr["loss_db"]
-    if radio.polarization_a != radio.polarization_b and loss["polarization"] > 0:
-        warnings.append(f"antenna polarizations differ: {loss['polarization']:.1f} dB mismatch loss included")
-
     date = date or _dt.date.today()
     ends = end_blocks(rr, radio.gateway, plan)
-
-    def site(name, lat_lon, ground, mast):
-        return {"name": name,
-                "lat_deg": None if lat_lon is None else float(lat_lon[0]),
-                "lon_deg": None if lat_lon is None else float(lat_lon[1]),
-                "ground_m": float(ground), "mast_m": float(mast), "antenna_amsl_m": float(ground + mast)}
-
     return LinkResult(
-        site_a=site(name_a, site_a_lat_lon, terrain[0], mast_a),
-        site_b=site(name_b, site_b_lat_lon, terrain[-1], mast_b),
+        site_a=_site(name_a, site_a_lat_lon, terrain[0], mast_a),
+        site_b=_site(name_b, site_b_lat_lon, terrain[-1], mast_b),
         frequency_mhz=float(frequency_mhz), band=band, wavelength_m=lam, k_factor=k,
         effective_radius_m=ae, distance_m=total,
         azimuth_a_to_b_deg=profile.azimuth_a_to_b_deg, azimuth_b_to_a_deg=profile.azimuth_b_to_a_deg,
@@ -283,6 +228,58 @@ def analyze_link(profile: TerrainProfile, *, mast_a_m: float = 10.0, mast_b_m: f
              "void_stretches_m": [list(map(float, x)) for x in profile.void_stretches_m]},
         warnings=warnings,
     )
+
+
+def _worst_block(g, profile) -> dict:
+    """The report's ``worst``: the sample of least clearance ratio of a batch-of-one geometry ``g``.
+
+    References
+    ----------
+    ITU-R P.526-15 eqs. (22)-(23) with h = -c: the diffraction parameter
+    v = -sqrt(2) c / F1; the knife-edge loss J(v), eq. (31).
+    """
+    d = np.asarray(profile.distance_m, dtype=float)
+    i_worst = int(g.worst_index[0])
+    worst_ratio = float(g.worst_ratio[0])
+    # Diffraction parameter at the worst point: v = -sqrt(2) c / F1 (P.526-15 eqs. 22-23 with h = -c).
+    worst_v = -math.sqrt(2.0) * worst_ratio
+    worst = {
+        "distance_m": float(d[i_worst]),
+        "clearance_m": float(g.clearance_m[0][i_worst]),
+        "fresnel_ratio": worst_ratio,
+        "v": worst_v,
+        "terrain_m": float(np.asarray(profile.terrain_m, dtype=float)[i_worst]),
+        "knife_edge_loss_db": float(diffraction.j_knife_edge_db(worst_v)),
+    }
+    if profile.lat_deg is not None:
+        worst["lat_deg"] = float(profile.lat_deg[i_worst])
+        worst["lon_deg"] = float(profile.lon_deg[i_worst])
+    return worst
+
+
+def _link_warnings(rr, slant, lam, profile, radio) -> list:
+    """The radio warnings, plus near-field coupling, interpolated voids and a polarization mismatch."""
+    warnings = list(rr["warnings"])
+    near_field_m = max(NEAR_FIELD_WAVELENGTHS * lam, NEAR_FIELD_RULE_OF_THUMB_M)
+    if slant < near_field_m:
+        warnings.append(
+            f"the antennas are {slant:.2f} m apart, closer than {NEAR_FIELD_WAVELENGTHS:g} wavelengths "
+            f"({NEAR_FIELD_WAVELENGTHS * lam:.2f} m) or the {NEAR_FIELD_RULE_OF_THUMB_M:g} m rule of thumb: "
+            "near-field coupling makes these results unreliable")
+    if profile.voids_filled:
+        warnings.append(f"{profile.voids_filled} profile samples were interpolated across elevation voids")
+    loss = rr["loss_db"]
+    if radio.polarization_a != radio.polarization_b and loss["polarization"] > 0:
+        warnings.append(f"antenna polarizations differ: {loss['polarization']:.1f} dB mismatch loss included")
+    return warnings
+
+
+def _site(name, lat_lon, ground, mast) -> dict:
+    """The report's ``site_a`` / ``site_b``."""
+    return {"name": name,
+            "lat_deg": None if lat_lon is None else float(lat_lon[0]),
+            "lon_deg": None if lat_lon is None else float(lat_lon[1]),
+            "ground_m": float(ground), "mast_m": float(mast), "antenna_amsl_m": float(ground + mast)}
 
 
 def end_blocks(rr: dict, gateway: str, plan) -> dict:

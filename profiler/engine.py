@@ -123,8 +123,6 @@ def sample_links(model, lat_a_deg, lon_a_deg, lat_b_deg, lon_b_deg, *, step_m=No
     """
     from pyproj import Geod
 
-    from .dem import fill_voids_along_profile
-
     lat_a, lon_a, lat_b, lon_b = (np.atleast_1d(np.asarray(x, dtype=float)) for x in
                                   (lat_a_deg, lon_a_deg, lat_b_deg, lon_b_deg))
     n_links = lat_a.size
@@ -175,11 +173,32 @@ def sample_links(model, lat_a_deg, lon_a_deg, lat_b_deg, lon_b_deg, *, step_m=No
     terrain = np.full(rows.shape, np.nan)
     terrain[covered] = model.sample(lon_s[covered], lat_s[covered])
     out["terrain_m"][rows, cols] = terrain
-    voids_filled = np.zeros(n_links, dtype=np.int64)
-    void_stretches: list = [[] for _ in range(n_links)]
     has_void = np.zeros(n_links, dtype=bool)
     np.logical_or.at(has_void, rows[~np.isfinite(terrain)], True)
     has_void &= ~leaves
+    voids_filled, void_stretches = _handle_voids(out, n, has_void, fill_voids, errors)
+    _check_heights(out, errors)
+    bad = np.array([e is not None for e in errors], dtype=bool)
+    for key in out:
+        out[key][bad] = np.nan
+    return LinkSamples(n=np.where(bad, 3, n), length_m=np.where(bad, np.nan, length), azimuth_a_to_b_deg=az_ab % 360.0,
+                       azimuth_b_to_a_deg=az_back % 360.0, voids_filled=voids_filled, void_stretches_m=void_stretches,
+                       error=errors, **out)
+
+
+def _handle_voids(out, n, has_void, fill_voids, errors):
+    """Fill the voids of the links in ``has_void`` in place (``fill_voids``) or set their error.
+
+    Returns the samples filled per link and the void stretches per link ([start, end] in metres).
+
+    References
+    ----------
+    Linear interpolation in distance, :func:`profiler.voids.fill_voids_along_profile`.
+    """
+    from .voids import fill_voids_along_profile
+
+    voids_filled = np.zeros(len(errors), dtype=np.int64)
+    void_stretches: list = [[] for _ in range(len(errors))]
     for i in np.flatnonzero(has_void):  # only links with voids: rare
         m = int(n[i])
         t = out["terrain_m"][i, :m]
@@ -198,13 +217,7 @@ def sample_links(model, lat_a_deg, lon_a_deg, lat_b_deg, lon_b_deg, *, step_m=No
         void_stretches[i] = _stretches_m(out["distance_m"][i, :m], ~np.isfinite(t))   # before t is overwritten
         out["terrain_m"][i, :m] = filled
         voids_filled[i] = count
-    _check_heights(out, errors)
-    bad = np.array([e is not None for e in errors], dtype=bool)
-    for key in out:
-        out[key][bad] = np.nan
-    return LinkSamples(n=np.where(bad, 3, n), length_m=np.where(bad, np.nan, length), azimuth_a_to_b_deg=az_ab % 360.0,
-                       azimuth_b_to_a_deg=az_back % 360.0, voids_filled=voids_filled, void_stretches_m=void_stretches,
-                       error=errors, **out)
+    return voids_filled, void_stretches
 
 
 def _stretches_m(distance_m, mask) -> list:

@@ -11,8 +11,8 @@ References
    sections named in :mod:`profiler.regional` (data-rate tables, maximum
    payload sizes, dwell time, maximum EIRP, receive windows).
 .. [2] LoRa modem sensitivity and time on air: see
-   :func:`profiler.budget.lora_sensitivity_dbm` and
-   :func:`profiler.budget.lora_time_on_air_ms` (common practice).
+   :func:`profiler.lora_modem.lora_sensitivity_dbm` and
+   :func:`profiler.lora_modem.lora_time_on_air_ms` (common practice).
 .. [3] Nominal LoRa bit rate R_b = SF * BW / 2^SF * 4 / (4 + CR) (common
    practice, as given in LoRa modem datasheets).
 """
@@ -23,7 +23,7 @@ import math
 
 import numpy as np
 
-from . import budget
+from . import lora_modem
 from .errors import ProfilerError
 from .regional import LORAWAN_OVERHEAD_BYTES, Plan, duty_cycle_at, max_app_payload_bytes
 
@@ -110,7 +110,7 @@ def dr_rules(p: Plan, direction: str, phy_bytes: int, app_bytes: int, dwell_limi
     with the dwell-time variant) and its dwell-time rule.
     """
     dr, sf, bw = data_rates(p, direction)
-    toa = np.asarray(budget.lora_time_on_air_ms(sf, bw, phy_bytes), dtype=float)
+    toa = np.asarray(lora_modem.lora_time_on_air_ms(sf, bw, phy_bytes), dtype=float)
     dwell = dwell_limit_ms if direction == "uplink" else None
     limits = [max_app_payload_bytes(p, int(d), dwell is not None) for d in dr]
     max_n = np.array([-1 if n is None else n for n in limits], dtype=np.int64)
@@ -155,8 +155,7 @@ def dr_margins(rx_power_dbm, rules: dict, noise_figure_db, fade_margin_db):
         where none does.
     """
     nf = np.asarray(noise_figure_db, dtype=float)[..., None]
-    snr = np.asarray(budget.LORA_SNR_MIN_DB)[rules["sf"] - 7]
-    sens = budget.THERMAL_NOISE_DBM_PER_HZ + 10.0 * np.log10(rules["bw_khz"] * 1e3) + nf + snr
+    sens = lora_modem.lora_sensitivity_batch_dbm(rules["sf"], rules["bw_khz"], nf)
     margin = np.asarray(rx_power_dbm, dtype=float)[..., None] - sens
     closes = margin >= fade_margin_db
     score = np.where(closes & rules["allowed"], rules["bitrate_bps"], -np.inf)

@@ -49,7 +49,7 @@ class NetworkSettings:
 
 def _site_overrides(sites, idx):
     """Per-link override arrays of the sites at ``idx`` (NaN: use the command's option)."""
-    from .budget import polarization_angle_deg
+    from .polarization import polarization_angle_deg
 
     pol = np.array([math.nan if p is None else polarization_angle_deg(p) for p in sites.polarization])
     return {"tx_power_dbm": sites.tx_power_dbm[idx], "gain_dbi": sites.gain_dbi[idx],

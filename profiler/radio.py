@@ -27,7 +27,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from . import budget, diffraction, limits, lorawan
+from . import diffraction, limits, lora_modem, lorawan, polarization
 from .bands import SPEED_OF_LIGHT_M_S
 from .errors import ProfilerError
 from .regional import Plan, dwell_time_limit_ms, max_tx_power_dbm
@@ -101,13 +101,13 @@ class RadioSettings:
             raise ProfilerError(f"unknown diffraction method {self.diffraction_method!r}; "
                                 f"use one of {', '.join(DIFFRACTION_METHODS)}")
         for nf in (self.noise_figure_db, self.noise_figure_a_db, self.noise_figure_b_db):
-            budget.lora_sensitivity_dbm(12, self.bw_khz, 0.0 if nf is None else nf)
+            lora_modem.lora_sensitivity_dbm(12, self.bw_khz, 0.0 if nf is None else nf)
         if self.sf is not None:
-            budget.lora_sensitivity_dbm(self.sf, self.bw_khz, 0.0)
+            lora_modem.lora_sensitivity_dbm(self.sf, self.bw_khz, 0.0)
         phy, _ = lorawan.payload_sizes(self.payload_bytes, self.app_payload_bytes)
-        budget.lora_time_on_air_ms(12, self.bw_khz, phy)
-        budget.polarization_angle_deg(self.polarization_a)
-        budget.polarization_angle_deg(self.polarization_b)
+        lora_modem.lora_time_on_air_ms(12, self.bw_khz, phy)
+        polarization.polarization_angle_deg(self.polarization_a)
+        polarization.polarization_angle_deg(self.polarization_b)
         return self
 
     @property
@@ -178,7 +178,7 @@ def resolve_ends(radio: RadioSettings, plan: Plan | None, n_links: int = 1, over
             nf_option = radio.noise_figure_db
         if nf_option is None:
             nf_option = GATEWAY_NOISE_FIGURE_DB if role == "gateway" else NODE_NOISE_FIGURE_DB
-        pol = value("polarization_deg", budget.polarization_angle_deg(getattr(radio, f"polarization_{end}")))
+        pol = value("polarization_deg", polarization.polarization_angle_deg(getattr(radio, f"polarization_{end}")))
         ends[role] = {"end": end, "tx_power_dbm": power, "gain_dbi": gain, "cable_loss_db": loss,
                       "noise_figure_db": value("noise_figure_db", nf_option), "polarization_deg": pol}
     return ends, notes
@@ -245,7 +245,7 @@ def path_loss_batch(d, terrain, n, h_a, h_b, frequency_mhz, ae, radio: RadioSett
     diff = np.zeros_like(h_a) if method == "none" else parts[method.replace("-", "_")]
     slant = slant_distance_m(length, h_a, h_b)
     free = 20.0 * np.log10(4.0 * np.pi * slant * frequency_mhz * 1e6 / SPEED_OF_LIGHT_M_S)  # P.525-4 eq. (4)
-    pol_loss = budget.polarization_mismatch_db(pol_a_deg, pol_b_deg) + np.zeros_like(h_a)
+    pol_loss = polarization.polarization_mismatch_db(pol_a_deg, pol_b_deg) + np.zeros_like(h_a)
     total = free + diff + radio.extra_loss_db + pol_loss
     return {"free_space": free, "diffraction": diff, "extra": np.full_like(h_a, radio.extra_loss_db),
             "polarization": pol_loss, "total": total, "diffraction_method": method,
@@ -281,12 +281,6 @@ def _rx_power(tx, rx, loss_total):
         + rx["gain_dbi"] - rx["cable_loss_db"]
 
 
-def _sensitivity_dbm(sf, bw_khz, nf_db):
-    """LoRa sensitivity for arrays of SF, bandwidth and noise figure (see budget.lora_sensitivity_dbm)."""
-    snr = np.asarray(budget.LORA_SNR_MIN_DB)[np.asarray(sf, dtype=np.int64) - 7]
-    return budget.THERMAL_NOISE_DBM_PER_HZ + 10.0 * np.log10(np.asarray(bw_khz, dtype=float) * 1e3) + nf_db + snr
-
-
 def _direction_batch(plan, radio, direction, tx, rx, loss_total, frequency_mhz, phy, app, dwell):
     """Per-DR margins, the recommended DR and the budget's (sf, bw, dr, sensitivity) for one direction."""
     rules = lorawan.dr_rules(plan, direction, phy, app, dwell, frequency_mhz)
@@ -305,7 +299,7 @@ def _direction_batch(plan, radio, direction, tx, rx, loss_total, frequency_mhz, 
         sf, bw, dr = rules["sf"][idx], rules["bw_khz"][idx], rules["dr"][idx]
     return {"rules": rules, "rx_power_dbm": p_rx, "sensitivity_dbm": sens, "margin_db": margin,
             "closes": closes, "recommended": rec, "sf": sf, "bw_khz": bw, "dr": dr,
-            "budget_sensitivity_dbm": _sensitivity_dbm(sf, bw, rx["noise_figure_db"])}
+            "budget_sensitivity_dbm": lora_modem.lora_sensitivity_batch_dbm(sf, bw, rx["noise_figure_db"])}
 
 
 def radio_batch(d, terrain, n, h_a, h_b, frequency_mhz, ae, radio: RadioSettings, plan: Plan | None = None,
@@ -368,9 +362,10 @@ def radio_batch(d, terrain, n, h_a, h_b, frequency_mhz, ae, radio: RadioSettings
     gw, node = ends["gateway"], ends["node"]
     out = {"losses": losses, "ends": ends, "cap_notes": cap_notes, "phy_bytes": phy, "app_bytes": app,
            "dwell_ms": dwell, "downlink_frequency_mhz": f_down}
-    sf_axis = np.asarray(budget.LORA_SPREADING_FACTORS)
+    sf_axis = np.asarray(lora_modem.LORA_SPREADING_FACTORS)
     up_rx = _rx_power(node, gw, losses[frequency_mhz]["total"])
-    per_sf_sens = _sensitivity_dbm(sf_axis[None, :], radio.bw_khz, gw["noise_figure_db"][:, None])
+    per_sf_sens = lora_modem.lora_sensitivity_batch_dbm(sf_axis[None, :], radio.bw_khz,
+                                                       gw["noise_figure_db"][:, None])
     out["per_sf"] = {"sensitivity_dbm": per_sf_sens, "margin_db": up_rx[:, None] - per_sf_sens}
     if plan is not None and radio.sensitivity_dbm is None:
         out["uplink"] = _direction_batch(plan, radio, "uplink", node, gw, losses[frequency_mhz]["total"],
@@ -379,7 +374,7 @@ def radio_batch(d, terrain, n, h_a, h_b, frequency_mhz, ae, radio: RadioSettings
                                            f_down, phy, app, dwell)
         if rx2:
             sf2, bw2 = plan.data_rates[plan.rx2_dr]
-            s2 = _sensitivity_dbm(sf2, bw2, node["noise_figure_db"])
+            s2 = lora_modem.lora_sensitivity_batch_dbm(sf2, bw2, node["noise_figure_db"])
             out["rx2"] = {"sensitivity_dbm": s2,
                           "margin_db": _rx_power(gw, node, losses[plan.rx2_frequency_mhz]["total"]) - s2}
         return out
@@ -393,7 +388,7 @@ def radio_batch(d, terrain, n, h_a, h_b, frequency_mhz, ae, radio: RadioSettings
             sf = np.full(h_a.shape, int(radio.sf)) if radio.sf is not None else np.where(lowest > 0, lowest, 12)
             bw = np.full(h_a.shape, float(radio.bw_khz))
             dr = np.full(h_a.shape, -1)
-            sens = _sensitivity_dbm(sf, bw, rx["noise_figure_db"])
+            sens = lora_modem.lora_sensitivity_batch_dbm(sf, bw, rx["noise_figure_db"])
         out[direction] = {"rx_power_dbm": _rx_power(tx, rx, losses[f]["total"]), "sf": sf, "bw_khz": bw,
                           "dr": dr, "budget_sensitivity_dbm": sens, "lowest_closing_sf": lowest}
     return out
@@ -426,13 +421,13 @@ def _lora_blocks(rb, plan, radio, i, frequency_mhz):
     fade = radio.fade_margin_db
     ends = rb["ends"]
     per_sf_margin = rb["per_sf"]["margin_db"][i]
-    toa = np.asarray(budget.lora_time_on_air_ms(np.asarray(budget.LORA_SPREADING_FACTORS), radio.bw_khz,
+    toa = np.asarray(lora_modem.lora_time_on_air_ms(np.asarray(lora_modem.LORA_SPREADING_FACTORS), radio.bw_khz,
                                                 rb["phy_bytes"]))
-    per_hour = np.asarray(budget.uplinks_per_hour(toa, 0.01))
+    per_hour = np.asarray(lora_modem.uplinks_per_hour(toa, 0.01))
     table = [{"sf": int(sf), "sensitivity_dbm": float(rb["per_sf"]["sensitivity_dbm"][i, j]),
               "margin_db": float(per_sf_margin[j]), "closes": bool(per_sf_margin[j] >= fade),
               "time_on_air_ms": float(toa[j]), "uplinks_per_hour_1pct": int(per_hour[j])}
-             for j, sf in enumerate(budget.LORA_SPREADING_FACTORS)]
+             for j, sf in enumerate(lora_modem.LORA_SPREADING_FACTORS)]
     lora = {"bw_khz": float(radio.bw_khz), "payload_bytes": rb["phy_bytes"], "app_payload_bytes": rb["app_bytes"],
             "noise_figure_db": float(ends["gateway"]["noise_figure_db"][i]),
             "noise_figure_node_db": float(ends["node"]["noise_figure_db"][i]),

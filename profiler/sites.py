@@ -239,8 +239,8 @@ def _build_table(header, rows, where, source) -> SiteTable:
 
 
 def _polarization(text: str, line: int, where) -> str | None:
-    """A polarization cell checked by :func:`profiler.budget.polarization_angle_deg`; None when empty."""
-    from .budget import polarization_angle_deg
+    """A polarization cell checked by :func:`profiler.polarization.polarization_angle_deg`; None when empty."""
+    from .polarization import polarization_angle_deg
 
     if not text:
         return None
