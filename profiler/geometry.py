@@ -20,7 +20,6 @@ from __future__ import annotations
 
 import math
 import re
-from fractions import Fraction
 
 import numpy as np
 
@@ -29,8 +28,6 @@ from .errors import ProfilerError
 EARTH_RADIUS_M = 6_371_000.0
 """Mean Earth radius used with the k-factor [m] (ITU-R P.452-18 eq. 6a, P.834)."""
 
-DEFAULT_K = Fraction(4, 3)
-"""Median effective-Earth-radius factor for a standard atmosphere (ITU-R P.310-10)."""
 
 _K_PATTERN = re.compile(r"^\s*[0-9.eE+-]+\s*(/\s*[0-9.eE+-]+\s*)?$")
 

@@ -45,7 +45,10 @@ def test_every_numeric_option_of_every_command_has_a_range():
     from profiler.cli.options import FiniteFloat, KFactor
 
     missing = []
-    for name, command in main.commands.items():
+    names = main.list_commands(None)
+    assert {"link", "mast", "bands", "network", "siting", "coverage"} <= set(names)
+    for name in names:
+        command = main.get_command(None, name)
         for param in command.params:
             numeric = isinstance(param.type, (FiniteFloat, KFactor, click.types.IntParamType,
                                               click.types.FloatParamType))
@@ -241,3 +244,20 @@ def test_readme_ranges_table_matches_the_limits_table():
     rows = dict(re.findall(r"^\| `(--[a-z0-9-]+)` \| ([^|]+?) \|", section, flags=re.M))
     assert len(rows) >= 25
     assert {opt: limits.range_text(opt) for opt in rows} == rows
+
+
+def test_profiler_link_imports_no_other_command():
+    # Commands load on demand (cli.COMMANDS): a one-link run imports neither the network,
+    # coverage nor siting code, nor matplotlib, numba or dask (start-up time, issue 10).
+    import subprocess
+    import sys
+
+    code = ("import sys; from click.testing import CliRunner; from profiler.cli import main; "
+            "r = CliRunner().invoke(main, ['link', '--profile', 'examples/surveyed_profile.csv', '--json', '-']); "
+            "assert r.exit_code == 0, r.output; "
+            "print(' '.join(sorted(m for m in sys.modules if m.startswith(('profiler.cli.', 'matplotlib', "
+            "'numba', 'dask', 'profiler.network', 'profiler.coverage')))))")
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, timeout=120,
+                         cwd=str(__import__("pathlib").Path(__file__).resolve().parents[1]))
+    assert out.returncode == 0, out.stderr
+    assert out.stdout.split() == ["profiler.cli.link", "profiler.cli.options"]

@@ -37,6 +37,18 @@ class ProfilerGroup(click.Group):
             sys.exit(1)
         sys.exit(rv if isinstance(rv, int) else 0)
 
+    def list_commands(self, ctx):
+        return list(COMMANDS)
+
+    def get_command(self, ctx, cmd_name):
+        import importlib
+
+        target = COMMANDS.get(cmd_name)
+        if target is None:
+            return None
+        module, _, name = target.partition(":")
+        return getattr(importlib.import_module(module), name)
+
     def invoke(self, ctx):
         try:
             return super().invoke(ctx)
@@ -73,29 +85,15 @@ def main():
     """
 
 
-def _register():
-    from .bands import bands_command
-    from .link import link_command
-
-    main.add_command(link_command)
-    main.add_command(bands_command)
-    try:
-        from .mast import mast_command
-    except ImportError:  # pragma: no cover - during development only
-        return
-    main.add_command(mast_command)
-    from .network import network_command
-
-    main.add_command(network_command)
-    from .siting import siting_command
-
-    main.add_command(siting_command)
-    from .coverage import coverage_command
-
-    main.add_command(coverage_command)
-
-
-_register()
+#: The commands, imported only when one is asked for (``profiler link`` does not import the network code).
+COMMANDS = {
+    "link": "profiler.cli.link:link_command",
+    "mast": "profiler.cli.mast:mast_command",
+    "bands": "profiler.cli.bands:bands_command",
+    "network": "profiler.cli.network:network_command",
+    "siting": "profiler.cli.siting:siting_command",
+    "coverage": "profiler.cli.coverage:coverage_command",
+}
 
 
 def run():
