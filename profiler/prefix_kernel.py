@@ -18,7 +18,7 @@ reductions (eqs. 15, 19-22, 43, the spherical Earth, the budgets) is the
 numpy finish stage shared with ``profiler link``.
 
 numba is imported by this module only, and this module only by
-:func:`profiler.coverage_map.radial_fields`; compiled code is cached on disk
+:func:`profiler.coverage_radials.radial_fields`; compiled code is cached on disk
 (``cache=True``).
 
 References
