@@ -25,7 +25,7 @@ from .options import INTEGER, NUMBER, cluster_options, network_call_kwargs, netw
               help="Write the network map with the chosen sites highlighted: .png, .pdf or .svg.")
 @click.option("--paper", type=click.Choice(["a4", "letter"]), default="a4", show_default=True,
               help="Paper size of the figure (landscape).")
-@click.option("--dpi", type=click.IntRange(50, 1200), default=200, show_default=True,
+@click.option("--dpi", type=INTEGER, default=150, show_default=True,
               help="Resolution of a PNG figure [dots per inch].")
 @cluster_options
 def siting_command(redundancy, min_margin_db, max_gateways, time_limit_s, json_path, csv_path, geojson_path,
@@ -59,7 +59,7 @@ def siting_command(redundancy, min_margin_db, max_gateways, time_limit_s, json_p
         write_outputs(outputs, {"siting": report, "network": net})
 
 
-def siting_outputs(json_path, csv_path, geojson_path, plot_path, paper="a4", dpi=200, dem_paths=()):
+def siting_outputs(json_path, csv_path, geojson_path, plot_path, paper="a4", dpi=150, dem_paths=()):
     """The outputs of ``profiler siting``; each render gets ``{"siting": report, "network": network_report}``."""
     from ..outputs import Output, summary_output, text_of
 
