@@ -210,6 +210,7 @@ def coverage(site=None, *, dem, mast_m=None, name="site", sites=None, radius_km:
             g = gateways[int(np.argmax(outside))]
             raise ProfilerError(f"{g.name} ({g.lat_deg:.5f}, {g.lon_deg:.5f}) is outside the elevation data; "
                                 f"coverage: {model.bounds_text()}")
+        model.start_digests(lon_g, lat_g)   # provenance hashes run while the radials are swept
         res = float(resolution_m) if resolution_m is not None else float(model.pixel_size_m(lon_g[:1], lat_g[:1]))
         grid = make_grid(gateways, radius_m, res)
         with ThreadPoolExecutor(1) as pool:   # pyproj releases the GIL: the pixel positions overlap the sweep
@@ -218,8 +219,7 @@ def coverage(site=None, *, dem, mast_m=None, name="site", sites=None, radius_km:
                                                     float(node_mast_m), workers, scheduler, progress, kernel)
             lon, lat = positions.result()
         outside_data = ~np.asarray(model.covers(lon, lat))
-        sources = [{"path": s.path, "sha256": s.sha256, "crs": s.crs, "resolution": list(s.resolution)}
-                   for s in model.sources_used(lon_g, lat_g)]
+        sources = model.provenance(model.sources_used(lon_g, lat_g))
     bands = per_gateway[0] if sites is None else composite(per_gateway, settings.radio.fade_margin_db)
     for values in bands.values():   # a pixel centre off the data is nodata, whatever its nearest radial sample
         values[outside_data] = np.nan
