@@ -2,8 +2,9 @@
 
 Every writer takes the JSON report dictionary and returns text; the caller
 writes it with :func:`profiler.outputs.write_text` (atomic).  The safety
-rules of the single-link exports hold: text values pass through
-:func:`profiler.report.inert_text` (no spreadsheet formulas), JSON is escaped
+rules of the single-link exports hold: CSV and KML text values pass through
+:func:`profiler.report.inert_text` (no spreadsheet formulas), GeoJSON carries
+names as given (:mod:`json` escapes control characters), JSON is escaped
 by :mod:`json`, XML by :mod:`xml.etree.ElementTree` and KML descriptions are
 HTML-escaped (the helpers of :mod:`profiler.exports`), and every export
 carries :data:`profiler.CAUTION`.
@@ -188,7 +189,7 @@ def _site_results(report: dict, status: np.ndarray) -> dict[str, dict]:
 
 
 def _link_properties(link: dict, status: str) -> dict:
-    props = {"feature": "link", "name": _link_name(link)}
+    props = {"feature": "link", "name": _value(f"{link['gateway']} {_EN} {link['node']}")}
     props.update({key: _value(link.get(key)) for key, _ in LINK_COLUMNS})
     props["status"] = status
     return props
@@ -263,7 +264,7 @@ def network_geojson_dict(report: dict) -> dict:
     site_xy = np.round(np.column_stack([lon, lat]), 7).tolist()
     features = []
     for i, site in enumerate(report.get("sites") or []):
-        props = {"feature": "site", "name": inert_text(site["name"]), "role": _value(site.get("role")),
+        props = {"feature": "site", "name": _value(site["name"]), "role": _value(site.get("role")),
                  "lat_deg": site.get("lat_deg"), "lon_deg": site.get("lon_deg"),
                  "mast_m": site.get("mast_m"), "ground_m": site.get("ground_m"),
                  **results.get(site["name"], {}),

@@ -57,3 +57,50 @@ def test_empty_output_path_is_refused_naming_the_option(tmp_path, command, optio
     assert option in line and "empty" in line          # the option named, before the missing DEM is noticed
     assert "no-such-elevation-file" not in line
     assert list(tmp_path.iterdir()) == []
+
+
+# --------------------------------------------------------------------------- names as given in (Geo)JSON
+ODD = "Tab\there =1\nnext line"      # a tab, a newline and a formula start inside the name
+
+
+def _geojson_names(doc) -> set:
+    props = [f["properties"] for f in doc["features"]]
+    return {p.get(key) for p in props for key in ("name", "gateway", "node", "site_a_name", "site_b_name")}
+
+
+def test_link_geojson_and_json_carry_a_name_with_tab_and_newline_as_given(tmp_path):
+    # README: JSON and GeoJSON carry text as given; json escapes control characters itself (RFC 8259 s. 7).
+    res = run("link", "--dem", ROOT / "dem_samples", "--site-a", SITE_A, "--site-b", SITE_B, "--name-b", ODD,
+              "--geojson", tmp_path / "l.geojson", "--json", tmp_path / "l.json")
+    assert res.exit_code == 0, res.output
+    doc = json.loads((tmp_path / "l.geojson").read_text(encoding="utf-8"))
+    sites = {f["id"]: f["properties"] for f in doc["features"]}
+    assert sites["site_b"]["name"] == ODD and sites["path"]["site_b_name"] == ODD
+    assert ODD in sites["path"]["name"] and ODD in sites["site_b"]["description"]
+    assert json.loads((tmp_path / "l.json").read_text(encoding="utf-8"))["site_b"]["name"] == ODD
+
+
+def _odd_sites(tmp_path, role_of_odd="node"):
+    rows = ["name,lat_deg,lon_deg,mast_m,role,cost",
+            f"Cairnfell Beacon,{SITE_A},10,gateway,",
+            f'"{ODD}",{SITE_B},2,{role_of_odd},' + ("1" if role_of_odd == "candidate" else ""),
+            "Millbrook Tank,-29.85,-19.78,2,node,"]
+    path = tmp_path / "odd_sites.csv"
+    path.write_text("\n".join(rows) + "\n", encoding="utf-8")
+    return path
+
+
+def test_network_geojson_carries_names_as_given(tmp_path):
+    res = run("network", "--dem", ROOT / "dem_samples", "--sites", _odd_sites(tmp_path),
+              "--geojson", tmp_path / "n.geojson", "--no-progress")
+    assert res.exit_code == 0, res.output
+    names = _geojson_names(json.loads((tmp_path / "n.geojson").read_text(encoding="utf-8")))
+    assert ODD in names and f"Cairnfell Beacon \u2013 {ODD}" in names
+
+
+def test_siting_geojson_carries_names_as_given(tmp_path):
+    res = run("siting", "--dem", ROOT / "dem_samples", "--sites", _odd_sites(tmp_path, "candidate"),
+              "--geojson", tmp_path / "s.geojson", "--no-progress")
+    assert res.exit_code == 0, res.output
+    doc = json.loads((tmp_path / "s.geojson").read_text(encoding="utf-8"))
+    assert ODD in _geojson_names(doc)
