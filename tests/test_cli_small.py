@@ -104,3 +104,59 @@ def test_siting_geojson_carries_names_as_given(tmp_path):
     assert res.exit_code == 0, res.output
     doc = json.loads((tmp_path / "s.geojson").read_text(encoding="utf-8"))
     assert ODD in _geojson_names(doc)
+
+
+# --------------------------------------------------------------------------- hints: separator, swapped lat/lon
+def _sites_file(tmp_path, rows, name="sites.csv"):
+    path = tmp_path / name
+    path.write_text("\n".join(rows) + "\n", encoding="utf-8")
+    return path
+
+
+@pytest.mark.parametrize("sep,shown", [(";", "';'"), ("\t", "tabs")])
+def test_sites_file_with_another_separator_says_so(tmp_path, sep, shown):
+    rows = [sep.join(["name", "lat_deg", "lon_deg", "mast_m", "role"]),
+            sep.join(["Cairnfell Beacon", str(GATEWAY[0]), str(GATEWAY[1]), "10", "gateway"]),
+            sep.join(["Osterby Farm pump", str(PUMP[0]), str(PUMP[1]), "2", "node"])]
+    line = one_line_error(run("network", "--dem", ROOT / "dem_samples", "--sites", _sites_file(tmp_path, rows)))
+    assert f"seems to use {shown}" in line and "comma-separated" in line
+
+
+def test_pairs_file_with_semicolons_says_so(tmp_path):
+    pairs = _sites_file(tmp_path, ["gateway;node", "Cairnfell Beacon;Osterby Farm pump"], "pairs.csv")
+    line = one_line_error(run("network", "--dem", ROOT / "dem_samples", "--sites", SITES, "--pairs", pairs))
+    assert "seems to use ';'" in line and "comma-separated" in line
+
+
+def test_sites_file_latitude_out_of_range_hints_at_swapped_columns(tmp_path):
+    rows = ["name,lat_deg,lon_deg,mast_m,role", f"Cairnfell Beacon,{SITE_A},10,gateway",
+            "Osterby Farm pump,120.5,-29.9,2,node"]        # lon,lat of a site at 120.5 E
+    line = one_line_error(run("network", "--dem", ROOT / "dem_samples", "--sites", _sites_file(tmp_path, rows)))
+    assert "line 3" in line and "lat_deg 120.5 is out of range" in line and "lat/lon swapped?" in line
+    rows[-1] = "Osterby Farm pump,95,-190,2,node"            # nothing swapped can fix: no hint
+    line = one_line_error(run("network", "--dem", ROOT / "dem_samples", "--sites", _sites_file(tmp_path, rows)))
+    assert "out of range" in line and "swapped" not in line
+
+
+def test_site_option_latitude_out_of_range_hints_at_swapped_values():
+    res = run("link", "--dem", ROOT / "dem_samples", "--site-a", "120.5,-29.9", "--site-b", SITE_B)
+    line = one_line_error(res)
+    assert res.exit_code == 2 and "--site-a" in line and "lat/lon swapped?" in line
+    line = one_line_error(run("link", "--dem", ROOT / "dem_samples", "--site-a", "95,-100", "--site-b", SITE_B))
+    assert "out of range" in line and "swapped" not in line
+
+
+def test_site_outside_the_terrain_but_inside_when_swapped_says_so(tmp_path):
+    swapped = f"{GATEWAY[1]},{GATEWAY[0]}"                  # LON,LAT given for LAT,LON
+    res = run("link", "--dem", ROOT / "dem_samples", "--site-a", swapped, "--site-b", SITE_B)
+    line = one_line_error(res)
+    assert res.exit_code == 2 and "outside the elevation data" in line and "lat/lon swapped?" in line
+    far = f"{GATEWAY[1]},{GATEWAY[0] - 10}"                  # outside either way round: no hint
+    line = one_line_error(run("mast", "--dem", ROOT / "dem_samples", "--site-a", far, "--site-b", SITE_B))
+    assert "outside the elevation data" in line and "swapped" not in line
+    # The same for a row of the sites file (the link's error names the site).
+    rows = ["name,lat_deg,lon_deg,mast_m,role", f"Cairnfell Beacon,{swapped},10,gateway",
+            f"Osterby Farm pump,{SITE_B},2,node"]
+    line = one_line_error(run("network", "--dem", ROOT / "dem_samples", "--sites", _sites_file(tmp_path, rows),
+                              "--max-distance-km", "2000", "--no-progress"))
+    assert "Cairnfell Beacon" in line and "lat/lon swapped?" in line

@@ -28,7 +28,10 @@ class LatLon(click.ParamType):
         if not (math.isfinite(lat) and math.isfinite(lon)):
             self.fail(f"{value!r}: coordinates must be finite numbers", param, ctx)
         if not -90.0 <= lat <= 90.0:
-            self.fail(f"latitude {lat:g} is out of range -90..90 (the format is LAT,LON)", param, ctx)
+            from ..path import swapped_hint
+
+            self.fail(f"latitude {lat:g} is out of range -90..90 (the format is LAT,LON)"
+                      f"{swapped_hint(lat, lon)}", param, ctx)
         if not -180.0 <= lon <= 180.0:
             self.fail(f"longitude {lon:g} is out of range -180..180 (the format is LAT,LON)", param, ctx)
         return (lat, lon)
