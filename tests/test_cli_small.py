@@ -160,3 +160,25 @@ def test_site_outside_the_terrain_but_inside_when_swapped_says_so(tmp_path):
     line = one_line_error(run("network", "--dem", ROOT / "dem_samples", "--sites", _sites_file(tmp_path, rows),
                               "--max-distance-km", "2000", "--no-progress"))
     assert "Cairnfell Beacon" in line and "lat/lon swapped?" in line
+
+
+# --------------------------------------------------------------------------- --gateway only where it means something
+@pytest.mark.parametrize("command", ["network", "siting", "coverage"])
+def test_batch_commands_do_not_offer_gateway(command):
+    res = run(command, "--help")
+    assert res.exit_code == 0 and "--gateway" not in res.output
+    res = run(*COMMANDS[command], "--gateway", "a")
+    assert res.exit_code == 2 and "--gateway" in one_line_error(res)      # no such option
+
+
+@pytest.mark.parametrize("command", ["link", "mast"])
+def test_link_and_mast_keep_gateway(command):
+    assert "--gateway" in run(command, "--help").output
+
+
+def test_link_gateway_b_still_swaps_the_roles():
+    # Uplink is node -> gateway: with --gateway b the node is A, so the uplink budget runs A -> B.
+    args = ["link", "--dem", ROOT / "dem_samples", "--site-a", SITE_A, "--site-b", SITE_B, "--json", "-"]
+    default, swapped = (json.loads(run(*args, *extra).output) for extra in ([], ["--gateway", "b"]))
+    assert (default["budget"]["transmitter"], default["budget"]["receiver"]) == ("b", "a")
+    assert (swapped["budget"]["transmitter"], swapped["budget"]["receiver"]) == ("a", "b")

@@ -4,8 +4,8 @@ from __future__ import annotations
 
 import click
 
-from .options import (NON_NEGATIVE, POSITIVE, LatLon, clearance_ratio_option, cluster_options, frequency_options,
-                      k_option, plot_options, radio_options, radio_settings)
+from .options import (NON_NEGATIVE, POSITIVE, LatLon, batch_radio_options, clearance_ratio_option, cluster_options,
+                      frequency_options, k_option, plot_options, radio_settings)
 
 
 @click.command("coverage")
@@ -25,7 +25,7 @@ from .options import (NON_NEGATIVE, POSITIVE, LatLon, clearance_ratio_option, cl
 @k_option
 @frequency_options
 @clearance_ratio_option()
-@radio_options
+@batch_radio_options
 @click.option("--out", "out_path", required=True, type=click.Path(dir_okay=False), metavar="COVERAGE.tif",
               help="Write the bands as a float32 GeoTIFF.")
 @click.option("--kmz", "kmz_path", default=None, type=click.Path(dir_okay=False), metavar="OVERLAY.kmz",

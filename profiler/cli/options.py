@@ -167,10 +167,26 @@ def frequency_options(f):
 
 
 def radio_options(f):
-    """Link budget, LoRa modem, antennas, losses."""
+    """Link budget, LoRa modem, antennas, losses, and ``--gateway`` (which end is the gateway: link, mast)."""
     return _apply([
         click.option("--gateway", type=click.Choice(["a", "b"]), default="a", show_default=True,
                      help="Which end is the gateway; the other end is the node."),
+        *_radio_option_list(),
+    ])(f)
+
+
+def batch_radio_options(f):
+    """The radio options of the batch commands (network, siting, coverage): no ``--gateway``.
+
+    There every link runs from a gateway or candidate site (end A) to a
+    node (end B); the sites file's ``role`` column says which is which.
+    """
+    return _apply(_radio_option_list())(f)
+
+
+def _radio_option_list():
+    """The options of :func:`radio_options` other than ``--gateway`` (new decorators on each call)."""
+    return [
         click.option("--tx-power-dbm", type=NUMBER, default=None,
                      help="The node's transmitter power [dBm] (shorthand for --tx-power-a/b-dbm of the node end; "
                           "default 14 dBm, or the plan's EIRP limit if lower)."),
@@ -210,13 +226,17 @@ def radio_options(f):
                      default="delta-bullington", show_default=True, help="Diffraction model (ITU-R P.526-15)."),
         click.option("--extra-loss-db", type=NON_NEGATIVE, default=0.0, show_default=True,
                      help="Fixed extra loss: foliage, building entry, ... [dB]."),
-    ])(f)
+    ]
 
 
 def radio_settings(kw):
-    """Build :class:`RadioSettings` from the parsed radio options (popping them from ``kw``)."""
+    """Build :class:`RadioSettings` from the parsed radio options (popping them from ``kw``).
+
+    Without ``--gateway`` (the batch commands) the gateway is end A.
+    """
     from ..radio import RadioSettings
 
+    kw.setdefault("gateway", "a")
     names = ("gateway", "tx_power_dbm", "tx_power_a_dbm", "tx_power_b_dbm", "cap_eirp", "gain_a_dbi", "gain_b_dbi",
              "cable_loss_a_db", "cable_loss_b_db", "fade_margin_db", "sensitivity_dbm", "bw_khz", "noise_figure_db",
              "noise_figure_a_db", "noise_figure_b_db", "sf", "payload_bytes", "app_payload_bytes", "dwell_time",
@@ -250,7 +270,7 @@ def clearance_ratio_option(help_text="Required clearance as a fraction of the fi
 
 def network_options(f):
     """Site list, pairs, elevation data and every link option of a batch command (network, siting)."""
-    f = radio_options(clearance_ratio_option()(frequency_options(k_option(f))))
+    f = batch_radio_options(clearance_ratio_option()(frequency_options(k_option(f))))
     return _apply([
         click.option("--dem", "dem_paths", multiple=True, metavar="PATH",
                      help="Elevation file (GeoTIFF, .hgt, VRT, ...) or folder of tiles; repeatable."),
