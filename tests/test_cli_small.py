@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import json
+import re
 import shlex
 
 import pytest
@@ -182,3 +183,26 @@ def test_link_gateway_b_still_swaps_the_roles():
     default, swapped = (json.loads(run(*args, *extra).output) for extra in ([], ["--gateway", "b"]))
     assert (default["budget"]["transmitter"], default["budget"]["receiver"]) == ("b", "a")
     assert (swapped["budget"]["transmitter"], swapped["budget"]["receiver"]) == ("a", "b")
+
+
+# --------------------------------------------------------------------------- --help examples run on the bundled terrain
+def help_examples(command: str) -> list[list[str]]:
+    """The example command lines of ``profiler COMMAND --help`` (continuation lines joined), split like a shell."""
+    text = run(command, "--help").output
+    block = re.split(r"Examples?:\n", text, maxsplit=1)[1].split("\n\n", 1)[0]
+    joined = block.replace("\\\n", " ")
+    return [shlex.split(line.strip()) for line in joined.splitlines() if line.strip().startswith("profiler ")]
+
+
+@pytest.mark.parametrize("command", ["link", "network", "siting"])
+def test_help_examples_run_on_the_bundled_terrain(tmp_path, monkeypatch, command):
+    examples = help_examples(command)
+    assert examples and all(e[:2] == ["profiler", command] for e in examples)
+    monkeypatch.chdir(tmp_path)                      # outputs of the examples land here
+    for example in examples:
+        assert "--dem" in example and example[example.index("--dem") + 1] == "dem_samples"
+        args = [str(ROOT / a) if (ROOT / a).exists() and not a.startswith("-") else a for a in example[1:]]
+        if command != "link":
+            args.append("--no-progress")
+        res = run(*args)
+        assert res.exit_code == 0, (example, res.output)
