@@ -39,7 +39,7 @@ from .report import inert_text, summary_rows, verdict
 from .textsafe import json_text
 
 __all__ = ["geojson_dict", "geojson_text", "write_geojson", "kml_text", "write_kml",
-           "split_at_antimeridian", "KML_NAMESPACE"]
+           "split_at_antimeridian", "site_label", "KML_NAMESPACE"]
 
 KML_NAMESPACE = "http://www.opengis.net/kml/2.2"
 
@@ -79,6 +79,12 @@ def _as_given(value) -> str:
 
 def _link_name(report: dict, text=_text) -> str:
     return f"{text(report['site_a']['name'])} {_EN} {text(report['site_b']['name'])}"
+
+
+def site_label(key: str, name: str) -> str:
+    """``A Cairnfell Beacon``: the end's letter and its name, or the name alone when it is that letter
+    (a site named ``A`` is labelled ``A``, not ``A A``)."""
+    return name if name.strip().upper() == key.upper() else f"{key.upper()} {name}"
 
 
 def _value(value):
@@ -419,7 +425,7 @@ def kml_text(report: dict) -> str:
     for key, index in (("a", 0), ("b", -1)):
         site = report[f"site_{key}"]
         mark = _sub(doc, "Placemark")
-        _sub(mark, "name", f"{key.upper()} {_text(site['name'])}")
+        _sub(mark, "name", site_label(key, _text(site["name"])))
         _sub(mark, "description", _html_description(_site_lines(report, key)))
         _sub(mark, "styleUrl", "#site")
         point = _sub(mark, "Point")

@@ -55,8 +55,10 @@ def atomic_path(path: str | os.PathLike) -> Iterator[Path]:
 
     The temporary file keeps the target's suffix so that writers choosing a
     format by extension (matplotlib) see the right one.  On any exception the
-    temporary file is removed and ``path`` is left untouched.
+    temporary file is removed and ``path`` is left untouched.  An empty path
+    or one that is a folder is refused (:func:`check_output_path`).
     """
+    check_output_path(path, stdout=False)
     target = Path(path)
     tmp_path = _temp_beside(target)
     try:

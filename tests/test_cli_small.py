@@ -206,3 +206,26 @@ def test_help_examples_run_on_the_bundled_terrain(tmp_path, monkeypatch, command
             args.append("--no-progress")
         res = run(*args)
         assert res.exit_code == 0, (example, res.output)
+
+
+# --------------------------------------------------------------------------- labels
+def test_kml_labels_a_site_named_like_its_end_once(tmp_path):
+    import xml.etree.ElementTree as ET
+
+    kml = "{http://www.opengis.net/kml/2.2}"
+    res = run("link", "--dem", ROOT / "dem_samples", "--site-a", SITE_A, "--site-b", SITE_B, "--name-b", "Osterby",
+              "--kml", tmp_path / "l.kml")                    # A keeps its default name "A"
+    assert res.exit_code == 0, res.output
+    names = [el.text for el in ET.parse(tmp_path / "l.kml").getroot().iter(f"{kml}name")]
+    assert "A" in names and "B Osterby" in names and "A A" not in names
+
+
+@pytest.mark.parametrize("path", ["", "   "])
+def test_python_writers_refuse_an_empty_path(tmp_path, monkeypatch, path):
+    from profiler.errors import ProfilerError
+    from profiler.report import write_json
+
+    monkeypatch.chdir(tmp_path)
+    with pytest.raises(ProfilerError, match="empty"):
+        write_json({"schema": "x"}, path)
+    assert list(tmp_path.iterdir()) == []

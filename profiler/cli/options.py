@@ -20,11 +20,11 @@ class LatLon(click.ParamType):
             return value
         parts = str(value).replace(";", ",").split(",")
         if len(parts) != 2:
-            self.fail(f"{value!r} is not LAT,LON (for example 46.52,-7.91)", param, ctx)
+            self.fail(f"{value!r} is not LAT,LON (for example -29.9125,-19.955)", param, ctx)
         try:
             lat, lon = float(parts[0]), float(parts[1])
         except ValueError:
-            self.fail(f"{value!r} is not LAT,LON in decimal degrees (for example 46.52,-7.91)", param, ctx)
+            self.fail(f"{value!r} is not LAT,LON in decimal degrees (for example -29.9125,-19.955)", param, ctx)
         if not (math.isfinite(lat) and math.isfinite(lon)):
             self.fail(f"{value!r}: coordinates must be finite numbers", param, ctx)
         if not -90.0 <= lat <= 90.0:
