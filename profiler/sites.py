@@ -27,7 +27,7 @@ from pathlib import Path
 
 import numpy as np
 
-from .errors import ProfilerError
+from .errors import ProfilerError, refuse_empty_path
 
 __all__ = ["SiteTable", "read_sites_csv", "sites_from_records", "read_pairs_csv", "pairs_from_names",
            "candidate_pairs", "ROLES", "GATEWAY_ROLES", "REQUIRED_COLUMNS", "OVERRIDE_COLUMNS",
@@ -128,6 +128,7 @@ class SiteTable:
 # --------------------------------------------------------------------------- CSV reading
 def _read_rows(path, what: str, option: str, hint: str) -> tuple[list[str], list[tuple[int, list[str]]]]:
     """Header (lower case, stripped) and ``(line number, cells)`` data rows of a CSV file."""
+    refuse_empty_path(path, option, f"the {what} CSV file")
     p = Path(path)
     if not p.is_file():
         raise ProfilerError(f"{what} file not found: {p}; check {option}")
@@ -304,8 +305,8 @@ def read_sites_csv(path) -> SiteTable:
         0..1000 [m], losses and noise figure >= 0 [dB], cost > 0) or an
         unknown polarization.  The message names the file and the line.
     """
+    header, rows = _read_rows(path, "sites", "--sites", _SITES_HINT)
     p = Path(path)
-    header, rows = _read_rows(p, "sites", "--sites", _SITES_HINT)
     return _build_table(header, rows, lambda line: f"sites file {p} line {line}", str(p))
 
 
@@ -384,8 +385,8 @@ def read_pairs_csv(path, sites: SiteTable) -> tuple[np.ndarray, np.ndarray]:
         gateway or candidate, a ``node`` that is not a node, a duplicate
         pair, or a file without pairs; the message names the line.
     """
+    header, rows = _read_rows(path, "pairs", "--pairs", "header gateway,node and one row per link")
     p = Path(path)
-    header, rows = _read_rows(p, "pairs", "--pairs", "header gateway,node and one row per link")
     where = lambda line: f"pairs file {p} line {line}"  # noqa: E731
     missing = [c for c in ("gateway", "node") if c not in header]
     if missing:

@@ -229,3 +229,22 @@ def test_python_writers_refuse_an_empty_path(tmp_path, monkeypatch, path):
     with pytest.raises(ProfilerError, match="empty"):
         write_json({"schema": "x"}, path)
     assert list(tmp_path.iterdir()) == []
+
+
+# --------------------------------------------------------------------------- empty input paths
+EMPTY_INPUTS = [
+    (["link", "--dem", "", "--site-a", SITE_A, "--site-b", SITE_B], "--dem"),     # would scan the working folder
+    (["mast", "--profile", "", "--site-a", SITE_A, "--site-b", SITE_B], "--profile"),
+    (["link", "--dem", str(ROOT / "dem_samples"), "--site-a", SITE_A, "--site-b", SITE_B, "--sheet-info", ""],
+     "--sheet-info"),
+    (["network", "--dem", str(ROOT / "dem_samples"), "--sites", ""], "--sites"),
+    (["network", "--dem", str(ROOT / "dem_samples"), "--sites", SITES, "--pairs", ""], "--pairs"),
+]
+
+
+@pytest.mark.parametrize("args,option", EMPTY_INPUTS)
+def test_empty_input_path_is_refused_naming_the_option(tmp_path, monkeypatch, args, option):
+    monkeypatch.chdir(tmp_path)
+    res = run(*args)
+    line = one_line_error(res)
+    assert res.exit_code == 2 and f"{option}: the path is empty" in line
