@@ -88,7 +88,7 @@ def test_distances_and_azimuths_against_geographiclib(tmp_path):
 
 def test_contract_nodes_and_summary(tmp_path):
     report = net_json("--dem", SAMPLE, "--sites", random_sites(tmp_path, 12), "--fill-voids")
-    assert report["schema"] == "profiler.network/1"
+    assert report["schema"] == "profiler.network/2"
     assert {"sites", "links", "nodes", "summary", "band", "frequency_mhz", "k_factor", "dem", "warnings",
             "caution"} <= set(report)
     assert LINK_KEYS <= set(report["links"][0])
