@@ -171,6 +171,8 @@ def test_bad_outputs_and_reports_are_profiler_errors(tmp_path, report):
         write_network_figure(report, tmp_path / "no" / "network.png")
     with pytest.raises(ProfilerError, match="no sites"):
         write_network_figure({**report, "sites": []}, tmp_path / "network.png")
+    with pytest.raises(ProfilerError, match="best, all"):
+        write_network_figure(report, tmp_path / "network.png", links="some")
     assert list(tmp_path.iterdir()) == []
 
 
@@ -320,3 +322,29 @@ def test_site_names_clear_of_north_arrow_and_scale_bar():
             shared = max(0.0, min(box.x1, other.x1) - max(box.x0, other.x0)) * max(0.0, min(box.y1, other.y1)
                                                                                  - max(box.y0, other.y0))
             assert shared == 0.0
+
+
+def test_candidates_and_what_they_add_are_drawn_apart():
+    """A node only a candidate site hears is drawn in the candidate colour, apart from the nodes an
+    existing gateway hears and from those nobody hears; the candidate's marker differs from the
+    gateway's in shape and colour; with links="best" each node shows only its best link from a gateway
+    and its best from a candidate."""
+    from matplotlib.colors import to_rgba
+
+    sites = SITES[:2] + [("Osterby Farm pump", PUMP, "node"), ("Millbrook Tank", TANK, "node"),
+                         ("Wendle Reservoir", (-30.0, -19.845), "node")]
+    links = [("Cairnfell Beacon", "Osterby Farm pump", 4.0, None), ("Tollan Down mast", "Osterby Farm pump", 15.0, None),
+             ("Cairnfell Beacon", "Millbrook Tank", 18.0, None), ("Tollan Down mast", "Millbrook Tank", 12.0, None),
+             ("Cairnfell Beacon", "Wendle Reservoir", -3.0, None), ("Tollan Down mast", "Wendle Reservoir", -1.0, None)]
+    report = network_report(sites, links)
+    ax = _map_axes(build_network_figure(report, dem_paths=None))
+    lines = {line.get_gid(): line for line in ax.get_lines() if line.get_gid()}
+    for gid, lon in (("sites-node", TANK[1]), ("sites-node_candidate", PUMP[1]), ("sites-node_uncovered", -19.845)):
+        assert list(lines[gid].get_xdata()) == pytest.approx([lon], abs=1e-9)
+    gateway, candidate = lines["sites-gateway"], lines["sites-candidate"]
+    assert gateway.get_marker() != candidate.get_marker()
+    assert to_rgba(gateway.get_markerfacecolor()) != to_rgba(candidate.get_markerfacecolor())
+    assert to_rgba(lines["sites-node_candidate"].get_markerfacecolor()) == to_rgba(candidate.get_markerfacecolor())
+    drawn = {c.get_gid(): len(c.get_segments()) for c in ax.collections if "links-" in (c.get_gid() or "")}
+    assert sum(drawn.values()) == 6                 # three nodes, each its best gateway link and best candidate link
+    assert sum(n for gid, n in drawn.items() if gid.startswith("candidate-links-")) == 3
