@@ -86,29 +86,38 @@ def network_outputs(json_path, csv_path, geojson_path, kml_path, plot_path, pape
 
 def network_summary_text(report: dict) -> str:
     """Short human summary: counts (existing gateways and candidate sites apart), then one line per node
-    (best gateway, margin, data rate; best candidate and its margin)."""
+    (best gateway, margin, data rate; with candidate sites, the candidates heard, the best and its margin)."""
     from .. import CAUTION
 
     s = report["summary"]
+    cand = s["candidates"] > 0
     band = f" ({report['band']})" if report.get("band") else ""
+    with_cand = (f"; {s['nodes_covered_with_candidates']} of {s['nodes_total']} with the candidate sites"
+                 if cand else "")
     lines = [f"Network: {s['links']} links, {s['closing']} close with the {report['fade_margin_db']:g} dB fade margin, "
              f"{s['errors']} could not be computed",
              f"  frequency     {report['frequency_mhz']:.4f} MHz{band}, k = {report['k_factor']:.4g}",
-             f"  sites         {s['gateways']} existing gateways, {s['candidates']} candidate sites, "
-             f"{s['nodes_total']} nodes",
+             f"  sites         {_count(s['gateways'], 'existing gateway')}, {_count(s['candidates'], 'candidate site')}, "
+             f"{_count(s['nodes_total'], 'node')}",
              f"  nodes         {s['nodes_covered_by_gateways']} of {s['nodes_total']} heard by the existing gateways "
-             f"({s['nodes_covered_twice']} by two or more); {s['nodes_covered_with_candidates']} of "
-             f"{s['nodes_total']} with the candidate sites",
-             "  node                              heard  best gateway                     margin [dB]  DR   "
-             "cand.  best candidate                   margin [dB]"]
+             f"({s['nodes_covered_twice']} by two or more){with_cand}",
+             "  node                              heard  best gateway                     margin [dB]  DR"
+             + ("   cand.  best candidate                   margin [dB]" if cand else "")]
     for n in report["nodes"]:
-        lines.append(f"  {_cut(n['name'], 32):<32}  {n['gateways_heard']:>5}  {_cut(n['best_gateway'] or '-', 31):<31}"
-                     f"  {_margin(n['best_margin_db'])}  {_dr(n['recommended_dr']):<4} {n['candidates_heard']:>5}  "
-                     f"{_cut(n['best_candidate'] or '-', 31):<31}  {_margin(n['best_candidate_margin_db'])}")
+        line = (f"  {_cut(n['name'], 32):<32}  {n['gateways_heard']:>5}  {_cut(n['best_gateway'] or '-', 31):<31}"
+                f"  {_margin(n['best_margin_db'])}  {_dr(n['recommended_dr']):<4}")
+        if cand:
+            line += (f" {n['candidates_heard']:>5}  {_cut(n['best_candidate'] or '-', 31):<31}"
+                     f"  {_margin(n['best_candidate_margin_db'])}")
+        lines.append(line)
     for msg in report["warnings"]:
         lines.append(f"  warning       {msg}")
     lines.append(f"  {CAUTION}")
     return "\n".join(line.rstrip() for line in lines) + "\n"
+
+
+def _count(n: int, word: str) -> str:
+    return f"{n} {word}" + ("" if n == 1 else "s")
 
 
 def _margin(value) -> str:

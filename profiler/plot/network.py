@@ -41,10 +41,11 @@ import numpy as np
 from ..errors import ProfilerError
 from . import basemap
 from .audit import contain
+from .network_text import TextMeasure, wrap_label
 from .titleblock import draw_title_box, title_block_rows
 from .sheet import (BADGE_BAD, BADGE_GOOD, BADGE_WARN, DASH, EN, MIDDOT, clean, draw_footer,
                     draw_tables, draw_title_block, fraction, inch_axes, k_text, new_sheet, num, put_text,
-                    sheet_legend, source_text, style, text_width_in, wrap_text, write_sheet)
+                    sheet_legend, source_text, style, wrap_text, write_sheet)
 
 __all__ = ["LINK_CHOICES", "STATUSES", "build_network_figure", "drawn_links", "link_status",
            "write_network_figure"]
@@ -260,6 +261,10 @@ def _draw_header(ax, report: dict, renderer) -> None:
 
 
 # --------------------------------------------------------------------------- map
+def _has_candidates(report: dict) -> bool:
+    return any(s.get("role") == "candidate" for s in report.get("sites") or [])
+
+
 def _covered_by_gateways(summary: dict) -> int:
     """Nodes the existing gateways hear (``nodes_covered`` in a report older than ``profiler.network/2``)."""
     return int(summary.get("nodes_covered_by_gateways", summary.get("nodes_covered")) or 0)
@@ -291,8 +296,9 @@ def _draw_map(ax, report, sites, status, drawn, dem_paths, highlight, marked, re
     if omitted:
         caption += f"  {MIDDOT}  {omitted} of {len(sites['name'])} site names left out (crowded)"
     total = len(report.get("links") or [])
+    best = "from a gateway and from a candidate" if _has_candidates(report) else "from a gateway"
     shown = (f"all {total} links drawn" if len(drawn) == total else
-             f"{len(drawn)} of {total} links drawn (per node the best from a gateway and from a candidate)")
+             f"{len(drawn)} of {total} links drawn (per node the best {best})")
     width_in = ax.get_window_extent(renderer).width / ax.figure.dpi
     text = f"{caption}  {MIDDOT}  {shown}, straight between the sites"
     ax.annotate("\n".join(wrap_text(text, width_in, renderer, 6.2)), xy=(0.5, 0.0), xycoords="axes fraction",
@@ -407,56 +413,6 @@ def _marker_half_px(sites, highlight, marked, dpi) -> np.ndarray:
     return 0.5 * ms * dpi / 72.0
 
 
-class TextMeasure:
-    """Drawn widths [in] of texts in the sheet font: :meth:`estimate` adds cached widths of single
-    characters (fast, kerning ignored), :meth:`exact` asks the renderer."""
-
-    def __init__(self, renderer):
-        self.renderer = renderer
-        self.chars = {}
-
-    def estimate(self, s: str, size: float, bold: bool = False) -> float:
-        for c in set(s) - self.chars.keys():
-            self.chars[c] = text_width_in(self.renderer, c, 10.0, bold)     # scales with the size
-        return sum(self.chars[c] for c in s) * size / 10.0
-
-    def exact(self, s: str, size: float, bold: bool = False) -> float:
-        return text_width_in(self.renderer, s, size, bold)
-
-
-def _greedy_lines(name: str, width_in: float, measure, size: float, bold: bool) -> list[str]:
-    """Words filled into lines of estimated width ``width_in`` [in]; a longer word broken inside."""
-    lines, line = [], ""
-    for word in name.split(" "):
-        joined = f"{line} {word}" if line else word
-        if measure.estimate(joined, size, bold) <= width_in:
-            line = joined
-            continue
-        if line:
-            lines.append(line)
-        line = word
-        while len(line) > 1 and measure.estimate(line, size, bold) > width_in:
-            widths = np.cumsum([measure.estimate(c, size, bold) for c in line])
-            cut = max(int(np.searchsorted(widths, width_in, side="right")), 1)
-            lines.append(line[:cut])
-            line = line[cut:]
-    return lines + [line]
-
-
-def wrap_label(name: str, max_width_in: float, renderer, size: float, bold: bool = False, *,
-               measure: TextMeasure | None = None) -> str:
-    """``name`` on lines at most ``max_width_in`` wide, broken at spaces, a word longer than the line
-    broken inside; every character kept (never cut).  Each line is checked with the renderer."""
-    measure = measure or TextMeasure(renderer)
-    target = max_width_in
-    for _ in range(10):
-        lines = _greedy_lines(name, target, measure, size, bold)
-        if all(measure.exact(line, size, bold) <= max_width_in for line in lines):
-            break
-        target *= 0.96
-    return "\n".join(lines)
-
-
 def _free_spot(name, point, gap, taken, frame, renderer, size, bold, measure=None):
     """The first of eight places around ``point`` [px], ``gap`` [px] out then farther, where the
     label overlaps nothing taken (markers included).
@@ -516,12 +472,15 @@ def _draw_legend(ax, report, highlight, marked) -> None:
              "error": "Not computed (error)"}
     handles = [Line2D([], [], color=STATUS_STYLE[k]["color"], lw=STATUS_STYLE[k]["lw"], ls=STATUS_STYLE[k]["ls"],
                       label=texts[k]) for k in STATUSES]
+    candidates = _has_candidates(report)
     closes = STATUS_STYLE["closes"]
-    handles.append(Line2D([], [], color=closes["color"], lw=closes["lw"] * CANDIDATE_LINK["width"],
-                          alpha=CANDIDATE_LINK["alpha"], label="Link of a candidate site: thinner, paler"))
+    if candidates:
+        handles.append(Line2D([], [], color=closes["color"], lw=closes["lw"] * CANDIDATE_LINK["width"],
+                              alpha=CANDIDATE_LINK["alpha"], label="Link of a candidate site: thinner, paler"))
     roles = (("gateway", "Existing gateway"), ("candidate", "Candidate site (not built)"),
              ("node", "Node covered by a gateway"), ("node_candidate", "Node covered only with a candidate"),
              ("node_uncovered", "Node not covered"))
+    roles = [r for r in roles if candidates or r[0] not in ("candidate", "node_candidate")]
     handles += [Line2D([], [], ls="none", label=label, **ROLE_STYLE[key]) for key, label in roles]
     if highlight:
         handles.append(Line2D([], [], ls="none", label="Chosen site", **{**HIGHLIGHT_STYLE, "ms": 10.0}))
@@ -586,7 +545,7 @@ def _draw_uncovered(ax, report, sites, renderer) -> None:
     by_gateways = [sites["label"][i] for i in np.flatnonzero(node & ~sites["covered"])]
     at_all = [sites["label"][i] for i in np.flatnonzero(node & ~sites["covered"] & ~sites["candidate_covered"])]
     sections = [(f"Nodes not covered by gateways ({len(by_gateways)})", by_gateways)]
-    if (report.get("summary") or {}).get("candidates") or any(sites["role"] == "candidate"):
+    if _has_candidates(report):
         sections.append((f"Not covered even with candidates ({len(at_all)})", at_all))
     title_h, gap, measure = 0.16, 0.06, TextMeasure(renderer)
     for size in NAME_LIST_PT:
