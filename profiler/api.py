@@ -90,7 +90,7 @@ def network(sites, *, dem, **kwargs):
     """Every gateway -> node link of a site list: see :func:`profiler.network_analysis.network`.
 
     Returns a :class:`~profiler.network_analysis.NetworkResult` whose
-    ``to_dict()`` is the ``profiler.network/1`` JSON report.
+    ``to_dict()`` is the ``profiler.network/2`` JSON report.
     """
     from .network_analysis import network as _network
 
