@@ -135,9 +135,9 @@ def _draw_header(ax, report, renderer) -> None:
     def fit_title(artist, room_in):      # a name too long for one line: the count here, the names in the table
         artist.set_text(short)
 
-    badge = f"{share:.0%} of the area heard" + (" with candidates" if s.get("candidates") else "")
-    draw_title_block(ax, renderer, f"Coverage map: {_title(report)}", f"  {MIDDOT}  ".join(parts), badge,
-                     badge_style, badge_label="COVERAGE", fit_title=fit_title)
+    label = "COVERAGE WITH THE CANDIDATE SITES" if s.get("candidates") else "COVERAGE"
+    draw_title_block(ax, renderer, f"Coverage map: {_title(report)}", f"  {MIDDOT}  ".join(parts),
+                     f"{share:.0%} of the area heard", badge_style, badge_label=label, fit_title=fit_title)
 
 
 # --------------------------------------------------------------------------- map
