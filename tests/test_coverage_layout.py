@@ -22,6 +22,7 @@ from profiler.plot.coverage import build_coverage_figure
 RADIUS_KM, RES_M = 1.5, 150.0
 SHORT = "Cairnfell Beacon"
 LONG = ("Cairnfell Beacon upper hill-top gateway cabinet on the old fire lookout " * 3)[:200]   # invented
+MEDIUM = LONG[:80]
 CANDIDATE = (GATEWAY[0] - 0.012, GATEWAY[1] + 0.015)
 EU868_MAX_EIRP_DBM = 16.0          # RP002-1.0.4 section 2.2.7 (EU863-870 default max EIRP)
 
@@ -43,7 +44,8 @@ def _with_candidate(folder, name):
 def runs(tmp_path_factory):
     folder = tmp_path_factory.mktemp("coverage-layout")
     return {("single", "short"): _single(SHORT), ("single", "long"): _single(LONG),
-            ("sites", "short"): _with_candidate(folder, SHORT), ("sites", "long"): _with_candidate(folder, LONG)}
+            ("sites", "short"): _with_candidate(folder, SHORT), ("sites", "medium"): _with_candidate(folder, MEDIUM),
+            ("sites", "long"): _with_candidate(folder, LONG)}
 
 
 @pytest.fixture(scope="module")
@@ -52,7 +54,9 @@ def figures(runs):
             for key, result in runs.items() for paper in ("a4", "letter")}
 
 
-CASES = [(paper, kind, name) for paper in ("a4", "letter") for kind in ("single", "sites") for name in ("short", "long")]
+CASES = [(paper, *key) for paper in ("a4", "letter") for key in (("single", "short"), ("single", "long"),
+                                                                  ("sites", "short"), ("sites", "medium"),
+                                                                  ("sites", "long"))]
 
 
 @pytest.mark.parametrize("case", CASES, ids=["-".join(c) for c in CASES])
