@@ -232,22 +232,20 @@ def _label_sites(ax, sites, lon, lat, points, taken, furniture, renderer) -> Non
     for s, key, x, y in zip(sites, site_keys(sites), lon, lat):
         lines = _wrapped(clean(s["name"]), 1.8, renderer, 7.5, bold=True)
         text = "\n".join(lines) if len(lines) <= 2 else key      # a long name: its key here, in full in the table
-        best = None
+        tries = []
         for dx, dy, ha, va in offsets:
             label = ax.annotate(text, xy=(x, y), xytext=(dx, dy), textcoords="offset points", ha=ha, va=va,
                                 fontsize=7.5, fontweight="bold", zorder=6, parse_math=False, linespacing=1.0,
                                 path_effects=basemap.halo(3.0))
             moved = basemap.keep_inside(label, ax, renderer)
             box = label.get_window_extent(renderer).transformed(to_axes)
-            score = basemap.label_score(box, points, taken, furniture, moved)
-            if best is None or score < best[0]:
-                if best is not None:
-                    best[1].remove()
-                best = (score, label, box)
-            else:
+            tries.append((basemap.label_score(box, points, taken, furniture, moved), len(tries), label, box))
+        _, _, chosen, box = min(tries)          # the first of equal scores
+        for _, _, label, _ in tries:
+            if label is not chosen:
                 label.remove()
-        contain(best[1], ax)
-        taken.append(best[2])
+        contain(chosen, ax)
+        taken.append(box)
 
 
 def _draw_legend(ax, result, report, roles) -> None:
