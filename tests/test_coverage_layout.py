@@ -191,3 +191,20 @@ def test_out_optional_and_no_output_refused(tmp_path):
     assert r.exit_code == 2
     lines = [line for line in r.output.splitlines() if line.strip()]
     assert len(lines) == 1 and "--out" in lines[0] and "--plot" in lines[0] and "Traceback" not in r.output
+
+
+def test_many_sites_counted_never_dropped_silently():
+    import re
+    from pathlib import Path
+
+    sites_csv = Path(__file__).resolve().parents[1] / "examples" / "vellmoor_network.csv"
+    result = coverage(dem=DEM, sites=sites_csv, radius_km=0.6, resolution_m=RES_M, progress=False)
+    fig = build_coverage_figure(result, paper="letter", dem_paths=DEM)
+    assert [str(p) for p in layout_problems(fig)] == []
+    drawn = _texts(_axes(fig, "coverage-sites"))
+    records = result.report["gateways"]
+    shown = [s for s in records if s["name"] in drawn]
+    more = re.search(r"(\d+) more site\(s\) not shown", drawn)
+    assert len(shown) + (int(more.group(1)) if more else 0) == len(records) == 6
+    s = result.report["summary"]
+    assert (s["gateways"], s["candidates"]) == (2, 4)

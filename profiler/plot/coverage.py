@@ -106,7 +106,7 @@ def build_coverage_figure(result, report=None, paper: str = "a4", dem_paths=None
         below = legend_bottom - 0.12 - (margin + block_h + 0.15)
         sites_ax = inch_axes(fig, (side_left, margin + block_h + 0.15, side_w, below), width_in, height_in)
         sites_ax.set_label("coverage-sites")
-        area_h = 0.135 * (len(_blocks(report)[0][2]) + 1) + 0.03      # the area table at least 0.135 in a row
+        area_h = 0.125 * (len(_blocks(report)[0][2]) + 1) + 0.03      # the area table at least 0.125 in a row
         used = draw_site_table(sites_ax, renderer, _sites(report), max_height_in=below - 0.15 - area_h)
         table_ax = inch_axes(fig, (side_left, margin + block_h + 0.15, side_w, below - used - 0.15), width_in,
                              height_in)
@@ -182,6 +182,9 @@ def _draw_map(ax, result, report, dem_paths, renderer) -> None:
     from matplotlib.transforms import Bbox
 
     taken = [basemap.artists_box(ax, [t], renderer) for t in ring_labels]
+    if basemap.overlap(*taken) > 0:        # small rings on a wide map: the outer label only (the caption
+        ring_labels.pop(0).remove()        # states the ring spacing)
+        taken.pop(0)
     room = [Bbox([[x - 0.1, y - 0.05], [x + 0.1, y + 0.05]]) for x, y in points]   # for the names, placed next
     furniture = basemap.place_furniture(ax, ext, points, taken + room, renderer)
     _label_sites(ax, sites, lon, lat, points, taken, furniture, renderer)
@@ -310,7 +313,7 @@ def _site_layout(rows, width, renderer, fontsize, pad):
     cols[0] += max(0.0, width - sum(cols))           # the position column takes the room left
     line_h = fontsize * 1.25 / 72.0
     names = [_wrapped(row[0], width - 2 * pad, renderer, fontsize, bold=True) for row in rows]
-    heights = [(len(n) + position_lines) * line_h + 3 * pad for n in names]
+    heights = [(len(n) + position_lines) * line_h + 2 * pad for n in names]
     return cols, names, heights, line_h, rows
 
 
@@ -362,10 +365,10 @@ def draw_site_table(ax, renderer, sites, max_height_in: float, fontsize: float =
             break
         if i % 2:
             ax.add_patch(Rectangle((0.0, y - h), width, h, fc="0.93", ec="none", zorder=0))
-        name_h = len(name) * line_h + pad
+        name_h = len(name) * line_h + 0.5 * pad
         cell(0.0, y - pad, "\n".join(name), (0.0, y - name_h - pad, width, y), fontweight="bold")
         for text, x, w in zip(row[1:], lefts, widths):
-            cell(x, y - name_h - pad, text, (x, y - h, x + w, y - name_h))
+            cell(x, y - name_h - 0.5 * pad, text, (x, y - h, x + w, y - name_h))
         y -= h
         shown += 1
     ax.plot([0.0, width], [y, y], color="0.35", lw=0.8)
