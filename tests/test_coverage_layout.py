@@ -208,3 +208,14 @@ def test_many_sites_counted_never_dropped_silently():
     assert len(shown) + (int(more.group(1)) if more else 0) == len(records) == 6
     s = result.report["summary"]
     assert (s["gateways"], s["candidates"]) == (2, 4)
+
+
+def test_map_labels_clear_of_north_arrow_and_scale_bar(tmp_path):
+    # two gateways on a diagonal: on letter paper the ring distance used to sit on the north arrow's "N"
+    csv = tmp_path / "two.csv"
+    csv.write_text("name,lat_deg,lon_deg,mast_m,role\n"
+                   f"Cairnfell Beacon north cabinet,{GATEWAY[0]},{GATEWAY[1]},10,gateway\n"
+                   f"Tollan Down mast lookout,{GATEWAY[0] + 0.02},{GATEWAY[1] + 0.03},10,gateway\n", encoding="utf-8")
+    result = coverage(dem=DEM, sites=csv, radius_km=RADIUS_KM, resolution_m=RES_M, progress=False)
+    fig = build_coverage_figure(result, paper="letter", dem_paths=DEM)
+    assert [str(p) for p in layout_problems(fig)] == []
