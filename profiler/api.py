@@ -126,7 +126,7 @@ def coverage(site=None, *, dem, **kwargs):
     """Coverage of a site within a radius: see :func:`profiler.coverage_map.coverage`.
 
     Returns a :class:`~profiler.coverage_map.CoverageResult` (``bands``: name
-    -> float32 array, ``grid``, ``report`` = the ``profiler.coverage/1``
+    -> float32 array, ``grid``, ``report`` = the ``profiler.coverage/2``
     summary) and writes the files given by ``out``, ``plot``, ``kmz``, ``json``.
     """
     from .coverage_map import coverage as _coverage
