@@ -350,7 +350,7 @@ def _needed_text(report, crit) -> str:
             return (f"{height_text(added)} added at both ends (A {height_text(crit['required_mast_a_m'])}, "
                     f"B {height_text(crit['required_mast_b_m'])})")
         return f"{height_text(crit[f'required_mast_{solve}_m'])} at {solve.upper()}"
-    return f"not known: more than {report['max_mast_m']:g} m (not searched above the limit)"
+    return f"not known: beyond the {report['max_mast_m']:g} m limit (not searched above it)"
 
 
 def _split_rows(report):
