@@ -132,6 +132,7 @@ def _title_box(fig, report, renderer, place, width_in, height_in, sheet_no, shee
     """The lower-right title block, grown upwards when long names need more than :data:`TITLE_BOX_IN`."""
     right, bottom, block_w = place
     name = f"Mast height {site_name(report['site_a'])} {EN} {site_name(report['site_b'])}"
+    name = _break_long_words(name, block_w - 0.1, renderer, 7.0)     # its cells wrap at spaces only
     rows = title_block_rows(report.get("sheet"), name, report, sheet_no, sheet_count)
     ax = inch_axes(fig, (right, bottom, block_w, TITLE_BOX_IN), width_in, height_in)
     used = draw_title_box(ax, renderer, rows)
@@ -156,13 +157,37 @@ def _where(report) -> str:
 
 def _title_lines(title, room_in, height_in, renderer, sizes=TITLE_SIZES_PT):
     """(lines, size, fits): the title wrapped at the largest of ``sizes`` [pt] whose lines fit
-    ``room_in`` x ``height_in``, else at the least size (``fits`` False)."""
+    ``room_in`` x ``height_in``, else at the least size (``fits`` False).
+
+    A size at which the longest words alone are wider than ``room_in`` is skipped unmeasured; at the
+    least size such a word is broken into pieces that fit (a name without spaces is not cut either).
+    """
+    longest = sorted(set(title.split()), key=len)[-3:]
     for size in sizes:
+        if any(text_width_in(renderer, word, size, True) > room_in for word in longest):
+            continue
         lines = wrap_text(title, room_in, renderer, size, bold=True)
         if len(lines) * size * 1.3 / 72.0 <= height_in and \
                 all(text_width_in(renderer, line, size, True) <= room_in for line in lines):
             return lines, size, True
-    return lines, size, False
+    size = sizes[-1]
+    return wrap_text(_break_long_words(title, room_in, renderer, size), room_in, renderer, size, bold=True), size, False
+
+
+def _break_long_words(text, room_in, renderer, size) -> str:
+    """``text`` with every word wider than ``room_in`` at ``size`` [pt] split into pieces as wide as fit
+    (each then fills a line of its own when wrapped)."""
+    def pieces(word):
+        while text_width_in(renderer, word, size, True) > room_in:
+            lo, hi = 1, len(word) - 1
+            while lo < hi:               # the longest prefix that fits
+                mid = (lo + hi + 1) // 2
+                lo, hi = (mid, hi) if text_width_in(renderer, word[:mid], size, True) <= room_in else (lo, mid - 1)
+            yield word[:lo]
+            word = word[lo:]
+        yield word
+
+    return " ".join(" ".join(pieces(word)) for word in text.split())
 
 
 def _header_height(report, badge, width_in, renderer) -> float:
@@ -171,8 +196,8 @@ def _header_height(report, badge, width_in, renderer) -> float:
     title = f"{site_name(report['site_a'])} {EN} {site_name(report['site_b'])}"
     if _title_lines(title, room, HEADER_IN - 0.02 - SUBTITLE_IN, renderer, TITLE_SIZES_PT[:5])[2]:
         return HEADER_IN
-    lines = wrap_text(title, room, renderer, 9.0, bold=True)
-    return 0.02 + len(lines) * 9.0 * 1.3 / 72.0 + SUBTITLE_IN + 0.02
+    lines, size, _ = _title_lines(title, room, 100.0, renderer, (9.0, 8.0, 7.0))    # as tall as needed
+    return 0.02 + len(lines) * size * 1.3 / 72.0 + SUBTITLE_IN + 0.02
 
 
 def _header(ax, report, renderer, badge, badge_style):
