@@ -26,7 +26,7 @@ from click.testing import CliRunner
 
 from profiler.cli import main
 from profiler.mast_result import fixed, up_text
-from profiler.plot.audit import drawn_texts, layout_problems
+from profiler.plot.audit import layout_problems
 from profiler.plot.mast import build_mast_figure
 from profiler.plot.sheet import style
 
@@ -87,8 +87,11 @@ def figures(reports):
 
 
 def sheet_text(fig) -> str:
-    """Every drawn text of the sheet, whitespace (wrapping) collapsed."""
-    return " | ".join(" ".join(str(t.get_text()).split()) for t in drawn_texts(fig))
+    """Every visible text of the sheet, whitespace (wrapping) collapsed."""
+    from matplotlib.text import Text
+
+    texts = [t for t in fig.findobj(Text) if t.get_visible() and str(t.get_text()).strip()]
+    return " | ".join(" ".join(str(t.get_text()).split()) for t in texts)
 
 
 def shown(value, spec, unit=""):
@@ -136,6 +139,7 @@ def _panel_texts(ax, renderer):
     for t in ax.texts:
         bb = t.get_window_extent(renderer)
         if t.get_bbox_patch() is not None:
+            t.update_bbox_position_size(renderer)
             bb = Bbox.union([bb, t.get_bbox_patch().get_window_extent(renderer)])
         items.append((t.get_text(), bb))
     legend = ax.get_legend()
@@ -149,7 +153,6 @@ def _panel_texts(ax, renderer):
 @pytest.mark.parametrize("case", ["feasible", "infeasible", "infeasible-margin", "both"])
 def test_no_label_or_legend_on_a_curve(figures, case, paper):
     fig = figures(case, paper)
-    fig.canvas.draw()
     renderer = fig.canvas.get_renderer()
     panels = [ax for ax in fig.axes if ax.lines and ax.get_legend() is not None]
     assert len(panels) == 2     # the margin and the clearance panel
