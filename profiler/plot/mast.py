@@ -103,8 +103,10 @@ def build_mast_figure(report: dict, paper: str = "a4", *, sheet_no: int = 1, she
         left_w = width_in - 2 * margin - block_w - 0.25
         badge, badge_style = _badge(report)
         header_h = _header_height(report, badge, width_in - 2 * margin, renderer)
-        _header(inch_axes(fig, (margin, height_in - margin - header_h, width_in - 2 * margin, header_h),
-                          width_in, height_in), report, renderer, badge, badge_style)
+        header = inch_axes(fig, (margin, height_in - margin - header_h, width_in - 2 * margin, header_h),
+                           width_in, height_in)
+        _header(header, report, renderer, badge, badge_style)
+        _contain_texts(header, "the header")
         top = height_in - margin - header_h - 0.45
         bottom = margin + 1.25
         panel_h = (top - bottom - 0.35) / 2
@@ -123,9 +125,20 @@ def build_mast_figure(report: dict, paper: str = "a4", *, sheet_no: int = 1, she
         source = source_text(report.get("dem"))
         if (report.get("dem") or {}).get("kind") == "surveyed":   # the mast report holds no profile samples
             source = source.split(" (", 1)[0] + " (no coordinates)"
-        draw_notes(inch_axes(fig, (margin, margin, left_w, 0.8), width_in, height_in), renderer,
-                   provenance_lines(report, source))
+        notes = inch_axes(fig, (margin, margin, left_w, 0.8), width_in, height_in)
+        draw_notes(notes, renderer, provenance_lines(report, source))
+        _contain_texts(notes, "the notes")
     return fig
+
+
+def _contain_texts(ax, name, kind=None):
+    """Mark every text of ``ax`` (of class ``kind`` if given) to stay inside it (checked by
+    :func:`profiler.plot.audit.layout_problems`)."""
+    from .audit import contain
+
+    for text in ax.texts:
+        if kind is None or isinstance(text, kind):
+            contain(text, ax, name=name)
 
 
 def _title_box(fig, report, renderer, place, width_in, height_in, sheet_no, sheet_count) -> float:
@@ -136,11 +149,12 @@ def _title_box(fig, report, renderer, place, width_in, height_in, sheet_no, shee
     rows = title_block_rows(report.get("sheet"), name, report, sheet_no, sheet_count)
     ax = inch_axes(fig, (right, bottom, block_w, TITLE_BOX_IN), width_in, height_in)
     used = draw_title_box(ax, renderer, rows)
-    if used <= TITLE_BOX_IN + 1e-6:
-        return TITLE_BOX_IN
-    ax.remove()
-    draw_title_box(inch_axes(fig, (right, bottom, block_w, used + 0.02), width_in, height_in), renderer, rows)
-    return used + 0.02
+    if used > TITLE_BOX_IN + 1e-6:
+        ax.remove()
+        ax = inch_axes(fig, (right, bottom, block_w, used + 0.02), width_in, height_in)
+        draw_title_box(ax, renderer, rows)
+    _contain_texts(ax, "the title block")
+    return used + 0.02 if used > TITLE_BOX_IN + 1e-6 else TITLE_BOX_IN
 
 
 def _badge(report):
@@ -233,6 +247,8 @@ def _xlabel(report, renderer, width_in) -> str:
 
 
 def _panels(ax_m, ax_c, report, renderer, width_in):
+    from matplotlib.text import Annotation
+
     rows = report["table"]
     x, _, chosen = _heights(report)
     margin = [r["margin_db"] for r in rows]
@@ -260,6 +276,7 @@ def _panels(ax_m, ax_c, report, renderer, width_in):
     for ax, panel_labels in ((ax_m, labels), (ax_c, [])):
         ax.grid(True, alpha=0.3, lw=0.5)
         place_off_lines(ax, renderer, panel_labels, legend_kw, label_kw)
+        _contain_texts(ax, "its panel", Annotation)      # the data labels (the note under the panel is not one)
     ax_m.tick_params(labelbottom=False)
     if feasible:
         _chosen_label(ax_m, renderer, chosen, report)
@@ -324,8 +341,8 @@ def _obstruction(report) -> list[tuple[str, str]]:
 def _feasible_rows(report):
     at = report.get("at_required") or {}
     pm = report.get("per_extra_metre") or {}
-    rows = [(f"Required m{label[1:]}", value) for label, value in
-            _mast_rows(report, {"mast_a_m": report.get("required_mast_a_m"), "mast_b_m": report.get("required_mast_b_m")})]
+    required = {key: report.get(f"required_{key}") for key in ("mast_a_m", "mast_b_m")}
+    rows = [(f"Required m{label[1:]}", value) for label, value in _mast_rows(report, required)]
     if report["solve"] == "both":
         rows.append(("Added at both ends", height_text(report.get("added_height_m"))))
     low = at.get("worst_ratio_low_k")
