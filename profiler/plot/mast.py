@@ -118,10 +118,9 @@ def build_mast_figure(report: dict, paper: str = "a4", *, sheet_no: int = 1, she
         right = width_in - margin - block_w
         box_h = _title_box(fig, report, renderer, (right, margin, block_w), width_in, height_in,
                            sheet_no, sheet_count)
-        table_bottom = margin + box_h + 0.15
+        table_bottom, rows = margin + box_h + 0.15, result_rows(report)
         draw_tables(inch_axes(fig, (right, table_bottom, block_w, top + 0.3 - table_bottom), width_in, height_in),
-                    renderer, [("Result", None, result_rows(report))], max_row_h=0.2,
-                    wrap_rows=[label for label, _ in result_rows(report)])
+                    renderer, [("Result", None, rows)], max_row_h=0.2, wrap_rows=[label for label, _ in rows])
         source = source_text(report.get("dem"))
         if (report.get("dem") or {}).get("kind") == "surveyed":   # the mast report holds no profile samples
             source = source.split(" (", 1)[0] + " (no coordinates)"
