@@ -34,7 +34,7 @@ __all__ = ["Table", "Placed", "paginate", "draw_placed", "FONT_PT", "MIN_FONT_PT
 FONT_PT = 7.0        # table text [pt]
 MIN_FONT_PT = 6.0    # smallest the text shrinks to before cells wrap [pt]
 PAD_IN = 0.05        # left/right padding inside a cell [in]
-VPAD_IN = 0.025      # top/bottom padding inside a cell [in]
+VPAD_IN = 0.02       # top/bottom padding inside a cell [in]
 GAP_IN = 0.16        # between tables side by side [in]
 MAX_EXTRA_IN = 0.6   # at most this much is added to a column to spread a group over the page [in]
 GROUP_GAP_IN = 0.2   # between groups stacked down the page [in]
@@ -136,24 +136,31 @@ def _capped(widths: list[float], room: float) -> list[float]:
     return list(widths)
 
 
-def _natural(table: Table, m: _Measure, size: float) -> list[float]:
+def _natural(table: Table, m: _Measure, size: float, head_words: bool = False) -> list[float]:
+    """Column widths [in] holding every cell on one line; with ``head_words`` a column head only needs
+    its longest word (it wraps onto two lines before any value does)."""
     n = len(table.columns) if table.columns else max((len(r) for r in table.rows), default=1)
     cols = [0.0] * n
-    for row in ((table.columns,) if table.columns else ()) + tuple(table.rows):
+    for j, cell in enumerate(table.columns or ()):
+        cols[j] = max(m.width(part, size, True) for part in (cell.split(" ") if head_words else [cell]))
+    for row in table.rows:
         for j, cell in enumerate(row):
-            cols[j] = max(cols[j], m.width(cell, size, bold=row is table.columns))
+            cols[j] = max(cols[j], m.width(cell, size))
     return [c + 2 * PAD_IN for c in cols]
 
 
 def _widths(tables, m: _Measure, usable: float):
-    """(font size, column widths per table) of a group spread over ``usable`` [in]."""
+    """(font size, column widths per table) of a group spread over ``usable`` [in]: heads wrapped first,
+    then the font shrunk to :data:`MIN_FONT_PT`, then the widest columns narrowed (their cells wrap)."""
     room = usable - GAP_IN * (len(tables) - 1)
     size = FONT_PT
     natural = [_natural(t, m, size) for t in tables]
+    if sum(map(sum, natural)) > room:
+        natural = [_natural(t, m, size, head_words=True) for t in tables]
     total = sum(map(sum, natural))
     if total > room:
         size = max(MIN_FONT_PT, math.floor(FONT_PT * room / total * 4) / 4)
-        natural = [_natural(t, m, size) for t in tables]
+        natural = [_natural(t, m, size, head_words=True) for t in tables]
     flat = _capped([w for cols in natural for w in cols], room)
     extra = min((room - sum(flat)) / len(flat), MAX_EXTRA_IN)
     out, i = [], 0

@@ -221,7 +221,8 @@ def _compliance_table(report) -> Table:
         limit, eirp = end.get("max_eirp_dbm"), end.get("eirp_dbm")
         verdict = ("no regional plan, not checked" if limit is None else
                    f"limit {num(limit, 'g')} dBm: {'met' if eirp <= limit + 1e-9 else 'EXCEEDED'}")
-        rows.append((_end(report, key), f"EIRP {num(eirp, '.1f')} dBm, {verdict}"))
+        rows.append((f"{figure_text(end.get('role') or 'site').capitalize()} ({key.upper()})",
+                     f"EIRP {num(eirp, '.1f')} dBm, {verdict}"))
     if comp.get("eirp_ok") is not None:
         rows.append(("Power limits", "all met" if comp["eirp_ok"] else "NOT met (see the notes)"))
     up, down = lora.get("uplink") or {}, lora.get("downlink") or {}
@@ -314,6 +315,13 @@ def _option_rows(report, record):
     return tuple(rows)
 
 
+def _version_rows():
+    """Python and profiler on a row each, the libraries on one (wrapped) row."""
+    versions = library_versions()
+    return ((versions[0][0].capitalize(), versions[0][1]), versions[1],
+            ("Libraries", ", ".join(f"{n} {figure_text(v)}" for n, v in versions[2:])))
+
+
 def _record_groups(report, record):
     record = record or {}
     command = figure_text(shlex.join(record.get("command_line") or [])) or DASH
@@ -327,7 +335,7 @@ def _record_groups(report, record):
                   ("CRS", figure_text(s.get("crs")) or DASH)]
     groups = [[Table("Command line", None, ((command,),))],
               [Table("Run", None, run), Table("Elevation files", None, tuple(files) or (("Path", DASH),)),
-               Table("Versions", None, tuple((n, figure_text(v)) for n, v in library_versions()))]]
+               Table("Versions", None, _version_rows())]]
     options = _option_rows(report, record)
     if options:
         groups.append([Table("Options", ("Option", "Value", "Set by"), options, flow=4)])
