@@ -367,16 +367,16 @@ def run_record() -> dict:
             "options": sorted(options, key=lambda o: o["option"])}
 
 
-def _option_text(value, param) -> str:
+def _option_text(value, multiple: bool = False) -> str:
     """An option's value as text: ``LAT,LON`` for a pair, repeated values joined by ", ", flags on/off."""
     if value is None:
         return ""
     if isinstance(value, bool):
         return "on" if value else "off"
-    if param.multiple:
-        return ", ".join(_option_text(v, click.Option(["--x"])) for v in value)
+    if multiple:
+        return ", ".join(_option_text(v) for v in value)
     if isinstance(value, (tuple, list)):
-        return ",".join(_option_text(v, param) for v in value)
+        return ",".join(_option_text(v) for v in value)
     return str(value)
 
 
@@ -390,5 +390,5 @@ def _option_entry(ctx, param) -> dict:
         names = param.secondary_opts
     name = max(names, key=lambda n: (n.startswith("--"), len(n)))
     source = ctx.get_parameter_source(param.name)
-    return {"option": name, "value": _option_text(value, param),
+    return {"option": name, "value": _option_text(value, param.multiple),
             "given": source in (ParameterSource.COMMANDLINE, ParameterSource.ENVIRONMENT)}
