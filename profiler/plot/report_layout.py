@@ -29,7 +29,7 @@ from dataclasses import dataclass, replace
 from .audit import contain
 from .sheet import RULE, SHADE, cell_text, text_width_in
 
-__all__ = ["Table", "Placed", "paginate", "draw_placed", "FONT_PT", "MIN_FONT_PT"]
+__all__ = ["Table", "Placed", "Measure", "paginate", "draw_placed", "FONT_PT", "MIN_FONT_PT"]
 
 FONT_PT = 7.0        # table text [pt]
 MIN_FONT_PT = 6.0    # smallest the text shrinks to before cells wrap [pt]
@@ -68,8 +68,9 @@ class Placed:
     fontsize: float
 
 
-class _Measure:
-    """Text widths [in] through one renderer, each (text, size, bold) measured once."""
+class Measure:
+    """Text widths [in] through one renderer, each (text, size, bold) measured once; share one between
+    :func:`paginate` and :func:`draw_placed` (pages at the same dpi measure alike)."""
 
     def __init__(self, renderer):
         self.renderer, self.cache, self.lines = renderer, {}, {}
@@ -94,6 +95,8 @@ class _Measure:
 
     def wrap(self, s: str, width_in: float, size: float, bold: bool = False) -> list[str]:
         """``s`` in lines at most ``width_in`` wide: broken at spaces, a too-long word between characters."""
+        if self.width(s, size, bold) <= width_in:
+            return [s]
         lines, line = [], ""
         for word in s.split(" "):
             trial = f"{line} {word}" if line else word
@@ -136,7 +139,7 @@ def _capped(widths: list[float], room: float) -> list[float]:
     return list(widths)
 
 
-def _natural(table: Table, m: _Measure, size: float, head_words: bool = False) -> list[float]:
+def _natural(table: Table, m: Measure, size: float, head_words: bool = False) -> list[float]:
     """Column widths [in] holding every cell on one line; with ``head_words`` a column head only needs
     its longest word (it wraps onto two lines before any value does)."""
     n = len(table.columns) if table.columns else max((len(r) for r in table.rows), default=1)
@@ -149,7 +152,7 @@ def _natural(table: Table, m: _Measure, size: float, head_words: bool = False) -
     return [c + 2 * PAD_IN for c in cols]
 
 
-def _widths(tables, m: _Measure, usable: float):
+def _widths(tables, m: Measure, usable: float):
     """(font size, column widths per table) of a group spread over ``usable`` [in]: heads wrapped first,
     then the font shrunk to :data:`MIN_FONT_PT`, then the widest columns narrowed (their cells wrap)."""
     room = usable - GAP_IN * (len(tables) - 1)
@@ -170,7 +173,7 @@ def _widths(tables, m: _Measure, usable: float):
     return size, out
 
 
-def _heights(table: Table, widths, m: _Measure, size: float):
+def _heights(table: Table, widths, m: Measure, size: float):
     """(title height, head height, row heights) [in] of ``table`` in ``widths``."""
     first, pitch = m.line_in(size)
 
@@ -208,13 +211,15 @@ def _continued(table: Table, rows) -> Table:
     return replace(table, title=title, rows=tuple(rows))
 
 
-def paginate(groups, renderer, width_in: float, room_in: float) -> list[list[Placed]]:
+def paginate(groups, m: Measure, width_in: float, room_in: float) -> list[list[Placed]]:
     """The tables of ``groups`` placed on as many pages as they need.
 
     Parameters
     ----------
     groups : list of list of Table
         Top to bottom; the tables of a group side by side.
+    m : Measure
+        Text measurement through the renderer of the pages (same dpi).
     width_in, room_in : float
         Width and height [in] of the body of each page.
 
@@ -223,7 +228,6 @@ def paginate(groups, renderer, width_in: float, room_in: float) -> list[list[Pla
     list of list of Placed
         The tables of each page (at least one page).
     """
-    m = _Measure(renderer)
     pages, y = [[]], 0.0
     queue = [list(g) for g in groups if g]
     while queue:
@@ -272,7 +276,7 @@ def paginate(groups, renderer, width_in: float, room_in: float) -> list[list[Pla
     return [p for p in pages if p] or [[]]
 
 
-def draw_placed(ax, renderer, placed) -> None:
+def draw_placed(ax, m: Measure, placed) -> None:
     """Draw the tables of one page into ``ax`` (an ``inch_axes`` over the page body), each cell marked.
 
     Title bar dark with white bold text, column heads bold on grey,
@@ -280,7 +284,6 @@ def draw_placed(ax, renderer, placed) -> None:
     """
     from matplotlib.patches import Rectangle
 
-    m = _Measure(renderer)
     top_in = ax.get_ylim()[1]
     for p in placed:
         t, widths, size = p.table, p.widths_in, p.fontsize

@@ -25,7 +25,7 @@ import shlex
 from .. import CAUTION, __version__
 from ..errors import ProfilerError
 from ..textsafe import figure_text
-from .report_layout import Table, draw_placed, paginate
+from .report_layout import Measure, Table, draw_placed, paginate
 from .sheet import BADGE_GOOD, DASH, EN, check_dpi, inch_axes, k_text, metadata, new_sheet, num, paper_size_in, style
 from .titleblock import datum_line, draw_notes, draw_title_box, title_block_rows
 
@@ -113,13 +113,14 @@ def _pages(report, paper, dpi, sections, first_page) -> list:
                                                            height_in), renderer, _title_rows(report, 99, 99)))
         foot = block_h + FOOT_GAP_IN
         body_w, body_h = width_in - 2 * MARGIN_IN, height_in - 2 * MARGIN_IN - HEADER_IN - HEADER_GAP_IN - foot
+        measure = Measure(renderer)
         laid = [(heading, i, placed) for heading, groups in sections
-                for i, placed in enumerate(paginate(groups, renderer, body_w, body_h))]
+                for i, placed in enumerate(paginate(groups, measure, body_w, body_h))]
         count = 1 + len(laid)
         figs = [first_page(count)]
         for page_no, (heading, i, placed) in enumerate(laid, start=2):
-            figs.append(_table_page(report, paper, dpi, heading + (" (continued)" if i else ""), placed,
-                                    (page_no, count), block_h))
+            figs.append(_table_page(report, (paper, dpi, measure), heading + (" (continued)" if i else ""),
+                                    placed, (page_no, count), block_h))
     return figs
 
 
@@ -127,10 +128,14 @@ def _title_rows(report, page_no, count):
     return title_block_rows(report.get("sheet"), _name(report), report, page_no, count)
 
 
-def _table_page(report, paper, dpi, heading, placed, page, block_h):
-    """A framed page: header, the placed tables, title block (``block_h`` tall) and caution at the bottom."""
+def _table_page(report, sheet, heading, placed, page, block_h):
+    """A framed page: header, the placed tables, title block (``block_h`` tall) and caution at the bottom.
+
+    ``sheet`` is (paper, dpi, :class:`~profiler.plot.report_layout.Measure`); ``page`` is (n, m).
+    """
     from .sheet import draw_title_block
 
+    paper, dpi, measure = sheet
     fig, renderer, width_in, height_in = new_sheet(paper, dpi)
     head = inch_axes(fig, (MARGIN_IN, height_in - MARGIN_IN - HEADER_IN, width_in - 2 * MARGIN_IN, HEADER_IN),
                      width_in, height_in)
@@ -140,7 +145,7 @@ def _table_page(report, paper, dpi, heading, placed, page, block_h):
                      fit_title=lambda artist, room: artist.set_text(heading))
     top, bottom = height_in - MARGIN_IN - HEADER_IN - HEADER_GAP_IN, MARGIN_IN + block_h + FOOT_GAP_IN
     draw_placed(inch_axes(fig, (MARGIN_IN, bottom, width_in - 2 * MARGIN_IN, top - bottom), width_in, height_in),
-                renderer, placed)
+                measure, placed)
     draw_title_box(inch_axes(fig, (width_in - MARGIN_IN - BLOCK_W_IN, MARGIN_IN, BLOCK_W_IN, block_h), width_in,
                              height_in), renderer, _title_rows(report, *page))
     draw_notes(inch_axes(fig, (MARGIN_IN, MARGIN_IN, width_in - 2 * MARGIN_IN - BLOCK_W_IN - 0.2, 0.6), width_in,
