@@ -153,7 +153,7 @@ def test_record_page_options_as_on_the_command_line(link_case):
     values = {opt: (value, by) for opt, value, by in rows}
     assert values["--site-a"] == (_ll(GATEWAY), "given")          # no spreadsheet guard, as typed
     assert values["--band"] == (f"{report['band']} (as used)", "default")
-    assert values["--k"][1] == "given" and values["--date"][1] == "default"
+    assert values["--k"][1] == "given" and values["--date"] == (f"{report['sheet']['date']} (as used)", "default")
     record = " ".join(_flat(fig) for fig in _page(pages, "Record"))
     assert "'-" not in record and "'" + _ll(GATEWAY) not in record
     assert "Band (as used) EU868" in record

@@ -35,8 +35,8 @@ __all__ = ["write_link_report", "write_mast_report", "build_link_report_pages", 
 LIBRARIES = ("numpy", "scipy", "pyproj", "rasterio", "matplotlib", "pygeomag", "click")
 MARGIN_IN, HEADER_IN, HEADER_GAP_IN = 0.38, 0.66, 0.19      # page margin, header band, gap under it [in]
 BLOCK_W_IN, BLOCK_H_IN, FOOT_GAP_IN = 3.05, 1.5, 0.2        # title block (taller for long names), gap above [in]
-#: Options whose value, when left to its default, is shown as the run used it (report key, format).
-AS_USED = {"--band": ("band", "s"), "--freq-mhz": ("frequency_mhz", ".4f")}
+#: Options whose value, when left to its default, is shown as the run used it: option -> (report key, format).
+AS_USED = {"--band": (("band",), "s"), "--freq-mhz": (("frequency_mhz",), ".4f"), "--date": (("sheet", "date"), "s")}
 
 
 def library_versions() -> list[tuple[str, str]]:
@@ -240,14 +240,15 @@ def _compliance_table(report) -> Table:
                     if rec and rec.get("max_uplinks_per_hour") is not None else "")
         rows.append(("Uplink", _duty(comp.get("duty_cycle"), up.get("frequency_mhz")) + per_hour))
         rows.append(("Downlink", _duty(comp.get("duty_cycle_downlink"), down.get("frequency_mhz"))
-                     + (": gateway transmissions" if comp.get("duty_cycle_downlink") is not None else "")))
+                     + (" applies to the gateway's transmissions" if comp.get("duty_cycle_downlink") is not None
+                        else "")))
     rows += [("Note", figure_text(n)) for n in comp.get("notes") or []
              if not str(n).startswith(("duty cycle ", "uplink dwell time"))]
     return Table(f"Compliance ({figure_text(report.get('band'))})" if report.get("band") else "Compliance",
                  None, tuple(rows))
 
 
-DR_COLUMNS = ("Data rate", "Sensitivity [dBm]", "Margin [dB]", "Closes", "Time on air [ms]", "Max. per hour",
+DR_COLUMNS = ("Data rate", "Sensitivity [dBm]", "Margin [dB]", "Closes", "Time on air [ms]", "Max. messages per hour",
               "Allowed")
 
 
@@ -313,8 +314,10 @@ def _option_rows(report, record):
     for opt in record.get("options") or []:
         value = figure_text(opt.get("value"))
         if not value and opt.get("option") in AS_USED:
-            key, fmt = AS_USED[opt["option"]]
-            used = report.get(key)
+            keys, fmt = AS_USED[opt["option"]]
+            used = report
+            for key in keys:
+                used = (used or {}).get(key)
             value = "" if used is None else (figure_text(used) if fmt == "s" else num(used, fmt)) + " (as used)"
         rows.append((figure_text(opt.get("option")), value or DASH, "given" if opt.get("given") else "default"))
     return tuple(rows)
