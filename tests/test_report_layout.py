@@ -202,3 +202,31 @@ def test_mast_report_lists_every_table_row(mast_pages):
     for i, fig in enumerate(pages[1:], start=2):
         assert f"page {i} of {n}" in _texts(fig)
         assert problems[i - 1] == [], i
+
+
+def test_unbroken_long_values_wrap_inside_their_cells_and_continue():
+    """A path with no spaces, a 200-character word and more rows than a page holds: wrapped (between
+    characters when needed), continued on a second page, every character still there."""
+    from profiler.plot.report_layout import Measure, Table, draw_placed, paginate
+    from profiler.plot.sheet import inch_axes, new_sheet, style
+
+    path = "/srv/vellmoor/elevation/" + "tiles/" * 40 + "vellmoor_synthetic_1s.tif"
+    word = "Osterby" * 29                                        # 203 characters, no break
+    rows = tuple((f"row {i}", f"value {i} " * 3) for i in range(60))
+    groups = [[Table("Command line", None, ((path,),))], [Table("Names", ("", "Name"), (("B", word),)),
+                                                           Table("Long", None, rows)]]
+    with style():
+        fig, renderer, width_in, height_in = new_sheet("letter", 100)
+        measure = Measure(renderer)
+        pages = paginate(groups, measure, 6.0, 4.0)
+        assert len(pages) >= 2 and all(page[0].table.title == "Long (continued)" for page in pages[1:])
+        figs = []
+        for placed in pages:
+            fig, _, width_in, height_in = new_sheet("letter", 100)
+            draw_placed(inch_axes(fig, (1.0, 2.0, 6.0, 4.0), width_in, height_in), measure, placed)
+            figs.append(fig)
+        assert [[str(p) for p in layout_problems(f)] for f in figs] == [[]] * len(figs)
+    cells = [str(t.get_text()) for f in figs for t in f.texts]
+    assert path in [c.replace("\n", "") for c in cells] and word in [c.replace("\n", "") for c in cells]
+    assert any("\n" in c and c.replace("\n", "") == path for c in cells)            # it did wrap
+    assert [c for c in cells if c.startswith("row ")] == [r[0] for r in rows]       # every row, in order
