@@ -370,21 +370,48 @@ def report_option(f):
 
 
 def run_record() -> dict:
-    """What the ``--report`` record page lists: the full command line and every option's value.
+    """What the ``--report`` record page lists: the full command line and every option as typed.
 
-    Called inside a click command; ``{"command_line": [...], "options": {name: value}}``
-    with values as text.
+    Called inside a click command.  Returns ``{"command_line": [...],
+    "command": "profiler link", "options": [{"option", "value", "given"}, ...]}``:
+    one entry per option the user could type (click's own parameter
+    objects of the command, hidden ones left out), named as on the command
+    line (``--k``, ``--dem``, ``--date``), its value as text (``""`` when
+    unset) and whether it was given on the command line (or from the
+    environment) rather than left to its default.
     """
     import sys
 
     ctx = click.get_current_context(silent=True)
-    params = {} if ctx is None else {k: v for k, v in ctx.params.items()}
-
-    def text(v):
-        if isinstance(v, (tuple, list)):
-            return ", ".join(text(x) for x in v) if v else ""
-        return "" if v is None else str(v)
-
+    options = [] if ctx is None else [_option_entry(ctx, p) for p in ctx.command.params
+                                      if isinstance(p, click.Option) and not p.hidden and p.name in ctx.params]
     return {"command_line": [str(a) for a in sys.argv],
             "command": None if ctx is None else ctx.command_path,
-            "options": {k: text(v) for k, v in sorted(params.items())}}
+            "options": sorted(options, key=lambda o: o["option"])}
+
+
+def _option_text(value, multiple: bool = False) -> str:
+    """An option's value as text: ``LAT,LON`` for a pair, repeated values joined by ", ", flags on/off."""
+    if value is None:
+        return ""
+    if isinstance(value, bool):
+        return "on" if value else "off"
+    if multiple:
+        return ", ".join(_option_text(v) for v in value)
+    if isinstance(value, (tuple, list)):
+        return ",".join(_option_text(v) for v in value)
+    return str(value)
+
+
+def _option_entry(ctx, param) -> dict:
+    """One record entry: the option's name as typed (a flag's off-switch when off), value, given or not."""
+    from click.core import ParameterSource
+
+    value = ctx.params[param.name]
+    names = param.opts
+    if param.is_flag and param.secondary_opts and value is False:
+        names = param.secondary_opts
+    name = max(names, key=lambda n: (n.startswith("--"), len(n)))
+    source = ctx.get_parameter_source(param.name)
+    return {"option": name, "value": _option_text(value, param.multiple),
+            "given": source in (ParameterSource.COMMANDLINE, ParameterSource.ENVIRONMENT)}
