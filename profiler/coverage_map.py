@@ -261,7 +261,7 @@ def _settings(dem, band, frequency_mhz, k_factor, clearance_ratio, fill_voids, r
 
     radio = (radio or RadioSettings()).validate()
     if radio.gateway != "a":
-        raise ProfilerError("in a coverage map the site is the gateway (end A); drop --gateway b")
+        raise ProfilerError("in a coverage map the site is the gateway (end A); leave RadioSettings(gateway=...) at 'a'")
     f_mhz, band_name = resolve_frequency_mhz(frequency_mhz, band)
     dem_paths = tuple(str(p) for p in (dem if isinstance(dem, (list, tuple)) else [dem]))
     if not dem_paths:

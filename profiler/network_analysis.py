@@ -364,7 +364,7 @@ def network(sites, *, dem, pairs=None, max_distance_km: float = 50.0, band: str 
     table = sites if hasattr(sites, "names") else read_sites_csv(sites)
     radio = (radio or RadioSettings()).validate()
     if radio.gateway != "a":
-        raise ProfilerError("in a network the gateway is always end A of every link; drop --gateway b")
+        raise ProfilerError("in a network the gateway is always end A of every link; leave RadioSettings(gateway=...) at 'a' (the sites file role column says which site is a gateway)")
     f_mhz, band_name = resolve_frequency_mhz(frequency_mhz, band)
     k = geometry.parse_k_factor(k_factor)
     if pairs is None:

@@ -288,3 +288,14 @@ def test_links_option_takes_best_or_all_only(tmp_path):
     res = run("network", "--dem", SAMPLE, "--sites", EXAMPLE_SITES, "--plot", tmp_path / "n.png", "--links", "some")
     assert res.exit_code == 2 and "'--links'" in res.output and "'best', 'all'" in res.output
     assert len(res.output.strip().splitlines()) == 1 and not (tmp_path / "n.png").exists()
+
+
+def test_api_refuses_a_gateway_at_end_b_naming_the_python_setting():
+    """The commands no longer take --gateway; the API's refusal names the Python setting instead."""
+    from profiler import network
+    from profiler.errors import ProfilerError
+    from profiler.radio import RadioSettings
+
+    with pytest.raises(ProfilerError, match=r"RadioSettings\(gateway=\.\.\.\) at 'a'") as err:
+        network(str(EXAMPLE_SITES), dem=[SAMPLE], radio=RadioSettings(gateway="b"))
+    assert "--gateway" not in str(err.value)
