@@ -332,8 +332,20 @@ def test_siting_report_contract():
         "terrain blocks the line of sight 3.41 km from the gateway, diffraction 24.1 dB")
     assert why["Quarry Gate sensor"]["best_margin_db"] is None
     assert "elevation void" in why["Quarry Gate sensor"]["reason"]
-    assert out["warnings"][0] == "sample warning" and any("1 link(s) could not" in w for w in out["warnings"])
+    assert out["warnings"][0] == "sample warning"
+    assert [w for w in out["warnings"] if "could not be computed" in w] == [
+        "1 of 10 links could not be computed (see their error in the network table) and count as not heard"]
     assert out["redundancy"] == 1 and out["min_margin_db"] == 10.0 and out["max_gateways"] is None
+
+
+def test_failed_links_are_warned_about_once():
+    # Issue 17: `siting` printed the network's "could not be computed" warning and its own one about the same
+    # links. The network report's warning is replaced by one that also says what it means for siting.
+    rep = network_report()
+    rep["warnings"] = ["1 of 10 links could not be computed (see their error)", "sample warning"]
+    out = siting_from_network(rep, min_margin_db=10.0)
+    about = [w for w in out["warnings"] if "could not be computed" in w]
+    assert len(about) == 1 and "count as not heard" in about[0] and "sample warning" in out["warnings"]
 
 
 def test_siting_report_redundancy_and_max_gateways():
