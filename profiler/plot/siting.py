@@ -168,7 +168,7 @@ def _draw_header(ax, siting: dict, network: dict, renderer) -> None:
 
 def _note_lines(siting: dict, network: dict) -> list[str]:
     n_links = len(network.get("links") or [])
-    extra = [f"Solved over the {n_links} links of the network engine (profiler.network/1), every gateway and "
+    extra = [f"Solved over the {n_links} links computed by the network engine, from every gateway and "
              f"candidate site to every node; a site hears a node when an allowed data rate closes the uplink with "
              f"at least {num(siting.get('min_margin_db'), '.1f', ' dB')} of margin. Links drawn as straight lines."]
     return provenance_lines(siting, source_text(siting.get("dem")), extra)
@@ -313,26 +313,51 @@ def _sections(siting: dict, keys: dict) -> list[tuple[str, list[str]]]:
 DROP_ORDER = (3, 1, 2, 0)
 
 
-def _wrap(s: str, width_in: float, renderer, size: float, bold: bool = False) -> list[str]:
+class _Widths:
+    """Drawn widths [in] of words, measured once at 10 pt and scaled to the size asked (text width is
+    proportional to the font size, to the rounding of the glyph advances: :data:`WIDTH_SLACK` covers it)."""
+
+    def __init__(self, renderer):
+        self.renderer, self.cache = renderer, {}
+
+    def __call__(self, s: str, size: float, bold: bool = False) -> float:
+        if (s, bold) not in self.cache:
+            self.cache[s, bold] = text_width_in(self.renderer, s, 10.0, bold)
+        return self.cache[s, bold] * size / 10.0
+
+    def space(self, size: float, bold: bool = False) -> float:
+        return self("n n", size, bold) - self("nn", size, bold)
+
+
+#: Fraction of a column a wrapped line may fill (the scaled widths may be off by a little).
+WIDTH_SLACK = 0.96
+
+
+def _wrap(s: str, width_in: float, widths: _Widths, size: float, bold: bool = False) -> list[str]:
     """``s`` wrapped at spaces to ``width_in``; a word wider than that is broken between characters."""
-    lines = []
-    for line in wrap_text(s, width_in, renderer, size, bold):
-        while len(line) > 1 and text_width_in(renderer, line, size, bold) > width_in:
-            lo, hi = 1, len(line) - 1            # the longest prefix that fits
-            while lo < hi:
-                mid = (lo + hi + 1) // 2
-                lo, hi = (mid, hi) if text_width_in(renderer, line[:mid], size, bold) <= width_in else (lo, mid - 1)
-            lines.append(line[:lo])
-            line = line[lo:]
-        lines.append(line)
-    return lines
+    room, space = WIDTH_SLACK * width_in, widths.space(size, bold)
+    lines, line, used = [], [], 0.0
+    for word in s.split():
+        w = widths(word, size, bold)
+        if line and used + space + w > room:
+            lines.append(" ".join(line))
+            line, used = [], 0.0
+        while w > room and len(word) > 1:              # break the word: the longest prefix that fits
+            cum = np.cumsum([widths(c, size, bold) for c in word])
+            k = max(1, int(np.searchsorted(cum, room, side="right")))
+            lines.append(word[:k])
+            word = word[k:]
+            w = widths(word, size, bold)
+        line.append(word)
+        used = used + space + w if len(line) > 1 else w
+    return lines + [" ".join(line)] if line else lines or [""]
 
 
-def _list_layout(sections, width_in, renderer, size):
+def _list_layout(sections, width_in, widths, size):
     """Wrapped lines of every section at ``size``: [(heading lines, [entry lines, ...]), ...]."""
     indent = 0.1
-    return [(_wrap(head, width_in, renderer, size + 0.8, True),
-             [_wrap(entry, width_in - indent, renderer, size) for entry in entries])
+    return [(_wrap(head, width_in, widths, size + 0.8, True),
+             [_wrap(entry, width_in - indent, widths, size) for entry in entries])
             for head, entries in sections]
 
 
@@ -345,11 +370,12 @@ def _lines_height(layout, size) -> float:
 def _draw_lists(ax, renderer, sections) -> None:
     """The lists, wrapped; the font shrinks to :data:`MIN_FONT_PT`, then the last entries are counted."""
     width, height = ax.get_xlim()[1], ax.get_ylim()[1]
+    widths = _Widths(renderer)
     size = 6.5
-    layout = _list_layout(sections, width, renderer, size)
+    layout = _list_layout(sections, width, widths, size)
     while _lines_height(layout, size) > height and size > MIN_FONT_PT:
         size = max(MIN_FONT_PT, size - 0.25)
-        layout = _list_layout(sections, width, renderer, size)
+        layout = _list_layout(sections, width, widths, size)
     line_h = size * 1.25 / 72.0
     dropped, note = 0, []
     while _lines_height(layout, size) + len(note) * line_h > height and any(e for _, e in layout):
@@ -357,7 +383,7 @@ def _draw_lists(ax, renderer, sections) -> None:
         layout[k][1].pop()              # the last entry of the least needed list: counted below, not drawn
         dropped += 1
         note = _wrap(f"and {dropped} more entr{'y' if dropped == 1 else 'ies'}: see the site list (by row) and "
-                     "the JSON report (profiler.siting/1)", width, renderer, size)
+                     "the JSON report (profiler.siting/1)", width, widths, size)
     head_h = (size + 0.8) * 1.25 / 72.0
     y = height
     for head, entries in layout:
