@@ -81,40 +81,17 @@ class SitingResult:
         """The ``profiler.siting/1`` report (a plain dict, no NaN)."""
         return self.report
 
-    @property
-    def chosen(self) -> list:
-        """Names of the open sites (existing gateways included)."""
-        return list(self.report["chosen"])
-
-    @property
-    def objective(self) -> float:
-        """Total cost of the candidates opened, or the number of nodes heard R times (``max_gateways``)."""
-        return self.report["objective"]
-
-    @property
-    def proven_optimal(self) -> bool:
-        """Whether the solver proved the objective optimal."""
-        return self.report["proven_optimal"]
-
-    @property
-    def gap(self):
-        """Relative MIP gap (None when no bound is known)."""
-        return self.report["gap"]
-
-    @property
-    def greedy(self) -> dict:
-        """The greedy choice for comparison: ``{chosen, objective}``."""
-        return self.report["greedy"]
-
-    @property
-    def unreachable(self) -> list:
-        """Nodes no choice of sites hears R times: ``{name, best_margin_db, reason}``."""
-        return self.report["unreachable"]
-
-    @property
-    def summary(self) -> dict:
-        """The report's ``summary`` block."""
-        return self.report["summary"]
+    chosen = property(lambda self: list(self.report["chosen"]),
+                      doc="Names of the open sites (existing gateways included).")
+    objective = property(lambda self: self.report["objective"],
+                         doc="Total cost of the candidates opened, or the nodes heard R times (``max_gateways``).")
+    proven_optimal = property(lambda self: self.report["proven_optimal"],
+                              doc="Whether the solver proved the objective optimal.")
+    gap = property(lambda self: self.report["gap"], doc="Relative MIP gap (None when no bound is known).")
+    greedy = property(lambda self: self.report["greedy"], doc="The greedy choice: ``{chosen, objective}``.")
+    unreachable = property(lambda self: self.report["unreachable"],
+                           doc="Nodes no choice of sites hears R times: ``{name, best_margin_db, reason}``.")
+    summary = property(lambda self: self.report["summary"], doc="The report's ``summary`` block.")
 
 
 def _sites_and_links(network_report) -> tuple[list, list]:

@@ -105,10 +105,7 @@ def build_siting_figure(siting: dict, network: dict, paper: str = "a4", dem_path
                          {u["name"] for u in siting.get("unreachable") or []}, renderer)
         keys = _key_shortened_labels(ax, sites)
         _draw_side(fig, boxes["side"], width_in, height_in, siting, served, keys, renderer)
-        sheet = dict(sheet or {})
-        date_text = date_text or sheet.get("date")
-        if date_text:
-            sheet["date"] = date_text
+        sheet = {**(sheet or {}), **({"date": date_text} if date_text else {})}
         draw_title_box(inch_axes(fig, boxes["title_block"], width_in, height_in), renderer,
                        title_block_rows(sheet, f"Gateway siting: {_title(siting)}", siting))
         draw_notes(inch_axes(fig, boxes["notes"], width_in, height_in), renderer, notes, fontsize=NOTES_PT)
