@@ -180,3 +180,18 @@ def test_api_siting_returns_a_result_like_network(networks):
     assert (res.chosen, res.objective, res.proven_optimal, res.gap) == (rep["chosen"], rep["objective"],
                                                                         rep["proven_optimal"], rep["gap"])
     assert res.greedy == rep["greedy"] and res.unreachable == rep["unreachable"] and res.summary == rep["summary"]
+
+
+def test_max_coverage_and_unproven_answers_are_stated(networks):
+    # At most K sites (objective: nodes heard), and an answer the solver did not prove (time limit): the
+    # sheet says which, with the gap, and stays clean. The unproven report is the proven one marked so.
+    net = networks["short"]
+    most = siting_from_network(net, min_margin_db=net["fade_margin_db"], max_gateways=2)
+    unproven = dict(siting_from_network(net, min_margin_db=net["fade_margin_db"]), proven_optimal=False, gap=0.05,
+                    status="time limit reached")
+    for rep, expected in ((most, f"{most['objective']:g} nodes heard once (most)"),
+                          (unproven, "not proven optimal, gap 0.05 (time limit reached)")):
+        fig = build_siting_figure(rep, net, paper="letter")
+        problems = audit.layout_problems(fig)
+        assert problems == [], "\n".join(map(str, problems))
+        assert expected in [t.get_text().replace("\n", " ") for t in fig.findobj(Text)]   # table cells wrap

@@ -150,24 +150,32 @@ def _draw_header(ax, siting: dict, network: dict, renderer) -> None:
     s = siting.get("summary") or {}
     r = int(siting.get("redundancy") or 1)
     total, heard = s.get("nodes_total") or 0, s.get("nodes_heard") or 0
-    band = siting.get("band")
     mode = "least total cost" if siting.get("mode") == "min_cost" else \
         f"most nodes with at most {siting.get('max_gateways')} sites"
-    parts = ["Gateway siting", mode, f"redundancy {r}",
-             f"least margin {num(siting.get('min_margin_db'), '.1f', ' dB')}",
-             num(siting.get("frequency_mhz"), ".4f", " MHz") + (f" ({clean(band)})" if band else ""),
-             f"k = {k_text(network.get('k_factor'))}"]
+    parts = [mode, f"redundancy {r}", f"least margin {num(siting.get('min_margin_db'), '.1f', ' dB')}",
+             _radio_text(siting, network)]
     badge = f"{heard} of {total} nodes heard {_times(r)}"
     badge_style = BADGE_GOOD if total and heard == total else (BADGE_WARN if heard else BADGE_BAD)
+    # The subtitle must fit beside the badge uncut: the radio settings give way first (the notes have them).
+    room = ax.get_xlim()[1] - text_width_in(renderer, badge, 9.5, True) - 0.55
+    while len(parts) > 1 and text_width_in(renderer, f"  {MIDDOT}  ".join(parts), 8.5) > room:
+        parts.pop()
     draw_title_block(ax, renderer, f"Gateway siting: {_title(siting)}", f"  {MIDDOT}  ".join(parts), badge,
                      badge_style, badge_label="NODES HEARD")
+
+
+def _radio_text(siting: dict, network: dict) -> str:
+    band = siting.get("band")
+    return (num(siting.get("frequency_mhz"), ".4f", " MHz") + (f" ({clean(band)})" if band else "")
+            + f", k = {k_text(network.get('k_factor'))}")
 
 
 def _note_lines(siting: dict, network: dict) -> list[str]:
     n_links = len(network.get("links") or [])
     extra = [f"Solved over the {n_links} links computed by the network engine, from every gateway and "
-             f"candidate site to every node; a site hears a node when an allowed data rate closes the uplink with "
-             f"at least {num(siting.get('min_margin_db'), '.1f', ' dB')} of margin. Links drawn as straight lines."]
+             f"candidate site to every node at {_radio_text(siting, network)}; a site hears a node when an allowed "
+             f"data rate closes the uplink with at least {num(siting.get('min_margin_db'), '.1f', ' dB')} of margin. "
+             "Links drawn as straight lines."]
     return provenance_lines(siting, source_text(siting.get("dem")), extra)
 
 
