@@ -69,6 +69,7 @@ def write_siting_figure(siting: dict, network: dict, path, paper: str = "a4", dp
     date_text : str, optional
         Date on the sheet; default ``sheet["date"]``, else today.
     """
+    # Laid out at 100 dpi, as the network map whose drawing it reuses (and as the layout audit checks it).
     write_sheet(path, paper, dpi, lambda: build_siting_figure(
         siting, network, paper=paper, dem_paths=dem_paths, sheet=sheet, date_text=date_text),
         f"Gateway siting: {_title(siting)}", siting)
