@@ -240,7 +240,7 @@ def _draw_legend(ax, siting) -> None:
                Line2D([], [], ls="none", label="Candidate site", **ROLE_STYLE["candidate"]),
                Line2D([], [], ls="none", label="Chosen (ring)", **{**HIGHLIGHT_STYLE, "ms": 10.0}),
                Line2D([], [], ls="none", label=f"Node heard {_times(r)}", **ROLE_STYLE["node"]),
-               Line2D([], [], ls="none", label="Node heard less", **ROLE_STYLE["node_uncovered"]),
+               Line2D([], [], ls="none", label="Node not heard" if r == 1 else "Node heard fewer times", **ROLE_STYLE["node_uncovered"]),
                Line2D([], [], ls="none", label="Unreachable node", **{**MARKED_STYLE, "ms": 8.0})]
     audit.contain(put_text(ax, 0.0, ax.get_ylim()[1], "Legend", ha="left", va="top", fontsize=7.5,
                            fontweight="bold"), ax)
@@ -298,7 +298,9 @@ def _sections(siting: dict, keys: dict) -> list[tuple[str, list[str]]]:
               f"{by_name.get(n, {}).get('cost', 0):g}, hears {_count(by_name.get(n, {}).get('nodes_heard', 0), 'node')}"
               for n in siting.get("chosen") or []]
     greedy = siting.get("greedy") or {}
-    g_names = "; ".join(_named(n, keys) for n in greedy.get("chosen") or []) or "none"
+    same = sorted(greedy.get("chosen") or []) == sorted(siting.get("chosen") or [])
+    g_names = "the same sites as chosen" if same else \
+        "; ".join(_named(n, keys) for n in greedy.get("chosen") or []) or "none"
     unreachable = []
     for u in siting.get("unreachable") or []:                  # one entry per unreachable node (output)
         reason = clean(u.get("reason") or "")
