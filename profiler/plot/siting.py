@@ -322,16 +322,23 @@ DROP_ORDER = (3, 1, 2, 0)
 
 
 class _Widths:
-    """Drawn widths [in] of words, measured once at 10 pt and scaled to the size asked (text width is
-    proportional to the font size, to the rounding of the glyph advances: :data:`WIDTH_SLACK` covers it)."""
+    """Drawn widths [in] of words, each measured once.
 
-    def __init__(self, renderer):
-        self.renderer, self.cache = renderer, {}
+    ``exact=False``: measured at 10 pt and scaled to the size asked (text
+    width is about proportional to the font size; the rounding of glyph
+    advances makes small type up to a few per cent wider), to choose the
+    size quickly; ``exact=True``: measured at the size asked, for the lines
+    drawn.
+    """
+
+    def __init__(self, renderer, exact: bool = False):
+        self.renderer, self.exact, self.cache = renderer, exact, {}
 
     def __call__(self, s: str, size: float, bold: bool = False) -> float:
-        if (s, bold) not in self.cache:
-            self.cache[s, bold] = text_width_in(self.renderer, s, 10.0, bold)
-        return self.cache[s, bold] * size / 10.0
+        ref = size if self.exact else 10.0
+        if (s, bold, ref) not in self.cache:
+            self.cache[s, bold, ref] = text_width_in(self.renderer, s, ref, bold)
+        return self.cache[s, bold, ref] * size / ref
 
     def space(self, size: float, bold: bool = False) -> float:
         return self("n n", size, bold) - self("nn", size, bold)
@@ -384,6 +391,8 @@ def _draw_lists(ax, renderer, sections) -> None:
     while _lines_height(layout, size) > height and size > MIN_FONT_PT:
         size = max(MIN_FONT_PT, size - 0.25)
         layout = _list_layout(sections, width, widths, size)
+    widths = _Widths(renderer, exact=True)            # the lines drawn: wrapped with widths at their size
+    layout = _list_layout(sections, width, widths, size)
     line_h = size * 1.25 / 72.0
     dropped, note = 0, []
     while _lines_height(layout, size) + len(note) * line_h > height and any(e for _, e in layout):
