@@ -1,6 +1,6 @@
 """Gateway siting over a network report: margin matrix, ``profiler.siting/1`` report, CSV and GeoJSON.
 
-The network engine's report (``profiler.network/1``) gives ``sites[]``
+The network engine's report (``profiler.network/2``) gives ``sites[]``
 (``name, lat_deg, lon_deg, mast_m, role, ground_m``; role ``gateway`` =
 existing, always kept; ``candidate`` = may get a gateway; ``node`` = must be
 heard; an optional ``cost`` on candidates) and ``links[]`` (``gateway,
@@ -68,7 +68,7 @@ class MarginMatrix(NamedTuple):
 class SitingResult:
     """The answer of :func:`profiler.siting`: :meth:`to_dict` is the ``profiler.siting/1`` JSON report.
 
-    ``network`` is the ``profiler.network/1`` report the choice was made
+    ``network`` is the ``profiler.network/2`` report the choice was made
     over (every gateway and candidate site to every node); the sheet and the
     GeoJSON/KML exports draw the sites and links from it.  The headline
     values are read-only views of the report.
@@ -190,7 +190,7 @@ def siting_from_network(network_report: dict, *, min_margin_db: float, redundanc
     Parameters
     ----------
     network_report : dict
-        The network engine's report (``profiler.network/1``), links from
+        The network engine's report (``profiler.network/2``), links from
         every gateway and candidate site to the nodes.
     min_margin_db : float
         Least uplink margin for a node to count as heard [dB]; the command
@@ -432,7 +432,7 @@ def siting_geojson_dict(report: dict, network_report: dict) -> dict:
         info = gateways.get(name) or nodes.get(name)
         if info is None:
             continue
-        props = {"feature": "site", "name": inert_text(name), "role": inert_text(s.get("role")),
+        props = {"feature": "site", "name": name, "role": s.get("role"),   # as given: json escapes
                  "ground_m": s.get("ground_m"), "mast_m": s.get("mast_m")}
         if name in gateways:
             props.update(chosen=info["chosen"], cost=info["cost"], nodes_heard=info["nodes_heard"])
@@ -450,8 +450,8 @@ def siting_geojson_dict(report: dict, network_report: dict) -> dict:
             geometry = ({"type": "LineString", "coordinates": geojson_positions(*parts[0])} if len(parts) == 1 else
                         {"type": "MultiLineString", "coordinates": [geojson_positions(*p) for p in parts]})
             features.append({"type": "Feature", "id": f"link:{gw}:{nd['name']}", "geometry": geometry,
-                             "properties": {"feature": "link", "gateway": inert_text(gw),
-                                            "node": inert_text(nd["name"]), "margin_db": margin,
+                             "properties": {"feature": "link", "gateway": gw,
+                                            "node": nd["name"], "margin_db": margin,
                                             "best": rank == 0, "caution": caution}})
     return {"type": "FeatureCollection", "schema": report["schema"], "caution": caution, "features": features}
 

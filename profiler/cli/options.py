@@ -20,15 +20,18 @@ class LatLon(click.ParamType):
             return value
         parts = str(value).replace(";", ",").split(",")
         if len(parts) != 2:
-            self.fail(f"{value!r} is not LAT,LON (for example 46.52,-7.91)", param, ctx)
+            self.fail(f"{value!r} is not LAT,LON (for example -29.9125,-19.955)", param, ctx)
         try:
             lat, lon = float(parts[0]), float(parts[1])
         except ValueError:
-            self.fail(f"{value!r} is not LAT,LON in decimal degrees (for example 46.52,-7.91)", param, ctx)
+            self.fail(f"{value!r} is not LAT,LON in decimal degrees (for example -29.9125,-19.955)", param, ctx)
         if not (math.isfinite(lat) and math.isfinite(lon)):
             self.fail(f"{value!r}: coordinates must be finite numbers", param, ctx)
         if not -90.0 <= lat <= 90.0:
-            self.fail(f"latitude {lat:g} is out of range -90..90 (the format is LAT,LON)", param, ctx)
+            from ..path import swapped_hint
+
+            self.fail(f"latitude {lat:g} is out of range -90..90 (the format is LAT,LON)"
+                      f"{swapped_hint(lat, lon)}", param, ctx)
         if not -180.0 <= lon <= 180.0:
             self.fail(f"longitude {lon:g} is out of range -180..180 (the format is LAT,LON)", param, ctx)
         return (lat, lon)
@@ -164,10 +167,26 @@ def frequency_options(f):
 
 
 def radio_options(f):
-    """Link budget, LoRa modem, antennas, losses."""
+    """Link budget, LoRa modem, antennas, losses, and ``--gateway`` (which end is the gateway: link, mast)."""
     return _apply([
         click.option("--gateway", type=click.Choice(["a", "b"]), default="a", show_default=True,
                      help="Which end is the gateway; the other end is the node."),
+        *_radio_option_list(),
+    ])(f)
+
+
+def batch_radio_options(f):
+    """The radio options of the batch commands (network, siting, coverage): no ``--gateway``.
+
+    There every link runs from a gateway or candidate site (end A) to a
+    node (end B); the sites file's ``role`` column says which is which.
+    """
+    return _apply(_radio_option_list())(f)
+
+
+def _radio_option_list():
+    """The options of :func:`radio_options` other than ``--gateway`` (new decorators on each call)."""
+    return [
         click.option("--tx-power-dbm", type=NUMBER, default=None,
                      help="The node's transmitter power [dBm] (shorthand for --tx-power-a/b-dbm of the node end; "
                           "default 14 dBm, or the plan's EIRP limit if lower)."),
@@ -207,13 +226,17 @@ def radio_options(f):
                      default="delta-bullington", show_default=True, help="Diffraction model (ITU-R P.526-15)."),
         click.option("--extra-loss-db", type=NON_NEGATIVE, default=0.0, show_default=True,
                      help="Fixed extra loss: foliage, building entry, ... [dB]."),
-    ])(f)
+    ]
 
 
 def radio_settings(kw):
-    """Build :class:`RadioSettings` from the parsed radio options (popping them from ``kw``)."""
+    """Build :class:`RadioSettings` from the parsed radio options (popping them from ``kw``).
+
+    Without ``--gateway`` (the batch commands) the gateway is end A.
+    """
     from ..radio import RadioSettings
 
+    kw.setdefault("gateway", "a")
     names = ("gateway", "tx_power_dbm", "tx_power_a_dbm", "tx_power_b_dbm", "cap_eirp", "gain_a_dbi", "gain_b_dbi",
              "cable_loss_a_db", "cable_loss_b_db", "fade_margin_db", "sensitivity_dbm", "bw_khz", "noise_figure_db",
              "noise_figure_a_db", "noise_figure_b_db", "sf", "payload_bytes", "app_payload_bytes", "dwell_time",
@@ -247,7 +270,7 @@ def clearance_ratio_option(help_text="Required clearance as a fraction of the fi
 
 def network_options(f):
     """Site list, pairs, elevation data and every link option of a batch command (network, siting)."""
-    f = radio_options(clearance_ratio_option()(frequency_options(k_option(f))))
+    f = batch_radio_options(clearance_ratio_option()(frequency_options(k_option(f))))
     return _apply([
         click.option("--dem", "dem_paths", multiple=True, metavar="PATH",
                      help="Elevation file (GeoTIFF, .hgt, VRT, ...) or folder of tiles; repeatable."),

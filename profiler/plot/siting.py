@@ -1,13 +1,14 @@
 """The gateway siting sheet: the chosen sites, the links they serve, the proof and the greedy comparison.
 
 :func:`write_siting_figure` draws one landscape sheet from the
-``profiler.siting/1`` report and the ``profiler.network/1`` report it was
+``profiler.siting/1`` report and the ``profiler.network/2`` report it was
 solved over:
 
 * the map (the network map's relief, markers, north arrow, scale bar and
   name placement, :mod:`profiler.plot.network`), with links drawn only from
-  the chosen sites to the nodes they hear: each node's best server solid,
-  the other chosen sites that hear it thin, dotted and grey; chosen sites
+  the chosen sites to the nodes they hear: each node's best server solid
+  (thinner and paler from a candidate site, as on the network map), the
+  other chosen sites that hear it thin, dotted and grey; chosen sites
   ringed, sites not chosen without links, unreachable nodes crossed;
 * the header: the nodes heard R times out of all, as in ``summary``;
 * the side column: the legend, the solution (objective, whether it is
@@ -56,7 +57,7 @@ def write_siting_figure(siting: dict, network: dict, path, paper: str = "a4", dp
     siting : dict
         The ``profiler.siting/1`` report.
     network : dict
-        The ``profiler.network/1`` report it was solved over (site positions, links).
+        The ``profiler.network/2`` report it was solved over (site positions, links).
     path : str or os.PathLike
         ``.png``, ``.pdf`` or ``.svg``; written atomically.
     paper : {"a4", "letter"}
@@ -80,9 +81,11 @@ def build_siting_figure(siting: dict, network: dict, paper: str = "a4", dem_path
     """Build the siting sheet as a :class:`matplotlib.figure.Figure` (Agg canvas).
 
     Parameters are those of :func:`write_siting_figure`.  The map axes has
-    the label ``"siting-map"``; the best-server links are the collection
-    with gid ``links-closes``, the other links used ``links-error`` (the
-    network map's solid and faint styles).
+    the label ``"siting-map"``; the best-server links are the collections
+    with gid ``links-closes`` (from existing gateways) and
+    ``candidate-links-closes`` (from chosen candidate sites, thinner and
+    paler as on the network map), the other links used ``links-error`` and
+    ``candidate-links-error`` (the network map's faint style).
     """
     from . import network as netmap
 
@@ -97,13 +100,15 @@ def build_siting_figure(siting: dict, network: dict, paper: str = "a4", dem_path
         sites = netmap._site_table(network)
         covered = {nd["name"]: nd["covered"] for nd in siting.get("nodes") or []}
         sites["covered"] = np.array([covered.get(n, False) for n in sites["name"]], dtype=bool)
+        sites["candidate_covered"] = np.zeros(len(sites["name"]), dtype=bool)    # heard R times or not
         row = {site.get("name"): k + 1 for k, site in enumerate(network.get("sites") or [])}
         sites["row"] = [row.get(n, 0) for n in sites["name"]]
         ax = fig.add_axes(fraction(boxes["map"], width_in, height_in), label="siting-map")
         map_report = {**network, "links": [{"gateway": g, "node": n, "margin_db": m} for g, n, m, _ in served]}
         status = ["closes" if best else "error" for *_, best in served]
-        netmap._draw_map(ax, map_report, sites, status, dem_paths, set(siting.get("chosen") or ()),
-                         {u["name"] for u in siting.get("unreachable") or []}, renderer)
+        netmap._draw_map(ax, map_report, sites, status, np.arange(len(served)), dem_paths,
+                         set(siting.get("chosen") or ()), {u["name"] for u in siting.get("unreachable") or []},
+                         renderer)
         keys = _key_shortened_labels(ax, sites)
         _draw_side(fig, boxes["side"], width_in, height_in, siting, served, keys, renderer)
         sheet = {**(sheet or {}), **({"date": date_text} if date_text else {})}
@@ -212,7 +217,7 @@ def _key_shortened_labels(ax, sites) -> dict:
 def _draw_side(fig, box, width_in, height_in, siting, served, keys, renderer) -> None:
     """Legend, solution table, then the chosen sites, the greedy choice and the unreachable nodes."""
     left, bottom, w, h = box
-    legend_h = 0.95
+    legend_h = 1.08
     legend_ax = inch_axes(fig, (left, bottom + h - legend_h, w, legend_h), width_in, height_in)
     _draw_legend(legend_ax, siting)
     top = h - legend_h - 0.08
@@ -229,12 +234,14 @@ def _draw_side(fig, box, width_in, height_in, siting, served, keys, renderer) ->
 def _draw_legend(ax, siting) -> None:
     from matplotlib.lines import Line2D
 
-    from .network import HIGHLIGHT_STYLE, MARKED_STYLE, ROLE_STYLE, STATUS_STYLE
+    from .network import CANDIDATE_LINK, HIGHLIGHT_STYLE, MARKED_STYLE, ROLE_STYLE, STATUS_STYLE
 
     r = int(siting.get("redundancy") or 1)
     line = {k: dict(color=STATUS_STYLE[k]["color"], lw=STATUS_STYLE[k]["lw"], ls=STATUS_STYLE[k]["ls"])
             for k in ("closes", "error")}
-    handles = [Line2D([], [], label="Best server of a node", **line["closes"]),
+    pale = dict(line["closes"], lw=line["closes"]["lw"] * CANDIDATE_LINK["width"], alpha=CANDIDATE_LINK["alpha"])
+    handles = [Line2D([], [], label="Best server: gateway", **line["closes"]),
+               Line2D([], [], label="Best server: candidate", **pale),
                Line2D([], [], label="Other chosen site hearing it", **line["error"]),
                Line2D([], [], ls="none", label="Existing gateway", **ROLE_STYLE["gateway"]),
                Line2D([], [], ls="none", label="Candidate site", **ROLE_STYLE["candidate"]),
@@ -317,8 +324,10 @@ def _sections(siting: dict, keys: dict) -> list[tuple[str, list[str]]]:
 
 
 #: Sections whose entries give way first when the lists do not fit: the names of numbered sites
-#: (also in the site list, by row), the greedy choice, the unreachable nodes, the chosen sites.
-DROP_ORDER = (3, 1, 2, 0)
+#: (also in the site list, by row), the chosen sites (ringed and named on the map; their count and
+#: total cost in the table), the greedy choice, and last the unreachable nodes (their reasons are
+#: nowhere else on the sheet).
+DROP_ORDER = (3, 0, 1, 2)
 
 
 class _Widths:
