@@ -255,7 +255,9 @@ def _unreachable_reason(k, links, matrix, hears, min_margin_db, redundancy) -> t
     if np.isfinite(rest).any():
         j = int(np.argmax(rest))
         link = links[matrix.link_index[j, k]]
-        dr = "" if link.get("recommended_dr") is not None else ", no allowed data rate closes"
+        # recommended_dr is null when no allowed rate keeps the fade margin; the link still closes when its
+        # margin is not negative, so only then is "no allowed data rate closes" true.
+        dr = ", no allowed data rate closes" if link.get("recommended_dr") is None and margin[j] < 0 else ""
         label = "next best" if heard.size else "best"
         parts.append(f"{label} margin {margin[j]:.1f} dB from {names[j]} (needs {min_margin_db:.1f} dB{dr})")
         parts.append(_obstruction_text(link))

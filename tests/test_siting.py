@@ -338,6 +338,18 @@ def test_siting_report_contract():
     assert out["redundancy"] == 1 and out["min_margin_db"] == 10.0 and out["max_gateways"] is None
 
 
+def test_unreachable_reason_says_no_rate_closes_only_below_zero_margin():
+    # A margin of 0 dB or more means the uplink closes (received power at or above the sensitivity: the
+    # definition of the margin), even when no rate keeps the fade margin (recommended_dr null). The sample
+    # scenario's Saltmarsh Lane trough (9.4 dB from Kestrel Mast, README) was said to have no closing rate.
+    rep = network_report()
+    rep["links"] = [lk for lk in rep["links"] if lk["node"] != "Wendle Reservoir"]
+    rep["links"].append(link("Kestrel Mast", "Wendle Reservoir", 9.4, dr=None))
+    why = {u["name"]: u["reason"] for u in siting_from_network(rep, min_margin_db=10.0)["unreachable"]}
+    assert why["Wendle Reservoir"].startswith("best margin 9.4 dB from Kestrel Mast (needs 10.0 dB);")
+    assert "no allowed data rate closes" not in why["Wendle Reservoir"]
+
+
 def test_failed_links_are_warned_about_once():
     # Issue 17: `siting` printed the network's "could not be computed" warning and its own one about the same
     # links. The network report's warning is replaced by one that also says what it means for siting.
