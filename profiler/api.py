@@ -98,8 +98,8 @@ def network(sites, *, dem, **kwargs):
 
 
 def siting(sites, *, dem, redundancy: int = 1, min_margin_db: float | None = None, max_gateways: int | None = None,
-           time_limit_s: float = 60.0, return_network: bool = False, **kwargs):
-    """The cheapest set of candidate gateway sites that hears every node (``profiler.siting/1``).
+           time_limit_s: float = 60.0, **kwargs):
+    """The cheapest set of candidate gateway sites that hears every node.
 
     Runs the network engine from every ``gateway`` and ``candidate`` site to
     every node (``kwargs`` as for :func:`network`), then solves the set
@@ -108,18 +108,21 @@ def siting(sites, *, dem, redundancy: int = 1, min_margin_db: float | None = Non
     uplink margin over the plan's allowed data rates reaches
     ``min_margin_db`` (default: the fade margin).
 
-    Returns the siting report dict, or ``(report, network_report)`` with
-    ``return_network``.
+    Returns
+    -------
+    profiler.siting_report.SitingResult
+        ``result.to_dict()`` is the ``profiler.siting/1`` JSON report;
+        ``result.network`` the ``profiler.network/1`` report it was solved over.
     """
     from .radio import RadioSettings
-    from .siting_report import siting_from_network
+    from .siting_report import SitingResult, siting_from_network
 
     radio = kwargs.get("radio") or RadioSettings()
     net = network(sites, dem=dem, **kwargs).to_dict()
     threshold = radio.fade_margin_db if min_margin_db is None else float(min_margin_db)
     report = siting_from_network(net, min_margin_db=threshold, redundancy=redundancy, max_gateways=max_gateways,
                                  time_limit_s=time_limit_s)
-    return (report, net) if return_network else report
+    return SitingResult(report, net)
 
 
 def coverage(site=None, *, dem, **kwargs):

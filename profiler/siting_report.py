@@ -1,6 +1,6 @@
 """Gateway siting over a network report: margin matrix, ``profiler.siting/1`` report, CSV and GeoJSON.
 
-The network engine's report (``profiler.network/1``) gives ``sites[]``
+The network engine's report (``profiler.network/2``) gives ``sites[]``
 (``name, lat_deg, lon_deg, mast_m, role, ground_m``; role ``gateway`` =
 existing, always kept; ``candidate`` = may get a gateway; ``node`` = must be
 heard; an optional ``cost`` on candidates) and ``links[]`` (``gateway,
@@ -26,6 +26,7 @@ import csv
 import io
 import json
 import math
+from dataclasses import dataclass
 from typing import NamedTuple
 
 import numpy as np
@@ -36,8 +37,8 @@ from .exports import geojson_position, geojson_positions, split_at_antimeridian,
 from .report import format_cell, inert_text
 from .setcover import hearing_matrix, solve_siting
 
-__all__ = ["SCHEMA", "MarginMatrix", "margin_matrix", "site_costs", "siting_from_network", "siting_report",
-           "siting_csv_text", "siting_geojson_dict", "siting_geojson_text"]
+__all__ = ["SCHEMA", "SitingResult", "MarginMatrix", "margin_matrix", "site_costs", "siting_from_network", "siting_report",
+           "siting_csv_text", "siting_geojson_dict", "siting_geojson_text", "siting_kml_text"]
 
 SCHEMA = "profiler.siting/1"
 
@@ -61,6 +62,36 @@ class MarginMatrix(NamedTuple):
     allowed: np.ndarray
     link_index: np.ndarray
     site_roles: list
+
+
+@dataclass(frozen=True)
+class SitingResult:
+    """The answer of :func:`profiler.siting`: :meth:`to_dict` is the ``profiler.siting/1`` JSON report.
+
+    ``network`` is the ``profiler.network/2`` report the choice was made
+    over (every gateway and candidate site to every node); the sheet and the
+    GeoJSON/KML exports draw the sites and links from it.  The headline
+    values are read-only views of the report.
+    """
+
+    report: dict
+    network: dict
+
+    def to_dict(self) -> dict:
+        """The ``profiler.siting/1`` report (a plain dict, no NaN)."""
+        return self.report
+
+    chosen = property(lambda self: list(self.report["chosen"]),
+                      doc="Names of the open sites (existing gateways included).")
+    objective = property(lambda self: self.report["objective"],
+                         doc="Total cost of the candidates opened, or the nodes heard R times (``max_gateways``).")
+    proven_optimal = property(lambda self: self.report["proven_optimal"],
+                              doc="Whether the solver proved the objective optimal.")
+    gap = property(lambda self: self.report["gap"], doc="Relative MIP gap (None when no bound is known).")
+    greedy = property(lambda self: self.report["greedy"], doc="The greedy choice: ``{chosen, objective}``.")
+    unreachable = property(lambda self: self.report["unreachable"],
+                           doc="Nodes no choice of sites hears R times: ``{name, best_margin_db, reason}``.")
+    summary = property(lambda self: self.report["summary"], doc="The report's ``summary`` block.")
 
 
 def _sites_and_links(network_report) -> tuple[list, list]:
@@ -159,7 +190,7 @@ def siting_from_network(network_report: dict, *, min_margin_db: float, redundanc
     Parameters
     ----------
     network_report : dict
-        The network engine's report (``profiler.network/1``), links from
+        The network engine's report (``profiler.network/2``), links from
         every gateway and candidate site to the nodes.
     min_margin_db : float
         Least uplink margin for a node to count as heard [dB]; the command
@@ -224,7 +255,9 @@ def _unreachable_reason(k, links, matrix, hears, min_margin_db, redundancy) -> t
     if np.isfinite(rest).any():
         j = int(np.argmax(rest))
         link = links[matrix.link_index[j, k]]
-        dr = "" if link.get("recommended_dr") is not None else ", no allowed data rate closes"
+        # recommended_dr is null when no allowed rate keeps the fade margin; the link still closes when its
+        # margin is not negative, so only then is "no allowed data rate closes" true.
+        dr = ", no allowed data rate closes" if link.get("recommended_dr") is None and margin[j] < 0 else ""
         label = "next best" if heard.size else "best"
         parts.append(f"{label} margin {margin[j]:.1f} dB from {names[j]} (needs {min_margin_db:.1f} dB{dr})")
         parts.append(_obstruction_text(link))
@@ -293,15 +326,17 @@ def siting_report(network_report: dict, matrix: MarginMatrix, hears, solution, *
         unreachable.append({"name": matrix.node_names[k], "best_margin_db": _round(best), "reason": reason})
     nodes = _node_rows(links, matrix, hears, solution, is_open)
     min_cost = solution.mode == "min_cost"
-    warnings = list(network_report.get("warnings") or [])
+    errors = sum(1 for lk in links if lk.get("error"))
+    # The network run already warns about links it could not compute; say it once, with what it means here.
+    warnings = [w for w in network_report.get("warnings") or [] if not (errors and "could not be computed" in str(w))]
+    if errors:
+        warnings.append(f"{errors} of {len(links)} links could not be computed (see their error in the network "
+                        "table) and count as not heard")
     if not solution.proven_optimal:
         warnings.append(f"the optimum is not proven ({solution.status}); raise --time-limit-s for a proof")
     if unreachable:
         warnings.append(f"{len(unreachable)} node(s) cannot be heard {redundancy} time(s) by any choice of sites: "
                         "see unreachable[]")
-    errors = sum(1 for lk in links if lk.get("error"))
-    if errors:
-        warnings.append(f"{errors} link(s) could not be computed and count as not heard")
     return {
         "schema": SCHEMA, "tool_version": __version__, "mode": solution.mode,
         "chosen": [names[j] for j in solution.chosen],
@@ -438,3 +473,99 @@ def siting_geojson_text(report: dict, network_report: dict) -> str:
                           separators=(",", ":")) + "\n"
     except ValueError as exc:
         raise ProfilerError(f"cannot write GeoJSON: the report holds a value that is not a number ({exc})") from exc
+
+
+# --------------------------------------------------------------------------- KML
+#: KML colours (aabbggrr) and widths: the best server of a node, and the other chosen sites that hear it.
+_KML_LINKS = {"best": ("ffb0501a", 3.0, "best server of the node"),
+              "other": ("80808080", 1.0, "other chosen site hearing the node")}
+_KML_SITES = {"gateway": ("ff1e1ecc", 1.4), "candidate": ("ffcc7a1e", 1.2), "node": ("ffffffff", 0.9)}
+
+
+def siting_kml_text(report: dict, network_report: dict) -> str:
+    """The chosen sites, the nodes and the links used as OGC KML 2.2 text.
+
+    Folders: ``Chosen sites`` (existing gateways and the candidates opened,
+    with cost and nodes heard), ``Nodes`` (heard R times or not, with the
+    chosen sites hearing them) and ``Nodes unreachable`` (with the reason),
+    each placemark at the antenna tip extruded to the ground as in the
+    network KML (:mod:`profiler.exports_network`); ``Links used``: one
+    ground-clamped line from each chosen site to each node it hears, the
+    node's best server in its own sub-folder.  Sites not chosen are left
+    out (they are in the GeoJSON with ``chosen: false``).
+
+    References: OGC 07-147r2 (KML 2.2) sections 9.10 (Folder), 9.11
+    (Placemark), 10.7 (LineString), 12 (styles; colours aabbggrr).
+    """
+    import xml.etree.ElementTree as ET
+
+    from .exports import KML_NAMESPACE, _extended_data, _html_description, _kml_coordinates, _style, _sub
+    from .exports_network import _kml_site
+
+    sites, _ = _sites_and_links(network_report)
+    where = {s.get("name"): s for s in sites}
+    s = report["summary"]
+    ET.register_namespace("", KML_NAMESPACE)
+    root = ET.Element(f"{{{KML_NAMESPACE}}}kml")
+    doc = _sub(root, "Document")
+    title = f"Gateway siting: {len(report['chosen'])} sites chosen for {s['nodes_total']} nodes"
+    _sub(doc, "name", title)
+    _sub(doc, "open", 1)
+    _sub(doc, "description", _html_description([inert_text(line) for line in _headline_lines(report)] + [CAUTION]))
+    for role, (colour, scale) in _KML_SITES.items():
+        _style(doc, f"site-{role}", icon_color=colour, icon_scale=scale)
+    for kind, (colour, width, _) in _KML_LINKS.items():
+        _style(doc, f"link-{kind}", line_color=colour, line_width=width)
+    folders = {}
+    for key, name in (("chosen", "Chosen sites"), ("node", "Nodes"), ("unreachable", "Nodes unreachable")):
+        folders[key] = _sub(doc, "Folder")
+        _sub(folders[key], "name", name)
+    gateways = {g["name"]: g for g in report["sites"]}
+    reasons = {u["name"]: u["reason"] for u in report["unreachable"]}
+    for name in report["chosen"]:                              # one placemark per chosen site (output)
+        g = gateways[name]
+        lon, lat = _site_position(where, name)
+        _kml_site(folders["chosen"], where[name], {"chosen": True, "cost": g["cost"], "nodes_heard": g["nodes_heard"]},
+                  lon, lat)
+    for nd in report["nodes"]:                                  # one placemark per node (output)
+        lon, lat = _site_position(where, nd["name"])
+        _kml_site(folders["unreachable" if nd["unreachable"] else "node"], where[nd["name"]],
+                  {"covered": nd["covered"], "unreachable": nd["unreachable"], "heard_by": "; ".join(nd["heard_by"]),
+                   "best_gateway": nd["best_gateway"], "best_margin_db": nd["best_margin_db"],
+                   "reason": reasons.get(nd["name"])}, lon, lat)
+    used = _sub(doc, "Folder")
+    _sub(used, "name", "Links used")
+    kinds = {}
+    for kind, (_, _, text) in _KML_LINKS.items():
+        kinds[kind] = _sub(used, "Folder")
+        _sub(kinds[kind], "name", text)
+    for nd in report["nodes"]:                                  # one line per link used (output)
+        for rank, (gw, margin) in enumerate(zip(nd["heard_by"], nd["heard_by_margin_db"])):
+            kind = "best" if rank == 0 else "other"
+            mark = _sub(kinds[kind], "Placemark")
+            _sub(mark, "name", f"{inert_text(gw)} \u2013 {inert_text(nd['name'])}")
+            _sub(mark, "description", _html_description([f"{inert_text(gw)} hears {inert_text(nd['name'])}: "
+                                                          f"uplink margin {margin} dB ({_KML_LINKS[kind][2]})"]))
+            _sub(mark, "styleUrl", f"#link-{kind}")
+            _extended_data(mark, {"gateway": gw, "node": nd["name"], "margin_db": margin, "best": rank == 0})
+            line = _sub(mark, "LineString")
+            _sub(line, "tessellate", 1)
+            _sub(line, "altitudeMode", "clampToGround")
+            (x0, y0), (x1, y1) = _site_position(where, gw), _site_position(where, nd["name"])
+            _sub(line, "coordinates", _kml_coordinates([x0, x1], [y0, y1]))
+    ET.indent(root, space=" ")
+    return '<?xml version="1.0" encoding="UTF-8"?>\n' + ET.tostring(root, encoding="unicode") + "\n"
+
+
+def _headline_lines(report: dict) -> list[str]:
+    """The answer in words: chosen sites and cost, proof, greedy, redundancy, nodes heard (KML, sheet)."""
+    s = report["summary"]
+    proof = ("proven optimal" if report["proven_optimal"] else "not proven optimal") + \
+        (f", gap {report['gap']:g}" if report.get("gap") is not None else ", gap unknown")
+    return [f"chosen: {'; '.join(report['chosen']) or 'none'} (total cost {s['cost_total']:g})",
+            f"objective {report['objective']:g} ({report['objective_meaning']}): {proof}",
+            f"greedy for comparison: objective {report['greedy']['objective']:g}, "
+            f"{'; '.join(report['greedy']['chosen']) or 'none'}",
+            f"redundancy {report['redundancy']}: nodes heard {s['nodes_heard']} of {s['nodes_total']}, "
+            f"unreachable {s['nodes_unreachable']}",
+            *report.get("warnings", [])]

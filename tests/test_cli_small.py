@@ -41,7 +41,7 @@ OUTPUT_OPTIONS = {
     "link": ("--json", "--csv", "--geojson", "--kml", "--plot", "--report"),
     "mast": ("--json", "--plot", "--report"),
     "network": ("--json", "--csv", "--geojson", "--kml", "--plot"),
-    "siting": ("--json", "--csv", "--geojson", "--plot"),
+    "siting": ("--json", "--csv", "--geojson", "--kml", "--plot"),
     "coverage": ("--out", "--json", "--kmz", "--plot"),
 }
 

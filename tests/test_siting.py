@@ -332,8 +332,32 @@ def test_siting_report_contract():
         "terrain blocks the line of sight 3.41 km from the gateway, diffraction 24.1 dB")
     assert why["Quarry Gate sensor"]["best_margin_db"] is None
     assert "elevation void" in why["Quarry Gate sensor"]["reason"]
-    assert out["warnings"][0] == "sample warning" and any("1 link(s) could not" in w for w in out["warnings"])
+    assert out["warnings"][0] == "sample warning"
+    assert [w for w in out["warnings"] if "could not be computed" in w] == [
+        "1 of 10 links could not be computed (see their error in the network table) and count as not heard"]
     assert out["redundancy"] == 1 and out["min_margin_db"] == 10.0 and out["max_gateways"] is None
+
+
+def test_unreachable_reason_says_no_rate_closes_only_below_zero_margin():
+    # A margin of 0 dB or more means the uplink closes (received power at or above the sensitivity: the
+    # definition of the margin), even when no rate keeps the fade margin (recommended_dr null). The sample
+    # scenario's Saltmarsh Lane trough (9.4 dB from Kestrel Mast, README) was said to have no closing rate.
+    rep = network_report()
+    rep["links"] = [lk for lk in rep["links"] if lk["node"] != "Wendle Reservoir"]
+    rep["links"].append(link("Kestrel Mast", "Wendle Reservoir", 9.4, dr=None))
+    why = {u["name"]: u["reason"] for u in siting_from_network(rep, min_margin_db=10.0)["unreachable"]}
+    assert why["Wendle Reservoir"].startswith("best margin 9.4 dB from Kestrel Mast (needs 10.0 dB);")
+    assert "no allowed data rate closes" not in why["Wendle Reservoir"]
+
+
+def test_failed_links_are_warned_about_once():
+    # Issue 17: `siting` printed the network's "could not be computed" warning and its own one about the same
+    # links. The network report's warning is replaced by one that also says what it means for siting.
+    rep = network_report()
+    rep["warnings"] = ["1 of 10 links could not be computed (see their error)", "sample warning"]
+    out = siting_from_network(rep, min_margin_db=10.0)
+    about = [w for w in out["warnings"] if "could not be computed" in w]
+    assert len(about) == 1 and "count as not heard" in about[0] and "sample warning" in out["warnings"]
 
 
 def test_siting_report_redundancy_and_max_gateways():

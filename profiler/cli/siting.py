@@ -4,7 +4,8 @@ from __future__ import annotations
 
 import click
 
-from .options import INTEGER, NUMBER, cluster_options, network_call_kwargs, network_options
+from .options import (INTEGER, NUMBER, cluster_options, network_call_kwargs, network_options, plot_options,
+                      sheet_options, sheet_settings)
 
 
 @click.command("siting")
@@ -21,21 +22,20 @@ from .options import INTEGER, NUMBER, cluster_options, network_call_kwargs, netw
 @click.option("--csv", "csv_path", default=None, metavar="FILE", help="Write one CSV row per node.")
 @click.option("--geojson", "geojson_path", default=None, metavar="FILE",
               help="Write the sites (chosen or not) and the links used as GeoJSON.")
-@click.option("--plot", "plot_path", type=click.Path(dir_okay=False), default=None,
-              help="Write the network map with the chosen sites highlighted: .png, .pdf or .svg.")
-@click.option("--paper", type=click.Choice(["a4", "letter"]), default="a4", show_default=True,
-              help="Paper size of the figure (landscape).")
-@click.option("--dpi", type=INTEGER, default=150, show_default=True,
-              help="Resolution of a PNG figure [dots per inch].")
+@click.option("--kml", "kml_path", default=None, metavar="FILE",
+              help="Write the chosen sites, the nodes and the links used as KML.")
+@plot_options
+@sheet_options
 @cluster_options
 def siting_command(redundancy, min_margin_db, max_gateways, time_limit_s, json_path, csv_path, geojson_path,
-                   plot_path, paper, dpi, workers, scheduler, no_progress, **kw):
+                   kml_path, plot_path, paper, dpi, workers, scheduler, no_progress, **kw):
     """Choose where the gateways go: the cheapest set of candidate sites that hears every node.
 
     Roles in SITES.csv: 'candidate' may get a gateway (optional 'cost'
     column, default 1), 'gateway' is an existing one that is always kept,
     'node' must be heard. Solved exactly (integer programme, HiGHS); the
-    greedy choice is reported for comparison.
+    greedy choice is reported for comparison. --plot draws the siting sheet:
+    the chosen sites, the links they serve, the proof and the greedy choice.
 
     \b
     Example:
@@ -48,40 +48,50 @@ def siting_command(redundancy, min_margin_db, max_gateways, time_limit_s, json_p
     from ..limits import quiet_numerics
     from ..outputs import check_outputs, write_outputs
 
+    sheet_info, date = sheet_settings(kw)
     call = network_call_kwargs(kw)
-    outputs = siting_outputs(json_path, csv_path, geojson_path, plot_path, paper, dpi, call["dem"])
+    outputs = siting_outputs(json_path, csv_path, geojson_path, plot_path, paper, dpi, call["dem"],
+                             kml_path=kml_path, sheet={**sheet_info.to_dict(), "date": date.isoformat()})
     check_outputs(outputs)
     with quiet_numerics():
-        report, net = siting(call.pop("sites"), redundancy=redundancy, min_margin_db=min_margin_db,
-                             max_gateways=max_gateways, time_limit_s=time_limit_s, workers=workers,
-                             scheduler=scheduler, progress=False if no_progress else None, return_network=True,
-                             **call)
-        write_outputs(outputs, {"siting": report, "network": net})
+        result = siting(call.pop("sites"), redundancy=redundancy, min_margin_db=min_margin_db,
+                        max_gateways=max_gateways, time_limit_s=time_limit_s, workers=workers,
+                        scheduler=scheduler, progress=False if no_progress else None, **call)
+        write_outputs(outputs, {"siting": result.to_dict(), "network": result.network})
 
 
-def siting_outputs(json_path, csv_path, geojson_path, plot_path, paper="a4", dpi=150, dem_paths=()):
-    """The outputs of ``profiler siting``; each render gets ``{"siting": report, "network": network_report}``."""
+def siting_outputs(json_path, csv_path, geojson_path, plot_path, paper="a4", dpi=150, dem_paths=(), *,
+                   kml_path=None, sheet=None):
+    """The outputs of ``profiler siting``; each render gets ``{"siting": report, "network": network_report}``.
+
+    ``sheet`` holds the title-block fields and the date of the siting sheet (``--plot``).
+    """
     from ..outputs import Output, summary_output, text_of
 
     def of_siting(render):
         return lambda both, path: render(both["siting"], path)
 
-    def render_geojson(both, path):
-        from ..siting_report import siting_geojson_text
-        return siting_geojson_text(both["siting"], both["network"])
+    def of_both(function):
+        def render(both, path):
+            from .. import siting_report
+            return getattr(siting_report, function)(both["siting"], both["network"])
+        return render
 
     def render_plot(both, path):
-        from ..plot import write_network_figure
-        rep = both["siting"]
-        write_network_figure(both["network"], path, paper=paper, dpi=dpi, dem_paths=list(dem_paths),
-                             highlight=set(rep["chosen"]), marked={u["name"] for u in rep["unreachable"]})
+        from ..plot.siting import write_siting_figure
+        from ..textsafe import safe_strings
+
+        write_siting_figure(both["siting"], both["network"], path, paper=paper, dpi=dpi, dem_paths=list(dem_paths),
+                            sheet=safe_strings(sheet, "figure") if sheet else None)
 
     return [
         Output("--json", json_path, of_siting(text_of("report", "json_text")), "json"),
         Output("--csv", csv_path, of_siting(text_of("siting_report", "siting_csv_text")), "csv"),
-        Output("--geojson", geojson_path, render_geojson, "json"),
+        Output("--geojson", geojson_path, of_both("siting_geojson_text"), "json"),
+        Output("--kml", kml_path, of_both("siting_kml_text"), "xml"),
         Output("--plot", plot_path, render_plot, "figure", suffixes=(".png", ".pdf", ".svg"), stdout=False),
-        summary_output(lambda both, path: siting_summary_text(both["siting"]), json_path, csv_path, geojson_path),
+        summary_output(lambda both, path: siting_summary_text(both["siting"]), json_path, csv_path, geojson_path,
+                       kml_path),
     ]
 
 

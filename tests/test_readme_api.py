@@ -1,0 +1,102 @@
+"""Every Python name README shows exists: dotted ``profiler.`` names and ``from profiler... import`` lines.
+
+Check value: README itself (issue 17: it pointed at ``profiler.siting.solve_siting``, which did not exist).
+Names are resolved by importing the longest importable module prefix and getting the rest as attributes.
+Report schemas (``profiler.link/3``) and command lines (``profiler link ...``) are not Python names.
+"""
+
+from __future__ import annotations
+
+import importlib
+import re
+from pathlib import Path
+
+import pytest
+
+README = Path(__file__).resolve().parents[1] / "README.md"
+
+#: A dotted Python name starting with ``profiler.``, not a schema (``profiler.link/3``) nor part of a path.
+DOTTED = re.compile(r"(?<![\w/.-])profiler(?:\.[A-Za-z_]\w*)+(?![\w/])")
+FROM_IMPORT = re.compile(r"^[ \t]*from[ \t]+(profiler(?:\.\w+)*)[ \t]+import[ \t]+([\w \t,]+)", re.M)
+
+
+def code_texts(text: str) -> list[str]:
+    """The fenced code blocks and the inline code spans of a Markdown text."""
+    blocks = re.findall(r"^```[^\n]*\n(.*?)^```", text, flags=re.M | re.S)
+    rest = re.sub(r"^```[^\n]*\n.*?^```", "", text, flags=re.M | re.S)
+    spans = re.findall(r"`([^`]+)`", rest)              # a span may wrap onto the next line of its paragraph
+    return blocks + [span for span in spans if "\n\n" not in span]
+
+
+def readme_names() -> list[str]:
+    names = []
+    for code in code_texts(README.read_text(encoding="utf-8")):
+        names += [m.rstrip(".") for m in DOTTED.findall(code)]
+        for module, items in FROM_IMPORT.findall(code):
+            names += [f"{module}.{item.strip()}" for item in items.split(",") if item.strip()]
+    return sorted(set(names))
+
+
+def resolve(name: str):
+    """Import the longest module prefix of ``name`` and get the rest as attributes (AttributeError if missing)."""
+    parts = name.split(".")
+    for i in range(len(parts), 0, -1):
+        module_name = ".".join(parts[:i])
+        try:
+            obj = importlib.import_module(module_name)
+        except ModuleNotFoundError as exc:
+            if exc.name is not None and not module_name.startswith(exc.name) and exc.name != module_name:
+                raise                       # the module exists but one of its imports is missing
+            continue
+        for attr in parts[i:]:
+            obj = getattr(obj, attr)
+        return obj
+    raise ModuleNotFoundError(name)
+
+
+def test_readme_shows_python_names():
+    names = readme_names()
+    assert "profiler.setcover.solve_siting" in names and "profiler.siting_report.siting_from_network" in names
+    assert not any("/" in n for n in names)
+
+
+@pytest.mark.parametrize("name", readme_names())
+def test_readme_python_name_exists(name):
+    resolve(name)
+
+
+def test_resolve_refuses_a_missing_name():
+    with pytest.raises(AttributeError):
+        resolve("profiler.siting.solve_siting")       # the name README showed before issue 17
+    assert resolve("profiler.setcover.solve_siting").__name__ == "solve_siting"
+
+
+def readme_example(command: str) -> list[str]:
+    """The arguments of README's worked example of ``profiler COMMAND`` (the line after "# for example")."""
+    text = README.read_text(encoding="utf-8")
+    section = text[text.index(f"## `profiler {command}`"):]
+    block = re.search(r"^```sh\n(.*?)^```", section, flags=re.M | re.S).group(1)
+    example = block[block.index("# for example"):].split("\n", 1)[1]
+    import shlex
+
+    args = shlex.split(example.replace("\\\n", " "), comments=True)
+    assert args[:2] == ["profiler", command]
+    return args[1:]
+
+
+def test_readme_siting_example_runs_as_written(tmp_path, monkeypatch):
+    # Issue 17: the example wrote to out/, a folder a clean checkout does not have. Run it in a folder
+    # holding only what a checkout has (the sample terrain and the examples).
+    from click.testing import CliRunner
+
+    from profiler.cli import main
+
+    root = README.parent
+    for name in ("dem_samples", "examples"):
+        (tmp_path / name).symlink_to(root / name)
+    monkeypatch.chdir(tmp_path)
+    args = readme_example("siting")
+    res = CliRunner().invoke(main, args, catch_exceptions=False)
+    assert res.exit_code == 0, res.output
+    written = [args[i + 1] for i, a in enumerate(args) if a in ("--json", "--csv", "--geojson", "--kml", "--plot")]
+    assert written and all((tmp_path / path).stat().st_size > 0 for path in written)
