@@ -381,7 +381,7 @@ def draw_title_block(ax, renderer, title: str, subtitle: str, badge: str, badge_
     y0 = max(0.0, 0.5 * (height - badge_h - 0.04 - label_h))
     box = put_text(ax, width - pad_in, y0 + pad_in, badge_fit.text, ha="right", va="bottom",
                    fontsize=badge_fit.fontsize, fontweight="bold", linespacing=1.2, multialignment="center",
-                   bbox=dict(boxstyle=f"square,pad={BADGE_PAD}", **badge_style))
+                   bbox=dict(boxstyle=f"square,pad={BADGE_PAD}", **badge_style), gid="title-badge")
     audit.contain(box, ax, (width - badge_w - 0.02, 0.0, width + 0.02, height), name="verdict badge")
     label = put_text(ax, width - pad_in, y0 + badge_h + 0.04, badge_label, ha="right", va="bottom",
                      fontsize=6.5, color="0.3", fontweight="bold")
