@@ -19,7 +19,7 @@ __all__ = ["radio_block", "bearing_lines", "exposure_line", "declination_text", 
 #: Column heads of the radio table, each with the unit of its cells ("SF12/125" is the spreading
 #: factor / the bandwidth in kHz).
 RADIO_HEADER = ["", "Tx [dBm]", "Gain [dBi]", "Feeder [dB]", "EIRP [dBm]", "Sens. [dBm]",
-                "Sensitivity source", "Margin (req.) [dB]", "Rate rx (DR SF/BW [kHz])"]
+                "Sensitivity source", "Margin (req.) [dB]", "Rx rate (SF/kHz)"]
 
 
 def declination_text(value) -> str:
