@@ -29,7 +29,6 @@ from __future__ import annotations
 import datetime
 import math
 import os
-import textwrap
 from fractions import Fraction
 from pathlib import Path
 
@@ -41,7 +40,8 @@ from ..outputs import atomic_path
 from ..report import inert_text
 from . import audit
 from .tables import MAX_CELL_IN, RULE, SHADE, draw_table, draw_tables, table_layout  # noqa: F401  (re-exported)
-from .textfit import MIN_FONT_PT, Fitted, LayoutOverflow, Measure, fit_text, text_height_in, wrap_chars, wrap_lines
+from .textfit import (MIN_FONT_PT, Fitted, LayoutOverflow, Measure, fit_text, text_height_in,  # noqa: F401
+                      wrap_chars, wrap_lines)
 
 #: Landscape paper sizes (width, height) [in]: ISO 216 A4 is 297 mm x 210 mm,
 #: ANSI letter is 11 in x 8.5 in.

@@ -95,9 +95,6 @@ class Measure:
         key = (s, fontsize, bold, "x")
         if key in self.cache:
             return self.cache[key]
-        import numpy as np
-        from matplotlib.backends.backend_agg import get_hinting_flag
-
         try:
             x = self._positions(s, fontsize, bold)
         except (AttributeError, TypeError, ValueError):   # another renderer: measure whole strings
