@@ -93,7 +93,7 @@ def network(sites, *, dem, **kwargs):
     """Every gateway -> node link of a site list: see :func:`profiler.network_analysis.network`.
 
     Returns a :class:`~profiler.network_analysis.NetworkResult` whose
-    ``to_dict()`` is the ``profiler.network/1`` JSON report.
+    ``to_dict()`` is the ``profiler.network/2`` JSON report.
     """
     from .network_analysis import network as _network
 
@@ -129,7 +129,7 @@ def coverage(site=None, *, dem, **kwargs):
     """Coverage of a site within a radius: see :func:`profiler.coverage_map.coverage`.
 
     Returns a :class:`~profiler.coverage_map.CoverageResult` (``bands``: name
-    -> float32 array, ``grid``, ``report`` = the ``profiler.coverage/1``
+    -> float32 array, ``grid``, ``report`` = the ``profiler.coverage/2``
     summary) and writes the files given by ``out``, ``plot``, ``kmz``, ``json``.
     """
     from .coverage_map import coverage as _coverage

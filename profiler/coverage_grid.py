@@ -32,6 +32,8 @@ class Gateway:
     lon_deg: float
     mast_m: float
     overrides: dict = field(default_factory=dict)
+    role: str = "gateway"
+    """``gateway`` (an existing gateway) or ``candidate`` (a possible site, from ``--sites``)."""
 
 
 # --------------------------------------------------------------------------- output grid

@@ -26,7 +26,8 @@ KML_NAMESPACE = "http://www.opengis.net/kml/2.2"
 CLASS_COLOURS = ("#1d3a6e", "#3f8fc0", "#a6d4e6", "#f2c14e", "#9a9a9a")
 """Classes, best to none: dark blue, mid blue, pale blue, amber, grey (own choice: they step in lightness
 and lie on the blue-yellow axis, so they stay distinct with red-green colour-vision deficiencies)."""
-CLASS_ALPHA = (0.8, 0.75, 0.7, 0.75, 0.5)
+CLASS_ALPHA = (0.52, 0.5, 0.5, 0.55, 0.4)
+"""Opacity of each class: translucent, so the relief (and its terrain shadow) shows through the map's classes."""
 DR_CLASSES = ((5, 99), (3, 4), (0, 2))
 """Recommended-DR groups of classes 0-2 (fast, middle, slow) when a regional plan is known."""
 
@@ -99,8 +100,11 @@ def write_geotiff(result, path) -> None:
         ds.update_tags(schema=result.report["schema"], caution=CAUTION)
 
 
-def _geographic_classes(result, max_pixels: int = 2048):
-    """Margin classes resampled (nearest) onto a WGS84 latitude/longitude grid for the overlay."""
+def _geographic_classes(result, max_pixels: int = 2048, band=None):
+    """Margin classes resampled (nearest) onto a WGS84 latitude/longitude grid for the overlay.
+
+    With ``band`` (a band name) the band's values (NaN outside) instead of the classes.
+    """
     from pyproj import Transformer
 
     grid = result.grid
@@ -121,6 +125,10 @@ def _geographic_classes(result, max_pixels: int = 2048):
     col = np.floor((np.asarray(x) - c) / a).astype(np.int64)
     row = np.floor((np.asarray(y) - f) / e).astype(np.int64)
     inside = (col >= 0) & (col < grid.width) & (row >= 0) & (row < grid.height)
+    if band is not None:
+        values = np.full(glon.shape, np.nan, dtype=np.float32)
+        values[inside] = result.bands[band][row[inside], col[inside]]
+        return values, (west, east, south, north)
     cls_grid = margin_classes(result.bands, result.report["settings"]["fade_margin_db"])
     cls = np.full(glon.shape, -1, dtype=np.int8)
     cls[inside] = cls_grid[row[inside], col[inside]]
@@ -158,7 +166,8 @@ def coverage_kmz_bytes(result, report: dict) -> bytes:
     for s in sites:
         mark = sub(doc, "Placemark")
         sub(mark, "name", s["name"])
-        sub(mark, "description", f"gateway, mast {s['mast_m']:g} m. {CAUTION}")
+        sub(mark, "description", f"{_role_text(s)}, mast {s['mast_m']:g} m, antenna gain {s['gain_dbi']:.2f} dBi, "
+                                 f"EIRP {s['eirp_dbm']:.2f} dBm. {CAUTION}")
         sub(sub(mark, "Point"), "coordinates", f"{s['lon_deg']:.7f},{s['lat_deg']:.7f},0")
     kml = b'<?xml version="1.0" encoding="UTF-8"?>\n' + ET.tostring(root, encoding="utf-8")
     buf = io.BytesIO()
@@ -185,7 +194,8 @@ def coverage_outputs(out=None, plot=None, kmz=None, json=None, *, paper="a4", dp
 
     def render_plot(report, path):
         from .plot import write_coverage_figure
-        write_coverage_figure(result, path, paper=paper, dpi=dpi, dem_paths=list(dem_paths or ()), report=report)
+        write_coverage_figure(result, path, paper=paper, dpi=dpi, dem_paths=list(dem_paths or ()), report=report,
+                              date_text=(report.get("sheet") or {}).get("date"))
 
     outputs = [Output("--out", out, render_tif, "raw", suffixes=(".tif", ".tiff"), stdout=False),
                Output("--json", json, render_json, "json"),
@@ -197,17 +207,38 @@ def coverage_outputs(out=None, plot=None, kmz=None, json=None, *, paper="a4", dp
     return outputs
 
 
+def _role_text(site: dict) -> str:
+    return "candidate site" if site.get("role") == "candidate" else "gateway"
+
+
+def site_count_text(summary: dict) -> str:
+    """``1 gateway`` / ``2 gateways and 1 candidate site``: the sites of a run by role."""
+    def plural(n, word):
+        return f"{n} {word}" + ("" if n == 1 else "s")
+
+    text = plural(summary["gateways"], "gateway")
+    return text + (f" and {plural(summary['candidates'], 'candidate site')}" if summary["candidates"] else "")
+
+
 def coverage_summary_text(report: dict) -> str:
     """Short human summary of a coverage run."""
     s, st = report["summary"], report["settings"]
     sites = report.get("gateways") or [report["site"]]
+    fade = f"{st['fade_margin_db']:g} dB fade margin"
     lines = [f"Coverage: {', '.join(str(g['name']) for g in sites)}, radius {st['radius_km']:g} km at "
              f"{st['resolution_m']:.1f} m ({report['grid']['width']} x {report['grid']['height']} pixels, "
              f"{st['radials']} radials)",
-             f"  computed      {s['area_computed_km2']:.2f} km2",
-             f"  covered       {s['covered']['area_km2']:.2f} km2 ({(s['covered']['share'] or 0):.1%}) with the "
-             f"{st['fade_margin_db']:g} dB fade margin",
-             f"  line of sight {s['line_of_sight']['area_km2']:.2f} km2 ({(s['line_of_sight']['share'] or 0):.1%})"]
+             f"  sites         {site_count_text(s)}"]
+    lines += [f"  {'candidate' if g.get('role') == 'candidate' else 'gateway':<13} {g['name']}: {g['lat_deg']:.6f}, {g['lon_deg']:.6f}, mast {g['mast_m']:g} m, "
+              f"gain {g['gain_dbi']:.2f} dBi, EIRP {g['eirp_dbm']:.2f} dBm" for g in sites]
+    lines += [f"  computed      {s['area_computed_km2']:.2f} km2",
+              f"  covered       {s['covered']['area_km2']:.2f} km2 ({(s['covered']['share'] or 0):.1%}) with the "
+              f"{fade}" + (" (gateways and candidate sites)" if s["candidates"] else "")]
+    if s["candidates"]:
+        lines.append(f"  by gateways   {s['covered_by_gateways']['area_km2']:.2f} km2 "
+                     f"({(s['covered_by_gateways']['share'] or 0):.1%}) with the {fade} (existing gateways alone)")
+    lines += [
+              f"  line of sight {s['line_of_sight']['area_km2']:.2f} km2 ({(s['line_of_sight']['share'] or 0):.1%})"]
     for row in s["covered_by_dr"]:
         if row["pixels"]:
             lines.append(f"  DR{row['dr']:<11} {row['area_km2']:.2f} km2 ({row['share']:.1%})")

@@ -61,7 +61,7 @@ from .coverage_radials import (kernel_available, keep_freed_memory, line_of_sigh
                                radial_count, radial_fields, radial_step_m, sample_radials)
 from .errors import ProfilerError
 
-SCHEMA = "profiler.coverage/1"
+SCHEMA = "profiler.coverage/2"
 RADIALS_PER_CHUNK = 32
 """Radials per task (one sector)."""
 def _sector_job(chunk, *, settings, n_radials, radius_m, step_m, node_mast_m, kernel=None, model=None):
@@ -91,7 +91,7 @@ def _sector_job(chunk, *, settings, n_radials, radius_m, step_m, node_mast_m, ke
 # --------------------------------------------------------------------------- the run
 @dataclass(frozen=True)
 class CoverageResult:
-    """Bands on the grid (float32, NaN = nodata) and the ``profiler.coverage/1`` summary."""
+    """Bands on the grid (float32, NaN = nodata) and the ``profiler.coverage/2`` summary."""
 
     bands: dict
     grid: CoverageGrid
@@ -101,8 +101,12 @@ class CoverageResult:
         return self.report
 
 
-def _area_summary(bands, resolution_m, fade_margin_db, dr_values) -> dict:
-    """Area computed, and area and share covered per recommended DR and in total [km^2]."""
+def _area_summary(bands, resolution_m, fade_margin_db, dr_values, heard_by_gateways=None) -> dict:
+    """Area computed, and area and share covered per recommended DR and in total [km^2].
+
+    ``heard_by_gateways`` (bool, the grid's shape) marks the pixels the existing gateways alone hear
+    with the fade margin (default: the covered pixels, i.e. no candidate sites).
+    """
     px_km2 = resolution_m * resolution_m * 1e-6
     margin = bands["margin_db"]
     computed = int(np.isfinite(margin).sum())
@@ -115,8 +119,10 @@ def _area_summary(bands, resolution_m, fade_margin_db, dr_values) -> dict:
 
     per_dr = [{"dr": int(v), **entry(np.sum(dr == v))} for v in dr_values]
     los = bands["line_of_sight"]
+    by_gateways = closes if heard_by_gateways is None else heard_by_gateways & np.isfinite(margin)
     return {"pixels_computed": computed, "area_computed_km2": round(computed * px_km2, 4),
-            "covered": entry(int(closes.sum())), "covered_by_dr": per_dr,
+            "covered": entry(int(closes.sum())), "covered_by_gateways": entry(int(by_gateways.sum())),
+            "covered_by_dr": per_dr,
             "line_of_sight": entry(int(np.sum(los == 1.0)))}
 
 
@@ -135,7 +141,7 @@ def _gateways(site, mast_m, name, sites):
 
         over = _site_overrides(table, rows)
         return [Gateway(name=table.names[i], lat_deg=float(table.lat_deg[i]), lon_deg=float(table.lon_deg[i]),
-                        mast_m=float(table.mast_m[i]),
+                        mast_m=float(table.mast_m[i]), role=str(table.role[i]),
                         overrides={k: float(v[m]) for k, v in over.items() if np.isfinite(v[m])})
                 for m, i in enumerate(rows)]
     if site is None or mast_m is None:
@@ -160,7 +166,8 @@ def _check_numbers(radius_km, resolution_m, node_mast_m):
 def coverage(site=None, *, dem, mast_m=None, name="site", sites=None, radius_km: float, resolution_m=None,
              node_mast_m: float = 1.5, band=None, frequency_mhz=None, k_factor="4/3", clearance_ratio: float = 0.6,
              fill_voids: bool = False, radio=None, workers=None, scheduler=None, progress=None,
-             out=None, plot=None, kmz=None, json=None, paper="a4", dpi=200, kernel=None) -> CoverageResult:
+             out=None, plot=None, kmz=None, json=None, paper="a4", dpi=200, kernel=None, date=None,
+             sheet_info=None) -> CoverageResult:
     """Coverage of one site (or the composite of a site list's gateways) within a radius.
 
     Parameters
@@ -170,7 +177,9 @@ def coverage(site=None, *, dem, mast_m=None, name="site", sites=None, radius_km:
     dem : str, Path or list of them
         Elevation files or folders.
     sites : SiteTable, str or Path, optional
-        A site list whose gateway rows (each with its mast and overrides) replace ``site``.
+        A site list whose gateway and candidate rows (each with its mast and overrides) replace ``site``;
+        the bands are the composite of all of them, ``summary.covered_by_gateways`` the area the
+        existing gateways alone hear.
     radius_km : float
         Radius around each gateway [km].
     resolution_m : float, optional
@@ -187,6 +196,10 @@ def coverage(site=None, *, dem, mast_m=None, name="site", sites=None, radius_km:
         Reductions over the samples in the numba kernel (default: when numba
         is installed) or, with False, in the numpy prefix batches; the results
         agree to rounding.
+    date : datetime.date, optional
+        Date of the sheet (default today).
+    sheet_info : profiler.sheetinfo.SheetInfo, optional
+        Title-block fields (project, document, ...) for the report's ``sheet`` block.
 
     Returns
     -------
@@ -221,6 +234,7 @@ def coverage(site=None, *, dem, mast_m=None, name="site", sites=None, radius_km:
         outside_data = ~np.asarray(model.covers(lon, lat))
         sources = model.provenance(model.sources_used(lon_g, lat_g))
     bands = per_gateway[0] if sites is None else composite(per_gateway, settings.radio.fade_margin_db)
+    heard_by_gateways = _heard_by_gateways(gateways, per_gateway, settings.radio.fade_margin_db) & ~outside_data
     for values in bands.values():   # a pixel centre off the data is nodata, whatever its nearest radial sample
         values[outside_data] = np.nan
     if not np.isfinite(bands["margin_db"]).any():
@@ -230,7 +244,8 @@ def coverage(site=None, *, dem, mast_m=None, name="site", sites=None, radius_km:
                        "band": settings.band, "frequency_mhz": settings.frequency_mhz, "k_factor": settings.k_factor,
                        "clearance_ratio": settings.clearance_ratio, "fade_margin_db": settings.radio.fade_margin_db,
                        "diffraction": settings.radio.diffraction_method, "fill_voids": settings.fill_voids, **sweep}
-    report = _report(gateways, sites is not None, settings_record, grid, bands, inside_any, sources)
+    report = _report(gateways, sites is not None, settings_record, grid, bands, inside_any, sources, heard_by_gateways,
+                     _radio_ends(gateways, settings), _sheet_block(date, sheet_info))
     result = CoverageResult(bands=bands, grid=grid, report=report)
     if outputs:
         write_outputs(coverage_outputs(out, plot, kmz, json, paper=paper, dpi=dpi, dem_paths=dem, result=result),
@@ -246,7 +261,7 @@ def _settings(dem, band, frequency_mhz, k_factor, clearance_ratio, fill_voids, r
 
     radio = (radio or RadioSettings()).validate()
     if radio.gateway != "a":
-        raise ProfilerError("in a coverage map the site is the gateway (end A); drop --gateway b")
+        raise ProfilerError("in a coverage map the site is the gateway (end A); leave RadioSettings(gateway=...) at 'a'")
     f_mhz, band_name = resolve_frequency_mhz(frequency_mhz, band)
     dem_paths = tuple(str(p) for p in (dem if isinstance(dem, (list, tuple)) else [dem]))
     if not dem_paths:
@@ -280,8 +295,46 @@ def _sweep(model, settings, gateways, grid, radius_m, res, node_mast_m, workers,
     return per_gateway, inside_any, {"radials": n_radials, "radial_step_m": spacing}
 
 
-def _report(gateways, composite_run, settings_record, grid, bands, inside_any, sources) -> dict:
-    """The ``profiler.coverage/1`` summary."""
+def _heard_by_gateways(gateways, per_gateway, fade_margin_db) -> np.ndarray:
+    """Pixels that at least one existing gateway (not a candidate site) hears with the fade margin."""
+    heard = np.zeros(per_gateway[0]["margin_db"].shape, dtype=bool)
+    for g, b in zip(gateways, per_gateway):
+        if g.role == "gateway":
+            heard |= np.isfinite(b["margin_db"]) & (b["margin_db"] >= fade_margin_db)
+    return heard
+
+
+def _radio_ends(gateways, settings) -> dict:
+    """Transmitter power, antenna gain, feeder loss and EIRP of every gateway [dBm, dBi, dB, dBm].
+
+    The same resolution as the engine's (:func:`profiler.radio.resolve_ends`: the options, per-site
+    columns of the site list, the plan's EIRP limit); EIRP = P + G - L (ITU-R P.525-4).
+    """
+    from .lorawan import eirp_dbm
+    from .radio import resolve_ends
+    from .regional import plan as regional_plan
+
+    plan = regional_plan(settings.band) if settings.band is not None else None
+    keys = sorted({k for g in gateways for k in g.overrides})
+    over = {k: np.array([g.overrides.get(k, np.nan) for g in gateways], dtype=float) for k in keys}
+    ends, _ = resolve_ends(settings.radio, plan, len(gateways), {"gateway": over})
+    gw = ends["gateway"]
+    return {"tx_power_dbm": gw["tx_power_dbm"], "gain_dbi": gw["gain_dbi"], "cable_loss_db": gw["cable_loss_db"],
+            "eirp_dbm": eirp_dbm(gw["tx_power_dbm"], gw["gain_dbi"], gw["cable_loss_db"])}
+
+
+def _sheet_block(date, sheet_info) -> dict:
+    """The ``sheet`` block: title-block fields (empty: blank boxes) and the date (ISO 8601)."""
+    import datetime
+
+    from .sheetinfo import SheetInfo
+
+    return {**(sheet_info or SheetInfo()).to_dict(), "date": (date or datetime.date.today()).isoformat()}
+
+
+def _report(gateways, composite_run, settings_record, grid, bands, inside_any, sources, heard_by_gateways, radio,
+            sheet) -> dict:
+    """The ``profiler.coverage/2`` summary."""
     from .regional import plan as regional_plan
 
     band_name = settings_record["band"]
@@ -291,14 +344,16 @@ def _report(gateways, composite_run, settings_record, grid, bands, inside_any, s
     if missing:
         warnings.append(f"{missing / max(int(inside_any.sum()), 1):.1%} of the area within the radius has no value: "
                         "outside the elevation data, or behind it or a void along the radial")
+    records = [_gateway_record(g, {k: float(v[i]) for k, v in radio.items()}) for i, g in enumerate(gateways)]
+    summary = _area_summary(bands, settings_record["resolution_m"], settings_record["fade_margin_db"],
+                            sorted(plan.data_rates) if plan is not None else [], heard_by_gateways)
+    summary = {"gateways": sum(g.role == "gateway" for g in gateways),
+               "candidates": sum(g.role == "candidate" for g in gateways), **summary}
     return {"schema": SCHEMA, "tool_version": __version__,
-            "site": None if composite_run else _gateway_record(gateways[0]),
-            "gateways": [_gateway_record(g) for g in gateways] if composite_run else None,
-            "settings": settings_record, "grid": grid.to_dict(), "bands": list(bands),
-            "summary": _area_summary(bands, settings_record["resolution_m"], settings_record["fade_margin_db"],
-                                     sorted(plan.data_rates) if plan is not None else []),
-            "dem": {"sources": sources}, "warnings": warnings, "caution": CAUTION}
+            "site": None if composite_run else records[0], "gateways": records if composite_run else None,
+            "settings": settings_record, "grid": grid.to_dict(), "bands": list(bands), "summary": summary,
+            "dem": {"sources": sources}, "sheet": sheet, "warnings": warnings, "caution": CAUTION}
 
 
-def _gateway_record(g: Gateway) -> dict:
-    return {"name": g.name, "lat_deg": g.lat_deg, "lon_deg": g.lon_deg, "mast_m": g.mast_m}
+def _gateway_record(g: Gateway, radio: dict) -> dict:
+    return {"name": g.name, "role": g.role, "lat_deg": g.lat_deg, "lon_deg": g.lon_deg, "mast_m": g.mast_m, **radio}

@@ -45,7 +45,7 @@ from profiler.dem_mosaic import build_groups
 from profiler.dem_provenance import SourceInfo
 from profiler.dem_sources import (RASTER_SUFFIXES, describe_raster, expand_path, linear_unit_m,
                                   metres_per_degree, open_dataset, root_cause)
-from profiler.errors import ProfilerError
+from profiler.errors import ProfilerError, refuse_empty_path
 from profiler.provenance import FileDigests
 from profiler.voids import fill_voids_along_profile
 
@@ -122,6 +122,7 @@ class ElevationModel:
             raise ProfilerError("no DEM given; pass --dem with a raster file or folder")
         files = []
         for entry in paths:
+            refuse_empty_path(entry, "--dem", "an elevation file or folder")
             files.extend(expand_path(Path(entry)))
 
         model = cls([], [], cache_bytes=cache_bytes, digests=digests)

@@ -135,9 +135,13 @@ def sample_links(model, lat_a_deg, lon_a_deg, lat_b_deg, lon_b_deg, *, step_m=No
     _set_error(errors, ~(length > 0.0), lambda i: f"{names_a[i]} and {names_b[i]} are the same point; "
                                                     "give two different sites")
     for name, lat, lon in ((names_a, lat_a, lon_a), (names_b, lat_b, lon_b)):
-        _set_error(errors, ~model.covers(lon, lat), lambda i, name=name, lat=lat, lon=lon: (
+        outside = ~model.covers(lon, lat)
+        swapped = outside & (np.abs(lon) <= 90.0)    # the site read as LON,LAT lies inside: say so
+        swapped[swapped] = model.covers(lat[swapped], lon[swapped])
+        _set_error(errors, outside, lambda i, name=name, lat=lat, lon=lon, swapped=swapped: (
             f"{name[i]} ({lat[i]:.5f}, {lon[i]:.5f}) is outside the elevation data; coverage: "
-            f"{model.bounds_text()}"))
+            f"{model.bounds_text()}" + ("; lat/lon swapped? the site read the other way round lies inside"
+                                        if swapped[i] else "")))
     ok = np.array([e is None for e in errors])
     anchors = _anchors(geod, lat_a, lon_a, az_ab, length, ok)
     step = _steps_m(model, anchors, ok, step_m)

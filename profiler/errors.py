@@ -16,3 +16,14 @@ class ProfilerError(Exception):
         from .textsafe import terminal_text  # control characters a user typed never reach the terminal raw
 
         super().__init__(terminal_text(" ".join(str(message).split())))
+
+
+def refuse_empty_path(path, option: str, what: str) -> None:
+    """Refuse an empty or blank input path with one line naming ``option``.
+
+    ``Path("")`` is the current folder, so without this check ``--dem ''``
+    would search the working directory for rasters and ``--sites ''`` would
+    report "not found: .".
+    """
+    if path is not None and not str(path).strip():
+        raise ProfilerError(f"{option}: the path is empty; give {what}")

@@ -4,11 +4,13 @@ Both writers take the JSON report dictionary (``LinkResult.to_dict()``) and
 write atomically.  A surveyed profile has no coordinates and cannot be
 exported; the writers then raise :class:`~profiler.errors.ProfilerError`.
 
-Text values (site names, descriptions, the verdict) pass through
+GeoJSON carries text values (site names, descriptions, the verdict) as
+given: :mod:`json` escapes control characters itself, so a name with a tab
+or a newline reads back unchanged.  In KML, text values pass through
 :func:`profiler.report.inert_text`, so a cell copied into a spreadsheet is
-never taken for a formula.  JSON escaping is done by :mod:`json`; XML
-escaping by :mod:`xml.etree.ElementTree`; text inside a KML ``description``
-(which viewers render as HTML) is HTML-escaped first.
+never taken for a formula; XML escaping is done by
+:mod:`xml.etree.ElementTree`, and text inside a KML ``description`` (which
+viewers render as HTML) is HTML-escaped first.
 
 References
 ----------
@@ -34,9 +36,10 @@ from . import CAUTION
 from .errors import ProfilerError
 from .outputs import write_text
 from .report import inert_text, summary_rows, verdict
+from .textsafe import json_text
 
 __all__ = ["geojson_dict", "geojson_text", "write_geojson", "kml_text", "write_kml",
-           "split_at_antimeridian", "KML_NAMESPACE"]
+           "split_at_antimeridian", "site_label", "KML_NAMESPACE"]
 
 KML_NAMESPACE = "http://www.opengis.net/kml/2.2"
 
@@ -65,27 +68,39 @@ def wrap_longitude(lon_deg):
 
 
 def _text(value) -> str:
-    """A text value made inert for spreadsheets (leading = + - @ tab CR get a quote)."""
+    """A KML text value made inert for spreadsheets (leading = + - @ tab CR get a quote)."""
     return inert_text(value)
 
 
-def _link_name(report: dict) -> str:
-    return f"{_text(report['site_a']['name'])} {_EN} {_text(report['site_b']['name'])}"
+def _as_given(value) -> str:
+    """A GeoJSON text value: as given (valid Unicode; :mod:`json` escapes control characters)."""
+    return json_text(value)
+
+
+def _link_name(report: dict, text=_text) -> str:
+    return f"{text(report['site_a']['name'])} {_EN} {text(report['site_b']['name'])}"
+
+
+def site_label(key: str, name: str) -> str:
+    """``A Cairnfell Beacon``: the end's letter and its name, or the name alone when it is that letter
+    (a site named ``A`` is labelled ``A``, not ``A A``)."""
+    return name if name.strip().upper() == key.upper() else f"{key.upper()} {name}"
 
 
 def _value(value):
-    """A property value: strings inert, numbers and booleans as they are."""
-    return _text(value) if isinstance(value, str) else value
+    """A property value as given: KML makes its strings inert when it writes them (:func:`_extended_data`)."""
+    return _as_given(value) if isinstance(value, str) else value
 
 
 def headline_properties(report: dict) -> dict:
     """The headline results as a flat ``name_with_unit -> value`` dict.
 
     The summary rows of the CSV (:func:`profiler.report.summary_rows`) plus
-    the masts, azimuths, elevation angles, verdict and provenance.
+    the masts, azimuths, elevation angles, verdict and provenance; text as
+    given (GeoJSON), made inert where KML writes it.
     """
     a, b = report["site_a"], report["site_b"]
-    props = {"name": _link_name(report)}
+    props = {"name": _link_name(report, _as_given)}
     props.update({key: _value(value) for key, value in summary_rows(report)})
     lora = report.get("lora") or {}
     worst = report.get("worst") or {}
@@ -101,21 +116,21 @@ def headline_properties(report: dict) -> dict:
         "worst_v": worst.get("v"), "worst_knife_edge_loss_db": worst.get("knife_edge_loss_db"),
         "sensitivity_dbm": (report.get("budget") or {}).get("sensitivity_dbm"),
         "lowest_closing_sf": lora.get("lowest_closing_sf"),
-        "verdict": _text(verdict(report)),
+        "verdict": _as_given(verdict(report)),
         "tool_version": _value(report.get("tool_version")),
         "report_schema": _value(report.get("schema")),
-        "caution": _text(CAUTION),
+        "caution": _as_given(CAUTION),
     })
     return props
 
 
-def _site_lines(report: dict, key: str) -> list[str]:
+def _site_lines(report: dict, key: str, text=_text) -> list[str]:
     site = report[f"site_{key}"]
     other = "b" if key == "a" else "a"
     azimuth = report.get(f"azimuth_{key}_to_{other}_deg")
     angle = report.get(f"elevation_angle_{key}_deg")
     return [
-        f"Site {key.upper()}: {_text(site['name'])}",
+        f"Site {key.upper()}: {text(site['name'])}",
         f"ground {_num(site.get('ground_m'), '.1f')} m AMSL, mast {_num(site.get('mast_m'), '.1f')} m, "
         f"antenna {_num(site.get('antenna_amsl_m'), '.1f')} m AMSL",
         f"azimuth to {other.upper()} {_num(azimuth, '.2f')} deg (true), elevation angle {_num(angle, '+.3f')} deg",
@@ -134,13 +149,13 @@ def _worst_lines(report: dict) -> list[str]:
     ]
 
 
-def _link_lines(report: dict) -> list[str]:
+def _link_lines(report: dict, text=_text) -> list[str]:
     loss, bud = report["loss_db"], report["budget"]
     return [
-        f"Link {_link_name(report)}: {_text(verdict(report))}",
+        f"Link {_link_name(report, text)}: {text(verdict(report))}",
         f"distance {_num(report['distance_m'] / 1000.0, '.3f')} km, {_num(report['frequency_mhz'], '.4f')} MHz, "
         f"k = {_num(report.get('k_factor'), '.4g')}",
-        f"total loss {_num(loss.get('total'), '.1f')} dB ({_text(loss.get('diffraction_method'))}), "
+        f"total loss {_num(loss.get('total'), '.1f')} dB ({text(loss.get('diffraction_method'))}), "
         f"received {_num(bud.get('rx_power_dbm'), '.1f')} dBm, margin {_num(bud.get('margin_db'), '+.1f')} dB "
         f"at SF{bud.get('sf')}",
         CAUTION,
@@ -235,7 +250,7 @@ def geojson_dict(report: dict) -> dict:
         path_geometry = {"type": "MultiLineString", "coordinates": [geojson_positions(*p) for p in parts]}
     path_props = {"feature": "path", **headline_properties(report),
                   "crosses_antimeridian": len(parts) > 1,
-                  "description": _text("; ".join(_link_lines(report)))}
+                  "description": "; ".join(_link_lines(report, _as_given))}
 
     features = [{"type": "Feature", "id": "path", "geometry": path_geometry, "properties": path_props}]
     for key in ("a", "b"):
@@ -247,12 +262,12 @@ def geojson_dict(report: dict) -> dict:
             "type": "Feature", "id": f"site_{key}",
             "geometry": {"type": "Point", "coordinates": geojson_position(wrap_longitude(site_lon), site_lat)},
             "properties": {
-                "feature": "site", "site": key.upper(), "name": _text(site["name"]),
+                "feature": "site", "site": key.upper(), "name": _as_given(site["name"]),
                 "ground_m": site.get("ground_m"), "mast_m": site.get("mast_m"),
                 "antenna_amsl_m": site.get("antenna_amsl_m"),
                 f"azimuth_to_{other}_deg": report.get(f"azimuth_{key}_to_{other}_deg"),
                 "elevation_angle_deg": report.get(f"elevation_angle_{key}_deg"),
-                "description": _text("; ".join(_site_lines(report, key))),
+                "description": "; ".join(_site_lines(report, key, _as_given)),
             },
         })
     worst = report.get("worst") or {}
@@ -266,7 +281,7 @@ def geojson_dict(report: dict) -> dict:
                 "distance_m": worst.get("distance_m"), "clearance_m": worst.get("clearance_m"),
                 "fresnel_ratio": worst.get("fresnel_ratio"), "v": worst.get("v"),
                 "knife_edge_loss_db": worst.get("knife_edge_loss_db"), "terrain_m": worst.get("terrain_m"),
-                "description": _text("; ".join(_worst_lines(report))),
+                "description": "; ".join(_worst_lines(report)),
             },
         })
     return {"type": "FeatureCollection", "features": features}
@@ -410,7 +425,7 @@ def kml_text(report: dict) -> str:
     for key, index in (("a", 0), ("b", -1)):
         site = report[f"site_{key}"]
         mark = _sub(doc, "Placemark")
-        _sub(mark, "name", f"{key.upper()} {_text(site['name'])}")
+        _sub(mark, "name", site_label(key, _text(site["name"])))
         _sub(mark, "description", _html_description(_site_lines(report, key)))
         _sub(mark, "styleUrl", "#site")
         point = _sub(mark, "Point")

@@ -1,9 +1,10 @@
-"""Exports of a network report (``profiler.network/1``): CSV, GeoJSON and KML.
+"""Exports of a network report (``profiler.network/2``): CSV, GeoJSON and KML.
 
 Every writer takes the JSON report dictionary and returns text; the caller
 writes it with :func:`profiler.outputs.write_text` (atomic).  The safety
-rules of the single-link exports hold: text values pass through
-:func:`profiler.report.inert_text` (no spreadsheet formulas), JSON is escaped
+rules of the single-link exports hold: CSV and KML text values pass through
+:func:`profiler.report.inert_text` (no spreadsheet formulas), GeoJSON carries
+names as given (:mod:`json` escapes control characters), JSON is escaped
 by :mod:`json`, XML by :mod:`xml.etree.ElementTree` and KML descriptions are
 HTML-escaped (the helpers of :mod:`profiler.exports`), and every export
 carries :data:`profiler.CAUTION`.
@@ -48,12 +49,17 @@ LINK_COLUMNS = (
     ("line_of_sight", "bool"), ("fresnel_clear", "bool"),
     ("worst_fresnel_ratio", 4), ("worst_distance_m", 2),
     ("diffraction_db", 2), ("total_loss_db", 2), ("margin_db", 2), ("downlink_margin_db", 2),
-    ("recommended_dr", "int"), ("closes", "bool"), ("error", "text"),
+    ("max_margin_db", 2), ("recommended_dr", "int"), ("closes", "bool"), ("downlink_closes", "bool"),
+    ("error", "text"),
 )
 """CSV columns of a link: the keys of ``links[]`` (units in the names) and their format
 (decimal places, or text / bool / int)."""
 
 STATUSES = ("closes", "marginal", "fails", "error")
+
+#: A node's results carried by its GeoJSON feature and KML placemark: existing gateways, then candidate sites.
+NODE_RESULT_KEYS = ("gateways_heard", "best_gateway", "best_margin_db", "recommended_dr", "candidates_heard",
+                    "best_candidate", "best_candidate_margin_db", "best_candidate_recommended_dr")
 
 STATUS_TEXT = {"closes": "closes with the fade margin", "marginal": "closes below the fade margin",
                "fails": "does not close", "error": "not computed"}
@@ -175,8 +181,7 @@ def _site_results(report: dict, status: np.ndarray) -> dict[str, dict]:
     """Per-site results: a node's ``nodes[]`` entry; a gateway's link counts."""
     results: dict[str, dict] = {}
     for node in report.get("nodes") or []:
-        results[node["name"]] = {key: _value(node.get(key)) for key in
-                                 ("gateways_heard", "best_gateway", "best_margin_db", "recommended_dr")}
+        results[node["name"]] = {key: _value(node.get(key)) for key in NODE_RESULT_KEYS if key in node}
     links = report.get("links") or []
     gateways = np.array([link["gateway"] for link in links], dtype=object)
     for site in report.get("sites") or []:
@@ -188,7 +193,7 @@ def _site_results(report: dict, status: np.ndarray) -> dict[str, dict]:
 
 
 def _link_properties(link: dict, status: str) -> dict:
-    props = {"feature": "link", "name": _link_name(link)}
+    props = {"feature": "link", "name": _value(f"{link['gateway']} {_EN} {link['node']}")}
     props.update({key: _value(link.get(key)) for key, _ in LINK_COLUMNS})
     props["status"] = status
     return props
@@ -216,9 +221,13 @@ def _site_lines(site: dict, results: dict) -> list[str]:
     lines = [f"{inert_text(site.get('role'))} {inert_text(site['name'])}",
              f"ground {_num(site.get('ground_m'), '.1f')} m AMSL, mast {_num(site.get('mast_m'), '.1f')} m"]
     if "gateways_heard" in results:
-        lines.append(f"heard by {results['gateways_heard']} gateway(s) with the fade margin; best "
+        lines.append(f"heard by {results['gateways_heard']} existing gateway(s) with the fade margin; best "
                      f"{inert_text(results.get('best_gateway') or 'none')} at "
                      f"{_num(results.get('best_margin_db'), '+.1f')} dB")
+    if "candidates_heard" in results:
+        lines.append(f"heard by {results['candidates_heard']} candidate site(s) with the fade margin; best "
+                     f"{inert_text(results.get('best_candidate') or 'none')} at "
+                     f"{_num(results.get('best_candidate_margin_db'), '+.1f')} dB")
     elif "links" in results:
         lines.append(f"{results['links_closing']} of {results['links']} links close with the fade margin")
     return lines + [CAUTION]
@@ -263,7 +272,7 @@ def network_geojson_dict(report: dict) -> dict:
     site_xy = np.round(np.column_stack([lon, lat]), 7).tolist()
     features = []
     for i, site in enumerate(report.get("sites") or []):
-        props = {"feature": "site", "name": inert_text(site["name"]), "role": _value(site.get("role")),
+        props = {"feature": "site", "name": _value(site["name"]), "role": _value(site.get("role")),
                  "lat_deg": site.get("lat_deg"), "lon_deg": site.get("lon_deg"),
                  "mast_m": site.get("mast_m"), "ground_m": site.get("ground_m"),
                  **results.get(site["name"], {}),
@@ -341,8 +350,9 @@ def network_kml_text(report: dict) -> str:
         inert_text(_title(report)),
         f"{_num(report.get('frequency_mhz'), '.4f')} MHz, k = {_num(report.get('k_factor'), '.4g')}, "
         f"fade margin {_num(report.get('fade_margin_db'), '.1f')} dB",
-        f"nodes covered {summary.get('nodes_covered', 0)} of {summary.get('nodes_total', 0)} "
-        f"({summary.get('nodes_covered_twice', 0)} by two or more gateways), errors {summary.get('errors', 0)}",
+        f"nodes covered by the existing gateways {summary.get('nodes_covered_by_gateways', 0)} of "
+        f"{summary.get('nodes_total', 0)} ({summary.get('nodes_covered_twice', 0)} by two or more), with the "
+        f"candidate sites {summary.get('nodes_covered_with_candidates', 0)}, errors {summary.get('errors', 0)}",
         *[inert_text(w) for w in report.get("warnings") or []], CAUTION]))
     for role, (colour, scale) in _SITE_STYLE.items():
         _style(doc, f"site-{role}", icon_color=colour, icon_scale=scale)

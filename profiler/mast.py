@@ -246,6 +246,7 @@ def _split_row(pb, clearance_req, max_mast_m, step, x_db):
     split = cheapest_split(pb.d, pb.g_a, pb.g_b, clearance_req, max_mast_m, step, x_db,
                            lambda ma, mb: pb.radio_masts(ma, mb)["margin_db"])
     if split is not None:
+        split["total_m"] = round(split["mast_a_m"] + split["mast_b_m"], 6)   # no float noise in the JSON
         split.update({"worst_ratio": pb.worst(split["mast_a_m"], split["mast_b_m"])[0],
                       "worst_ratio_low_k": pb.worst(split["mast_a_m"], split["mast_b_m"], True)[0]})
     return split

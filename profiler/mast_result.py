@@ -21,7 +21,7 @@ from . import CAUTION, __version__
 from .jsonsafe import json_clean
 from .mast_clearance import round_up_mm
 
-__all__ = ["SCHEMA", "MastResult", "feasible_binding", "infeasible_outcome", "up_text", "per_extra_metre"]
+__all__ = ["SCHEMA", "MastResult", "feasible_binding", "infeasible_outcome", "up_text", "fixed", "per_extra_metre"]
 
 SCHEMA = "profiler.mast/2"
 
@@ -142,7 +142,16 @@ def infeasible_outcome(pb, grid, clearance_ok, name_c, clearance_req, ratios, x_
 
 def up_text(x) -> str:
     """A height rounded up to the centimetre, as text (a printed height never undercuts the solution)."""
-    return f"{math.ceil(x * 100 - 1e-9) / 100:.2f}"
+    return fixed(math.ceil(x * 100 - 1e-9) / 100, ".2f")
+
+
+def fixed(value, spec: str) -> str:
+    """``format(value, spec)`` without a negative zero: a value that rounds to zero prints unsigned
+    (``-1e-6`` with ``"+.2f"`` gives ``"0.00"``, never ``"-0.00"``)."""
+    text = format(value, spec)
+    if math.isfinite(value) and float(text) == 0.0:
+        return format(0.0, spec.replace("+", ""))
+    return text
 
 
 def per_extra_metre(pb, t_sol):

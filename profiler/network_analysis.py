@@ -8,7 +8,7 @@ chunks); the chunks run in-process, on a local Dask cluster
 Gateways (and candidate sites) are end A of every link, nodes end B.
 
 The report (:meth:`NetworkResult.to_dict`) is the JSON contract
-``profiler.network/1``.
+``profiler.network/2``.
 """
 
 from __future__ import annotations
@@ -25,7 +25,7 @@ from .errors import ProfilerError
 from .radio import RadioSettings, check_separation, radio_batch, slant_distance_m
 from .regional import plan as regional_plan
 
-SCHEMA = "profiler.network/1"
+SCHEMA = "profiler.network/2"
 CHUNK_LINKS = 256
 """Links per chunk: the unit of work of a worker and of the progress bar."""
 
@@ -216,7 +216,7 @@ def _chunk_job(idx, *, settings, sites_arrays, model=None):
 
 @dataclass(frozen=True)
 class NetworkResult:
-    """The network report; :meth:`to_dict` is the JSON contract ``profiler.network/1``."""
+    """The network report; :meth:`to_dict` is the JSON contract ``profiler.network/2``."""
 
     sites: list
     links: list
@@ -264,32 +264,63 @@ def _link_records(sites, gw, node, res) -> list:
     return rows
 
 
+def _best_link(k, margin, usable, n_nodes) -> np.ndarray:
+    """Per node, the index of its usable link with the highest margin (-1: none)."""
+    m = np.where(usable, margin, -np.inf)
+    order = np.lexsort((-m, k))                      # by node, best margin first
+    first_k, first = np.unique(k[order], return_index=True)
+    best = np.full(n_nodes, -1)
+    best[first_k] = order[first]
+    return np.where((best >= 0) & usable[np.maximum(best, 0)], best, -1)
+
+
+def _best_fields(sites, gw, res, b, prefix) -> dict:
+    """A node's best link from one kind of site: site name, margin and recommended DR (None: no link)."""
+    if b < 0:
+        return {prefix: None, f"{prefix}_margin_db": None, f"{prefix}_recommended_dr": None}
+    dr = int(res["recommended_dr"][b])
+    return {prefix: sites.names[gw[b]], f"{prefix}_margin_db": _num(res["margin_db"][b]),
+            f"{prefix}_recommended_dr": dr if dr >= 0 else None}
+
+
 def node_summary(sites, gw, node, res):
-    """nodes[] rows and the counts of the summary, vectorized over links."""
+    """nodes[] rows and the counts of the summary, vectorized over links.
+
+    Existing gateways (role ``gateway``) and candidate sites (role
+    ``candidate``) are counted apart: a node's ``gateways_heard`` and
+    ``best_gateway`` are over the existing gateways only, its
+    ``candidates_heard`` and ``best_candidate`` over the candidates only;
+    the summary's ``nodes_covered_by_gateways`` is the network as built,
+    ``nodes_covered_with_candidates`` the network with every candidate added.
+    """
     node_rows = sites.indices("node")
     pos = np.full(len(sites), -1)
     pos[node_rows] = np.arange(node_rows.size)
     k = pos[node]
     ok = np.array([e is None for e in res["error"]], dtype=bool)
-    heard = np.zeros(node_rows.size, dtype=np.int64)
-    np.add.at(heard, k[ok & res["closes"]], 1)
-    margin = np.where(ok, res["margin_db"], -np.inf)
-    order = np.lexsort((-margin, k))                 # by node, best margin first
-    first_k, first = np.unique(k[order], return_index=True)
-    best = np.full(node_rows.size, -1)
-    best[first_k] = order[first]
+    closing = ok & res["closes"]
+    from_gateway = sites.role[gw] == "gateway"
+    from_candidate = sites.role[gw] == "candidate"
+    heard_gw = np.bincount(k[closing & from_gateway], minlength=node_rows.size)
+    heard_cand = np.bincount(k[closing & from_candidate], minlength=node_rows.size)
+    best_gw = _best_link(k, res["margin_db"], ok & from_gateway, node_rows.size)
+    best_cand = _best_link(k, res["margin_db"], ok & from_candidate, node_rows.size)
     nodes = []
     for j, site in enumerate(node_rows):  # output records, one per node
-        b = int(best[j])
-        has = b >= 0 and bool(ok[b])
-        nodes.append({"name": sites.names[site], "gateways_heard": int(heard[j]),
-                      "best_gateway": sites.names[gw[b]] if has else None,
-                      "best_margin_db": _num(res["margin_db"][b]) if has else None,
-                      "recommended_dr": (int(res["recommended_dr"][b]) if has and res["recommended_dr"][b] >= 0
-                                         else None)})
-    summary = {"links": int(gw.size), "closing": int(np.sum(ok & res["closes"])), "errors": int(np.sum(~ok)),
-               "nodes_total": int(node_rows.size), "nodes_covered": int(np.sum(heard >= 1)),
-               "nodes_covered_twice": int(np.sum(heard >= 2))}
+        gw_fields = _best_fields(sites, gw, res, int(best_gw[j]), "best_gateway")
+        nodes.append({"name": sites.names[site], "gateways_heard": int(heard_gw[j]),
+                      "best_gateway": gw_fields["best_gateway"], "best_margin_db": gw_fields["best_gateway_margin_db"],
+                      "recommended_dr": gw_fields["best_gateway_recommended_dr"],
+                      "candidates_heard": int(heard_cand[j]),
+                      **_best_fields(sites, gw, res, int(best_cand[j]), "best_candidate")})
+    heard_all = heard_gw + heard_cand
+    summary = {"links": int(gw.size), "closing": int(np.sum(closing)), "errors": int(np.sum(~ok)),
+               "gateways": int(sites.indices("gateway").size), "candidates": int(sites.indices("candidate").size),
+               "nodes_total": int(node_rows.size),
+               "nodes_covered": int(np.sum(heard_gw >= 1)), "nodes_covered_twice": int(np.sum(heard_gw >= 2)),
+               "nodes_covered_by_gateways": int(np.sum(heard_gw >= 1)),
+               "nodes_covered_with_candidates": int(np.sum(heard_all >= 1)),
+               "nodes_covered_twice_with_candidates": int(np.sum(heard_all >= 2))}
     return nodes, summary
 
 
@@ -333,7 +364,7 @@ def network(sites, *, dem, pairs=None, max_distance_km: float = 50.0, band: str 
     table = sites if hasattr(sites, "names") else read_sites_csv(sites)
     radio = (radio or RadioSettings()).validate()
     if radio.gateway != "a":
-        raise ProfilerError("in a network the gateway is always end A of every link; drop --gateway b")
+        raise ProfilerError("in a network the gateway is always end A of every link; leave RadioSettings(gateway=...) at 'a' (the sites file role column says which site is a gateway)")
     f_mhz, band_name = resolve_frequency_mhz(frequency_mhz, band)
     k = geometry.parse_k_factor(k_factor)
     if pairs is None:

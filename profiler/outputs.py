@@ -55,8 +55,10 @@ def atomic_path(path: str | os.PathLike) -> Iterator[Path]:
 
     The temporary file keeps the target's suffix so that writers choosing a
     format by extension (matplotlib) see the right one.  On any exception the
-    temporary file is removed and ``path`` is left untouched.
+    temporary file is removed and ``path`` is left untouched.  An empty path
+    or one that is a folder is refused (:func:`check_output_path`).
     """
+    check_output_path(path, stdout=False)
     target = Path(path)
     tmp_path = _temp_beside(target)
     try:
@@ -90,14 +92,20 @@ def write_bytes(path: str | os.PathLike, data: bytes) -> None:
             raise ProfilerError(f"cannot write {path}: {exc.strerror}") from exc
 
 
-def check_output_path(path, suffixes: tuple[str, ...] | None = None, option: str = "output") -> None:
+def check_output_path(path, suffixes: tuple[str, ...] | None = None, option: str = "output",
+                      stdout: bool = True) -> None:
     """Refuse early an output path whose folder is missing or whose extension is wrong.
 
     Called before any computation so that a run never stops half-way through
-    writing its outputs.  ``-`` (standard output) is always accepted.
+    writing its outputs.  ``-`` (standard output) is always accepted; an
+    empty or all-blank path is refused (it names no file); ``stdout`` says
+    whether the message offers ``-``.
     """
     if path is None or str(path) == "-":
         return
+    if not str(path).strip():
+        dash = " or '-' for standard output" if stdout else ""
+        raise ProfilerError(f"{option}: the output path is empty; give a file name{dash}")
     target = Path(path)
     directory = target.parent if str(target.parent) else Path(".")
     if not directory.is_dir():
@@ -171,12 +179,13 @@ def _as_output(item) -> Output:
 def check_outputs(outputs: Sequence) -> list[Output]:
     """Refuse bad outputs before any computation; return those asked for.
 
-    Checks each path (folder exists and is writable, not a folder, allowed
-    suffix, ``-`` only where allowed), that at most one output goes to
-    standard output and that no two outputs share a file.  ``outputs`` holds
-    :class:`Output` objects or ``(path, option, render[, text])`` tuples.
+    Checks each path (not empty or blank, folder exists and is writable,
+    not a folder, allowed suffix, ``-`` only where allowed), that at most one
+    output goes to standard output and that no two outputs share a file.
+    ``outputs`` holds :class:`Output` objects or ``(path, option, render[, text])``
+    tuples; those whose path is None are not asked for.
     """
-    active = [o for o in map(_as_output, outputs) if o.path is not None and str(o.path) != ""]
+    active = [o for o in map(_as_output, outputs) if o.path is not None]
     seen: dict[str, str] = {}
     to_stdout = []
     for o in active:
@@ -185,7 +194,7 @@ def check_outputs(outputs: Sequence) -> list[Output]:
                 raise ProfilerError(f"{o.option} cannot go to standard output ('-'); give a file name")
             to_stdout.append(o.option)
             continue
-        check_output_path(o.path, o.suffixes, o.option)
+        check_output_path(o.path, o.suffixes, o.option, o.stdout)
         directory = _folder(Path(o.path))
         if not os.access(directory, os.W_OK | os.X_OK):
             raise ProfilerError(f"cannot write {o.path} ({o.option}): folder {directory} is not writable; "

@@ -43,6 +43,14 @@ class GeodesicPath:
     azimuth_b_to_a_deg: float
 
 
+def swapped_hint(lat_deg: float, lon_deg: float) -> str:
+    """``; lat/lon swapped? (...)`` when a latitude out of -90..90 would be a valid longitude and the
+    longitude a valid latitude; empty otherwise.  For the one-line refusal of a latitude out of range."""
+    if -90.0 <= lon_deg <= 90.0 and -180.0 <= lat_deg <= 180.0:
+        return f"; lat/lon swapped? ({lon_deg:g},{lat_deg:g} would be valid)"
+    return ""
+
+
 def validate_lat_lon(lat_deg: float, lon_deg: float, what: str = "site") -> tuple[float, float]:
     """Check a latitude/longitude pair and return it as floats."""
     try:
@@ -52,7 +60,8 @@ def validate_lat_lon(lat_deg: float, lon_deg: float, what: str = "site") -> tupl
     if not (math.isfinite(lat) and math.isfinite(lon)):
         raise ProfilerError(f"{what}: coordinates must be finite numbers")
     if not -90.0 <= lat <= 90.0:
-        raise ProfilerError(f"{what}: latitude {lat:g} is out of range; use -90 to 90 (format LAT,LON)")
+        raise ProfilerError(f"{what}: latitude {lat:g} is out of range; use -90 to 90 (format LAT,LON)"
+                            f"{swapped_hint(lat, lon)}")
     if not -180.0 <= lon <= 180.0:
         raise ProfilerError(f"{what}: longitude {lon:g} is out of range; use -180 to 180 (format LAT,LON)")
     return lat, lon

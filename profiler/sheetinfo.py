@@ -27,7 +27,7 @@ import sys
 from dataclasses import dataclass
 from pathlib import Path
 
-from .errors import ProfilerError
+from .errors import ProfilerError, refuse_empty_path
 
 
 @dataclass(frozen=True)
@@ -82,6 +82,7 @@ def read_sheet_info(path) -> SheetInfo:
     ----------
     .. [1] TOML v1.0.0 (strings, key/value pairs, tables).
     """
+    refuse_empty_path(path, "--sheet-info", "a TOML file")
     toml = _toml_module()
     path = Path(path)
     try:

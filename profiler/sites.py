@@ -27,7 +27,7 @@ from pathlib import Path
 
 import numpy as np
 
-from .errors import ProfilerError
+from .errors import ProfilerError, refuse_empty_path
 from .limits import check_name
 
 __all__ = ["SiteTable", "read_sites_csv", "sites_from_records", "read_pairs_csv", "pairs_from_names",
@@ -129,6 +129,7 @@ class SiteTable:
 # --------------------------------------------------------------------------- CSV reading
 def _read_rows(path, what: str, option: str, hint: str) -> tuple[list[str], list[tuple[int, list[str]]]]:
     """Header (lower case, stripped) and ``(line number, cells)`` data rows of a CSV file."""
+    refuse_empty_path(path, option, f"the {what} CSV file")
     p = Path(path)
     if not p.is_file():
         raise ProfilerError(f"{what} file not found: {p}; check {option}")
@@ -198,11 +199,21 @@ def _numbers(cells, lines, column, where, *, required, low=-math.inf, high=math.
     return values
 
 
+def _separator_hint(header) -> str:
+    """``; the file seems to use ';' ...`` when the header is one cell holding ``;`` or a tab; else empty."""
+    if len(header) == 1:
+        for sep, shown in ((";", "';'"), ("\t", "tabs")):
+            if sep in header[0]:
+                return f"; the file seems to use {shown} as separator, but it must be comma-separated"
+    return ""
+
+
 def _build_table(header, rows, where, source) -> SiteTable:
     """Validate data rows and build the :class:`SiteTable`."""
     missing = [c for c in REQUIRED_COLUMNS if c not in header]
     if missing:
-        raise ProfilerError(f"{where(1)}: missing column {', '.join(missing)}; the file needs a {_SITES_HINT}")
+        raise ProfilerError(f"{where(1)}: missing column {', '.join(missing)}{_separator_hint(header)}; "
+                            f"the file needs a {_SITES_HINT}")
     if not rows:
         raise ProfilerError(f"{source} has a header but no sites; add one row per site")
     cols = _cells_by_column(header, rows, REQUIRED_COLUMNS + OVERRIDE_COLUMNS + ("polarization", "cost"), where)
@@ -224,8 +235,9 @@ def _build_table(header, rows, where, source) -> SiteTable:
                                 f"use {', '.join(ROLES)}")
     role = np.array(roles, dtype=str)
     num = dict(lines=lines, where=where)
-    lat = _numbers(cols["lat_deg"], column="lat_deg", required=True, low=-90.0, high=90.0, **num)
-    lon = _numbers(cols["lon_deg"], column="lon_deg", required=True, low=-180.0, high=180.0, **num)
+    lat = _numbers(cols["lat_deg"], column="lat_deg", required=True, **num)
+    lon = _numbers(cols["lon_deg"], column="lon_deg", required=True, **num)
+    _check_lat_lon(lat, lon, cols, lines, where)
     mast = _numbers(cols["mast_m"], column="mast_m", required=True, low=0.0, high=MAX_MAST_M, **num)
     overrides = {c: _numbers(cols[c], column=c, required=False,
                              low=0.0 if c in ("cable_loss_db", "noise_figure_db") else -math.inf, **num)
@@ -238,6 +250,20 @@ def _build_table(header, rows, where, source) -> SiteTable:
     role.setflags(write=False)
     return SiteTable(names=tuple(names), lat_deg=lat, lon_deg=lon, mast_m=mast, role=role,
                      polarization=polarization, cost=cost, source=source, **overrides)
+
+
+def _check_lat_lon(lat, lon, cols, lines, where) -> None:
+    """Refuse the first row whose latitude or longitude is out of range (hinting at swapped columns)."""
+    from .path import swapped_hint
+
+    bad = np.flatnonzero((np.abs(lat) > 90.0) | (np.abs(lon) > 180.0))
+    if bad.size == 0:
+        return
+    k = int(bad[0])
+    if abs(lat[k]) > 90.0:
+        raise ProfilerError(f"{where(lines[k])}: lat_deg {cols['lat_deg'][k]} is out of range; use -90 to 90"
+                            f"{swapped_hint(lat[k], lon[k])}")
+    raise ProfilerError(f"{where(lines[k])}: lon_deg {cols['lon_deg'][k]} is out of range; use -180 to 180")
 
 
 def _polarization(text: str, line: int, where) -> str | None:
@@ -281,8 +307,8 @@ def read_sites_csv(path) -> SiteTable:
         0..1000 [m], losses and noise figure >= 0 [dB], cost > 0) or an
         unknown polarization.  The message names the file and the line.
     """
+    header, rows = _read_rows(path, "sites", "--sites", _SITES_HINT)
     p = Path(path)
-    header, rows = _read_rows(p, "sites", "--sites", _SITES_HINT)
     return _build_table(header, rows, lambda line: f"sites file {p} line {line}", str(p))
 
 
@@ -361,12 +387,12 @@ def read_pairs_csv(path, sites: SiteTable) -> tuple[np.ndarray, np.ndarray]:
         gateway or candidate, a ``node`` that is not a node, a duplicate
         pair, or a file without pairs; the message names the line.
     """
+    header, rows = _read_rows(path, "pairs", "--pairs", "header gateway,node and one row per link")
     p = Path(path)
-    header, rows = _read_rows(p, "pairs", "--pairs", "header gateway,node and one row per link")
     where = lambda line: f"pairs file {p} line {line}"  # noqa: E731
     missing = [c for c in ("gateway", "node") if c not in header]
     if missing:
-        raise ProfilerError(f"{where(1)}: missing column {', '.join(missing)}; "
+        raise ProfilerError(f"{where(1)}: missing column {', '.join(missing)}{_separator_hint(header)}; "
                             "the file needs a header gateway,node with site names")
     if not rows:
         raise ProfilerError(f"pairs file {p} has a header but no pairs; add one row gateway,node per link")

@@ -399,7 +399,7 @@ def siting_geojson_dict(report: dict, network_report: dict) -> dict:
         info = gateways.get(name) or nodes.get(name)
         if info is None:
             continue
-        props = {"feature": "site", "name": inert_text(name), "role": inert_text(s.get("role")),
+        props = {"feature": "site", "name": name, "role": s.get("role"),   # as given: json escapes
                  "ground_m": s.get("ground_m"), "mast_m": s.get("mast_m")}
         if name in gateways:
             props.update(chosen=info["chosen"], cost=info["cost"], nodes_heard=info["nodes_heard"])
@@ -417,8 +417,8 @@ def siting_geojson_dict(report: dict, network_report: dict) -> dict:
             geometry = ({"type": "LineString", "coordinates": geojson_positions(*parts[0])} if len(parts) == 1 else
                         {"type": "MultiLineString", "coordinates": [geojson_positions(*p) for p in parts]})
             features.append({"type": "Feature", "id": f"link:{gw}:{nd['name']}", "geometry": geometry,
-                             "properties": {"feature": "link", "gateway": inert_text(gw),
-                                            "node": inert_text(nd["name"]), "margin_db": margin,
+                             "properties": {"feature": "link", "gateway": gw,
+                                            "node": nd["name"], "margin_db": margin,
                                             "best": rank == 0, "caution": caution}})
     return {"type": "FeatureCollection", "schema": report["schema"], "caution": caution, "features": features}
 

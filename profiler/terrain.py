@@ -14,7 +14,7 @@ from pathlib import Path
 
 import numpy as np
 
-from .errors import ProfilerError
+from .errors import ProfilerError, refuse_empty_path
 from .engine import MAX_SAMPLES  # noqa: F401  (re-exported)
 from .limits import check, check_array
 from .path import validate_lat_lon
@@ -118,6 +118,7 @@ def read_profile_csv(path) -> TerrainProfile:
     """
     import hashlib
 
+    refuse_empty_path(path, "--profile", "a profile CSV file")
     p = Path(path)
     if not p.is_file():
         raise ProfilerError(f"profile file not found: {p}; check --profile")

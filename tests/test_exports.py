@@ -62,17 +62,6 @@ def _is_number(text):
     return True
 
 
-def _string_values(obj):
-    if isinstance(obj, str):
-        yield obj
-    elif isinstance(obj, dict):
-        for v in obj.values():
-            yield from _string_values(v)
-    elif isinstance(obj, list):
-        for v in obj:
-            yield from _string_values(v)
-
-
 # --------------------------------------------------------------------------- GeoJSON
 def test_geojson_is_a_feature_collection_in_lon_lat_order(tmp_path, report):
     out = tmp_path / "link.geojson"
@@ -192,13 +181,13 @@ def test_hostile_names_survive_every_export_escaped_and_inert(tmp_path, evil_rep
     assert rows["# site_a_name"] == EVIL_A
     assert rows["# site_b_name"] == inert_b
 
-    # GeoJSON: valid JSON, names intact, no string value starting like a formula.
+    # GeoJSON: valid JSON, names exactly as given (README: JSON carries text as given).
     write_geojson(evil_report, tmp_path / "evil.geojson")
     doc = json.loads((tmp_path / "evil.geojson").read_text(encoding="utf-8"))
     feats = {f["id"]: f for f in doc["features"]}
     assert feats["site_a"]["properties"]["name"] == EVIL_A
-    assert feats["site_b"]["properties"]["name"] == inert_b
-    assert not [s for s in _string_values(doc) if s.startswith(FORMULA_START)]
+    assert feats["site_b"]["properties"]["name"] == EVIL_B
+    assert feats["path"]["properties"]["site_b_name"] == EVIL_B
 
     # KML: well-formed XML, names as text, descriptions HTML-escaped (viewers render them as HTML).
     write_kml(evil_report, tmp_path / "evil.kml")

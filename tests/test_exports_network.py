@@ -1,5 +1,5 @@
 """Network exports (CSV, GeoJSON RFC 7946, KML 2.2) of a small invented
-``profiler.network/1`` report: parsed back with the standard csv, json and
+``profiler.network/2`` report: parsed back with the standard csv, json and
 XML parsers, positions in the order the standards prescribe, the
 antimeridian cut checked against geographiclib, hostile names against the
 OWASP spreadsheet rule, link status at its boundaries.
@@ -9,7 +9,9 @@ import copy
 import csv
 import io
 import json
+import re
 import xml.etree.ElementTree as ET
+from pathlib import Path
 
 import pytest
 from geographiclib.geodesic import Geodesic
@@ -21,7 +23,6 @@ from profiler.exports_network import (LINK_COLUMNS, link_status, network_csv_tex
 
 from sample_sites import EVIL_B  # noqa: E402
 from test_exports import FORMULA_START, KML, _is_number  # noqa: E402  (shared checks of the link exports)
-from test_exports import _string_values as _strings  # noqa: E402
 LINK_KEYS = [key for key, _ in LINK_COLUMNS]
 
 
@@ -29,7 +30,9 @@ def _link(gateway, node, margin, **extra):
     link = dict(gateway=gateway, node=node, distance_m=12345.678, azimuth_deg=87.1234, line_of_sight=True,
                 fresnel_clear=False, worst_fresnel_ratio=0.41234, worst_distance_m=4567.891, diffraction_db=3.456,
                 total_loss_db=128.765, margin_db=margin, downlink_margin_db=None if margin is None else margin - 1.5,
-                recommended_dr=5, closes=margin is not None and margin >= 10.0, error=None)
+                max_margin_db=None if margin is None else margin + 2.25, recommended_dr=5,
+                closes=margin is not None and margin >= 10.0,
+                downlink_closes=margin is not None and margin - 1.5 >= 10.0, error=None)
     link.update(extra)
     return link
 
@@ -54,14 +57,18 @@ def report():
               azimuth_deg=None, worst_fresnel_ratio=None, worst_distance_m=None, diffraction_db=None,
               total_loss_db=None),
     ]
+    none = dict(candidates_heard=0, best_candidate=None, best_candidate_margin_db=None,
+                best_candidate_recommended_dr=None)
     nodes = [dict(name="Osterby Farm pump", gateways_heard=1, best_gateway="Cairnfell Beacon", best_margin_db=20.7,
-                  recommended_dr=5),
+                  recommended_dr=5, **none),
              dict(name="Millbrook Tank", gateways_heard=0, best_gateway="Cairnfell Beacon", best_margin_db=4.25,
-                  recommended_dr=0),
-             dict(name=EVIL_B, gateways_heard=0, best_gateway=None, best_margin_db=None, recommended_dr=None)]
-    return {"schema": "profiler.network/1", "tool_version": "0.1.0", "band": "EU868", "frequency_mhz": 868.1,
+                  recommended_dr=0, **none),
+             dict(name=EVIL_B, gateways_heard=0, best_gateway=None, best_margin_db=None, recommended_dr=None, **none)]
+    return {"schema": "profiler.network/2", "tool_version": "0.1.0", "band": "EU868", "frequency_mhz": 868.1,
             "k_factor": 4 / 3, "fade_margin_db": 10.0, "sites": sites, "links": links, "nodes": nodes,
-            "summary": dict(links=4, closing=1, errors=1, nodes_total=3, nodes_covered=1, nodes_covered_twice=0),
+            "summary": dict(links=4, closing=1, errors=1, gateways=1, candidates=1, nodes_total=3, nodes_covered=1,
+                            nodes_covered_twice=0, nodes_covered_by_gateways=1, nodes_covered_with_candidates=1,
+                            nodes_covered_twice_with_candidates=0),
             "dem": {"sources": []}, "warnings": ["+a warning that starts like a formula"], "caution": CAUTION}
 
 
@@ -87,6 +94,8 @@ def test_csv_one_row_per_link_with_the_link_fields(report):
     assert float(first["distance_m"]) == pytest.approx(12345.678, abs=0.005)       # to 1 cm
     assert float(first["margin_db"]) == pytest.approx(20.7, abs=0.005)             # to 0.01 dB
     assert float(first["downlink_margin_db"]) == pytest.approx(19.2, abs=0.005)
+    assert float(first["max_margin_db"]) == pytest.approx(22.95, abs=0.005)
+    assert first["downlink_closes"] == "true" and rows[1]["downlink_closes"] == "false"
     assert first["line_of_sight"] == "true" and first["fresnel_clear"] == "false" and first["recommended_dr"] == "5"
     assert first["error"] == ""
     bad = rows[3]
@@ -96,8 +105,19 @@ def test_csv_one_row_per_link_with_the_link_fields(report):
     for row in rows:                                                             # OWASP CSV-injection rule
         assert not any(str(v).startswith(FORMULA_START) for v in row.values() if not _is_number(v))
     comments = dict(r for r in csv.reader(io.StringIO(summary)) if r)
-    assert comments["# schema"] == "profiler.network/1" and comments["# summary_closing"] == "1"
+    assert comments["# schema"] == "profiler.network/2" and comments["# summary_closing"] == "1"
+    assert comments["# summary_nodes_covered_by_gateways"] == "1"
     assert comments["# caution"] == CAUTION and comments["# warning"].startswith("'+")
+
+
+def test_csv_carries_every_link_field_readme_lists():
+    """README says the CSV has one row per link with the fields of links[] in the JSON contract: every
+    field README lists there (max_margin_db and downlink_closes included) is a CSV column."""
+    readme = (Path(__file__).resolve().parents[1] / "README.md").read_text(encoding="utf-8")
+    block = readme[readme.index("links[]      {"):readme.index("nodes[]      {")]
+    fields = set(re.findall(r"\b[a-z]+(?:_[a-z0-9]+)+\b", block)) | {"gateway", "node", "closes", "error"}
+    assert {"max_margin_db", "downlink_closes"} <= fields
+    assert fields <= set(LINK_KEYS)
 
 
 # --------------------------------------------------------------------------- GeoJSON
@@ -114,16 +134,15 @@ def test_geojson_sites_and_links(report):
     assert sites[0]["properties"]["links"] == 3 and sites[0]["properties"]["links_closing"] == 1
     assert sites[1]["properties"]["role"] == "candidate" and sites[1]["properties"]["links"] == 1
     assert sites[2]["properties"]["gateways_heard"] == 1 and sites[2]["properties"]["best_margin_db"] == 20.7
-    assert sites[4]["properties"]["name"] == "'" + EVIL_B and sites[4]["properties"]["ground_m"] is None
+    assert sites[2]["properties"]["candidates_heard"] == 0 and sites[2]["properties"]["best_candidate"] is None
+    assert sites[4]["properties"]["name"] == EVIL_B and sites[4]["properties"]["ground_m"] is None  # as given
     line = links[0]
     assert line["geometry"] == {"type": "LineString", "coordinates": [[-19.955, -29.9125], [-19.825, -29.9]]}
     assert {k: line["properties"][k] for k in ("margin_db", "recommended_dr", "closes", "status")} == \
         {"margin_db": 20.7, "recommended_dr": 5, "closes": True, "status": "closes"}
     assert set(LINK_KEYS) <= set(line["properties"])
     err = links[3]["properties"]
-    assert err["status"] == "error" and err["margin_db"] is None and err["error"].startswith("'=")
-    for value in _strings(doc):
-        assert not value.startswith(FORMULA_START)
+    assert err["status"] == "error" and err["margin_db"] is None and err["error"].startswith("=")  # as given
 
 
 def test_geojson_cuts_a_link_at_the_antimeridian(report):

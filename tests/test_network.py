@@ -88,7 +88,7 @@ def test_distances_and_azimuths_against_geographiclib(tmp_path):
 
 def test_contract_nodes_and_summary(tmp_path):
     report = net_json("--dem", SAMPLE, "--sites", random_sites(tmp_path, 12), "--fill-voids")
-    assert report["schema"] == "profiler.network/1"
+    assert report["schema"] == "profiler.network/2"
     assert {"sites", "links", "nodes", "summary", "band", "frequency_mhz", "k_factor", "dem", "warnings",
             "caution"} <= set(report)
     assert LINK_KEYS <= set(report["links"][0])
@@ -231,3 +231,71 @@ def test_network_outputs_are_all_or_nothing_and_text_safe(tmp_path):
     assert not any("\r" in c or "\x01" in c for c in cells)
     ET.fromstring((tmp_path / "n.kml").read_bytes())
     assert "\x01" not in res.stdout
+
+
+def test_existing_gateways_and_candidates_are_counted_apart(tmp_path):
+    # The sample scenario (2 existing gateways, 4 candidate sites, 40 nodes): the two gateways hear 39
+    # nodes, the candidates add the 40th.  Every per-node field is recounted here from links[] and the
+    # sites' roles (independent of the aggregation code); the CSV carries the JSON's link values.
+    out = {k: tmp_path / f"net.{k}" for k in ("json", "csv")}
+    res = run("network", "--dem", SAMPLE, "--sites", EXAMPLE_SITES, "--no-progress", "--json", out["json"],
+              "--csv", out["csv"], "--plot", tmp_path / "net.png", "--dpi", 50, "--links", "all")
+    assert res.exit_code == 0, res.output
+    report = json.loads(out["json"].read_text())
+    assert report["schema"] == "profiler.network/2"
+    role = {s["name"]: s["role"] for s in report["sites"]}
+    fade = report["fade_margin_db"]
+    for node in report["nodes"]:
+        rows = [r for r in report["links"] if r["node"] == node["name"] and not r["error"]]
+        for kind, heard, best, margin, dr in (
+                ("gateway", "gateways_heard", "best_gateway", "best_margin_db", "recommended_dr"),
+                ("candidate", "candidates_heard", "best_candidate", "best_candidate_margin_db",
+                 "best_candidate_recommended_dr")):
+            mine = [r for r in rows if role[r["gateway"]] == kind]
+            assert node[heard] == sum(r["margin_db"] >= fade for r in mine)
+            top = max(mine, key=lambda r: r["margin_db"])
+            assert (node[best], node[margin], node[dr]) == (top["gateway"], pytest.approx(top["margin_db"]),
+                                                            top["recommended_dr"])
+    s = report["summary"]
+    assert (s["gateways"], s["candidates"], s["nodes_total"]) == (2, 4, 40)
+    assert s["nodes_covered_by_gateways"] == s["nodes_covered"] == 39            # the two gateways hear 39 (issue 17)
+    assert s["nodes_covered_with_candidates"] == 40
+    assert s["nodes_covered_twice"] == sum(n["gateways_heard"] >= 2 for n in report["nodes"])
+    assert s["nodes_covered_twice_with_candidates"] == sum(n["gateways_heard"] + n["candidates_heard"] >= 2
+                                                           for n in report["nodes"])
+    import csv as csv_module
+    table = out["csv"].read_text().split("\n\n")[0]
+    rows = list(csv_module.DictReader(table.splitlines()))
+    assert len(rows) == len(report["links"])
+    for row, link in zip(rows, report["links"]):
+        assert row["downlink_closes"] == ("true" if link["downlink_closes"] else "false")
+        if link["max_margin_db"] is None:
+            assert row["max_margin_db"] == ""
+        else:
+            assert float(row["max_margin_db"]) == pytest.approx(link["max_margin_db"], abs=0.005)   # to 0.01 dB
+    assert (tmp_path / "net.png").stat().st_size > 0
+
+
+def test_summary_text_names_gateways_and_candidates_apart(tmp_path):
+    res = run("network", "--dem", SAMPLE, "--sites", EXAMPLE_SITES, "--no-progress")
+    assert res.exit_code == 0, res.output
+    assert "39 of 40 heard by the existing gateways" in res.stdout and "40 of 40 with the candidate sites" in res.stdout
+    line = next(ln for ln in res.stdout.splitlines() if ln.strip().startswith("Birkett Moss tank gauge"))
+    assert "Harrowback" in line or "Vellmoor Grange" in line or "Sennet" in line   # its best candidate is named
+
+
+def test_links_option_takes_best_or_all_only(tmp_path):
+    res = run("network", "--dem", SAMPLE, "--sites", EXAMPLE_SITES, "--plot", tmp_path / "n.png", "--links", "some")
+    assert res.exit_code == 2 and "'--links'" in res.output and "'best', 'all'" in res.output
+    assert len(res.output.strip().splitlines()) == 1 and not (tmp_path / "n.png").exists()
+
+
+def test_api_refuses_a_gateway_at_end_b_naming_the_python_setting():
+    """The commands no longer take --gateway; the API's refusal names the Python setting instead."""
+    from profiler import network
+    from profiler.errors import ProfilerError
+    from profiler.radio import RadioSettings
+
+    with pytest.raises(ProfilerError, match=r"RadioSettings\(gateway=\.\.\.\) at 'a'") as err:
+        network(str(EXAMPLE_SITES), dem=[SAMPLE], radio=RadioSettings(gateway="b"))
+    assert "--gateway" not in str(err.value)

@@ -50,23 +50,45 @@ LINKS = [
 EXPECTED = ["closes", "closes", "marginal", "marginal", "fails", "fails", "error", "error"]
 
 
+def _best(links, node, role_of, role):
+    """The (site, margin) of ``node``'s computed link with the highest margin from a site of ``role``."""
+    rows = [(m, g) for g, nd, m, e in links if nd == node and e is None and m is not None and role_of[g] == role]
+    return (max(rows)[1], max(rows)[0]) if rows else (None, None)
+
+
 def network_report(sites=SITES, links=LINKS) -> dict:
-    """A profiler.network/1 report (the keys of the contract; numbers not read by the sheet left out)."""
+    """A profiler.network/2 report (the keys of the contract; numbers not read by the sheet left out):
+    existing gateways and candidate sites counted apart, as README defines them."""
     node_names = [name for name, _, role in sites if role == "node"]
-    heard = {n: sum(1 for g, nd, m, e in links if nd == n and e is None and m is not None and m >= FADE_DB)
-             for n in node_names}
+    role_of = {name: role for name, _, role in sites}
+
+    def heard(n, role):
+        return sum(1 for g, nd, m, e in links
+                   if nd == n and e is None and m is not None and m >= FADE_DB and role_of[g] == role)
+
+    nodes = []
+    for n in node_names:
+        (bg, bgm), (bc, bcm) = _best(links, n, role_of, "gateway"), _best(links, n, role_of, "candidate")
+        nodes.append({"name": n, "gateways_heard": heard(n, "gateway"), "best_gateway": bg, "best_margin_db": bgm,
+                      "recommended_dr": None, "candidates_heard": heard(n, "candidate"), "best_candidate": bc,
+                      "best_candidate_margin_db": bcm, "best_candidate_recommended_dr": None})
+    by_gw = sum(1 for nd in nodes if nd["gateways_heard"])
     return {
-        "schema": "profiler.network/1", "tool_version": "0.1.0", "band": "EU868", "frequency_mhz": 868.1,
+        "schema": "profiler.network/2", "tool_version": "0.1.0", "band": "EU868", "frequency_mhz": 868.1,
         "k_factor": 4.0 / 3.0, "fade_margin_db": FADE_DB,
         "sites": [{"name": n, "lat_deg": ll[0], "lon_deg": ll[1], "mast_m": 2.0, "role": r, "ground_m": 300.0}
                   for n, ll, r in sites],
         "links": [{"gateway": g, "node": n, "distance_m": None, "azimuth_deg": None, "margin_db": m,
                    "downlink_margin_db": m, "recommended_dr": None, "closes": m is not None and m >= 0, "error": e}
                   for g, n, m, e in links],
-        "nodes": [{"name": n, "gateways_heard": heard[n], "best_gateway": None, "best_margin_db": None,
-                   "recommended_dr": None} for n in node_names],
+        "nodes": nodes,
         "summary": {"links": len(links), "closing": 2, "errors": 2, "nodes_total": len(node_names),
-                    "nodes_covered": sum(1 for v in heard.values() if v), "nodes_covered_twice": 0},
+                    "gateways": sum(r == "gateway" for r in role_of.values()),
+                    "candidates": sum(r == "candidate" for r in role_of.values()),
+                    "nodes_covered": by_gw, "nodes_covered_twice": 0, "nodes_covered_by_gateways": by_gw,
+                    "nodes_covered_with_candidates": sum(1 for nd in nodes
+                                                         if nd["gateways_heard"] or nd["candidates_heard"]),
+                    "nodes_covered_twice_with_candidates": 0},
         "dem": {"sources": [{"path": "dem_samples/vellmoor_synthetic_1s.tif", "sha256": "ab" * 32,
                              "crs": "EPSG:4326", "resolution": [1 / 3600, 1 / 3600]}]},
         "warnings": [], "caution": CAUTION}
@@ -79,7 +101,8 @@ def report():
 
 @pytest.fixture(scope="module")
 def figure(report):
-    return build_network_figure(report, dem_paths=DEM, highlight={"Tollan Down mast"}, marked={"Wendle Reservoir"})
+    return build_network_figure(report, dem_paths=DEM, highlight={"Tollan Down mast"}, marked={"Wendle Reservoir"},
+                                links="all")
 
 
 def _map_axes(fig):
@@ -111,11 +134,12 @@ def test_svg_holds_caution_names_and_legend_as_text(tmp_path, report):
     assert CAUTION in texts
     for name, _, _ in SITES:
         assert name in joined
-    for label in ("Closes with the fade margin (\u2265 10.0 dB): 2", "Closes below the fade margin (0 to 10.0 dB): 2",
-                  "Fails (margin below 0 dB): 2", "Not computed (error): 2", "Gateway", "Candidate gateway",
-                  "Node, covered", "Node, not covered", "Chosen site", "Unreachable site"):
+    for label in ("Closes with the fade margin (\u2265 10.0 dB)", "Closes below the fade margin (0 to 10.0 dB)",
+                  "Fails (margin below 0 dB)", "Not computed (error)", "Existing gateway", "Candidate site (not built)",
+                  "Link of a candidate site: thinner, paler", "Node covered by a gateway",
+                  "Node covered only with a candidate", "Node not covered", "Chosen site", "Unreachable site"):
         assert label in texts
-    assert "1 of 5 nodes covered" in texts                   # only Millbrook Tank is heard with the margin
+    assert "1 of 5 nodes covered by gateways" in texts       # only Millbrook Tank is heard with the margin
     assert any(t.startswith("Elevation data: vellmoor_synthetic_1s.tif (sha256 abababababab") for t in texts)
 
 
@@ -147,6 +171,8 @@ def test_bad_outputs_and_reports_are_profiler_errors(tmp_path, report):
         write_network_figure(report, tmp_path / "no" / "network.png")
     with pytest.raises(ProfilerError, match="no sites"):
         write_network_figure({**report, "sites": []}, tmp_path / "network.png")
+    with pytest.raises(ProfilerError, match="best, all"):
+        write_network_figure(report, tmp_path / "network.png", links="some")
     assert list(tmp_path.iterdir()) == []
 
 
@@ -176,11 +202,16 @@ def test_site_markers_sit_at_their_coordinates(figure, report):
 def test_links_are_drawn_by_status_between_their_sites(figure, report):
     ax = _map_axes(figure)
     where = {s["name"]: (s["lon_deg"], s["lat_deg"]) for s in report["sites"]}
-    collections = {c.get_gid(): c for c in ax.collections if (c.get_gid() or "").startswith("links-")}
+    role = {s["name"]: s["role"] for s in report["sites"]}
+    collections = {c.get_gid(): c for c in ax.collections if "links-" in (c.get_gid() or "")}
     for status in ("closes", "marginal", "fails", "error"):
-        ends = [[where[ln["gateway"]], where[ln["node"]]] for ln, s in zip(report["links"], EXPECTED) if s == status]
-        drawn = np.array(collections[f"links-{status}"].get_segments())
-        assert drawn == pytest.approx(np.array(ends), abs=1e-12)
+        for prefix, kind in (("links", "gateway"), ("candidate-links", "candidate")):
+            ends = [[where[ln["gateway"]], where[ln["node"]]] for ln, s in zip(report["links"], EXPECTED)
+                    if s == status and role[ln["gateway"]] == kind]
+            drawn = np.array(collections[f"{prefix}-{status}"].get_segments())
+            assert drawn == pytest.approx(np.array(ends), abs=1e-12)
+            assert (collections[f"{prefix}-{status}"].get_linewidths()[0] < STATUS_STYLE[status]["lw"]) == \
+                (kind == "candidate")                           # a candidate's links are thinner
     error = collections["links-error"]
     r, g, b, _ = error.get_colors()[0]
     assert r == g == b                                          # grey
@@ -291,3 +322,29 @@ def test_site_names_clear_of_north_arrow_and_scale_bar():
             shared = max(0.0, min(box.x1, other.x1) - max(box.x0, other.x0)) * max(0.0, min(box.y1, other.y1)
                                                                                  - max(box.y0, other.y0))
             assert shared == 0.0
+
+
+def test_candidates_and_what_they_add_are_drawn_apart():
+    """A node only a candidate site hears is drawn in the candidate colour, apart from the nodes an
+    existing gateway hears and from those nobody hears; the candidate's marker differs from the
+    gateway's in shape and colour; with links="best" each node shows only its best link from a gateway
+    and its best from a candidate."""
+    from matplotlib.colors import to_rgba
+
+    sites = SITES[:2] + [("Osterby Farm pump", PUMP, "node"), ("Millbrook Tank", TANK, "node"),
+                         ("Wendle Reservoir", (-30.0, -19.845), "node")]
+    links = [("Cairnfell Beacon", "Osterby Farm pump", 4.0, None), ("Tollan Down mast", "Osterby Farm pump", 15.0, None),
+             ("Cairnfell Beacon", "Millbrook Tank", 18.0, None), ("Tollan Down mast", "Millbrook Tank", 12.0, None),
+             ("Cairnfell Beacon", "Wendle Reservoir", -3.0, None), ("Tollan Down mast", "Wendle Reservoir", -1.0, None)]
+    report = network_report(sites, links)
+    ax = _map_axes(build_network_figure(report, dem_paths=None))
+    lines = {line.get_gid(): line for line in ax.get_lines() if line.get_gid()}
+    for gid, lon in (("sites-node", TANK[1]), ("sites-node_candidate", PUMP[1]), ("sites-node_uncovered", -19.845)):
+        assert list(lines[gid].get_xdata()) == pytest.approx([lon], abs=1e-9)
+    gateway, candidate = lines["sites-gateway"], lines["sites-candidate"]
+    assert gateway.get_marker() != candidate.get_marker()
+    assert to_rgba(gateway.get_markerfacecolor()) != to_rgba(candidate.get_markerfacecolor())
+    assert to_rgba(lines["sites-node_candidate"].get_markerfacecolor()) == to_rgba(candidate.get_markerfacecolor())
+    drawn = {c.get_gid(): len(c.get_segments()) for c in ax.collections if "links-" in (c.get_gid() or "")}
+    assert sum(drawn.values()) == 6                 # three nodes, each its best gateway link and best candidate link
+    assert sum(n for gid, n in drawn.items() if gid.startswith("candidate-links-")) == 3

@@ -376,7 +376,7 @@ def test_siting_geojson():
     assert len(sites) == 9 and len(links) == 3            # Osterby, Millbrook, Saltmarsh each heard once
     chosen = {f["properties"]["name"]: f["properties"].get("chosen") for f in sites}
     assert chosen["Tollan Down roof"] is True and chosen["Kestrel Mast"] is False
-    assert chosen["'=Harrow Loft"] is False                 # inert name
+    assert chosen["=Harrow Loft"] is False                  # name as given (GeoJSON is not a spreadsheet)
     assert sites[0]["geometry"]["coordinates"] == [-19.955, -29.9125]
     json.loads(siting_geojson_text(out, rep))
     # A link across the antimeridian is cut (RFC 7946 section 3.1.9).

@@ -4,8 +4,9 @@ from __future__ import annotations
 
 import click
 
-from .options import (NON_NEGATIVE, POSITIVE, SITE_NAME, LatLon, clearance_ratio_option, cluster_options, frequency_options,
-                      k_option, plot_options, radio_options, radio_settings)
+from .options import (NON_NEGATIVE, POSITIVE, SITE_NAME, LatLon, batch_radio_options, clearance_ratio_option,
+                      cluster_options, frequency_options, k_option, plot_options, radio_settings, sheet_options,
+                      sheet_settings)
 
 
 @click.command("coverage")
@@ -26,13 +27,14 @@ from .options import (NON_NEGATIVE, POSITIVE, SITE_NAME, LatLon, clearance_ratio
 @k_option
 @frequency_options
 @clearance_ratio_option()
-@radio_options
-@click.option("--out", "out_path", required=True, type=click.Path(dir_okay=False), metavar="COVERAGE.tif",
-              help="Write the bands as a float32 GeoTIFF.")
+@batch_radio_options
+@click.option("--out", "out_path", default=None, type=click.Path(dir_okay=False), metavar="COVERAGE.tif",
+              help="Write the bands as a float32 GeoTIFF (give at least one of --out, --plot, --kmz, --json).")
 @click.option("--kmz", "kmz_path", default=None, type=click.Path(dir_okay=False), metavar="OVERLAY.kmz",
               help="Write a KML 2.2 ground overlay of the margin classes with the site placemark.")
 @click.option("--json", "json_path", default=None, metavar="FILE", help="Write the JSON summary ('-' for stdout).")
 @plot_options
+@sheet_options
 @cluster_options
 def coverage_command(dem_paths, site, mast_m, name, sites_csv, radius_km, resolution_m, node_mast_m, fill_voids,
                      k_text, freq_mhz, band_name, clearance_ratio, out_path, kmz_path, json_path, plot_path, paper,
@@ -47,6 +49,8 @@ def coverage_command(dem_paths, site, mast_m, name, sites_csv, radius_km, resolu
     \b
     Example:
       profiler coverage --dem dem_samples --site -29.9125,-19.955 --mast-m 10 --radius-km 10 --out cov.tif
+      profiler coverage --dem dem_samples --site -29.9125,-19.955 --mast-m 10 --radius-km 4 --plot cov.png \
+          --project "Vellmoor valley LoRaWAN" --document VV-RF-002
     """
     from . import collect_garbage
 
@@ -57,8 +61,12 @@ def coverage_command(dem_paths, site, mast_m, name, sites_csv, radius_km, resolu
     from ..limits import quiet_numerics
     from ..outputs import check_outputs, write_outputs
 
+    if all(p is None for p in (out_path, plot_path, kmz_path, json_path)):
+        raise ProfilerError("nothing to write: give --out COVERAGE.tif, --plot MAP.png, --kmz OVERLAY.kmz "
+                            "or --json FILE (or several)")
     if not dem_paths:
         raise ProfilerError("no elevation data: give --dem FILE_OR_FOLDER")
+    sheet_info, date = sheet_settings(kw)
     radio = radio_settings(kw)
     check_outputs(coverage_outputs(out_path, plot_path, kmz_path, json_path, paper=paper, dpi=dpi))
     from ..coverage_map import keep_freed_memory
@@ -68,7 +76,8 @@ def coverage_command(dem_paths, site, mast_m, name, sites_csv, radius_km, resolu
         result = coverage(site, dem=list(dem_paths), mast_m=mast_m, name=name, sites=sites_csv, radius_km=radius_km,
                           resolution_m=resolution_m, node_mast_m=node_mast_m, band=band_name, frequency_mhz=freq_mhz,
                           k_factor=k_text, clearance_ratio=clearance_ratio, fill_voids=fill_voids, radio=radio,
-                          workers=workers, scheduler=scheduler, progress=False if no_progress else None)
+                          workers=workers, scheduler=scheduler, progress=False if no_progress else None,
+                          date=date, sheet_info=sheet_info)
         outputs = coverage_outputs(out_path, plot_path, kmz_path, json_path, paper=paper, dpi=dpi,
                                    dem_paths=dem_paths, result=result, summary=True)
         write_outputs(outputs, result.to_dict())

@@ -30,9 +30,17 @@ def link_command(site_a, site_b, name_a, name_b, mast_a_m, mast_b_m, dem_paths, 
     Prints a short summary (distance, azimuths, verdict, worst obstruction,
     losses, margin, recommended spreading factor) unless --json - is given.
 
+    Examples on the bundled Vellmoor terrain (dem_samples/): a gateway on
+    Cairnfell Beacon and a pump behind Harrowback Ridge; a clear path to
+    Millbrook Tank drawn on a sheet; a blocked path with the node at A.
+
     \b
-    Example:
-      profiler link --dem dem_samples --site-a 46.0,7.0 --site-b 46.1,7.1
+    Examples:
+      profiler link --dem dem_samples --site-a -29.9125,-19.955 --site-b -29.9,-19.825
+      profiler link --dem dem_samples --site-a -29.9125,-19.955 --site-b -29.85,-19.78 \\
+          --name-a "Cairnfell Beacon" --name-b "Millbrook Tank" --plot link.png --json link.json
+      profiler link --dem dem_samples --site-a -30.0,-19.845 --site-b -29.9125,-19.955 \\
+          --gateway b --mast-b 10 --mast-a 2 --csv profile.csv
     """
     from ..provenance import FileDigests
 

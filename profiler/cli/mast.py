@@ -55,8 +55,10 @@ def mast_command(site_a, site_b, name_a, name_b, mast_a_m, mast_b_m, dem_paths, 
     still written).
 
     \b
-    Example:
-      profiler mast --dem dem_samples --site-a 46.0,7.0 --site-b 46.1,7.1 --solve b
+    Examples (on the bundled terrain; the second exits with status 3):
+      profiler mast --dem dem_samples --site-a -29.9125,-19.955 --site-b -29.9,-19.825 --solve a
+      profiler mast --dem dem_samples --site-a -29.9125,-19.955 --site-b -30.0,-19.845 --max-mast-m 15
+      profiler mast --dem dem_samples --site-a -29.9125,-19.955 --site-b -29.9,-19.825 --solve both
     """
     from ..bands import resolve_frequency_mhz
     from ..limits import quiet_numerics, require_finite
@@ -136,17 +138,10 @@ def _criterion_text(c) -> str:
     return f"clearance >= {c['clearance_ratio']:g} F1 at k = {c['k_factor']:.4g}"
 
 
-def _up(x, digits=2):
-    """Format a height rounded up (a printed height never undercuts the solution)."""
-    import math
-
-    scale = 10 ** digits
-    return f"{math.ceil(x * scale - 1e-9) / scale:.{digits}f}"
-
-
 def mast_summary_text(report: dict) -> str:
     """Short human summary of the mast report: heights, why, and what each extra metre buys."""
     from .. import CAUTION
+    from ..mast_result import fixed, up_text as _up
 
     a, b = report["site_a"], report["site_b"]
     solve = report["solve"]
@@ -175,8 +170,9 @@ def mast_summary_text(report: dict) -> str:
         pm = report["per_extra_metre"]
         if pm is not None:
             what = "height added at both ends" if solve == "both" else f"mast {solve.upper()}"
-            lines.append(f"  each metre    {pm['margin_db_per_m']:+.2f} dB margin, {pm['worst_ratio_per_m']:+.3f} F1 "
-                         f"clearance, {pm['diffraction_db_per_m']:+.2f} dB diffraction "
+            lines.append(f"  each metre    {fixed(pm['margin_db_per_m'], '+.2f')} dB margin, "
+                         f"{fixed(pm['worst_ratio_per_m'], '+.3f')} F1 clearance, "
+                         f"{fixed(pm['diffraction_db_per_m'], '+.2f')} dB diffraction "
                          f"({what} {pm['from_m']:.3f} -> {pm['to_m']:.3f} m)")
     else:
         lines.append(f"  result        INFEASIBLE: {report['message']}")

@@ -20,15 +20,18 @@ class LatLon(click.ParamType):
             return value
         parts = str(value).replace(";", ",").split(",")
         if len(parts) != 2:
-            self.fail(f"{value!r} is not LAT,LON (for example 46.52,-7.91)", param, ctx)
+            self.fail(f"{value!r} is not LAT,LON (for example -29.9125,-19.955)", param, ctx)
         try:
             lat, lon = float(parts[0]), float(parts[1])
         except ValueError:
-            self.fail(f"{value!r} is not LAT,LON in decimal degrees (for example 46.52,-7.91)", param, ctx)
+            self.fail(f"{value!r} is not LAT,LON in decimal degrees (for example -29.9125,-19.955)", param, ctx)
         if not (math.isfinite(lat) and math.isfinite(lon)):
             self.fail(f"{value!r}: coordinates must be finite numbers", param, ctx)
         if not -90.0 <= lat <= 90.0:
-            self.fail(f"latitude {lat:g} is out of range -90..90 (the format is LAT,LON)", param, ctx)
+            from ..path import swapped_hint
+
+            self.fail(f"latitude {lat:g} is out of range -90..90 (the format is LAT,LON)"
+                      f"{swapped_hint(lat, lon)}", param, ctx)
         if not -180.0 <= lon <= 180.0:
             self.fail(f"longitude {lon:g} is out of range -180..180 (the format is LAT,LON)", param, ctx)
         return (lat, lon)
@@ -181,10 +184,26 @@ def frequency_options(f):
 
 
 def radio_options(f):
-    """Link budget, LoRa modem, antennas, losses."""
+    """Link budget, LoRa modem, antennas, losses, and ``--gateway`` (which end is the gateway: link, mast)."""
     return _apply([
         click.option("--gateway", type=click.Choice(["a", "b"]), default="a", show_default=True,
                      help="Which end is the gateway; the other end is the node."),
+        *_radio_option_list(),
+    ])(f)
+
+
+def batch_radio_options(f):
+    """The radio options of the batch commands (network, siting, coverage): no ``--gateway``.
+
+    There every link runs from a gateway or candidate site (end A) to a
+    node (end B); the sites file's ``role`` column says which is which.
+    """
+    return _apply(_radio_option_list())(f)
+
+
+def _radio_option_list():
+    """The options of :func:`radio_options` other than ``--gateway`` (new decorators on each call)."""
+    return [
         click.option("--tx-power-dbm", type=NUMBER, default=None,
                      help="The node's transmitter power [dBm] (shorthand for --tx-power-a/b-dbm of the node end; "
                           "default 14 dBm, or the plan's EIRP limit if lower)."),
@@ -224,13 +243,17 @@ def radio_options(f):
                      default="delta-bullington", show_default=True, help="Diffraction model (ITU-R P.526-15)."),
         click.option("--extra-loss-db", type=NON_NEGATIVE, default=0.0, show_default=True,
                      help="Fixed extra loss: foliage, building entry, ... [dB]."),
-    ])(f)
+    ]
 
 
 def radio_settings(kw):
-    """Build :class:`RadioSettings` from the parsed radio options (popping them from ``kw``)."""
+    """Build :class:`RadioSettings` from the parsed radio options (popping them from ``kw``).
+
+    Without ``--gateway`` (the batch commands) the gateway is end A.
+    """
     from ..radio import RadioSettings
 
+    kw.setdefault("gateway", "a")
     names = ("gateway", "tx_power_dbm", "tx_power_a_dbm", "tx_power_b_dbm", "cap_eirp", "gain_a_dbi", "gain_b_dbi",
              "cable_loss_a_db", "cable_loss_b_db", "fade_margin_db", "sensitivity_dbm", "bw_khz", "noise_figure_db",
              "noise_figure_a_db", "noise_figure_b_db", "sf", "payload_bytes", "app_payload_bytes", "dwell_time",
@@ -264,7 +287,7 @@ def clearance_ratio_option(help_text="Required clearance as a fraction of the fi
 
 def network_options(f):
     """Site list, pairs, elevation data and every link option of a batch command (network, siting)."""
-    f = radio_options(clearance_ratio_option()(frequency_options(k_option(f))))
+    f = batch_radio_options(clearance_ratio_option()(frequency_options(k_option(f))))
     return _apply([
         click.option("--dem", "dem_paths", multiple=True, metavar="PATH",
                      help="Elevation file (GeoTIFF, .hgt, VRT, ...) or folder of tiles; repeatable."),
@@ -364,21 +387,48 @@ def report_option(f):
 
 
 def run_record() -> dict:
-    """What the ``--report`` record page lists: the full command line and every option's value.
+    """What the ``--report`` record page lists: the full command line and every option as typed.
 
-    Called inside a click command; ``{"command_line": [...], "options": {name: value}}``
-    with values as text.
+    Called inside a click command.  Returns ``{"command_line": [...],
+    "command": "profiler link", "options": [{"option", "value", "given"}, ...]}``:
+    one entry per option the user could type (click's own parameter
+    objects of the command, hidden ones left out), named as on the command
+    line (``--k``, ``--dem``, ``--date``), its value as text (``""`` when
+    unset) and whether it was given on the command line (or from the
+    environment) rather than left to its default.
     """
     import sys
 
     ctx = click.get_current_context(silent=True)
-    params = {} if ctx is None else {k: v for k, v in ctx.params.items()}
-
-    def text(v):
-        if isinstance(v, (tuple, list)):
-            return ", ".join(text(x) for x in v) if v else ""
-        return "" if v is None else str(v)
-
+    options = [] if ctx is None else [_option_entry(ctx, p) for p in ctx.command.params
+                                      if isinstance(p, click.Option) and not p.hidden and p.name in ctx.params]
     return {"command_line": [str(a) for a in sys.argv],
             "command": None if ctx is None else ctx.command_path,
-            "options": {k: text(v) for k, v in sorted(params.items())}}
+            "options": sorted(options, key=lambda o: o["option"])}
+
+
+def _option_text(value, multiple: bool = False) -> str:
+    """An option's value as text: ``LAT,LON`` for a pair, repeated values joined by ", ", flags on/off."""
+    if value is None:
+        return ""
+    if isinstance(value, bool):
+        return "on" if value else "off"
+    if multiple:
+        return ", ".join(_option_text(v) for v in value)
+    if isinstance(value, (tuple, list)):
+        return ",".join(_option_text(v) for v in value)
+    return str(value)
+
+
+def _option_entry(ctx, param) -> dict:
+    """One record entry: the option's name as typed (a flag's off-switch when off), value, given or not."""
+    from click.core import ParameterSource
+
+    value = ctx.params[param.name]
+    names = param.opts
+    if param.is_flag and param.secondary_opts and value is False:
+        names = param.secondary_opts
+    name = max(names, key=lambda n: (n.startswith("--"), len(n)))
+    source = ctx.get_parameter_source(param.name)
+    return {"option": name, "value": _option_text(value, param.multiple),
+            "given": source in (ParameterSource.COMMANDLINE, ParameterSource.ENVIRONMENT)}

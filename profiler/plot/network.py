@@ -1,11 +1,20 @@
-"""The network map sheet: gateways, nodes and every link by status over a hillshade.
+"""The network map sheet: gateways, candidate sites, nodes and their links by status over a hillshade.
 
 :func:`write_network_figure` draws one landscape sheet from the
-``profiler.network/1`` report: the map (sites by role with different marker
-shapes, links by status with different line styles as well as colours, a
-north arrow, a scale bar and degree ticks), the legend, a summary table, the
-radio settings, the nodes not covered, and the title block, provenance and
-caution line shared with the link sheet (:mod:`profiler.plot.sheet`).
+``profiler.network/2`` report: the map (sites by role with different marker
+shapes and colours, links by status with different line styles as well as
+colours, a north arrow, a scale bar and degree ticks), the legend, a summary
+table, the radio settings, the nodes not covered, and the title block,
+provenance and caution line shared with the link sheet
+(:mod:`profiler.plot.sheet`).
+
+Existing gateways (role ``gateway``) and candidate sites (role
+``candidate``) are kept apart: candidates are reddish-purple diamonds, their
+links thinner and paler than those of the gateways, a node heard only by a
+candidate is drawn in the candidate colour, and the summary counts them
+apart (the numbers of the report's ``summary``).  ``links="best"`` draws
+per node only the link from its best gateway and from its best candidate
+(``nodes[].best_gateway`` / ``best_candidate``); ``links="all"`` every link.
 
 Link status (:func:`link_status`):
 
@@ -31,12 +40,18 @@ import numpy as np
 
 from ..errors import ProfilerError
 from . import basemap
+from .audit import contain
+from .network_text import TextMeasure, wrap_label
 from .titleblock import draw_title_box, title_block_rows
-from .sheet import (BADGE_BAD, BADGE_GOOD, BADGE_WARN, DASH, EN, MIDDOT, abbreviate, clean, draw_footer,
+from .sheet import (BADGE_BAD, BADGE_GOOD, BADGE_WARN, DASH, EN, MIDDOT, clean, draw_footer,
                     draw_tables, draw_title_block, fraction, inch_axes, k_text, new_sheet, num, put_text,
-                    sheet_legend, source_text, style, text_width_in, wrap_text, write_sheet)
+                    sheet_legend, source_text, style, wrap_text, write_sheet)
 
-__all__ = ["STATUSES", "build_network_figure", "link_status", "write_network_figure"]
+__all__ = ["LINK_CHOICES", "STATUSES", "build_network_figure", "drawn_links", "link_status",
+           "write_network_figure"]
+
+#: The choices of ``links``: per node the best link from a gateway and from a candidate, or every link.
+LINK_CHOICES = ("best", "all")
 
 #: Link statuses in legend order.
 STATUSES = ("closes", "marginal", "fails", "error")
@@ -49,17 +64,26 @@ STATUS_STYLE = {
     "error": {"color": "0.55", "lw": 0.7, "ls": (0, (1.0, 1.6))},
 }
 
-#: Marker of each role (and of a node no gateway hears with the fade margin).
+#: Colour of the candidate sites (and of the nodes only a candidate hears): reddish purple, apart
+#: from the link colours in hue and from black in lightness.
+CANDIDATE_COLOR = "#b8579a"
+
+#: A candidate site's links: the status style at this fraction of the width, at this opacity.
+CANDIDATE_LINK = {"width": 0.55, "alpha": 0.6}
+
+#: Marker of each role (and of a node heard only by a candidate, or by no site, with the fade margin).
 ROLE_STYLE = {
     "gateway": {"marker": "^", "ms": 9.0, "mfc": "black", "mec": "white", "mew": 1.0},
-    "candidate": {"marker": "D", "ms": 6.5, "mfc": "white", "mec": "black", "mew": 1.3},
+    "candidate": {"marker": "D", "ms": 7.0, "mfc": CANDIDATE_COLOR, "mec": "black", "mew": 1.0},
     "node": {"marker": "o", "ms": 5.5, "mfc": "0.2", "mec": "white", "mew": 0.8},
+    "node_candidate": {"marker": "o", "ms": 5.5, "mfc": CANDIDATE_COLOR, "mec": "black", "mew": 0.8},
     "node_uncovered": {"marker": "o", "ms": 5.5, "mfc": "white", "mec": "black", "mew": 1.1},
 }
 HIGHLIGHT_STYLE = {"marker": "o", "ms": 15.0, "mfc": "none", "mec": "black", "mew": 2.0}
 MARKED_STYLE = {"marker": "x", "ms": 11.0, "mec": "#d35f1d", "mew": 2.2}
 
 MAX_NODE_LABELS = 40      # at most this many node names on the map; gateways are always named
+LABEL_WRAP_IN = 1.4       # a site name that finds no place on one line is tried wrapped to this width [in]
 
 
 # --------------------------------------------------------------------------- public API
@@ -82,13 +106,14 @@ def link_status(links, fade_margin_db) -> list[str]:
 
 
 def write_network_figure(report: dict, path, paper: str = "a4", dpi: float = 200, dem_paths=None, *,
-                         highlight=None, marked=None, date_text: str | None = None, sheet: dict | None = None) -> None:
+                         highlight=None, marked=None, date_text: str | None = None, sheet: dict | None = None,
+                         links: str = "best") -> None:
     """Draw the network map sheet and write it to ``path`` (PNG, PDF or SVG by extension).
 
     Parameters
     ----------
     report : dict
-        The ``profiler.network/1`` report.
+        The ``profiler.network/2`` report.
     path : str or os.PathLike
         ``.png``, ``.pdf`` or ``.svg``; written atomically.
     paper : {"a4", "letter"}
@@ -107,36 +132,42 @@ def write_network_figure(report: dict, path, paper: str = "a4", dpi: float = 200
     sheet : dict, optional
         Title-block fields (``SheetInfo.to_dict()`` plus ``date``); empty
         fields are drawn as blank boxes.
+    links : {"best", "all"}
+        Links drawn: per node the one from its best existing gateway and the
+        one from its best candidate site (default), or every link of the
+        report.  The counts on the sheet are always of every link.
 
     Raises
     ------
     ProfilerError
-        Unknown extension or paper size, a bad dpi, a report without sites,
-        a missing output folder or a write error.
+        Unknown extension, paper size or ``links``, a bad dpi, a report
+        without sites, a missing output folder or a write error.
     """
     write_sheet(path, paper, dpi, lambda: build_network_figure(
         report, paper=paper, dem_paths=dem_paths, highlight=highlight, marked=marked, date_text=date_text,
-        sheet=sheet), f"Network map: {_title(report)}", report)
+        sheet=sheet, links=links), f"Network map: {_title(report)}", report)
 
 
 def build_network_figure(report: dict, paper: str = "a4", dem_paths=None, *, highlight=None, marked=None,
-                         date_text: str | None = None, sheet: dict | None = None):
+                         date_text: str | None = None, sheet: dict | None = None, links: str = "best"):
     """Build the network map sheet as a :class:`matplotlib.figure.Figure` (Agg canvas).
 
     Parameters are those of :func:`write_network_figure`.  The map axes
     carries the label ``"network-map"``; the site markers of a role are one
-    line artist with the gid ``sites-<role>``, the links of a status one
-    collection with the gid ``links-<status>``.
+    line artist with the gid ``sites-<role>``, the drawn links of a status
+    one collection with the gid ``links-<status>`` (from existing gateways)
+    or ``candidate-links-<status>`` (from candidate sites).
     """
     sites = _site_table(report)
     status = link_status(report.get("links") or [], report.get("fade_margin_db"))
+    drawn = drawn_links(report, links)
     with style():
         fig, renderer, width_in, height_in = new_sheet(paper)
         boxes = _layout(width_in, height_in)
         _draw_header(inch_axes(fig, boxes["header"], width_in, height_in), report, renderer)
         ax = fig.add_axes(fraction(boxes["map"], width_in, height_in), label="network-map")
-        _draw_map(ax, report, sites, status, dem_paths, set(highlight or ()), set(marked or ()), renderer)
-        _draw_side(fig, boxes["side"], width_in, height_in, report, sites, status, renderer,
+        _draw_map(ax, report, sites, status, drawn, dem_paths, set(highlight or ()), set(marked or ()), renderer)
+        _draw_side(fig, boxes["side"], width_in, height_in, report, sites, status, drawn, renderer,
                    bool(highlight), bool(marked))
         sheet = dict(sheet or {})
         date_text = date_text or sheet.get("date")
@@ -149,20 +180,41 @@ def build_network_figure(report: dict, paper: str = "a4", dem_paths=None, *, hig
     return fig
 
 
+def drawn_links(report: dict, links: str = "best") -> np.ndarray:
+    """Indices into the report's ``links`` of the links the map draws.
+
+    ``"all"``: every link.  ``"best"``: per node, the link from its best
+    existing gateway (``nodes[].best_gateway``) and the link from its best
+    candidate site (``nodes[].best_candidate``), whatever their status.
+    """
+    if links not in LINK_CHOICES:
+        raise ProfilerError(f"links must be one of {', '.join(LINK_CHOICES)}, not {links!r}")
+    rows = report.get("links") or []
+    if links == "all":
+        return np.arange(len(rows))
+    best = {(n.get(key), n.get("name")) for n in (report.get("nodes") or [])
+            for key in ("best_gateway", "best_candidate") if n.get(key) is not None}
+    return np.array([i for i, ln in enumerate(rows) if (ln.get("gateway"), ln.get("node")) in best], dtype=int)
+
+
 # --------------------------------------------------------------------------- data and layout
 def _site_table(report: dict) -> dict:
-    """Sites with coordinates as arrays: name, role, lon (continuous), lat, covered flag."""
+    """Sites with coordinates as arrays: name, role, lon (continuous), lat; a node's ``covered`` (by an
+    existing gateway) and ``candidate_covered`` (by a candidate site) flags, with the fade margin."""
     rows = [s for s in (report.get("sites") or []) if s.get("lat_deg") is not None and s.get("lon_deg") is not None]
     if not rows:
         raise ProfilerError("the network report has no sites with coordinates; nothing to draw")
-    heard = {n.get("name"): (n.get("gateways_heard") or 0) > 0 for n in (report.get("nodes") or [])}
+    nodes = report.get("nodes") or []
+    heard = {n.get("name"): (n.get("gateways_heard") or 0) > 0 for n in nodes}
+    heard_cand = {n.get("name"): (n.get("candidates_heard") or 0) > 0 for n in nodes}
     role = np.array([str(s.get("role") or "node") for s in rows])
     role = np.where(role == "sensor", "node", role)
     names = [str(s.get("name") or "") for s in rows]
     return {"name": names, "label": [clean(n) for n in names], "role": role,
             "lon": basemap.continuous_lon([s["lon_deg"] for s in rows]),
             "lat": np.array([s["lat_deg"] for s in rows], dtype=float),
-            "covered": np.array([heard.get(n, False) for n in names], dtype=bool)}
+            "covered": np.array([heard.get(n, False) for n in names], dtype=bool),
+            "candidate_covered": np.array([heard_cand.get(n, False) for n in names], dtype=bool)}
 
 
 def _layout(width_in: float, height_in: float) -> dict:
@@ -182,37 +234,50 @@ def _layout(width_in: float, height_in: float) -> dict:
     return {"header": header, "map": map_box, "side": side, "footer": footer, "title_block": title_block}
 
 
+def _plural(count: int, word: str) -> str:
+    return f"{count} {word}" + ("" if count == 1 else "s")
+
+
 def _title(report: dict) -> str:
-    sites = report.get("sites") or []
-    gateways = [clean(s.get("name") or "") for s in sites if s.get("role") in ("gateway", "candidate")]
-    nodes = sum(1 for s in sites if s.get("role") not in ("gateway", "candidate"))
-    if len(gateways) == 1:
-        return f"{gateways[0]} and {nodes} nodes"
-    return f"{len(gateways)} gateway sites and {nodes} nodes" if gateways else "no gateway"
+    """``"2 gateways, 4 candidate sites and 40 nodes"`` (the candidates only when there are some)."""
+    roles = [s.get("role") for s in report.get("sites") or []]
+    gateways, candidates = roles.count("gateway"), roles.count("candidate")
+    nodes = len(roles) - gateways - candidates
+    parts = [_plural(gateways, "gateway")] + ([_plural(candidates, "candidate site")] if candidates else [])
+    return f"{', '.join(parts)} and {_plural(nodes, 'node')}"
 
 
 def _draw_header(ax, report: dict, renderer) -> None:
     summary = report.get("summary") or {}
-    total, covered = summary.get("nodes_total") or 0, summary.get("nodes_covered") or 0
+    total, covered = summary.get("nodes_total") or 0, _covered_by_gateways(summary)
     band = report.get("band")
     freq = num(report.get("frequency_mhz"), ".4f", " MHz") + (f" ({clean(band)})" if band else "")
     parts = ["Network map", f"{summary.get('links', 0)} links", freq, f"k = {k_text(report.get('k_factor'))}",
              f"fade margin {num(report.get('fade_margin_db'), '.1f', ' dB')}"]
-    badge = f"{covered} of {total} nodes covered"
+    badge = f"{covered} of {total} nodes covered by gateways"
     badge_style = BADGE_GOOD if total and covered == total else (BADGE_WARN if covered else BADGE_BAD)
     draw_title_block(ax, renderer, _title(report), f"  {MIDDOT}  ".join(parts), badge, badge_style,
                      badge_label="COVERAGE")
 
 
 # --------------------------------------------------------------------------- map
-def _draw_map(ax, report, sites, status, dem_paths, highlight, marked, renderer) -> None:
+def _has_candidates(report: dict) -> bool:
+    return any(s.get("role") == "candidate" for s in report.get("sites") or [])
+
+
+def _covered_by_gateways(summary: dict) -> int:
+    """Nodes the existing gateways hear (``nodes_covered`` in a report older than ``profiler.network/2``)."""
+    return int(summary.get("nodes_covered_by_gateways", summary.get("nodes_covered")) or 0)
+
+
+def _draw_map(ax, report, sites, status, drawn, dem_paths, highlight, marked, renderer) -> None:
     """Relief, links, sites, labels, north arrow, scale bar and degree ticks."""
     ext = basemap.map_extent(ax, sites["lon"], sites["lat"], margin_frac=0.1, min_margin_m=500.0)
     basemap.prepare_map(ax, ext)
     caption = "no elevation model given: sites and links only"
     if dem_paths:
         caption = basemap.hillshade(ax, dem_paths, ext, pixels=420)
-    segments = _draw_links(ax, report, sites, status)
+    segments = _draw_links(ax, report, sites, status, drawn)
     _draw_sites(ax, sites, highlight, marked)
     basemap.finish_map(ax, ext)
     to_axes = ax.transData + ax.transAxes.inverted()
@@ -230,39 +295,53 @@ def _draw_map(ax, report, sites, status, dem_paths, highlight, marked, renderer)
     _, omitted = _label_sites(ax, sites, highlight, marked, renderer, furniture)
     if omitted:
         caption += f"  {MIDDOT}  {omitted} of {len(sites['name'])} site names left out (crowded)"
-    ax.annotate(f"{caption}  {MIDDOT}  links drawn as straight lines between sites", xy=(0.5, 0.0),
-                xycoords="axes fraction", xytext=(0.0, -13.0), textcoords="offset points", ha="center", va="top",
-                fontsize=6.2, color="0.25", parse_math=False)
+    total = len(report.get("links") or [])
+    best = "from a gateway and from a candidate" if _has_candidates(report) else "from a gateway"
+    shown = (f"all {total} links drawn" if len(drawn) == total else
+             f"{len(drawn)} of {total} links drawn (per node the best {best})")
+    width_in = ax.get_window_extent(renderer).width / ax.figure.dpi
+    text = f"{caption}  {MIDDOT}  {shown}, straight between the sites"
+    ax.annotate("\n".join(wrap_text(text, width_in, renderer, 6.2)), xy=(0.5, 0.0), xycoords="axes fraction",
+                xytext=(0.0, -13.0), textcoords="offset points", ha="center", va="top", fontsize=6.2, color="0.25",
+                parse_math=False)
 
 
-def _draw_links(ax, report, sites, status) -> np.ndarray:
-    """One line collection per status, under the sites; returns all segments (N x 2 x 2) [deg]."""
+def _draw_links(ax, report, sites, status, drawn) -> np.ndarray:
+    """One line collection per status and kind of site, under the sites: the links of candidate sites
+    thinner and paler, below those of the gateways.  Returns the drawn segments (N x 2 x 2) [deg]."""
     from matplotlib.collections import LineCollection
 
     index = {name: i for i, name in enumerate(sites["name"])}
-    links = report.get("links") or []
+    links = [(report.get("links") or [])[i] for i in drawn]
     ends = np.array([(index.get(ln.get("gateway"), -1), index.get(ln.get("node"), -1)) for ln in links],
                     dtype=int).reshape(-1, 2)
     known = (ends >= 0).all(axis=1)
     xy = np.column_stack([sites["lon"], sites["lat"]])
     segments = xy[ends[known]]                                   # (N, 2 ends, 2 coordinates)
-    kinds = np.asarray(status, dtype=object)[known] if len(status) else np.array([], dtype=object)
-    for z, kind in enumerate(reversed(STATUSES)):
-        chosen = segments[kinds == kind] if len(segments) else segments
-        if not len(chosen):
-            continue
-        s = STATUS_STYLE[kind]
-        ax.add_collection(LineCollection(chosen, colors=s["color"], linewidths=s["lw"], linestyles=[s["ls"]],
-                                         zorder=3 + 0.1 * z, gid=f"links-{kind}", capstyle="round",
-                                         path_effects=basemap.halo(s["lw"] + 1.6) if kind != "error" else None))
+    kinds = np.asarray(status, dtype=object)[np.asarray(drawn, dtype=int)][known]
+    from_candidate = sites["role"][ends[known][:, 0]] == "candidate"
+    for cand, prefix, width, alpha, base in ((True, "candidate-links", CANDIDATE_LINK["width"],
+                                              CANDIDATE_LINK["alpha"], 2.5), (False, "links", 1.0, 1.0, 3.0)):
+        for z, kind in enumerate(reversed(STATUSES)):
+            chosen = segments[(kinds == kind) & (from_candidate == cand)]
+            if not len(chosen):
+                continue
+            s = STATUS_STYLE[kind]
+            lw = s["lw"] * width
+            halo = basemap.halo(lw + 1.6) if kind != "error" and not cand else None
+            ax.add_collection(LineCollection(chosen, colors=s["color"], linewidths=lw, linestyles=[s["ls"]],
+                                             alpha=alpha, zorder=base + 0.1 * z, gid=f"{prefix}-{kind}",
+                                             capstyle="round", path_effects=halo))
     return segments
 
 
 def _draw_sites(ax, sites, highlight, marked) -> None:
-    """Markers by role (nodes filled when covered, hollow when not), chosen rings, unreachable crosses."""
+    """Markers by role (nodes dark when a gateway hears them, in the candidate colour when only a
+    candidate does, hollow when none), chosen rings, unreachable crosses."""
     role, lon, lat = sites["role"], sites["lon"], sites["lat"]
-    groups = {"gateway": role == "gateway", "candidate": role == "candidate",
-              "node": (role == "node") & sites["covered"], "node_uncovered": (role == "node") & ~sites["covered"]}
+    node, covered, cand = role == "node", sites["covered"], sites["candidate_covered"]
+    groups = {"gateway": role == "gateway", "candidate": role == "candidate", "node": node & covered,
+              "node_candidate": node & ~covered & cand, "node_uncovered": node & ~covered & ~cand}
     for z, (key, mask) in enumerate(groups.items()):
         if mask.any():
             ax.plot(lon[mask], lat[mask], ls="none", zorder=6 - 0.1 * z, gid=f"sites-{key}", **ROLE_STYLE[key])
@@ -289,7 +368,7 @@ def _label_order(sites, highlight, marked) -> list[int]:
 
 def _label_sites(ax, sites, highlight, marked, renderer, furniture=()):
     """Name the sites where a label fits clear of markers, other labels and the ``furniture`` (north
-    arrow and scale bar boxes [axes fractions]), else abbreviated, else left out.
+    arrow and scale bar boxes [axes fractions]), else wrapped, else left out (never cut).
 
     Returns the label boxes (axes fraction) and the number of sites left unnamed.  The labels sit
     on a translucent white box rather than a stroked halo, so that they stay text in SVG and PDF.
@@ -302,19 +381,23 @@ def _label_sites(ax, sites, highlight, marked, renderer, furniture=()):
     half = _marker_half_px(sites, highlight, marked, dpi)
     taken = [Bbox.from_extents(x - r, y - r, x + r, y + r) for (x, y), r in zip(xy, half)]     # the markers
     taken += [box.transformed(ax.transAxes) for box in furniture]
-    placed, order = [], _label_order(sites, highlight, marked)
+    placed, order, measure = [], _label_order(sites, highlight, marked), TextMeasure(renderer)
     for i in order:
         strong = sites["role"][i] != "node"
         size = 6.8 if strong else 5.8
-        spot = _free_spot(sites["label"][i], xy[i], half[i] + 2.0, taken, frame, renderer, size, strong)
+        spot = _free_spot(sites["label"][i], xy[i], half[i] + 2.0, taken, frame, renderer, size, strong, measure)
         if spot is None:
             continue
         text, (ox, oy), ha, va, box, far = spot
-        leader = dict(arrowstyle="-", lw=0.5, color="0.2", shrinkA=0, shrinkB=3) if far else None
-        ax.annotate(text, xy=(sites["lon"][i], sites["lat"][i]), xytext=(ox * 72.0 / dpi, oy * 72.0 / dpi),
-                    textcoords="offset points", ha=ha, va=va, fontsize=size, zorder=8, parse_math=False,
-                    fontweight="bold" if strong else "normal", arrowprops=leader,
-                    bbox=dict(boxstyle="square,pad=0.12", fc="white", ec="none", alpha=0.72))
+        at = dict(xy=(sites["lon"][i], sites["lat"][i]), xytext=(ox * 72.0 / dpi, oy * 72.0 / dpi),
+                  textcoords="offset points")
+        if far:     # the leader is an annotation of its own, so the label's extent is its text only
+            ax.annotate("", **at, zorder=8, arrowprops=dict(arrowstyle="-", lw=0.5, color="0.2", shrinkA=0,
+                                                            shrinkB=3))
+        contain(ax.annotate(text, **at, ha=ha, va=va, fontsize=size, zorder=8, parse_math=False,
+                            fontweight="bold" if strong else "normal", linespacing=1.2,
+                            bbox=dict(boxstyle="square,pad=0.12", fc="white", ec="none", alpha=0.72)),
+                ax, name="the map")
         taken.append(box)
         placed.append(box.transformed(ax.transAxes.inverted()))
     return placed, len(sites["name"]) - len(placed)
@@ -330,18 +413,22 @@ def _marker_half_px(sites, highlight, marked, dpi) -> np.ndarray:
     return 0.5 * ms * dpi / 72.0
 
 
-def _free_spot(name, point, gap, taken, frame, renderer, size, bold):
+def _free_spot(name, point, gap, taken, frame, renderer, size, bold, measure=None):
     """The first of eight places around ``point`` [px], ``gap`` [px] out then farther, where the
     label overlaps nothing taken (markers included).
 
-    Tries the full name, then the name cut to 14 characters.  Returns
+    Tries the name on one line, then wrapped to :data:`LABEL_WRAP_IN`.  Returns
     ``(text, (dx, dy) [px], ha, va, Bbox, far)`` or None; a far label gets a leader line.
     """
     from matplotlib.transforms import Bbox
 
-    h = size * 1.25 / 72.0 * renderer.dpi
-    for text in dict.fromkeys((name, abbreviate(name, 14))):
-        w = text_width_in(renderer, text, size, bold) * renderer.dpi
+    line_h = size * 1.2 / 72.0 * renderer.dpi
+    measure = measure or TextMeasure(renderer)
+    one_line = [name] if measure.estimate(name, size, bold) * renderer.dpi < frame.width else []
+    for text in dict.fromkeys(one_line + [wrap_label(name, LABEL_WRAP_IN, renderer, size, bold, measure=measure)]):
+        lines = text.split("\n")
+        w = max(measure.exact(line, size, bold) for line in lines) * renderer.dpi
+        h = line_h * len(lines) + 0.05 * size / 72.0 * renderer.dpi
         for far, out in ((False, gap), (True, gap + 10.0)):
             for ox, oy in ((1, 0), (-1, 0), (0, 1), (0, -1), (1, 1), (-1, 1), (1, -1), (-1, -1)):
                 dx, dy = ox * out, oy * (out if ox == 0 else 0.6 * out)
@@ -359,68 +446,122 @@ def _free_spot(name, point, gap, taken, frame, renderer, size, bold):
 
 
 # --------------------------------------------------------------------------- side column
-def _draw_side(fig, box, width_in, height_in, report, sites, status, renderer, highlight, marked) -> None:
-    """Legend, summary table, radio settings and the nodes not covered, top to bottom."""
+def _draw_side(fig, box, width_in, height_in, report, sites, status, drawn, renderer, highlight, marked) -> None:
+    """Legend, summary table and the nodes not covered, top to bottom."""
     left, bottom, w, h = box
-    legend_h = 1.5 + 0.16 * (bool(highlight) + bool(marked))
+    legend_h = 1.72 + 0.15 * (bool(highlight) + bool(marked))
     legend_ax = inch_axes(fig, (left, bottom + h - legend_h, w, legend_h), width_in, height_in)
-    _draw_legend(legend_ax, report, status, highlight, marked)
-    table_h = 1.85
-    table_ax = inch_axes(fig, (left, bottom + h - legend_h - 0.12 - table_h, w, table_h), width_in, height_in)
-    draw_tables(table_ax, renderer, _summary_blocks(report, status), max_row_h=0.2)
-    notes_h = h - legend_h - table_h - 0.3
+    _draw_legend(legend_ax, report, highlight, marked)
+    blocks = _summary_blocks(report, status)
+    table_h = 0.165 * (len(blocks[0][2]) + 1) + 0.03
+    table_ax = inch_axes(fig, (left, bottom + h - legend_h - 0.1 - table_h, w, table_h), width_in, height_in)
+    draw_tables(table_ax, renderer, blocks, max_row_h=0.2)
+    notes_h = h - legend_h - table_h - 0.25
     if notes_h > 0.3:
         _draw_uncovered(inch_axes(fig, (left, bottom, w, notes_h), width_in, height_in), report, sites, renderer)
 
 
-def _draw_legend(ax, report, status, highlight, marked) -> None:
+def _draw_legend(ax, report, highlight, marked) -> None:
+    """The link statuses, a candidate's link, the site roles and node states (no counts: the summary
+    table has them, of every link, whichever links are drawn)."""
     from matplotlib.lines import Line2D
 
     fade = num(report.get("fade_margin_db"), ".1f", " dB")
-    counts = {kind: status.count(kind) for kind in STATUSES}
     texts = {"closes": f"Closes with the fade margin (\u2265 {fade})",
              "marginal": f"Closes below the fade margin (0 to {fade})", "fails": "Fails (margin below 0 dB)",
              "error": "Not computed (error)"}
     handles = [Line2D([], [], color=STATUS_STYLE[k]["color"], lw=STATUS_STYLE[k]["lw"], ls=STATUS_STYLE[k]["ls"],
-                      label=f"{texts[k]}: {counts[k]}") for k in STATUSES]
-    roles = (("gateway", "Gateway"), ("candidate", "Candidate gateway"), ("node", "Node, covered"),
-             ("node_uncovered", "Node, not covered"))
+                      label=texts[k]) for k in STATUSES]
+    candidates = _has_candidates(report)
+    closes = STATUS_STYLE["closes"]
+    if candidates:
+        handles.append(Line2D([], [], color=closes["color"], lw=closes["lw"] * CANDIDATE_LINK["width"],
+                              alpha=CANDIDATE_LINK["alpha"], label="Link of a candidate site: thinner, paler"))
+    roles = (("gateway", "Existing gateway"), ("candidate", "Candidate site (not built)"),
+             ("node", "Node covered by a gateway"), ("node_candidate", "Node covered only with a candidate"),
+             ("node_uncovered", "Node not covered"))
+    roles = [r for r in roles if candidates or r[0] not in ("candidate", "node_candidate")]
     handles += [Line2D([], [], ls="none", label=label, **ROLE_STYLE[key]) for key, label in roles]
     if highlight:
         handles.append(Line2D([], [], ls="none", label="Chosen site", **{**HIGHLIGHT_STYLE, "ms": 10.0}))
     if marked:
         handles.append(Line2D([], [], ls="none", label="Unreachable site", **{**MARKED_STYLE, "ms": 8.0}))
-    put_text(ax, 0.0, ax.get_ylim()[1], "Legend", ha="left", va="top", fontsize=7.5, fontweight="bold")
-    sheet_legend(ax, handles, loc="upper left", bbox_to_anchor=(0.0, 0.9), ncol=1, handlelength=3.2,
-                 labelspacing=0.45, fontsize=6.8)
+    contain(put_text(ax, 0.0, ax.get_ylim()[1], "Legend", ha="left", va="top", fontsize=7.5, fontweight="bold"), ax)
+    legend = sheet_legend(ax, handles, loc="upper left", bbox_to_anchor=(0.0, 0.92), ncol=1, handlelength=3.2,
+                          labelspacing=0.4, fontsize=6.8)
+    for text in legend.get_texts() if legend is not None else ():
+        contain(text, ax, name="the legend panel")
 
 
 def _summary_blocks(report, status) -> list:
+    """The summary table: the report's ``summary`` counts (existing gateways and candidates apart) and
+    the links by status."""
     summary = report.get("summary") or {}
-    total = summary.get("nodes_total")
+    total = num(summary.get("nodes_total"), "d")
     rows = [
+        ("Existing gateways", num(summary.get("gateways"), "d")),
+        ("Candidate sites", num(summary.get("candidates"), "d")),
+        ("Nodes", total),
+        ("Covered by gateways", f"{_covered_by_gateways(summary)} of {total} nodes"),
+        ("Twice by gateways", f"{num(summary.get('nodes_covered_twice'), 'd')} of {total} nodes"),
+        ("Covered with candidates", f"{num(summary.get('nodes_covered_with_candidates'), 'd')} of {total} nodes"),
         ("Links computed", num(summary.get("links"), "d")),
         ("Closing (\u2265 fade margin)", num(summary.get("closing"), "d")),
         ("Below the fade margin", f"{status.count('marginal')}"),
         ("Failing", f"{status.count('fails')}"),
         ("Errors", num(summary.get("errors"), "d")),
-        ("Nodes covered", f"{num(summary.get('nodes_covered'), 'd')} of {num(total, 'd')}"),
-        ("Nodes covered twice", num(summary.get("nodes_covered_twice"), "d")),
         ("Band / frequency", f"{clean(report.get('band') or DASH)} / {num(report.get('frequency_mhz'), '.4f', ' MHz')}"),
         ("k-factor", k_text(report.get("k_factor"))),
     ]
     return [("Summary", None, rows)]
 
 
+#: Font sizes [pt] of the names of the nodes not covered: wrapped at the first, shrunk to the second
+#: (the smallest) when they do not fit; what still does not fit is counted, never cut.
+NAME_LIST_PT = (6.5, 5.6)
+
+
+def _name_lines(names, width, renderer, room, size, measure=None) -> list[str]:
+    """The names, comma-separated, wrapped to ``width`` [in] at ``size`` [pt], in at most ``room``
+    lines: whole names only, the rest counted on a last line."""
+    body = wrap_label(", ".join(names) if names else "none", width, renderer, size, measure=measure).split("\n")
+    if len(body) <= room:
+        return body
+    shown = []
+    for k, name in enumerate(names):               # whole names only, then the count of the rest
+        wrapped = wrap_label(name + ",", width, renderer, size, measure=measure).split("\n")
+        if len(shown) + len(wrapped) > room - 1:
+            return shown + [f"{EN} and {len(names) - k} more (see the JSON or CSV report)"]
+        shown += wrapped
+    return shown
+
+
 def _draw_uncovered(ax, report, sites, renderer) -> None:
-    """The names of the nodes no gateway hears with the fade margin, wrapped, cut with a count."""
+    """The nodes no existing gateway hears with the fade margin, then those no candidate hears either;
+    names wrapped, shrunk down to ``NAME_LIST_PT[-1]`` when needed, never cut; what does not fit is
+    counted and left to the JSON and CSV reports."""
     width, height = ax.get_xlim()[1], ax.get_ylim()[1]
-    missing = [sites["label"][i] for i in np.flatnonzero((sites["role"] == "node") & ~sites["covered"])]
-    put_text(ax, 0.0, height, f"Nodes not covered ({len(missing)})", ha="left", va="top", fontsize=7.5,
-             fontweight="bold")
-    lines = wrap_text(", ".join(missing) if missing else "none", width, renderer, 6.5)
-    room = max(int((height - 0.2) / 0.13), 1)
-    if len(lines) > room:
-        lines = lines[:room - 1] + [f"{EN} and more (see the JSON or CSV report)"]
-    put_text(ax, 0.0, height - 0.18, "\n".join(lines), ha="left", va="top", fontsize=6.5, color="0.15",
-             linespacing=1.25)
+    node = sites["role"] == "node"
+    by_gateways = [sites["label"][i] for i in np.flatnonzero(node & ~sites["covered"])]
+    at_all = [sites["label"][i] for i in np.flatnonzero(node & ~sites["covered"] & ~sites["candidate_covered"])]
+    sections = [(f"Nodes not covered by gateways ({len(by_gateways)})", by_gateways)]
+    if _has_candidates(report):
+        sections.append((f"Not covered even with candidates ({len(at_all)})", at_all))
+    title_h, gap, measure = 0.16, 0.06, TextMeasure(renderer)
+    for size in NAME_LIST_PT:
+        line_h = size * 1.25 / 72.0
+        total = int((height - len(sections) * (title_h + gap)) / line_h)
+        blocks, left = [], total
+        for k, (title, names) in enumerate(sections):     # the later sections keep one line each
+            lines = _name_lines(names, width, renderer, max(left - (len(sections) - 1 - k), 1), size, measure)
+            blocks.append((title, lines))
+            left -= len(lines)
+        if not any(lines[-1].startswith(EN) for _, lines in blocks):
+            break
+    y = height
+    for title, lines in blocks:
+        contain(put_text(ax, 0.0, y, title, ha="left", va="top", fontsize=7.0, fontweight="bold"), ax)
+        y -= title_h
+        contain(put_text(ax, 0.0, y, "\n".join(lines), ha="left", va="top", fontsize=size, color="0.15",
+                         linespacing=1.25 / 1.2), ax)
+        y -= line_h * len(lines) + gap

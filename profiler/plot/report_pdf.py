@@ -1,29 +1,42 @@
 """``--report FILE.pdf``: the multi-page report of a link or mast run.
 
-Page 1 is the sheet itself; page 2 the budget (both directions, every data
-rate of the plan, compliance) or, for a mast run, the whole height table;
-page 3 the record: the full command line, every option's value, the
-elevation files with their full sha256, and the versions of the tool and
-its libraries, so that the run can be reproduced.  Written with
+Page 1 is the sheet itself; then the budget (both directions with each end
+named, every data rate of the plan, the RX2 window, compliance in words)
+or, for a mast run, every row of the height table; then the record: the
+full command line, every option as typed on the command line with its
+value (the band and frequency as used), the elevation files with their full
+sha256, and the versions of the tool and its libraries, so that the run can
+be reproduced.  Tables that do not fit continue on further pages
+("continued", "page n of m"; :mod:`profiler.plot.report_layout`).
+
+Text is shown as given (:func:`profiler.textsafe.figure_text`: one line,
+no spreadsheet guard: that belongs to CSV only).
+:func:`build_link_report_pages` and :func:`build_mast_report_pages` return
+the pages as figures (for the layout audit); the writers save them with
 matplotlib's ``PdfPages`` to the temporary file that
 :func:`profiler.outputs.write_outputs` renames into place.
 """
 
 from __future__ import annotations
 
-import os
 import platform
+import shlex
 
 from .. import CAUTION, __version__
 from ..errors import ProfilerError
+from ..textsafe import figure_text
+from .report_layout import Measure, Table, draw_placed, paginate
+from .sheet import BADGE_GOOD, DASH, EN, check_dpi, inch_axes, k_text, metadata, new_sheet, num, paper_size_in, style
 from .titleblock import datum_line, draw_notes, draw_title_box, title_block_rows
-from .sheet import (DASH, clean, draw_tables, draw_title_block, inch_axes, metadata,
-                    new_sheet, num, paper_size_in, check_dpi, site_name, style, EN, BADGE_GOOD)
 
-__all__ = ["write_link_report", "write_mast_report", "library_versions"]
+__all__ = ["write_link_report", "write_mast_report", "build_link_report_pages", "build_mast_report_pages",
+           "library_versions"]
 
-PAGES = 3
 LIBRARIES = ("numpy", "scipy", "pyproj", "rasterio", "matplotlib", "pygeomag", "click")
+MARGIN_IN, HEADER_IN, HEADER_GAP_IN = 0.38, 0.66, 0.19      # page margin, header band, gap under it [in]
+BLOCK_W_IN, BLOCK_H_IN, FOOT_GAP_IN = 3.05, 1.5, 0.2        # title block (taller for long names), gap above [in]
+#: Options whose value, when left to its default, is shown as the run used it: option -> (report key, format).
+AS_USED = {"--band": (("band",), "s"), "--freq-mhz": (("frequency_mhz",), ".4f"), "--date": (("sheet", "date"), "s")}
 
 
 def library_versions() -> list[tuple[str, str]]:
@@ -39,30 +52,43 @@ def library_versions() -> list[tuple[str, str]]:
     return out
 
 
-def write_link_report(report: dict, path, paper: str = "a4", dpi: float = 200, dem_paths=None,
-                      record: dict | None = None) -> None:
-    """The link report: sheet, budget page, record page (PDF)."""
+def _name(report) -> str:
+    return f"{figure_text(report['site_a'].get('name'))} {EN} {figure_text(report['site_b'].get('name'))}"
+
+
+def build_link_report_pages(report: dict, paper: str = "a4", dpi: float = 100.0, dem_paths=None,
+                            record: dict | None = None) -> list:
+    """The link report's pages as figures: the sheet, the budget page(s), the record page(s)."""
     from .link import build_link_figure
 
-    name = f"{site_name(report['site_a'])} {EN} {site_name(report['site_b'])}"
-    pages = [lambda: build_link_figure(report, paper=paper, dem_paths=dem_paths, sheet_no=1, sheet_count=PAGES),
-             lambda: _table_page(report, paper, f"Link budget: {name}", _link_budget_blocks(report), 2, name),
-             lambda: _table_page(report, paper, f"Record: {name}", _record_blocks(report, record), 3, name)]
-    _write_pages(path, paper, dpi, pages, f"Radio path report: {name}", report)
+    sections = [("Link budget", _link_budget_groups(report)), ("Record", _record_groups(report, record))]
+    return _pages(report, paper, dpi, sections, lambda count: build_link_figure(
+        report, paper=paper, dem_paths=dem_paths, sheet_no=1, sheet_count=count, dpi=dpi))
+
+
+def build_mast_report_pages(report: dict, paper: str = "a4", dpi: float = 100.0, record: dict | None = None) -> list:
+    """The mast report's pages as figures: the sheet, every row of the height table, the record."""
+    from .mast import build_mast_figure
+
+    sections = [("Mast table", _mast_groups(report)), ("Record", _record_groups(report, record))]
+    return _pages(report, paper, dpi, sections,
+                  lambda count: build_mast_figure(report, paper, sheet_no=1, sheet_count=count))
+
+
+def write_link_report(report: dict, path, paper: str = "a4", dpi: float = 200, dem_paths=None,
+                      record: dict | None = None) -> None:
+    """The link report (PDF): :func:`build_link_report_pages` saved page by page."""
+    _write(path, paper, dpi, lambda d: build_link_report_pages(report, paper, d, dem_paths, record),
+           f"Radio path report: {_name(report)}", report)
 
 
 def write_mast_report(report: dict, path, paper: str = "a4", dpi: float = 200, record: dict | None = None) -> None:
-    """The mast report: sheet, height table, record page (PDF)."""
-    from .mast import build_mast_figure
-
-    name = f"{site_name(report['site_a'])} {EN} {site_name(report['site_b'])}"
-    pages = [lambda: build_mast_figure(report, paper, sheet_no=1, sheet_count=PAGES),
-             lambda: _table_page(report, paper, f"Mast table: {name}", _mast_blocks(report), 2, name),
-             lambda: _table_page(report, paper, f"Record: {name}", _record_blocks(report, record), 3, name)]
-    _write_pages(path, paper, dpi, pages, f"Mast report: {name}", report)
+    """The mast report (PDF): :func:`build_mast_report_pages` saved page by page."""
+    _write(path, paper, dpi, lambda d: build_mast_report_pages(report, paper, d, record),
+           f"Mast report: {_name(report)}", report)
 
 
-def _write_pages(path, paper, dpi, pages, title, report) -> None:
+def _write(path, paper, dpi, build, title, report) -> None:
     from matplotlib.backends.backend_pdf import PdfPages
 
     paper_size_in(paper)
@@ -72,129 +98,253 @@ def _write_pages(path, paper, dpi, pages, title, report) -> None:
     with style():
         try:
             with PdfPages(path, metadata=metadata(title, report, "pdf")) as pdf:
-                for build in pages:
-                    pdf.savefig(build(), dpi=dpi)
+                for fig in build(dpi):
+                    pdf.savefig(fig, dpi=dpi)
         except OSError as exc:
             raise ProfilerError(f"cannot write {path}: {exc.strerror or exc}") from exc
 
 
-def _table_page(report, paper, title, groups, sheet_no, name):
-    """A framed page: header, groups of tables stacked from the top, title block and caution at the bottom."""
-    fig, renderer, width_in, height_in = new_sheet(paper)
-    margin, block_w = 0.38, 3.05
-    draw_title_block(inch_axes(fig, (margin, height_in - margin - 0.66, width_in - 2 * margin, 0.66), width_in,
-                               height_in), renderer, clean(title), "Planning aid report", f"sheet {sheet_no} of {PAGES}",
-                     BADGE_GOOD, badge_label="PAGE")
-    top = height_in - margin - 0.85
-    for blocks in groups:
-        room = top - (margin + 1.7)
-        if room < 0.3:
-            break
-        used = draw_tables(inch_axes(fig, (margin, top - room, width_in - 2 * margin, room), width_in, height_in),
-                           renderer, blocks, max_row_h=0.14, wrap_rows=("Command line", "sha256", "note"))
-        top -= used + 0.18
-    draw_title_box(inch_axes(fig, (width_in - margin - block_w, margin, block_w, 1.5), width_in, height_in), renderer,
-                   title_block_rows(report.get("sheet"), name, report, sheet_no, PAGES))
-    draw_notes(inch_axes(fig, (margin, margin, width_in - 2 * margin - block_w - 0.2, 0.6), width_in, height_in),
-               renderer, [f"Datums: {clean(datum_line(report))}", CAUTION])
+def _pages(report, paper, dpi, sections, first_page) -> list:
+    """Paginate every section (each starts a page), then draw the sheet and the pages numbered n of m."""
+    with style():
+        probe, renderer, width_in, height_in = new_sheet(paper, dpi)
+        # the title block as tall as long names need (it wraps them and shrinks to 5 pt, see draw_title_box)
+        block_h = max(BLOCK_H_IN, draw_title_box(inch_axes(probe, (0.0, 0.0, BLOCK_W_IN, BLOCK_H_IN), width_in,
+                                                           height_in), renderer, _title_rows(report, 99, 99)))
+        foot = block_h + FOOT_GAP_IN
+        body_w, body_h = width_in - 2 * MARGIN_IN, height_in - 2 * MARGIN_IN - HEADER_IN - HEADER_GAP_IN - foot
+        measure = Measure(renderer)
+        laid = [(heading, i, placed) for heading, groups in sections
+                for i, placed in enumerate(paginate(groups, measure, body_w, body_h))]
+        count = 1 + len(laid)
+        figs = [first_page(count)]
+        for page_no, (heading, i, placed) in enumerate(laid, start=2):
+            figs.append(_table_page(report, (paper, dpi, measure), heading + (" (continued)" if i else ""),
+                                    placed, (page_no, count), block_h))
+    return figs
+
+
+def _title_rows(report, page_no, count):
+    return title_block_rows(report.get("sheet"), _name(report), report, page_no, count)
+
+
+def _table_page(report, sheet, heading, placed, page, block_h):
+    """A framed page: header, the placed tables, title block (``block_h`` tall) and caution at the bottom.
+
+    ``sheet`` is (paper, dpi, :class:`~profiler.plot.report_layout.Measure`); ``page`` is (n, m).
+    """
+    from .sheet import draw_title_block
+
+    paper, dpi, measure = sheet
+    fig, renderer, width_in, height_in = new_sheet(paper, dpi)
+    head = inch_axes(fig, (MARGIN_IN, height_in - MARGIN_IN - HEADER_IN, width_in - 2 * MARGIN_IN, HEADER_IN),
+                     width_in, height_in)
+    # the link's name in the heading when it fits; it is always in the title block below
+    draw_title_block(head, renderer, f"{heading}: {_name(report)}", "Planning aid report",
+                     f"page {page[0]} of {page[1]}", BADGE_GOOD, badge_label="PAGE",
+                     fit_title=lambda artist, room: artist.set_text(heading))
+    top, bottom = height_in - MARGIN_IN - HEADER_IN - HEADER_GAP_IN, MARGIN_IN + block_h + FOOT_GAP_IN
+    draw_placed(inch_axes(fig, (MARGIN_IN, bottom, width_in - 2 * MARGIN_IN, top - bottom), width_in, height_in),
+                measure, placed)
+    draw_title_box(inch_axes(fig, (width_in - MARGIN_IN - BLOCK_W_IN, MARGIN_IN, BLOCK_W_IN, block_h), width_in,
+                             height_in), renderer, _title_rows(report, *page))
+    draw_notes(inch_axes(fig, (MARGIN_IN, MARGIN_IN, width_in - 2 * MARGIN_IN - BLOCK_W_IN - 0.2, 0.6), width_in,
+                         height_in), renderer, [f"Datums: {figure_text(datum_line(report))}", CAUTION])
     return fig
 
 
 # --------------------------------------------------------------------------- link budget page
-BUDGET_KEYS = (("transmitter", "Transmitter", "s"), ("receiver", "Receiver", "s"), ("frequency_mhz", "Frequency", ".4f MHz"),
-               ("tx_power_dbm", "Tx power", ".2f dBm"), ("eirp_dbm", "EIRP", ".2f dBm"),
-               ("path_loss_db", "Path loss", ".2f dB"), ("rx_power_dbm", "Rx power", ".2f dBm"),
-               ("noise_figure_db", "Noise figure", ".1f dB"), ("sensitivity_dbm", "Sensitivity", ".2f dBm"),
-               ("sensitivity_source", "Sensitivity source", "s"), ("margin_db", "Margin", "+.2f dB"),
-               ("fade_margin_required_db", "Fade margin required", ".1f dB"), ("closes", "Closes", "b"),
-               ("dr", "Data rate (DR)", "d"), ("sf", "Spreading factor", "d"), ("bw_khz", "Bandwidth", "g kHz"))
+def _yes(value) -> str:
+    return DASH if value is None else ("yes" if value else "NO")
 
 
-def _cell(value, spec: str) -> str:
-    if value is None:
+def _rate(row) -> str:
+    """``DR0 SF12/125 kHz`` (``SF12/125 kHz`` without a DR number; a dash without LoRa settings)."""
+    if row.get("sf") is None:
         return DASH
-    if spec == "s":
-        return clean(str(value))
-    if spec == "b":
-        return "yes" if value else "NO"
-    fmt, _, unit = spec.partition(" ")
-    try:
-        return num(value, fmt, f" {unit}" if unit else "")
-    except (TypeError, ValueError):
-        return clean(str(value))
+    rate = f"SF{row['sf']}/{row['bw_khz']:g} kHz"
+    return rate if row.get("dr") is None else f"DR{row['dr']} {rate}"
 
 
-def _link_budget_blocks(report):
+def _end(report, key) -> str:
+    """``Gateway Cairnfell Beacon``: an end's role and name."""
+    role = ((report.get("radio_ends") or {}).get(key) or {}).get("role") or ("site " + key.upper())
+    return f"{figure_text(role).capitalize()} {figure_text(report[f'site_{key}'].get('name'))}"
+
+
+def _source(bud) -> str:
+    if bud.get("sensitivity_source") == "given":
+        return "given (--sensitivity-dbm)"
+    if bud.get("sensitivity_source") == "lora":
+        return f"LoRa {_rate(bud)}, noise figure {num(bud.get('noise_figure_db'), '.1f', ' dB')}"
+    return figure_text(bud.get("sensitivity_source") or DASH)
+
+
+def _budget_table(report) -> Table:
     up, down = report["budget"], report.get("budget_downlink") or report["budget"]
-    both = [(label, _cell(up.get(k), spec), _cell(down.get(k), spec)) for k, label, spec in BUDGET_KEYS]
-    loss = report.get("loss_db") or {}
-    losses = [(clean(k.replace("_", " ")), _cell(v, ".2f dB" if not isinstance(v, str) else "s"))
-              for k, v in loss.items()]
-    comp = report.get("compliance") or {}
-    comp_rows = [(clean(k.replace("_", " ")), _cell(v, "s" if isinstance(v, str) else ("b" if isinstance(v, bool)
-                                                                                        else "g")))
-                 for k, v in comp.items() if k != "notes"]
-    comp_rows += [("note", clean(n)) for n in comp.get("notes") or []]
-    groups = [[("Budget", ["", "Uplink (node \u2192 gateway)", "Downlink (gateway \u2192 node)"], both),
-               ("Path loss", None, losses), ("Compliance", None, comp_rows)]]
+    rows = [("Transmitter", _end(report, up["transmitter"]), _end(report, down["transmitter"])),
+            ("Receiver", _end(report, up["receiver"]), _end(report, down["receiver"]))]
+    for key, label, fmt, unit in (("frequency_mhz", "Frequency", ".4f", " MHz"), ("tx_power_dbm", "Tx power", ".2f", " dBm"),
+                                  ("eirp_dbm", "EIRP", ".2f", " dBm"), ("path_loss_db", "Path loss", ".2f", " dB"),
+                                  ("rx_power_dbm", "Rx power", ".2f", " dBm"), ("noise_figure_db", "Noise figure", ".1f", " dB"),
+                                  ("sensitivity_dbm", "Sensitivity", ".2f", " dBm"), ("margin_db", "Margin", "+.2f", " dB"),
+                                  ("fade_margin_required_db", "Fade margin required", ".1f", " dB")):
+        rows.append((label, num(up.get(key), fmt, unit), num(down.get(key), fmt, unit)))
+    rows += [("Sensitivity source", _source(up), _source(down)), ("Closes", _yes(up.get("closes")), _yes(down.get("closes"))),
+             ("Data rate", _rate(up), _rate(down))]
+    return Table("Budget", ("", "Uplink (node \u2192 gateway)", "Downlink (gateway \u2192 node)"), tuple(rows))
+
+
+LOSS_LABELS = {"free_space": "Free space", "diffraction": "Diffraction (used)", "extra": "Extra",
+               "polarization": "Polarization", "total": "Total", "diffraction_method": "Diffraction method",
+               "knife_edge": "Single knife edge", "bullington": "Bullington", "delta_bullington": "Delta-Bullington",
+               "spherical_earth": "Spherical Earth", "smooth_surface_height_a": "Smooth-Earth height of A",
+               "smooth_surface_height_b": "Smooth-Earth height of B"}
+
+
+def _loss_table(report) -> Table:
+    """The ``loss_db`` block: each term with its unit (``_m`` keys are heights in metres)."""
+    rows = []
+    for key, value in (report.get("loss_db") or {}).items():
+        base, unit = (key[:-2], " m") if key.endswith("_m") else (key, " dB")
+        label = LOSS_LABELS.get(base, base.replace("_", " ").capitalize())
+        rows.append((label, figure_text(value) if isinstance(value, str) else num(value, ".2f", unit)))
+    return Table("Path loss", None, tuple(rows))
+
+
+def _duty(duty, freq) -> str:
+    if duty is None:
+        return "no duty-cycle limit in the plan"
+    return f"Duty cycle {100 * duty:g} % (sub-band of {num(freq, '.4f')} MHz)"
+
+
+def _compliance_table(report) -> Table:
+    """Compliance in words: EIRP of each end against the limit, dwell time, duty cycle, notes."""
+    comp, lora = report.get("compliance") or {}, report.get("lora") or {}
+    rows = []
+    for key, end in sorted((report.get("radio_ends") or {}).items()):
+        limit, eirp = end.get("max_eirp_dbm"), end.get("eirp_dbm")
+        verdict = ("no regional plan, not checked" if limit is None else
+                   f"limit {num(limit, 'g')} dBm: {'met' if eirp <= limit + 1e-9 else 'EXCEEDED'}")
+        rows.append((f"{figure_text(end.get('role') or 'site').capitalize()} ({key.upper()})",
+                     f"EIRP {num(eirp, '.1f')} dBm, {verdict}"))
+    if comp.get("eirp_ok") is not None:
+        rows.append(("Power limits", "all met" if comp["eirp_ok"] else "NOT met (see the notes)"))
+    up, down = lora.get("uplink") or {}, lora.get("downlink") or {}
+    if comp.get("max_eirp_dbm") is not None:
+        dwell = comp.get("dwell_time_limit_ms")
+        rows.append(("Dwell time", "no limit in the plan" if dwell is None else
+                     f"at most {num(dwell, 'g')} ms per uplink transmission"))
+        rec = next((r for r in up.get("per_dr") or [] if r["dr"] == up.get("recommended_dr")), None)
+        per_hour = (f": at most {rec['max_uplinks_per_hour']} uplinks per hour at DR{rec['dr']}"
+                    if rec and rec.get("max_uplinks_per_hour") is not None else "")
+        rows.append(("Uplink", _duty(comp.get("duty_cycle"), up.get("frequency_mhz")) + per_hour))
+        rows.append(("Downlink", _duty(comp.get("duty_cycle_downlink"), down.get("frequency_mhz"))
+                     + (" applies to the gateway's transmissions" if comp.get("duty_cycle_downlink") is not None
+                        else "")))
+    rows += [("Note", figure_text(n)) for n in comp.get("notes") or []
+             if not str(n).startswith(("duty cycle ", "uplink dwell time"))]
+    return Table(f"Compliance ({figure_text(report.get('band'))})" if report.get("band") else "Compliance",
+                 None, tuple(rows))
+
+
+DR_COLUMNS = ("Data rate", "Sensitivity [dBm]", "Margin [dB]", "Closes", "Time on air [ms]", "Max. messages per hour",
+              "Allowed")
+
+
+def _rate_tables(report) -> list[Table]:
+    """Every data rate of the plan per direction, and the RX2 window (per spreading factor without a plan)."""
     lora = report.get("lora") or {}
-    dr_blocks = []
-    for direction in ("uplink", "downlink"):
+    tables = []
+    for direction, title in (("uplink", "Uplink data rates (node \u2192 gateway"),
+                             ("downlink", "Downlink RX1 data rates (gateway \u2192 node")):
         block = lora.get(direction)
         if not block:
             continue
         rec = block.get("recommended_dr")
-        rows = [(f"DR{r['dr']}{' (recommended)' if r['dr'] == rec else ''}", f"SF{r['sf']}/{r['bw_khz']:g}", _cell(r.get("sensitivity_dbm"), ".1f dBm"),
-                 _cell(r.get("margin_db"), "+.1f dB"), _cell(r.get("closes"), "b"),
-                 _cell(r.get("time_on_air_ms"), ".1f ms"), "yes" if r.get("allowed") else
-                 f"no: {clean(r.get('reason') or '')}")
-                for r in block.get("per_dr") or []]
-        dr_blocks.append((direction.capitalize(),
-                          ["", "Rate [kHz]", "Sensitivity", "Margin", "Closes", "Time on air", "Allowed"], rows))
-    if dr_blocks:
-        groups.append(dr_blocks)
+        rows = tuple((_rate(r) + (" (recommended)" if r["dr"] == rec else ""), num(r.get("sensitivity_dbm"), ".1f"),
+                      num(r.get("margin_db"), "+.1f"), _yes(r.get("closes")), num(r.get("time_on_air_ms"), ".1f"),
+                      DASH if r.get("max_uplinks_per_hour") is None else str(r["max_uplinks_per_hour"]),
+                      "yes" if r.get("allowed") else f"no: {figure_text(r.get('reason') or '')}")
+                     for r in block.get("per_dr") or [])
+        tables.append(Table(f"{title}, {num(block.get('frequency_mhz'), '.4f')} MHz)", DR_COLUMNS, rows))
+    groups = [tables] if tables else []
+    rx2 = (lora.get("downlink") or {}).get("rx2")
+    if rx2:
+        groups.append([Table("Downlink RX2 window (gateway \u2192 node)",
+                             ("Frequency [MHz]", "Data rate", "Sensitivity [dBm]", "Margin [dB]", "Closes"),
+                             ((num(rx2.get("frequency_mhz"), ".4f"), _rate(rx2), num(rx2.get("sensitivity_dbm"), ".1f"),
+                               num(rx2.get("margin_db"), "+.1f"), _yes(rx2.get("closes"))),))])
+    if not tables and lora.get("per_sf"):
+        rows = tuple((f"SF{r['sf']}/{lora.get('bw_khz', 0):g} kHz", num(r.get("sensitivity_dbm"), ".1f"),
+                      num(r.get("margin_db"), "+.1f"), _yes(r.get("closes")), num(r.get("time_on_air_ms"), ".1f"),
+                      DASH if r.get("uplinks_per_hour_1pct") is None else str(r["uplinks_per_hour_1pct"]))
+                     for r in lora["per_sf"])
+        groups.append([Table("Uplink spreading factors (no regional plan)", DR_COLUMNS[:5] + ("Per hour at 1 %",),
+                             rows)])
     return groups
 
 
-# --------------------------------------------------------------------------- mast table page
-def _mast_blocks(report):
-    from .mast import rate_label
+def _link_budget_groups(report):
+    return [[_budget_table(report), _loss_table(report), _compliance_table(report)], *_rate_tables(report)]
 
-    rows = [(num(r["mast_a_m"], ".2f", " m"), num(r["mast_b_m"], ".2f", " m"), num(r["worst_ratio"], ".3f"),
-             num(r["worst_ratio_low_k"], ".3f"), num(r["diffraction_db"], ".2f", " dB"),
-             num(r["margin_db"], "+.2f", " dB"), rate_label(r) or DASH) for r in report["table"]]
-    head = ["", "Mast B", "Worst F1 (k)", "Worst F1 (low k)", "Diffraction", "Margin", "Data rate"]
-    per = max(1, (len(rows) + 1) // 2) if len(rows) > 28 else len(rows)
-    chunks = [rows[i:i + per] for i in range(0, len(rows), per)][:2]
-    if len(rows) > 56:
-        chunks = [rows[:28], rows[28:56]]
-    return [[(f"Mast A{' (continued)' if i else ''}", head, chunk) for i, chunk in enumerate(chunks)]]
+
+# --------------------------------------------------------------------------- mast table page
+def _mast_groups(report):
+    """Every row of the JSON height table, two parts side by side, continued on further pages."""
+    crit = {c["criterion"]: c for c in report.get("criteria") or []}
+    k_hi, k_lo = ((crit.get(n) or {}).get("k_factor") for n in ("clearance", "clearance_low_k"))
+    rows = tuple((num(r["mast_a_m"], ".2f"), num(r["mast_b_m"], ".2f"), num(r["worst_ratio"], ".3f"),
+                  num(r["worst_ratio_low_k"], ".3f"), num(r["diffraction_db"], ".2f"), num(r["margin_db"], "+.2f"),
+                  _rate(r)) for r in report["table"])
+    head = ("Mast A [m]", "Mast B [m]", f"Clearance / F1 (k {k_text(k_hi)})",
+            f"Clearance / F1 (k {k_text(k_lo)})", "Diffraction [dB]", "Margin [dB]", "Data rate")
+    return [[Table(f"Mast heights searched: all {len(rows)} rows", head, rows, flow=2)]]
 
 
 # --------------------------------------------------------------------------- record page
-def _chunks(text: str, n: int) -> list[str]:
-    """``text`` in pieces of ``n`` characters (a digest wraps at the spaces between them)."""
-    return [text[i:i + n] for i in range(0, len(text), n)] or [""]
+def _chunks(text: str, n: int) -> str:
+    """``text`` in pieces of ``n`` characters joined by spaces (a digest wraps between them)."""
+    return " ".join(text[i:i + n] for i in range(0, len(text), n))
 
 
-def _record_blocks(report, record):
+def _option_rows(report, record):
+    """(option as typed, value, set by) of every option; ``--band`` and ``--freq-mhz`` as the run used them."""
+    rows = []
+    for opt in record.get("options") or []:
+        value = figure_text(opt.get("value"))
+        if not value and opt.get("option") in AS_USED:
+            keys, fmt = AS_USED[opt["option"]]
+            used = report
+            for key in keys:
+                used = (used or {}).get(key)
+            value = "" if used is None else (figure_text(used) if fmt == "s" else num(used, fmt)) + " (as used)"
+        rows.append((figure_text(opt.get("option")), value or DASH, "given" if opt.get("given") else "default"))
+    return tuple(rows)
+
+
+def _version_rows():
+    """Python and profiler on a row each, the libraries on one (wrapped) row."""
+    versions = library_versions()
+    return ((versions[0][0].capitalize(), versions[0][1]), versions[1],
+            ("Libraries", ", ".join(f"{n} {figure_text(v)}" for n, v in versions[2:])))
+
+
+def _record_groups(report, record):
     record = record or {}
-    options = sorted((record.get("options") or {}).items())
-    opt_rows = [(clean(k.replace("_", "-")), clean(v) or DASH) for k, v in options]
-    third = (len(opt_rows) + 2) // 3
-    import shlex
-
-    command = [("Command line", clean(shlex.join(record.get("command_line") or [])) or DASH)]
-    run = [("Report schema", clean(report.get("schema") or "")), ("Date", clean((report.get("sheet") or {}).get("date") or ""))]
+    command = figure_text(shlex.join(record.get("command_line") or [])) or DASH
+    run = (("Command", figure_text(record.get("command")) or DASH), ("Report schema", figure_text(report.get("schema"))),
+           ("Date", figure_text((report.get("sheet") or {}).get("date")) or DASH),
+           ("Band (as used)", figure_text(report.get("band")) or DASH),
+           ("Frequency (as used)", num(report.get("frequency_mhz"), ".4f", " MHz")))
     files = []
     for s in (report.get("dem") or {}).get("sources") or []:
-        files += [("Path", clean(os.path.basename(str(s.get("path") or "")))),
-                  ("sha256", " ".join(_chunks(clean(str(s.get("sha256") or DASH)), 16))), ("CRS", clean(str(s.get("crs") or DASH)))]
-    versions = [(n, clean(v)) for n, v in library_versions()]
-    groups = [[("Command", None, command)], [("Run", None, run), ("Elevation files", None, files or [("Path", DASH)]),
-               ("Versions", None, versions)]]
-    if opt_rows:
-        groups.append([("Options", None, opt_rows[:third]),
-                       ("Options (continued)", None, opt_rows[third:2 * third] or [("", "")]),
-                       ("Options (continued)", None, opt_rows[2 * third:] or [("", "")])])
+        files += [("Path", figure_text(s.get("path")) or DASH), ("sha256", _chunks(figure_text(s.get("sha256")), 16) or DASH),
+                  ("CRS", figure_text(s.get("crs")) or DASH)]
+    groups = [[Table("Command line", None, ((command,),))],
+              [Table("Run", None, run), Table("Elevation files", None, tuple(files) or (("Path", DASH),)),
+               Table("Versions", None, _version_rows())]]
+    options = _option_rows(report, record)
+    if options:
+        groups.append([Table("Options", ("Option", "Value", "Set by"), options, flow=4)])
     return groups
