@@ -171,6 +171,8 @@ def analyze_link(profile: TerrainProfile, *, mast_a_m: float = 10.0, mast_b_m: f
     (156a).  Diffraction: P.526-15 section 4.5 / P.452-18 section 4.2.
     Free space: P.525-4 eq. (6).
     """
+    limits.check_name(name_a, "name_a")
+    limits.check_name(name_b, "name_b")
     radio = (radio or RadioSettings()).validate()
     mast_a = _check_mast(mast_a_m, "a")
     mast_b = _check_mast(mast_b_m, "b")

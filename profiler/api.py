@@ -5,6 +5,7 @@ from __future__ import annotations
 from .analysis import LinkResult, RadioSettings, analyze_link
 from .bands import resolve_frequency_mhz
 from .errors import ProfilerError
+from .limits import check_name
 from .geometry import parse_k_factor
 from .terrain import profile_from_dem, read_profile_csv
 
@@ -50,6 +51,7 @@ def link(site_a=None, site_b=None, *, dem=None, profile_csv=None, mast_a_m: floa
     LinkResult
         ``result.to_dict()`` is the JSON report.
     """
+    check_names(name_a=name_a, name_b=name_b)
     f_mhz, band_name = resolve_frequency_mhz(frequency_mhz, band)
     k = parse_k_factor(k_factor)
     prof = load_profile(site_a, site_b, dem=dem, profile_csv=profile_csv, step_m=step_m,
@@ -69,6 +71,7 @@ def load_profile(site_a=None, site_b=None, *, dem=None, profile_csv=None, step_m
     Parameters are those of :func:`link`.  Returns a
     :class:`~profiler.terrain.TerrainProfile`.
     """
+    check_names(name_a=name_a, name_b=name_b)
     if profile_csv is not None:
         if dem:
             raise ProfilerError("give either --dem or --profile, not both")
@@ -134,4 +137,11 @@ def coverage(site=None, *, dem, **kwargs):
     """
     from .coverage_map import coverage as _coverage
 
+    check_names(name=kwargs.get("name"))
     return _coverage(site, dem=dem, **kwargs)
+
+
+def check_names(**names) -> None:
+    """Refuse any name longer than :data:`profiler.limits.MAX_NAME_CHARS` (one line naming the argument)."""
+    for key, value in names.items():
+        check_name(value, key)

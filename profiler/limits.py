@@ -26,7 +26,7 @@ from typing import Iterable, Iterator, Mapping
 
 from .errors import ProfilerError
 
-__all__ = ["Limit", "LIMITS", "MAX_PROFILE_SAMPLES", "check", "check_values", "check_fields", "check_array",
+__all__ = ["Limit", "LIMITS", "MAX_PROFILE_SAMPLES", "MAX_NAME_CHARS", "check_name", "check", "check_values", "check_fields", "check_array",
            "sample_count", "quiet_numerics", "require_finite", "range_text"]
 
 
@@ -117,6 +117,24 @@ LIMITS: dict[str, Limit] = {
 
 MAX_PROFILE_SAMPLES = 500_000
 """Upper bound on profile samples (about 12 MB per array); a finer step is refused."""
+
+
+#: Longest site name [characters] any command or entry point accepts: a sheet prints every name
+#: whole (wrapped, never cut), and a name much longer than a sentence is a mistake, not a name.
+MAX_NAME_CHARS = 200
+
+
+def check_name(name, label: str = "site name"):
+    """Refuse a name longer than :data:`MAX_NAME_CHARS` characters with one line naming ``label``
+    (an option such as ``--name-a``, or "sites file F line N: the site name"); returns ``name``.
+
+    Cheap and called before any computation, so a pasted paragraph is refused at once instead of
+    being laid out on a sheet.
+    """
+    if name is not None and len(str(name)) > MAX_NAME_CHARS:
+        raise ProfilerError(f"{label} is {len(str(name))} characters long; use at most {MAX_NAME_CHARS} "
+                            "characters")
+    return name
 
 
 def _number_text(x) -> str:

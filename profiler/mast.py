@@ -166,6 +166,8 @@ def solve_mast(profile: TerrainProfile, *, frequency_mhz: float, solve: str = "b
     ITU-R P.530-18 section 2.2.2.1 (planning criteria); ITU-R P.526-15
     section 2, eq. (2); margin as :func:`profiler.radio.radio_results`.
     """
+    limits.check_name(name_a, "name_a")
+    limits.check_name(name_b, "name_b")
     radio = (radio or RadioSettings()).validate()
     max_mast_m, mast_step_m, m_a0, m_b0, ratio, ratio_low = _validated(
         solve, frequency_mhz, max_mast_m, mast_step_m, mast_a_m, mast_b_m, clearance_ratio,

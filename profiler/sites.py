@@ -28,6 +28,7 @@ from pathlib import Path
 import numpy as np
 
 from .errors import ProfilerError, refuse_empty_path
+from .limits import check_name
 
 __all__ = ["SiteTable", "read_sites_csv", "sites_from_records", "read_pairs_csv", "pairs_from_names",
            "candidate_pairs", "ROLES", "GATEWAY_ROLES", "REQUIRED_COLUMNS", "OVERRIDE_COLUMNS",
@@ -222,6 +223,7 @@ def _build_table(header, rows, where, source) -> SiteTable:
     for k, name in enumerate(names):
         if not name:
             raise ProfilerError(f"{where(lines[k])}: the site name is empty; give every site a name")
+        check_name(name, f"{where(lines[k])}: the site name")
         if name in seen:
             raise ProfilerError(f"{where(lines[k])}: site name {name!r} already used on line {seen[name]}; "
                                 "site names must be unique")

@@ -36,7 +36,8 @@ def _with_candidate(folder, name):
     csv = folder / "sites.csv"
     csv.write_text("name,lat_deg,lon_deg,mast_m,role,gain_dbi,cable_loss_db\n"
                    f'"{name}",{GATEWAY[0]},{GATEWAY[1]},10,gateway,,\n'
-                   f'"{name} spare",{CANDIDATE[0]},{CANDIDATE[1]},6,candidate,5,1.5\n', encoding="utf-8")
+                   f'"{name[:194]} spare",{CANDIDATE[0]},{CANDIDATE[1]},6,candidate,5,1.5\n',   # <= 200 characters
+                   encoding="utf-8")
     return coverage(dem=DEM, sites=csv, radius_km=RADIUS_KM, resolution_m=RES_M, progress=False)
 
 

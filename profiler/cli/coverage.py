@@ -4,8 +4,9 @@ from __future__ import annotations
 
 import click
 
-from .options import (NON_NEGATIVE, POSITIVE, LatLon, batch_radio_options, clearance_ratio_option, cluster_options,
-                      frequency_options, k_option, plot_options, radio_settings, sheet_options, sheet_settings)
+from .options import (NON_NEGATIVE, POSITIVE, SITE_NAME, LatLon, batch_radio_options, clearance_ratio_option,
+                      cluster_options, frequency_options, k_option, plot_options, radio_settings, sheet_options,
+                      sheet_settings)
 
 
 @click.command("coverage")
@@ -13,7 +14,8 @@ from .options import (NON_NEGATIVE, POSITIVE, LatLon, batch_radio_options, clear
               help="Elevation file (GeoTIFF, .hgt, VRT, ...) or folder of tiles; repeatable.")
 @click.option("--site", type=LatLon(), default=None, help="The gateway as LAT,LON in decimal degrees (WGS84).")
 @click.option("--mast-m", type=NON_NEGATIVE, default=None, help="Gateway antenna height above ground [m].")
-@click.option("--name", default="site", show_default=True, help="Name of the site.")
+@click.option("--name", type=SITE_NAME, default="site", show_default=True,
+              help="Name of the site (at most 200 characters).")
 @click.option("--sites", "sites_csv", default=None, type=click.Path(dir_okay=False), metavar="GATEWAYS.csv",
               help="Site list (the network format): a composite over its gateway rows, each with its own mast.")
 @click.option("--radius-km", type=POSITIVE, required=True, help="Radius around each gateway [km].")

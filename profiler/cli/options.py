@@ -37,6 +37,20 @@ class LatLon(click.ParamType):
         return (lat, lon)
 
 
+class SiteName(click.ParamType):
+    """A site name of at most :data:`profiler.limits.MAX_NAME_CHARS` characters."""
+
+    name = "TEXT"
+
+    def convert(self, value, param, ctx):
+        from ..limits import check_name
+
+        try:
+            return check_name(value, "the name")
+        except ProfilerError as exc:
+            self.fail(str(exc), param, ctx)
+
+
 class FiniteFloat(click.ParamType):
     """A finite decimal number (no NaN or infinity), optionally with bounds."""
 
@@ -115,6 +129,7 @@ def _checked(name, value, ctx):
         raise click.UsageError(str(exc), ctx) from None
 
 
+SITE_NAME = SiteName()
 NUMBER = FiniteFloat()
 NON_NEGATIVE = FiniteFloat(0.0)
 POSITIVE = FiniteFloat(0.0, min_open=True)
@@ -134,8 +149,10 @@ def site_options(f):
     return _apply([
         click.option("--site-a", type=LatLon(), help="Site A as LAT,LON in decimal degrees (WGS84)."),
         click.option("--site-b", type=LatLon(), help="Site B as LAT,LON in decimal degrees (WGS84)."),
-        click.option("--name-a", default="A", show_default=True, help="Name of site A."),
-        click.option("--name-b", default="B", show_default=True, help="Name of site B."),
+        click.option("--name-a", type=SITE_NAME, default="A", show_default=True,
+                     help="Name of site A (at most 200 characters)."),
+        click.option("--name-b", type=SITE_NAME, default="B", show_default=True,
+                     help="Name of site B (at most 200 characters)."),
         click.option("--mast-a", "mast_a_m", type=NON_NEGATIVE, default=10.0, show_default=True,
                      help="Antenna height above ground at A [m]."),
         click.option("--mast-b", "mast_b_m", type=NON_NEGATIVE, default=2.0, show_default=True,

@@ -24,13 +24,14 @@ import math
 import numpy as np
 
 from ..report import verdict
-from . import basemap
-from .titleblock import draw_notes, draw_title_box, provenance_lines, title_block_rows
+from . import audit, basemap
+from .titleblock import draw_notes, draw_title_box, provenance_lines, title_block_rows, title_box_height
 from .sheet import (BADGE_BAD, BADGE_GOOD, BADGE_WARN, DASH, EN, MIDDOT, arr, clean, dms, draw_tables,
-                    draw_title_block, figure_format, fit, fraction, inch_axes, k_text, km, nanmax, new_sheet, num,
+                    draw_title_block, figure_format, fraction, inch_axes, k_text, km, nanmax, new_sheet, num,
                     site_name, source_text, style, write_sheet)
 from .link_tables import bearing_lines, declination_text, exposure_line, radio_block
-from .profile_panel import draw_profile
+from .profile_panel import draw_profile, end_label
+from .textfit import Measure, fit_text
 
 __all__ = ["build_link_figure", "write_link_figure"]
 
@@ -108,13 +109,26 @@ def build_link_figure(report: dict, paper: str = "a4", dem_paths=None, *, date_t
         sheet = dict(report.get("sheet") or {})
         if date_text:
             sheet["date"] = date_text
-        name = f"Radio path profile {site_name(report['site_a'])} {EN} {site_name(report['site_b'])}"
-        draw_title_box(inch_axes(fig, boxes["title_block"], width_in, height_in), renderer,
-                       title_block_rows(sheet, name, report, sheet_no, sheet_count))
+        block_ax = inch_axes(fig, boxes["title_block"], width_in, height_in)
+        measure = Measure(renderer)
+        draw_title_box(block_ax, renderer, _title_rows(report, sheet, sheet_no, sheet_count, block_ax, measure),
+                       measure=measure)
         extra = [*bearing_lines(report), exposure_line(report)]
         draw_notes(inch_axes(fig, boxes["footer"], width_in, height_in), renderer,
                    provenance_lines(report, source_text(report.get("dem"), n_points), extra))
     return fig
+
+
+def _title_rows(report, sheet, sheet_no, sheet_count, ax, measure):
+    """The title block's rows: titled with both names, or, when they do not fit it even at 5 pt, with
+    the sites' letters (the names are in full in the header and the sites table)."""
+    name = f"Radio path profile {site_name(report['site_a'])} {EN} {site_name(report['site_b'])}"
+    rows = title_block_rows(sheet, name, report, sheet_no, sheet_count)
+    width, height = ax.get_xlim()[1], ax.get_ylim()[1]
+    if title_box_height(width, height, measure.renderer, rows, measure=measure) > height + 1e-9:
+        rows = title_block_rows(sheet, f"Radio path profile A {EN} B (site names: sites table)", report,
+                                sheet_no, sheet_count)
+    return rows
 
 
 def _layout(width_in: float, height_in: float) -> dict:
@@ -159,32 +173,14 @@ def _verdict_style(report: dict) -> dict:
 
 
 def _draw_header(ax, report: dict, renderer) -> None:
+    """Both names in the title (wrapped and shrunk, never cut) and the whole verdict in the badge."""
     name_a, name_b = site_name(report["site_a"]), site_name(report["site_b"])
     band = report.get("band")
     freq = num(report.get("frequency_mhz"), ".4f", " MHz") + (f" ({clean(band)})" if band else "")
     parts = ["Point-to-point radio path profile", num(km(report.get("distance_m")), ".3f", " km"), freq,
              f"k = {k_text(report.get('k_factor'))}"]
     draw_title_block(ax, renderer, f"{name_a} {EN} {name_b}", f"  {MIDDOT}  ".join(parts), clean(verdict(report)),
-                     _verdict_style(report),
-                     fit_title=lambda title, room: _fit_pair(title, name_a, name_b, room, renderer))
-
-
-def _fit_pair(title, name_a: str, name_b: str, room: float, renderer) -> None:
-    """Shorten the longer name first, so that both names of "A - B" stay visible within ``room`` [in]."""
-    dpi = title.figure.dpi
-    widths = []
-    for name in (name_a, name_b, f" {EN} "):
-        title.set_text(name)
-        widths.append(title.get_window_extent(renderer).width / dpi)
-    share = room - widths[2]
-    short = min(widths[0], widths[1], share / 2.0)
-    budgets = (short, share - short) if widths[0] <= widths[1] else (share - short, short)
-    fitted = []
-    for name, budget in zip((name_a, name_b), budgets):
-        title.set_text(name)
-        fit(title, budget, renderer)
-        fitted.append(title.get_text())
-    title.set_text(f"{fitted[0]} {EN} {fitted[1]}")
+                     _verdict_style(report))
 
 
 # --------------------------------------------------------------------------- locator panel
@@ -252,21 +248,21 @@ def _label_sites(ax, report: dict, lon, lat, ext, points, renderer, furniture=()
     if ny_ < 0 or (ny_ == 0 and nx_ < 0):
         nx_, ny_ = -nx_, -ny_
     boxes = []
+    measure = Measure(renderer)
+    room_in = 0.55 * ax.get_window_extent(renderer).width / renderer.dpi
     for key, x, y, sign in (("a", lon[0], lat[0], 1.0), ("b", lon[-1], lat[-1], -1.0)):
-        name = site_name(report[f"site_{key}"])
-        if len(name) > 26:
-            name = name[:25].rstrip() + "\u2026"
+        text, size = _locator_text(key, site_name(report[f"site_{key}"]), room_in, measure)
         first = math.atan2(sign * ny_, sign * nx_)
         best = None
         for step in range(16):       # eight directions at 8 pt from the marker, then at 16 pt
             angle = first + (((step % 8) + 1) // 2) * (math.pi / 4) * (1 if step % 2 else -1)
             ox, oy = math.cos(angle), math.sin(angle)
             offset = 8.0 if step < 8 else 16.0
-            label = ax.annotate(f"{key.upper()} {name}", xy=(x, y), xytext=(offset * ox, offset * oy),
+            label = ax.annotate(text, xy=(x, y), xytext=(offset * ox, offset * oy),
                                 textcoords="offset points",
                                 ha="left" if ox > 0.38 else ("right" if ox < -0.38 else "center"),
                                 va="bottom" if oy > 0.38 else ("top" if oy < -0.38 else "center"),
-                                fontsize=6.8, fontweight="bold", zorder=8, parse_math=False,
+                                fontsize=size, fontweight="bold", zorder=8, parse_math=False, linespacing=1.1,
                                 path_effects=basemap.halo(2.6), gid=f"site-label-{key}")
             moved = basemap.keep_inside(label, ax, renderer)
             box = label.get_window_extent(renderer).transformed(ax.transAxes.inverted())
@@ -280,8 +276,19 @@ def _label_sites(ax, report: dict, lon, lat, ext, points, renderer, furniture=()
                 label.remove()
             if clash == 0.0 or (step == 7 and best[0] < 10.0):   # free, or no contact: look no further
                 break
+        audit.contain(best[1], ax, name="locator")
         boxes.append(best[2])
     return boxes
+
+
+def _locator_text(key: str, name: str, room_in: float, measure) -> tuple[str, float]:
+    """A site's map label and font size [pt]: ``"A  name"`` wrapped onto at most three lines of
+    ``room_in`` [in] at 6.8 pt down to 5 pt; just the letter when even that does not hold the whole
+    name (the name is in full in the sites table), never a cut name."""
+    laid = fit_text(end_label(key, name), room_in, measure, 6.8, max_lines=3, bold=True, linespacing=1.1)
+    if laid.fits:
+        return laid.text, laid.fontsize
+    return key.upper(), 6.8
 
 
 # --------------------------------------------------------------------------- results table

@@ -16,15 +16,21 @@ from .sheet import DASH, clean, num
 
 __all__ = ["radio_block", "bearing_lines", "exposure_line", "declination_text", "exposure_distance_text"]
 
+#: Column heads of the radio table, each with the unit of its cells ("SF12/125" is the spreading
+#: factor / the bandwidth in kHz).
 RADIO_HEADER = ["", "Tx [dBm]", "Gain [dBi]", "Feeder [dB]", "EIRP [dBm]", "Sens. [dBm]",
-                "Sensitivity source", "Margin (req.)", "Rate rx [kHz]"]
+                "Sensitivity source", "Margin (req.) [dB]", "Rx rate (SF/kHz)"]
 
 
 def declination_text(value) -> str:
-    """``+4.04° E`` / ``−3.10° W``: the declination, east positive; an em dash when unknown."""
+    """``4.04° E`` / ``3.10° W``: the declination's size and its hemisphere letter (no sign with the
+    letter); ``0.00°`` when it rounds to zero; an em dash when unknown."""
     if value is None:
         return DASH
-    return num(value, "+.2f", "\u00b0") + (" E" if value > 0 else (" W" if value < 0 else ""))
+    shown = f"{abs(float(value)):.2f}"
+    if float(shown) == 0.0:
+        return "0.00\u00b0"
+    return f"{shown}\u00b0 {'E' if value > 0 else 'W'}"
 
 
 def _rate(bud: dict, lora_dir: dict | None) -> str:
@@ -67,7 +73,7 @@ def radio_block(report: dict):
                      num(end.get("cable_loss_db"), ".2f"), eirp,
                      num(end.get('sensitivity_dbm'), '.1f'), _source(end, receives),
                      f"{num(receives.get('margin_db'), '+.1f')} (\u2265 "
-                     f"{num(receives.get('fade_margin_required_db'), '.1f')}) dB",
+                     f"{num(receives.get('fade_margin_required_db'), '.1f')})",
                      f"{_rate(receives, lora.get(direction))} {'up' if direction == 'uplink' else 'down'}"))
     return ("Radio", RADIO_HEADER, rows)
 

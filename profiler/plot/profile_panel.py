@@ -16,9 +16,11 @@ import numpy as np
 
 from ..bands import wavelength_m
 from ..geometry import fresnel_radius_m
+from .textfit import Measure, fit_text
+from . import audit
 from .sheet import MIDDOT, arr, k_text, km, num, round_sig, sheet_legend, site_name
 
-__all__ = ["draw_profile", "SHORT_EDGE", "SHORT_FACE", "SHORT_HATCH"]
+__all__ = ["draw_profile", "end_label", "SHORT_EDGE", "SHORT_FACE", "SHORT_HATCH"]
 
 # Greyscale-safe palette: every element also differs by line style, hatch or marker.
 TERRAIN_FACE = "#d2bf97"
@@ -41,8 +43,8 @@ def draw_profile(fig, ax, report: dict, width_in: float, height_in: float) -> No
     _draw_zones(ax, d)
     short_label = _draw_shortfall(ax, d)
     void_label = _draw_voids(ax, report, d)
-    _draw_masts(ax, report, d)
-    _draw_worst(ax, report, d)
+    note_box = _draw_worst(ax, report, d)
+    _draw_masts(ax, report, d, note_box)
     ax.set_xlabel("Distance from site A [km]", labelpad=2)
     ax.set_ylabel("Height above mean sea level [m]", labelpad=3)
     ax.tick_params(length=3, pad=2)
@@ -147,32 +149,67 @@ def _draw_voids(ax, report: dict, d):
     return f"Interpolated across a void ({n} stretch{'' if n == 1 else 'es'}, {total_km:.2f} km)"
 
 
-def _draw_masts(ax, report: dict, d) -> None:
-    """Masts to scale, tips marked, each end labelled in a box near the top."""
+def _draw_masts(ax, report: dict, d, note_box=None) -> None:
+    """Masts to scale, tips marked, each end labelled in a box near the top, clear of the worst-point
+    note (``note_box``, display units)."""
     ends = ((0.0, float(report["site_a"]["ground_m"]), d.tip_a),
             (d.length_km, float(report["site_b"]["ground_m"]), d.tip_b))
     for x, ground, tip in ends:
         ax.plot([x, x], [ground, tip], color=MAST, lw=3.0, solid_capstyle="butt", zorder=6)
         ax.plot([x], [tip], marker="o", ms=4.5, mfc="white", mec=MAST, mew=1.1, zorder=7)
         ax.plot([x], [ground], marker="_", ms=9, mec=MAST, mew=1.4, zorder=7)
-    label_kw = dict(textcoords="axes fraction", va="top", fontsize=7.2, zorder=9, annotation_clip=False,
+    label_kw = dict(textcoords="axes fraction", va="top", zorder=9, annotation_clip=False,
                     parse_math=False,
                     bbox=dict(boxstyle="round,pad=0.3", fc="white", ec="0.55", lw=0.5),
                     arrowprops=dict(arrowstyle="-", lw=0.6, color="0.35", ls=(0, (1.0, 1.5)), shrinkA=0, shrinkB=4))
+    room_in = _label_room_in(ax, note_box)
+    measure = Measure(ax.figure.canvas.get_renderer())
     for key, x, tip, ha, xt in (("a", 0.0, d.tip_a, "left", 0.006), ("b", d.length_km, d.tip_b, "right", 0.994)):
         site = report[f"site_{key}"]
-        name = site_name(site)
-        if len(name) > 38:
-            name = name[:37].rstrip() + "\u2026"
-        ax.annotate(f"{key.upper()}  {name}\nmast {num(site.get('mast_m'), '.1f', ' m')}  {MIDDOT}  antenna "
-                    f"{num(tip, '.1f', ' m AMSL')}", xy=(x, tip), xytext=(xt, 0.975), ha=ha, **label_kw)
+        mast = f"mast {num(site.get('mast_m'), '.1f', ' m')}  {MIDDOT}  antenna {num(tip, '.1f', ' m AMSL')}"
+        text, size = _end_text(key, site_name(site), mast, room_in, measure)
+        label = ax.annotate(text, xy=(x, tip), xytext=(xt, 0.975), ha=ha, fontsize=size, **label_kw)
+        audit.contain(label, ax, name="profile panel")
 
 
-def _draw_worst(ax, report: dict, d) -> None:
-    """Worst point: marker, clearance dimension line and a note."""
+def end_label(key: str, name: str) -> str:
+    """``"A  Cairnfell Beacon"``; just ``"A"`` when the site is named by its letter (no "A A")."""
+    letter = key.upper()
+    return letter if name.strip().upper() in ("", letter) else f"{letter}  {name}"
+
+
+def _label_room_in(ax, note_box) -> float:
+    """Width [in] each end label may take: up to the worst-point note (or 40 % of the panel), less the
+    labels' box padding."""
+    renderer = ax.figure.canvas.get_renderer()
+    panel = ax.get_window_extent(renderer)
+    room_px = 0.40 * panel.width
+    if note_box is not None:
+        room_px = min(room_px, note_box.x0 - panel.x0 - 0.006 * panel.width,
+                      panel.x1 - note_box.x1 - 0.006 * panel.width)
+    return room_px / renderer.dpi - 0.2
+
+
+def _end_text(key: str, name: str, mast: str, room_in: float, measure) -> tuple[str, float]:
+    """An end label: ``"A  name"`` (just ``"A"`` for a site named A) on at most two lines, then the mast
+    line, at 7.2 pt down to 5 pt; when the whole name does not fit that, the letter alone (the name is
+    in full in the title and the sites table), never a cut name."""
+    head = fit_text(end_label(key, name), room_in, measure, 7.2, max_lines=2)
+    if not head.fits:
+        head = fit_text(key.upper(), room_in, measure, 7.2, max_lines=1)
+    size = head.fontsize
+    tail = fit_text(mast, room_in, measure, size, max_lines=1)
+    size = min(size, tail.fontsize)
+    if size < head.fontsize:
+        head = fit_text(head.text.replace("\n", " "), room_in, measure, size, max_lines=2, min_fontsize=size)
+    return f"{head.text}\n{mast}", size
+
+
+def _draw_worst(ax, report: dict, d):
+    """Worst point: marker, clearance dimension line and a note; returns the note's box (display units)."""
     worst = report.get("worst") or {}
     if worst.get("distance_m") is None:
-        return
+        return None
     i = int(np.argmin(np.abs(d.x_km - worst["distance_m"] / 1000.0)))
     xw, yw = float(d.x_km[i]), float(d.surface[i])
     ax.annotate("", xy=(xw, float(d.los[i])), xytext=(xw, yw), zorder=7,
@@ -186,10 +223,15 @@ def _draw_worst(ax, report: dict, d) -> None:
             f"v = {num(worst.get('v'), '.2f')}  {MIDDOT}  knife-edge loss "
             f"{num(worst.get('knife_edge_loss_db'), '.1f', ' dB')}\n"
             f"terrain {num(worst.get('terrain_m'), '.1f', ' m AMSL')}")
-    ax.annotate(note, xy=(xw, yw), xytext=(min(max(frac, 0.40), 0.60), 0.975), textcoords="axes fraction",
-                ha="center", va="top", fontsize=7.2, zorder=9, parse_math=False,
-                bbox=dict(boxstyle="square,pad=0.4", fc="white", ec="black", lw=0.7),
-                arrowprops=dict(arrowstyle="-|>", lw=0.7, color="black", shrinkA=0, shrinkB=5, mutation_scale=8))
+    label = ax.annotate(note, xy=(xw, yw), xytext=(min(max(frac, 0.40), 0.60), 0.975), textcoords="axes fraction",
+                        ha="center", va="top", fontsize=7.2, zorder=9, parse_math=False,
+                        bbox=dict(boxstyle="square,pad=0.4", fc="white", ec="black", lw=0.7),
+                        arrowprops=dict(arrowstyle="-|>", lw=0.7, color="black", shrinkA=0, shrinkB=5,
+                                        mutation_scale=8))
+    audit.contain(label, ax, name="profile panel")
+    renderer = ax.figure.canvas.get_renderer()
+    pad_px = 0.4 * 7.2 / 72.0 * renderer.dpi
+    return label.get_window_extent(renderer).padded(pad_px)
 
 
 def _legend(ax, report: dict, d, short_label: str, void_label: str | None = None) -> None:

@@ -29,7 +29,6 @@ from __future__ import annotations
 import datetime
 import math
 import os
-import textwrap
 from fractions import Fraction
 from pathlib import Path
 
@@ -39,6 +38,10 @@ from .. import CAUTION, __version__
 from ..errors import ProfilerError
 from ..outputs import atomic_path
 from ..report import inert_text
+from . import audit
+from .tables import MAX_CELL_IN, RULE, SHADE, draw_table, draw_tables, table_layout  # noqa: F401  (re-exported)
+from .textfit import (MIN_FONT_PT, Fitted, LayoutOverflow, Measure, fit_text, text_height_in,  # noqa: F401
+                      wrap_chars, wrap_lines)
 
 #: Landscape paper sizes (width, height) [in]: ISO 216 A4 is 297 mm x 210 mm,
 #: ANSI letter is 11 in x 8.5 in.
@@ -52,11 +55,7 @@ EN = "\u2013"             # en dash in a link name
 MIDDOT = "\u00b7"
 ELLIPSIS = "\u2026"
 
-RULE = "0.35"             # table rules
-SHADE = "0.93"            # alternate table rows
 NODATA_HATCH = "////"     # no data (map outside the elevation model, empty panel)
-WRAP_LINE = 0.62          # each further line of a wrapped cell adds this fraction of a row height
-MAX_CELL_IN = 1.12        # widest table cell at 7 pt [in]; longer text is shortened with an ellipsis
 
 #: Title-block badge styles (``bbox`` keywords): heavier border as the news gets worse, so the
 #: badge reads in greyscale too.
@@ -283,8 +282,12 @@ def k_text(k) -> str:
 
 
 def abbreviate(name: str, max_chars: int) -> str:
-    """``name`` cut to at most ``max_chars`` characters, an ellipsis marking the cut."""
-    return name if len(name) <= max_chars else name[:max_chars - 1].rstrip() + ELLIPSIS
+    """``name`` whole, broken onto lines of at most ``max_chars`` characters (at spaces where it can).
+
+    Formerly cut with an ellipsis; a sheet never cuts a name, so a long name
+    now takes more lines (:func:`profiler.plot.textfit.wrap_chars`).
+    """
+    return wrap_chars(name, max_chars)
 
 
 def text_width_in(renderer, s: str, fontsize: float, bold: bool = False) -> float:
@@ -297,36 +300,31 @@ def text_width_in(renderer, s: str, fontsize: float, bold: bool = False) -> floa
     return renderer.get_text_width_height_descent(s, prop, ismath=False)[0] / renderer.dpi
 
 
-def wrap_text(s: str, max_width_in: float, renderer, fontsize: float, bold: bool = False) -> list[str]:
-    """``s`` broken at spaces into lines at most ``max_width_in`` wide (a word too long stays whole)."""
-    char_in = max(text_width_in(renderer, "n", fontsize, bold), 1e-3)
-    width = max(int(max_width_in / char_in), 4)
-    while True:
-        lines = textwrap.wrap(s, width=width, break_long_words=False, break_on_hyphens=False) or [""]
-        if width <= 4 or all(text_width_in(renderer, line, fontsize, bold) <= max_width_in for line in lines):
-            return lines
-        width -= 1
+def wrap_text(s: str, max_width_in: float, renderer, fontsize: float, bold: bool = False,
+              measure=None) -> list[str]:
+    """``s`` broken at spaces into lines at most ``max_width_in`` wide; a word wider than that is broken
+    between characters (never cut).  ``measure``: a :class:`~profiler.plot.textfit.Measure` to share."""
+    return wrap_lines(s, max_width_in, measure or Measure(renderer), fontsize, bold)
 
 
-def fit(text_artist, max_width_in: float, renderer) -> None:
-    """Shorten a Text artist with an ellipsis until it is at most ``max_width_in`` wide."""
-    full = text_artist.get_text()
-    dpi = text_artist.figure.dpi
+def fit(text_artist, max_width_in: float, renderer, *, max_lines: int = 1, max_height_in: float | None = None,
+        min_fontsize: float = MIN_FONT_PT, measure=None) -> bool:
+    """Fit a Text artist into ``max_width_in`` [in]: wrap at spaces (up to ``max_lines`` lines, or as
+    many as ``max_height_in`` [in] allows), then shrink its font down to ``min_fontsize`` (default 5 pt).
 
-    def width(s):
-        text_artist.set_text(s)
-        return text_artist.get_window_extent(renderer).width / dpi
-
-    if width(full) <= max_width_in:
-        return
-    lo, hi = 0, len(full)
-    while lo < hi:
-        mid = (lo + hi + 1) // 2
-        if width(full[:mid].rstrip() + ELLIPSIS) <= max_width_in:
-            lo = mid
-        else:
-            hi = mid - 1
-    text_artist.set_text(full[:lo].rstrip() + ELLIPSIS)
+    Never cuts.  Returns False when even the minimum does not fit (the
+    artist then holds the whole text at the minimum size, wider than asked)
+    so that the caller can move it elsewhere.
+    """
+    bold = text_artist.get_fontweight() in ("bold", "heavy", "black", 700, 800, 900)
+    if max_height_in is not None:
+        max_lines = None
+    laid = fit_text(text_artist.get_text(), max_width_in, measure or Measure(renderer), text_artist.get_fontsize(),
+                    min_fontsize=min_fontsize, max_lines=max_lines, max_height_in=max_height_in, bold=bold,
+                    linespacing=text_artist.get_linespacing())
+    text_artist.set_text(laid.text)
+    text_artist.set_fontsize(laid.fontsize)
+    return laid.fits
 
 
 def cell_text(ax, x, y, s, **kw):
@@ -341,172 +339,86 @@ def put_text(ax, x, y, s, **kw):
 
 
 # --------------------------------------------------------------------------- title block
+BADGE_PAD = 0.45          # badge box padding [fraction of its font size]
+
+
 def draw_title_block(ax, renderer, title: str, subtitle: str, badge: str, badge_style: dict,
-                     badge_label: str = "VERDICT", fit_title=None) -> None:
-    """Title (15 pt bold), subtitle and a boxed badge at the right, ruled underneath.
+                     badge_label: str = "VERDICT", fit_title=None) -> bool:
+    """Title (15 pt bold), subtitle and a boxed badge at the right, ruled underneath; nothing cut.
 
     Parameters
     ----------
     ax : matplotlib.axes.Axes
         An :func:`inch_axes` over the sheet's top band.
     title, subtitle, badge : str
-        The badge is the sheet's one-line verdict, fitted to 4.6 in.
+        The badge is the sheet's whole verdict: at most 4.6 in (and 45 % of
+        the band) wide, on one or two even lines, its font shrunk from 9.5 pt
+        down to :data:`~profiler.plot.textfit.MIN_FONT_PT` (5 pt) only when
+        two lines are not enough.  The title takes the width left of the
+        badge: wrapped at spaces (long words between characters) and shrunk
+        from 15 pt down to 5 pt to fit the height left above the subtitle
+        (one or two lines at 8.5 pt, shrunk down to 5 pt).
     badge_style : dict
         ``bbox`` keywords of the badge (``fc``, ``ec``, ``lw``).
     badge_label : str
         Small caps label above the badge.
     fit_title : callable, optional
-        ``fit_title(text_artist, room_in)`` shortens the title to ``room_in``
-        [in]; default :func:`fit` (one ellipsis at the end).
-    """
-    width, height = ax.get_xlim()[1], ax.get_ylim()[1]
-    box = put_text(ax, width - 0.08, height * 0.5, badge, ha="right", va="center", fontsize=9.5,
-                   fontweight="bold", bbox=dict(boxstyle="square,pad=0.45", **badge_style))
-    fit(box, 4.6, renderer)
-    badge_w = box.get_window_extent(renderer).width / ax.figure.dpi + 0.3
-    put_text(ax, width - 0.08, height * 0.5 + 0.23, badge_label, ha="right", va="bottom", fontsize=6.5,
-             color="0.3", fontweight="bold")
-    head = put_text(ax, 0.0, height - 0.02, title, ha="left", va="top", fontsize=15, fontweight="bold")
-    room = width - badge_w - 0.3
-    if head.get_window_extent(renderer).width / ax.figure.dpi > room:
-        (fit_title or (lambda artist, r: fit(artist, r, renderer)))(head, room)
-    sub = put_text(ax, 0.0, 0.04, subtitle, ha="left", va="bottom", fontsize=8.5, color="0.2")
-    fit(sub, width - badge_w - 0.3, renderer)
-    ax.plot([0.0, width], [-0.08, -0.08], color="0.15", lw=0.9, clip_on=False)
-
-
-# --------------------------------------------------------------------------- tables
-def draw_tables(ax, renderer, blocks, gap: float = 0.12, pad: float = 0.045, max_row_h: float = 0.215,
-                wrap_rows=(), max_fontsize: float = 7.0) -> float:
-    """Ruled tables side by side across ``ax`` (an :func:`inch_axes`); widths from their contents.
-
-    Parameters
-    ----------
-    blocks : list of (title, header or None, rows)
-        ``header`` is ``["", col1, col2, ...]`` for a table with column
-        heads; ``rows`` are tuples of cell strings.  A two-column table's
-        title spans both columns.  The font is the largest from 7 pt down to
-        6 pt at which the contents fit; cells still too wide are shortened
-        with an ellipsis, except in the rows named in ``wrap_rows``.
-    wrap_rows : iterable of str
-        Row labels (first cell) whose cells are wrapped onto two or more
-        lines instead of shortened (full site names).
-    max_fontsize : float
-        Largest font [pt].
+        ``fit_title(text_artist, room_in)``: the caller's own fitting of the
+        title to ``room_in`` [in] wide (default: wrap and shrink as above).
 
     Returns
     -------
-    float
-        Height drawn [in], from the top of ``ax`` to the lowest table's bottom rule.
+    bool
+        True when everything fits at 5 pt or more; False when some text
+        still overflows its room at 5 pt (the caller may raise or move on).
     """
     width, height = ax.get_xlim()[1], ax.get_ylim()[1]
-    tables = [([title] + (header[1:] if header is not None else [""]), rows) for title, header, rows in blocks]
-    usable = width - gap * (len(tables) - 1)
-    fontsize = max_fontsize
-    widths_in = {}       # (text, fontsize, bold) -> drawn width [in], measured once per call
-    natural = _natural_widths(tables, renderer, fontsize, pad, widths_in)
-    n_cols = sum(len(cols) for cols in natural)
-    total = sum(sum(cols) for cols in natural)
-    if total > usable:
-        fontsize = max(6.0, fontsize * (usable - 2 * pad * n_cols) / (total - 2 * pad * n_cols) - 0.05)
-        natural = _natural_widths(tables, renderer, fontsize, pad, widths_in)
-        total = sum(sum(cols) for cols in natural)
-    if total <= usable:
-        widths = [[w + (usable - total) / n_cols for w in cols] for cols in natural]
+    measure = Measure(renderer)
+    label_h = text_height_in(1, 6.5, 1.0)
+    badge_fit = _fit_badge(badge, width, height - label_h - 0.04, measure)
+    pad_in = BADGE_PAD * badge_fit.fontsize / 72.0
+    badge_w, badge_h = badge_fit.width_in + 2 * pad_in, badge_fit.height_in + 2 * pad_in
+    y0 = max(0.0, 0.5 * (height - badge_h - 0.04 - label_h))
+    box = put_text(ax, width - pad_in, y0 + pad_in, badge_fit.text, ha="right", va="bottom",
+                   fontsize=badge_fit.fontsize, fontweight="bold", linespacing=1.2, multialignment="center",
+                   bbox=dict(boxstyle=f"square,pad={BADGE_PAD}", **badge_style), gid="title-badge")
+    audit.contain(box, ax, (width - badge_w - 0.02, 0.0, width + 0.02, height), name="verdict badge")
+    label = put_text(ax, width - pad_in, y0 + badge_h + 0.04, badge_label, ha="right", va="bottom",
+                     fontsize=6.5, color="0.3", fontweight="bold")
+    audit.contain(label, ax, name="title band")
+    room = width - badge_w - 0.3
+    sub_fit = fit_text(subtitle, room, measure, 8.5, max_lines=2, max_height_in=0.26, linespacing=1.15)
+    sub = put_text(ax, 0.0, 0.04, sub_fit.text, ha="left", va="bottom", fontsize=sub_fit.fontsize, color="0.2",
+                   linespacing=1.15)
+    audit.contain(sub, ax, (0.0, 0.0, room, height), name="subtitle")
+    title_room_h = height - 0.02 - (0.04 + sub_fit.height_in + 0.05)
+    head = put_text(ax, 0.0, height - 0.02, title, ha="left", va="top", fontsize=15, fontweight="bold",
+                    linespacing=1.05)
+    if fit_title is not None:
+        fit_title(head, room)
+        title_ok = True
     else:
-        widths = [[w * usable / total for w in cols] for cols in natural]
-    wrap_rows = set(wrap_rows)
-
-    def extra_lines(rows, cols):     # further lines of the wrapped rows, in row heights
-        return sum(WRAP_LINE * (max(len(lines) for lines in _row_cells(renderer, row, cols, fontsize, pad, True)) - 1)
-                   for row in rows if row[0] in wrap_rows)
-
-    n_rows = max(len(rows) + extra_lines(rows, cols) for (_, rows), cols in zip(tables, widths)) + 1
-    row_h = min(max_row_h, (height - 0.02) / n_rows)
-    x, lowest = 0.0, height
-    for (head, rows), cols in zip(tables, widths):
-        lowest = min(lowest, draw_table(ax, renderer, x, height, cols, head, rows, fontsize, row_h, pad,
-                                        wrap_rows=wrap_rows, widths_in=widths_in))
-        x += sum(cols) + gap
-    return height - lowest
+        title_ok = fit(head, room, renderer, max_height_in=title_room_h, measure=measure)
+    audit.contain(head, ax, (0.0, 0.04 + sub_fit.height_in, room, height), name="title")
+    ax.plot([0.0, width], [-0.08, -0.08], color="0.15", lw=0.9, clip_on=False)
+    return bool(badge_fit.fits and sub_fit.fits and title_ok)
 
 
-def _measure(cache, renderer, s, fontsize, bold=False):
-    """:func:`text_width_in` through ``cache`` (a dict, or None for no cache)."""
-    if cache is None:
-        return text_width_in(renderer, s, fontsize, bold)
-    key = (s, fontsize, bold)
-    if key not in cache:
-        cache[key] = text_width_in(renderer, s, fontsize, bold)
-    return cache[key]
+def _fit_badge(badge: str, width: float, room_h: float, measure) -> Fitted:
+    """The badge on one line at 9.5 pt if it can, else two even lines, shrinking only when needed."""
+    max_w = min(4.6, 0.45 * width)
 
+    def room(fit_size):         # text height left inside the box at a font size
+        return room_h - 2 * BADGE_PAD * fit_size / 72.0
 
-def _natural_widths(tables, renderer, fontsize, pad, cache=None):
-    """Column widths [in] that hold each table's contents at ``fontsize`` (capped by MAX_CELL_IN)."""
-    natural = []
-    for head, rows in tables:
-        cols = []
-        for j in range(len(head)):
-            head_w = _measure(cache, renderer, head[j], fontsize, True) if (j > 0 or len(head) == 3) else 0.0
-            widest = max([_measure(cache, renderer, row[j], fontsize) for row in rows] + [head_w])
-            cols.append(min(widest, MAX_CELL_IN * fontsize / 7.0) + 2 * pad)   # long names get cut
-        if len(head) == 2:          # a two-column block's title spans both columns
-            cols[1] = max(cols[1], text_width_in(renderer, head[0], fontsize, True) + 2 * pad - cols[0])
-        natural.append(cols)
-    return natural
-
-
-def _row_cells(renderer, row, widths, fontsize, pad, wrap: bool):
-    """A row's cells as lists of lines: wrapped at spaces when ``wrap`` (never cut), else one line each."""
-    if not wrap:
-        return [[cell] for cell in row]
-    return [[cell] if j == 0 else wrap_text(cell, w - 2 * pad, renderer, fontsize) for j, (cell, w)
-            in enumerate(zip(row, widths))]
-
-
-def draw_table(ax, renderer, x0, y_top, widths, header, rows, fontsize, row_h, pad, wrap_rows=(),
-               widths_in=None) -> float:
-    """One ruled table: dark header row, shaded alternate rows; "NO..." cells in bold.
-
-    Rows whose label is in ``wrap_rows`` are as tall as their longest wrapped cell.  Returns the
-    y of the bottom rule [in].
-    """
-    from matplotlib.patches import Rectangle
-
-    total = sum(widths)
-    ax.add_patch(Rectangle((x0, y_top - row_h), total, row_h, fc="0.22", ec="none", zorder=1))
-    lefts = np.concatenate([[x0], x0 + np.cumsum(widths)[:-1]])
-    for j, (cell, left, w) in enumerate(zip(header, lefts, widths)):
-        if not cell:
-            continue
-        room = total - (left - x0) if (j == 0 and len(header) == 2 and not header[1]) else w
-        t = put_text(ax, left + pad, y_top - 0.5 * row_h, cell, ha="left", va="center", fontsize=fontsize,
-                     fontweight="bold", color="white", zorder=2)
-        fit(t, room - 2 * pad, renderer)
-    top = y_top - row_h
-    for i, row in enumerate(rows, start=1):
-        wrap = row[0] in wrap_rows
-        cells = _row_cells(renderer, row, widths, fontsize, pad, wrap)
-        n_lines = max(len(lines) for lines in cells)
-        h = row_h * (1.0 + WRAP_LINE * (n_lines - 1))
-        y = top - 0.5 * h
-        if i % 2 == 0:
-            ax.add_patch(Rectangle((x0, top - h), total, h, fc=SHADE, ec="none", zorder=0))
-        for j, (lines, left, w) in enumerate(zip(cells, lefts, widths)):
-            cell = "\n".join(lines)
-            strong = j > 0 and (cell.startswith("NO") or cell.startswith("NOT"))
-            t = cell_text(ax, left + pad, y, cell, ha="left", va="center", fontsize=fontsize, linespacing=1.0,
-                          color="0.25" if j == 0 else "black", fontweight="bold" if strong else "normal", zorder=2)
-            if not wrap and _measure(widths_in, renderer, cell, fontsize, strong) > w - 2 * pad:
-                fit(t, w - 2 * pad, renderer)
-        top -= h
-    bottom = top
-    ax.plot([x0, x0 + total], [bottom, bottom], color=RULE, lw=0.8)
-    if len(lefts) > 1:   # every column rule in one artist (fewer artists: faster drawing)
-        xs = np.repeat(lefts[1:], 3)
-        ys = np.tile([bottom, y_top - row_h, np.nan], len(lefts) - 1)
-        ax.plot(xs, ys, color="0.75", lw=0.4)
-    return bottom
+    size = 9.5
+    while True:
+        pad = 2 * BADGE_PAD * size / 72.0
+        laid = fit_text(badge, max_w - pad, measure, size, min_fontsize=size, max_lines=2,
+                        max_height_in=room(size), bold=True, balance=True)
+        if laid.fits or size <= MIN_FONT_PT + 1e-9:
+            return laid
+        size = max(MIN_FONT_PT, size - 0.5)
 
 
 # --------------------------------------------------------------------------- provenance footer
@@ -552,19 +464,50 @@ def resolution_text(resolution, crs) -> str:
     return f"{rx:.4g} \u00d7 {ry:.4g} pixels (CRS units)"
 
 
-def draw_footer(ax, renderer, report: dict, source_line: str, date_text: str | None = None) -> None:
-    """Provenance (elevation data; tool, schema, date, warnings) and the caution line, ruled above."""
+def draw_footer(ax, renderer, report: dict, source_line: str, date_text: str | None = None) -> bool:
+    """Provenance (elevation data; tool, schema, date, warnings) and the caution line, ruled above.
+
+    Each line wraps at spaces to the width of ``ax``; when they are together
+    too tall for ``ax`` all shrink (6.5 pt, the caution 7 pt bold) down to
+    :data:`~profiler.plot.textfit.MIN_FONT_PT` (5 pt).  Never cut.  Returns
+    False when even 5 pt does not fit the height of ``ax``.
+    """
     width, height = ax.get_xlim()[1], ax.get_ylim()[1]
     date_text = date_text or datetime.date.today().isoformat()
     ax.plot([0.0, width], [height, height], color="0.15", lw=0.9)
-    line1 = put_text(ax, 0.0, height - 0.05, source_line, ha="left", va="top", fontsize=6.5, color="0.15")
-    fit(line1, width, renderer)
     warnings = list(dict.fromkeys(clean(w) for w in (report.get("warnings") or [])))   # each once
     tool = (f"profiler {clean(report.get('tool_version') or __version__)}  {MIDDOT}  report "
             f"{clean(report.get('schema') or '')}  {MIDDOT}  drawn {clean(date_text)}")
     if warnings:
         tool += f"  {MIDDOT}  warnings: " + "; ".join(warnings)
-    line2 = put_text(ax, 0.0, height - 0.19, tool, ha="left", va="top", fontsize=6.5, color="0.15")
-    fit(line2, width, renderer)
-    line3 = put_text(ax, 0.0, height - 0.33, CAUTION, ha="left", va="top", fontsize=7.0, fontweight="bold")
-    fit(line3, width, renderer)
+    items = [(source_line, 6.5, False), (tool, 6.5, False), (CAUTION, 7.0, True)]
+    return draw_stacked(ax, renderer, items, top=height - 0.05, color="0.15", gap=0.045)
+
+
+def draw_stacked(ax, renderer, items, top: float, color: str = "0.1", gap: float = 0.0,
+                 linespacing: float = 1.25, min_fontsize: float = MIN_FONT_PT) -> bool:
+    """Lines of text from ``top`` [in] down ``ax``, each wrapped to the width of ``ax`` (never cut).
+
+    ``items`` are ``(text, fontsize, bold)``; when they do not fit above the
+    bottom of ``ax`` every size shrinks by the same steps down to
+    ``min_fontsize`` (5 pt).  Each text is marked for the layout audit.
+    Returns False when even the minimum does not fit.
+    """
+    width = ax.get_xlim()[1]
+    measure = Measure(renderer)
+    scale = 1.0
+    while True:
+        laid = [(fit_text(text, width, measure, max(min_fontsize, size * scale), min_fontsize=min_fontsize,
+                          bold=bold, linespacing=linespacing), bold) for text, size, bold in items if text]
+        used = sum(f.height_in for f, _ in laid) + gap * max(0, len(laid) - 1)
+        small = min((f.fontsize for f, _ in laid), default=min_fontsize)
+        if used <= top + 1e-9 or small <= min_fontsize + 1e-9:
+            break
+        scale -= 0.25 / max(size for _, size, _ in items)
+    y = top
+    for f, bold in laid:
+        t = put_text(ax, 0.0, y, f.text, ha="left", va="top", fontsize=f.fontsize, color=color if not bold else "black",
+                     fontweight="bold" if bold else "normal", linespacing=linespacing)
+        audit.contain(t, ax, name="notes")
+        y -= f.height_in + gap
+    return used <= top + 1e-9
