@@ -17,7 +17,7 @@ sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
 sys.path.insert(0, str(Path(__file__).resolve().parent))
 
 from _timing import best_of  # noqa: E402
-from profiler.diffraction import bullington, delta_bullington, knife_edge  # noqa: E402
+from profiler.propagation.diffraction import bullington, delta_bullington, knife_edge  # noqa: E402
 
 
 def synthetic_profile(samples, length_m=30_000.0, seed=7):

@@ -37,7 +37,7 @@ from affine import Affine  # noqa: E402
 from pyproj import Geod  # noqa: E402
 
 from _timing import best_of  # noqa: E402
-from profiler.dem import ElevationModel  # noqa: E402
+from profiler.terrain.elevation import ElevationModel  # noqa: E402
 
 TILE_SAMPLES = 3601
 ARCSEC_DEG = 1.0 / 3600.0
@@ -140,8 +140,8 @@ def main(argv=None):
     print(f"tile     : {tile} ({'generated' if made else 'cached'}, "
           f"{time.perf_counter() - t0:.2f} s, {tile.stat().st_size / 1e6:.1f} MB)")
 
-    from profiler import geometry
-    from profiler.path import geodesic_path
+    from profiler.propagation import geometry
+    from profiler.terrain.geodesic import geodesic_path
 
     geod = Geod(ellps="WGS84")
     lat_a, lon_a = 45.06, 7.12

@@ -14,23 +14,29 @@ The Python API mirrors the command line::
 or in one call: :func:`profiler.link`.
 """
 
-__version__ = "0.1.0"
+from ._deprecated import install as _install_deprecated
+from .about import CAUTION, __version__
 
-CAUTION = ("Planning aid only: verify on site; local codes, permits, RF-exposure rules "
-           "and licensed professionals prevail.")
+_install_deprecated()
 
 
 def __getattr__(name):
     # Lazy public API so that `import profiler` (and the CLI start-up) stays fast.
     if name in ("analyze_link", "LinkResult", "RadioSettings", "link", "network", "siting",
                 "coverage"):
-        from . import analysis, api
-        return getattr(api if name in ("link", "network", "siting", "coverage") else analysis, name)
+        if name in ("link", "network", "siting", "coverage"):
+            from . import api
+            return getattr(api, name)
+        if name == "RadioSettings":
+            from .engine.radio import RadioSettings
+            return RadioSettings
+        from .products import link as link_product
+        return getattr(link_product, name)
     if name in ("TerrainProfile", "profile_from_dem", "read_profile_csv"):
-        from . import terrain
-        return getattr(terrain, name)
+        from .terrain import profile
+        return getattr(profile, name)
     if name == "ElevationModel":
-        from .dem import ElevationModel
+        from .terrain.elevation import ElevationModel
         return ElevationModel
     if name == "ProfilerError":
         from .errors import ProfilerError

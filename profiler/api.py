@@ -2,12 +2,13 @@
 
 from __future__ import annotations
 
-from .analysis import LinkResult, RadioSettings, analyze_link
-from .bands import resolve_frequency_mhz
+from .products.link import LinkResult, analyze_link
+from .engine.radio import RadioSettings
+from .lora.bands import resolve_frequency_mhz
 from .errors import ProfilerError
 from .limits import check_name
-from .geometry import parse_k_factor
-from .terrain import profile_from_dem, read_profile_csv
+from .propagation.geometry import parse_k_factor
+from .terrain.profile import profile_from_dem, read_profile_csv
 
 
 def link(site_a=None, site_b=None, *, dem=None, profile_csv=None, mast_a_m: float = 10.0,
@@ -80,7 +81,7 @@ def load_profile(site_a=None, site_b=None, *, dem=None, profile_csv=None, step_m
         raise ProfilerError("no elevation data: give --dem FILE_OR_FOLDER or --profile FILE.csv")
     if site_a is None or site_b is None:
         raise ProfilerError("both --site-a and --site-b are needed with --dem (format LAT,LON)")
-    from .dem import ElevationModel
+    from .terrain.elevation import ElevationModel
 
     with ElevationModel.open(dem, digests=digests) as model:
         return profile_from_dem(model, site_a[0], site_a[1], site_b[0], site_b[1], step_m=step_m,
@@ -95,7 +96,7 @@ def network(sites, *, dem, **kwargs):
     Returns a :class:`~profiler.network_analysis.NetworkResult` whose
     ``to_dict()`` is the ``profiler.network/2`` JSON report.
     """
-    from .network_analysis import network as _network
+    from .products.network import network as _network
 
     return _network(sites, dem=dem, **kwargs)
 
@@ -117,8 +118,8 @@ def siting(sites, *, dem, redundancy: int = 1, min_margin_db: float | None = Non
         ``result.to_dict()`` is the ``profiler.siting/1`` JSON report;
         ``result.network`` the ``profiler.network/1`` report it was solved over.
     """
-    from .radio import RadioSettings
-    from .siting_report import SitingResult, siting_from_network
+    from .engine.radio import RadioSettings
+    from .products.siting.report import SitingResult, siting_from_network
 
     radio = kwargs.get("radio") or RadioSettings()
     net = network(sites, dem=dem, **kwargs).to_dict()
@@ -128,17 +129,55 @@ def siting(sites, *, dem, redundancy: int = 1, min_margin_db: float | None = Non
     return SitingResult(report, net)
 
 
-def coverage(site=None, *, dem, **kwargs):
-    """Coverage of a site within a radius: see :func:`profiler.coverage_map.coverage`.
+def coverage(site=None, *, dem, out=None, plot=None, kmz=None, json=None, paper="a4", dpi=200, **kwargs):
+    """Coverage of a site within a radius: see :func:`profiler.products.coverage.map.coverage`.
 
-    Returns a :class:`~profiler.coverage_map.CoverageResult` (``bands``: name
+    Returns a :class:`~profiler.products.coverage.map.CoverageResult` (``bands``: name
     -> float32 array, ``grid``, ``report`` = the ``profiler.coverage/2``
-    summary) and writes the files given by ``out``, ``plot``, ``kmz``, ``json``.
+    summary). ``out``, ``plot``, ``kmz``, ``json`` (str or Path, optional):
+    files to write (GeoTIFF, map sheet at ``paper`` and ``dpi``, KMZ, JSON
+    summary), all or nothing, checked before and written after the computation.
     """
-    from .coverage_map import coverage as _coverage
+    from .io.outputs import check_outputs, write_outputs
+    from .products.coverage.map import coverage as _coverage
 
     check_names(name=kwargs.get("name"))
-    return _coverage(site, dem=dem, **kwargs)
+    check_outputs(coverage_outputs(out, plot, kmz, json, paper=paper, dpi=dpi, dem_paths=dem))
+    result = _coverage(site, dem=dem, **kwargs)
+    write_outputs(coverage_outputs(out, plot, kmz, json, paper=paper, dpi=dpi, dem_paths=dem, result=result),
+                  result.report)
+    return result
+
+
+def coverage_outputs(out=None, plot=None, kmz=None, json=None, *, paper="a4", dpi=200, dem_paths=(), result=None,
+                     summary=False):
+    """The outputs of a coverage run for :func:`profiler.io.outputs.write_outputs` (the API and the command)."""
+    from .io.coverage import coverage_kmz_bytes, coverage_summary_text, write_geotiff
+    from .io.outputs import Output
+
+    def render_tif(report, path):
+        write_geotiff(result, path)
+
+    def render_json(report, path):
+        from .io.report import json_text
+        return json_text(report)
+
+    def render_kmz(report, path):
+        return coverage_kmz_bytes(result, report)
+
+    def render_plot(report, path):
+        from .plot import write_coverage_figure
+        write_coverage_figure(result, path, paper=paper, dpi=dpi, dem_paths=list(dem_paths or ()), report=report,
+                              date_text=(report.get("sheet") or {}).get("date"))
+
+    outputs = [Output("--out", out, render_tif, "raw", suffixes=(".tif", ".tiff"), stdout=False),
+               Output("--json", json, render_json, "json"),
+               Output("--kmz", kmz, render_kmz, "xml", suffixes=(".kmz",), stdout=False),
+               Output("--plot", plot, render_plot, "figure", suffixes=(".png", ".pdf", ".svg"), stdout=False)]
+    if summary:
+        outputs.append(Output("summary", None if str(json) == "-" else "-",
+                              lambda report, path: coverage_summary_text(report), "terminal"))
+    return outputs
 
 
 def check_names(**names) -> None:

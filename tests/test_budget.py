@@ -9,21 +9,12 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 from scipy import constants
 
-from profiler import budget
-from profiler.budget import (
-    LinkBudget,
-    free_space_loss_db,
-    link_budget,
-    lora_sensitivity_dbm,
-    lora_symbol_time_ms,
-    lora_table,
-    lora_time_on_air_ms,
-    lowest_closing_sf,
-    near_field_distance_m,
-    polarization_angle_deg,
-    polarization_mismatch_db,
-    uplinks_per_hour,
-)
+from profiler.lora import budget, modem as lora_modem
+from profiler.lora.budget import LinkBudget, link_budget
+from profiler.propagation.free_space import free_space_loss_db, near_field_distance_m
+from profiler.lora.modem import (lora_sensitivity_dbm, lora_symbol_time_ms, lora_table, lora_time_on_air_ms,
+                                 lowest_closing_sf, uplinks_per_hour)
+from profiler.propagation.polarization import polarization_angle_deg, polarization_mismatch_db
 from profiler.errors import ProfilerError
 
 
@@ -87,7 +78,7 @@ def test_thermal_noise_density_is_kT_at_290K():
     kt_dbm_per_hz = 10 * math.log10(constants.k * 290.0 * 1000.0)
     assert kt_dbm_per_hz == pytest.approx(-173.98, abs=0.005)
     # the module rounds it to -174 dBm/Hz: within 0.03 dB of kT0
-    assert budget.THERMAL_NOISE_DBM_PER_HZ == pytest.approx(kt_dbm_per_hz, abs=0.03)
+    assert lora_modem.THERMAL_NOISE_DBM_PER_HZ == pytest.approx(kt_dbm_per_hz, abs=0.03)
     # and the sensitivity formula uses it: with exact kT0 the result differs by < 0.03 dB
     exact = kt_dbm_per_hz + 10 * math.log10(125e3) + 6.0 - 20.0
     assert lora_sensitivity_dbm(12, 125, 6.0) == pytest.approx(exact, abs=0.03)

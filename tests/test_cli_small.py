@@ -223,7 +223,7 @@ def test_kml_labels_a_site_named_like_its_end_once(tmp_path):
 @pytest.mark.parametrize("path", ["", "   "])
 def test_python_writers_refuse_an_empty_path(tmp_path, monkeypatch, path):
     from profiler.errors import ProfilerError
-    from profiler.report import write_json
+    from profiler.io.report import write_json
 
     monkeypatch.chdir(tmp_path)
     with pytest.raises(ProfilerError, match="empty"):

@@ -13,7 +13,7 @@ import sys
 import numpy as np
 import pytest
 
-from profiler.cluster import chunked, run_chunks
+from profiler.engine.cluster import chunked, run_chunks
 from profiler.errors import ProfilerError
 
 WAVELENGTH_M = 299_792_458.0 / 868.1e6          # c / f, c exact by SI definition
@@ -64,7 +64,7 @@ def scheduler_address():
     distributed = pytest.importorskip("distributed")
     import logging
 
-    from profiler.cluster import _NO_DASHBOARD
+    from profiler.engine.cluster import _NO_DASHBOARD
 
     with distributed.LocalCluster(n_workers=2, threads_per_worker=1, host="127.0.0.1", dashboard_address=None,
                                   silence_logs=logging.ERROR, scheduler_kwargs=_NO_DASHBOARD) as cluster:

@@ -16,8 +16,9 @@ import pytest
 from click.testing import CliRunner
 from sample_sites import DEM, GATEWAY
 
-from profiler.coverage_map import (BANDS, COMPOSITE_BANDS, composite, coverage, line_of_sight_radials,
-                                   radial_count)
+from profiler.products.coverage.grid import BANDS, COMPOSITE_BANDS, composite
+from profiler.api import coverage  # the computation, and the files it is asked for
+from profiler.products.coverage.radials import line_of_sight_radials, radial_count
 
 RADIUS_KM = 3.0
 RES_M = 90.0
@@ -133,10 +134,11 @@ def test_values_equal_profiler_link_at_the_sample_and_near_it_at_the_pixel_centr
 
 
 def test_line_of_sight_against_exact_per_pixel_check(run):
-    from profiler import geometry
-    from profiler.bands import wavelength_m
-    from profiler.dem import ElevationModel
-    from profiler.engine import geometry_batch, sample_links
+    from profiler.propagation import geometry
+    from profiler.propagation.free_space import wavelength_m
+    from profiler.terrain.elevation import ElevationModel
+    from profiler.engine.geometry import geometry_batch
+    from profiler.terrain.sampling import sample_links
 
     los = run.bands["line_of_sight"]
     ok = np.isfinite(los)
@@ -253,7 +255,7 @@ def test_bad_input_one_line_exit_2_nothing_written(tmp_path, args, words):
 
 
 def test_nodata_outside_the_elevation_data():
-    from profiler.dem import ElevationModel
+    from profiler.terrain.elevation import ElevationModel
 
     r = coverage(GATEWAY, dem=DEM, mast_m=10.0, radius_km=6.0, resolution_m=150.0, progress=False)
     lon, lat = r.grid.lon_lat()
@@ -263,3 +265,13 @@ def test_nodata_outside_the_elevation_data():
     assert (~covered).sum() > 100
     assert np.isnan(margin[~covered]).all()
     assert any("no value" in w for w in r.report["warnings"])
+
+
+def test_the_coverage_computation_takes_no_file_to_write():
+    # computations return results; profiler.coverage (api) writes out/plot/kmz/json after computing
+    import inspect
+
+    from profiler.products.coverage.map import coverage as compute
+
+    assert not {"out", "plot", "kmz", "json", "paper", "dpi"} & set(inspect.signature(compute).parameters)
+    assert {"out", "plot", "kmz", "json"} <= set(inspect.signature(coverage).parameters)

@@ -15,7 +15,7 @@ import pytest
 from click.testing import CliRunner
 from sample_sites import DEM, GATEWAY
 
-from profiler.coverage_map import coverage
+from profiler.products.coverage.map import coverage
 from profiler.plot.audit import drawn_texts, layout_problems
 from profiler.plot.coverage import build_coverage_figure
 
@@ -135,7 +135,7 @@ def test_classes_translucent_over_the_hillshade(figures):
 
 
 def test_line_of_sight_edge_drawn_where_the_band_changes(runs, figures):
-    from profiler.coverage_io import _geographic_classes
+    from profiler.io.coverage import _geographic_classes
 
     result = runs[("single", "short")]
     ax = _axes(figures[("a4", "single", "short")], "coverage-map")
@@ -174,7 +174,7 @@ def test_gateways_and_candidates_apart(runs, figures):
     single = runs[("single", "short")].report["summary"]
     assert (single["gateways"], single["candidates"]) == (1, 0)
     assert single["covered_by_gateways"] == single["covered"]
-    from profiler.coverage_io import coverage_summary_text
+    from profiler.io.coverage import coverage_summary_text
 
     text = coverage_summary_text(report)
     assert "1 gateway and 1 candidate site" in text and "existing gateways alone" in text

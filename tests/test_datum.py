@@ -3,7 +3,7 @@
 import pyproj
 import pytest
 
-from profiler.datum import datum_text, vertical_datums
+from profiler.terrain.datum import datum_text, vertical_datums
 from profiler.errors import ProfilerError
 
 PREFIX = "Horizontal: WGS84; heights: metres above mean sea level as given by the elevation data; "

@@ -18,7 +18,8 @@ import rasterio.io
 from pyproj import Transformer
 from affine import Affine
 
-from profiler.dem import ElevationModel, fill_voids_along_profile
+from profiler.terrain.elevation import ElevationModel
+from profiler.terrain.voids import fill_voids_along_profile
 from profiler.errors import ProfilerError
 
 ARCSEC3_DEG = 3.0 / 3600.0

@@ -6,8 +6,8 @@ import rasterio
 from affine import Affine
 from geographiclib.geodesic import Geodesic
 
-from profiler.dem import ElevationModel
-from profiler.engine import sample_links
+from profiler.terrain.elevation import ElevationModel
+from profiler.terrain.sampling import sample_links
 
 
 @pytest.fixture(scope="module")

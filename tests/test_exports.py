@@ -14,13 +14,13 @@ import numpy as np
 import pytest
 from geographiclib.geodesic import Geodesic
 
-from profiler.analysis import analyze_link
+from profiler.products.link import analyze_link
 from profiler.api import link
 from profiler.errors import ProfilerError
-from profiler.exports import geojson_dict, split_at_antimeridian, write_geojson, write_kml
-from profiler.path import geodesic_path
-from profiler.report import csv_text, inert_text
-from profiler.terrain import TerrainProfile
+from profiler.io.exports import geojson_dict, split_at_antimeridian, write_geojson, write_kml
+from profiler.terrain.geodesic import geodesic_path
+from profiler.io.report import csv_text, inert_text
+from profiler.terrain.profile import TerrainProfile
 
 from sample_sites import EVIL_A, EVIL_B, GATEWAY, PUMP  # noqa: E402
 

@@ -6,8 +6,8 @@ import numpy as np
 import pytest
 from hypothesis import given, settings, strategies as st
 
-from profiler import geometry
-from profiler.bands import wavelength_m
+from profiler.propagation import geometry
+from profiler.propagation.free_space import wavelength_m
 from profiler.errors import ProfilerError
 
 

@@ -20,7 +20,7 @@ from rasterio.transform import from_origin
 from profiler import limits, textsafe
 from profiler.cli import main
 from profiler.errors import ProfilerError
-from profiler.outputs import Output, check_outputs, write_outputs
+from profiler.io.outputs import Output, check_outputs, write_outputs
 
 XML_FORBIDDEN = [chr(c) for c in range(0x20) if chr(c) not in "\t\n\r"] + ["\ufffe", "\uffff", "\ud800"]
 # W3C XML 1.0 (Fifth Edition) section 2.2, production [2] Char: these code points are not characters.
@@ -58,8 +58,9 @@ def test_every_numeric_option_of_every_command_has_a_range():
 
 
 def test_api_entry_points_use_the_same_ranges():
-    from profiler.analysis import RadioSettings, analyze_link
-    from profiler.terrain import TerrainProfile
+    from profiler.engine.radio import RadioSettings
+    from profiler.products.link import analyze_link
+    from profiler.terrain.profile import TerrainProfile
 
     prof = TerrainProfile(distance_m=np.array([0.0, 500.0, 1000.0]), terrain_m=np.zeros(3), kind="surveyed")
     with pytest.raises(ProfilerError, match="^--mast-a 1e"):
@@ -71,7 +72,7 @@ def test_api_entry_points_use_the_same_ranges():
 
 
 def test_sample_count_refused_before_any_allocation():
-    from profiler.path import geodesic_path
+    from profiler.terrain.geodesic import geodesic_path
 
     with mock.patch("pyproj.Geod.inv_intermediate") as allocate:
         with pytest.raises(ProfilerError, match=r"more than 500000 samples .* coarser --step-m \(at least"):
@@ -202,7 +203,7 @@ def global_dem(write_dem):
 
 
 def test_global_model_covers_poles_and_antimeridian(global_dem):
-    from profiler.dem import ElevationModel
+    from profiler.terrain.elevation import ElevationModel
 
     with ElevationModel.open([global_dem]) as model:
         lon = np.array([180.0, -180.0, 0.5, 0.5, 179.5])
@@ -256,7 +257,7 @@ def test_profiler_link_imports_no_other_command():
             "r = CliRunner().invoke(main, ['link', '--profile', 'examples/surveyed_profile.csv', '--json', '-']); "
             "assert r.exit_code == 0, r.output; "
             "print(' '.join(sorted(m for m in sys.modules if m.startswith(('profiler.cli.', 'matplotlib', "
-            "'numba', 'dask', 'profiler.network', 'profiler.coverage')))))")
+            "'numba', 'dask', 'profiler.products.network', 'profiler.products.coverage')))))")
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, timeout=120,
                          cwd=str(__import__("pathlib").Path(__file__).resolve().parents[1]))
     assert out.returncode == 0, out.stderr

@@ -93,7 +93,8 @@ def test_fit_text_wraps_then_shrinks_and_never_cuts():
 
 
 def test_draw_tables_reports_overflow_instead_of_cutting():
-    from profiler.plot.sheet import draw_tables, inch_axes, new_sheet, style
+    from profiler.plot.tables import draw_tables
+    from profiler.plot.sheet import inch_axes, new_sheet, style
     from profiler.plot.textfit import LayoutOverflow
 
     rows = [(f"Row {i}", NAME_200) for i in range(6)]
@@ -156,7 +157,7 @@ def sheets(link_reports):
 @pytest.mark.parametrize("names", sorted(NAMES))
 @pytest.mark.parametrize("case", ["los", "blocked"])
 def test_link_sheet_layout_is_clean(sheets, case, names, paper):
-    from profiler.report import verdict
+    from profiler.io.report import verdict
 
     report, _, problems, texts = sheets(case, names, paper)
     assert problems == [], "\n".join(str(p) for p in problems[:10])
@@ -238,7 +239,7 @@ def test_name_of_200_characters_accepted():
 def test_long_names_refused_by_every_entry_point(tmp_path):
     import profiler
     from profiler.errors import ProfilerError
-    from profiler.sites import sites_from_records
+    from profiler.products.sites import sites_from_records
 
     long = "y" * (MAX_NAME_CHARS + 1)
     with pytest.raises(ProfilerError, match="at most 200 characters"):

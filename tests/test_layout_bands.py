@@ -9,7 +9,7 @@ nothing outside its cell or the frame.
 import pytest
 
 from profiler import link
-from profiler.bands import BANDS
+from profiler.lora.bands import BANDS
 from profiler.plot.audit import layout_problems
 
 DEM = ["dem_samples"]

@@ -11,10 +11,10 @@ from click.testing import CliRunner
 from hypothesis import given, settings, strategies as st
 from rasterio.transform import from_origin
 
-from profiler.analysis import analyze_link
+from profiler.products.link import analyze_link
 from profiler.cli import main
-from profiler.dem import ElevationModel
-from profiler.terrain import TerrainProfile, profile_from_dem
+from profiler.terrain.elevation import ElevationModel
+from profiler.terrain.profile import TerrainProfile, profile_from_dem
 
 ROOT = Path(__file__).resolve().parents[1]
 SAMPLE = str(ROOT / "dem_samples")

@@ -5,7 +5,7 @@ import datetime as dt
 import numpy as np
 import pytest
 
-from profiler import magnetic
+from profiler.terrain import magnetic
 from profiler.errors import ProfilerError
 
 # Mid-latitude and low-latitude points well away from the magnetic poles (|lat| <= 65).

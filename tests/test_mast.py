@@ -13,10 +13,10 @@ from hypothesis import strategies as st
 from scipy import constants
 from scipy.optimize import linprog
 
-from profiler.analysis import RadioSettings
+from profiler.engine.radio import RadioSettings
 from profiler.cli import main
-from profiler.mast import solve_mast
-from profiler.terrain import TerrainProfile
+from profiler.products.mast.solve import solve_mast
+from profiler.terrain.profile import TerrainProfile
 
 F_MHZ = 868.0
 # lambda = c / f, c from scipy.constants (CODATA, exact SI value): ITU-R P.525-4 section 1.

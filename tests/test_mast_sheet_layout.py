@@ -25,7 +25,7 @@ import rasterio
 from click.testing import CliRunner
 
 from profiler.cli import main
-from profiler.mast_result import fixed, up_text
+from profiler.products.mast.result import fixed, up_text
 from profiler.plot.audit import layout_problems
 from profiler.plot.mast import build_mast_figure
 from profiler.plot.sheet import style

@@ -176,8 +176,8 @@ def test_sample_scenario_outputs(tmp_path):
 
 def test_dask_local_cluster_gives_identical_results(tmp_path):
     pytest.importorskip("distributed")
-    from profiler.network_analysis import network
-    from profiler.sites import read_sites_csv
+    from profiler.products.network import network
+    from profiler.products.sites import read_sites_csv
 
     table = read_sites_csv(random_sites(tmp_path, 10))
     local = network(table, dem=[SAMPLE], fill_voids=True, chunk_links=6).to_dict()
@@ -294,7 +294,7 @@ def test_api_refuses_a_gateway_at_end_b_naming_the_python_setting():
     """The commands no longer take --gateway; the API's refusal names the Python setting instead."""
     from profiler import network
     from profiler.errors import ProfilerError
-    from profiler.radio import RadioSettings
+    from profiler.engine.radio import RadioSettings
 
     with pytest.raises(ProfilerError, match=r"RadioSettings\(gateway=\.\.\.\) at 'a'") as err:
         network(str(EXAMPLE_SITES), dem=[SAMPLE], radio=RadioSettings(gateway="b"))

@@ -6,7 +6,7 @@ import pytest
 from geographiclib.geodesic import Geodesic
 
 from profiler.errors import ProfilerError
-from profiler.path import geodesic_path
+from profiler.terrain.geodesic import geodesic_path
 
 CASES = [
     # (lat_a, lon_a, lat_b, lon_b, step_m) -- arbitrary test sites, not real installations

@@ -16,7 +16,7 @@ import pytest
 from profiler.api import link
 from profiler.errors import ProfilerError
 from profiler.plot import build_link_figure, write_link_figure
-from profiler.report import inert_text, verdict
+from profiler.io.report import inert_text, verdict
 
 from sample_sites import DEM, EVIL_A, EVIL_B, GATEWAY, PUMP, SHEEPFOLD, TANK  # noqa: E402
 

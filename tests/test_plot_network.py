@@ -14,7 +14,7 @@ import xml.etree.ElementTree as ET
 import numpy as np
 import pytest
 
-from profiler import CAUTION
+from profiler.about import CAUTION
 from profiler.errors import ProfilerError
 from profiler.plot import build_network_figure, link_status, write_network_figure
 from profiler.plot.network import STATUS_STYLE

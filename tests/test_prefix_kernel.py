@@ -18,8 +18,9 @@ from sample_sites import DEM, GATEWAY
 
 pytest.importorskip("numba")
 
-from profiler.coverage_map import _settings, coverage, radial_fields  # noqa: E402
-from profiler.radio import RadioSettings  # noqa: E402
+from profiler.products.coverage.map import _settings, coverage
+from profiler.products.coverage.radials import radial_fields  # noqa: E402
+from profiler.engine.radio import RadioSettings  # noqa: E402
 
 TOL = 1e-9
 
@@ -54,8 +55,8 @@ def test_kernel_equals_numpy_engine_on_random_radials(band, method):
 
 def test_kernel_reductions_equal_numpy_reducer_on_each_prefix():
     """stim, srim, v and the obstacle maxima of every prefix, one numpy batch of one per prefix."""
-    from profiler import diffraction_engine as engine
-    from profiler import prefix_kernel
+    from profiler.propagation import diffraction_batch as engine
+    from profiler.propagation import prefix_kernel
 
     d, t, n = _random_radials(3)
     r = 5
@@ -81,7 +82,7 @@ def test_coverage_with_and_without_kernel_agree():
 
 
 def test_cache_key_follows_the_terms(monkeypatch):
-    from profiler import diffraction_engine, prefix_kernel
+    from profiler.propagation import diffraction_batch as diffraction_engine, prefix_kernel
 
     before = prefix_kernel._fingerprint()
     monkeypatch.setattr(diffraction_engine, "slope_term", lambda hc_m, h_end_m, distance_km: (hc_m + h_end_m) / distance_km)

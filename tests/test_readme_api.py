@@ -56,7 +56,7 @@ def resolve(name: str):
 
 def test_readme_shows_python_names():
     names = readme_names()
-    assert "profiler.setcover.solve_siting" in names and "profiler.siting_report.siting_from_network" in names
+    assert "profiler.products.siting.setcover.solve_siting" in names and "profiler.products.siting.report.siting_from_network" in names
     assert not any("/" in n for n in names)
 
 
@@ -68,7 +68,7 @@ def test_readme_python_name_exists(name):
 def test_resolve_refuses_a_missing_name():
     with pytest.raises(AttributeError):
         resolve("profiler.siting.solve_siting")       # the name README showed before issue 17
-    assert resolve("profiler.setcover.solve_siting").__name__ == "solve_siting"
+    assert resolve("profiler.products.siting.setcover.solve_siting").__name__ == "solve_siting"
 
 
 def readme_example(command: str) -> list[str]:

@@ -13,7 +13,8 @@ from pathlib import Path
 import pytest
 from click.testing import CliRunner
 
-from profiler import budget, lorawan, regional
+from profiler.lora import budget, lorawan, regional
+from profiler.lora import modem as lora_modem
 from profiler.cli import main
 
 SAMPLE = str(Path(__file__).resolve().parents[1] / "dem_samples")
@@ -263,4 +264,4 @@ def test_budget_lora_time_on_air_unchanged_by_dr_rules():
     rules = lorawan.dr_rules(regional.plan("EU868"), "uplink", 25, 12, None, 868.3)
     for i in range(rules["dr"].size):
         assert rules["time_on_air_ms"][i] == pytest.approx(
-            budget.lora_time_on_air_ms(int(rules["sf"][i]), rules["bw_khz"][i], 25))
+            lora_modem.lora_time_on_air_ms(int(rules["sf"][i]), rules["bw_khz"][i], 25))

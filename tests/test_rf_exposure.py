@@ -6,7 +6,7 @@ import math
 import numpy as np
 import pytest
 
-from profiler import rf_exposure
+from profiler.lora import rf_exposure
 from profiler.errors import ProfilerError
 
 GP, OCC = "general_public", "occupational"

@@ -5,7 +5,7 @@ import dataclasses
 import pytest
 
 from profiler.errors import ProfilerError
-from profiler.sheetinfo import SHEET_INFO_KEYS, SheetInfo, merge, read_sheet_info
+from profiler.io.sheetinfo import SHEET_INFO_KEYS, SheetInfo, merge, read_sheet_info
 
 LONG_NAME = "Vellmoor valley upper reservoir telemetry relay, north-east ridge mast no. 2 (temporary)"
 

@@ -8,8 +8,8 @@ import pytest
 from geographiclib.geodesic import Geodesic
 
 from profiler.errors import ProfilerError
-from profiler.sites import (SiteTable, candidate_pairs, pairs_from_names, read_pairs_csv, read_sites_csv,
-                            sites_from_records)
+from profiler.products.sites import (SiteTable, candidate_pairs, pairs_from_names, read_pairs_csv, read_sites_csv,
+                                     sites_from_records)
 
 from sample_sites import ROOT
 

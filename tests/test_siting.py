@@ -17,11 +17,11 @@ import json
 import numpy as np
 import pytest
 
-from profiler import CAUTION
+from profiler.about import CAUTION
 from profiler.errors import ProfilerError
-from profiler.setcover import greedy_siting, hearing_matrix, solve_siting
-from profiler.siting_report import (margin_matrix, site_costs, siting_csv_text, siting_from_network,
-                                    siting_geojson_dict, siting_geojson_text)
+from profiler.products.siting.setcover import greedy_siting, hearing_matrix, solve_siting
+from profiler.products.siting.report import (margin_matrix, site_costs, siting_csv_text, siting_from_network,
+                                             siting_geojson_dict, siting_geojson_text)
 
 
 # --------------------------------------------------------------------------- brute-force references

@@ -19,7 +19,7 @@ from matplotlib.text import Text
 from profiler.cli import main
 from profiler.plot import audit
 from profiler.plot.siting import build_siting_figure, served_links
-from profiler.siting_report import siting_from_network, siting_geojson_dict
+from profiler.products.siting.report import siting_from_network, siting_geojson_dict
 
 ROOT = Path(__file__).resolve().parents[1]
 DEM = [str(ROOT / "dem_samples")]

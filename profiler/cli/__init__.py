@@ -12,7 +12,7 @@ import sys
 
 import click
 
-from .. import __version__
+from ..about import __version__
 from ..errors import ProfilerError
 from ..textsafe import terminal_text
 

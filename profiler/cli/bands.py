@@ -6,12 +6,13 @@ import json
 
 import click
 
-from ..bands import BANDS, NEAR_FIELD_RULE_OF_THUMB_M, NEAR_FIELD_WAVELENGTHS, wavelength_m
-from ..budget import near_field_distance_m
+from ..lora.bands import BANDS
+from ..propagation.free_space import NEAR_FIELD_RULE_OF_THUMB_M, NEAR_FIELD_WAVELENGTHS, wavelength_m
+from ..propagation.free_space import near_field_distance_m
 
 
 def _summary_rows():
-    from ..regional import PLANS
+    from ..lora.regional import PLANS
 
     rows = []
     for b in BANDS.values():
@@ -77,7 +78,7 @@ def bands_command(name, as_json):
     apply.  Tables: LoRaWAN Regional Parameters RP002-1.0.4.
     """
     if name is not None:
-        from ..regional import plan, plan_dict
+        from ..lora.regional import plan, plan_dict
 
         d = plan_dict(plan(name))
         click.echo(json.dumps(d, indent=2) if as_json else _plan_text(d))

@@ -55,11 +55,11 @@ def coverage_command(dem_paths, site, mast_m, name, sites_csv, radius_km, resolu
     from . import collect_garbage
 
     collect_garbage()   # long runs and Dask: the collector on as usual
-    from ..coverage_io import coverage_outputs
-    from ..coverage_map import coverage
+    from ..api import coverage_outputs
+    from ..products.coverage.map import coverage
     from ..errors import ProfilerError
     from ..limits import quiet_numerics
-    from ..outputs import check_outputs, write_outputs
+    from ..io.outputs import check_outputs, write_outputs
 
     if all(p is None for p in (out_path, plot_path, kmz_path, json_path)):
         raise ProfilerError("nothing to write: give --out COVERAGE.tif, --plot MAP.png, --kmz OVERLAY.kmz "
@@ -69,7 +69,7 @@ def coverage_command(dem_paths, site, mast_m, name, sites_csv, radius_km, resolu
     sheet_info, date = sheet_settings(kw)
     radio = radio_settings(kw)
     check_outputs(coverage_outputs(out_path, plot_path, kmz_path, json_path, paper=paper, dpi=dpi))
-    from ..coverage_map import keep_freed_memory
+    from ..products.coverage.radials import keep_freed_memory
 
     keep_freed_memory()   # the command owns its process: keep freed temporaries in the heap (see the docstring)
     with quiet_numerics():

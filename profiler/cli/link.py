@@ -42,13 +42,13 @@ def link_command(site_a, site_b, name_a, name_b, mast_a_m, mast_b_m, dem_paths, 
       profiler link --dem dem_samples --site-a -30.0,-19.845 --site-b -29.9125,-19.955 \\
           --gateway b --mast-b 10 --mast-a 2 --csv profile.csv
     """
-    from ..provenance import FileDigests
+    from ..terrain.digests import FileDigests
 
     digests = FileDigests()
     digests.start(dem_paths)   # hash the given files while the numerical libraries load
     from ..api import link
     from ..limits import quiet_numerics, require_finite
-    from ..outputs import check_outputs, write_outputs
+    from ..io.outputs import check_outputs, write_outputs
 
     outputs = link_outputs(json_path, csv_path, geojson_path, kml_path, plot_path, paper, dpi, list(dem_paths),
                            report_path=report_path, record=run_record())
@@ -80,7 +80,7 @@ def link_outputs(json_path, csv_path, geojson_path, kml_path, plot_path, paper="
     ``report_path`` is the ``--report`` PDF; ``record`` the run record for
     its record page (:func:`profiler.cli.options.run_record`).
     """
-    from ..outputs import Output, summary_output, text_of
+    from ..io.outputs import Output, summary_output, text_of
 
     def render_plot(report, path):
         from ..plot import write_link_figure
@@ -97,11 +97,11 @@ def link_outputs(json_path, csv_path, geojson_path, kml_path, plot_path, paper="
                           record=safe_strings(record, "figure"))
 
     return [
-        Output("--json", json_path, text_of("report", "json_text"), "json"),
-        Output("--csv", csv_path, text_of("report", "csv_text"), "csv"),
-        Output("--geojson", geojson_path, text_of("exports", "geojson_text"), "json"),
-        Output("--kml", kml_path, text_of("exports", "kml_text"), "xml"),
+        Output("--json", json_path, text_of("io.report", "json_text"), "json"),
+        Output("--csv", csv_path, text_of("io.report", "csv_text"), "csv"),
+        Output("--geojson", geojson_path, text_of("io.exports", "geojson_text"), "json"),
+        Output("--kml", kml_path, text_of("io.exports", "kml_text"), "xml"),
         Output("--plot", plot_path, render_plot, "figure", suffixes=(".png", ".pdf", ".svg"), stdout=False),
         Output("--report", report_path, render_report, "figure", suffixes=(".pdf",), stdout=False),
-        summary_output(text_of("report", "summary_text"), json_path, csv_path, geojson_path, kml_path),
+        summary_output(text_of("io.report", "summary_text"), json_path, csv_path, geojson_path, kml_path),
     ]

@@ -60,10 +60,10 @@ def mast_command(site_a, site_b, name_a, name_b, mast_a_m, mast_b_m, dem_paths, 
       profiler mast --dem dem_samples --site-a -29.9125,-19.955 --site-b -30.0,-19.845 --max-mast-m 15
       profiler mast --dem dem_samples --site-a -29.9125,-19.955 --site-b -29.9,-19.825 --solve both
     """
-    from ..bands import resolve_frequency_mhz
+    from ..lora.bands import resolve_frequency_mhz
     from ..limits import quiet_numerics, require_finite
-    from ..mast import solve_mast
-    from ..outputs import check_outputs, write_outputs
+    from ..products.mast.solve import solve_mast
+    from ..io.outputs import check_outputs, write_outputs
 
     outputs = mast_outputs(json_path, plot_path, paper, dpi, report_path=report_path, record=run_record())
     check_outputs(outputs)  # refuse bad outputs before any computation
@@ -102,14 +102,14 @@ def with_sheet(result, profile, sheet_info, date):
     """The mast result with its ``sheet`` block (title-block fields, date)."""
     import dataclasses
 
-    from ..analysis import sheet_block
+    from ..products.link import sheet_block
 
     return dataclasses.replace(result, sheet=sheet_block(sheet_info, date))
 
 
 def mast_outputs(json_path, plot_path, paper="a4", dpi=200, *, report_path=None, record=None):
     """The outputs of ``profiler mast`` for :func:`profiler.outputs.write_outputs` (``--report``: the PDF)."""
-    from ..outputs import Output, summary_output, text_of
+    from ..io.outputs import Output, summary_output, text_of
 
     def render_plot(report, path):
         from ..plot import write_mast_figure
@@ -124,7 +124,7 @@ def mast_outputs(json_path, plot_path, paper="a4", dpi=200, *, report_path=None,
         write_mast_report(report, path, paper=paper, dpi=dpi, record=safe_strings(record, "figure"))
 
     return [
-        Output("--json", json_path, text_of("report", "json_text"), "json"),
+        Output("--json", json_path, text_of("io.report", "json_text"), "json"),
         Output("--plot", plot_path, render_plot, "figure", suffixes=(".png", ".pdf", ".svg"), stdout=False),
         Output("--report", report_path, render_report, "figure", suffixes=(".pdf",), stdout=False),
         summary_output(lambda report, path: mast_summary_text(report), json_path),
@@ -140,8 +140,8 @@ def _criterion_text(c) -> str:
 
 def mast_summary_text(report: dict) -> str:
     """Short human summary of the mast report: heights, why, and what each extra metre buys."""
-    from .. import CAUTION
-    from ..mast_result import fixed, up_text as _up
+    from ..about import CAUTION
+    from ..products.mast.result import fixed, up_text as _up
 
     a, b = report["site_a"], report["site_b"]
     solve = report["solve"]

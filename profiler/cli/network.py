@@ -46,7 +46,7 @@ def network_command(json_path, csv_path, geojson_path, kml_path, plot_path, pape
     collect_garbage()   # long runs and Dask: the collector on as usual
     from ..api import network
     from ..limits import quiet_numerics
-    from ..outputs import check_outputs, write_outputs
+    from ..io.outputs import check_outputs, write_outputs
 
     sheet_info, date = sheet_settings(kw)
     call = network_call_kwargs(kw)
@@ -64,7 +64,7 @@ def network_outputs(json_path, csv_path, geojson_path, kml_path, plot_path, pape
     """The outputs of ``profiler network`` for :func:`profiler.outputs.write_outputs` (summary on stdout
     unless another output goes there); ``sheet`` holds the title-block fields and date of the map,
     ``links`` the links it draws (``best`` or ``all``)."""
-    from ..outputs import Output, summary_output, text_of
+    from ..io.outputs import Output, summary_output, text_of
 
     def render_plot(report, path):
         from ..plot import write_network_figure
@@ -74,10 +74,10 @@ def network_outputs(json_path, csv_path, geojson_path, kml_path, plot_path, pape
                              sheet=safe_strings(sheet, "figure") if sheet else None, links=links)
 
     return [
-        Output("--json", json_path, text_of("report", "json_text"), "json"),
-        Output("--csv", csv_path, text_of("exports_network", "network_csv_text"), "csv"),
-        Output("--geojson", geojson_path, text_of("exports_network", "network_geojson_text"), "json"),
-        Output("--kml", kml_path, text_of("exports_network", "network_kml_text"), "xml"),
+        Output("--json", json_path, text_of("io.report", "json_text"), "json"),
+        Output("--csv", csv_path, text_of("io.network_exports", "network_csv_text"), "csv"),
+        Output("--geojson", geojson_path, text_of("io.network_exports", "network_geojson_text"), "json"),
+        Output("--kml", kml_path, text_of("io.network_exports", "network_kml_text"), "xml"),
         Output("--plot", plot_path, render_plot, "figure", suffixes=(".png", ".pdf", ".svg"), stdout=False),
         summary_output(lambda report, path: network_summary_text(report), json_path, csv_path, geojson_path,
                        kml_path),
@@ -87,7 +87,7 @@ def network_outputs(json_path, csv_path, geojson_path, kml_path, plot_path, pape
 def network_summary_text(report: dict) -> str:
     """Short human summary: counts (existing gateways and candidate sites apart), then one line per node
     (best gateway, margin, data rate; with candidate sites, the candidates heard, the best and its margin)."""
-    from .. import CAUTION
+    from ..about import CAUTION
 
     s = report["summary"]
     cand = s["candidates"] > 0

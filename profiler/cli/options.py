@@ -6,7 +6,7 @@ import math
 
 import click
 
-from ..radio import DIFFRACTION_METHODS
+from ..engine.radio import DIFFRACTION_METHODS
 from ..errors import ProfilerError
 
 
@@ -28,7 +28,7 @@ class LatLon(click.ParamType):
         if not (math.isfinite(lat) and math.isfinite(lon)):
             self.fail(f"{value!r}: coordinates must be finite numbers", param, ctx)
         if not -90.0 <= lat <= 90.0:
-            from ..path import swapped_hint
+            from ..terrain.geodesic import swapped_hint
 
             self.fail(f"latitude {lat:g} is out of range -90..90 (the format is LAT,LON)"
                       f"{swapped_hint(lat, lon)}", param, ctx)
@@ -101,7 +101,7 @@ class KFactor(click.ParamType):
     name = "K"
 
     def convert(self, value, param, ctx):
-        from ..geometry import parse_k_factor
+        from ..propagation.geometry import parse_k_factor
 
         try:
             return _checked(_limit_name(param) or "--k", parse_k_factor(value), ctx)
@@ -251,7 +251,7 @@ def radio_settings(kw):
 
     Without ``--gateway`` (the batch commands) the gateway is end A.
     """
-    from ..radio import RadioSettings
+    from ..engine.radio import RadioSettings
 
     kw.setdefault("gateway", "a")
     names = ("gateway", "tx_power_dbm", "tx_power_a_dbm", "tx_power_b_dbm", "cap_eirp", "gain_a_dbi", "gain_b_dbi",
@@ -371,7 +371,7 @@ def sheet_settings(kw):
     """``(SheetInfo, date)`` from the parsed :func:`sheet_options` (popping them from ``kw``)."""
     import datetime
 
-    from ..sheetinfo import merge, read_sheet_info
+    from ..io.sheetinfo import merge, read_sheet_info
 
     path = kw.pop("sheet_info_path")
     info = read_sheet_info(path) if path is not None else None

@@ -46,7 +46,7 @@ def siting_command(redundancy, min_margin_db, max_gateways, time_limit_s, json_p
     collect_garbage()   # long runs and Dask: the collector on as usual
     from ..api import siting
     from ..limits import quiet_numerics
-    from ..outputs import check_outputs, write_outputs
+    from ..io.outputs import check_outputs, write_outputs
 
     sheet_info, date = sheet_settings(kw)
     call = network_call_kwargs(kw)
@@ -66,14 +66,14 @@ def siting_outputs(json_path, csv_path, geojson_path, plot_path, paper="a4", dpi
 
     ``sheet`` holds the title-block fields and the date of the siting sheet (``--plot``).
     """
-    from ..outputs import Output, summary_output, text_of
+    from ..io.outputs import Output, summary_output, text_of
 
     def of_siting(render):
         return lambda both, path: render(both["siting"], path)
 
     def of_both(function):
         def render(both, path):
-            from .. import siting_report
+            from ..products.siting import report as siting_report
             return getattr(siting_report, function)(both["siting"], both["network"])
         return render
 
@@ -85,8 +85,8 @@ def siting_outputs(json_path, csv_path, geojson_path, plot_path, paper="a4", dpi
                             sheet=safe_strings(sheet, "figure") if sheet else None)
 
     return [
-        Output("--json", json_path, of_siting(text_of("report", "json_text")), "json"),
-        Output("--csv", csv_path, of_siting(text_of("siting_report", "siting_csv_text")), "csv"),
+        Output("--json", json_path, of_siting(text_of("io.report", "json_text")), "json"),
+        Output("--csv", csv_path, of_siting(text_of("products.siting.report", "siting_csv_text")), "csv"),
         Output("--geojson", geojson_path, of_both("siting_geojson_text"), "json"),
         Output("--kml", kml_path, of_both("siting_kml_text"), "xml"),
         Output("--plot", plot_path, render_plot, "figure", suffixes=(".png", ".pdf", ".svg"), stdout=False),
@@ -97,7 +97,7 @@ def siting_outputs(json_path, csv_path, geojson_path, plot_path, paper="a4", dpi
 
 def siting_summary_text(report: dict) -> str:
     """Short human summary: the chosen sites, the proof, greedy for comparison, the unreachable nodes."""
-    from .. import CAUTION
+    from ..about import CAUTION
 
     s = report.get("summary", {})
     proven = "proven optimal" if report.get("proven_optimal") else f"not proven optimal (gap {report.get('gap')})"

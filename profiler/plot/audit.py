@@ -144,7 +144,7 @@ def layout_problems(fig, *, allow_overlap=()) -> list[LayoutProblem]:
     -------
     list of LayoutProblem
     """
-    from .sheet import style
+    from .style import style
 
     with style():       # measured as written: the sheets' fonts and (unhinted) glyphs
         return _problems(fig, tuple(allow_overlap))

@@ -130,7 +130,7 @@ def hillshade(ax, dem_paths, ext: MapExtent, pixels: int = 250) -> str:
     """
     from matplotlib.colors import LightSource, LinearSegmentedColormap, Normalize
 
-    from ..dem import ElevationModel
+    from ..terrain.elevation import ElevationModel
 
     west, east, south, north = ext.west, ext.east, ext.south, ext.north
     aspect = ext.box_aspect

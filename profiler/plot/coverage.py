@@ -28,9 +28,9 @@ import numpy as np
 
 from . import basemap
 from .audit import contain
-from .sheet import (BADGE_BAD, BADGE_GOOD, BADGE_WARN, MIDDOT, clean, draw_tables, draw_title_block, fraction,
-                    inch_axes, k_text, new_sheet, num, put_text, sheet_legend, source_text, style, text_width_in,
-                    wrap_text, write_sheet)
+from .sheet import (BADGE_BAD, BADGE_GOOD, BADGE_WARN, MIDDOT, clean, draw_title_block, fraction, inch_axes, k_text,
+                    new_sheet, num, put_text, sheet_legend, source_text, style, text_width_in, wrap_text, write_sheet)
+from .tables import draw_tables
 from .titleblock import draw_notes, draw_title_box, provenance_lines, title_block_rows
 
 __all__ = ["build_coverage_figure", "write_coverage_figure", "site_rows", "MIN_TABLE_PT"]
@@ -77,7 +77,7 @@ def _sites(report) -> list:
 
 
 def _title(report) -> str:
-    from ..coverage_io import site_count_text
+    from ..io.coverage import site_count_text
 
     names = [clean(s["name"]) for s in _sites(report)]
     return names[0] if len(names) == 1 else site_count_text(report["summary"])
@@ -122,7 +122,7 @@ def build_coverage_figure(result, report=None, paper: str = "a4", dem_paths=None
 
 
 def _draw_header(ax, report, renderer) -> None:
-    from ..coverage_io import site_count_text
+    from ..io.coverage import site_count_text
 
     st, s = report["settings"], report["summary"]
     share = s["covered"]["share"] or 0.0
@@ -142,7 +142,7 @@ def _draw_header(ax, report, renderer) -> None:
 
 # --------------------------------------------------------------------------- map
 def _draw_map(ax, result, report, dem_paths, renderer) -> None:
-    from ..coverage_io import _geographic_classes, class_rgba
+    from ..io.coverage import _geographic_classes, class_rgba
 
     sites = _sites(report)
     radius = report["settings"]["radius_km"] * 1000.0
@@ -195,7 +195,7 @@ def _draw_map(ax, result, report, dem_paths, renderer) -> None:
 
 def _draw_los_edge(ax, result) -> None:
     """The edge of the line-of-sight area: the 0.5 contour of the ``line_of_sight`` band (gid ``line-of-sight-edge``)."""
-    from ..coverage_io import _geographic_classes
+    from ..io.coverage import _geographic_classes
 
     los, (west, east, south, north) = _geographic_classes(result, max_pixels=900, band="line_of_sight")
     ny, nx = los.shape
@@ -255,7 +255,7 @@ def _draw_legend(ax, result, report, roles) -> None:
     from matplotlib.lines import Line2D
     from matplotlib.patches import Patch
 
-    from ..coverage_io import CLASS_ALPHA, CLASS_COLOURS, class_labels
+    from ..io.coverage import CLASS_ALPHA, CLASS_COLOURS, class_labels
 
     st = report["settings"]
     labels = class_labels(result.bands, st["fade_margin_db"])
@@ -334,7 +334,7 @@ def draw_site_table(ax, renderer, sites, max_height_in: float, fontsize: float =
     """
     from matplotlib.patches import Rectangle
 
-    from ..coverage_io import site_count_text
+    from ..io.coverage import site_count_text
 
     width, top = ax.get_xlim()[1], ax.get_ylim()[1]
     all_rows = site_rows(sites)

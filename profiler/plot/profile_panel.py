@@ -14,8 +14,8 @@ from types import SimpleNamespace
 
 import numpy as np
 
-from ..bands import wavelength_m
-from ..geometry import fresnel_radius_m
+from ..propagation.free_space import wavelength_m
+from ..propagation.geometry import fresnel_radius_m
 from .textfit import Measure, fit_text
 from . import audit
 from .sheet import MIDDOT, arr, k_text, km, num, round_sig, sheet_legend, site_name

@@ -22,7 +22,7 @@ from __future__ import annotations
 import platform
 import shlex
 
-from .. import CAUTION, __version__
+from ..about import CAUTION, __version__
 from ..errors import ProfilerError
 from ..textsafe import figure_text
 from .report_layout import Measure, Table, draw_placed, paginate

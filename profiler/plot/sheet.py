@@ -34,14 +34,13 @@ from pathlib import Path
 
 import numpy as np
 
-from .. import CAUTION, __version__
+from ..about import CAUTION, __version__
 from ..errors import ProfilerError
-from ..outputs import atomic_path
-from ..report import inert_text
+from ..io.outputs import atomic_path
+from ..io.report import inert_text
 from . import audit
-from .tables import MAX_CELL_IN, RULE, SHADE, draw_table, draw_tables, table_layout  # noqa: F401  (re-exported)
-from .textfit import (MIN_FONT_PT, Fitted, LayoutOverflow, Measure, fit_text, text_height_in,  # noqa: F401
-                      wrap_chars, wrap_lines)
+from .style import style
+from .textfit import MIN_FONT_PT, Fitted, Measure, fit_text, text_height_in, wrap_chars, wrap_lines
 
 #: Landscape paper sizes (width, height) [in]: ISO 216 A4 is 297 mm x 210 mm,
 #: ANSI letter is 11 in x 8.5 in.
@@ -144,33 +143,6 @@ def metadata(title: str, report: dict, fmt: str) -> dict:
 
 
 # --------------------------------------------------------------------------- style and layout
-def style():
-    """Style context: matplotlib defaults plus the sheets' fonts and sizes.
-
-    ``svg.fonttype = 'none'`` keeps SVG text as ``<text>`` elements and
-    ``pdf.fonttype = 42`` embeds TrueType fonts so PDF text stays searchable.
-    """
-    import contextlib
-
-    import matplotlib
-    import matplotlib.style
-
-    stack = contextlib.ExitStack()
-    stack.enter_context(matplotlib.style.context("default"))
-    stack.enter_context(matplotlib.rc_context({
-        "font.family": "sans-serif", "font.sans-serif": ["DejaVu Sans"], "font.size": 7.5,
-        "text.usetex": False, "svg.fonttype": "none", "svg.hashsalt": "profiler",
-        "pdf.fonttype": 42, "ps.fonttype": 42, "axes.linewidth": 0.7, "axes.labelsize": 8,
-        "xtick.labelsize": 7, "ytick.labelsize": 7, "xtick.major.width": 0.6, "ytick.major.width": 0.6,
-        "hatch.linewidth": 0.6, "legend.fontsize": 7, "figure.facecolor": "white",
-        "savefig.facecolor": "white", "axes.unicode_minus": True,
-        # Unhinted glyphs: text widths scale with the resolution (within 0.1 %), so a sheet laid out at
-        # one dpi fits at any other and in PDF/SVG (hinting made them differ by up to 3 %).
-        "text.hinting": "no_hinting", "image.interpolation": "antialiased",
-    }))
-    return stack
-
-
 def new_sheet(paper: str, dpi: float = 100.0):
     """A framed landscape sheet: ``(fig, renderer, width_in, height_in)``; call inside :func:`style`.
 

@@ -14,7 +14,7 @@ from __future__ import annotations
 
 import datetime
 
-from .. import CAUTION, __version__
+from ..about import CAUTION, __version__
 from ..errors import ProfilerError
 from . import audit
 from .sheet import MIDDOT, clean, draw_stacked, put_text
@@ -153,7 +153,7 @@ def provenance_lines(report: dict, source_line: str, extra=()) -> list[str]:
 
 def datum_line(report: dict) -> str:
     """The datum statement (:func:`profiler.datum.datum_text`) for the report's elevation files."""
-    from ..datum import datum_text
+    from ..terrain.datum import datum_text
 
     sources = (report.get("dem") or {}).get("sources") or []
     try:

@@ -1,0 +1,154 @@
+"""The output grid of a coverage run and the pixel -> radial-sample lookup.
+
+References
+----------
+.. [2] J. P. Snyder, "Map Projections: A Working Manual", USGS PP 1395
+   (1987), ch. 25 (azimuthal equidistant projection: true distance and
+   azimuth from the centre).
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from ...errors import ProfilerError
+
+BANDS = ("terrain_m", "worst_fresnel_ratio", "path_loss_db", "rx_level_dbm", "margin_db", "downlink_margin_db",
+         "recommended_dr", "line_of_sight")
+COMPOSITE_BANDS = BANDS + ("best_gateway", "gateways_heard")
+MAX_PIXELS = 40_000_000
+"""Largest grid accepted (pixels)."""
+
+
+@dataclass(frozen=True)
+class Gateway:
+    """One site of a coverage run (picklable)."""
+
+    name: str
+    lat_deg: float
+    lon_deg: float
+    mast_m: float
+    overrides: dict = field(default_factory=dict)
+    role: str = "gateway"
+    """``gateway`` (an existing gateway) or ``candidate`` (a possible site, from ``--sites``)."""
+
+
+# --------------------------------------------------------------------------- output grid
+@dataclass(frozen=True)
+class CoverageGrid:
+    """The output grid: a local azimuthal-equidistant CRS (WGS84) in metres, north up.
+
+    ``transform`` is the GDAL/rasterio affine (a, b, c, d, e, f):
+    ``x = a col + b row + c``, ``y = d col + e row + f`` at pixel corners.
+    """
+
+    proj4: str
+    crs_wkt: str
+    transform: tuple
+    width: int
+    height: int
+    resolution_m: float
+
+    def centres(self):
+        """Pixel-centre projected coordinates ``(x, y)`` [m], each (height, width)."""
+        a, _, c, _, e, f = self.transform
+        x = c + a * (np.arange(self.width) + 0.5)
+        y = f + e * (np.arange(self.height) + 0.5)
+        return np.meshgrid(x, y)
+
+    def lon_lat(self):
+        """Pixel-centre WGS84 longitude and latitude [deg], each (height, width)."""
+        from pyproj import Transformer
+
+        x, y = self.centres()
+        tr = Transformer.from_crs(self.proj4, "EPSG:4326", always_xy=True)
+        lon, lat = tr.transform(x, y)
+        return np.asarray(lon), np.asarray(lat)
+
+    def to_dict(self) -> dict:
+        return {"crs": "local azimuthal equidistant (WGS84), metres", "proj4": self.proj4, "wkt": self.crs_wkt,
+                "transform": list(self.transform), "width": self.width, "height": self.height,
+                "resolution_m": self.resolution_m}
+
+
+def make_grid(gateways, radius_m: float, resolution_m: float) -> CoverageGrid:
+    """Grid of pixels ``resolution_m`` square covering every gateway's circle; centred on the (mean) site.
+
+    The azimuthal-equidistant projection keeps true distance and azimuth from
+    its centre [2]_, so with one site the radius is exact in the grid and the
+    site sits at the centre of a pixel; with several the centre is their mean.
+    """
+    from pyproj import CRS, Transformer
+
+    lat0 = float(np.mean([g.lat_deg for g in gateways]))
+    lon0 = float(np.degrees(np.angle(np.mean(np.exp(1j * np.radians([g.lon_deg for g in gateways]))))))
+    proj4 = f"+proj=aeqd +lat_0={lat0:.9f} +lon_0={lon0:.9f} +x_0=0 +y_0=0 +datum=WGS84 +units=m +no_defs"
+    tr = Transformer.from_crs("EPSG:4326", proj4, always_xy=True)
+    x, y = tr.transform([g.lon_deg for g in gateways], [g.lat_deg for g in gateways])
+    reach = radius_m * 1.002 + resolution_m
+    i0, i1 = math.floor((min(x) - reach) / resolution_m), math.ceil((max(x) + reach) / resolution_m)
+    j0, j1 = math.floor((min(y) - reach) / resolution_m), math.ceil((max(y) + reach) / resolution_m)
+    width, height = i1 - i0 + 1, j1 - j0 + 1
+    if width * height > MAX_PIXELS:
+        raise ProfilerError(f"the grid would have {width * height:,} pixels (more than {MAX_PIXELS:,}); give a "
+                            "coarser --resolution-m or a smaller --radius-km")
+    transform = (resolution_m, 0.0, (i0 - 0.5) * resolution_m, 0.0, -resolution_m, (j1 + 0.5) * resolution_m)
+    return CoverageGrid(proj4=proj4, crs_wkt=CRS.from_proj4(proj4).to_wkt(), transform=transform, width=width,
+                        height=height, resolution_m=float(resolution_m))
+
+
+def pixel_polar(grid: CoverageGrid, gw: Gateway):
+    """Geodesic azimuth [deg] and distance [m] from the gateway to every pixel centre.
+
+    At the projection's centre they are read off the grid (the
+    azimuthal-equidistant projection keeps both exactly [2]_); elsewhere by
+    the inverse geodesic problem (pyproj.Geod).
+    """
+    from pyproj import Geod
+
+    if f"+lat_0={gw.lat_deg:.9f} +lon_0={gw.lon_deg:.9f} " in grid.proj4:
+        x, y = grid.centres()
+        return np.degrees(np.arctan2(x, y)), np.hypot(x, y)
+    lon, lat = grid.lon_lat()
+    az, _, dist = Geod(ellps="WGS84").inv(np.full(lon.shape, gw.lon_deg), np.full(lat.shape, gw.lat_deg), lon, lat)
+    return np.asarray(az), np.asarray(dist)
+
+
+def radial_lookup(az, dist, n_radials: int, spacing_m: float, radius_m: float):
+    """Nearest radial sample of every pixel: ``(radial, sample, inside)`` arrays of the pixels' shape."""
+    k = np.rint((az % 360.0) / (360.0 / n_radials)).astype(np.int64) % n_radials
+    j = np.rint(dist / spacing_m).astype(np.int64)
+    return k, j, dist <= radius_m
+
+
+def to_grid(parts, lookup, n_radials, n_full):
+    """Per-radial results of one gateway's sectors -> bands on the grid (NaN outside)."""
+    k, j, inside = lookup
+    n = np.concatenate([p["n"] for p in parts])
+    valid = inside & (j < n[k])
+    bands = {}
+    for name in BANDS:
+        table = np.concatenate([p[name] for p in parts])
+        grid = np.full(k.shape, np.nan, dtype=np.float32)
+        grid[valid] = table[k[valid], j[valid]]
+        bands[name] = grid
+    return bands
+
+
+def composite(per_gateway: list, fade_margin_db: float) -> dict:
+    """Bands of the best gateway (highest uplink margin) per pixel plus ``best_gateway`` and ``gateways_heard``."""
+    margin = np.stack([b["margin_db"] for b in per_gateway])
+    score = np.where(np.isfinite(margin), margin, -np.inf)
+    best = np.argmax(score, axis=0)
+    has = np.isfinite(score).any(axis=0)
+    out = {}
+    for name in BANDS:
+        stack = np.stack([b[name] for b in per_gateway])
+        out[name] = np.take_along_axis(stack, best[None], axis=0)[0]
+    out["best_gateway"] = np.where(has, best, np.nan).astype(np.float32)
+    heard = np.sum(np.where(np.isfinite(margin), margin >= fade_margin_db, False), axis=0)
+    out["gateways_heard"] = np.where(has, heard, np.nan).astype(np.float32)
+    return out

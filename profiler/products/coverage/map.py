@@ -1,0 +1,348 @@
+"""Coverage of a gateway site: margin and data rate at every pixel within a radius.
+
+:func:`coverage` is the one Python call behind ``profiler coverage``.  Every
+value comes from the link engine (:mod:`profiler.engine`, the diffraction
+and budget of :func:`profiler.network_analysis.link_fields`): nothing here
+re-implements the physics.
+
+Method
+------
+1. Radials from the site, ``radial_count`` of them (arc spacing at the rim
+   about two output pixels), each sampled along its WGS84 geodesic by
+   :func:`profiler.engine.sample_links` at ``radial_step_m`` (half the
+   output resolution with a diffraction model, the resolution without);
+   the radial functions are in :mod:`profiler.coverage_radials`.
+2. Every sample ``j`` of a radial is the node end of one link whose profile
+   is the first ``j + 1`` samples of the radial.  The reductions over each
+   link's interior samples (worst Fresnel ratio, the maxima of the two
+   Bullington passes and the smooth-Earth heights) run for all prefixes of
+   all radials in the numba kernel of :mod:`profiler.prefix_kernel`, or
+   without numba as the (n, n) prefix batch of a radial in row blocks
+   through the numpy engine; the per-link formulas after them are the
+   engine's own (:func:`profiler.diffraction_engine.diffraction_finish`,
+   :func:`profiler.network_analysis.link_fields`).  Sample 1 (two samples,
+   no interior point) is a three-sample straight slope, i.e. free space;
+   sample 0 (the site itself) takes the value of sample 1.
+3. Line of sight is the exact cumulative maximum of the curvature-corrected
+   elevation-angle tangent along each radial (see :func:`line_of_sight_radials`).
+4. Each output pixel takes the value of the radial sample nearest to it in
+   (azimuth, distance) from the site, found with the inverse geodesic
+   problem.  The sample is at most half a sample step along the radial and
+   half the arc spacing (one pixel at the rim) across it from the pixel
+   centre: that offset is the only difference from ``profiler link`` to the
+   pixel centre.
+
+Radial sectors (chunks of radials) are the tasks of
+:func:`profiler.cluster.run_chunks`, in-process or on Dask.
+
+References
+----------
+.. [1] ITU-R P.526-15 sections 2, 4.5 (Bullington, delta-Bullington) via
+   :mod:`profiler.diffraction`; ITU-R P.452-18 eq. (156a) (elevation angle
+   with Earth curvature, the LOS criterion).
+.. [2] J. P. Snyder, "Map Projections: A Working Manual", USGS PP 1395
+   (1987), ch. 25 (azimuthal equidistant projection: true distance and
+   azimuth from the centre).
+"""
+
+from __future__ import annotations
+
+import functools
+import math
+from concurrent.futures import ThreadPoolExecutor
+from dataclasses import dataclass
+
+import numpy as np
+
+from ...about import CAUTION, __version__
+from ...propagation import geometry
+from .grid import CoverageGrid, Gateway, composite, make_grid, pixel_polar, radial_lookup, to_grid
+from .radials import (keep_freed_memory, line_of_sight_radials, radial_count, radial_fields, radial_step_m,
+                      sample_radials)
+from ...errors import ProfilerError
+
+SCHEMA = "profiler.coverage/2"
+RADIALS_PER_CHUNK = 32
+"""Radials per task (one sector)."""
+def _sector_job(chunk, *, settings, n_radials, radius_m, step_m, node_mast_m, kernel=None, model=None):
+    """One task ``(gateway, radial indices)``: sample a sector and run the engine on every sample.
+
+    Opens the elevation files by path when no model is given (on a worker).
+    """
+    if model is None:
+        from ...terrain.elevation import ElevationModel
+
+        keep_freed_memory()   # a worker process of ours: tune its allocator (never a caller's process)
+        with ElevationModel.open(list(settings.dem_paths)) as opened:
+            return _sector_job(chunk, settings=settings, n_radials=n_radials, radius_m=radius_m, step_m=step_m,
+                               node_mast_m=node_mast_m, kernel=kernel, model=opened)
+    gw, indices = chunk
+    az = np.asarray(indices) * (360.0 / n_radials)
+    d, t, n = sample_radials(model, gw, az, radius_m, step_m, settings.fill_voids)
+    ae = float(geometry.effective_radius_m(settings.k_factor))
+    out = radial_fields(d, t, n, gw.mast_m, node_mast_m, settings, gw.overrides, kernel)
+    out["terrain_m"] = np.where(np.isfinite(d), t, np.nan)
+    los = line_of_sight_radials(d, t, n, t[:, 0] + gw.mast_m, node_mast_m, ae)
+    out["line_of_sight"] = np.where(np.isfinite(out["margin_db"]), los.astype(float), np.nan)
+    out["n"] = n
+    return {k: (v.astype(np.float32) if k != "n" else v) for k, v in out.items()}
+
+
+# --------------------------------------------------------------------------- the run
+@dataclass(frozen=True)
+class CoverageResult:
+    """Bands on the grid (float32, NaN = nodata) and the ``profiler.coverage/2`` summary."""
+
+    bands: dict
+    grid: CoverageGrid
+    report: dict
+
+    def to_dict(self) -> dict:
+        return self.report
+
+
+def _area_summary(bands, resolution_m, fade_margin_db, dr_values, heard_by_gateways=None) -> dict:
+    """Area computed, and area and share covered per recommended DR and in total [km^2].
+
+    ``heard_by_gateways`` (bool, the grid's shape) marks the pixels the existing gateways alone hear
+    with the fade margin (default: the covered pixels, i.e. no candidate sites).
+    """
+    px_km2 = resolution_m * resolution_m * 1e-6
+    margin = bands["margin_db"]
+    computed = int(np.isfinite(margin).sum())
+    dr = bands["recommended_dr"]
+    closes = np.isfinite(margin) & (margin >= fade_margin_db)
+
+    def entry(count):
+        return {"pixels": int(count), "area_km2": round(float(count) * px_km2, 4),
+                "share": round(float(count) / computed, 6) if computed else None}
+
+    per_dr = [{"dr": int(v), **entry(np.sum(dr == v))} for v in dr_values]
+    los = bands["line_of_sight"]
+    by_gateways = closes if heard_by_gateways is None else heard_by_gateways & np.isfinite(margin)
+    return {"pixels_computed": computed, "area_computed_km2": round(computed * px_km2, 4),
+            "covered": entry(int(closes.sum())), "covered_by_gateways": entry(int(by_gateways.sum())),
+            "covered_by_dr": per_dr,
+            "line_of_sight": entry(int(np.sum(los == 1.0)))}
+
+
+def _gateways(site, mast_m, name, sites):
+    """The gateways of the run: ``--site``/``--mast-m`` or the gateway rows of a site list."""
+    from ..sites import read_sites_csv
+
+    if sites is not None:
+        if site is not None or mast_m is not None:
+            raise ProfilerError("give either --sites or --site/--mast-m, not both")
+        table = sites if hasattr(sites, "names") else read_sites_csv(sites)
+        rows = table.gateway_indices()
+        if rows.size == 0:
+            raise ProfilerError(f"{table.source} has no gateway rows; mark the gateway sites with role gateway")
+        from ..network import _site_overrides
+
+        over = _site_overrides(table, rows)
+        return [Gateway(name=table.names[i], lat_deg=float(table.lat_deg[i]), lon_deg=float(table.lon_deg[i]),
+                        mast_m=float(table.mast_m[i]), role=str(table.role[i]),
+                        overrides={k: float(v[m]) for k, v in over.items() if np.isfinite(v[m])})
+                for m, i in enumerate(rows)]
+    if site is None or mast_m is None:
+        raise ProfilerError("give the site with --site LAT,LON and --mast-m M (or a site list with --sites)")
+    lat, lon = (float(v) for v in site)
+    if not (-90 <= lat <= 90 and -180 <= lon <= 180):
+        raise ProfilerError(f"--site {lat:g},{lon:g} is not a WGS84 LAT,LON")
+    if not (math.isfinite(float(mast_m)) and 0.0 <= float(mast_m) <= 1000.0):
+        raise ProfilerError(f"--mast-m {mast_m} must be 0 to 1000 m")
+    return [Gateway(name=str(name), lat_deg=lat, lon_deg=lon, mast_m=float(mast_m))]
+
+
+def _check_numbers(radius_km, resolution_m, node_mast_m):
+    for label, value, low, high in (("--radius-km", radius_km, 0.0, 200.0), ("--node-mast-m", node_mast_m, 0.0, 1000.0)):
+        if not (isinstance(value, (int, float)) and math.isfinite(value) and low <= value <= high) or \
+                (label == "--radius-km" and value <= 0):
+            raise ProfilerError(f"{label} {value} is out of range; give a number from {low:g} to {high:g}")
+    if resolution_m is not None and not (math.isfinite(resolution_m) and resolution_m > 0):
+        raise ProfilerError(f"--resolution-m {resolution_m} must be a positive number of metres")
+
+
+def coverage(site=None, *, dem, mast_m=None, name="site", sites=None, radius_km: float, resolution_m=None,
+             node_mast_m: float = 1.5, band=None, frequency_mhz=None, k_factor="4/3", clearance_ratio: float = 0.6,
+             fill_voids: bool = False, radio=None, workers=None, scheduler=None, progress=None,
+             kernel=None, date=None, sheet_info=None) -> CoverageResult:
+    """Coverage of one site (or the composite of a site list's gateways) within a radius.
+
+    Parameters
+    ----------
+    site : (lat_deg, lon_deg), optional
+        The gateway (WGS84); with ``mast_m`` [m above ground] and ``name``.
+    dem : str, Path or list of them
+        Elevation files or folders.
+    sites : SiteTable, str or Path, optional
+        A site list whose gateway and candidate rows (each with its mast and overrides) replace ``site``;
+        the bands are the composite of all of them, ``summary.covered_by_gateways`` the area the
+        existing gateways alone hear.
+    radius_km : float
+        Radius around each gateway [km].
+    resolution_m : float, optional
+        Output pixel size [m]; default the elevation pixel at the (first) site.
+    node_mast_m : float
+        Node antenna height above ground at every pixel [m].
+    band, frequency_mhz, k_factor, clearance_ratio, fill_voids, radio
+        As for :func:`profiler.link` (the gateway is end A).
+    workers, scheduler, progress
+        As for :func:`profiler.network`; radial sectors are the tasks.
+    kernel : bool, optional
+        Reductions over the samples in the numba kernel (default: when numba
+        is installed) or, with False, in the numpy prefix batches; the results
+        agree to rounding.
+    date : datetime.date, optional
+        Date of the sheet (default today).
+    sheet_info : profiler.sheetinfo.SheetInfo, optional
+        Title-block fields (project, document, ...) for the report's ``sheet`` block.
+
+    Returns
+    -------
+    CoverageResult
+    """
+    from ...terrain.elevation import ElevationModel
+
+    _check_numbers(radius_km, resolution_m, node_mast_m)
+    gateways = _gateways(site, mast_m, name, sites)
+    settings = _settings(dem, band, frequency_mhz, k_factor, clearance_ratio, fill_voids, radio)
+    radius_m = float(radius_km) * 1000.0
+    with ElevationModel.open(list(settings.dem_paths)) as model:
+        lon_g = np.array([g.lon_deg for g in gateways])
+        lat_g = np.array([g.lat_deg for g in gateways])
+        outside = ~np.asarray(model.covers(lon_g, lat_g))
+        if outside.any():
+            g = gateways[int(np.argmax(outside))]
+            raise ProfilerError(f"{g.name} ({g.lat_deg:.5f}, {g.lon_deg:.5f}) is outside the elevation data; "
+                                f"coverage: {model.bounds_text()}")
+        model.start_digests(lon_g, lat_g)   # provenance hashes run while the radials are swept
+        res = float(resolution_m) if resolution_m is not None else float(model.pixel_size_m(lon_g[:1], lat_g[:1]))
+        grid = make_grid(gateways, radius_m, res)
+        with ThreadPoolExecutor(1) as pool:   # pyproj releases the GIL: the pixel positions overlap the sweep
+            positions = pool.submit(grid.lon_lat)
+            per_gateway, inside_any, sweep = _sweep(model, settings, gateways, grid, radius_m, res,
+                                                    float(node_mast_m), workers, scheduler, progress, kernel)
+            lon, lat = positions.result()
+        outside_data = ~np.asarray(model.covers(lon, lat))
+        sources = model.provenance(model.sources_used(lon_g, lat_g))
+    bands = per_gateway[0] if sites is None else composite(per_gateway, settings.radio.fade_margin_db)
+    heard_by_gateways = _heard_by_gateways(gateways, per_gateway, settings.radio.fade_margin_db) & ~outside_data
+    for values in bands.values():   # a pixel centre off the data is nodata, whatever its nearest radial sample
+        values[outside_data] = np.nan
+    if not np.isfinite(bands["margin_db"]).any():
+        raise ProfilerError("no pixel could be computed: the radius lies outside the elevation data or in a void; "
+                            "check --dem, --site and --fill-voids")
+    settings_record = {"radius_km": float(radius_km), "resolution_m": res, "node_mast_m": float(node_mast_m),
+                       "band": settings.band, "frequency_mhz": settings.frequency_mhz, "k_factor": settings.k_factor,
+                       "clearance_ratio": settings.clearance_ratio, "fade_margin_db": settings.radio.fade_margin_db,
+                       "diffraction": settings.radio.diffraction_method, "fill_voids": settings.fill_voids, **sweep}
+    report = _report(gateways, sites is not None, settings_record, grid, bands, inside_any, sources, heard_by_gateways,
+                     _radio_ends(gateways, settings), _sheet_block(date, sheet_info))
+    return CoverageResult(bands=bands, grid=grid, report=report)
+
+
+def _settings(dem, band, frequency_mhz, k_factor, clearance_ratio, fill_voids, radio):
+    """Validated engine settings (a picklable NetworkSettings) of a coverage run."""
+    from ...lora.bands import resolve_frequency_mhz
+    from ..network import NetworkSettings
+    from ...engine.radio import RadioSettings
+
+    radio = (radio or RadioSettings()).validate()
+    if radio.gateway != "a":
+        raise ProfilerError("in a coverage map the site is the gateway (end A); leave RadioSettings(gateway=...) at 'a'")
+    f_mhz, band_name = resolve_frequency_mhz(frequency_mhz, band)
+    dem_paths = tuple(str(p) for p in (dem if isinstance(dem, (list, tuple)) else [dem]))
+    if not dem_paths:
+        raise ProfilerError("no elevation data: give --dem FILE_OR_FOLDER")
+    return NetworkSettings(dem_paths=dem_paths, frequency_mhz=f_mhz, band=band_name,
+                           k_factor=geometry.parse_k_factor(k_factor), clearance_ratio=float(clearance_ratio),
+                           step_m=None, fill_voids=bool(fill_voids), radio=radio)
+
+
+def _sweep(model, settings, gateways, grid, radius_m, res, node_mast_m, workers, scheduler, progress, kernel=None):
+    """Every gateway's radial sectors through the engine (the tasks), then onto the grid."""
+    from ...engine.cluster import chunked, run_chunks
+
+    n_radials = radial_count(radius_m, res)
+    step_m = radial_step_m(res, settings.radio.diffraction_method)
+    n_full = max(math.ceil(radius_m / step_m) + 1, 3)
+    spacing = radius_m / (n_full - 1)
+    sectors = chunked(n_radials, RADIALS_PER_CHUNK)
+    chunks = [(g, np.arange(n_radials)[sl]) for g in gateways for sl in sectors]
+    local = workers is None and scheduler is None
+    job = functools.partial(_sector_job, settings=settings, n_radials=n_radials, radius_m=radius_m, step_m=step_m,
+                            node_mast_m=node_mast_m, kernel=kernel, model=model if local else None)
+    parts = run_chunks(job, chunks, workers=workers, scheduler=scheduler, progress=progress, desc="radials",
+                       weights=[c[1].size for c in chunks])
+    per_gateway = []
+    inside_any = np.zeros((grid.height, grid.width), dtype=bool)
+    for i, g in enumerate(gateways):
+        lookup = radial_lookup(*pixel_polar(grid, g), n_radials, spacing, radius_m)
+        inside_any |= lookup[2]
+        per_gateway.append(to_grid(parts[i * len(sectors):(i + 1) * len(sectors)], lookup, n_radials, n_full))
+    return per_gateway, inside_any, {"radials": n_radials, "radial_step_m": spacing}
+
+
+def _heard_by_gateways(gateways, per_gateway, fade_margin_db) -> np.ndarray:
+    """Pixels that at least one existing gateway (not a candidate site) hears with the fade margin."""
+    heard = np.zeros(per_gateway[0]["margin_db"].shape, dtype=bool)
+    for g, b in zip(gateways, per_gateway):
+        if g.role == "gateway":
+            heard |= np.isfinite(b["margin_db"]) & (b["margin_db"] >= fade_margin_db)
+    return heard
+
+
+def _radio_ends(gateways, settings) -> dict:
+    """Transmitter power, antenna gain, feeder loss and EIRP of every gateway [dBm, dBi, dB, dBm].
+
+    The same resolution as the engine's (:func:`profiler.radio.resolve_ends`: the options, per-site
+    columns of the site list, the plan's EIRP limit); EIRP = P + G - L (ITU-R P.525-4).
+    """
+    from ...lora.lorawan import eirp_dbm
+    from ...engine.radio import resolve_ends
+    from ...lora.regional import plan as regional_plan
+
+    plan = regional_plan(settings.band) if settings.band is not None else None
+    keys = sorted({k for g in gateways for k in g.overrides})
+    over = {k: np.array([g.overrides.get(k, np.nan) for g in gateways], dtype=float) for k in keys}
+    ends, _ = resolve_ends(settings.radio, plan, len(gateways), {"gateway": over})
+    gw = ends["gateway"]
+    return {"tx_power_dbm": gw["tx_power_dbm"], "gain_dbi": gw["gain_dbi"], "cable_loss_db": gw["cable_loss_db"],
+            "eirp_dbm": eirp_dbm(gw["tx_power_dbm"], gw["gain_dbi"], gw["cable_loss_db"])}
+
+
+def _sheet_block(date, sheet_info) -> dict:
+    """The ``sheet`` block: title-block fields (empty: blank boxes) and the date (ISO 8601)."""
+    import datetime
+
+    from ...io.sheetinfo import SheetInfo
+
+    return {**(sheet_info or SheetInfo()).to_dict(), "date": (date or datetime.date.today()).isoformat()}
+
+
+def _report(gateways, composite_run, settings_record, grid, bands, inside_any, sources, heard_by_gateways, radio,
+            sheet) -> dict:
+    """The ``profiler.coverage/2`` summary."""
+    from ...lora.regional import plan as regional_plan
+
+    band_name = settings_record["band"]
+    plan = regional_plan(band_name) if band_name is not None else None
+    warnings = []
+    missing = int(np.sum(inside_any & ~np.isfinite(bands["margin_db"])))
+    if missing:
+        warnings.append(f"{missing / max(int(inside_any.sum()), 1):.1%} of the area within the radius has no value: "
+                        "outside the elevation data, or behind it or a void along the radial")
+    records = [_gateway_record(g, {k: float(v[i]) for k, v in radio.items()}) for i, g in enumerate(gateways)]
+    summary = _area_summary(bands, settings_record["resolution_m"], settings_record["fade_margin_db"],
+                            sorted(plan.data_rates) if plan is not None else [], heard_by_gateways)
+    summary = {"gateways": sum(g.role == "gateway" for g in gateways),
+               "candidates": sum(g.role == "candidate" for g in gateways), **summary}
+    return {"schema": SCHEMA, "tool_version": __version__,
+            "site": None if composite_run else records[0], "gateways": records if composite_run else None,
+            "settings": settings_record, "grid": grid.to_dict(), "bands": list(bands), "summary": summary,
+            "dem": {"sources": sources}, "sheet": sheet, "warnings": warnings, "caution": CAUTION}
+
+
+def _gateway_record(g: Gateway, radio: dict) -> dict:
+    return {"name": g.name, "role": g.role, "lat_deg": g.lat_deg, "lon_deg": g.lon_deg, "mast_m": g.mast_m, **radio}

@@ -1,0 +1,414 @@
+"""Many links at once: a gateway (or several) and their nodes, one table.
+
+:func:`network` is the one Python call behind ``profiler network``.  Every
+link goes through the same engine as ``profiler link`` (geodesic sampling,
+geometry, diffraction and the two-direction budget, vectorized over links in
+chunks); the chunks run in-process, on a local Dask cluster
+(``workers=N``) or on an existing one (``scheduler="tcp://HOST:PORT"``).
+Gateways (and candidate sites) are end A of every link, nodes end B.
+
+The report (:meth:`NetworkResult.to_dict`) is the JSON contract
+``profiler.network/2``.
+"""
+
+from __future__ import annotations
+
+import functools
+import math
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from ..about import CAUTION, __version__
+from ..propagation import geometry
+from ..lora.bands import resolve_frequency_mhz
+from ..propagation.free_space import wavelength_m
+from ..errors import ProfilerError
+from ..engine.radio import RadioSettings, check_separation, radio_batch, slant_distance_m
+from ..lora.regional import plan as regional_plan
+
+SCHEMA = "profiler.network/2"
+CHUNK_LINKS = 256
+"""Links per chunk: the unit of work of a worker and of the progress bar."""
+
+LINK_FLOAT_KEYS = ("distance_m", "azimuth_deg", "worst_fresnel_ratio", "worst_distance_m", "diffraction_db",
+                   "total_loss_db", "margin_db", "downlink_margin_db", "max_margin_db")
+
+
+@dataclass(frozen=True)
+class NetworkSettings:
+    """Everything a chunk needs besides the link indices (picklable, sent to workers)."""
+
+    dem_paths: tuple
+    frequency_mhz: float
+    band: str | None
+    k_factor: float
+    clearance_ratio: float
+    step_m: float | None
+    fill_voids: bool
+    radio: RadioSettings
+
+
+def _site_overrides(sites, idx):
+    """Per-link override arrays of the sites at ``idx`` (NaN: use the command's option)."""
+    from ..propagation.polarization import polarization_angle_deg
+
+    pol = np.array([math.nan if p is None else polarization_angle_deg(p) for p in sites.polarization])
+    return {"tx_power_dbm": sites.tx_power_dbm[idx], "gain_dbi": sites.gain_dbi[idx],
+            "cable_loss_db": sites.cable_loss_db[idx], "noise_figure_db": sites.noise_figure_db[idx],
+            "polarization_deg": pol[idx]}
+
+
+def compute_links(model, settings: NetworkSettings, lat_gw, lon_gw, mast_gw, lat_node, lon_node, mast_node,
+                  overrides=None, names_gw=None, names_node=None) -> dict:
+    """Results of a batch of gateway -> node links, one array element per link.
+
+    Parameters
+    ----------
+    model : profiler.dem.ElevationModel
+        Open elevation model.
+    settings : NetworkSettings
+        Band, k, clearance, sampling and radio settings.
+    lat_gw, lon_gw, mast_gw, lat_node, lon_node, mast_node : ndarray, shape (L,)
+        Gateway (end A) and node (end B) positions [deg] and masts [m].
+    overrides : dict, optional
+        Per-link radio values per role, see :func:`profiler.radio.resolve_ends`.
+    names_gw, names_node : sequence of str, optional
+        Site names for error messages.
+
+    Returns
+    -------
+    dict of ndarray
+        The per-link fields of the ``links[]`` table (NaN where not computed)
+        plus ``error`` (list of str or None), ``recommended_dr`` (-1: none),
+        ``closes``, ``downlink_closes``, ``line_of_sight``, ``fresnel_clear``.
+    """
+    from ..terrain.sampling import sample_links
+
+    s = sample_links(model, lat_gw, lon_gw, lat_node, lon_node, step_m=settings.step_m,
+                     fill_voids=settings.fill_voids, names_a=names_gw, names_b=names_node)
+    n_links = len(s.error)
+    errors = list(s.error)
+    out = {k: np.full(n_links, np.nan) for k in LINK_FLOAT_KEYS}
+    out.update(voids_filled=np.asarray(s.voids_filled), recommended_dr=np.full(n_links, -1), closes=np.zeros(n_links, bool),
+               downlink_closes=np.zeros(n_links, bool), line_of_sight=np.zeros(n_links, bool),
+               fresnel_clear=np.zeros(n_links, bool))
+    ok = s.ok
+    if ok.any():
+        rows = np.flatnonzero(ok)
+        n = s.n[rows]
+        d, terrain = s.distance_m[rows, : n.max()], s.terrain_m[rows, : n.max()]
+        h_a = terrain[:, 0] + np.asarray(mast_gw, float)[rows]
+        h_b = terrain[np.arange(rows.size), n - 1] + np.asarray(mast_node, float)[rows]
+        lam = float(wavelength_m(settings.frequency_mhz))
+        ae = float(geometry.effective_radius_m(settings.k_factor))
+        slant = slant_distance_m(s.length_m[rows], h_a, h_b)
+        too_close = ~(slant >= max(0.1, lam / (4 * math.pi)))
+        for j in np.flatnonzero(too_close):  # rare: each needs its own message
+            try:
+                check_separation(float(slant[j]), lam)
+            except ProfilerError as exc:
+                errors[rows[j]] = str(exc)
+        keep = ~too_close
+        rows, n, d, terrain, h_a, h_b = rows[keep], n[keep], d[keep], terrain[keep], h_a[keep], h_b[keep]
+        if rows.size:
+            _fill_results(out, rows, s, d, terrain, n, h_a, h_b, lam, ae, settings, overrides)
+    bad = ~np.isfinite(out["margin_db"]) & np.array([e is None for e in errors])
+    for i in np.flatnonzero(bad):  # a non-finite result is refused per link, never shown as a number
+        errors[i] = "the link budget is not a finite number; check the masts, powers and elevation data"
+    out["error"] = errors
+    return out
+
+
+def _fill_results(out, rows, s, d, terrain, n, h_a, h_b, lam, ae, settings, overrides):
+    sub = None if overrides is None else {role: {k: v[rows] for k, v in o.items()} for role, o in overrides.items()}
+    res = link_fields(d, terrain, n, h_a, h_b, settings, sub, wavelength=lam, effective_radius=ae)
+    out["distance_m"][rows] = s.length_m[rows]
+    out["azimuth_deg"][rows] = s.azimuth_a_to_b_deg[rows]
+    for key in ("worst_fresnel_ratio", "worst_distance_m", "line_of_sight", "fresnel_clear", "diffraction_db",
+                "total_loss_db", "margin_db", "downlink_margin_db", "closes", "downlink_closes", "recommended_dr",
+                "max_margin_db"):
+        out[key][rows] = res[key]
+
+
+def link_fields(d, terrain, n, h_a, h_b, settings: NetworkSettings, overrides=None, *, wavelength=None,
+                effective_radius=None, reduced=None) -> dict:
+    """Geometry, losses and both budgets of a batch of sampled links (the engine, no sampling).
+
+    Parameters
+    ----------
+    d, terrain : ndarray, shape (L, N)
+        Padded profiles (distance from the gateway [m], terrain [m AMSL]).
+    n : ndarray of int, shape (L,)
+        Samples per link (at least 3).
+    h_a, h_b : ndarray, shape (L,)
+        Gateway and node antenna heights [m AMSL].
+    settings : NetworkSettings
+        Band, k, clearance and radio settings.
+    overrides : dict, optional
+        Per-link end values, see :func:`profiler.radio.resolve_ends`.
+    wavelength, effective_radius : float, optional
+        Wavelength and effective Earth radius [m] (default: from ``settings``).
+    reduced : dict, optional
+        The per-link reductions over the samples, already computed
+        (``profiler coverage``'s kernel): the diffraction reductions of
+        :func:`profiler.diffraction.diffraction_reductions` plus
+        ``length_m``, ``worst_ratio`` and optionally ``worst_distance_m``
+        (the minimum of :func:`profiler.geometry.clearance_ratio_term` and
+        where it is; NaN when not given); then
+        ``d``, ``terrain`` and ``n`` may be None.
+
+    Returns
+    -------
+    dict of ndarray, shape (L,)
+        ``worst_fresnel_ratio``, ``worst_distance_m``, ``line_of_sight``,
+        ``fresnel_clear``, ``diffraction_db``, ``total_loss_db``,
+        ``rx_level_dbm`` (uplink, at the gateway), ``margin_db``,
+        ``downlink_margin_db``, ``closes``, ``downlink_closes``,
+        ``recommended_dr`` (-1: none), ``max_margin_db``.
+    """
+    from ..engine.geometry import geometry_batch
+
+    radio = settings.radio
+    lam = float(wavelength_m(settings.frequency_mhz)) if wavelength is None else wavelength
+    ae = float(geometry.effective_radius_m(settings.k_factor)) if effective_radius is None else effective_radius
+    plan = regional_plan(settings.band) if settings.band is not None else None
+    if reduced is None:
+        g = geometry_batch(d, terrain, n, h_a, h_b, lam, ae, settings.clearance_ratio)
+        worst, worst_d, los, clear = g.worst_ratio, g.worst_distance_m, g.line_of_sight, g.fresnel_clear
+    else:   # clearance > 0 at every interior sample <=> worst ratio > 0 (F1 > 0 there)
+        worst = reduced["worst_ratio"]
+        worst_d = reduced.get("worst_distance_m", np.full(worst.shape, np.nan))
+        los, clear = worst > 0.0, worst >= settings.clearance_ratio
+    rb = radio_batch(d, terrain, n, h_a, h_b, settings.frequency_mhz, ae, radio, plan, overrides, rx2=False,
+                     reduced=reduced, informative=False)
+    fade = radio.fade_margin_db
+    up, down = rb["uplink"], rb["downlink"]
+    margin_up = up["rx_power_dbm"] - up["budget_sensitivity_dbm"]
+    margin_down = down["rx_power_dbm"] - down["budget_sensitivity_dbm"]
+    loss = rb["losses"][settings.frequency_mhz]
+    out = {"worst_fresnel_ratio": worst, "worst_distance_m": worst_d,
+           "line_of_sight": los, "fresnel_clear": clear, "diffraction_db": loss["diffraction"],
+           "total_loss_db": loss["total"], "rx_level_dbm": up["rx_power_dbm"], "margin_db": margin_up,
+           "downlink_margin_db": margin_down, "closes": margin_up >= fade, "downlink_closes": margin_down >= fade}
+    if "recommended" in up:
+        out["recommended_dr"] = np.where(up["recommended"] >= 0, up["dr"], -1)
+        allowed = up["rules"]["allowed"]
+        out["max_margin_db"] = np.max(np.where(allowed, up["margin_db"], -np.inf), axis=1)
+    else:
+        out["recommended_dr"] = np.full(margin_up.shape, -1)
+        out["max_margin_db"] = margin_up
+    return out
+
+
+def _chunk_job(idx, *, settings, sites_arrays, model=None):
+    """Compute one chunk of links; opens the elevation files by path when no model is given (a worker)."""
+    gw, node = idx
+    a = sites_arrays
+    overrides = {role: {k: v[sel] for k, v in a["overrides"].items()} for role, sel in (("gateway", gw), ("node", node))}
+    args = (settings, a["lat"][gw], a["lon"][gw], a["mast"][gw], a["lat"][node], a["lon"][node], a["mast"][node],
+            overrides, [a["names"][i] for i in gw], [a["names"][i] for i in node])
+    if model is not None:
+        return compute_links(model, *args)
+    from ..terrain.elevation import ElevationModel
+
+    with ElevationModel.open(list(settings.dem_paths)) as opened:
+        return compute_links(opened, *args)
+
+
+@dataclass(frozen=True)
+class NetworkResult:
+    """The network report; :meth:`to_dict` is the JSON contract ``profiler.network/2``."""
+
+    sites: list
+    links: list
+    nodes: list
+    summary: dict
+    band: str | None
+    frequency_mhz: float
+    k_factor: float
+    fade_margin_db: float
+    dem: dict
+    warnings: list = field(default_factory=list)
+    settings: dict = field(default_factory=dict)
+
+    def to_dict(self) -> dict:
+        return {"schema": SCHEMA, "tool_version": __version__, "band": self.band,
+                "frequency_mhz": self.frequency_mhz, "k_factor": self.k_factor,
+                "fade_margin_db": self.fade_margin_db, "settings": self.settings,
+                "sites": self.sites, "links": self.links, "nodes": self.nodes,
+                "summary": self.summary, "dem": self.dem, "warnings": list(self.warnings), "caution": CAUTION}
+
+
+def _num(x):
+    x = float(x)
+    return x if math.isfinite(x) else None
+
+
+def _link_records(sites, gw, node, res) -> list:
+    """links[] rows (plain JSON types; None for missing numbers)."""
+    cols = {k: res[k].tolist() for k in LINK_FLOAT_KEYS}
+    dr = res["recommended_dr"].tolist()
+    rows = []
+    for i in range(gw.size):  # building output records, not computing: one dict per link
+        err = res["error"][i]
+        rec = {"gateway": sites.names[gw[i]], "node": sites.names[node[i]]}
+        for k in LINK_FLOAT_KEYS:
+            v = cols[k][i]
+            rec[k] = v if (err is None and v == v and abs(v) != math.inf) else None
+        rec.update(line_of_sight=None if err else bool(res["line_of_sight"][i]),
+                   fresnel_clear=None if err else bool(res["fresnel_clear"][i]),
+                   recommended_dr=None if (err or dr[i] < 0) else int(dr[i]),
+                   closes=False if err else bool(res["closes"][i]),
+                   downlink_closes=False if err else bool(res["downlink_closes"][i]),
+                   error=err)
+        rows.append(rec)
+    return rows
+
+
+def _best_link(k, margin, usable, n_nodes) -> np.ndarray:
+    """Per node, the index of its usable link with the highest margin (-1: none)."""
+    m = np.where(usable, margin, -np.inf)
+    order = np.lexsort((-m, k))                      # by node, best margin first
+    first_k, first = np.unique(k[order], return_index=True)
+    best = np.full(n_nodes, -1)
+    best[first_k] = order[first]
+    return np.where((best >= 0) & usable[np.maximum(best, 0)], best, -1)
+
+
+def _best_fields(sites, gw, res, b, prefix) -> dict:
+    """A node's best link from one kind of site: site name, margin and recommended DR (None: no link)."""
+    if b < 0:
+        return {prefix: None, f"{prefix}_margin_db": None, f"{prefix}_recommended_dr": None}
+    dr = int(res["recommended_dr"][b])
+    return {prefix: sites.names[gw[b]], f"{prefix}_margin_db": _num(res["margin_db"][b]),
+            f"{prefix}_recommended_dr": dr if dr >= 0 else None}
+
+
+def node_summary(sites, gw, node, res):
+    """nodes[] rows and the counts of the summary, vectorized over links.
+
+    Existing gateways (role ``gateway``) and candidate sites (role
+    ``candidate``) are counted apart: a node's ``gateways_heard`` and
+    ``best_gateway`` are over the existing gateways only, its
+    ``candidates_heard`` and ``best_candidate`` over the candidates only;
+    the summary's ``nodes_covered_by_gateways`` is the network as built,
+    ``nodes_covered_with_candidates`` the network with every candidate added.
+    """
+    node_rows = sites.indices("node")
+    pos = np.full(len(sites), -1)
+    pos[node_rows] = np.arange(node_rows.size)
+    k = pos[node]
+    ok = np.array([e is None for e in res["error"]], dtype=bool)
+    closing = ok & res["closes"]
+    from_gateway = sites.role[gw] == "gateway"
+    from_candidate = sites.role[gw] == "candidate"
+    heard_gw = np.bincount(k[closing & from_gateway], minlength=node_rows.size)
+    heard_cand = np.bincount(k[closing & from_candidate], minlength=node_rows.size)
+    best_gw = _best_link(k, res["margin_db"], ok & from_gateway, node_rows.size)
+    best_cand = _best_link(k, res["margin_db"], ok & from_candidate, node_rows.size)
+    nodes = []
+    for j, site in enumerate(node_rows):  # output records, one per node
+        gw_fields = _best_fields(sites, gw, res, int(best_gw[j]), "best_gateway")
+        nodes.append({"name": sites.names[site], "gateways_heard": int(heard_gw[j]),
+                      "best_gateway": gw_fields["best_gateway"], "best_margin_db": gw_fields["best_gateway_margin_db"],
+                      "recommended_dr": gw_fields["best_gateway_recommended_dr"],
+                      "candidates_heard": int(heard_cand[j]),
+                      **_best_fields(sites, gw, res, int(best_cand[j]), "best_candidate")})
+    heard_all = heard_gw + heard_cand
+    summary = {"links": int(gw.size), "closing": int(np.sum(closing)), "errors": int(np.sum(~ok)),
+               "gateways": int(sites.indices("gateway").size), "candidates": int(sites.indices("candidate").size),
+               "nodes_total": int(node_rows.size),
+               "nodes_covered": int(np.sum(heard_gw >= 1)), "nodes_covered_twice": int(np.sum(heard_gw >= 2)),
+               "nodes_covered_by_gateways": int(np.sum(heard_gw >= 1)),
+               "nodes_covered_with_candidates": int(np.sum(heard_all >= 1)),
+               "nodes_covered_twice_with_candidates": int(np.sum(heard_all >= 2))}
+    return nodes, summary
+
+
+def network(sites, *, dem, pairs=None, max_distance_km: float = 50.0, band: str | None = None,
+            frequency_mhz: float | None = None, k_factor="4/3", clearance_ratio: float = 0.6,
+            step_m: float | None = None, fill_voids: bool = False, radio: RadioSettings | None = None,
+            workers: int | None = None, scheduler: str | None = None, progress: bool | None = None,
+            chunk_links: int = CHUNK_LINKS) -> NetworkResult:
+    """Analyse every gateway -> node link of a site list.
+
+    Parameters
+    ----------
+    sites : SiteTable or str or Path
+        The sites (see :func:`profiler.sites.read_sites_csv`).
+    dem : str, Path or list of them
+        Elevation files or folders.
+    pairs : str, Path or tuple of index arrays, optional
+        Exactly these links (a ``gateway,node`` CSV file); otherwise every
+        gateway x node pair within ``max_distance_km``.
+    max_distance_km : float
+        Longest link considered [km] (default 50).
+    band, frequency_mhz, k_factor, clearance_ratio, step_m, fill_voids, radio
+        As for :func:`profiler.link`; gateways are end A, nodes end B.
+    workers, scheduler : optional
+        Run the chunks on a local Dask cluster of N workers, or on the
+        cluster at ``scheduler``; the elevation files must be visible to every
+        worker at the same path.
+    progress : bool, optional
+        Progress bar on standard error (default: when it is a terminal).
+    chunk_links : int
+        Links per chunk.
+
+    Returns
+    -------
+    NetworkResult
+    """
+    from ..engine.cluster import chunked, run_chunks
+    from ..terrain.elevation import ElevationModel
+    from .sites import candidate_pairs, read_pairs_csv, read_sites_csv
+
+    table = sites if hasattr(sites, "names") else read_sites_csv(sites)
+    radio = (radio or RadioSettings()).validate()
+    if radio.gateway != "a":
+        raise ProfilerError("in a network the gateway is always end A of every link; leave RadioSettings(gateway=...) at 'a' (the sites file role column says which site is a gateway)")
+    f_mhz, band_name = resolve_frequency_mhz(frequency_mhz, band)
+    k = geometry.parse_k_factor(k_factor)
+    if pairs is None:
+        gw, node, _ = candidate_pairs(table, float(max_distance_km) * 1000.0)
+    elif isinstance(pairs, tuple):
+        gw, node = pairs
+    else:
+        gw, node = read_pairs_csv(pairs, table)
+    if gw.size == 0:
+        raise ProfilerError("no links to compute: no gateway and node are within --max-distance-km of each other "
+                            "(or the site list has no gateway or no node); raise --max-distance-km or give --pairs")
+    dem_paths = tuple(str(p) for p in (dem if isinstance(dem, (list, tuple)) else [dem]))
+    settings = NetworkSettings(dem_paths=dem_paths, frequency_mhz=f_mhz, band=band_name, k_factor=k,
+                               clearance_ratio=float(clearance_ratio), step_m=step_m, fill_voids=bool(fill_voids),
+                               radio=radio)
+    sites_arrays = {"lat": table.lat_deg, "lon": table.lon_deg, "mast": table.mast_m, "names": list(table.names),
+                    "overrides": _site_overrides(table, np.arange(len(table)))}
+    chunks = [(gw[sl], node[sl]) for sl in chunked(gw.size, chunk_links)]
+    with ElevationModel.open(list(dem_paths)) as model:
+        model.start_digests(table.lon_deg, table.lat_deg)
+        local = workers is None and scheduler is None
+        job = functools.partial(_chunk_job, settings=settings, sites_arrays=sites_arrays,
+                                model=model if local else None)
+        parts = run_chunks(job, chunks, workers=workers, scheduler=scheduler, progress=progress,
+                           weights=[c[0].size for c in chunks])
+        ground = model.sample(table.lon_deg, table.lat_deg)
+        sources = model.provenance(model.sources_used(table.lon_deg, table.lat_deg))
+    res = {k: np.concatenate([p[k] for p in parts]) for k in parts[0] if k != "error"}
+    res["error"] = [e for p in parts for e in p["error"]]
+    if all(e is not None for e in res["error"]):
+        raise ProfilerError(f"no link could be computed; the first failed with: {res['error'][0]}")
+    nodes, summary = node_summary(table, gw, node, res)
+    site_rows = [{"name": r["name"], "lat_deg": r["lat_deg"], "lon_deg": r["lon_deg"], "mast_m": r["mast_m"],
+                  "role": r["role"], "ground_m": _num(ground[i]), "cost": r["cost"]}
+                 for i, r in enumerate(table.to_records())]
+    warnings = []
+    if summary["errors"]:
+        warnings.append(f"{summary['errors']} of {summary['links']} links could not be computed (see their error)")
+    settings_out = {"clearance_ratio": settings.clearance_ratio, "diffraction_method": radio.diffraction_method,
+                    "max_distance_km": None if pairs is not None else float(max_distance_km),
+                    "pairs": pairs is not None}
+    return NetworkResult(sites=site_rows, links=_link_records(table, gw, node, res), nodes=nodes, summary=summary,
+                         band=band_name, frequency_mhz=f_mhz, k_factor=k, fade_margin_db=radio.fade_margin_db,
+                         dem={"kind": "dem", "sources": sources, "voids_filled": int(np.sum(res["voids_filled"]))}, warnings=warnings,
+                         settings=settings_out)

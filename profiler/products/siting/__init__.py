@@ -1,0 +1,1 @@
+"""Gateway siting over a network run: the set-cover programme and its report."""

@@ -1,0 +1,206 @@
+"""Compiled reductions over every prefix of every radial (``profiler coverage`` only; imports numba).
+
+In a coverage map every sample ``j`` of a radial is the node end of a link
+whose profile is the first ``j + 1`` samples.  The only work of such a link
+that grows with its length is a handful of reductions over its interior
+samples ``0 < i < j``: the worst clearance / F1 ratio
+(:func:`profiler.engine.geometry_batch`), and the maxima of one Bullington
+pass (:func:`profiler.diffraction_engine.diffraction_reductions`).  The two kernels
+here loop radial x node index ``j`` x interior sample ``i`` with running
+maxima/minima, so a radial costs O(n^2) arithmetic and O(n) memory instead
+of the (n, n) numpy temporaries of the prefix batch.
+
+There is no physics in this module: every per-sample term is a function of
+`profiler.geometry` or `profiler.diffraction_engine` (the ones the numpy
+reductions use), compiled here by ``numba.njit`` with its globals pointing at
+the compiled versions of the terms it calls.  Everything after the
+reductions (eqs. 15, 19-22, 43, the spherical Earth, the budgets) is the
+numpy finish stage shared with ``profiler link``.
+
+numba is imported by this module only, and this module only by
+:func:`profiler.coverage_radials.radial_fields`; compiled code is cached on disk
+(``cache=True``).
+
+References
+----------
+.. [1] ITU-R P.452-18 section 4.2.1, eqs. (14), (16), (18), and Attachment 2
+   section 5.1.6, eqs. (165a)-(165d), through :mod:`profiler.diffraction_engine`.
+.. [2] ITU-R P.526-15 section 2 and eq. (2), through :mod:`profiler.geometry`.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import math
+import threading
+import types
+
+import numba
+import numpy as np
+
+from . import diffraction_batch as diffraction_engine, geometry
+
+
+FASTMATH = {"nsz", "arcp", "contract", "afn", "reassoc"}
+"""LLVM fast-math flags of the kernels: reassociation and reciprocals let the inner loops vectorize (about 2x);
+no ``nnan``/``ninf`` (the running maxima start at -inf).  Results differ from the numpy engine by rounding only."""
+
+
+_TERMS = ((geometry, ("bulge_term", "line_term", "fresnel_term", "clearance_ratio_term")),
+          (diffraction_engine, ("bulge_km_term", "slope_term", "obstacle_term", "v_unit_term")))
+
+
+def _compile_terms(module, names) -> dict:
+    """``numba.njit`` copies of ``module``'s term functions, each calling the compiled copies of the others.
+
+    ``names`` are in dependency order (a term after the terms it calls).  Not
+    cached themselves: they are compiled into the (cached) kernels.
+    """
+    space = {"np": np, "math": math}
+    for name in names:
+        f = getattr(module, name)
+        copy = types.FunctionType(f.__code__, space, name, f.__defaults__, f.__closure__)
+        copy.__module__, copy.__qualname__ = module.__name__, f.__qualname__
+        space[name] = numba.njit(fastmath=FASTMATH)(copy)
+    return space
+
+
+def _fingerprint() -> str:
+    """Digest of the terms' code and the flags: part of the kernels' cache key.
+
+    numba keys a cached function on its own bytecode and closure only, so an
+    edited term (in geometry.py or diffraction_engine.py) would otherwise be served
+    stale from the cache.
+    """
+    digest = hashlib.sha256(repr(sorted(FASTMATH)).encode())
+    for module, names in _TERMS:
+        for name in names:
+            code = getattr(module, name).__code__
+            digest.update(code.co_code + repr(code.co_consts).encode() + repr(code.co_names).encode())
+    return digest.hexdigest()
+
+
+_G, _D = (_compile_terms(module, names) for module, names in _TERMS)
+_ratio = _G["clearance_ratio_term"]
+_bulge_km, _slope, _obstacle, _v_unit = (_D[k] for k in ("bulge_km_term", "slope_term", "obstacle_term",
+                                                          "v_unit_term"))
+
+
+def _kernels(fingerprint: str):
+    """The two compiled kernels (closures over ``fingerprint`` only, which keys their disk cache)."""
+
+    @numba.njit(cache=True, parallel=True, fastmath=FASTMATH)
+    def geometry_kernel(d_m, t_m, n, h_a, h_b, wavelength_m, ae_m, worst):   # pragma: no cover (compiled)
+        _key = fingerprint   # noqa: F841 (the cache key)
+        for r in numba.prange(d_m.shape[0]):
+            for j in range(2, n[r]):
+                best = np.inf
+                for i in range(1, j):
+                    best = min(best, _ratio(d_m[r, i], d_m[r, j], t_m[r, i], h_a[r], h_b[r, j], wavelength_m, ae_m))
+                worst[r, j] = best
+
+    @numba.njit(cache=True, parallel=True, fastmath=FASTMATH)
+    def bullington_kernel(d_km, h_m, n, hts, hrs, ae_km, actual, out):   # pragma: no cover (compiled)
+        _key = fingerprint   # noqa: F841 (the cache key)
+        weight = 1.0 if actual else 0.0
+        for r in numba.prange(d_km.shape[0]):
+            for j in range(2, n[r]):
+                d, a, b = d_km[r, j], hts[r, j], hrs[r, j]
+                stim = srim = v_max = hobs = aobt = aobr = -np.inf
+                for i in range(1, j):
+                    di = d_km[r, i]
+                    dd = d - di
+                    hc = weight * h_m[r, i] + _bulge_km(di, dd, ae_km)
+                    stim = max(stim, _slope(hc, a, di))
+                    srim = max(srim, _slope(hc, b, dd))
+                    v_max = max(v_max, _v_unit(hc, a, b, di, dd, d))
+                    if actual:
+                        ob = _obstacle(h_m[r, i], a, b, di, dd, d)
+                        hobs = max(hobs, ob)
+                        aobt = max(aobt, ob / di)
+                        aobr = max(aobr, ob / dd)
+                out[0, r, j], out[1, r, j], out[2, r, j] = stim, srim, v_max
+                out[3, r, j], out[4, r, j], out[5, r, j] = hobs, aobt, aobr
+
+    return geometry_kernel, bullington_kernel
+
+
+_geometry_kernel, _bullington_kernel = _kernels(_fingerprint())
+_LAUNCH = threading.Lock()
+"""One kernel launch at a time per process: numba's default (workqueue) threading layer aborts on concurrent
+launches from several threads (a Dask worker with more than one thread); each launch uses every core anyway."""
+
+
+def worst_ratio_prefixes(distance_m, terrain_m, n, site_amsl_m, node_amsl_m, wavelength_m, effective_radius_m):
+    """Worst clearance / F1 ratio of the link to every sample of every radial.
+
+    Parameters
+    ----------
+    distance_m, terrain_m : ndarray, shape (R, N)
+        Radial profiles [m], [m AMSL].
+    n : ndarray of int, shape (R,)
+        Samples per radial.
+    site_amsl_m : ndarray, shape (R,)
+        Site antenna [m AMSL].
+    node_amsl_m : ndarray, shape (R, N)
+        Node antenna at every sample [m AMSL].
+    wavelength_m, effective_radius_m : float
+        [m].
+
+    Returns
+    -------
+    ndarray, shape (R, N)
+        Minimum of :func:`profiler.geometry.clearance_ratio_term` over
+        ``0 < i < j`` at ``[r, j]`` (NaN for ``j < 2`` or beyond ``n``).
+        Not where it is: tracking the index would keep the loop from vectorizing.
+
+    References
+    ----------
+    ITU-R P.526-15 section 2 and eq. (2).
+    """
+    shape = np.shape(distance_m)
+    worst = np.full(shape, np.nan)
+    with _LAUNCH:
+        _geometry_kernel(np.ascontiguousarray(distance_m, dtype=float), np.ascontiguousarray(terrain_m, dtype=float),
+                         np.asarray(n, dtype=np.int64), np.asarray(site_amsl_m, dtype=float),
+                         np.ascontiguousarray(node_amsl_m, dtype=float), float(wavelength_m),
+                         float(effective_radius_m), worst)
+    return worst
+
+
+def bullington_prefixes(distance_km, height_m, n, hts_m, hrs_m, effective_radius_km, actual):
+    """One Bullington pass over every prefix of every radial: the reductions of ``diffraction_reductions``.
+
+    Parameters
+    ----------
+    distance_km, height_m : ndarray, shape (R, N)
+        Radial profiles [km from the site], [m AMSL].
+    n : ndarray of int, shape (R,)
+        Samples per radial.
+    hts_m, hrs_m : ndarray, shape (R, N)
+        Antenna heights of the link ending at each sample [m AMSL].
+    effective_radius_km : float
+        [km].
+    actual : bool
+        Terrain + bulge (the actual profile) or the bulge alone (the smooth profile).
+
+    Returns
+    -------
+    dict of ndarray, shape (R, N)
+        ``stim``, ``srim``, ``v_unit`` and, with ``actual``, ``hobs``,
+        ``alpha_obt``, ``alpha_obr`` of the link ending at ``[r, j]``
+        (defined for ``2 <= j < n[r]``); no ``v_index`` (the knife-edge
+        sample, which a coverage map does not show).
+
+    References
+    ----------
+    ITU-R P.452-18 eqs. (14), (16), (18), (165a)-(165d).
+    """
+    out = np.full((6,) + np.shape(distance_km), np.nan)
+    with _LAUNCH:
+        _bullington_kernel(np.ascontiguousarray(distance_km, dtype=float),
+                           np.ascontiguousarray(height_m, dtype=float), np.asarray(n, dtype=np.int64),
+                           np.ascontiguousarray(hts_m, dtype=float), np.ascontiguousarray(hrs_m, dtype=float),
+                           float(effective_radius_km), bool(actual), out)
+    keys = ("stim", "srim", "v_unit") + (("hobs", "alpha_obt", "alpha_obr") if actual else ())
+    return {k: out[i] for i, k in enumerate(keys)}

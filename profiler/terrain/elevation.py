@@ -1,0 +1,552 @@
+"""Elevation model: seamless bilinear sampling of terrain rasters.
+
+:class:`ElevationModel` opens any raster that GDAL/rasterio reads (GeoTIFF,
+COG, SRTM ``.hgt``, VRT, ERDAS ``.img``, ESRI ASCII grids, ...), indexes the
+tiles by their bounds from metadata alone, and samples terrain heights in
+metres at arbitrary WGS84 longitude/latitude points:
+
+* tiles that share a CRS, pixel size and grid alignment are joined into one
+  virtual mosaic with global pixel indices, so bilinear interpolation across
+  a tile seam uses pixels from both tiles;
+* sample points are transformed into each source's CRS with pyproj;
+* only the internal blocks that the samples touch are read, and each block is
+  kept in a bounded in-memory LRU cache owned by the model;
+* heights in feet (band unit or vertical CRS) are converted to metres;
+* nodata gives NaN; :meth:`ElevationModel.covers` tells voids from points
+  outside every source.
+
+Pixel registration.  GDAL always reports a geotransform that maps pixel
+*corners*: for GeoTIFFs tagged ``AREA_OR_POINT=Point`` (``PixelIsPoint``) it
+shifts the stored tie point by half a pixel on reading, and the SRTMHGT driver
+reports a transform whose pixel centres fall exactly on the integer-degree tile
+edges.  Hence in every case the centre of pixel (row ``i``, column ``j``) is
+``transform * (j + 0.5, i + 0.5)``, which is what this module uses.
+
+The module keeps the sampling and the block cache; opening the sources
+(files, folders, zip archives, CRS, vertical units) is in
+:mod:`profiler.dem_sources`, the tile mosaics in :mod:`profiler.dem_mosaic`,
+the source descriptions in :mod:`profiler.dem_provenance` (file digests: :mod:`profiler.provenance`)
+and the void filling in :mod:`profiler.voids` (re-exported here).
+
+Only numpy, rasterio and pyproj are imported at module level.
+"""
+
+from __future__ import annotations
+
+import math
+import os
+from collections import OrderedDict
+from pathlib import Path
+
+import numpy as np
+from rasterio.windows import Window
+
+from profiler.terrain.mosaic import build_groups
+from profiler.terrain.source_info import SourceInfo
+from profiler.terrain.sources import (RASTER_SUFFIXES, describe_raster, expand_path, linear_unit_m,
+                                      metres_per_degree, open_dataset, root_cause)
+from profiler.errors import ProfilerError, refuse_empty_path
+from profiler.terrain.digests import FileDigests
+from profiler.terrain.voids import fill_voids_along_profile
+
+__all__ = ["ElevationModel", "SourceInfo", "fill_voids_along_profile", "RASTER_SUFFIXES"]
+
+#: Fractional pixel offsets closer than this to an integer are snapped, so a
+#: sample at a pixel centre returns that pixel's value exactly.
+_SNAP_PX = 1e-6
+
+_DEFAULT_CACHE_BYTES = 256 * 1024 * 1024
+_DEFAULT_MAX_OPEN = 64
+
+
+class ElevationModel:
+    """Terrain heights from one or more elevation rasters.
+
+    Open with :meth:`ElevationModel.open`; use as a context manager or call
+    :meth:`close`.  The model owns an LRU cache of the blocks it has read
+    (bounded by ``cache_bytes``), so a second profile in the same area reads
+    nothing from disk.  ``blocks_read`` counts the block reads done so far.
+
+    Attributes
+    ----------
+    sources : list of SourceInfo
+        The rasters, in the order given (folders expanded, sorted by path).
+    blocks_read : int
+        Number of raster blocks read from disk since opening.
+    """
+
+    def __init__(self, tiles, groups, cache_bytes=_DEFAULT_CACHE_BYTES,
+                 max_open=_DEFAULT_MAX_OPEN, digests=None):
+        self._tiles = tiles
+        self.digests = digests if digests is not None else FileDigests()
+        self._groups = groups
+        self.sources = [t.info for t in tiles]
+        self._cache = OrderedDict()
+        self._cache_bytes = 0
+        self._cache_limit = int(cache_bytes)
+        self._handles = OrderedDict()
+        self._max_open = max(1, int(max_open))
+        self.blocks_read = 0
+
+    # ------------------------------------------------------------------ open
+    @classmethod
+    def open(cls, paths, cache_bytes=_DEFAULT_CACHE_BYTES, digests=None):
+        """Open elevation rasters from files and/or folders.
+
+        Parameters
+        ----------
+        paths : str or os.PathLike or sequence of them
+            Raster files (anything GDAL opens, including ``.zip`` archives of
+            rasters) or folders searched recursively for files ending in
+            :data:`RASTER_SUFFIXES`.
+        cache_bytes : int, optional
+            Upper bound of the in-memory block cache [bytes].
+        digests : profiler.provenance.FileDigests, optional
+            Provenance digests, possibly already started on the files (by a
+            command, before its heavy imports); default a new one.
+
+        Returns
+        -------
+        ElevationModel
+
+        Raises
+        ------
+        ProfilerError
+            A path is missing, a folder holds no raster, or a file is not a
+            georeferenced raster.
+        """
+        if isinstance(paths, (str, os.PathLike)):
+            paths = [paths]
+        paths = list(paths)
+        if not paths:
+            raise ProfilerError("no DEM given; pass --dem with a raster file or folder")
+        files = []
+        for entry in paths:
+            refuse_empty_path(entry, "--dem", "an elevation file or folder")
+            files.extend(expand_path(Path(entry)))
+
+        model = cls([], [], cache_bytes=cache_bytes, digests=digests)
+        crs_cache = {}
+        tiles = []
+        try:
+            for gdal_path, file_path in files:
+                ds = open_dataset(gdal_path, file_path)
+                try:
+                    tile = describe_raster(len(tiles), gdal_path, file_path, ds, crs_cache)
+                except BaseException:
+                    ds.close()
+                    raise
+                tiles.append(tile)
+                model._remember_handle(tile.index, ds)
+        except BaseException:
+            model.close()
+            raise
+        model._tiles = tiles
+        model.sources = [t.info for t in tiles]
+        model._groups = build_groups(tiles)
+        return model
+
+    def sources_covering(self, lon_deg, lat_deg):
+        """Sources whose WGS84 bounds contain at least one of the points (a cheap test, no pixel read)."""
+        lon = np.atleast_1d(np.asarray(lon_deg, dtype=float))
+        lat = np.atleast_1d(np.asarray(lat_deg, dtype=float))
+        found = []
+        for source in self.sources:  # a handful of files, not points
+            west, south, east, north = source.bounds_lonlat
+            if np.any((lon >= west) & (lon <= east) & (lat >= south) & (lat <= north)):
+                found.append(source)
+        return found
+
+    def start_digests(self, lon_deg, lat_deg) -> None:
+        """Start hashing, in the background, the files of the sources that cover the points."""
+        self.digests.start([s.file_path or s.path for s in self.sources_covering(lon_deg, lat_deg)])
+
+    def provenance(self, sources) -> list:
+        """Report records ``{path, sha256, crs, resolution}`` of ``sources``, each file hashed once per model."""
+        return [{"path": s.path, "sha256": self.digests.sha256(s.file_path or s.path), "crs": s.crs,
+                 "resolution": list(s.resolution)} for s in sources]
+
+    # ------------------------------------------------------------- sampling
+    def sample(self, lon_deg, lat_deg):
+        """Terrain height at WGS84 points by bilinear interpolation.
+
+        Parameters
+        ----------
+        lon_deg, lat_deg : array_like
+            WGS84 longitude and latitude [deg]; broadcast together.
+
+        Returns
+        -------
+        numpy.ndarray
+            Height above the DEM's vertical datum (usually mean sea level) [m];
+            NaN where any of the four neighbouring pixels is void or where no
+            source covers the point.
+
+        Notes
+        -----
+        Sources are tried finest resolution first (ties: order given); a point
+        that is void in one source is taken from the next source covering it.
+        Between the outermost pixel centre and the raster edge the edge pixel
+        is used (clamping).
+
+        References
+        ----------
+        Bilinear interpolation on a unit square, e.g. Press et al., Numerical
+        Recipes, 3rd ed., eq. (3.6.5).
+        """
+        values, _ = self._sample(lon_deg, lat_deg, want_used=False)
+        return values
+
+    def covers(self, lon_deg, lat_deg):
+        """Whether any source's extent contains each point.
+
+        Parameters
+        ----------
+        lon_deg, lat_deg : array_like
+            WGS84 longitude and latitude [deg].
+
+        Returns
+        -------
+        numpy.ndarray of bool
+            True inside at least one raster (even where it is void).
+        """
+        lon, lat, shape = _flat_points(lon_deg, lat_deg)
+        covered = np.zeros(lon.shape, dtype=bool)
+        for group in self._groups:
+            todo = np.flatnonzero(~covered)
+            if todo.size == 0:
+                break
+            fr, fc = group.pixel_coords(lon[todo], lat[todo])
+            covered[todo] = group.owner_pixels(fr, fc)[2] >= 0
+        return covered.reshape(shape)
+
+    def sources_used(self, lon_deg, lat_deg):
+        """Sources that supplied at least one pixel to valid samples.
+
+        Parameters
+        ----------
+        lon_deg, lat_deg : array_like
+            WGS84 longitude and latitude [deg].
+
+        Returns
+        -------
+        list of SourceInfo
+            In the order of :attr:`sources`.
+        """
+        _, used = self._sample(lon_deg, lat_deg)
+        return [self._tiles[i].info for i in sorted(used)]
+
+    def pixel_size_m(self, lon_deg, lat_deg):
+        """Finest pixel size among the sources covering the points.
+
+        Parameters
+        ----------
+        lon_deg, lat_deg : array_like
+            WGS84 longitude and latitude [deg].
+
+        Returns
+        -------
+        float
+            Pixel size [m].  For a geographic CRS: the smaller of the y size
+            and the x size times cos(latitude), using WGS84 metres per degree
+            at the covered latitudes; for a projected CRS: the smaller pixel
+            side in metres.
+
+        Raises
+        ------
+        ProfilerError
+            If no source covers any of the points.
+
+        References
+        ----------
+        WGS84 meridional and parallel radii, NIMA TR8350.2 ch. 4.
+        """
+        sizes = self.pixel_sizes_m(lon_deg, lat_deg)
+        best = float(np.min(sizes)) if sizes.size else math.inf
+        if not math.isfinite(best):
+            raise ProfilerError(
+                f"the path is outside the elevation model ({self.bounds_text()}); "
+                "use a DEM that covers both sites")
+        return best
+
+    def pixel_sizes_m(self, lon_deg, lat_deg):
+        """Finest pixel size of the sources covering each point [m]; inf where none covers it.
+
+        The per-point form of :meth:`pixel_size_m` (same rules), so that a
+        batch of links gets each link's sampling step in one call.
+        """
+        lon, lat, _ = _flat_points(lon_deg, lat_deg)
+        best = np.full(lon.shape, math.inf)
+        for group in self._groups:  # a handful of source groups, not points
+            fr, fc = group.pixel_coords(lon, lat)
+            inside = group.owner_pixels(fr, fc)[2] >= 0
+            if not inside.any():
+                continue
+            res_x, res_y = group.tiles[0].info.resolution
+            if group.is_geographic:
+                # Measured at pixel centres: the pixel next to a pole has a width, the pole itself has none.
+                centre_lat = np.clip(lat[inside], -90.0 + res_y / 2.0, 90.0 - res_y / 2.0)
+                m_lat, m_lon = metres_per_degree(centre_lat)
+                size = np.minimum(res_y * m_lat, res_x * m_lon)
+            else:
+                size = min(res_x, res_y) * linear_unit_m(group.pcrs)
+            best[inside] = np.minimum(best[inside], size)
+        return best
+
+    def bounds_text(self):
+        """One-line description of the area covered, in WGS84 degrees.
+
+        Returns
+        -------
+        str
+            e.g. ``"lon 7.0000 to 8.0000, lat 45.0000 to 46.0000 (1 raster)"``;
+            one box per mosaic, separated by ``"; "``.
+        """
+        parts = []
+        for group in sorted(self._groups, key=lambda g: g.order):
+            boxes = np.array([t.info.bounds_lonlat for t in group.tiles])
+            west, south = boxes[:, 0].min(), boxes[:, 1].min()
+            east, north = boxes[:, 2].max(), boxes[:, 3].max()
+            count = len(group.tiles)
+            noun = "raster" if count == 1 else "rasters"
+            parts.append(f"lon {west:.4f} to {east:.4f}, lat {south:.4f} to {north:.4f} "
+                         f"({count} {noun})")
+        if len(parts) > 6:
+            parts = parts[:6] + [f"and {len(parts) - 6} more areas"]
+        return "; ".join(parts) if parts else "no coverage"
+
+    # ------------------------------------------------------------- lifetime
+    def close(self):
+        """Close all open raster handles and drop the block cache."""
+        while self._handles:
+            _, ds = self._handles.popitem(last=False)
+            ds.close()
+        self._cache.clear()
+        self._cache_bytes = 0
+
+    def __enter__(self):
+        return self
+
+    def __exit__(self, *exc):
+        self.close()
+        return False
+
+    # ------------------------------------------------------------ internals
+    def _sample(self, lon_deg, lat_deg, want_used=True):
+        lon, lat, shape = _flat_points(lon_deg, lat_deg)
+        out = np.full(lon.shape, np.nan)
+        used = set()
+        for number, group in enumerate(self._groups):
+            if number == 0:
+                out, tiles_used = self._sample_group(group, lon, lat, want_used)
+            else:
+                todo = np.flatnonzero(np.isnan(out))
+                if todo.size == 0:
+                    break
+                out[todo], tiles_used = self._sample_group(group, lon[todo], lat[todo],
+                                                           want_used)
+            used.update(tiles_used)
+        return out.reshape(shape), used
+
+    def _sample_group(self, group, lon, lat, want_used=True):
+        """Bilinear samples from one mosaic (NaN where void or not covered)."""
+        result = np.full(lon.shape, np.nan)
+        frow, fcol = group.pixel_coords(lon, lat)
+        own_r, own_c, owner = group.owner_pixels(frow, fcol)
+        inside = owner >= 0
+        if not inside.any():
+            return result, set()
+        if inside.all():
+            idx = slice(None)
+        else:
+            idx = np.flatnonzero(inside)
+            own_r, own_c = own_r[idx], own_c[idx]
+        # Pixel centres sit at integer + 0.5 in corner-based coordinates.
+        u = fcol[idx] - 0.5
+        v = frow[idx] - 0.5
+        nearest_u, nearest_v = np.rint(u), np.rint(v)
+        u = np.where(np.abs(u - nearest_u) < _SNAP_PX, nearest_u, u)
+        v = np.where(np.abs(v - nearest_v) < _SNAP_PX, nearest_v, v)
+        j0 = np.floor(u).astype(np.int64)
+        i0 = np.floor(v).astype(np.int64)
+        wx = u - j0
+        wy = v - i0
+        # A neighbour with zero weight is the same pixel (no read, no NaN).
+        dj = (wx > 0.0).astype(np.int64)
+        di = (wy > 0.0).astype(np.int64)
+        j1 = j0 + dj
+        i1 = i0 + di
+
+        # Fast path: all four neighbours in one block of one tile (nearly all
+        # samples); one look-up per sample, four offsets into the block.
+        t00 = group.tile_of(i0, j0)
+        t11 = group.tile_of(i1, j1)
+        key00, local00, width00 = group.block_index(t00, i0, j0)
+        key11, _, _ = group.block_index(t11, i1, j1)
+        fast = (t00 >= 0) & (t00 == t11) & (key00 == key11)
+        n = u.size
+        z = np.empty((4, n))
+        owner_used = []
+        f = np.flatnonzero(fast)
+        if f.size:
+            base = local00[f]
+            step_c = dj[f]
+            step_r = di[f] * width00[f]
+            locals4 = np.stack([base, base + step_c, base + step_r, base + step_r + step_c],
+                               axis=1)
+            z[:, f] = self._gather(group, key00[f], locals4).T
+            owner_used.append(t00[f])
+        slow = np.flatnonzero(~fast)
+        if slow.size:
+            z[:, slow], owner = self._gather_clamped(
+                group, i0[slow], j0[slow], i1[slow], j1[slow], own_r[slow], own_c[slow])
+            owner_used.append(owner.reshape(4, -1))
+        top = z[0] + wx * (z[1] - z[0])
+        bottom = z[2] + wx * (z[3] - z[2])
+        z = top + wy * (bottom - top)
+        if group.vertical_scale != 1.0:
+            z = z * group.vertical_scale
+        result[idx] = z
+        if not want_used:
+            return result, set()
+        valid = np.isfinite(z)
+        counts = np.zeros(len(group.tiles), dtype=np.int64)
+        if f.size:
+            counts += np.bincount(t00[f][valid[f]], minlength=len(group.tiles))
+        if slow.size:
+            ok = np.broadcast_to(valid[slow], (4, slow.size))
+            counts += np.bincount(owner_used[-1][ok], minlength=len(group.tiles))
+        used = {group.tiles[k].index for k in np.flatnonzero(counts)}
+        return result, used
+
+    def _gather_clamped(self, group, i0, j0, i1, j1, own_r, own_c):
+        """Four neighbours per sample, clamped at the mosaic edge; (4, n) values."""
+        rows = np.concatenate([i0, i0, i1, i1])
+        cols = np.concatenate([j0, j1, j0, j1])
+        own_r4 = np.tile(own_r, 4)
+        own_c4 = np.tile(own_c, 4)
+        owner = group.tile_of(rows, cols)
+        # Clamp at the mosaic edge: replace a missing neighbour's row, then its
+        # column, then both, by those of the pixel holding the point.
+        for use_row, use_col in ((True, False), (False, True), (True, True)):
+            missing = owner < 0
+            if not missing.any():
+                break
+            r_try = own_r4[missing] if use_row else rows[missing]
+            c_try = own_c4[missing] if use_col else cols[missing]
+            found = group.tile_of(r_try, c_try)
+            ok = found >= 0
+            sel = np.flatnonzero(missing)[ok]
+            rows[sel], cols[sel], owner[sel] = r_try[ok], c_try[ok], found[ok]
+        key, local, _ = group.block_index(owner, rows, cols)
+        values = self._gather(group, key, local[:, np.newaxis])[:, 0]
+        return values.reshape(4, -1), owner
+
+    def _gather(self, group, key, local):
+        """Values (stored units, NaN void) at offsets ``local`` of blocks ``key``.
+
+        Parameters
+        ----------
+        key : ndarray of int, shape (n,)
+            Global block number of each sample in the group.
+        local : ndarray of int, shape (n, m)
+            Flat offsets inside that block (m offsets per sample).
+
+        Returns
+        -------
+        ndarray of float, shape (n, m)
+
+        Samples along a path come in long runs in the same block: such runs
+        are used as they are.  Otherwise one (radix) sort groups the samples
+        by block.  Each run is fetched once and indexed with ``take``.
+        """
+        changes = np.flatnonzero(key[1:] != key[:-1]) + 1
+        if changes.size < max(64, key.size // 32):
+            order = None
+            key_sorted, local_sorted = key, local
+        else:
+            if group.n_blocks < 65536:  # small integers: numpy's stable sort is radix
+                order = np.argsort(key.astype(np.uint16), kind="stable")
+            else:
+                order = np.argsort(key, kind="stable")
+            key_sorted = key[order]
+            local_sorted = local[order]
+            changes = np.flatnonzero(key_sorted[1:] != key_sorted[:-1]) + 1
+        starts = np.concatenate(([0], changes))
+        ends = np.append(starts[1:], key_sorted.size)
+        block_keys = key_sorted[starts]
+        tile_ids = np.searchsorted(group.block_base, block_keys, side="right") - 1
+        in_tile = block_keys - group.block_base[tile_ids]
+        uniform = group.uniform_tile
+        raw_sorted = np.empty(local_sorted.shape,
+                              dtype=uniform.dtype if uniform is not None else float)
+        for start, end, k, number in zip(starts.tolist(), ends.tolist(), tile_ids.tolist(),
+                                         in_tile.tolist()):
+            tile = group.tiles[k]
+            block = self._block(tile, *divmod(number, tile.n_chunk_cols))
+            if uniform is not None:
+                np.take(block, local_sorted[start:end], out=raw_sorted[start:end])
+            else:
+                raw_sorted[start:end] = tile.to_float(np.take(block, local_sorted[start:end]))
+        values_sorted = uniform.to_float(raw_sorted) if uniform is not None else raw_sorted
+        if order is None:
+            return values_sorted
+        values = np.empty_like(values_sorted)
+        values[order] = values_sorted
+        return values
+
+    def _block(self, tile, block_r, block_c):
+        key = (tile.index, block_r, block_c)
+        block = self._cache.get(key)
+        if block is not None:
+            self._cache.move_to_end(key)
+            return block
+        row_off = block_r * tile.chunk_h
+        col_off = block_c * tile.chunk_w
+        window = Window(col_off, row_off, min(tile.chunk_w, tile.width - col_off),
+                        min(tile.chunk_h, tile.height - row_off))
+        ds = self._handle(tile)
+        try:
+            raw = ds.read(1, window=window)
+        except Exception as exc:  # GDAL raises various CPLE_* / RasterioIOError
+            reason = root_cause(exc)
+            raise ProfilerError(
+                f"cannot read elevation data from {tile.info.path} ({reason}); "
+                "the file may be truncated or corrupt") from exc
+        block = raw  # kept in the raster's dtype; converted per sample in _gather
+        if block.shape != (tile.chunk_h, tile.chunk_w):  # edge block: pad to full size
+            padded = np.zeros((tile.chunk_h, tile.chunk_w), dtype=block.dtype)
+            padded[:block.shape[0], :block.shape[1]] = block
+            block = padded
+        block = block.ravel()
+        self.blocks_read += 1
+        self._cache[key] = block
+        self._cache_bytes += block.nbytes
+        while self._cache_bytes > self._cache_limit and len(self._cache) > 1:
+            _, old = self._cache.popitem(last=False)
+            self._cache_bytes -= old.nbytes
+        return block
+
+    def _handle(self, tile):
+        ds = self._handles.get(tile.index)
+        if ds is not None:
+            self._handles.move_to_end(tile.index)
+            return ds
+        ds = open_dataset(tile.gdal_path, tile.info.file_path)
+        self._remember_handle(tile.index, ds)
+        return ds
+
+    def _remember_handle(self, index, ds):
+        self._handles[index] = ds
+        while len(self._handles) > self._max_open:
+            _, old = self._handles.popitem(last=False)
+            old.close()
+
+
+# ---------------------------------------------------------------- helpers
+def _flat_points(lon_deg, lat_deg):
+    lon, lat = np.broadcast_arrays(np.asarray(lon_deg, dtype=float),
+                                   np.asarray(lat_deg, dtype=float))
+    return lon.ravel(), lat.ravel(), lon.shape
+
+
