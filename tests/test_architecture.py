@@ -193,3 +193,11 @@ def test_products_write_no_file():
            for target, _, names in imports_of(name, path, known)
            if target == "profiler.io.outputs" or any(n.startswith("write_") for n in names)]
     assert bad == []
+
+
+def test_no_private_name_is_imported_from_another_module():
+    known = modules()
+    bad = [(name, target, n) for name, path in known.items()
+           for target, _, names in imports_of(name, path, known) for n in names
+           if n.startswith("_") and not n.startswith("__")]
+    assert bad == []

@@ -135,7 +135,7 @@ def test_classes_translucent_over_the_hillshade(figures):
 
 
 def test_line_of_sight_edge_drawn_where_the_band_changes(runs, figures):
-    from profiler.io.coverage import _geographic_classes
+    from profiler.io.coverage import geographic_classes
 
     result = runs[("single", "short")]
     ax = _axes(figures[("a4", "single", "short")], "coverage-map")
@@ -143,7 +143,7 @@ def test_line_of_sight_edge_drawn_where_the_band_changes(runs, figures):
     assert len(edge) == 1
     vertices = np.vstack([p.vertices for p in edge[0].get_paths() if len(p.vertices)])
     assert len(vertices) > 10
-    los, (west, east, south, north) = _geographic_classes(result, max_pixels=900, band="line_of_sight")
+    los, (west, east, south, north) = geographic_classes(result, max_pixels=900, band="line_of_sight")
     ny, nx = los.shape
     col = (vertices[:, 0] - west) / (east - west) * nx - 0.5
     row = (north - vertices[:, 1]) / (north - south) * ny - 0.5

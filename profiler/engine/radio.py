@@ -239,7 +239,7 @@ def path_loss_batch(d, terrain, n, h_a, h_b, frequency_mhz, ae, radio: RadioSett
         length = d[np.arange(d.shape[0]), n - 1] if reduced is None else reduced["length_m"]
     elif reduced is None:
         parts = diffraction_batch(d, terrain, n, h_a, h_b, frequency_mhz, ae, vertical,
-                                              radio.sea_fraction)
+                                  radio.sea_fraction)
         length = d[np.arange(d.shape[0]), n - 1]
     else:
         parts = diffraction_finish(reduced, frequency_mhz, ae, vertical, radio.sea_fraction)
@@ -262,17 +262,22 @@ def diffraction_losses(distance_m, terrain_m, antenna_a_amsl_m, antenna_b_amsl_m
     """Knife-edge, Bullington and delta-Bullington losses of one profile [dB] (a batch of one)."""
     d = np.asarray(distance_m, dtype=float)[None, :]
     out = diffraction_batch(d, np.asarray(terrain_m, dtype=float)[None, :], np.array([d.shape[1]]),
-                                        float(antenna_a_amsl_m), float(antenna_b_amsl_m), frequency_mhz,
-                                        effective_radius_m, polarization == "vertical", sea_fraction)
+                            float(antenna_a_amsl_m), float(antenna_b_amsl_m), frequency_mhz,
+                            effective_radius_m, polarization == "vertical", sea_fraction)
     return {"knife_edge": float(out["knife_edge"][0]), "bullington": float(out["bullington"][0]),
             "delta_bullington": float(out["delta_bullington"][0]),
             "spherical_earth": float(out["spherical_earth"][0]),
             "smooth_surface_height_a_m": float(out["hstd"][0]), "smooth_surface_height_b_m": float(out["hsrd"][0])}
 
 
+def min_separation_m(wavelength_m):
+    """Closest antenna separation with a path-loss estimate [m]: the larger of 0.1 m and lambda / (4 pi)."""
+    return np.maximum(MIN_SEPARATION_M, wavelength_m / (4.0 * math.pi))
+
+
 def check_separation(slant_m: float, wavelength_m: float) -> None:
-    """Refuse sites too close for any path-loss estimate (closer than 0.1 m or lambda / (4 pi))."""
-    need = max(MIN_SEPARATION_M, wavelength_m / (4.0 * math.pi))
+    """Refuse sites too close for any path-loss estimate (closer than :func:`min_separation_m`)."""
+    need = float(min_separation_m(wavelength_m))
     if not slant_m >= need:
         raise ProfilerError(f"the sites are too close: the antennas are {slant_m:.3f} m apart and a link needs at "
                             f"least {need:.2f} m; check the coordinates and masts")

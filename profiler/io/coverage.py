@@ -100,7 +100,7 @@ def write_geotiff(result, path) -> None:
         ds.update_tags(schema=result.report["schema"], caution=CAUTION)
 
 
-def _geographic_classes(result, max_pixels: int = 2048, band=None):
+def geographic_classes(result, max_pixels: int = 2048, band=None):
     """Margin classes resampled (nearest) onto a WGS84 latitude/longitude grid for the overlay.
 
     With ``band`` (a band name) the band's values (NaN outside) instead of the classes.
@@ -139,7 +139,7 @@ def coverage_kmz_bytes(result, report: dict) -> bytes:
     """KMZ: a KML 2.2 GroundOverlay of the margin classes (PNG inside) and the site placemarks [1]_."""
     from PIL import Image
 
-    cls, (west, east, south, north) = _geographic_classes(result)
+    cls, (west, east, south, north) = geographic_classes(result)
     png = io.BytesIO()
     Image.fromarray(class_rgba(cls), "RGBA").save(png, format="PNG")
     ET.register_namespace("", KML_NAMESPACE)

@@ -46,7 +46,7 @@ KML_NAMESPACE = "http://www.opengis.net/kml/2.2"
 #: Decimal places of exported longitudes and latitudes (1e-7 deg is about 1 cm).
 COORDINATE_DECIMALS = 7
 
-_EN = "\u2013"
+EN_DASH = "\u2013"
 
 
 # --------------------------------------------------------------------------- shared helpers
@@ -78,7 +78,7 @@ def _as_given(value) -> str:
 
 
 def _link_name(report: dict, text=_text) -> str:
-    return f"{text(report['site_a']['name'])} {_EN} {text(report['site_b']['name'])}"
+    return f"{text(report['site_a']['name'])} {EN_DASH} {text(report['site_b']['name'])}"
 
 
 def site_label(key: str, name: str) -> str:
@@ -87,8 +87,8 @@ def site_label(key: str, name: str) -> str:
     return name if name.strip().upper() == key.upper() else f"{key.upper()} {name}"
 
 
-def _value(value):
-    """A property value as given: KML makes its strings inert when it writes them (:func:`_extended_data`)."""
+def property_value(value):
+    """A property value as given: KML makes its strings inert when it writes them (:func:`extended_data`)."""
     return _as_given(value) if isinstance(value, str) else value
 
 
@@ -101,11 +101,11 @@ def headline_properties(report: dict) -> dict:
     """
     a, b = report["site_a"], report["site_b"]
     props = {"name": _link_name(report, _as_given)}
-    props.update({key: _value(value) for key, value in summary_rows(report)})
+    props.update({key: property_value(value) for key, value in summary_rows(report)})
     lora = report.get("lora") or {}
     worst = report.get("worst") or {}
     props.update({
-        "band": _value(report.get("band")),
+        "band": property_value(report.get("band")),
         "mast_a_m": a.get("mast_m"), "mast_b_m": b.get("mast_m"),
         "antenna_a_amsl_m": a.get("antenna_amsl_m"), "antenna_b_amsl_m": b.get("antenna_amsl_m"),
         "azimuth_a_to_b_deg": report.get("azimuth_a_to_b_deg"),
@@ -117,8 +117,8 @@ def headline_properties(report: dict) -> dict:
         "sensitivity_dbm": (report.get("budget") or {}).get("sensitivity_dbm"),
         "lowest_closing_sf": lora.get("lowest_closing_sf"),
         "verdict": _as_given(verdict(report)),
-        "tool_version": _value(report.get("tool_version")),
-        "report_schema": _value(report.get("schema")),
+        "tool_version": property_value(report.get("tool_version")),
+        "report_schema": property_value(report.get("schema")),
         "caution": _as_given(CAUTION),
     })
     return props
@@ -131,9 +131,9 @@ def _site_lines(report: dict, key: str, text=_text) -> list[str]:
     angle = report.get(f"elevation_angle_{key}_deg")
     return [
         f"Site {key.upper()}: {text(site['name'])}",
-        f"ground {_num(site.get('ground_m'), '.1f')} m AMSL, mast {_num(site.get('mast_m'), '.1f')} m, "
-        f"antenna {_num(site.get('antenna_amsl_m'), '.1f')} m AMSL",
-        f"azimuth to {other.upper()} {_num(azimuth, '.2f')} deg (true), elevation angle {_num(angle, '+.3f')} deg",
+        f"ground {num(site.get('ground_m'), '.1f')} m AMSL, mast {num(site.get('mast_m'), '.1f')} m, "
+        f"antenna {num(site.get('antenna_amsl_m'), '.1f')} m AMSL",
+        f"azimuth to {other.upper()} {num(azimuth, '.2f')} deg (true), elevation angle {num(angle, '+.3f')} deg",
     ]
 
 
@@ -141,11 +141,11 @@ def _worst_lines(report: dict) -> list[str]:
     w = report.get("worst") or {}
     ratio = w.get("fresnel_ratio")
     return [
-        f"Worst point {_num(None if w.get('distance_m') is None else w['distance_m'] / 1000.0, '.3f')} km from A",
-        f"clearance {_num(w.get('clearance_m'), '+.1f')} m = {_num(None if ratio is None else 100 * ratio, '.0f')} % "
+        f"Worst point {num(None if w.get('distance_m') is None else w['distance_m'] / 1000.0, '.3f')} km from A",
+        f"clearance {num(w.get('clearance_m'), '+.1f')} m = {num(None if ratio is None else 100 * ratio, '.0f')} % "
         f"of F1 (required {100 * (report.get('clearance_ratio_required') or 0):.0f} %)",
-        f"v = {_num(w.get('v'), '.2f')}, knife-edge loss {_num(w.get('knife_edge_loss_db'), '.1f')} dB, "
-        f"terrain {_num(w.get('terrain_m'), '.1f')} m AMSL",
+        f"v = {num(w.get('v'), '.2f')}, knife-edge loss {num(w.get('knife_edge_loss_db'), '.1f')} dB, "
+        f"terrain {num(w.get('terrain_m'), '.1f')} m AMSL",
     ]
 
 
@@ -153,16 +153,16 @@ def _link_lines(report: dict, text=_text) -> list[str]:
     loss, bud = report["loss_db"], report["budget"]
     return [
         f"Link {_link_name(report, text)}: {text(verdict(report))}",
-        f"distance {_num(report['distance_m'] / 1000.0, '.3f')} km, {_num(report['frequency_mhz'], '.4f')} MHz, "
-        f"k = {_num(report.get('k_factor'), '.4g')}",
-        f"total loss {_num(loss.get('total'), '.1f')} dB ({text(loss.get('diffraction_method'))}), "
-        f"received {_num(bud.get('rx_power_dbm'), '.1f')} dBm, margin {_num(bud.get('margin_db'), '+.1f')} dB "
+        f"distance {num(report['distance_m'] / 1000.0, '.3f')} km, {num(report['frequency_mhz'], '.4f')} MHz, "
+        f"k = {num(report.get('k_factor'), '.4g')}",
+        f"total loss {num(loss.get('total'), '.1f')} dB ({text(loss.get('diffraction_method'))}), "
+        f"received {num(bud.get('rx_power_dbm'), '.1f')} dBm, margin {num(bud.get('margin_db'), '+.1f')} dB "
         f"at SF{bud.get('sf')}",
         CAUTION,
     ]
 
 
-def _num(value, spec: str) -> str:
+def num(value, spec: str) -> str:
     if value is None or (isinstance(value, float) and not math.isfinite(value)):
         return "n/a"
     return format(value, spec)
@@ -307,32 +307,32 @@ def write_geojson(report: dict, path) -> None:
 
 
 # --------------------------------------------------------------------------- KML
-def _sub(parent, tag: str, text=None, **attrib):
+def sub_element(parent, tag: str, text=None, **attrib):
     element = ET.SubElement(parent, f"{{{KML_NAMESPACE}}}{tag}", attrib)
     if text is not None:
         element.text = str(text)
     return element
 
 
-def _html_description(lines: list[str]) -> str:
+def html_description(lines: list[str]) -> str:
     """Description text for a KML viewer (rendered as HTML): each line escaped, joined by <br/>."""
     return "<br/>".join(html.escape(line, quote=True) for line in lines)
 
 
-def _style(doc, style_id: str, *, line_color=None, line_width=None, icon_color=None, icon_scale=None):
-    style = _sub(doc, "Style", id=style_id)
+def kml_style(doc, style_id: str, *, line_color=None, line_width=None, icon_color=None, icon_scale=None):
+    style = sub_element(doc, "Style", id=style_id)
     if icon_color is not None:
-        icon = _sub(style, "IconStyle")
-        _sub(icon, "color", icon_color)
-        _sub(icon, "scale", icon_scale)
+        icon = sub_element(style, "IconStyle")
+        sub_element(icon, "color", icon_color)
+        sub_element(icon, "scale", icon_scale)
     if line_color is not None:
-        line = _sub(style, "LineStyle")
-        _sub(line, "color", line_color)
-        _sub(line, "width", line_width)
+        line = sub_element(style, "LineStyle")
+        sub_element(line, "color", line_color)
+        sub_element(line, "width", line_width)
 
 
-def _extended_data(placemark, props: dict) -> None:
-    data = _sub(placemark, "ExtendedData")
+def extended_data(placemark, props: dict) -> None:
+    data = sub_element(placemark, "ExtendedData")
     for key, value in props.items():
         if value is None:
             shown = ""
@@ -342,11 +342,11 @@ def _extended_data(placemark, props: dict) -> None:
             shown = _text(value)
         else:
             shown = repr(value)
-        item = _sub(data, "Data", name=key)
-        _sub(item, "value", shown)
+        item = sub_element(data, "Data", name=key)
+        sub_element(item, "value", shown)
 
 
-def _kml_coordinates(lon, lat, alt=None) -> str:
+def kml_coordinates(lon, lat, alt=None) -> str:
     if alt is None:
         return " ".join(map("{:.7f},{:.7f}".format, lon, lat))
     return " ".join(map("{:.7f},{:.7f},{:.2f}".format, lon, lat, alt))
@@ -390,61 +390,61 @@ def kml_text(report: dict) -> str:
     alt = ray_height_amsl_m(report)
     ET.register_namespace("", KML_NAMESPACE)
     root = ET.Element(f"{{{KML_NAMESPACE}}}kml")
-    doc = _sub(root, "Document")
-    _sub(doc, "name", f"Radio link {_link_name(report)}")
-    _sub(doc, "open", 1)
-    _sub(doc, "description", _html_description(_link_lines(report)))
+    doc = sub_element(root, "Document")
+    sub_element(doc, "name", f"Radio link {_link_name(report)}")
+    sub_element(doc, "open", 1)
+    sub_element(doc, "description", html_description(_link_lines(report)))
     # KML colours are aabbggrr.
-    _style(doc, "line-of-sight", line_color="ff000000", line_width=2.5)
-    _style(doc, "ground-track", line_color="ff2a62c4", line_width=1.5)
-    _style(doc, "site", icon_color="ffffffff", icon_scale=1.1)
-    _style(doc, "worst-point", icon_color="ff1414c8", icon_scale=1.0)
+    kml_style(doc, "line-of-sight", line_color="ff000000", line_width=2.5)
+    kml_style(doc, "ground-track", line_color="ff2a62c4", line_width=1.5)
+    kml_style(doc, "site", icon_color="ffffffff", icon_scale=1.1)
+    kml_style(doc, "worst-point", icon_color="ff1414c8", icon_scale=1.0)
 
-    los_mark = _sub(doc, "Placemark")
-    _sub(los_mark, "name", f"Line of sight {_link_name(report)}")
-    _sub(los_mark, "description", _html_description(
+    los_mark = sub_element(doc, "Placemark")
+    sub_element(los_mark, "name", f"Line of sight {_link_name(report)}")
+    sub_element(los_mark, "description", html_description(
         _link_lines(report)
         + [f"Altitudes: ray height above mean sea level with the Earth bulge for k = "
-           f"{_num(report.get('k_factor'), '.4g')} (line of sight minus bulge)."]))
-    _sub(los_mark, "styleUrl", "#line-of-sight")
-    _extended_data(los_mark, headline_properties(report))
-    line = _sub(los_mark, "LineString")
-    _sub(line, "extrude", 0)
-    _sub(line, "tessellate", 0)
-    _sub(line, "altitudeMode", "absolute")
-    _sub(line, "coordinates", _kml_coordinates(lon, lat, alt))
+           f"{num(report.get('k_factor'), '.4g')} (line of sight minus bulge)."]))
+    sub_element(los_mark, "styleUrl", "#line-of-sight")
+    extended_data(los_mark, headline_properties(report))
+    line = sub_element(los_mark, "LineString")
+    sub_element(line, "extrude", 0)
+    sub_element(line, "tessellate", 0)
+    sub_element(line, "altitudeMode", "absolute")
+    sub_element(line, "coordinates", kml_coordinates(lon, lat, alt))
 
-    track = _sub(doc, "Placemark")
-    _sub(track, "name", f"Ground track {_link_name(report)}")
-    _sub(track, "styleUrl", "#ground-track")
-    ground = _sub(track, "LineString")
-    _sub(ground, "tessellate", 1)
-    _sub(ground, "altitudeMode", "clampToGround")
-    _sub(ground, "coordinates", _kml_coordinates(lon, lat))
+    track = sub_element(doc, "Placemark")
+    sub_element(track, "name", f"Ground track {_link_name(report)}")
+    sub_element(track, "styleUrl", "#ground-track")
+    ground = sub_element(track, "LineString")
+    sub_element(ground, "tessellate", 1)
+    sub_element(ground, "altitudeMode", "clampToGround")
+    sub_element(ground, "coordinates", kml_coordinates(lon, lat))
 
     for key, index in (("a", 0), ("b", -1)):
         site = report[f"site_{key}"]
-        mark = _sub(doc, "Placemark")
-        _sub(mark, "name", site_label(key, _text(site["name"])))
-        _sub(mark, "description", _html_description(_site_lines(report, key)))
-        _sub(mark, "styleUrl", "#site")
-        point = _sub(mark, "Point")
-        _sub(point, "extrude", 1)
-        _sub(point, "altitudeMode", "absolute")
+        mark = sub_element(doc, "Placemark")
+        sub_element(mark, "name", site_label(key, _text(site["name"])))
+        sub_element(mark, "description", html_description(_site_lines(report, key)))
+        sub_element(mark, "styleUrl", "#site")
+        point = sub_element(mark, "Point")
+        sub_element(point, "extrude", 1)
+        sub_element(point, "altitudeMode", "absolute")
         tip = site.get("antenna_amsl_m")
-        _sub(point, "coordinates", _kml_coordinates([lon[index]], [lat[index]],
+        sub_element(point, "coordinates", kml_coordinates([lon[index]], [lat[index]],
                                                     [float(tip) if tip is not None else float(alt[index])]))
 
     worst = report.get("worst") or {}
     if worst.get("lon_deg") is not None and worst.get("lat_deg") is not None:
-        mark = _sub(doc, "Placemark")
-        _sub(mark, "name", "Worst point")
-        _sub(mark, "description", _html_description(_worst_lines(report)))
-        _sub(mark, "styleUrl", "#worst-point")
-        point = _sub(mark, "Point")
-        _sub(point, "altitudeMode", "absolute")
+        mark = sub_element(doc, "Placemark")
+        sub_element(mark, "name", "Worst point")
+        sub_element(mark, "description", html_description(_worst_lines(report)))
+        sub_element(mark, "styleUrl", "#worst-point")
+        point = sub_element(mark, "Point")
+        sub_element(point, "altitudeMode", "absolute")
         height = worst.get("terrain_m") or 0.0
-        _sub(point, "coordinates", _kml_coordinates([float(wrap_longitude(worst["lon_deg"]))],
+        sub_element(point, "coordinates", kml_coordinates([float(wrap_longitude(worst["lon_deg"]))],
                                                     [float(worst["lat_deg"])], [float(height)]))
 
     ET.indent(root, space=" ")

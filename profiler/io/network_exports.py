@@ -35,8 +35,8 @@ import numpy as np
 
 from ..about import CAUTION
 from ..errors import ProfilerError
-from .exports import (_EN, KML_NAMESPACE, _extended_data, _html_description, _kml_coordinates, _num, geojson_positions,
-                      _style, _sub, _value, split_at_antimeridian, wrap_longitude)
+from .exports import (EN_DASH, KML_NAMESPACE, extended_data, geojson_positions, html_description, kml_coordinates,
+                      kml_style, num, property_value, split_at_antimeridian, sub_element, wrap_longitude)
 from ..terrain.geodesic import geodesic_path
 from .report import inert_text
 
@@ -174,14 +174,14 @@ def _link_ends(report: dict, lookup: dict) -> tuple[np.ndarray, np.ndarray]:
 
 
 def _link_name(link: dict) -> str:
-    return f"{inert_text(link['gateway'])} {_EN} {inert_text(link['node'])}"
+    return f"{inert_text(link['gateway'])} {EN_DASH} {inert_text(link['node'])}"
 
 
 def _site_results(report: dict, status: np.ndarray) -> dict[str, dict]:
     """Per-site results: a node's ``nodes[]`` entry; a gateway's link counts."""
     results: dict[str, dict] = {}
     for node in report.get("nodes") or []:
-        results[node["name"]] = {key: _value(node.get(key)) for key in NODE_RESULT_KEYS if key in node}
+        results[node["name"]] = {key: property_value(node.get(key)) for key in NODE_RESULT_KEYS if key in node}
     links = report.get("links") or []
     gateways = np.array([link["gateway"] for link in links], dtype=object)
     for site in report.get("sites") or []:
@@ -193,8 +193,8 @@ def _site_results(report: dict, status: np.ndarray) -> dict[str, dict]:
 
 
 def _link_properties(link: dict, status: str) -> dict:
-    props = {"feature": "link", "name": _value(f"{link['gateway']} {_EN} {link['node']}")}
-    props.update({key: _value(link.get(key)) for key, _ in LINK_COLUMNS})
+    props = {"feature": "link", "name": property_value(f"{link['gateway']} {EN_DASH} {link['node']}")}
+    props.update({key: property_value(link.get(key)) for key, _ in LINK_COLUMNS})
     props["status"] = status
     return props
 
@@ -206,28 +206,28 @@ def _link_lines(link: dict, status: str) -> list[str]:
     dist = link.get("worst_distance_m")
     return [
         head,
-        f"distance {_num(link['distance_m'] / 1000.0, '.3f')} km, azimuth {_num(link.get('azimuth_deg'), '.2f')} "
+        f"distance {num(link['distance_m'] / 1000.0, '.3f')} km, azimuth {num(link.get('azimuth_deg'), '.2f')} "
         f"deg from the gateway",
-        f"worst clearance {_num(link.get('worst_fresnel_ratio'), '.2f')} F1 at "
-        f"{_num(None if dist is None else dist / 1000.0, '.3f')} km; diffraction "
-        f"{_num(link.get('diffraction_db'), '.1f')} dB, total loss {_num(link.get('total_loss_db'), '.1f')} dB",
-        f"margin uplink {_num(link.get('margin_db'), '+.1f')} dB, downlink "
-        f"{_num(link.get('downlink_margin_db'), '+.1f')} dB, recommended DR "
+        f"worst clearance {num(link.get('worst_fresnel_ratio'), '.2f')} F1 at "
+        f"{num(None if dist is None else dist / 1000.0, '.3f')} km; diffraction "
+        f"{num(link.get('diffraction_db'), '.1f')} dB, total loss {num(link.get('total_loss_db'), '.1f')} dB",
+        f"margin uplink {num(link.get('margin_db'), '+.1f')} dB, downlink "
+        f"{num(link.get('downlink_margin_db'), '+.1f')} dB, recommended DR "
         f"{'n/a' if link.get('recommended_dr') is None else link['recommended_dr']}",
     ]
 
 
 def _site_lines(site: dict, results: dict) -> list[str]:
     lines = [f"{inert_text(site.get('role'))} {inert_text(site['name'])}",
-             f"ground {_num(site.get('ground_m'), '.1f')} m AMSL, mast {_num(site.get('mast_m'), '.1f')} m"]
+             f"ground {num(site.get('ground_m'), '.1f')} m AMSL, mast {num(site.get('mast_m'), '.1f')} m"]
     if "gateways_heard" in results:
         lines.append(f"heard by {results['gateways_heard']} existing gateway(s) with the fade margin; best "
                      f"{inert_text(results.get('best_gateway') or 'none')} at "
-                     f"{_num(results.get('best_margin_db'), '+.1f')} dB")
+                     f"{num(results.get('best_margin_db'), '+.1f')} dB")
     if "candidates_heard" in results:
         lines.append(f"heard by {results['candidates_heard']} candidate site(s) with the fade margin; best "
                      f"{inert_text(results.get('best_candidate') or 'none')} at "
-                     f"{_num(results.get('best_candidate_margin_db'), '+.1f')} dB")
+                     f"{num(results.get('best_candidate_margin_db'), '+.1f')} dB")
     elif "links" in results:
         lines.append(f"{results['links_closing']} of {results['links']} links close with the fade margin")
     return lines + [CAUTION]
@@ -272,7 +272,7 @@ def network_geojson_dict(report: dict) -> dict:
     site_xy = np.round(np.column_stack([lon, lat]), 7).tolist()
     features = []
     for i, site in enumerate(report.get("sites") or []):
-        props = {"feature": "site", "name": _value(site["name"]), "role": _value(site.get("role")),
+        props = {"feature": "site", "name": property_value(site["name"]), "role": property_value(site.get("role")),
                  "lat_deg": site.get("lat_deg"), "lon_deg": site.get("lon_deg"),
                  "mast_m": site.get("mast_m"), "ground_m": site.get("ground_m"),
                  **results.get(site["name"], {}),
@@ -293,7 +293,8 @@ def network_geojson_dict(report: dict) -> dict:
         props["crosses_antimeridian"] = bool(crosses[k])
         features.append({"type": "Feature", "id": f"link-{k + 1}", "geometry": geometry, "properties": props})
     return {"type": "FeatureCollection", "name": inert_text(_title(report)),
-            "report_schema": _value(report.get("schema")), "tool_version": _value(report.get("tool_version")),
+            "report_schema": property_value(report.get("schema")),
+            "tool_version": property_value(report.get("tool_version")),
             "caution": CAUTION, "features": features}
 
 
@@ -307,23 +308,23 @@ def network_geojson_text(report: dict) -> str:
 
 
 # --------------------------------------------------------------------------- KML
-def _kml_site(folder, site: dict, results: dict, lon: float, lat: float) -> None:
-    mark = _sub(folder, "Placemark")
-    _sub(mark, "name", inert_text(site["name"]))
-    _sub(mark, "description", _html_description(_site_lines(site, results)))
+def kml_site(folder, site: dict, results: dict, lon: float, lat: float) -> None:
+    mark = sub_element(folder, "Placemark")
+    sub_element(mark, "name", inert_text(site["name"]))
+    sub_element(mark, "description", html_description(_site_lines(site, results)))
     role = site.get("role") if site.get("role") in _SITE_STYLE else "node"
-    _sub(mark, "styleUrl", f"#site-{role}")
-    _extended_data(mark, {"role": site.get("role"), "mast_m": site.get("mast_m"),
+    sub_element(mark, "styleUrl", f"#site-{role}")
+    extended_data(mark, {"role": site.get("role"), "mast_m": site.get("mast_m"),
                           "ground_m": site.get("ground_m"), **results})
-    point = _sub(mark, "Point")
+    point = sub_element(mark, "Point")
     ground, mast = site.get("ground_m"), site.get("mast_m")
     if ground is None or mast is None:
-        _sub(point, "altitudeMode", "clampToGround")
-        _sub(point, "coordinates", _kml_coordinates([lon], [lat]))
+        sub_element(point, "altitudeMode", "clampToGround")
+        sub_element(point, "coordinates", kml_coordinates([lon], [lat]))
     else:   # the antenna tip above mean sea level, drawn as a mast down to the ground
-        _sub(point, "extrude", 1)
-        _sub(point, "altitudeMode", "absolute")
-        _sub(point, "coordinates", _kml_coordinates([lon], [lat], [float(ground) + float(mast)]))
+        sub_element(point, "extrude", 1)
+        sub_element(point, "altitudeMode", "absolute")
+        sub_element(point, "coordinates", kml_coordinates([lon], [lat], [float(ground) + float(mast)]))
 
 
 def network_kml_text(report: dict) -> str:
@@ -342,41 +343,41 @@ def network_kml_text(report: dict) -> str:
     gw, node = _link_ends(report, lookup)
     ET.register_namespace("", KML_NAMESPACE)
     root = ET.Element(f"{{{KML_NAMESPACE}}}kml")
-    doc = _sub(root, "Document")
-    _sub(doc, "name", inert_text(_title(report)))
-    _sub(doc, "open", 1)
+    doc = sub_element(root, "Document")
+    sub_element(doc, "name", inert_text(_title(report)))
+    sub_element(doc, "open", 1)
     summary = report.get("summary") or {}
-    _sub(doc, "description", _html_description([
+    sub_element(doc, "description", html_description([
         inert_text(_title(report)),
-        f"{_num(report.get('frequency_mhz'), '.4f')} MHz, k = {_num(report.get('k_factor'), '.4g')}, "
-        f"fade margin {_num(report.get('fade_margin_db'), '.1f')} dB",
+        f"{num(report.get('frequency_mhz'), '.4f')} MHz, k = {num(report.get('k_factor'), '.4g')}, "
+        f"fade margin {num(report.get('fade_margin_db'), '.1f')} dB",
         f"nodes covered by the existing gateways {summary.get('nodes_covered_by_gateways', 0)} of "
         f"{summary.get('nodes_total', 0)} ({summary.get('nodes_covered_twice', 0)} by two or more), with the "
         f"candidate sites {summary.get('nodes_covered_with_candidates', 0)}, errors {summary.get('errors', 0)}",
         *[inert_text(w) for w in report.get("warnings") or []], CAUTION]))
     for role, (colour, scale) in _SITE_STYLE.items():
-        _style(doc, f"site-{role}", icon_color=colour, icon_scale=scale)
+        kml_style(doc, f"site-{role}", icon_color=colour, icon_scale=scale)
     for name, (colour, width) in _LINK_STYLE.items():
-        _style(doc, f"link-{name}", line_color=colour, line_width=width)
-    sites_folder = _sub(doc, "Folder")
-    _sub(sites_folder, "name", "Sites")
+        kml_style(doc, f"link-{name}", line_color=colour, line_width=width)
+    sites_folder = sub_element(doc, "Folder")
+    sub_element(sites_folder, "name", "Sites")
     for i, site in enumerate(report.get("sites") or []):
-        _kml_site(sites_folder, site, results.get(site["name"], {}), float(lon[i]), float(lat[i]))
-    links_folder = _sub(doc, "Folder")
-    _sub(links_folder, "name", "Links")
+        kml_site(sites_folder, site, results.get(site["name"], {}), float(lon[i]), float(lat[i]))
+    links_folder = sub_element(doc, "Folder")
+    sub_element(links_folder, "name", "Links")
     folders = {}
     for name in STATUSES:
-        folders[name] = _sub(links_folder, "Folder")
-        _sub(folders[name], "name", f"{STATUS_TEXT[name]} ({int(np.count_nonzero(status == name))})")
+        folders[name] = sub_element(links_folder, "Folder")
+        sub_element(folders[name], "name", f"{STATUS_TEXT[name]} ({int(np.count_nonzero(status == name))})")
     for k, link in enumerate(links):
-        mark = _sub(folders[str(status[k])], "Placemark")
-        _sub(mark, "name", _link_name(link))
-        _sub(mark, "description", _html_description(_link_lines(link, str(status[k]))))
-        _sub(mark, "styleUrl", f"#link-{status[k]}")
-        _extended_data(mark, _link_properties(link, str(status[k])))
-        line = _sub(mark, "LineString")
-        _sub(line, "tessellate", 1)
-        _sub(line, "altitudeMode", "clampToGround")
-        _sub(line, "coordinates", _kml_coordinates(lon[[gw[k], node[k]]], lat[[gw[k], node[k]]]))
+        mark = sub_element(folders[str(status[k])], "Placemark")
+        sub_element(mark, "name", _link_name(link))
+        sub_element(mark, "description", html_description(_link_lines(link, str(status[k]))))
+        sub_element(mark, "styleUrl", f"#link-{status[k]}")
+        extended_data(mark, _link_properties(link, str(status[k])))
+        line = sub_element(mark, "LineString")
+        sub_element(line, "tessellate", 1)
+        sub_element(line, "altitudeMode", "clampToGround")
+        sub_element(line, "coordinates", kml_coordinates(lon[[gw[k], node[k]]], lat[[gw[k], node[k]]]))
     ET.indent(root, space=" ")
     return '<?xml version="1.0" encoding="UTF-8"?>\n' + ET.tostring(root, encoding="unicode") + "\n"

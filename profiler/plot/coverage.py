@@ -142,7 +142,7 @@ def _draw_header(ax, report, renderer) -> None:
 
 # --------------------------------------------------------------------------- map
 def _draw_map(ax, result, report, dem_paths, renderer) -> None:
-    from ..io.coverage import _geographic_classes, class_rgba
+    from ..io.coverage import geographic_classes, class_rgba
 
     sites = _sites(report)
     radius = report["settings"]["radius_km"] * 1000.0
@@ -158,7 +158,7 @@ def _draw_map(ax, result, report, dem_paths, renderer) -> None:
                              margin_frac=0.04, min_margin_m=300.0)
     basemap.prepare_map(ax, ext)
     caption = basemap.hillshade(ax, dem_paths, ext, pixels=420) if dem_paths else "no elevation model given"
-    cls, box = _geographic_classes(result, max_pixels=900)
+    cls, box = geographic_classes(result, max_pixels=900)
     ax.imshow(class_rgba(cls), extent=box, origin="upper", interpolation="nearest", zorder=2, aspect="auto",
               gid="coverage-classes")
     _draw_los_edge(ax, result)
@@ -195,9 +195,9 @@ def _draw_map(ax, result, report, dem_paths, renderer) -> None:
 
 def _draw_los_edge(ax, result) -> None:
     """The edge of the line-of-sight area: the 0.5 contour of the ``line_of_sight`` band (gid ``line-of-sight-edge``)."""
-    from ..io.coverage import _geographic_classes
+    from ..io.coverage import geographic_classes
 
-    los, (west, east, south, north) = _geographic_classes(result, max_pixels=900, band="line_of_sight")
+    los, (west, east, south, north) = geographic_classes(result, max_pixels=900, band="line_of_sight")
     ny, nx = los.shape
     glon = west + (np.arange(nx) + 0.5) * (east - west) / nx
     glat = north - (np.arange(ny) + 0.5) * (north - south) / ny

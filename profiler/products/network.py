@@ -24,8 +24,8 @@ from ..propagation import geometry
 from ..lora.bands import resolve_frequency_mhz
 from ..propagation.free_space import wavelength_m
 from ..errors import ProfilerError
-from ..engine.radio import RadioSettings, check_separation, radio_batch, slant_distance_m
-from ..lora.regional import plan as regional_plan
+from ..engine.links import NetworkSettings, link_fields
+from ..engine.radio import RadioSettings, check_separation, min_separation_m, slant_distance_m
 
 SCHEMA = "profiler.network/2"
 CHUNK_LINKS = 256
@@ -33,30 +33,6 @@ CHUNK_LINKS = 256
 
 LINK_FLOAT_KEYS = ("distance_m", "azimuth_deg", "worst_fresnel_ratio", "worst_distance_m", "diffraction_db",
                    "total_loss_db", "margin_db", "downlink_margin_db", "max_margin_db")
-
-
-@dataclass(frozen=True)
-class NetworkSettings:
-    """Everything a chunk needs besides the link indices (picklable, sent to workers)."""
-
-    dem_paths: tuple
-    frequency_mhz: float
-    band: str | None
-    k_factor: float
-    clearance_ratio: float
-    step_m: float | None
-    fill_voids: bool
-    radio: RadioSettings
-
-
-def _site_overrides(sites, idx):
-    """Per-link override arrays of the sites at ``idx`` (NaN: use the command's option)."""
-    from ..propagation.polarization import polarization_angle_deg
-
-    pol = np.array([math.nan if p is None else polarization_angle_deg(p) for p in sites.polarization])
-    return {"tx_power_dbm": sites.tx_power_dbm[idx], "gain_dbi": sites.gain_dbi[idx],
-            "cable_loss_db": sites.cable_loss_db[idx], "noise_figure_db": sites.noise_figure_db[idx],
-            "polarization_deg": pol[idx]}
 
 
 def compute_links(model, settings: NetworkSettings, lat_gw, lon_gw, mast_gw, lat_node, lon_node, mast_node,
@@ -103,7 +79,7 @@ def compute_links(model, settings: NetworkSettings, lat_gw, lon_gw, mast_gw, lat
         lam = float(wavelength_m(settings.frequency_mhz))
         ae = float(geometry.effective_radius_m(settings.k_factor))
         slant = slant_distance_m(s.length_m[rows], h_a, h_b)
-        too_close = ~(slant >= max(0.1, lam / (4 * math.pi)))
+        too_close = ~(slant >= min_separation_m(lam))
         for j in np.flatnonzero(too_close):  # rare: each needs its own message
             try:
                 check_separation(float(slant[j]), lam)
@@ -129,76 +105,6 @@ def _fill_results(out, rows, s, d, terrain, n, h_a, h_b, lam, ae, settings, over
                 "total_loss_db", "margin_db", "downlink_margin_db", "closes", "downlink_closes", "recommended_dr",
                 "max_margin_db"):
         out[key][rows] = res[key]
-
-
-def link_fields(d, terrain, n, h_a, h_b, settings: NetworkSettings, overrides=None, *, wavelength=None,
-                effective_radius=None, reduced=None) -> dict:
-    """Geometry, losses and both budgets of a batch of sampled links (the engine, no sampling).
-
-    Parameters
-    ----------
-    d, terrain : ndarray, shape (L, N)
-        Padded profiles (distance from the gateway [m], terrain [m AMSL]).
-    n : ndarray of int, shape (L,)
-        Samples per link (at least 3).
-    h_a, h_b : ndarray, shape (L,)
-        Gateway and node antenna heights [m AMSL].
-    settings : NetworkSettings
-        Band, k, clearance and radio settings.
-    overrides : dict, optional
-        Per-link end values, see :func:`profiler.radio.resolve_ends`.
-    wavelength, effective_radius : float, optional
-        Wavelength and effective Earth radius [m] (default: from ``settings``).
-    reduced : dict, optional
-        The per-link reductions over the samples, already computed
-        (``profiler coverage``'s kernel): the diffraction reductions of
-        :func:`profiler.diffraction.diffraction_reductions` plus
-        ``length_m``, ``worst_ratio`` and optionally ``worst_distance_m``
-        (the minimum of :func:`profiler.geometry.clearance_ratio_term` and
-        where it is; NaN when not given); then
-        ``d``, ``terrain`` and ``n`` may be None.
-
-    Returns
-    -------
-    dict of ndarray, shape (L,)
-        ``worst_fresnel_ratio``, ``worst_distance_m``, ``line_of_sight``,
-        ``fresnel_clear``, ``diffraction_db``, ``total_loss_db``,
-        ``rx_level_dbm`` (uplink, at the gateway), ``margin_db``,
-        ``downlink_margin_db``, ``closes``, ``downlink_closes``,
-        ``recommended_dr`` (-1: none), ``max_margin_db``.
-    """
-    from ..engine.geometry import geometry_batch
-
-    radio = settings.radio
-    lam = float(wavelength_m(settings.frequency_mhz)) if wavelength is None else wavelength
-    ae = float(geometry.effective_radius_m(settings.k_factor)) if effective_radius is None else effective_radius
-    plan = regional_plan(settings.band) if settings.band is not None else None
-    if reduced is None:
-        g = geometry_batch(d, terrain, n, h_a, h_b, lam, ae, settings.clearance_ratio)
-        worst, worst_d, los, clear = g.worst_ratio, g.worst_distance_m, g.line_of_sight, g.fresnel_clear
-    else:   # clearance > 0 at every interior sample <=> worst ratio > 0 (F1 > 0 there)
-        worst = reduced["worst_ratio"]
-        worst_d = reduced.get("worst_distance_m", np.full(worst.shape, np.nan))
-        los, clear = worst > 0.0, worst >= settings.clearance_ratio
-    rb = radio_batch(d, terrain, n, h_a, h_b, settings.frequency_mhz, ae, radio, plan, overrides, rx2=False,
-                     reduced=reduced, informative=False)
-    fade = radio.fade_margin_db
-    up, down = rb["uplink"], rb["downlink"]
-    margin_up = up["rx_power_dbm"] - up["budget_sensitivity_dbm"]
-    margin_down = down["rx_power_dbm"] - down["budget_sensitivity_dbm"]
-    loss = rb["losses"][settings.frequency_mhz]
-    out = {"worst_fresnel_ratio": worst, "worst_distance_m": worst_d,
-           "line_of_sight": los, "fresnel_clear": clear, "diffraction_db": loss["diffraction"],
-           "total_loss_db": loss["total"], "rx_level_dbm": up["rx_power_dbm"], "margin_db": margin_up,
-           "downlink_margin_db": margin_down, "closes": margin_up >= fade, "downlink_closes": margin_down >= fade}
-    if "recommended" in up:
-        out["recommended_dr"] = np.where(up["recommended"] >= 0, up["dr"], -1)
-        allowed = up["rules"]["allowed"]
-        out["max_margin_db"] = np.max(np.where(allowed, up["margin_db"], -np.inf), axis=1)
-    else:
-        out["recommended_dr"] = np.full(margin_up.shape, -1)
-        out["max_margin_db"] = margin_up
-    return out
 
 
 def _chunk_job(idx, *, settings, sites_arrays, model=None):
@@ -361,7 +267,7 @@ def network(sites, *, dem, pairs=None, max_distance_km: float = 50.0, band: str 
     """
     from ..engine.cluster import chunked, run_chunks
     from ..terrain.elevation import ElevationModel
-    from .sites import candidate_pairs, read_pairs_csv, read_sites_csv
+    from .sites import candidate_pairs, read_pairs_csv, read_sites_csv, site_overrides
 
     table = sites if hasattr(sites, "names") else read_sites_csv(sites)
     radio = (radio or RadioSettings()).validate()
@@ -383,7 +289,7 @@ def network(sites, *, dem, pairs=None, max_distance_km: float = 50.0, band: str 
                                clearance_ratio=float(clearance_ratio), step_m=step_m, fill_voids=bool(fill_voids),
                                radio=radio)
     sites_arrays = {"lat": table.lat_deg, "lon": table.lon_deg, "mast": table.mast_m, "names": list(table.names),
-                    "overrides": _site_overrides(table, np.arange(len(table)))}
+                    "overrides": site_overrides(table, np.arange(len(table)))}
     chunks = [(gw[sl], node[sl]) for sl in chunked(gw.size, chunk_links)]
     with ElevationModel.open(list(dem_paths)) as model:
         model.start_digests(table.lon_deg, table.lat_deg)

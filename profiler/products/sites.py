@@ -448,3 +448,13 @@ def candidate_pairs(sites: SiteTable, max_distance_m: float) -> tuple[np.ndarray
     dist = np.asarray(dist, dtype=float)
     keep = dist <= limit
     return gw[keep].astype(np.int64), node[keep].astype(np.int64), dist[keep]
+
+
+def site_overrides(sites, idx):
+    """Per-link override arrays of the sites at ``idx`` (NaN: use the command's option)."""
+    from ..propagation.polarization import polarization_angle_deg
+
+    pol = np.array([math.nan if p is None else polarization_angle_deg(p) for p in sites.polarization])
+    return {"tx_power_dbm": sites.tx_power_dbm[idx], "gain_dbi": sites.gain_dbi[idx],
+            "cable_loss_db": sites.cable_loss_db[idx], "noise_figure_db": sites.noise_figure_db[idx],
+            "polarization_deg": pol[idx]}

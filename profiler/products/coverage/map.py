@@ -128,7 +128,7 @@ def _area_summary(bands, resolution_m, fade_margin_db, dr_values, heard_by_gatew
 
 def _gateways(site, mast_m, name, sites):
     """The gateways of the run: ``--site``/``--mast-m`` or the gateway rows of a site list."""
-    from ..sites import read_sites_csv
+    from ..sites import read_sites_csv, site_overrides
 
     if sites is not None:
         if site is not None or mast_m is not None:
@@ -137,9 +137,7 @@ def _gateways(site, mast_m, name, sites):
         rows = table.gateway_indices()
         if rows.size == 0:
             raise ProfilerError(f"{table.source} has no gateway rows; mark the gateway sites with role gateway")
-        from ..network import _site_overrides
-
-        over = _site_overrides(table, rows)
+        over = site_overrides(table, rows)
         return [Gateway(name=table.names[i], lat_deg=float(table.lat_deg[i]), lon_deg=float(table.lon_deg[i]),
                         mast_m=float(table.mast_m[i]), role=str(table.role[i]),
                         overrides={k: float(v[m]) for k, v in over.items() if np.isfinite(v[m])})
@@ -245,7 +243,7 @@ def coverage(site=None, *, dem, mast_m=None, name="site", sites=None, radius_km:
 def _settings(dem, band, frequency_mhz, k_factor, clearance_ratio, fill_voids, radio):
     """Validated engine settings (a picklable NetworkSettings) of a coverage run."""
     from ...lora.bands import resolve_frequency_mhz
-    from ..network import NetworkSettings
+    from ...engine.links import NetworkSettings
     from ...engine.radio import RadioSettings
 
     radio = (radio or RadioSettings()).validate()

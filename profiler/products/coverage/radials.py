@@ -9,7 +9,7 @@ engine's results for a node at every sample (the numba kernel of
 :mod:`profiler.prefix_kernel` for the reductions over every prefix, or the
 numpy prefix batches).  No physics of its own: every number comes from
 :mod:`profiler.engine`, :mod:`profiler.diffraction_engine` and
-:func:`profiler.network_analysis.link_fields`.
+:func:`profiler.engine.links.link_fields`.
 
 References
 ----------
@@ -135,7 +135,7 @@ def radial_fields(distance_m, terrain_m, n, mast_m, node_mast_m, settings, overr
     :mod:`profiler.prefix_kernel` (numba), or without numba (or with
     ``kernel=False``) through the numpy engine in prefix batches of row
     blocks; the per-link formulas after them are the same numpy functions
-    either way (:func:`profiler.network_analysis.link_fields`).
+    either way (:func:`profiler.engine.links.link_fields`).
 
     Parameters
     ----------
@@ -145,7 +145,7 @@ def radial_fields(distance_m, terrain_m, n, mast_m, node_mast_m, settings, overr
         Samples per radial (0 for a radial that could not be sampled).
     mast_m, node_mast_m : float
         Site and node antenna heights above ground [m].
-    settings : profiler.network_analysis.NetworkSettings
+    settings : profiler.engine.links.NetworkSettings
         Band, k, clearance and radio settings.
     overrides : dict, optional
         The site's radio values (``tx_power_dbm``, ``gain_dbi``, ...; NaN: the option).
@@ -158,7 +158,7 @@ def radial_fields(distance_m, terrain_m, n, mast_m, node_mast_m, settings, overr
         The bands of :data:`BANDS` except ``terrain_m`` and ``line_of_sight``
         (NaN where not computed; ``recommended_dr`` NaN where none closes).
     """
-    from ..network import link_fields
+    from ...engine.links import link_fields
 
     d, t = np.asarray(distance_m, float), np.asarray(terrain_m, float)
     n = np.asarray(n)
@@ -223,7 +223,7 @@ def _kernel_fields(out, d, t, n, mast_m, node_mast_m, settings, overrides, fast)
     from ...propagation import prefix_kernel
     from ...propagation.free_space import wavelength_m
     from ...propagation.diffraction_batch import diffraction_reductions, smooth_sum_terms
-    from ..network import link_fields
+    from ...engine.links import link_fields
 
     lam = float(wavelength_m(settings.frequency_mhz))
     ae = float(geometry.effective_radius_m(settings.k_factor))

@@ -499,60 +499,61 @@ def siting_kml_text(report: dict, network_report: dict) -> str:
     """
     import xml.etree.ElementTree as ET
 
-    from ...io.exports import KML_NAMESPACE, _extended_data, _html_description, _kml_coordinates, _style, _sub
-    from ...io.network_exports import _kml_site
+    from ...io.exports import KML_NAMESPACE, extended_data, html_description, kml_coordinates, kml_style, sub_element
+    from ...io.network_exports import kml_site
 
     sites, _ = _sites_and_links(network_report)
     where = {s.get("name"): s for s in sites}
     s = report["summary"]
     ET.register_namespace("", KML_NAMESPACE)
     root = ET.Element(f"{{{KML_NAMESPACE}}}kml")
-    doc = _sub(root, "Document")
+    doc = sub_element(root, "Document")
     title = f"Gateway siting: {len(report['chosen'])} sites chosen for {s['nodes_total']} nodes"
-    _sub(doc, "name", title)
-    _sub(doc, "open", 1)
-    _sub(doc, "description", _html_description([inert_text(line) for line in _headline_lines(report)] + [CAUTION]))
+    sub_element(doc, "name", title)
+    sub_element(doc, "open", 1)
+    sub_element(doc, "description",
+                html_description([inert_text(line) for line in _headline_lines(report)] + [CAUTION]))
     for role, (colour, scale) in _KML_SITES.items():
-        _style(doc, f"site-{role}", icon_color=colour, icon_scale=scale)
+        kml_style(doc, f"site-{role}", icon_color=colour, icon_scale=scale)
     for kind, (colour, width, _) in _KML_LINKS.items():
-        _style(doc, f"link-{kind}", line_color=colour, line_width=width)
+        kml_style(doc, f"link-{kind}", line_color=colour, line_width=width)
     folders = {}
     for key, name in (("chosen", "Chosen sites"), ("node", "Nodes"), ("unreachable", "Nodes unreachable")):
-        folders[key] = _sub(doc, "Folder")
-        _sub(folders[key], "name", name)
+        folders[key] = sub_element(doc, "Folder")
+        sub_element(folders[key], "name", name)
     gateways = {g["name"]: g for g in report["sites"]}
     reasons = {u["name"]: u["reason"] for u in report["unreachable"]}
     for name in report["chosen"]:                              # one placemark per chosen site (output)
         g = gateways[name]
         lon, lat = _site_position(where, name)
-        _kml_site(folders["chosen"], where[name], {"chosen": True, "cost": g["cost"], "nodes_heard": g["nodes_heard"]},
+        kml_site(folders["chosen"], where[name], {"chosen": True, "cost": g["cost"], "nodes_heard": g["nodes_heard"]},
                   lon, lat)
     for nd in report["nodes"]:                                  # one placemark per node (output)
         lon, lat = _site_position(where, nd["name"])
-        _kml_site(folders["unreachable" if nd["unreachable"] else "node"], where[nd["name"]],
+        kml_site(folders["unreachable" if nd["unreachable"] else "node"], where[nd["name"]],
                   {"covered": nd["covered"], "unreachable": nd["unreachable"], "heard_by": "; ".join(nd["heard_by"]),
                    "best_gateway": nd["best_gateway"], "best_margin_db": nd["best_margin_db"],
                    "reason": reasons.get(nd["name"])}, lon, lat)
-    used = _sub(doc, "Folder")
-    _sub(used, "name", "Links used")
+    used = sub_element(doc, "Folder")
+    sub_element(used, "name", "Links used")
     kinds = {}
     for kind, (_, _, text) in _KML_LINKS.items():
-        kinds[kind] = _sub(used, "Folder")
-        _sub(kinds[kind], "name", text)
+        kinds[kind] = sub_element(used, "Folder")
+        sub_element(kinds[kind], "name", text)
     for nd in report["nodes"]:                                  # one line per link used (output)
         for rank, (gw, margin) in enumerate(zip(nd["heard_by"], nd["heard_by_margin_db"])):
             kind = "best" if rank == 0 else "other"
-            mark = _sub(kinds[kind], "Placemark")
-            _sub(mark, "name", f"{inert_text(gw)} \u2013 {inert_text(nd['name'])}")
-            _sub(mark, "description", _html_description([f"{inert_text(gw)} hears {inert_text(nd['name'])}: "
+            mark = sub_element(kinds[kind], "Placemark")
+            sub_element(mark, "name", f"{inert_text(gw)} \u2013 {inert_text(nd['name'])}")
+            sub_element(mark, "description", html_description([f"{inert_text(gw)} hears {inert_text(nd['name'])}: "
                                                           f"uplink margin {margin} dB ({_KML_LINKS[kind][2]})"]))
-            _sub(mark, "styleUrl", f"#link-{kind}")
-            _extended_data(mark, {"gateway": gw, "node": nd["name"], "margin_db": margin, "best": rank == 0})
-            line = _sub(mark, "LineString")
-            _sub(line, "tessellate", 1)
-            _sub(line, "altitudeMode", "clampToGround")
+            sub_element(mark, "styleUrl", f"#link-{kind}")
+            extended_data(mark, {"gateway": gw, "node": nd["name"], "margin_db": margin, "best": rank == 0})
+            line = sub_element(mark, "LineString")
+            sub_element(line, "tessellate", 1)
+            sub_element(line, "altitudeMode", "clampToGround")
             (x0, y0), (x1, y1) = _site_position(where, gw), _site_position(where, nd["name"])
-            _sub(line, "coordinates", _kml_coordinates([x0, x1], [y0, y1]))
+            sub_element(line, "coordinates", kml_coordinates([x0, x1], [y0, y1]))
     ET.indent(root, space=" ")
     return '<?xml version="1.0" encoding="UTF-8"?>\n' + ET.tostring(root, encoding="unicode") + "\n"
 
