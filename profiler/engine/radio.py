@@ -31,7 +31,7 @@ from ..propagation import polarization
 from ..propagation.diffraction_batch import diffraction_batch, diffraction_finish
 from .. import limits
 from ..lora import modem as lora_modem, lorawan
-from ..propagation.free_space import SPEED_OF_LIGHT_M_S
+from ..propagation.free_space import free_space_loss_batch_db
 from ..errors import ProfilerError
 from ..lora.regional import Plan, dwell_time_limit_ms, max_tx_power_dbm
 
@@ -247,7 +247,7 @@ def path_loss_batch(d, terrain, n, h_a, h_b, frequency_mhz, ae, radio: RadioSett
     method = radio.diffraction_method
     diff = np.zeros_like(h_a) if method == "none" else parts[method.replace("-", "_")]
     slant = slant_distance_m(length, h_a, h_b)
-    free = 20.0 * np.log10(4.0 * np.pi * slant * frequency_mhz * 1e6 / SPEED_OF_LIGHT_M_S)  # P.525-4 eq. (4)
+    free = free_space_loss_batch_db(slant, frequency_mhz)  # P.525-4 eq. (4)
     pol_loss = polarization.polarization_mismatch_db(pol_a_deg, pol_b_deg) + np.zeros_like(h_a)
     total = free + diff + radio.extra_loss_db + pol_loss
     return {"free_space": free, "diffraction": diff, "extra": np.full_like(h_a, radio.extra_loss_db),

@@ -82,7 +82,31 @@ def free_space_loss_db(distance_m, frequency_mhz):
     """
     d = positive("distance", distance_m, "m")
     f = positive("frequency", frequency_mhz, "MHz")
-    return scalar_or_array(20.0 * np.log10(4.0 * np.pi * d / wavelength_m(f)))
+    return scalar_or_array(free_space_loss_batch_db(d, f))
+
+
+def free_space_loss_batch_db(distance_m, frequency_mhz):
+    r"""The formula of :func:`free_space_loss_db` unchecked, for batches (NaN passes through).
+
+    .. math:: L_{bf} = 20 \log_{10}\left(\frac{4 \pi d f}{c}\right)
+
+    Parameters
+    ----------
+    distance_m : ndarray
+        Path length :math:`d` [m].
+    frequency_mhz : float or ndarray
+        Frequency :math:`f` [MHz].
+
+    Returns
+    -------
+    loss_db : ndarray
+        Free-space basic transmission loss [dB].
+
+    References
+    ----------
+    ITU-R P.525-4 Annex 1 §2.2, eq. (4).
+    """
+    return 20.0 * np.log10(4.0 * np.pi * distance_m * frequency_mhz * 1e6 / SPEED_OF_LIGHT_M_S)
 
 
 def near_field_distance_m(frequency_mhz, wavelengths=4.0):

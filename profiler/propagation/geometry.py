@@ -169,6 +169,19 @@ def clearance_ratio_term(d1_m, total_m, terrain_m, antenna_a_amsl_m, antenna_b_a
     return clearance / fresnel_term(d1_m, d2, wavelength_m)
 
 
+def elevation_slope(h_from_amsl_m, h_to_amsl_m, distance_m, effective_radius_m):
+    """Tangent of the elevation angle of :func:`elevation_angle_deg` [-] (monotone in the angle: horizons compare it).
+
+    tan(theta) = (h_to - h_from) / d - d / (2 a_e)
+
+    References
+    ----------
+    ITU-R P.452-18 eqs. (153) and (156a).
+    """
+    d = np.asarray(distance_m, dtype=float)
+    return (h_to_amsl_m - h_from_amsl_m) / d - d / (2.0 * effective_radius_m)
+
+
 def elevation_angle_deg(h_from_amsl_m, h_to_amsl_m, distance_m, effective_radius_m):
     """Elevation angle of the line of sight at the ``from`` end [deg above horizontal].
 
@@ -179,6 +192,5 @@ def elevation_angle_deg(h_from_amsl_m, h_to_amsl_m, distance_m, effective_radius
     ITU-R P.452-18 eqs. (153) and (156a) (line-of-sight horizon angles),
     with heights above mean sea level and d the path length.
     """
-    d = np.asarray(distance_m, dtype=float)
-    return np.degrees(np.arctan((h_to_amsl_m - h_from_amsl_m) / d - d / (2.0 * effective_radius_m)))
+    return np.degrees(np.arctan(elevation_slope(h_from_amsl_m, h_to_amsl_m, distance_m, effective_radius_m)))
 
