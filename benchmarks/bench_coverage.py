@@ -3,7 +3,7 @@
 Measured in one run on the machine at hand (figures, never asserted):
 
 * line of sight only: sampling every radial and the exact cumulative-maximum
-  test (:func:`profiler.coverage_radials.line_of_sight_radials`) put on the grid;
+  test (:func:`profiler.products.coverage.radials.line_of_sight_radials`) put on the grid;
 * ``--diffraction none`` (line of sight, worst Fresnel ratio of every
   prefix, free-space budget) and the full delta-Bullington model, each
   in-process and on a local Dask cluster of ``--workers`` processes, with the

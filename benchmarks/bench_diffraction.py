@@ -1,4 +1,4 @@
-"""Time profiler.diffraction.delta_bullington on a 3,000-sample synthetic profile.
+"""Time profiler.propagation.diffraction.delta_bullington on a 3,000-sample synthetic profile.
 
 Run:  python3 benchmarks/bench_diffraction.py [--samples N] [--repeat R]
 

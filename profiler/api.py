@@ -1,4 +1,4 @@
-"""One call from sites and elevation data to a :class:`~profiler.analysis.LinkResult`."""
+"""One call from sites and elevation data to a :class:`~profiler.products.link.LinkResult`."""
 
 from __future__ import annotations
 
@@ -42,9 +42,9 @@ def link(site_a=None, site_b=None, *, dem=None, profile_csv=None, mast_a_m: floa
         Link-budget and LoRa settings.
     date : datetime.date, optional
         Date of the sheet and of the magnetic declination (default today).
-    sheet_info : profiler.sheetinfo.SheetInfo, optional
+    sheet_info : profiler.io.sheetinfo.SheetInfo, optional
         Title-block fields (project, document, ...) for the report's ``sheet`` block.
-    digests : profiler.provenance.FileDigests, optional
+    digests : profiler.terrain.digests.FileDigests, optional
         Provenance digests of the elevation files, possibly already started.
 
     Returns
@@ -70,7 +70,7 @@ def load_profile(site_a=None, site_b=None, *, dem=None, profile_csv=None, step_m
     """The terrain profile from a surveyed CSV file or from elevation data along the geodesic.
 
     Parameters are those of :func:`link`.  Returns a
-    :class:`~profiler.terrain.TerrainProfile`.
+    :class:`~profiler.terrain.profile.TerrainProfile`.
     """
     check_names(name_a=name_a, name_b=name_b)
     if profile_csv is not None:
@@ -91,9 +91,9 @@ def load_profile(site_a=None, site_b=None, *, dem=None, profile_csv=None, step_m
 
 
 def network(sites, *, dem, **kwargs):
-    """Every gateway -> node link of a site list: see :func:`profiler.network_analysis.network`.
+    """Every gateway -> node link of a site list: see :func:`profiler.products.network.network`.
 
-    Returns a :class:`~profiler.network_analysis.NetworkResult` whose
+    Returns a :class:`~profiler.products.network.NetworkResult` whose
     ``to_dict()`` is the ``profiler.network/2`` JSON report.
     """
     from .products.network import network as _network
@@ -108,13 +108,13 @@ def siting(sites, *, dem, redundancy: int = 1, min_margin_db: float | None = Non
     Runs the network engine from every ``gateway`` and ``candidate`` site to
     every node (``kwargs`` as for :func:`network`), then solves the set
     multicover (or, with ``max_gateways``, maximum coverage) programme of
-    :mod:`profiler.setcover`.  A node is heard by a site when the best
+    :mod:`profiler.products.siting.setcover`.  A node is heard by a site when the best
     uplink margin over the plan's allowed data rates reaches
     ``min_margin_db`` (default: the fade margin).
 
     Returns
     -------
-    profiler.siting_report.SitingResult
+    profiler.products.siting.report.SitingResult
         ``result.to_dict()`` is the ``profiler.siting/1`` JSON report;
         ``result.network`` the ``profiler.network/1`` report it was solved over.
     """

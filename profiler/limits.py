@@ -1,9 +1,9 @@
 """Physical ranges of every numeric input, checked in one place.
 
 The command-line parameter types (:mod:`profiler.cli.options`) and the
-Python entry points (:func:`profiler.analysis.analyze_link`,
-:func:`profiler.mast.solve_mast`, :func:`profiler.terrain.profile_from_dem`,
-:func:`profiler.terrain.read_profile_csv`) all call :func:`check` with the
+Python entry points (:func:`profiler.products.link.analyze_link`,
+:func:`profiler.products.mast.solve.solve_mast`, :func:`profiler.terrain.profile.profile_from_dem`,
+:func:`profiler.terrain.profile.read_profile_csv`) all call :func:`check` with the
 option name, so a value is refused with the same one-line message
 ("--mast-a 1e+308 m is out of range; use 0 to 1000 m") wherever it comes
 from.  A new option gets its range by adding one line to :data:`LIMITS`.
@@ -102,7 +102,7 @@ LIMITS: dict[str, Limit] = {
     # network
     "--max-distance-km": Limit(0.0, 20_100.0, "km", "longest link considered", low_open=True),
     "--workers": Limit(1, 256, "", "worker processes", integer=True),
-    # coverage (the grid limit MAX_PIXELS of profiler.coverage_map bounds radius / resolution as well)
+    # coverage (the grid limit MAX_PIXELS of profiler.products.coverage.map bounds radius / resolution as well)
     "--mast-m": Limit(0.0, 1000.0, "m", "gateway antenna height above ground"),
     "--node-mast-m": Limit(0.0, 1000.0, "m", "node antenna height above ground"),
     "--radius-km": Limit(0.0, 200.0, "km", "coverage radius", low_open=True),

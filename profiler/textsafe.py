@@ -3,7 +3,7 @@
 User text (site names, file paths, band names) reaches spreadsheets, XML
 files (KML, SVG), JSON files and the terminal.  Each format has one
 function here; :func:`safe_strings` applies one of them to every string of
-a report before it is rendered (see :func:`profiler.outputs.write_outputs`).
+a report before it is rendered (see :func:`profiler.io.outputs.write_outputs`).
 
 =============  ==============================================================
 format         what is done

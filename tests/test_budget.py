@@ -1,4 +1,4 @@
-"""Tests for profiler.budget against published formulas and handbook values."""
+"""Tests for profiler.lora.budget against published formulas and handbook values."""
 
 import inspect
 import math

@@ -150,7 +150,7 @@ def test_progress_bar_only_when_asked_or_on_a_terminal(capsys):
 def test_dask_and_tqdm_are_not_imported_up_front():
     import subprocess
 
-    code = ("import sys, profiler.cluster, profiler.sites; "
+    code = ("import sys, profiler.engine.cluster, profiler.products.sites; "
             "print(sorted(m for m in ('dask', 'distributed', 'tqdm') if m in sys.modules))")
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True).stdout
     assert out.strip() == "[]"

@@ -1,4 +1,4 @@
-"""Tests for profiler.dem: bilinear sampling, registration, seams, units, voids.
+"""Tests for profiler.terrain.elevation: bilinear sampling, registration, seams, units, voids.
 
 Check values come from outside the project: the exactness of bilinear
 interpolation on bilinear functions and its h^2/8 error bound (handbook

@@ -1,4 +1,4 @@
-"""Tests of profiler.diffraction against ITU-R texts, their validation data and scipy.
+"""Tests of profiler.propagation.diffraction against ITU-R texts, their validation data and scipy.
 
 Check values come from:
 - ITU-R SG3 validation examples for Rec. ITU-R P.452-18 (tests/data/p452_validation,

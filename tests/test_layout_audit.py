@@ -2,7 +2,7 @@
 
 The check values come from matplotlib's own renderer extents
 (:func:`profiler.plot.audit.layout_problems`) and from the JSON report the
-sheet is drawn from (the verdict of :func:`profiler.report.verdict`).  The
+sheet is drawn from (the verdict of :func:`profiler.io.report.verdict`).  The
 first tests show that the audit can fail: a sheet with a cut text and with
 two overlapping texts is reported.
 """

@@ -1,9 +1,9 @@
 """The coverage kernel (numba) against the numpy link engine.
 
 The point of these checks is that two implementations agree: the compiled
-reductions of :mod:`profiler.prefix_kernel` followed by the shared per-link
+reductions of :mod:`profiler.propagation.prefix_kernel` followed by the shared per-link
 formulas must give the same bands as the numpy prefix batches of
-:func:`profiler.engine.geometry_batch` / :func:`profiler.diffraction.diffraction_batch`
+:func:`profiler.engine.geometry.geometry_batch` / :func:`profiler.propagation.diffraction_batch.diffraction_batch`
 (the engine whose ITU-R checks are in test_diffraction.py) to rounding,
 1e-9 dB / 1e-9 of the Fresnel ratio.  Skipped without numba (the optional
 ``fast`` extra).
@@ -90,7 +90,7 @@ def test_cache_key_follows_the_terms(monkeypatch):
 
 
 def test_numba_is_not_imported_by_the_package_or_the_link_command():
-    code = ("import sys, profiler, profiler.cli, profiler.analysis, profiler.coverage_map, profiler.cli.coverage; "
+    code = ("import sys, profiler, profiler.cli, profiler.products.link, profiler.products.coverage.map, profiler.cli.coverage; "
             "print('numba' in sys.modules)")
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True).stdout
     assert out.strip() == "False"

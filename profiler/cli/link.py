@@ -74,7 +74,7 @@ LINK_FINITE = ("distance_m", "frequency_mhz", "k_factor", "elevation_angle_a_deg
 
 def link_outputs(json_path, csv_path, geojson_path, kml_path, plot_path, paper="a4", dpi=150, dem_paths=(), *,
                  report_path=None, record=None):
-    """The outputs of ``profiler link`` for :func:`profiler.outputs.write_outputs`.
+    """The outputs of ``profiler link`` for :func:`profiler.io.outputs.write_outputs`.
 
     The terminal summary goes to standard output unless another output does.
     ``report_path`` is the ``--report`` PDF; ``record`` the run record for

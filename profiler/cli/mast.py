@@ -108,7 +108,7 @@ def with_sheet(result, profile, sheet_info, date):
 
 
 def mast_outputs(json_path, plot_path, paper="a4", dpi=200, *, report_path=None, record=None):
-    """The outputs of ``profiler mast`` for :func:`profiler.outputs.write_outputs` (``--report``: the PDF)."""
+    """The outputs of ``profiler mast`` for :func:`profiler.io.outputs.write_outputs` (``--report``: the PDF)."""
     from ..io.outputs import Output, summary_output, text_of
 
     def render_plot(report, path):

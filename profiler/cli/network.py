@@ -61,7 +61,7 @@ def network_command(json_path, csv_path, geojson_path, kml_path, plot_path, pape
 
 def network_outputs(json_path, csv_path, geojson_path, kml_path, plot_path, paper="a4", dpi=200, dem_paths=(), *,
                     sheet=None, links="best"):
-    """The outputs of ``profiler network`` for :func:`profiler.outputs.write_outputs` (summary on stdout
+    """The outputs of ``profiler network`` for :func:`profiler.io.outputs.write_outputs` (summary on stdout
     unless another output goes there); ``sheet`` holds the title-block fields and date of the map,
     ``links`` the links it draws (``best`` or ``all``)."""
     from ..io.outputs import Output, summary_output, text_of

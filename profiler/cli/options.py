@@ -347,7 +347,7 @@ class IsoDate(click.ParamType):
             self.fail(f"{value!r} is not a date YYYY-MM-DD (for example 2026-03-15)", param, ctx)
 
 
-#: Title-block options -> SheetInfo field names (profiler.sheetinfo).
+#: Title-block options -> SheetInfo field names (profiler.io.sheetinfo).
 SHEET_FIELD_OPTIONS = (("--project", "project", "Project name"), ("--document", "document", "Document number"),
                        ("--revision", "revision", "Revision"), ("--prepared-by", "prepared_by", "Prepared by"),
                        ("--checked-by", "checked_by", "Checked by"),

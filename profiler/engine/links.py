@@ -48,15 +48,15 @@ def link_fields(d, terrain, n, h_a, h_b, settings: NetworkSettings, overrides=No
     settings : NetworkSettings
         Band, k, clearance and radio settings.
     overrides : dict, optional
-        Per-link end values, see :func:`profiler.radio.resolve_ends`.
+        Per-link end values, see :func:`profiler.engine.radio.resolve_ends`.
     wavelength, effective_radius : float, optional
         Wavelength and effective Earth radius [m] (default: from ``settings``).
     reduced : dict, optional
         The per-link reductions over the samples, already computed
         (``profiler coverage``'s kernel): the diffraction reductions of
-        :func:`profiler.diffraction.diffraction_reductions` plus
+        :func:`profiler.propagation.diffraction_batch.diffraction_reductions` plus
         ``length_m``, ``worst_ratio`` and optionally ``worst_distance_m``
-        (the minimum of :func:`profiler.geometry.clearance_ratio_term` and
+        (the minimum of :func:`profiler.propagation.geometry.clearance_ratio_term` and
         where it is; NaN when not given); then
         ``d``, ``terrain`` and ``n`` may be None.
 

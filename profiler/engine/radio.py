@@ -220,12 +220,12 @@ def path_loss_batch(d, terrain, n, h_a, h_b, frequency_mhz, ae, radio: RadioSett
     """The ``loss_db`` block for one frequency, one value per link [dB].
 
     Free space over the slant distance (ITU-R P.525-4), the chosen diffraction
-    method (ITU-R P.526-15 / P.452-18, :func:`profiler.diffraction.diffraction_batch`),
+    method (ITU-R P.526-15 / P.452-18, :func:`profiler.propagation.diffraction_batch.diffraction_batch`),
     the fixed extra loss and the polarization mismatch.  The spherical-Earth
     term uses the polarization of antenna A.  ``smooth_surface_height_a_m``/
     ``_b_m`` are the smooth-surface heights hstd, hsrd of the diffraction model
     (P.452-18 Attachment 2 eqs. 165-167), not antenna heights.  With
-    ``reduced`` (:func:`profiler.diffraction.diffraction_reductions` of these
+    ``reduced`` (:func:`profiler.propagation.diffraction_batch.diffraction_reductions` of these
     links, already computed) the profiles are not read again: ``d``,
     ``terrain`` and ``n`` may be None.  With ``informative=False`` and
     ``--diffraction none`` no diffraction model runs at all (its informative
@@ -338,7 +338,7 @@ def radio_batch(d, terrain, n, h_a, h_b, frequency_mhz, ae, radio: RadioSettings
         table does not need it.
     reduced : dict, optional
         The frequency-independent reductions of the diffraction model over
-        these links (:func:`profiler.diffraction.diffraction_reductions`);
+        these links (:func:`profiler.propagation.diffraction_batch.diffraction_reductions`);
         then ``d``, ``terrain`` and ``n`` may be None (``profiler coverage``).
     informative : bool
         With False and ``--diffraction none``, skip the diffraction models

@@ -1,6 +1,6 @@
 """Files of a coverage run: the GeoTIFF, the KMZ overlay, the JSON summary, the map sheet.
 
-Every file is rendered through :func:`profiler.outputs.write_outputs`, so a
+Every file is rendered through :func:`profiler.io.outputs.write_outputs`, so a
 run writes all of them or none.
 
 References

@@ -7,7 +7,7 @@ exported; the writers then raise :class:`~profiler.errors.ProfilerError`.
 GeoJSON carries text values (site names, descriptions, the verdict) as
 given: :mod:`json` escapes control characters itself, so a name with a tab
 or a newline reads back unchanged.  In KML, text values pass through
-:func:`profiler.report.inert_text`, so a cell copied into a spreadsheet is
+:func:`profiler.io.report.inert_text`, so a cell copied into a spreadsheet is
 never taken for a formula; XML escaping is done by
 :mod:`xml.etree.ElementTree`, and text inside a KML ``description`` (which
 viewers render as HTML) is HTML-escaped first.
@@ -95,7 +95,7 @@ def property_value(value):
 def headline_properties(report: dict) -> dict:
     """The headline results as a flat ``name_with_unit -> value`` dict.
 
-    The summary rows of the CSV (:func:`profiler.report.summary_rows`) plus
+    The summary rows of the CSV (:func:`profiler.io.report.summary_rows`) plus
     the masts, azimuths, elevation angles, verdict and provenance; text as
     given (GeoJSON), made inert where KML writes it.
     """

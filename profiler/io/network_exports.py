@@ -1,12 +1,12 @@
 """Exports of a network report (``profiler.network/2``): CSV, GeoJSON and KML.
 
 Every writer takes the JSON report dictionary and returns text; the caller
-writes it with :func:`profiler.outputs.write_text` (atomic).  The safety
+writes it with :func:`profiler.io.outputs.write_text` (atomic).  The safety
 rules of the single-link exports hold: CSV and KML text values pass through
-:func:`profiler.report.inert_text` (no spreadsheet formulas), GeoJSON carries
+:func:`profiler.io.report.inert_text` (no spreadsheet formulas), GeoJSON carries
 names as given (:mod:`json` escapes control characters), JSON is escaped
 by :mod:`json`, XML by :mod:`xml.etree.ElementTree` and KML descriptions are
-HTML-escaped (the helpers of :mod:`profiler.exports`), and every export
+HTML-escaped (the helpers of :mod:`profiler.io.exports`), and every export
 carries :data:`profiler.CAUTION`.
 
 A link's status (:func:`link_status`) is ``closes`` (margin at least the

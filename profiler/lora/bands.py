@@ -35,7 +35,7 @@ class Band:
 
         For plans whose downlinks reuse the uplink channels (EU868, ...) this
         is the mean of the whole span; for US915, AU915 and CN470 it is the
-        mean of the uplink channels (see :mod:`profiler.regional`).
+        mean of the uplink channels (see :mod:`profiler.lora.regional`).
         """
         from .regional import PLANS
 

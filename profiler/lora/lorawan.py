@@ -1,6 +1,6 @@
 """LoRaWAN budget per data rate, both directions, and the plan's compliance checks.
 
-Pure numpy functions over the tables of :mod:`profiler.regional`.  The
+Pure numpy functions over the tables of :mod:`profiler.lora.regional`.  The
 received power may be an array (one value per link): every result then
 carries a trailing data-rate axis, so a single link and a network of
 thousands use the same code.
@@ -8,11 +8,11 @@ thousands use the same code.
 References
 ----------
 .. [1] LoRa Alliance, "RP002-1.0.4 LoRaWAN Regional Parameters" (2022), the
-   sections named in :mod:`profiler.regional` (data-rate tables, maximum
+   sections named in :mod:`profiler.lora.regional` (data-rate tables, maximum
    payload sizes, dwell time, maximum EIRP, receive windows).
 .. [2] LoRa modem sensitivity and time on air: see
-   :func:`profiler.lora_modem.lora_sensitivity_dbm` and
-   :func:`profiler.lora_modem.lora_time_on_air_ms` (common practice).
+   :func:`profiler.lora.modem.lora_sensitivity_dbm` and
+   :func:`profiler.lora.modem.lora_time_on_air_ms` (common practice).
 .. [3] Nominal LoRa bit rate R_b = SF * BW / 2^SF * 4 / (4 + CR) (common
    practice, as given in LoRa modem datasheets).
 """

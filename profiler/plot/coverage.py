@@ -1,8 +1,8 @@
 """The coverage map sheet: uplink margin classes over a hillshade, the sites, range rings, line of sight.
 
 :func:`write_coverage_figure` draws one landscape sheet from a
-:class:`profiler.coverage_map.CoverageResult`: the map (margin classes of
-:func:`profiler.coverage_io.margin_classes` as one translucent image over
+:class:`profiler.products.coverage.map.CoverageResult`: the map (margin classes of
+:func:`profiler.io.coverage.margin_classes` as one translucent image over
 the relief, so terrain shadow stays visible; the edge of the line-of-sight
 area as a contour of the ``line_of_sight`` band; existing gateways and
 candidate sites with their own markers; range rings every quarter radius;
@@ -12,7 +12,7 @@ numbers of the JSON), the area table, the lower-right title block, the
 provenance notes and the caution line.
 
 The four class colours (dark blue, mid blue, amber, grey;
-:data:`profiler.coverage_io.CLASS_COLOURS`) step in lightness and lie on
+:data:`profiler.io.coverage.CLASS_COLOURS`) step in lightness and lie on
 the blue-yellow axis, so they stay distinct with the common red-green
 colour-vision deficiencies and in greyscale.
 
@@ -53,7 +53,7 @@ def write_coverage_figure(result, path, paper: str = "a4", dpi: float = 200, dem
 
     Parameters
     ----------
-    result : profiler.coverage_map.CoverageResult
+    result : profiler.products.coverage.map.CoverageResult
         Bands and grid of the run.
     path : str or os.PathLike
         ``.png``, ``.pdf`` or ``.svg``; written atomically.

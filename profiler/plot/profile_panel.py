@@ -3,7 +3,7 @@
 Terrain is drawn raised by the Earth bulge for the chosen k (curved-Earth
 convention, ITU-R P.452-18 eq. 14 curvature term) under a straight line of
 sight; the first Fresnel zone radius is ITU-R P.530 eq. 2 (via
-:func:`profiler.geometry.fresnel_radius_m`).  Stretches where the
+:func:`profiler.propagation.geometry.fresnel_radius_m`).  Stretches where the
 clearance falls short of the requirement are hatched, also as a bar along
 the bottom, so the panel reads in greyscale.
 """

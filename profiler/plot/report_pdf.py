@@ -14,7 +14,7 @@ no spreadsheet guard: that belongs to CSV only).
 :func:`build_link_report_pages` and :func:`build_mast_report_pages` return
 the pages as figures (for the layout audit); the writers save them with
 matplotlib's ``PdfPages`` to the temporary file that
-:func:`profiler.outputs.write_outputs` renames into place.
+:func:`profiler.io.outputs.write_outputs` renames into place.
 """
 
 from __future__ import annotations

@@ -152,7 +152,7 @@ def provenance_lines(report: dict, source_line: str, extra=()) -> list[str]:
 
 
 def datum_line(report: dict) -> str:
-    """The datum statement (:func:`profiler.datum.datum_text`) for the report's elevation files."""
+    """The datum statement (:func:`profiler.terrain.datum.datum_text`) for the report's elevation files."""
     from ..terrain.datum import datum_text
 
     sources = (report.get("dem") or {}).get("sources") or []

@@ -160,7 +160,7 @@ def analyze_link(profile: TerrainProfile, *, mast_a_m: float = 10.0, mast_b_m: f
         Site coordinates [deg] for the report (None for a surveyed profile).
     date : datetime.date, optional
         Date of the sheet and of the magnetic declination (default today).
-    sheet_info : profiler.sheetinfo.SheetInfo, optional
+    sheet_info : profiler.io.sheetinfo.SheetInfo, optional
         Title-block fields, copied into the report's ``sheet`` block.
 
     Returns
@@ -312,7 +312,7 @@ def end_blocks(rr: dict, gateway: str, plan) -> dict:
 
 
 def exposure_blocks(ends: dict) -> dict:
-    """The report's ``rf_exposure``: per transmitting end the far-field distances (profiler.rf_exposure)."""
+    """The report's ``rf_exposure``: per transmitting end the far-field distances (profiler.lora.rf_exposure)."""
     from ..lora.rf_exposure import rf_exposure_block
 
     return {key: {"role": e["role"], **rf_exposure_block(e["eirp_dbm"], e["transmit_frequency_mhz"])}
@@ -324,7 +324,7 @@ MAGNETIC_KEYS = ("declination_a_deg", "declination_b_deg", "azimuth_a_to_b_magne
 
 
 def magnetic_bearings(site_a_lat_lon, site_b_lat_lon, profile, h_a, h_b, date) -> dict:
-    """The magnetic-bearing keys (profiler.magnetic.bearing_block) or all None without coordinates."""
+    """The magnetic-bearing keys (profiler.terrain.magnetic.bearing_block) or all None without coordinates."""
     if site_a_lat_lon is None or site_b_lat_lon is None or profile.azimuth_a_to_b_deg is None:
         return dict.fromkeys(MAGNETIC_KEYS)
     from ..terrain.magnetic import bearing_block

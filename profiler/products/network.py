@@ -41,14 +41,14 @@ def compute_links(model, settings: NetworkSettings, lat_gw, lon_gw, mast_gw, lat
 
     Parameters
     ----------
-    model : profiler.dem.ElevationModel
+    model : profiler.terrain.elevation.ElevationModel
         Open elevation model.
     settings : NetworkSettings
         Band, k, clearance, sampling and radio settings.
     lat_gw, lon_gw, mast_gw, lat_node, lon_node, mast_node : ndarray, shape (L,)
         Gateway (end A) and node (end B) positions [deg] and masts [m].
     overrides : dict, optional
-        Per-link radio values per role, see :func:`profiler.radio.resolve_ends`.
+        Per-link radio values per role, see :func:`profiler.engine.radio.resolve_ends`.
     names_gw, names_node : sequence of str, optional
         Site names for error messages.
 
@@ -242,7 +242,7 @@ def network(sites, *, dem, pairs=None, max_distance_km: float = 50.0, band: str 
     Parameters
     ----------
     sites : SiteTable or str or Path
-        The sites (see :func:`profiler.sites.read_sites_csv`).
+        The sites (see :func:`profiler.products.sites.read_sites_csv`).
     dem : str, Path or list of them
         Elevation files or folders.
     pairs : str, Path or tuple of index arrays, optional

@@ -1,6 +1,6 @@
 """The diffraction engine over many profiles at once (links x samples, padded).
 
-:mod:`profiler.diffraction` is the single-profile API (validated against the
+:mod:`profiler.propagation.diffraction` is the single-profile API (validated against the
 ITU-R SG3 examples); every one of its functions is a batch of one through
 :func:`diffraction_batch` here.  The model is split along what it needs:
 
@@ -8,7 +8,7 @@ ITU-R SG3 examples); every one of its functions is a batch of one through
   or floats): :func:`bulge_km_term`, :func:`slope_term`,
   :func:`obstacle_term`, :func:`v_unit_term`, :func:`smooth_sum_terms`.
   The numpy reductions here and the numba kernel of
-  :mod:`profiler.prefix_kernel` (``profiler coverage``) use these same
+  :mod:`profiler.propagation.prefix_kernel` (``profiler coverage``) use these same
   functions;
 * :func:`diffraction_reductions`: the maxima and sums over the samples of
   every link (two Bullington passes and the smooth-Earth heights),
@@ -153,7 +153,7 @@ def _col(x):
 # ---------------------------------------------------------------------------
 # Elementwise terms of one interior sample (plain arithmetic on arrays or
 # floats).  The numpy reductions below and the numba kernel of
-# profiler.prefix_kernel (coverage) use these same functions.
+# profiler.propagation.prefix_kernel (coverage) use these same functions.
 # ---------------------------------------------------------------------------
 
 def bulge_km_term(di_km, dd_km, ae_km):
@@ -264,7 +264,7 @@ def diffraction_reductions(reduce, d_total_km, h_first_m, h_last_m, h_tx_amsl_m,
         ``alpha_obr`` (max of :func:`obstacle_term`, and divided by the
         distances to A and B).  The numpy reduction of
         :func:`diffraction_batch` and the numba kernel of
-        :mod:`profiler.prefix_kernel` are two such callables.
+        :mod:`profiler.propagation.prefix_kernel` are two such callables.
     d_total_km : ndarray, shape (L,)
         Path lengths [km].
     h_first_m, h_last_m : ndarray, shape (L,)

@@ -134,7 +134,7 @@ def clearance_ratio(clearance, fresnel_radius):
 
 # --------------------------------------------------------------------------- elementwise terms
 # Plain arithmetic on numpy arrays or floats: the public functions above and
-# profiler.engine.geometry_batch use them, and profiler.prefix_kernel compiles
+# profiler.engine.geometry.geometry_batch use them, and profiler.propagation.prefix_kernel compiles
 # the very same functions with numba (one definition of each term).
 
 def bulge_term(d1_m, d2_m, effective_radius_m):
@@ -157,7 +157,7 @@ def clearance_ratio_term(d1_m, total_m, terrain_m, antenna_a_amsl_m, antenna_b_a
     """Clearance / F1 of one interior sample (0 < d1 < total) [-]; elementwise.
 
     ``(line - (terrain + bulge)) / F1``, exactly the ``ratio`` of
-    :func:`profiler.engine.geometry_batch` at an interior sample.
+    :func:`profiler.engine.geometry.geometry_batch` at an interior sample.
 
     References
     ----------

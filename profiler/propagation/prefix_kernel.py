@@ -4,28 +4,28 @@ In a coverage map every sample ``j`` of a radial is the node end of a link
 whose profile is the first ``j + 1`` samples.  The only work of such a link
 that grows with its length is a handful of reductions over its interior
 samples ``0 < i < j``: the worst clearance / F1 ratio
-(:func:`profiler.engine.geometry_batch`), and the maxima of one Bullington
-pass (:func:`profiler.diffraction_engine.diffraction_reductions`).  The two kernels
+(:func:`profiler.engine.geometry.geometry_batch`), and the maxima of one Bullington
+pass (:func:`profiler.propagation.diffraction_batch.diffraction_reductions`).  The two kernels
 here loop radial x node index ``j`` x interior sample ``i`` with running
 maxima/minima, so a radial costs O(n^2) arithmetic and O(n) memory instead
 of the (n, n) numpy temporaries of the prefix batch.
 
 There is no physics in this module: every per-sample term is a function of
-`profiler.geometry` or `profiler.diffraction_engine` (the ones the numpy
+`profiler.propagation.geometry` or `profiler.propagation.diffraction_batch` (the ones the numpy
 reductions use), compiled here by ``numba.njit`` with its globals pointing at
 the compiled versions of the terms it calls.  Everything after the
 reductions (eqs. 15, 19-22, 43, the spherical Earth, the budgets) is the
 numpy finish stage shared with ``profiler link``.
 
 numba is imported by this module only, and this module only by
-:func:`profiler.coverage_radials.radial_fields`; compiled code is cached on disk
+:func:`profiler.products.coverage.radials.radial_fields`; compiled code is cached on disk
 (``cache=True``).
 
 References
 ----------
 .. [1] ITU-R P.452-18 section 4.2.1, eqs. (14), (16), (18), and Attachment 2
-   section 5.1.6, eqs. (165a)-(165d), through :mod:`profiler.diffraction_engine`.
-.. [2] ITU-R P.526-15 section 2 and eq. (2), through :mod:`profiler.geometry`.
+   section 5.1.6, eqs. (165a)-(165d), through :mod:`profiler.propagation.diffraction_batch`.
+.. [2] ITU-R P.526-15 section 2 and eq. (2), through :mod:`profiler.propagation.geometry`.
 """
 
 from __future__ import annotations
@@ -150,7 +150,7 @@ def worst_ratio_prefixes(distance_m, terrain_m, n, site_amsl_m, node_amsl_m, wav
     Returns
     -------
     ndarray, shape (R, N)
-        Minimum of :func:`profiler.geometry.clearance_ratio_term` over
+        Minimum of :func:`profiler.propagation.geometry.clearance_ratio_term` over
         ``0 < i < j`` at ``[r, j]`` (NaN for ``j < 2`` or beyond ``n``).
         Not where it is: tracking the index would keep the loop from vectorizing.
 

@@ -24,9 +24,9 @@ edges.  Hence in every case the centre of pixel (row ``i``, column ``j``) is
 
 The module keeps the sampling and the block cache; opening the sources
 (files, folders, zip archives, CRS, vertical units) is in
-:mod:`profiler.dem_sources`, the tile mosaics in :mod:`profiler.dem_mosaic`,
-the source descriptions in :mod:`profiler.dem_provenance` (file digests: :mod:`profiler.provenance`)
-and the void filling in :mod:`profiler.voids` (re-exported here).
+:mod:`profiler.terrain.sources`, the tile mosaics in :mod:`profiler.terrain.mosaic`,
+the source descriptions in :mod:`profiler.terrain.source_info` (file digests: :mod:`profiler.terrain.digests`)
+and the void filling in :mod:`profiler.terrain.voids`.
 
 Only numpy, rasterio and pyproj are imported at module level.
 """
@@ -101,7 +101,7 @@ class ElevationModel:
             :data:`RASTER_SUFFIXES`.
         cache_bytes : int, optional
             Upper bound of the in-memory block cache [bytes].
-        digests : profiler.provenance.FileDigests, optional
+        digests : profiler.terrain.digests.FileDigests, optional
             Provenance digests, possibly already started on the files (by a
             command, before its heavy imports); default a new one.
 

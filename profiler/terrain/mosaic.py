@@ -8,7 +8,7 @@ pixel coordinates, owning pixels and block numbers, vectorized over points.
 :func:`build_groups` builds the groups in sampling order (finest first).
 
 Pixel registration: the centre of pixel (row ``i``, column ``j``) is
-``transform * (j + 0.5, i + 0.5)`` (see :mod:`profiler.dem`).
+``transform * (j + 0.5, i + 0.5)`` (see :mod:`profiler.terrain.elevation`).
 """
 
 from __future__ import annotations

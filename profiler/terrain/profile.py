@@ -15,7 +15,7 @@ from pathlib import Path
 import numpy as np
 
 from ..errors import ProfilerError, refuse_empty_path
-from .sampling import MAX_SAMPLES  # noqa: F401  (re-exported)
+from .sampling import MAX_SAMPLES
 from ..limits import check, check_array
 from .geodesic import validate_lat_lon
 
@@ -73,7 +73,7 @@ def profile_from_dem(model, lat_a_deg: float, lon_a_deg: float, lat_b_deg: float
 
     Parameters
     ----------
-    model : profiler.dem.ElevationModel
+    model : profiler.terrain.elevation.ElevationModel
         Open elevation model.
     lat_a_deg, lon_a_deg, lat_b_deg, lon_b_deg : float
         Site coordinates [deg, WGS84].

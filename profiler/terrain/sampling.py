@@ -97,7 +97,7 @@ def sample_links(model, lat_a_deg, lon_a_deg, lat_b_deg, lon_b_deg, *, step_m=No
 
     Parameters
     ----------
-    model : profiler.dem.ElevationModel
+    model : profiler.terrain.elevation.ElevationModel
         Open elevation model.
     lat_a_deg, lon_a_deg, lat_b_deg, lon_b_deg : array_like, shape (L,)
         Site coordinates [deg, WGS84].
@@ -196,7 +196,7 @@ def _handle_voids(out, n, has_void, fill_voids, errors):
 
     References
     ----------
-    Linear interpolation in distance, :func:`profiler.voids.fill_voids_along_profile`.
+    Linear interpolation in distance, :func:`profiler.terrain.voids.fill_voids_along_profile`.
     """
     from .voids import fill_voids_along_profile
 

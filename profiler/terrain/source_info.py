@@ -1,10 +1,10 @@
 """Provenance of elevation sources: what each raster is.
 
 :class:`SourceInfo` describes one raster opened by
-:class:`profiler.dem.ElevationModel` (path, CRS, pixel size, WGS84 extent,
+:class:`profiler.terrain.elevation.ElevationModel` (path, CRS, pixel size, WGS84 extent,
 vertical unit).  The file digests that reports quote are computed once per
-run by the model's :class:`profiler.provenance.FileDigests`
-(:meth:`profiler.dem.ElevationModel.provenance`).
+run by the model's :class:`profiler.terrain.digests.FileDigests`
+(:meth:`profiler.terrain.elevation.ElevationModel.provenance`).
 """
 
 from __future__ import annotations
@@ -48,5 +48,5 @@ class SourceInfo:
 
     @cached_property
     def sha256(self) -> str:
-        """SHA-256 of the file on disk [hex] (reports use :meth:`profiler.dem.ElevationModel.provenance`)."""
+        """SHA-256 of the file on disk [hex] (reports use :meth:`profiler.terrain.elevation.ElevationModel.provenance`)."""
         return file_sha256(self.file_path or self.path)

@@ -2,25 +2,25 @@
 
 :func:`coverage` is the one Python call behind ``profiler coverage``.  Every
 value comes from the link engine (:mod:`profiler.engine`, the diffraction
-and budget of :func:`profiler.network_analysis.link_fields`): nothing here
+and budget of :func:`profiler.engine.links.link_fields`): nothing here
 re-implements the physics.
 
 Method
 ------
 1. Radials from the site, ``radial_count`` of them (arc spacing at the rim
    about two output pixels), each sampled along its WGS84 geodesic by
-   :func:`profiler.engine.sample_links` at ``radial_step_m`` (half the
+   :func:`profiler.terrain.sampling.sample_links` at ``radial_step_m`` (half the
    output resolution with a diffraction model, the resolution without);
-   the radial functions are in :mod:`profiler.coverage_radials`.
+   the radial functions are in :mod:`profiler.products.coverage.radials`.
 2. Every sample ``j`` of a radial is the node end of one link whose profile
    is the first ``j + 1`` samples of the radial.  The reductions over each
    link's interior samples (worst Fresnel ratio, the maxima of the two
    Bullington passes and the smooth-Earth heights) run for all prefixes of
-   all radials in the numba kernel of :mod:`profiler.prefix_kernel`, or
+   all radials in the numba kernel of :mod:`profiler.propagation.prefix_kernel`, or
    without numba as the (n, n) prefix batch of a radial in row blocks
    through the numpy engine; the per-link formulas after them are the
-   engine's own (:func:`profiler.diffraction_engine.diffraction_finish`,
-   :func:`profiler.network_analysis.link_fields`).  Sample 1 (two samples,
+   engine's own (:func:`profiler.propagation.diffraction_batch.diffraction_finish`,
+   :func:`profiler.engine.links.link_fields`).  Sample 1 (two samples,
    no interior point) is a three-sample straight slope, i.e. free space;
    sample 0 (the site itself) takes the value of sample 1.
 3. Line of sight is the exact cumulative maximum of the curvature-corrected
@@ -33,12 +33,12 @@ Method
    pixel centre.
 
 Radial sectors (chunks of radials) are the tasks of
-:func:`profiler.cluster.run_chunks`, in-process or on Dask.
+:func:`profiler.engine.cluster.run_chunks`, in-process or on Dask.
 
 References
 ----------
 .. [1] ITU-R P.526-15 sections 2, 4.5 (Bullington, delta-Bullington) via
-   :mod:`profiler.diffraction`; ITU-R P.452-18 eq. (156a) (elevation angle
+   :mod:`profiler.propagation.diffraction`; ITU-R P.452-18 eq. (156a) (elevation angle
    with Earth curvature, the LOS criterion).
 .. [2] J. P. Snyder, "Map Projections: A Working Manual", USGS PP 1395
    (1987), ch. 25 (azimuthal equidistant projection: true distance and
@@ -193,7 +193,7 @@ def coverage(site=None, *, dem, mast_m=None, name="site", sites=None, radius_km:
         agree to rounding.
     date : datetime.date, optional
         Date of the sheet (default today).
-    sheet_info : profiler.sheetinfo.SheetInfo, optional
+    sheet_info : profiler.io.sheetinfo.SheetInfo, optional
         Title-block fields (project, document, ...) for the report's ``sheet`` block.
 
     Returns
@@ -294,7 +294,7 @@ def _heard_by_gateways(gateways, per_gateway, fade_margin_db) -> np.ndarray:
 def _radio_ends(gateways, settings) -> dict:
     """Transmitter power, antenna gain, feeder loss and EIRP of every gateway [dBm, dBi, dB, dBm].
 
-    The same resolution as the engine's (:func:`profiler.radio.resolve_ends`: the options, per-site
+    The same resolution as the engine's (:func:`profiler.engine.radio.resolve_ends`: the options, per-site
     columns of the site list, the plan's EIRP limit); EIRP = P + G - L (ITU-R P.525-4).
     """
     from ...lora.lorawan import eirp_dbm

@@ -1,21 +1,21 @@
 """Radials of a coverage run: their count and step, terrain along them, and the engine at every sample.
 
-The pieces of :func:`profiler.coverage_map.coverage` that work on radial
+The pieces of :func:`profiler.products.coverage.map.coverage` that work on radial
 profiles (arrays of shape (radials, samples)): :func:`radial_count` and
 :func:`radial_step_m` choose the radials, :func:`sample_radials` samples the
 terrain along them with the link engine, :func:`line_of_sight_radials` is the
 exact cumulative-maximum line of sight, and :func:`radial_fields` gives the
 engine's results for a node at every sample (the numba kernel of
-:mod:`profiler.prefix_kernel` for the reductions over every prefix, or the
+:mod:`profiler.propagation.prefix_kernel` for the reductions over every prefix, or the
 numpy prefix batches).  No physics of its own: every number comes from
-:mod:`profiler.engine`, :mod:`profiler.diffraction_engine` and
+:mod:`profiler.engine`, :mod:`profiler.propagation.diffraction_batch` and
 :func:`profiler.engine.links.link_fields`.
 
 References
 ----------
 .. [1] ITU-R P.452-18 eq. (156a) (elevation angle with Earth curvature, the
    line-of-sight criterion); ITU-R P.526-15 sections 2 and 4.5 via
-   :mod:`profiler.diffraction`.
+   :mod:`profiler.propagation.diffraction`.
 """
 
 from __future__ import annotations
@@ -63,7 +63,7 @@ def line_of_sight_radials(distance_m, terrain_m, n, site_amsl_m, node_mast_m, ef
     ``(t_i - h_a) / d_i - d_i / (2 a_e) < (h_j - h_a) / d_j - d_j / (2 a_e)``,
     i.e. the cumulative maximum of the curvature-corrected elevation-angle
     tangent stays below that of the node [1]_; the same criterion as
-    :func:`profiler.engine.geometry_batch` (clearance > 0 at every interior sample).
+    :func:`profiler.engine.geometry.geometry_batch` (clearance > 0 at every interior sample).
 
     Parameters
     ----------
@@ -131,7 +131,7 @@ def radial_fields(distance_m, terrain_m, n, mast_m, node_mast_m, settings, overr
     """Engine results for a node at every sample of every radial (every prefix of a radial is one link).
 
     The reductions over each link's samples run in the compiled kernel of
-    :mod:`profiler.prefix_kernel` (numba), or without numba (or with
+    :mod:`profiler.propagation.prefix_kernel` (numba), or without numba (or with
     ``kernel=False``) through the numpy engine in prefix batches of row
     blocks; the per-link formulas after them are the same numpy functions
     either way (:func:`profiler.engine.links.link_fields`).

@@ -1,6 +1,6 @@
 """Closed-form clearance bounds of the mast solver.
 
-The clearance criteria of :func:`profiler.mast.solve_mast` are linear in the
+The clearance criteria of :func:`profiler.products.mast.solve.solve_mast` are linear in the
 antenna heights at every profile sample, so the lowest mast that meets one is
 the maximum over the samples of a per-sample bound: the target height of the
 line of sight (:func:`clearance_target_m`), the bound for one raised end or

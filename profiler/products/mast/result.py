@@ -1,13 +1,13 @@
 """The mast solver's result: the ``profiler.mast/2`` report and its verdict parts.
 
-:class:`MastResult` is everything :func:`profiler.mast.solve_mast` found
+:class:`MastResult` is everything :func:`profiler.products.mast.solve.solve_mast` found
 (``to_dict()`` is the JSON report); :func:`feasible_binding` and
 :func:`infeasible_outcome` name the binding criterion and obstruction,
 :func:`per_extra_metre` the gain of one more metre.
 
 References
 ----------
-.. [1] The criteria and their sources: :mod:`profiler.mast`.
+.. [1] The criteria and their sources: :mod:`profiler.products.mast.solve`.
 """
 
 from __future__ import annotations

@@ -1,7 +1,7 @@
 """Height search of the mast solver: the problem, the height grid, the margin scan and bisection.
 
 :class:`MastProblem` holds the geometry and radio of one search and evaluates
-the link engine over a batch of heights (:func:`profiler.radio.radio_batch`
+the link engine over a batch of heights (:func:`profiler.engine.radio.radio_batch`
 vectorized over heights, cached per height).  The margin criterion is a
 bracketing search: a scan of the height grid (:func:`height_grid`), then
 bisection to 1 mm inside the first grid cell that meets it
@@ -11,8 +11,8 @@ steadily over the grid is reported (:func:`monotone_note`).
 References
 ----------
 .. [1] ITU-R P.526-15 (10/2019), section 2 and eq. (2): the clearance
-   ratio of each height, as :func:`profiler.geometry.clearance_ratio`.
-.. [2] The margin of each height is that of :func:`profiler.radio.radio_batch`
+   ratio of each height, as :func:`profiler.propagation.geometry.clearance_ratio`.
+.. [2] The margin of each height is that of :func:`profiler.engine.radio.radio_batch`
    (the ``budget.margin_db`` of ``profiler link``).
 """
 
@@ -106,7 +106,7 @@ class MastProblem:
     def radio_masts(self, ma, mb):
         """Uplink budget (the link report's ``budget``) and diffraction for masts ``ma``, ``mb`` (arrays or scalars).
 
-        The heights are the link axis of one :func:`profiler.radio.radio_batch` call: a mast scan is the
+        The heights are the link axis of one :func:`profiler.engine.radio.radio_batch` call: a mast scan is the
         link engine vectorized over heights.  Scalars in, one dict out; arrays in, a list of dicts.
         """
         ma_arr, mb_arr = np.broadcast_arrays(np.atleast_1d(np.asarray(ma, dtype=float)),

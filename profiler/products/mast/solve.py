@@ -27,10 +27,10 @@ Heights are rounded *up* to the next millimetre (strictly above the exact
 bound), so a reported height always meets its criterion.
 
 This module validates the options and assembles the answer; the closed-form
-clearance bounds are in :mod:`profiler.mast_clearance`, the height search
-(margin scan and bisection) in :mod:`profiler.mast_search`, the cheapest
-split in :mod:`profiler.mast_split` and the report in
-:mod:`profiler.mast_result` (the public names are re-exported here).
+clearance bounds are in :mod:`profiler.products.mast.clearance`, the height search
+(margin scan and bisection) in :mod:`profiler.products.mast.search`, the cheapest
+split in :mod:`profiler.products.mast.split` and the report in
+:mod:`profiler.products.mast.result`.
 
 References
 ----------
@@ -154,7 +154,7 @@ def solve_mast(profile: TerrainProfile, *, frequency_mhz: float, solve: str = "b
     mast_step_m : float
         Height step of the table and of the margin scan [m] (default 1).
     band, name_a, name_b, site_a_lat_lon, site_b_lat_lon
-        Report metadata, as for :func:`profiler.analysis.analyze_link`.
+        Report metadata, as for :func:`profiler.products.link.analyze_link`.
 
     Returns
     -------
@@ -165,7 +165,7 @@ def solve_mast(profile: TerrainProfile, *, frequency_mhz: float, solve: str = "b
     References
     ----------
     ITU-R P.530-18 section 2.2.2.1 (planning criteria); ITU-R P.526-15
-    section 2, eq. (2); margin as :func:`profiler.radio.radio_results`.
+    section 2, eq. (2); margin as :func:`profiler.engine.radio.radio_results`.
     """
     limits.check_name(name_a, "name_a")
     limits.check_name(name_b, "name_b")

@@ -12,7 +12,7 @@ node, margin_db`` (uplink, node -> gateway, at ``recommended_dr``),
 A node is heard by a site when their link has no error, an allowed data
 rate closes (``recommended_dr`` not null) and ``margin_db >=
 min_margin_db``.  :func:`siting_from_network` builds the matrices, solves
-with :func:`profiler.setcover.solve_siting` and returns the JSON report.
+with :func:`profiler.products.siting.setcover.solve_siting` and returns the JSON report.
 
 References
 ----------
@@ -196,7 +196,7 @@ def siting_from_network(network_report: dict, *, min_margin_db: float, redundanc
         Least uplink margin for a node to count as heard [dB]; the command
         passes ``--min-margin-db`` or, by default, the fade margin.
     redundancy, max_gateways, time_limit_s
-        As in :func:`profiler.setcover.solve_siting`.
+        As in :func:`profiler.products.siting.setcover.solve_siting`.
     costs : dict, optional
         ``site name -> cost`` overriding the sites' ``cost`` fields.
     """
@@ -379,7 +379,7 @@ def siting_csv_text(report: dict) -> str:
 
     ``heard_by`` lists the chosen sites that hear the node, separated by
     ``"; "``; ``reason`` is filled for unreachable nodes.  Text cells pass
-    through :func:`profiler.report.inert_text`.
+    through :func:`profiler.io.report.inert_text`.
     """
     reasons = {u["name"]: u["reason"] for u in report["unreachable"]}
     buf = io.StringIO()
@@ -489,7 +489,7 @@ def siting_kml_text(report: dict, network_report: dict) -> str:
     with cost and nodes heard), ``Nodes`` (heard R times or not, with the
     chosen sites hearing them) and ``Nodes unreachable`` (with the reason),
     each placemark at the antenna tip extruded to the ground as in the
-    network KML (:mod:`profiler.exports_network`); ``Links used``: one
+    network KML (:mod:`profiler.io.network_exports`); ``Links used``: one
     ground-clamped line from each chosen site to each node it hears, the
     node's best server in its own sub-folder.  Sites not chosen are left
     out (they are in the GeoJSON with ``chosen: false``).
