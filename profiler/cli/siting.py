@@ -77,6 +77,10 @@ def siting_outputs(json_path, csv_path, geojson_path, plot_path, paper="a4", dpi
             return getattr(siting_report, function)(both["siting"], both["network"])
         return render
 
+    def csv_text(both, path):
+        from ..products.siting.report import siting_csv_text
+        return siting_csv_text(both["siting"])
+
     def render_plot(both, path):
         from ..plot.siting import write_siting_figure
         from ..textsafe import safe_strings
@@ -86,7 +90,7 @@ def siting_outputs(json_path, csv_path, geojson_path, plot_path, paper="a4", dpi
 
     return [
         Output("--json", json_path, of_siting(text_of("io.report", "json_text")), "json"),
-        Output("--csv", csv_path, of_siting(text_of("products.siting.report", "siting_csv_text")), "csv"),
+        Output("--csv", csv_path, csv_text, "csv"),
         Output("--geojson", geojson_path, of_both("siting_geojson_text"), "json"),
         Output("--kml", kml_path, of_both("siting_kml_text"), "xml"),
         Output("--plot", plot_path, render_plot, "figure", suffixes=(".png", ".pdf", ".svg"), stdout=False),
