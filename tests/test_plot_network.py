@@ -58,7 +58,7 @@ def _best(links, node, role_of, role):
 
 def network_report(sites=SITES, links=LINKS) -> dict:
     """A profiler.network/2 report (the keys of the contract; numbers not read by the sheet left out):
-    existing gateways and candidate sites counted apart, as README defines them."""
+    existing gateways and candidate sites counted apart, as docs/network.md defines them."""
     node_names = [name for name, _, role in sites if role == "node"]
     role_of = {name: role for name, _, role in sites}
 
@@ -117,7 +117,7 @@ def _svg_texts(path):
 # --------------------------------------------------------------------------- status
 def test_link_status_follows_the_contract_thresholds(report):
     """closes: margin >= fade margin; marginal: 0 <= margin < fade; fails: < 0; error: error set
-    (the profiler.network/1 contract in README), boundaries included."""
+    (the profiler.network/2 contract and the map of docs/network.md), boundaries included."""
     assert link_status(report["links"], FADE_DB) == EXPECTED
     assert link_status([{"margin_db": 9.999, "error": None}], FADE_DB) == ["marginal"]
     assert link_status([{"margin_db": -1e-9, "error": None}], FADE_DB) == ["fails"]
