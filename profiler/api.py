@@ -115,7 +115,7 @@ def siting(sites, *, dem, redundancy: int = 1, min_margin_db: float | None = Non
     -------
     profiler.siting_report.SitingResult
         ``result.to_dict()`` is the ``profiler.siting/1`` JSON report;
-        ``result.network`` the ``profiler.network/1`` report it was solved over.
+        ``result.network`` the ``profiler.network/2`` report it was solved over.
     """
     from .radio import RadioSettings
     from .siting_report import SitingResult, siting_from_network
