@@ -26,10 +26,11 @@ import profiler  # noqa: E402
 #: defined, and one listed in ``API_OPTIONAL`` that does not exist at all is left out.
 API_FUNCTIONS = ["link", "mast", "network", "coverage", "siting", "load_profile",
                  "analyze_link", "profile_from_dem", "read_profile_csv"]
-API_OPTIONAL = {"mast"}
+API_OPTIONAL = {"mast", "MastResult"}
 #: Public classes (the result objects keep these names), found by name in the package.
 API_CLASSES = ["LinkResult", "NetworkResult", "CoverageResult", "SitingResult", "MastResult",
                "RadioSettings", "ElevationModel", "TerrainProfile", "SheetInfo", "ProfilerError"]
+
 project = "profiler"
 author = "the profiler developers"
 copyright = "the profiler developers"
@@ -42,7 +43,7 @@ exclude_patterns = ["_build"]
 root_doc = "index"
 
 myst_heading_anchors = 3
-myst_enable_extensions = ["colon_fence", "dollarmath"]
+myst_enable_extensions = ["colon_fence"]
 # numpydoc References list sources the text need not cite with [1]_.
 suppress_warnings = ["myst.header", "ref.citation"]
 
@@ -97,7 +98,7 @@ def write_public_api(app):
         for name in names:
             where = _defined_in(name, kind)
             if where is None:
-                if name not in API_OPTIONAL and name not in ("MastResult",):
+                if name not in API_OPTIONAL:
                     log.warning("docs/conf.py lists %s, which the package does not define", name)
                 continue
             # A class is also on its module's page: the entry here is a copy (not indexed twice).
