@@ -20,7 +20,7 @@ def links_option(f):
 @click.option("--csv", "csv_path", default=None, metavar="FILE", help="Write one CSV row per link.")
 @click.option("--geojson", "geojson_path", default=None, metavar="FILE", help="Write sites and links as GeoJSON.")
 @click.option("--kml", "kml_path", default=None, metavar="FILE", help="Write sites and links as KML.")
-@plot_options
+@plot_options(continued=True)
 @links_option
 @sheet_options
 @cluster_options

@@ -24,7 +24,7 @@ from .options import (INTEGER, NUMBER, cluster_options, network_call_kwargs, net
               help="Write the sites (chosen or not) and the links used as GeoJSON.")
 @click.option("--kml", "kml_path", default=None, metavar="FILE",
               help="Write the chosen sites, the nodes and the links used as KML.")
-@plot_options
+@plot_options(continued=True)
 @sheet_options
 @cluster_options
 def siting_command(redundancy, min_margin_db, max_gateways, time_limit_s, json_path, csv_path, geojson_path,
