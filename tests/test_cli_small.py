@@ -194,7 +194,7 @@ def help_examples(command: str) -> list[list[str]]:
     return [shlex.split(line.strip()) for line in joined.splitlines() if line.strip().startswith("profiler ")]
 
 
-@pytest.mark.parametrize("command", ["link", "network", "siting"])
+@pytest.mark.parametrize("command", ["link", "network", "siting", "coverage"])
 def test_help_examples_run_on_the_bundled_terrain(tmp_path, monkeypatch, command):
     examples = help_examples(command)
     assert examples and all(e[:2] == ["profiler", command] for e in examples)

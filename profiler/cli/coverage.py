@@ -47,9 +47,9 @@ def coverage_command(dem_paths, site, mast_m, name, sites_csv, radius_km, resolu
     gateways_heard with --sites).
 
     \b
-    Example:
+    Examples:
       profiler coverage --dem dem_samples --site -29.9125,-19.955 --mast-m 10 --radius-km 10 --out cov.tif
-      profiler coverage --dem dem_samples --site -29.9125,-19.955 --mast-m 10 --radius-km 4 --plot cov.png \
+      profiler coverage --dem dem_samples --site -29.9125,-19.955 --mast-m 10 --radius-km 4 --plot cov.png \\
           --project "Vellmoor valley LoRaWAN" --document VV-RF-002
     """
     from . import collect_garbage

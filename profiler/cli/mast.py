@@ -185,7 +185,7 @@ def mast_summary_text(report: dict) -> str:
         every = next(e for e in (1, 2, 5, 10, 20, 50, 100, 200, 500, 1000, 10**9) if len(table) <= 12 * e)
         shown = table[::every] + ([table[-1]] if (len(table) - 1) % every else [])
         lines.append("  table         mast A [m]  mast B [m]  worst F1  low-k F1  diffr [dB]  margin [dB]  data rate"
-                     + (f"  (every {every}th row)" if every > 1 else ""))
+                     + (f"  (one row in {every}; every row in --json and --report)" if every > 1 else ""))
         previous = None
         for row in shown:
             rate = _rate(row).strip(" ()") or "-"

@@ -10,7 +10,9 @@ checks from the renderer's own extents that
   a title-block box, a panel);
 * no two drawn texts overlap (their boxes, a text's background box
   included, intersect by more than :data:`TOLERANCE_IN` on both axes);
-* no text is shortened with an ellipsis (``…`` or ``...``).
+* no text is shortened with an ellipsis (``…`` or ``...``);
+* no text runs into a region reserved with :func:`reserve` (a table, the
+  title block) unless it was marked to stay in that region's axes.
 
 The sheets call :func:`contain` while drawing (cheap: it only stores the
 box); the check itself runs in the test suite over a matrix of sheets.
@@ -23,7 +25,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-__all__ = ["contain", "drawn_texts", "layout_problems", "LayoutProblem", "TOLERANCE_IN", "FRAME_PAD_IN"]
+__all__ = ["contain", "reserve", "drawn_texts", "layout_problems", "LayoutProblem", "TOLERANCE_IN", "FRAME_PAD_IN"]
 
 #: Overlap or overshoot below this [in] is not a problem (anti-aliasing, rounding of extents).
 TOLERANCE_IN = 0.012
@@ -37,7 +39,7 @@ ELLIPSES = ("\u2026", "...")
 
 @dataclass(frozen=True)
 class LayoutProblem:
-    """One defect: ``kind`` is ``outside-frame``, ``outside-box``, ``overlap`` or ``ellipsis``."""
+    """One defect: ``kind`` is ``outside-frame``, ``outside-box``, ``overlap``, ``intrudes`` or ``ellipsis``."""
 
     kind: str
     text: str
@@ -59,6 +61,29 @@ def contain(text, ax, box=None, name: str = ""):
     """
     text._layout_box = (ax, None if box is None else tuple(float(v) for v in box), name)
     return text
+
+
+def reserve(ax, box, name: str = ""):
+    """Reserve ``box`` (left, bottom, right, top) in data coordinates of ``ax`` for the texts of ``ax``.
+
+    A drawn text that is not marked (:func:`contain`) to stay in ``ax`` and
+    overlaps the box is an ``intrudes`` problem: a note running into the
+    title block's rules, a label over a table.
+    """
+    fig = ax.figure
+    regions = getattr(fig, "_layout_reserved", None)
+    if regions is None:
+        regions = fig._layout_reserved = []
+    regions.append((ax, tuple(float(v) for v in box), name or "a reserved region"))
+
+
+def _reserved_px(fig):
+    """The reserved regions of ``fig`` as (axes, (x0, y0, x1, y1) [px], name)."""
+    out = []
+    for ax, box, name in getattr(fig, "_layout_reserved", None) or ():
+        (x0, y0), (x1, y1) = ax.transData.transform([(box[0], box[1]), (box[2], box[3])])
+        out.append((ax, (min(x0, x1), min(y0, y1), max(x0, x1), max(y0, y1)), name))
+    return out
 
 
 def _container_px(text):
@@ -119,6 +144,13 @@ def layout_problems(fig, *, allow_overlap=()) -> list[LayoutProblem]:
     -------
     list of LayoutProblem
     """
+    from .sheet import style
+
+    with style():       # measured as written: the sheets' fonts and (unhinted) glyphs
+        return _problems(fig, tuple(allow_overlap))
+
+
+def _problems(fig, allow) -> list[LayoutProblem]:
     texts = drawn_texts(fig)
     renderer = fig.canvas.get_renderer()
     dpi = fig.dpi
@@ -136,18 +168,27 @@ def layout_problems(fig, *, allow_overlap=()) -> list[LayoutProblem]:
         container, name = _container_px(t)
         if container is not None and _outside(box, container, tol):
             problems.append(LayoutProblem("outside-box", s, detail=f"{name}: {_by(box, container, dpi)}"))
+    for ax, region, name in _reserved_px(fig):
+        for t, s, box in zip(texts, labels, boxes):
+            mark = getattr(t, "_layout_box", None)
+            if (mark is None or mark[0] is not ax) and _overlaps(box, region, tol):
+                problems.append(LayoutProblem("intrudes", s, name))
     if len(texts) > 1:
         x0, y0, x1, y1 = boxes.T
         dx = np.minimum(x1[:, None], x1[None, :]) - np.maximum(x0[:, None], x0[None, :])
         dy = np.minimum(y1[:, None], y1[None, :]) - np.maximum(y0[:, None], y0[None, :])
         hit = np.triu((dx > tol) & (dy > tol), k=1)
-        allow = tuple(allow_overlap)
         for i, j in zip(*np.nonzero(hit)):
             if any(rule(texts[i], texts[j]) for rule in allow):
                 continue
             problems.append(LayoutProblem("overlap", labels[i], labels[j],
                                           f"{dx[i, j] / dpi:.3f} x {dy[i, j] / dpi:.3f} in"))
     return problems
+
+
+def _overlaps(box, region, tol) -> bool:
+    return (min(box[2], region[2]) - max(box[0], region[0]) > tol
+            and min(box[3], region[3]) - max(box[1], region[1]) > tol)
 
 
 def _outside(box, container, tol) -> bool:

@@ -26,7 +26,7 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass, replace
 
-from .audit import contain
+from .audit import contain, reserve
 from .sheet import RULE, SHADE, cell_text, text_width_in
 
 __all__ = ["Table", "Placed", "Measure", "paginate", "draw_placed", "FONT_PT", "MIN_FONT_PT"]
@@ -68,6 +68,10 @@ class Placed:
     fontsize: float
 
 
+#: Width allowance [in] of the fit tests: (w + 2 pad) - 2 pad may fall short of w by a rounding error.
+ROUNDING_IN = 1e-6
+
+
 class Measure:
     """Text widths [in] through one renderer, each (text, size, bold) measured once; share one between
     :func:`paginate` and :func:`draw_placed` (pages at the same dpi measure alike)."""
@@ -95,6 +99,7 @@ class Measure:
 
     def wrap(self, s: str, width_in: float, size: float, bold: bool = False) -> list[str]:
         """``s`` in lines at most ``width_in`` wide: broken at spaces, a too-long word between characters."""
+        width_in += ROUNDING_IN         # a column sized to its text + padding gives the text back exactly
         if self.width(s, size, bold) <= width_in:
             return [s]
         lines, line = [], ""
@@ -305,6 +310,7 @@ def draw_placed(ax, m: Measure, placed) -> None:
                 strong = j > 0 and cell.startswith("NO")
                 _cell(ax, m, left, y, w, rh, cell, size, bold=strong, color="0.25" if j == 0 < len(row) - 1 else "black")
             y -= rh
+        reserve(ax, (x0, y, x0 + total, top_in - p.y_in), name="a table")
         ax.plot([x0, x0 + total], [y, y], color=RULE, lw=0.8)
         for left in lefts[1:]:
             ax.plot([left, left], [y, body_top], color="0.75", lw=0.4)

@@ -215,7 +215,10 @@ def style():
         "pdf.fonttype": 42, "ps.fonttype": 42, "axes.linewidth": 0.7, "axes.labelsize": 8,
         "xtick.labelsize": 7, "ytick.labelsize": 7, "xtick.major.width": 0.6, "ytick.major.width": 0.6,
         "hatch.linewidth": 0.6, "legend.fontsize": 7, "figure.facecolor": "white",
-        "savefig.facecolor": "white", "axes.unicode_minus": True, "image.interpolation": "antialiased",
+        "savefig.facecolor": "white", "axes.unicode_minus": True,
+        # Unhinted glyphs: text widths scale with the resolution (within 0.1 %), so a sheet laid out at
+        # one dpi fits at any other and in PDF/SVG (hinting made them differ by up to 3 %).
+        "text.hinting": "no_hinting", "image.interpolation": "antialiased",
     }))
     return stack
 

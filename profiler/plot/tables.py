@@ -209,6 +209,7 @@ def draw_table(ax, x0, y_top, widths, table, fontsize, row_h, pad) -> float:
             audit.contain(t, ax, (left, top - h, right, top), name="table cell")
         top -= h
     bottom = top
+    audit.reserve(ax, (x0, bottom, x0 + total, y_top), name="a table")
     ax.plot([x0, x0 + total], [bottom, bottom], color=RULE, lw=0.8)
     if len(lefts) > 1:   # every column rule in one artist (fewer artists: faster drawing)
         first = y_top - row_h - (max(len(lines) for lines in table[0]) - 1) * line_h

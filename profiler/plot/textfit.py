@@ -173,6 +173,7 @@ def wrap_lines(s: str, room_in: float, measure, fontsize: float, bold: bool = Fa
     without glyph positions measure word by word.
     """
     out = []
+    room_in += 1e-6         # rounding: a box sized to its text + padding gives the text back exactly
     for para in s.split("\n"):
         if measure(para, fontsize, bold) <= room_in:
             out.append(para)

@@ -125,6 +125,7 @@ def draw_title_box(ax, renderer, rows, fontsize: float = 7.0, label_size: float 
             audit.contain(t, ax, cell, name="title-block box")
         y -= row_h
     ax.add_patch(Rectangle((0.0, y), width, height - y, fill=False, ec="0.1", lw=1.1, clip_on=False))
+    audit.reserve(ax, (0.0, y, width, height), name="the title block")
     return height - y
 
 
