@@ -9,7 +9,6 @@ from its ``/Type /Page`` objects (ISO 32000-1, 7.7.3.3, page objects).  Built at
 
 from __future__ import annotations
 
-import copy
 import re
 from pathlib import Path
 
@@ -19,6 +18,7 @@ from matplotlib.text import Text
 from profiler.errors import ProfilerError
 from profiler.outputs import Output, write_outputs
 from profiler.plot import audit
+from test_network_layout import long_names  # noqa: E402  (the tests folder is on the path, as sample_sites)
 
 ROOT = Path(__file__).resolve().parents[1]
 DEM = [str(ROOT / "dem_samples")]
@@ -42,26 +42,9 @@ def pdf_pages(path) -> int:
     return len(re.findall(rb"/Type\s*/Page(?![a-z])", Path(path).read_bytes()))
 
 
-def long_name(name: str, chars: int = 200) -> str:
-    """``name`` followed by words up to exactly ``chars`` characters (the longest a site list may carry)."""
-    text = (f"{name} beside the old drove road on the far side of the Vellmoor valley " * 4)[:chars - 1].rstrip()
-    return text + "x" * (chars - len(text))
-
-
 def renamed(report: dict) -> dict:
-    """The network report with every site renamed to 200 characters (links and nodes follow)."""
-    out = copy.deepcopy(report)
-    new = {s["name"]: long_name(s["name"]) for s in out["sites"]}
-    assert len(set(new.values())) == len(new)
-    for site in out["sites"]:
-        site["name"] = new[site["name"]]
-    for link in out["links"]:
-        link["gateway"], link["node"] = new[link["gateway"]], new[link["node"]]
-    for node in out["nodes"]:
-        for key in ("name", "best_gateway", "best_candidate"):
-            if node.get(key) is not None:
-                node[key] = new[node[key]]
-    return out
+    """The network report with every site renamed to 200 characters (the longest a site list may carry)."""
+    return long_names(report, 200)
 
 
 def assert_clean(figures):
