@@ -407,8 +407,8 @@ def _lines_height(layout, size) -> float:
 
 def _draw_lists(ax, renderer, sections) -> list:
     """The lists, wrapped; the font shrinks to :data:`MIN_FONT_PT`, then the last entries of the lists
-    (in :data:`DROP_ORDER`) move to sheet 2, a last line saying how many; returns the sections moved
-    ``(heading, entries)``."""
+    (in :data:`DROP_ORDER`) move to sheet 2, a line under each list saying how many of its entries
+    ("and 5 more: continued on sheet 2"); returns the sections moved ``(heading, entries)``."""
     width, height = ax.get_xlim()[1], ax.get_ylim()[1]
     widths = _Widths(renderer)
     size = 6.5
@@ -419,16 +419,18 @@ def _draw_lists(ax, renderer, sections) -> list:
     widths = _Widths(renderer, exact=True)            # the lines drawn: wrapped with widths at their size
     layout = _list_layout(sections, width, widths, size)
     line_h = size * 1.25 / 72.0
-    dropped, note = 0, []
-    while _lines_height(layout, size) + len(note) * line_h > height and any(e for _, e in layout):
+
+    def notes():                                    # per list, the line saying how many moved
+        return [_wrap(f"and {len(all_) - len(kept)} more: continued on sheet 2", width, widths, size)
+                if len(kept) < len(all_) else [] for (_, all_), (_, kept) in zip(sections, layout)]
+
+    while (_lines_height(layout, size) + sum(map(len, notes())) * line_h > height
+           and any(e for _, e in layout)):
         k = next(i for i in DROP_ORDER if i < len(layout) and layout[i][1])
         layout[k][1].pop()              # the last entry of the least needed list: to the continuation sheet
-        dropped += 1
-        note = _wrap(f"and {dropped} more entr{'y' if dropped == 1 else 'ies'}: continued on sheet 2", width,
-                     widths, size)
     head_h = (size + 0.8) * 1.25 / 72.0
     y = height
-    for head, entries in layout:
+    for (head, entries), note in zip(layout, notes()):
         for line in head:
             audit.contain(put_text(ax, 0.0, y, line, ha="left", va="top", fontsize=size + 0.8, fontweight="bold"), ax)
             y -= head_h
@@ -437,9 +439,9 @@ def _draw_lists(ax, renderer, sections) -> list:
                 audit.contain(put_text(ax, 0.0 if j == 0 else 0.1, y, line, ha="left", va="top", fontsize=size,
                                        color="0.1"), ax)
                 y -= line_h
+        for line in note:
+            audit.contain(put_text(ax, 0.0, y, line, ha="left", va="top", fontsize=size, fontstyle="italic"), ax)
+            y -= line_h
         y -= 0.6 * line_h
-    for line in note:
-        audit.contain(put_text(ax, 0.0, y, line, ha="left", va="top", fontsize=size, fontstyle="italic"), ax)
-        y -= line_h
     return [(head, entries[len(kept):]) for (head, entries), (_, kept) in zip(sections, layout)
             if len(kept) < len(entries)]
