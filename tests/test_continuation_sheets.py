@@ -93,10 +93,16 @@ def test_a_failing_later_output_leaves_no_continuation_file(coverage_result, tmp
     def fails(report, path):
         raise ProfilerError("the later output fails")
 
-    outputs = coverage_outputs(plot=tmp_path / "c.png", dpi=60, dem_paths=DEM, result=coverage_result)
+    good, bad = tmp_path / "good", tmp_path / "bad"
+    good.mkdir()
+    bad.mkdir()
+    write_outputs(coverage_outputs(plot=good / "c.png", dpi=60, dem_paths=DEM, result=coverage_result),
+                  coverage_result.to_dict())
+    assert sorted(p.name for p in good.iterdir()) == ["c-2.png", "c.png"]       # the run has a continuation sheet
+    outputs = coverage_outputs(plot=bad / "c.png", dpi=60, dem_paths=DEM, result=coverage_result)
     with pytest.raises(ProfilerError, match="later output"):
-        write_outputs(outputs + [Output("--csv", tmp_path / "late.csv", fails)], coverage_result.to_dict())
-    assert list(tmp_path.iterdir()) == []
+        write_outputs(outputs + [Output("--csv", bad / "late.csv", fails)], coverage_result.to_dict())
+    assert list(bad.iterdir()) == []        # neither the sheet, nor its continuation, nor a temporary file
 
 
 def test_stale_continuation_sheets_removed_others_kept(coverage_result, tmp_path):
