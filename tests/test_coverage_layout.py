@@ -220,3 +220,13 @@ def test_map_labels_clear_of_north_arrow_and_scale_bar(tmp_path):
     result = coverage(dem=DEM, sites=csv, radius_km=RADIUS_KM, resolution_m=RES_M, progress=False)
     fig = build_coverage_figure(result, paper="letter", dem_paths=DEM)
     assert [str(p) for p in layout_problems(fig)] == []
+
+
+@pytest.mark.parametrize("paper", ["a4", "letter"])
+def test_header_names_the_site_when_it_fits(figures, paper):
+    """The count ("Coverage map: 1 gateway") stands in for the name only when the name does not fit."""
+    heads = [t.get_text() for t in figures[(paper, "single", "short")].texts
+             + [t for ax in figures[(paper, "single", "short")].axes for t in ax.texts]]
+    assert f"Coverage map: {SHORT}" in heads
+    long_heads = [t.get_text() for ax in figures[(paper, "single", "long")].axes for t in ax.texts]
+    assert "Coverage map: 1 gateway" in long_heads

@@ -419,7 +419,8 @@ def draw_title_block(ax, renderer, title: str, subtitle: str, badge: str, badge_
         Small caps label above the badge.
     fit_title : callable, optional
         ``fit_title(text_artist, room_in)``: the caller's own fitting of the
-        title to ``room_in`` [in] wide (default: wrap and shrink as above).
+        title to ``room_in`` [in] wide, called only when the title is wider
+        than that on one line at 15 pt (default: wrap and shrink as above).
 
     Returns
     -------
@@ -449,7 +450,7 @@ def draw_title_block(ax, renderer, title: str, subtitle: str, badge: str, badge_
     title_room_h = height - 0.02 - (0.04 + sub_fit.height_in + 0.05)
     head = put_text(ax, 0.0, height - 0.02, title, ha="left", va="top", fontsize=15, fontweight="bold",
                     linespacing=1.05)
-    if fit_title is not None:
+    if fit_title is not None and measure(title, 15, True) > room:     # the caller's fitting, only when needed
         fit_title(head, room)
         title_ok = True
     else:
