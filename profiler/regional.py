@@ -71,7 +71,7 @@ class Plan:
     data_rates : dict
         DR -> (spreading factor [-], bandwidth [kHz]) for the LoRa DRs.
     uplink_drs, downlink_drs : tuple of int
-        DRs each direction may use.
+        Data-rate indices [-] each direction may use.
     uplink_channels_mhz, downlink_channels_mhz : tuple of float
         Lowest and highest channel of each direction [MHz].
     rx1_rule : str
