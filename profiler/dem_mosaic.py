@@ -77,7 +77,7 @@ class Tile:
         Parameters
         ----------
         raw : ndarray
-            Pixel values as stored (raster units, before the vertical scale).
+            Pixel values as stored [raster units], before scale and offset.
 
         Returns
         -------
