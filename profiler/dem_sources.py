@@ -88,7 +88,7 @@ def unit_scale_m(unit, path):
 
     References
     ----------
-    .. [1] NIST Special Publication 811 (2008), appendix B.6 (international
+    .. [1] NIST Special Publication 811 (2008), appendix B (international
        foot 0.3048 m; US survey foot 1200/3937 m).
     """
     text = " ".join(str(unit or "").lower().replace("_", " ").replace("-", " ").split())

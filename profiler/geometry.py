@@ -55,7 +55,7 @@ def parse_k_factor(text) -> float:
 
     References
     ----------
-    .. [1] ITU-R P.452-18 section 4.2.1, eq. (6a): a_e = k a; ITU-R P.834-9
+    .. [1] ITU-R P.452-18 eq. (6a): a_e = k a; ITU-R P.834-9
        section 1 (median k = 4/3).
     """
     if isinstance(text, (int, float)):

@@ -344,7 +344,7 @@ def lowest_closing_sf(table):
     Returns
     -------
     sf : int or None
-        Smallest ``sf`` with ``closes`` True, or None if no SF closes.
+        Smallest spreading factor [-] with ``closes`` True, or None if no SF closes.
 
     References
     ----------

@@ -166,8 +166,8 @@ def eirp_w(eirp_dbm):
 
     References
     ----------
-    .. [1] Definition of the decibel-milliwatt: P [dBm] = 10 log10(P / 1 mW)
-       (ITU-R V.574-5, section 3).
+    .. [1] Power level relative to 1 mW: P [dBm] = 10 log10(P / 1 mW)
+       (Recommendation ITU-R V.574, use of the decibel and the neper).
     """
     p = 10.0 ** ((np.asarray(eirp_dbm, dtype=float) - 30.0) / 10.0)
     return float(p) if p.ndim == 0 else p
