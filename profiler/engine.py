@@ -114,12 +114,19 @@ def sample_links(model, lat_a_deg, lon_a_deg, lat_b_deg, lon_b_deg, *, step_m=No
     Returns
     -------
     LinkSamples
+        Padded profiles: distances [m], coordinates [deg], terrain [m AMSL].
 
     Notes
     -----
     Each link gets ``n = max(ceil(length / step) + 1, 3)`` equally spaced
     samples including both ends.  Positions are the direct geodesic problem
     from A along the forward azimuth at ``length * j / (n - 1)``.
+
+    References
+    ----------
+    .. [1] C. F. F. Karney, "Algorithms for geodesics", J. Geodesy 87,
+       43-55 (2013): the inverse and direct geodesic problems on the
+       WGS84 ellipsoid, as implemented by PROJ's ``geod``.
     """
     from pyproj import Geod
 

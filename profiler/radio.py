@@ -483,7 +483,17 @@ def radio_batch(d, terrain, n, h_a, h_b, frequency_mhz, ae, radio: RadioSettings
         dr and sensitivity; with a plan also the per-DR arrays, the rules and
         the recommended index), ``rx2`` (with a plan), ``per_sf`` (uplink
         margins for SF7-SF12 at --bw-khz), ``phy_bytes``, ``app_bytes``,
-        ``dwell_ms``, ``downlink_frequency_mhz``.
+        ``dwell_ms``, ``downlink_frequency_mhz``.  Powers [dBm], losses and
+        margins [dB], frequencies [MHz], times [ms], payloads [byte].
+
+    References
+    ----------
+    .. [1] ITU-R P.525-4 Annex 1 section 2.2 (free space and e.i.r.p.
+       between isotropic antennas).
+    .. [2] ITU-R P.452-18 section 4.2 and ITU-R P.526-15 section 4
+       (diffraction).
+    .. [3] LoRa Alliance RP002-1.0.4, the plan's data-rate, payload-size,
+       power and dwell-time subsections.
     """
     h_a = np.asarray(h_a, dtype=float)
     h_b = np.asarray(h_b, dtype=float)
@@ -641,6 +651,11 @@ def radio_results(d, terrain, h_a, h_b, frequency_mhz, ae, radio: RadioSettings,
         Keys ``loss_db`` (at the uplink frequency), ``budget`` (uplink,
         node -> gateway), ``budget_downlink``, ``lora`` (None with a given
         sensitivity), ``compliance``, ``slant_distance_m`` [m], ``warnings``.
+
+    References
+    ----------
+    .. [1] ITU-R P.525-4 Annex 1 section 2.2; ITU-R P.452-18 section 4.2;
+       LoRa Alliance RP002-1.0.4 (as :func:`radio_batch`).
     """
     d2 = np.asarray(d, dtype=float)[None, :]
     rb = radio_batch(d2, np.asarray(terrain, dtype=float)[None, :], np.array([d2.shape[1]]),

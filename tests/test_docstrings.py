@@ -55,6 +55,17 @@ REFERENCED_MODULES = {
     "polarization", "prefix_kernel", "regional", "lora_modem", "lorawan",
     "budget", "rf_exposure", "magnetic", "datum",
 }
+# ... and these functions of the other modules, which compute a physical
+# quantity among bookkeeping neighbours (module.qualified name).
+REFERENCED_FUNCTIONS = {
+    "bands.wavelength_m", "path.geodesic_inverse", "path.geodesic_path",
+    "terrain.profile_from_dem", "engine.sample_links", "engine.geometry_batch",
+    "dem.ElevationModel.sample", "dem.ElevationModel.pixel_size_m",
+    "dem.ElevationModel.pixel_sizes_m", "dem_sources.metres_per_degree",
+    "dem_sources.unit_scale_m", "dem_sources.describe_raster",
+    "radio.slant_distance_m", "radio.check_separation", "radio.diffraction_losses",
+    "radio.path_loss_batch", "radio.radio_batch", "radio.radio_results",
+}
 
 # Modules that transcribe ITU-R recommendations or the LoRaWAN regional
 # parameters: their References must also point into the source (an equation,
@@ -187,8 +198,14 @@ def test_numeric_parameters_carry_units(qualname, obj):
     assert not missing, f"{qualname}: no unit in brackets for {missing}"
 
 
-REFERENCED = [(q, o) for q, o in OBJECTS
-              if _module(o) in REFERENCED_MODULES and inspect.isfunction(o)]
+REFERENCED = [(q, o) for q, o in OBJECTS if inspect.isfunction(o) and (
+    _module(o) in REFERENCED_MODULES
+    or f"{_module(o)}.{o.__qualname__}" in REFERENCED_FUNCTIONS)]
+
+
+def test_referenced_functions_exist():
+    found = {f"{_module(o)}.{o.__qualname__}" for _, o in REFERENCED}
+    assert REFERENCED_FUNCTIONS <= found, REFERENCED_FUNCTIONS - found
 
 
 @pytest.mark.parametrize("qualname, obj", REFERENCED, ids=[q for q, _ in REFERENCED])
