@@ -114,7 +114,7 @@ def near_field_distance_m(frequency_mhz, wavelengths=4.0):
 class LinkBudget:
     """Result of :func:`link_budget`; array fields when inputs are arrays.
 
-    Attributes
+    Parameters
     ----------
     tx_power_dbm : float
         Transmitter output power [dBm].

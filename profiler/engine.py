@@ -47,16 +47,16 @@ MAX_ANCHORED_M = 1_000_000.0
 class LinkSamples:
     """Terrain profiles of a batch of links (padded arrays, see the module docstring).
 
-    Attributes
+    Parameters
     ----------
     distance_m, lat_deg, lon_deg, terrain_m : ndarray, shape (L, N)
         Distance from A [m], sample coordinates [deg, WGS84], terrain [m AMSL].
     n : ndarray of int, shape (L,)
-        Samples per link (3 for a link with an error, whose values are NaN).
+        Number of samples per link (3 for a link with an error, whose values are NaN).
     length_m, azimuth_a_to_b_deg, azimuth_b_to_a_deg : ndarray, shape (L,)
         Geodesic length [m] and azimuths at both ends [deg from true north].
     voids_filled : ndarray of int, shape (L,)
-        Samples interpolated across voids.
+        Number of samples interpolated across voids.
     void_stretches_m : list of list
         Per link, ``[[from_m, to_m], ...]`` of the interpolated stretches (distance from A).
     error : list of (str or None)
@@ -114,12 +114,19 @@ def sample_links(model, lat_a_deg, lon_a_deg, lat_b_deg, lon_b_deg, *, step_m=No
     Returns
     -------
     LinkSamples
+        Padded profiles: distances [m], coordinates [deg], terrain [m AMSL].
 
     Notes
     -----
     Each link gets ``n = max(ceil(length / step) + 1, 3)`` equally spaced
     samples including both ends.  Positions are the direct geodesic problem
     from A along the forward azimuth at ``length * j / (n - 1)``.
+
+    References
+    ----------
+    .. [1] C. F. F. Karney, "Algorithms for geodesics", J. Geodesy 87,
+       43-55 (2013): the inverse and direct geodesic problems on the
+       WGS84 ellipsoid, as implemented by PROJ's ``geod``.
     """
     from pyproj import Geod
 
@@ -319,7 +326,37 @@ def _steps_m(model, anchors, ok, step_m):
 
 @dataclass(frozen=True)
 class LinkGeometry:
-    """Curved-Earth geometry of a batch of links (arrays (L, N) padded with NaN, or (L,))."""
+    """Curved-Earth geometry of a batch of links (arrays (L, N) padded with NaN, or (L,)).
+
+    Parameters
+    ----------
+    bulge_m : ndarray, shape (L, N)
+        Earth bulge at each sample [m].
+    los_m : ndarray, shape (L, N)
+        Height of the antenna-to-antenna line [m AMSL].
+    fresnel_radius_m : ndarray, shape (L, N)
+        First Fresnel radius F1 [m].
+    clearance_m : ndarray, shape (L, N)
+        Clearance of the line above terrain plus bulge [m].
+    ratio : ndarray, shape (L, N)
+        Clearance over F1 [-].
+    worst_index : ndarray of int, shape (L,)
+        Index of the interior sample with the smallest ratio.
+    worst_ratio : ndarray, shape (L,)
+        Smallest clearance over F1 [-].
+    worst_distance_m : ndarray, shape (L,)
+        Distance of that sample from A [m].
+    worst_clearance_m : ndarray, shape (L,)
+        Clearance at that sample [m].
+    worst_terrain_m : ndarray, shape (L,)
+        Terrain at that sample [m AMSL].
+    line_of_sight : ndarray of bool, shape (L,)
+        Positive clearance at every interior sample.
+    fresnel_clear : ndarray of bool, shape (L,)
+        Ratio at least the required clearance ratio at every interior sample.
+    elevation_angle_a_deg, elevation_angle_b_deg : ndarray, shape (L,)
+        Elevation angle of the line at A and at B [deg above horizontal].
+    """
 
     bulge_m: np.ndarray
     los_m: np.ndarray
@@ -346,18 +383,23 @@ def geometry_batch(distance_m, terrain_m, n, antenna_a_amsl_m, antenna_b_amsl_m,
     distance_m, terrain_m : ndarray, shape (L, N)
         Padded profiles [m], [m AMSL].
     n : ndarray of int, shape (L,)
-        Samples per link.
+        Number of samples per link.
     antenna_a_amsl_m, antenna_b_amsl_m : ndarray, shape (L,)
         Antenna heights [m AMSL].
     wavelength_m, effective_radius_m : float
         Wavelength and effective Earth radius [m].
     clearance_ratio_required : float
-        Required clearance as a fraction of F1.
+        Required clearance as a fraction of F1 [-].
+
+    Returns
+    -------
+    LinkGeometry
+        Per-sample and per-link geometry.
 
     References
     ----------
-    ITU-R P.526-15 section 2 (bulge d1 d2 / (2 a_e)) and eq. (2) (F1);
-    P.452-18 eqs. (153), (156a) (elevation angles).
+    .. [1] ITU-R P.526-15 section 2 (bulge d1 d2 / (2 a_e)) and eq. (2) (F1);
+       P.452-18 eqs. (153), (156a) (elevation angles).
     """
     d = np.asarray(distance_m, dtype=float)
     rows = np.arange(d.shape[0])
