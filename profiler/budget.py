@@ -16,6 +16,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from profiler.bands import SPEED_OF_LIGHT_M_S
 from profiler.bands import wavelength_m as _wavelength_m
 from profiler.lora_modem import (LORA_BANDWIDTHS_KHZ, LORA_LDRO_SYMBOL_TIME_MS, LORA_SNR_MIN_DB,
                                  LORA_SPREADING_FACTORS, THERMAL_NOISE_DBM_PER_HZ, lora_sensitivity_dbm,
@@ -24,7 +25,7 @@ from profiler.lora_modem import (LORA_BANDWIDTHS_KHZ, LORA_LDRO_SYMBOL_TIME_MS, 
 from profiler.numeric_args import non_negative, numbers, positive, scalar_or_array
 from profiler.polarization import polarization_angle_deg, polarization_mismatch_db
 
-__all__ = ["free_space_loss_db", "near_field_distance_m", "link_budget", "LinkBudget",
+__all__ = ["free_space_loss_db", "free_space_term_db", "near_field_distance_m", "link_budget", "LinkBudget",
            "lora_symbol_time_ms", "lora_sensitivity_dbm", "lora_time_on_air_ms", "uplinks_per_hour",
            "lora_table", "lowest_closing_sf", "polarization_angle_deg", "polarization_mismatch_db",
            "THERMAL_NOISE_DBM_PER_HZ", "LORA_SPREADING_FACTORS", "LORA_BANDWIDTHS_KHZ", "LORA_SNR_MIN_DB",
@@ -74,7 +75,33 @@ def free_space_loss_db(distance_m, frequency_mhz):
     """
     d = positive("distance", distance_m, "m")
     f = positive("frequency", frequency_mhz, "MHz")
-    return scalar_or_array(20.0 * np.log10(4.0 * np.pi * d / _wavelength_m(f)))
+    return scalar_or_array(free_space_term_db(d, f))
+
+
+def free_space_term_db(distance_m, frequency_mhz):
+    """Free-space basic transmission loss of many links [dB] (plain arithmetic, no checks).
+
+    The one formula behind :func:`free_space_loss_db` and the link engine
+    (:func:`profiler.radio.path_loss`): L_bf = 20 log10(4 pi d f / c).
+
+    Parameters
+    ----------
+    distance_m : float or array_like
+        Path length d [m], greater than 0.
+    frequency_mhz : float or array_like
+        Frequency f [MHz], greater than 0; broadcasts against ``distance_m``.
+
+    Returns
+    -------
+    loss_db : float or numpy.ndarray
+        Free-space basic transmission loss [dB].
+
+    References
+    ----------
+    .. [1] ITU-R P.525-4 (2019), "Calculation of free-space attenuation",
+       Annex 1 section 2.2, eq. (4).
+    """
+    return 20.0 * np.log10(4.0 * np.pi * distance_m * frequency_mhz * 1e6 / SPEED_OF_LIGHT_M_S)
 
 
 def near_field_distance_m(frequency_mhz, wavelengths=4.0):

@@ -421,8 +421,8 @@ def geometry_batch(distance_m, terrain_m, n, antenna_a_amsl_m, antenna_b_amsl_m,
     with np.errstate(invalid="ignore"):
         los_ok = np.all(np.where(interior, clearance > 0.0, True), axis=1)
         clear = np.all(np.where(interior, ratio >= clearance_ratio_required, True), axis=1)
-        angle_a = np.degrees(np.arctan((h_b - h_a) / total - total / (2.0 * effective_radius_m)))
-        angle_b = np.degrees(np.arctan((h_a - h_b) / total - total / (2.0 * effective_radius_m)))
+        angle_a = geometry.elevation_angle_deg(h_a, h_b, total, effective_radius_m)
+        angle_b = geometry.elevation_angle_deg(h_b, h_a, total, effective_radius_m)
     return LinkGeometry(bulge_m=bulge, los_m=los, fresnel_radius_m=f1, clearance_m=clearance, ratio=ratio,
                         worst_index=worst, worst_ratio=ratio[pick], worst_distance_m=d[pick],
                         worst_clearance_m=clearance[pick], worst_terrain_m=np.asarray(terrain_m)[pick],

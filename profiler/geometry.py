@@ -350,6 +350,35 @@ def clearance_ratio_term(d1_m, total_m, terrain_m, antenna_a_amsl_m, antenna_b_a
     return clearance / fresnel_term(d1_m, d2, wavelength_m)
 
 
+def elevation_tangent(h_from_amsl_m, h_to_amsl_m, distance_m, effective_radius_m):
+    """Tangent of the elevation angle of a ray over the curved Earth [-] (plain arithmetic, no checks).
+
+    tan(theta) = (h_to - h_from) / d - d / (2 a_e)
+
+    Parameters
+    ----------
+    h_from_amsl_m : float or array_like
+        Height of the end the angle is seen from, above mean sea level [m].
+    h_to_amsl_m : float or array_like
+        Height of the point seen above mean sea level [m].
+    distance_m : float or array_like
+        Distance between them d [m], greater than 0.
+    effective_radius_m : float or array_like
+        Effective Earth radius a_e [m].
+
+    Returns
+    -------
+    tangent : float or ndarray
+        tan(theta) [-]; negative below the local horizontal.
+
+    References
+    ----------
+    .. [1] ITU-R P.452-18 eqs. (153) and (156a) (horizon elevation angles
+       with the Earth's curvature), small-angle form as in the Recommendation.
+    """
+    return (h_to_amsl_m - h_from_amsl_m) / distance_m - distance_m / (2.0 * effective_radius_m)
+
+
 def elevation_angle_deg(h_from_amsl_m, h_to_amsl_m, distance_m, effective_radius_m):
     """Elevation angle of the line of sight at the ``from`` end [deg above horizontal].
 
@@ -377,5 +406,5 @@ def elevation_angle_deg(h_from_amsl_m, h_to_amsl_m, distance_m, effective_radius
        angles), with heights above mean sea level and d the path length.
     """
     d = np.asarray(distance_m, dtype=float)
-    return np.degrees(np.arctan((h_to_amsl_m - h_from_amsl_m) / d - d / (2.0 * effective_radius_m)))
+    return np.degrees(np.arctan(elevation_tangent(h_from_amsl_m, h_to_amsl_m, d, effective_radius_m)))
 

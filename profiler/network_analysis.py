@@ -22,7 +22,7 @@ import numpy as np
 from . import CAUTION, __version__, geometry
 from .bands import resolve_frequency_mhz, wavelength_m
 from .errors import ProfilerError
-from .radio import RadioSettings, check_separation, radio_batch, slant_distance_m
+from .radio import RadioSettings, check_separation, minimum_separation_m, radio_batch, slant_distance_m
 from .regional import plan as regional_plan
 
 SCHEMA = "profiler.network/2"
@@ -101,7 +101,7 @@ def compute_links(model, settings: NetworkSettings, lat_gw, lon_gw, mast_gw, lat
         lam = float(wavelength_m(settings.frequency_mhz))
         ae = float(geometry.effective_radius_m(settings.k_factor))
         slant = slant_distance_m(s.length_m[rows], h_a, h_b)
-        too_close = ~(slant >= max(0.1, lam / (4 * math.pi)))
+        too_close = ~(slant >= minimum_separation_m(lam))
         for j in np.flatnonzero(too_close):  # rare: each needs its own message
             try:
                 check_separation(float(slant[j]), lam)

@@ -28,7 +28,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from . import diffraction, limits, lora_modem, lorawan, polarization
-from .bands import SPEED_OF_LIGHT_M_S
+from .budget import free_space_term_db
 from .errors import ProfilerError
 from .regional import Plan, dwell_time_limit_ms, max_tx_power_dbm
 
@@ -335,7 +335,7 @@ def path_loss_batch(d, terrain, n, h_a, h_b, frequency_mhz, ae, radio: RadioSett
     method = radio.diffraction_method
     diff = np.zeros_like(h_a) if method == "none" else parts[method.replace("-", "_")]
     slant = slant_distance_m(length, h_a, h_b)
-    free = 20.0 * np.log10(4.0 * np.pi * slant * frequency_mhz * 1e6 / SPEED_OF_LIGHT_M_S)  # P.525-4 eq. (4)
+    free = free_space_term_db(slant, frequency_mhz)                                     # P.525-4 eq. (4)
     pol_loss = polarization.polarization_mismatch_db(pol_a_deg, pol_b_deg) + np.zeros_like(h_a)
     total = free + diff + radio.extra_loss_db + pol_loss
     return {"free_space": free, "diffraction": diff, "extra": np.full_like(h_a, radio.extra_loss_db),
@@ -388,6 +388,23 @@ def diffraction_losses(distance_m, terrain_m, antenna_a_amsl_m, antenna_b_amsl_m
             "smooth_surface_height_a_m": float(out["hstd"][0]), "smooth_surface_height_b_m": float(out["hsrd"][0])}
 
 
+def minimum_separation_m(wavelength_m: float) -> float:
+    """Shortest antenna separation a link is computed for [m]: ``max(MIN_SEPARATION_M, lambda / (4 pi))``.
+
+    Parameters
+    ----------
+    wavelength_m : float
+        Wavelength [m].
+
+    Returns
+    -------
+    float
+        Separation [m] below which the free-space loss of ITU-R P.525-4
+        eq. (4) would be negative, or :data:`MIN_SEPARATION_M` if larger.
+    """
+    return max(MIN_SEPARATION_M, wavelength_m / (4.0 * math.pi))
+
+
 def check_separation(slant_m: float, wavelength_m: float) -> None:
     """Refuse sites too close for any path-loss estimate (closer than 0.1 m or lambda / (4 pi)).
 
@@ -408,7 +425,7 @@ def check_separation(slant_m: float, wavelength_m: float) -> None:
     .. [1] ITU-R P.525-4 Annex 1 section 2.2, eq. (4): the free-space loss
        20 log10(4 pi d / lambda) is negative below d = lambda / (4 pi).
     """
-    need = max(MIN_SEPARATION_M, wavelength_m / (4.0 * math.pi))
+    need = minimum_separation_m(wavelength_m)
     if not slant_m >= need:
         raise ProfilerError(f"the sites are too close: the antennas are {slant_m:.3f} m apart and a link needs at "
                             f"least {need:.2f} m; check the coordinates and masts")
