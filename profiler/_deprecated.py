@@ -106,6 +106,7 @@ NAMES = {
         'max_app_payload_bytes': 'profiler.lora.regional',
     },
     'profiler.budget': {
+        'free_space_term_db': 'profiler.propagation.free_space',
         'LORA_BANDWIDTHS_KHZ': 'profiler.lora.modem',
         'LORA_LDRO_SYMBOL_TIME_MS': 'profiler.lora.modem',
         'LORA_SNR_MIN_DB': 'profiler.lora.modem',
@@ -182,6 +183,9 @@ NAMES = {
         'round_up_mm': 'profiler.products.mast.clearance',
     },
     'profiler.network_analysis': {
+        'NetworkSettings': 'profiler.engine.links',
+        'link_fields': 'profiler.engine.links',
+        'minimum_separation_m': 'profiler.engine.radio',
         'RadioSettings': 'profiler.engine.radio',
         'check_separation': 'profiler.engine.radio',
         'radio_batch': 'profiler.engine.radio',

@@ -116,7 +116,7 @@ def siting(sites, *, dem, redundancy: int = 1, min_margin_db: float | None = Non
     -------
     profiler.products.siting.report.SitingResult
         ``result.to_dict()`` is the ``profiler.siting/1`` JSON report;
-        ``result.network`` the ``profiler.network/1`` report it was solved over.
+        ``result.network`` the ``profiler.network/2`` report it was solved over.
     """
     from .engine.radio import RadioSettings
     from .products.siting.report import SitingResult, siting_from_network
@@ -165,15 +165,16 @@ def coverage_outputs(out=None, plot=None, kmz=None, json=None, *, paper="a4", dp
     def render_kmz(report, path):
         return coverage_kmz_bytes(result, report)
 
-    def render_plot(report, path):
+    def render_plot(report, path, files=None):
         from .plot import write_coverage_figure
         write_coverage_figure(result, path, paper=paper, dpi=dpi, dem_paths=list(dem_paths or ()), report=report,
-                              date_text=(report.get("sheet") or {}).get("date"))
+                              date_text=(report.get("sheet") or {}).get("date"), files=files)
 
     outputs = [Output("--out", out, render_tif, "raw", suffixes=(".tif", ".tiff"), stdout=False),
                Output("--json", json, render_json, "json"),
                Output("--kmz", kmz, render_kmz, "xml", suffixes=(".kmz",), stdout=False),
-               Output("--plot", plot, render_plot, "figure", suffixes=(".png", ".pdf", ".svg"), stdout=False)]
+               Output("--plot", plot, render_plot, "figure", suffixes=(".png", ".pdf", ".svg"), stdout=False,
+                      extra_files=True)]
     if summary:
         outputs.append(Output("summary", None if str(json) == "-" else "-",
                               lambda report, path: coverage_summary_text(report), "terminal"))

@@ -70,7 +70,7 @@ def _geojson_names(doc) -> set:
 
 
 def test_link_geojson_and_json_carry_a_name_with_tab_and_newline_as_given(tmp_path):
-    # README: JSON and GeoJSON carry text as given; json escapes control characters itself (RFC 8259 s. 7).
+    # docs/outputs.md: JSON and GeoJSON carry text as given; json escapes control characters itself (RFC 8259 s. 7).
     res = run("link", "--dem", ROOT / "dem_samples", "--site-a", SITE_A, "--site-b", SITE_B, "--name-b", ODD,
               "--geojson", tmp_path / "l.geojson", "--json", tmp_path / "l.json")
     assert res.exit_code == 0, res.output

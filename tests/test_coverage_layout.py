@@ -205,7 +205,7 @@ def test_many_sites_counted_never_dropped_silently():
     drawn = _texts(_axes(fig, "coverage-sites"))
     records = result.report["gateways"]
     shown = [s for s in records if s["name"] in drawn]
-    more = re.search(r"(\d+) more site\(s\) not shown", drawn)
+    more = re.search(r"(\d+) more sites? continued on sheet 2", drawn)
     assert len(shown) + (int(more.group(1)) if more else 0) == len(records) == 6
     s = result.report["summary"]
     assert (s["gateways"], s["candidates"]) == (2, 4)
@@ -220,3 +220,13 @@ def test_map_labels_clear_of_north_arrow_and_scale_bar(tmp_path):
     result = coverage(dem=DEM, sites=csv, radius_km=RADIUS_KM, resolution_m=RES_M, progress=False)
     fig = build_coverage_figure(result, paper="letter", dem_paths=DEM)
     assert [str(p) for p in layout_problems(fig)] == []
+
+
+@pytest.mark.parametrize("paper", ["a4", "letter"])
+def test_header_names_the_site_when_it_fits(figures, paper):
+    """The count ("Coverage map: 1 gateway") stands in for the name only when the name does not fit."""
+    heads = [t.get_text() for t in figures[(paper, "single", "short")].texts
+             + [t for ax in figures[(paper, "single", "short")].axes for t in ax.texts]]
+    assert f"Coverage map: {SHORT}" in heads
+    long_heads = [t.get_text() for ax in figures[(paper, "single", "long")].axes for t in ax.texts]
+    assert "Coverage map: 1 gateway" in long_heads

@@ -181,7 +181,7 @@ def test_hostile_names_survive_every_export_escaped_and_inert(tmp_path, evil_rep
     assert rows["# site_a_name"] == EVIL_A
     assert rows["# site_b_name"] == inert_b
 
-    # GeoJSON: valid JSON, names exactly as given (README: JSON carries text as given).
+    # GeoJSON: valid JSON, names exactly as given (docs/outputs.md: JSON carries text as given).
     write_geojson(evil_report, tmp_path / "evil.geojson")
     doc = json.loads((tmp_path / "evil.geojson").read_text(encoding="utf-8"))
     feats = {f["id"]: f for f in doc["features"]}

@@ -237,10 +237,10 @@ def test_regional_model_refuses_with_a_true_message(write_dem):
         in result.stderr
 
 
-def test_readme_ranges_table_matches_the_limits_table():
+def test_docs_ranges_table_matches_the_limits_table():
     import re
 
-    readme = (Path(__file__).resolve().parents[1] / "README.md").read_text(encoding="utf-8")
+    readme = (Path(__file__).resolve().parents[1] / "docs" / "outputs.md").read_text(encoding="utf-8")
     section = readme.split("## Exit codes and the output promise", 1)[1].split("\n## ", 1)[0]
     rows = dict(re.findall(r"^\| `(--[a-z0-9-]+)` \| ([^|]+?) \|", section, flags=re.M))
     assert len(rows) >= 25

@@ -4,7 +4,7 @@ The checks are outside the sheet's own code: the layout from matplotlib's
 renderer extents (:func:`profiler.plot.audit.layout_problems`, and the
 texts' window extents against the plotted lines' display paths, sampled
 here independently), the numbers from the JSON report written by the same
-``profiler mast`` run (formatted as README states: heights rounded up to
+``profiler mast`` run (formatted as docs/mast.md states: heights rounded up to
 the centimetre, the parts shown adding up to the totals shown).
 
 Cases on the bundled terrain (dem_samples, invented Vellmoor valley):

@@ -306,14 +306,14 @@ def test_network_and_link_share_one_minimum_separation():
     # estimate below that nor below 0.1 m (engine.radio.MIN_SEPARATION_M), the same rule for a batch
     import math
 
-    from profiler.engine.radio import MIN_SEPARATION_M, min_separation_m
+    from profiler.engine.radio import MIN_SEPARATION_M, minimum_separation_m
 
     lam_868 = 299_792_458.0 / 868.1e6          # 0.3454 m: lambda / (4 pi) = 0.0275 m < 0.1 m
     lam_100 = 299_792_458.0 / 100e6            # 2.998 m: lambda / (4 pi) = 0.2386 m
     assert MIN_SEPARATION_M == 0.1
-    assert float(min_separation_m(lam_868)) == 0.1
-    assert float(min_separation_m(lam_100)) == pytest.approx(lam_100 / (4 * math.pi), rel=1e-12)
-    assert list(min_separation_m(np.array([lam_868, lam_100]))) == [0.1, pytest.approx(0.23856725, rel=1e-6)]
+    assert minimum_separation_m(lam_868) == 0.1
+    assert minimum_separation_m(lam_100) == pytest.approx(lam_100 / (4 * math.pi), rel=1e-12)
+    assert minimum_separation_m(lam_100) == pytest.approx(0.23856725, rel=1e-6)
     import profiler.products.network as network_module
 
-    assert "max(0.1" not in Path(network_module.__file__).read_text()   # the batch uses min_separation_m
+    assert "max(0.1" not in Path(network_module.__file__).read_text()   # the batch uses minimum_separation_m

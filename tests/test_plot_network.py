@@ -17,7 +17,7 @@ import pytest
 from profiler.about import CAUTION
 from profiler.errors import ProfilerError
 from profiler.plot import build_network_figure, link_status, write_network_figure
-from profiler.plot.network import STATUS_STYLE
+from profiler.plot.network import STATUS_STYLE, build_network_sheets
 
 from sample_sites import DEM, GATEWAY, PUMP, SHEEPFOLD, TANK  # noqa: E402
 
@@ -58,7 +58,7 @@ def _best(links, node, role_of, role):
 
 def network_report(sites=SITES, links=LINKS) -> dict:
     """A profiler.network/2 report (the keys of the contract; numbers not read by the sheet left out):
-    existing gateways and candidate sites counted apart, as README defines them."""
+    existing gateways and candidate sites counted apart, as docs/network.md defines them."""
     node_names = [name for name, _, role in sites if role == "node"]
     role_of = {name: role for name, _, role in sites}
 
@@ -117,7 +117,7 @@ def _svg_texts(path):
 # --------------------------------------------------------------------------- status
 def test_link_status_follows_the_contract_thresholds(report):
     """closes: margin >= fade margin; marginal: 0 <= margin < fade; fails: < 0; error: error set
-    (the profiler.network/1 contract in README), boundaries included."""
+    (the profiler.network/2 contract and the map of docs/network.md), boundaries included."""
     assert link_status(report["links"], FADE_DB) == EXPECTED
     assert link_status([{"margin_db": 9.999, "error": None}], FADE_DB) == ["marginal"]
     assert link_status([{"margin_db": -1e-9, "error": None}], FADE_DB) == ["fails"]
@@ -155,7 +155,8 @@ def test_png_and_pdf_are_written_at_the_paper_size(tmp_path, report):
     write_network_figure(report, pdf, dpi=50, dem_paths=DEM)
     data = pdf.read_bytes()
     assert data.startswith(b"%PDF-")
-    assert len(re.findall(rb"/Type\s*/Page(?![a-zA-Z])", data)) == 1
+    sheets = build_network_sheets(report, dem_paths=None)       # the side column does not depend on the relief
+    assert len(re.findall(rb"/Type\s*/Page(?![a-zA-Z])", data)) == len(sheets)      # and its continuation sheets
     box = [float(v) for v in re.search(rb"/MediaBox\s*\[([^\]]*)\]", data).group(1).split()]
     assert box[2:] == pytest.approx([297.0 / MM_PER_IN * PT_PER_IN, 210.0 / MM_PER_IN * PT_PER_IN], abs=0.01)
     assert b"/FontFile2" in data and b"/Type3" not in data      # TrueType text, not glyph outlines

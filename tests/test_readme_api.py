@@ -1,6 +1,8 @@
-"""Every Python name README shows exists: dotted ``profiler.`` names and ``from profiler... import`` lines.
+"""Every Python name README and the docs pages show exists: dotted ``profiler.`` names and ``from profiler...
+import`` lines.
 
-Check value: README itself (issue 17: it pointed at ``profiler.siting.solve_siting``, which did not exist).
+Check value: README and ``docs/*.md`` themselves (issue 17: README pointed at ``profiler.siting.solve_siting``,
+which did not exist; issue 18 moved README's manual into ``docs/``).
 Names are resolved by importing the longest importable module prefix and getting the rest as attributes.
 Report schemas (``profiler.link/3``) and command lines (``profiler link ...``) are not Python names.
 """
@@ -13,7 +15,10 @@ from pathlib import Path
 
 import pytest
 
-README = Path(__file__).resolve().parents[1] / "README.md"
+ROOT = Path(__file__).resolve().parents[1]
+README = ROOT / "README.md"
+#: The Markdown pages a reader sees: README and the manual in docs/.
+PAGES = [README, *sorted((ROOT / "docs").glob("*.md"))]
 
 #: A dotted Python name starting with ``profiler.``, not a schema (``profiler.link/3``) nor part of a path.
 DOTTED = re.compile(r"(?<![\w/.-])profiler(?:\.[A-Za-z_]\w*)+(?![\w/])")
@@ -30,7 +35,8 @@ def code_texts(text: str) -> list[str]:
 
 def readme_names() -> list[str]:
     names = []
-    for code in code_texts(README.read_text(encoding="utf-8")):
+    texts = [page.read_text(encoding="utf-8") for page in PAGES]
+    for code in (code for text in texts for code in code_texts(text)):
         names += [m.rstrip(".") for m in DOTTED.findall(code)]
         for module, items in FROM_IMPORT.findall(code):
             names += [f"{module}.{item.strip()}" for item in items.split(",") if item.strip()]
@@ -55,6 +61,7 @@ def resolve(name: str):
 
 
 def test_readme_shows_python_names():
+    assert len(PAGES) > 10                      # README and the docs pages
     names = readme_names()
     assert "profiler.products.siting.setcover.solve_siting" in names and "profiler.products.siting.report.siting_from_network" in names
     assert not any("/" in n for n in names)
@@ -72,9 +79,10 @@ def test_resolve_refuses_a_missing_name():
 
 
 def readme_example(command: str) -> list[str]:
-    """The arguments of README's worked example of ``profiler COMMAND`` (the line after "# for example")."""
-    text = README.read_text(encoding="utf-8")
-    section = text[text.index(f"## `profiler {command}`"):]
+    """The arguments of the worked example of ``profiler COMMAND`` on its docs page (the line after "# for
+    example")."""
+    text = (ROOT / "docs" / f"{command}.md").read_text(encoding="utf-8")
+    section = text[text.index(f"# `profiler {command}`"):]
     block = re.search(r"^```sh\n(.*?)^```", section, flags=re.M | re.S).group(1)
     example = block[block.index("# for example"):].split("\n", 1)[1]
     import shlex
@@ -100,3 +108,29 @@ def test_readme_siting_example_runs_as_written(tmp_path, monkeypatch):
     assert res.exit_code == 0, res.output
     written = [args[i + 1] for i, a in enumerate(args) if a in ("--json", "--csv", "--geojson", "--kml", "--plot")]
     assert written and all((tmp_path / path).stat().st_size > 0 for path in written)
+
+
+#: A relative Markdown link or image target: ``[text](path#anchor)``, not a web address nor an in-page anchor.
+LINK = re.compile(r"!?\[[^\]]*\]\((?!https?:|mailto:|#)([^)#\s]+)(?:#[^)]*)?\)")
+
+
+@pytest.mark.parametrize("page", PAGES, ids=lambda p: p.name)
+def test_relative_links_point_at_files(page):
+    # Check value: the checkout itself. README links into docs/ so the manual reads on a code host
+    # without a build; a moved or renamed page must not leave a dead link.
+    targets = LINK.findall(page.read_text(encoding="utf-8"))
+    missing = [t for t in targets if not (page.parent / t).exists()]
+    assert missing == []
+    assert page != README or len(targets) > 10          # README's tour links into docs/
+
+
+def test_readme_is_short_and_starts_with_the_setup():
+    # Issue 18: README under 300 lines, the two set-up commands at the top (CI runs the second as written).
+    text = README.read_text(encoding="utf-8")
+    lines = text.splitlines()
+    assert len(lines) < 300
+    blocks = re.findall(r"^```sh\n(.*?)^```", text, flags=re.M | re.S)
+    assert blocks[0].startswith("python3 -m venv .venv && . .venv/bin/activate && pip install -e . && profiler link")
+    assert blocks[1] == ('python3 -m venv .venv && . .venv/bin/activate && pip install -e ".[test]" '
+                         "&& python -m pytest -q\n")
+    assert "> **Caution.** This is a planning aid only." in text

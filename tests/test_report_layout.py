@@ -229,3 +229,15 @@ def test_unbroken_long_values_wrap_inside_their_cells_and_continue():
     assert path in [c.replace("\n", "") for c in cells] and word in [c.replace("\n", "") for c in cells]
     assert any("\n" in c and c.replace("\n", "") == path for c in cells)            # it did wrap
     assert [c for c in cells if c.startswith("row ")] == [r[0] for r in rows]       # every row, in order
+
+
+def test_page_headings_name_the_link_when_it_fits(link_case):
+    """'Link budget: A – B' on a page; the bare heading only when the names do not fit beside the badge."""
+    case, report, pages, _ = link_case
+    budget = _page(pages, "Link budget")[0]
+    names = f"{report['site_a']['name']} \u2013 {report['site_b']['name']}"
+    heading = next(t for t in _texts(budget) if t.startswith("Link budget"))
+    if len(names) < 60:
+        assert heading == f"Link budget: {names}", case
+    else:
+        assert heading == "Link budget", case

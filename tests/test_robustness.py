@@ -3,7 +3,7 @@
 The property-based tests draw option values for ``link``, ``mast`` and
 ``bands`` from valid and invalid sets (numbers near the float limits, hostile
 names, unwritable and missing output folders, outputs a surveyed profile
-cannot have) and check the promise stated in README ("Exit codes and the
+cannot have) and check the promise stated in docs/outputs.md ("Exit codes and the
 output promise"): no traceback, exit 0 (or 3 for an infeasible mast) with an
 empty standard error for valid input, exit 2 with exactly one
 ``profiler: error:`` line for invalid input, no changed or leftover files

@@ -341,7 +341,7 @@ def test_siting_report_contract():
 def test_unreachable_reason_says_no_rate_closes_only_below_zero_margin():
     # A margin of 0 dB or more means the uplink closes (received power at or above the sensitivity: the
     # definition of the margin), even when no rate keeps the fade margin (recommended_dr null). The sample
-    # scenario's Saltmarsh Lane trough (9.4 dB from Kestrel Mast, README) was said to have no closing rate.
+    # scenario's Saltmarsh Lane trough (9.4 dB from Kestrel Mast, docs/siting.md) was said to have no closing rate.
     rep = network_report()
     rep["links"] = [lk for lk in rep["links"] if lk["node"] != "Wendle Reservoir"]
     rep["links"].append(link("Kestrel Mast", "Wendle Reservoir", 9.4, dr=None))

@@ -125,7 +125,7 @@ def test_siting_sheet_counts_equal_the_json(sheets, case):
 
 def test_redundancy_three_lists_the_unreachable_node_with_its_reason(sheets):
     rep, net, fig, problems, texts = sheets["short", 3, "a4"]
-    assert [u["name"] for u in rep["unreachable"]] == ["Saltmarsh Lane trough"]     # README: siting example
+    assert [u["name"] for u in rep["unreachable"]] == ["Saltmarsh Lane trough"]     # docs/siting.md: siting example
     joined = " ".join(texts)
     assert "Saltmarsh Lane trough: heard by 2 site(s)" in joined
     assert "terrain blocks the line of sight" in joined

@@ -33,7 +33,7 @@ from .options import (NON_NEGATIVE, POSITIVE, SITE_NAME, LatLon, batch_radio_opt
 @click.option("--kmz", "kmz_path", default=None, type=click.Path(dir_okay=False), metavar="OVERLAY.kmz",
               help="Write a KML 2.2 ground overlay of the margin classes with the site placemark.")
 @click.option("--json", "json_path", default=None, metavar="FILE", help="Write the JSON summary ('-' for stdout).")
-@plot_options
+@plot_options(continued=True)
 @sheet_options
 @cluster_options
 def coverage_command(dem_paths, site, mast_m, name, sites_csv, radius_km, resolution_m, node_mast_m, fill_voids,

@@ -20,7 +20,7 @@ def links_option(f):
 @click.option("--csv", "csv_path", default=None, metavar="FILE", help="Write one CSV row per link.")
 @click.option("--geojson", "geojson_path", default=None, metavar="FILE", help="Write sites and links as GeoJSON.")
 @click.option("--kml", "kml_path", default=None, metavar="FILE", help="Write sites and links as KML.")
-@plot_options
+@plot_options(continued=True)
 @links_option
 @sheet_options
 @cluster_options
@@ -66,19 +66,20 @@ def network_outputs(json_path, csv_path, geojson_path, kml_path, plot_path, pape
     ``links`` the links it draws (``best`` or ``all``)."""
     from ..io.outputs import Output, summary_output, text_of
 
-    def render_plot(report, path):
+    def render_plot(report, path, files=None):
         from ..plot import write_network_figure
         from ..textsafe import safe_strings
 
         write_network_figure(report, path, paper=paper, dpi=dpi, dem_paths=list(dem_paths),
-                             sheet=safe_strings(sheet, "figure") if sheet else None, links=links)
+                             sheet=safe_strings(sheet, "figure") if sheet else None, links=links, files=files)
 
     return [
         Output("--json", json_path, text_of("io.report", "json_text"), "json"),
         Output("--csv", csv_path, text_of("io.network_exports", "network_csv_text"), "csv"),
         Output("--geojson", geojson_path, text_of("io.network_exports", "network_geojson_text"), "json"),
         Output("--kml", kml_path, text_of("io.network_exports", "network_kml_text"), "xml"),
-        Output("--plot", plot_path, render_plot, "figure", suffixes=(".png", ".pdf", ".svg"), stdout=False),
+        Output("--plot", plot_path, render_plot, "figure", suffixes=(".png", ".pdf", ".svg"), stdout=False,
+               extra_files=True),
         summary_output(lambda report, path: network_summary_text(report), json_path, csv_path, geojson_path,
                        kml_path),
     ]

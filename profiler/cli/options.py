@@ -261,11 +261,20 @@ def radio_settings(kw):
     return RadioSettings(**{n: kw.pop(n) for n in names})
 
 
-def plot_options(f):
-    """Figure output."""
+#: ``--plot`` of the commands whose sheets may continue on further sheets (network, coverage, siting).
+CONTINUED_PLOT_HELP = ("Write the sheet: .png, .pdf or .svg. Lists that do not fit continue on further sheets: "
+                       "more pages of a PDF, or NAME-2.png, NAME-3.png and so on beside NAME.png (.svg alike); "
+                       "continuation sheets of an earlier run beyond the last one written are removed.")
+
+
+def plot_options(f=None, *, continued: bool = False):
+    """Figure output: ``@plot_options``, or ``@plot_options(continued=True)`` for a sheet with continuation
+    sheets (:data:`CONTINUED_PLOT_HELP`)."""
+    if f is None:
+        return lambda g: plot_options(g, continued=continued)
     return _apply([
         click.option("--plot", "plot_path", type=click.Path(dir_okay=False), default=None,
-                     help="Write a figure: .png, .pdf or .svg."),
+                     help=CONTINUED_PLOT_HELP if continued else "Write a figure: .png, .pdf or .svg."),
         click.option("--paper", type=click.Choice(["a4", "letter"]), default="a4", show_default=True,
                      help="Paper size of the figure (landscape)."),
         click.option("--dpi", type=INTEGER, default=150, show_default=True,

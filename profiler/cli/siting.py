@@ -24,7 +24,7 @@ from .options import (INTEGER, NUMBER, cluster_options, network_call_kwargs, net
               help="Write the sites (chosen or not) and the links used as GeoJSON.")
 @click.option("--kml", "kml_path", default=None, metavar="FILE",
               help="Write the chosen sites, the nodes and the links used as KML.")
-@plot_options
+@plot_options(continued=True)
 @sheet_options
 @cluster_options
 def siting_command(redundancy, min_margin_db, max_gateways, time_limit_s, json_path, csv_path, geojson_path,
@@ -81,19 +81,20 @@ def siting_outputs(json_path, csv_path, geojson_path, plot_path, paper="a4", dpi
         from ..products.siting.report import siting_csv_text
         return siting_csv_text(both["siting"])
 
-    def render_plot(both, path):
+    def render_plot(both, path, files=None):
         from ..plot.siting import write_siting_figure
         from ..textsafe import safe_strings
 
         write_siting_figure(both["siting"], both["network"], path, paper=paper, dpi=dpi, dem_paths=list(dem_paths),
-                            sheet=safe_strings(sheet, "figure") if sheet else None)
+                            sheet=safe_strings(sheet, "figure") if sheet else None, files=files)
 
     return [
         Output("--json", json_path, of_siting(text_of("io.report", "json_text")), "json"),
         Output("--csv", csv_path, csv_text, "csv"),
         Output("--geojson", geojson_path, of_both("siting_geojson_text"), "json"),
         Output("--kml", kml_path, of_both("siting_kml_text"), "xml"),
-        Output("--plot", plot_path, render_plot, "figure", suffixes=(".png", ".pdf", ".svg"), stdout=False),
+        Output("--plot", plot_path, render_plot, "figure", suffixes=(".png", ".pdf", ".svg"), stdout=False,
+               extra_files=True),
         summary_output(lambda both, path: siting_summary_text(both["siting"]), json_path, csv_path, geojson_path,
                        kml_path),
     ]

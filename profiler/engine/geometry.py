@@ -20,7 +20,37 @@ from ..propagation import geometry
 
 @dataclass(frozen=True)
 class LinkGeometry:
-    """Curved-Earth geometry of a batch of links (arrays (L, N) padded with NaN, or (L,))."""
+    """Curved-Earth geometry of a batch of links (arrays (L, N) padded with NaN, or (L,)).
+
+    Parameters
+    ----------
+    bulge_m : ndarray, shape (L, N)
+        Earth bulge at each sample [m].
+    los_m : ndarray, shape (L, N)
+        Height of the antenna-to-antenna line [m AMSL].
+    fresnel_radius_m : ndarray, shape (L, N)
+        First Fresnel radius F1 [m].
+    clearance_m : ndarray, shape (L, N)
+        Clearance of the line above terrain plus bulge [m].
+    ratio : ndarray, shape (L, N)
+        Clearance over F1 [-].
+    worst_index : ndarray of int, shape (L,)
+        Index of the interior sample with the smallest ratio.
+    worst_ratio : ndarray, shape (L,)
+        Smallest clearance over F1 [-].
+    worst_distance_m : ndarray, shape (L,)
+        Distance of that sample from A [m].
+    worst_clearance_m : ndarray, shape (L,)
+        Clearance at that sample [m].
+    worst_terrain_m : ndarray, shape (L,)
+        Terrain at that sample [m AMSL].
+    line_of_sight : ndarray of bool, shape (L,)
+        Positive clearance at every interior sample.
+    fresnel_clear : ndarray of bool, shape (L,)
+        Ratio at least the required clearance ratio at every interior sample.
+    elevation_angle_a_deg, elevation_angle_b_deg : ndarray, shape (L,)
+        Elevation angle of the line at A and at B [deg above horizontal].
+    """
 
     bulge_m: np.ndarray
     los_m: np.ndarray
@@ -47,18 +77,23 @@ def geometry_batch(distance_m, terrain_m, n, antenna_a_amsl_m, antenna_b_amsl_m,
     distance_m, terrain_m : ndarray, shape (L, N)
         Padded profiles [m], [m AMSL].
     n : ndarray of int, shape (L,)
-        Samples per link.
+        Number of samples per link.
     antenna_a_amsl_m, antenna_b_amsl_m : ndarray, shape (L,)
         Antenna heights [m AMSL].
     wavelength_m, effective_radius_m : float
         Wavelength and effective Earth radius [m].
     clearance_ratio_required : float
-        Required clearance as a fraction of F1.
+        Required clearance as a fraction of F1 [-].
+
+    Returns
+    -------
+    LinkGeometry
+        Per-sample and per-link geometry.
 
     References
     ----------
-    ITU-R P.526-15 section 2 (bulge d1 d2 / (2 a_e)) and eq. (2) (F1);
-    P.452-18 eqs. (153), (156a) (elevation angles).
+    .. [1] ITU-R P.526-15 section 2 (bulge d1 d2 / (2 a_e)) and eq. (2) (F1);
+       P.452-18 eqs. (153), (156a) (elevation angles).
     """
     d = np.asarray(distance_m, dtype=float)
     rows = np.arange(d.shape[0])

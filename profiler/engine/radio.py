@@ -31,7 +31,7 @@ from ..propagation import polarization
 from ..propagation.diffraction_batch import diffraction_batch, diffraction_finish
 from .. import limits
 from ..lora import modem as lora_modem, lorawan
-from ..propagation.free_space import free_space_loss_batch_db
+from ..propagation.free_space import free_space_term_db
 from ..errors import ProfilerError
 from ..lora.regional import Plan, dwell_time_limit_ms, max_tx_power_dbm
 
@@ -54,6 +54,47 @@ class RadioSettings:
     and noise figure per end (``*_a_*``, ``*_b_*``) win over the shorthands
     ``tx_power_dbm`` (the node's power) and ``noise_figure_db`` (both
     receivers); None means the default of the end's role.
+
+    Parameters
+    ----------
+    gateway : {"a", "b"}
+        Which end is the gateway.
+    tx_power_dbm : float, optional
+        Transmitter power of the node [dBm].
+    tx_power_a_dbm, tx_power_b_dbm : float, optional
+        Transmitter power per end [dBm].
+    gain_a_dbi, gain_b_dbi : float, default 2.15
+        Antenna gains [dBi].
+    cable_loss_a_db, cable_loss_b_db : float, default 0
+        Feeder and connector losses [dB].
+    fade_margin_db : float, default 10
+        Margin the link must keep [dB].
+    sensitivity_dbm : float, optional
+        Fixed receiver sensitivity [dBm]; None to compute the LoRa value.
+    bw_khz : float, default 125
+        LoRa bandwidth [kHz].
+    noise_figure_db : float, optional
+        Noise figure of both receivers [dB].
+    noise_figure_a_db, noise_figure_b_db : float, optional
+        Noise figure per end [dB].
+    sf : int, optional
+        Spreading factor [-], 7 to 12.
+    payload_bytes : int, optional
+        PHY payload length [byte].
+    app_payload_bytes : int, optional
+        Application payload length [byte].
+    dwell_time : {"on", "off"}, optional
+        Uplink dwell-time choice; None for the plan's default.
+    cap_eirp : bool, default False
+        Lower the power of an end whose EIRP is above the plan's limit.
+    polarization_a, polarization_b : str, default "vertical"
+        Antenna polarization: "vertical", "horizontal" or an angle.
+    sea_fraction : float, default 0
+        Fraction of the path over sea [-], 0 to 1.
+    diffraction_method : str, default "delta-bullington"
+        One of ``DIFFRACTION_METHODS``.
+    extra_loss_db : float, default 0
+        Fixed extra loss added to the path [dB].
     """
 
     gateway: str = "a"
@@ -82,7 +123,18 @@ class RadioSettings:
     extra_loss_db: float = 0.0
 
     def validate(self) -> "RadioSettings":
-        """Check the settings; raise :class:`ProfilerError` on the first problem."""
+        """Check the settings; raise :class:`ProfilerError` on the first problem.
+
+        Returns
+        -------
+        RadioSettings
+            The same settings, for chaining.
+
+        Raises
+        ------
+        ProfilerError
+            On the first setting out of range or not understood.
+        """
         limits.check_fields(self)  # physical ranges of every field with an option in limits.LIMITS
         if self.gateway not in ("a", "b"):
             raise ProfilerError(f"--gateway must be a or b, got {self.gateway!r}")
@@ -204,6 +256,11 @@ def slant_distance_m(distance_m, antenna_a_amsl_m, antenna_b_amsl_m, earth_radiu
     earth_radius_m : float
         True (not effective) Earth radius [m]: this is geometry, not refraction.
 
+    Returns
+    -------
+    slant_m : float or ndarray
+        Distance between the antenna tips [m].
+
     References
     ----------
     Law of cosines (handbook); ITU-R P.525-4 uses the distance between the
@@ -230,6 +287,40 @@ def path_loss_batch(d, terrain, n, h_a, h_b, frequency_mhz, ae, radio: RadioSett
     ``terrain`` and ``n`` may be None.  With ``informative=False`` and
     ``--diffraction none`` no diffraction model runs at all (its informative
     values are NaN).
+
+    Parameters
+    ----------
+    d, terrain : ndarray, shape (L, N), or None
+        Padded profiles (distance from A [m], terrain [m AMSL]).
+    n : ndarray of int, shape (L,), or None
+        Number of samples per link.
+    h_a, h_b : ndarray, shape (L,)
+        Antenna heights [m AMSL].
+    frequency_mhz : float
+        Frequency [MHz].
+    ae : float or ndarray
+        Effective Earth radius [m].
+    radio : RadioSettings
+        Validated settings (diffraction method, extra loss, sea fraction).
+    pol_a_deg, pol_b_deg : float
+        Polarization angles of the antennas [deg from vertical].
+    reduced : dict, optional
+        Frequency-independent diffraction reductions of these links.
+    informative : bool, default True
+        Compute the diffraction models even where they are only informative.
+
+    Returns
+    -------
+    dict
+        ``free_space``, ``diffraction``, ``extra``, ``polarization``,
+        ``total``, ``knife_edge``, ``bullington``, ``delta_bullington``,
+        ``spherical_earth`` [dB], ``smooth_surface_height_a_m``/``_b_m``
+        [m AMSL] (arrays over links) and ``diffraction_method``.
+
+    References
+    ----------
+    .. [1] ITU-R P.525-4 Annex 1 section 2.2, eq. (4) (free space).
+    .. [2] ITU-R P.526-15 section 4.1 and P.452-18 section 4.2 (diffraction).
     """
     vertical = np.abs(np.cos(np.radians(pol_a_deg))) >= math.sqrt(0.5)
     if radio.diffraction_method == "none" and not informative:
@@ -247,7 +338,7 @@ def path_loss_batch(d, terrain, n, h_a, h_b, frequency_mhz, ae, radio: RadioSett
     method = radio.diffraction_method
     diff = np.zeros_like(h_a) if method == "none" else parts[method.replace("-", "_")]
     slant = slant_distance_m(length, h_a, h_b)
-    free = free_space_loss_batch_db(slant, frequency_mhz)  # P.525-4 eq. (4)
+    free = free_space_term_db(slant, frequency_mhz)                                     # P.525-4 eq. (4)
     pol_loss = polarization.polarization_mismatch_db(pol_a_deg, pol_b_deg) + np.zeros_like(h_a)
     total = free + diff + radio.extra_loss_db + pol_loss
     return {"free_space": free, "diffraction": diff, "extra": np.full_like(h_a, radio.extra_loss_db),
@@ -259,7 +350,37 @@ def path_loss_batch(d, terrain, n, h_a, h_b, frequency_mhz, ae, radio: RadioSett
 
 def diffraction_losses(distance_m, terrain_m, antenna_a_amsl_m, antenna_b_amsl_m, frequency_mhz,
                        effective_radius_m, polarization="vertical", sea_fraction=0.0) -> dict:
-    """Knife-edge, Bullington and delta-Bullington losses of one profile [dB] (a batch of one)."""
+    """Knife-edge, Bullington and delta-Bullington losses of one profile [dB] (a batch of one).
+
+    Parameters
+    ----------
+    distance_m : array_like
+        Distance from A [m], strictly increasing.
+    terrain_m : array_like
+        Terrain height [m AMSL].
+    antenna_a_amsl_m, antenna_b_amsl_m : float
+        Antenna heights [m AMSL].
+    frequency_mhz : float
+        Frequency [MHz].
+    effective_radius_m : float
+        Effective Earth radius [m].
+    polarization : str, default "vertical"
+        "vertical" or "horizontal" (spherical-Earth first term).
+    sea_fraction : float, default 0
+        Fraction of the path over sea [-].
+
+    Returns
+    -------
+    dict
+        ``knife_edge``, ``bullington``, ``delta_bullington``,
+        ``spherical_earth`` [dB] and ``smooth_surface_height_a_m``/``_b_m``
+        [m AMSL].
+
+    References
+    ----------
+    .. [1] ITU-R P.452-18 section 4.2 (eqs. 13-43); ITU-R P.526-15
+       section 4.1.
+    """
     d = np.asarray(distance_m, dtype=float)[None, :]
     out = diffraction_batch(d, np.asarray(terrain_m, dtype=float)[None, :], np.array([d.shape[1]]),
                             float(antenna_a_amsl_m), float(antenna_b_amsl_m), frequency_mhz,
@@ -270,14 +391,44 @@ def diffraction_losses(distance_m, terrain_m, antenna_a_amsl_m, antenna_b_amsl_m
             "smooth_surface_height_a_m": float(out["hstd"][0]), "smooth_surface_height_b_m": float(out["hsrd"][0])}
 
 
-def min_separation_m(wavelength_m):
-    """Closest antenna separation with a path-loss estimate [m]: the larger of 0.1 m and lambda / (4 pi)."""
-    return np.maximum(MIN_SEPARATION_M, wavelength_m / (4.0 * math.pi))
+def minimum_separation_m(wavelength_m: float) -> float:
+    """Shortest antenna separation a link is computed for [m]: ``max(MIN_SEPARATION_M, lambda / (4 pi))``.
+
+    Parameters
+    ----------
+    wavelength_m : float
+        Wavelength [m].
+
+    Returns
+    -------
+    float
+        Separation [m] below which the free-space loss of ITU-R P.525-4
+        eq. (4) would be negative, or :data:`MIN_SEPARATION_M` if larger.
+    """
+    return max(MIN_SEPARATION_M, wavelength_m / (4.0 * math.pi))
 
 
 def check_separation(slant_m: float, wavelength_m: float) -> None:
-    """Refuse sites too close for any path-loss estimate (closer than :func:`min_separation_m`)."""
-    need = float(min_separation_m(wavelength_m))
+    """Refuse sites too close for any path-loss estimate (closer than 0.1 m or lambda / (4 pi)).
+
+    Parameters
+    ----------
+    slant_m : float
+        Distance between the antenna tips [m].
+    wavelength_m : float
+        Wavelength [m].
+
+    Raises
+    ------
+    ProfilerError
+        If the antennas are closer than ``max(0.1 m, lambda / (4 pi))``.
+
+    References
+    ----------
+    .. [1] ITU-R P.525-4 Annex 1 section 2.2, eq. (4): the free-space loss
+       20 log10(4 pi d / lambda) is negative below d = lambda / (4 pi).
+    """
+    need = minimum_separation_m(wavelength_m)
     if not slant_m >= need:
         raise ProfilerError(f"the sites are too close: the antennas are {slant_m:.3f} m apart and a link needs at "
                             f"least {need:.2f} m; check the coordinates and masts")
@@ -320,7 +471,7 @@ def radio_batch(d, terrain, n, h_a, h_b, frequency_mhz, ae, radio: RadioSettings
     d, terrain : ndarray, shape (L, N)
         Padded profiles (distance from A [m], terrain [m AMSL]); row l uses ``n[l]`` samples.
     n : ndarray of int, shape (L,)
-        Samples per link.
+        Number of samples per link.
     h_a, h_b : ndarray, shape (L,)
         Antenna heights [m AMSL].
     frequency_mhz : float
@@ -352,7 +503,17 @@ def radio_batch(d, terrain, n, h_a, h_b, frequency_mhz, ae, radio: RadioSettings
         dr and sensitivity; with a plan also the per-DR arrays, the rules and
         the recommended index), ``rx2`` (with a plan), ``per_sf`` (uplink
         margins for SF7-SF12 at --bw-khz), ``phy_bytes``, ``app_bytes``,
-        ``dwell_ms``, ``downlink_frequency_mhz``.
+        ``dwell_ms``, ``downlink_frequency_mhz``.  Powers [dBm], losses and
+        margins [dB], frequencies [MHz], times [ms], payloads [byte].
+
+    References
+    ----------
+    .. [1] ITU-R P.525-4 Annex 1 section 2.2 (free space and e.i.r.p.
+       between isotropic antennas).
+    .. [2] ITU-R P.452-18 section 4.2 and ITU-R P.526-15 section 4
+       (diffraction).
+    .. [3] LoRa Alliance RP002-1.0.4, the plan's data-rate, payload-size,
+       power and dwell-time subsections.
     """
     h_a = np.asarray(h_a, dtype=float)
     h_b = np.asarray(h_b, dtype=float)
@@ -468,21 +629,53 @@ def _lora_blocks(rb, plan, radio, i, frequency_mhz):
 
 
 def block_allowed(block) -> set:
-    """DR numbers allowed in a per-DR block."""
+    """DR numbers allowed in a per-DR block.
+
+    Parameters
+    ----------
+    block : dict
+        A ``lora.uplink`` / ``lora.downlink`` block
+        (:func:`profiler.lorawan.direction_block`).
+
+    Returns
+    -------
+    set of int
+        The allowed DR numbers [-].
+    """
     return {row["dr"] for row in block["per_dr"] if row["allowed"]}
 
 
 def radio_results(d, terrain, h_a, h_b, frequency_mhz, ae, radio: RadioSettings, plan: Plan | None = None):
     """Losses, both budgets, the LoRa tables and compliance for one geometry (a batch of one).
 
-    Parameters are those of :func:`radio_batch` for a single 1-D profile
-    ``d``, ``terrain`` and scalar antenna heights.
+    Parameters
+    ----------
+    d : array_like
+        Distance from A [m] of the single profile.
+    terrain : array_like
+        Terrain height [m AMSL].
+    h_a, h_b : float
+        Antenna heights [m AMSL].
+    frequency_mhz : float
+        Working (uplink) frequency [MHz].
+    ae : float
+        Effective Earth radius [m].
+    radio : RadioSettings
+        Validated settings.
+    plan : Plan, optional
+        Regional plan; None when only a frequency was given.
 
     Returns
     -------
-    dict with keys ``loss_db`` (at the uplink frequency), ``budget``
-    (uplink, node -> gateway), ``budget_downlink``, ``lora`` (None with a
-    given sensitivity), ``compliance``, ``slant_distance_m``, ``warnings``.
+    dict
+        Keys ``loss_db`` (at the uplink frequency), ``budget`` (uplink,
+        node -> gateway), ``budget_downlink``, ``lora`` (None with a given
+        sensitivity), ``compliance``, ``slant_distance_m`` [m], ``warnings``.
+
+    References
+    ----------
+    .. [1] ITU-R P.525-4 Annex 1 section 2.2; ITU-R P.452-18 section 4.2;
+       LoRa Alliance RP002-1.0.4 (as :func:`radio_batch`).
     """
     d2 = np.asarray(d, dtype=float)[None, :]
     rb = radio_batch(d2, np.asarray(terrain, dtype=float)[None, :], np.array([d2.shape[1]]),

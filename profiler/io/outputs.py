@@ -139,6 +139,10 @@ class Output:
         Allowed file suffixes (lower case, with the dot).
     stdout : bool
         Whether ``"-"`` (standard output) is allowed.
+    extra_files : bool
+        Whether the render may write more files beside its own: it is then
+        called as ``render(report, path, files)`` with an :class:`ExtraFiles`
+        (None for standard output) whose files join the run's transaction.
     """
 
     option: str
@@ -147,6 +151,7 @@ class Output:
     text: str = "raw"
     suffixes: tuple | None = None
     stdout: bool = True
+    extra_files: bool = False
 
 
 def text_of(module: str, function: str) -> Callable:
@@ -208,10 +213,92 @@ def check_outputs(outputs: Sequence) -> list[Output]:
     return active
 
 
-def _render_into(o: Output, report, tmp: Path) -> None:
+class Transaction:
+    """Files written together: each to a temporary file beside its target, all renamed into place by
+    :meth:`commit`, all temporary files removed by :meth:`abort`.
+
+    Files marked with :meth:`remove_on_commit` (stale files of an earlier run) are deleted only on
+    commit, after the renames, so a failed run changes no file at all.
+    """
+
+    def __init__(self):
+        self._temps: list[tuple[Path, Path]] = []        # (temporary file, target)
+        self._remove: list[Path] = []
+
+    def claim(self, target, option: str | None = None) -> Path:
+        """A new empty temporary file beside ``target`` (same suffix), renamed to ``target`` on commit.
+
+        Raises
+        ------
+        ProfilerError
+            Another file of this run already goes to ``target``, or its folder is missing or not writable.
+        """
+        target = Path(target)
+        key = os.path.normcase(os.path.abspath(target))
+        if any(os.path.normcase(os.path.abspath(t)) == key for _, t in self._temps):
+            what = f"{target} ({option})" if option else f"{target}"
+            raise ProfilerError(f"cannot write {what}: another output of this run writes it; "
+                                "give each output its own file")
+        tmp = _temp_beside(target, option)
+        self._temps.append((tmp, target))
+        return tmp
+
+    def remove_on_commit(self, path) -> None:
+        """Delete ``path`` when the run commits (a stale file of an earlier run); never on abort."""
+        self._remove.append(Path(path))
+
+    def commit(self) -> None:
+        """Rename every temporary file into place, then delete the stale files."""
+        for tmp, target in self._temps:
+            os.replace(tmp, target)
+        written = {os.path.normcase(os.path.abspath(t)) for _, t in self._temps}
+        for path in self._remove:
+            if os.path.normcase(os.path.abspath(path)) not in written:
+                with contextlib.suppress(FileNotFoundError):
+                    path.unlink()
+        self._temps, self._remove = [], []
+
+    def abort(self) -> None:
+        """Remove every temporary file; no target is touched."""
+        for tmp, _ in self._temps:
+            with contextlib.suppress(OSError):
+                tmp.unlink()
+        self._temps, self._remove = [], []
+
+
+@dataclass(frozen=True)
+class ExtraFiles:
+    """What a render with ``extra_files`` may write beyond its own output, inside the run's transaction.
+
+    Attributes
+    ----------
+    target : pathlib.Path
+        The output's own file (the render writes its temporary file; this is the final name).
+    option : str
+        The option that asked for it, named in messages.
+    transaction : Transaction
+        The run's files: :meth:`claim` a temporary file for another target beside it,
+        :meth:`remove_on_commit` a stale file of an earlier run.
+    """
+
+    target: Path
+    option: str
+    transaction: Transaction
+
+    def claim(self, path) -> Path:
+        """A temporary file that becomes ``path`` when every output of the run succeeded."""
+        return self.transaction.claim(path, self.option)
+
+    def remove_on_commit(self, path) -> None:
+        """Delete ``path`` (a stale file) when every output of the run succeeded."""
+        self.transaction.remove_on_commit(path)
+
+
+def _render_into(o: Output, report, tmp: Path, files: ExtraFiles | None = None) -> None:
     from ..textsafe import safe_strings
 
-    content = o.render(safe_strings(report, o.text), tmp)
+    args = (files,) if o.extra_files else ()
+    content = o.render(safe_strings(report, o.text), tmp, *args)
     try:
         if isinstance(content, str):
             tmp.write_text(content, encoding="utf-8", newline="")
@@ -228,6 +315,9 @@ def write_outputs(outputs: Sequence, report=None) -> None:
     output: in a private temporary folder); only when every one succeeded
     are they renamed into place, and only then is standard output printed.
     On any failure all temporary files are removed and no file is changed.
+    An output with ``extra_files`` may write more files beside its own (a
+    sheet's continuation sheets) and delete stale ones of an earlier run,
+    in the same transaction (:class:`ExtraFiles`).
 
     Parameters
     ----------
@@ -240,24 +330,22 @@ def write_outputs(outputs: Sequence, report=None) -> None:
         output's ``text`` format.
     """
     active = check_outputs(outputs)
-    temps: list[tuple[Output, Path]] = []
+    files = Transaction()
     stdout_tmp = None
     with tempfile.TemporaryDirectory(prefix="profiler-") as private:
         try:
             for o in active:
+                extra = None
                 if str(o.path) == "-":
                     tmp = Path(private) / f"stdout{o.suffixes[0] if o.suffixes else '.txt'}"
                     stdout_tmp = tmp
                 else:
-                    tmp = _temp_beside(Path(o.path), o.option)
-                    temps.append((o, tmp))
-                _render_into(o, report, tmp)
-            for o, tmp in temps:
-                os.replace(tmp, o.path)
+                    tmp = files.claim(o.path, o.option)
+                    extra = ExtraFiles(Path(o.path), o.option, files)
+                _render_into(o, report, tmp, extra)
+            files.commit()
         except BaseException:
-            for _, tmp in temps:
-                with contextlib.suppress(OSError):
-                    tmp.unlink()
+            files.abort()
             raise
         if stdout_tmp is not None:
             _print_bytes(stdout_tmp.read_bytes())

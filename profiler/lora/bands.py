@@ -22,7 +22,19 @@ from ..errors import ProfilerError
 
 @dataclass(frozen=True)
 class Band:
-    """A channel plan: name, lowest and highest channel frequency [MHz]."""
+    """A channel plan: name, lowest and highest channel frequency [MHz].
+
+    Parameters
+    ----------
+    name : str
+        Plan name as LoRaWAN RP002-1.0.4 spells it (``"EU868"``, ...).
+    low_mhz : float
+        Lowest channel centre frequency of the plan [MHz].
+    high_mhz : float
+        Highest channel centre frequency of the plan [MHz].
+    description : str
+        One-line description shown in listings.
+    """
 
     name: str
     low_mhz: float
@@ -61,7 +73,23 @@ DEFAULT_BAND = "EU868"
 
 
 def band(name: str) -> Band:
-    """Look up a channel plan by name (case-insensitive)."""
+    """Look up a channel plan by name (case-insensitive).
+
+    Parameters
+    ----------
+    name : str
+        Plan name, e.g. ``"EU868"`` or ``"us915"``.
+
+    Returns
+    -------
+    Band
+        The channel plan.
+
+    Raises
+    ------
+    ProfilerError
+        If no plan has that name.
+    """
     key = str(name).strip().upper()
     if key not in BANDS:
         raise ProfilerError(f"unknown band {name!r}; choose one of {', '.join(BANDS)} or give --freq-mhz")
@@ -72,6 +100,26 @@ def resolve_frequency_mhz(freq_mhz: float | None = None, band_name: str | None =
     """Return the working frequency [MHz] and the band name it came from.
 
     An explicit frequency wins; otherwise the named band (default EU868).
+
+    Parameters
+    ----------
+    freq_mhz : float, optional
+        Explicit frequency [MHz], positive and finite.
+    band_name : str, optional
+        Channel plan name; used only when ``freq_mhz`` is None.
+
+    Returns
+    -------
+    frequency_mhz : float
+        Working frequency [MHz].
+    band_name : str or None
+        The plan the frequency came from; None for an explicit frequency.
+
+    Raises
+    ------
+    ProfilerError
+        If the frequency is not a positive number, both arguments are given,
+        or the band name is unknown.
     """
     if freq_mhz is not None:
         f = float(freq_mhz)

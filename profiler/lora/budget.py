@@ -30,7 +30,7 @@ __all__ = ["link_budget", "LinkBudget"]
 class LinkBudget:
     """Result of :func:`link_budget`; array fields when inputs are arrays.
 
-    Attributes
+    Parameters
     ----------
     tx_power_dbm : float
         Transmitter output power [dBm].

@@ -36,11 +36,16 @@ def bitrate_bps(sf, bw_khz, coding_rate=1):
     Parameters
     ----------
     sf : int or array_like
-        Spreading factor, 7 to 12.
+        Spreading factor [-], 7 to 12.
     bw_khz : float or array_like
         Bandwidth [kHz].
     coding_rate : int, default 1
-        CR, 1 to 4 for code rates 4/5 to 4/8.
+        CR [-], 1 to 4 for code rates 4/5 to 4/8.
+
+    Returns
+    -------
+    bitrate_bps : float or ndarray
+        Nominal bit rate [bit/s].
 
     References
     ----------
@@ -59,13 +64,31 @@ def payload_sizes(payload_bytes=None, app_payload_bytes=None, default_phy_bytes=
     options, FPort, MIC).  Giving both is refused.  With only a PHY payload,
     N = max(PHY - 13, 0).
 
+    Parameters
+    ----------
+    payload_bytes : int, optional
+        PHY payload length [byte].
+    app_payload_bytes : int, optional
+        Application payload length N [byte].
+    default_phy_bytes : int, default 12
+        PHY payload used when neither is given [byte].
+
     Returns
     -------
-    phy_bytes, app_bytes : int
+    phy_bytes : int
+        PHY payload length [byte].
+    app_bytes : int
+        Application payload length [byte].
+
+    Raises
+    ------
+    ProfilerError
+        If both payloads are given, or a payload is out of range
+        (PHY 1 to 255 bytes, application 0 to 242 bytes).
 
     References
     ----------
-    LoRaWAN L2 1.0.4 section 4 (frame format).
+    .. [1] LoRaWAN L2 1.0.4 section 4 (frame format).
     """
     if payload_bytes is not None and app_payload_bytes is not None:
         raise ProfilerError("give either --payload-bytes (PHY) or --app-payload-bytes (application), not both")
@@ -83,7 +106,34 @@ def payload_sizes(payload_bytes=None, app_payload_bytes=None, default_phy_bytes=
 
 
 def data_rates(p: Plan, direction: str):
-    """The LoRa data rates a direction may use: arrays ``dr``, ``sf``, ``bw_khz`` (in DR order)."""
+    """The LoRa data rates a direction may use: arrays ``dr``, ``sf``, ``bw_khz`` (in DR order).
+
+    Parameters
+    ----------
+    p : Plan
+        Regional plan (:func:`profiler.regional.plan`).
+    direction : {"uplink", "downlink"}
+        Link direction.
+
+    Returns
+    -------
+    dr : ndarray of int
+        Data-rate indices [-].
+    sf : ndarray of int
+        Spreading factor of each DR [-].
+    bw_khz : ndarray of float
+        Bandwidth of each DR [kHz].
+
+    Raises
+    ------
+    ProfilerError
+        If ``direction`` is neither "uplink" nor "downlink".
+
+    References
+    ----------
+    .. [1] RP002-1.0.4, the plan's "Data Rate and End-device Output Power
+       Encoding" subsection (DR -> SF and bandwidth table).
+    """
     if direction not in DIRECTIONS:
         raise ProfilerError(f"direction must be uplink or downlink, got {direction!r}")
     drs = p.uplink_drs if direction == "uplink" else p.downlink_drs
@@ -96,18 +146,35 @@ def data_rates(p: Plan, direction: str):
 def dr_rules(p: Plan, direction: str, phy_bytes: int, app_bytes: int, dwell_limit_ms, frequency_mhz: float):
     """What the plan allows at each DR of a direction (independent of the link).
 
+    Parameters
+    ----------
+    p : Plan
+        Regional plan.
+    direction : {"uplink", "downlink"}
+        Link direction.
+    phy_bytes : int
+        PHY payload length for the time on air [byte].
+    app_bytes : int
+        Application payload N checked against the plan's limit [byte].
+    dwell_limit_ms : float or None
+        Uplink dwell-time limit in force [ms]; None for none.
+    frequency_mhz : float
+        Working frequency, to find the duty-cycle sub-band [MHz].
+
     Returns
     -------
-    dict of arrays over the direction's DRs: ``dr``, ``sf``, ``bw_khz``,
-    ``time_on_air_ms``, ``max_payload_bytes`` (application payload N; -1
-    where the DR may not be used), ``allowed`` (bool), ``reason`` (list of
-    str, "" where allowed), ``max_per_hour`` (float, NaN where the plan has
-    no duty cycle), ``duty_cycle`` (float or None), ``bitrate_bps``.
+    dict
+        Arrays over the direction's DRs: ``dr`` [-], ``sf`` [-], ``bw_khz``
+        [kHz], ``time_on_air_ms`` [ms], ``max_payload_bytes`` (application
+        payload N [byte]; -1 where the DR may not be used), ``allowed``
+        (bool), ``reason`` (list of str, "" where allowed), ``max_per_hour``
+        [1/h] (NaN where the plan has no duty cycle), ``duty_cycle`` ([-] or
+        None), ``bitrate_bps`` [bit/s].
 
     References
     ----------
-    RP002-1.0.4, the plan's "Maximum Payload Size" subsection (N per DR,
-    with the dwell-time variant) and its dwell-time rule.
+    .. [1] RP002-1.0.4, the plan's "Maximum Payload Size" subsection (N per
+       DR, with the dwell-time variant) and its dwell-time rule.
     """
     dr, sf, bw = data_rates(p, direction)
     toa = np.asarray(lora_modem.lora_time_on_air_ms(sf, bw, phy_bytes), dtype=float)
@@ -148,11 +215,21 @@ def dr_margins(rx_power_dbm, rules: dict, noise_figure_db, fade_margin_db):
 
     Returns
     -------
-    sensitivity_dbm, margin_db : ndarray, shape (..., n_dr)
+    sensitivity_dbm : ndarray, shape (..., n_dr)
+        Receiver sensitivity per DR [dBm].
+    margin_db : ndarray, shape (..., n_dr)
+        Received power minus sensitivity [dB].
     closes : ndarray of bool, shape (..., n_dr)
+        Margin at least the fade margin.
     recommended : ndarray of int, shape (...)
         Index (into the DR axis) of the fastest allowed DR that closes; -1
         where none does.
+
+    References
+    ----------
+    .. [1] Sensitivity S = -174 + 10 log10(BW) + NF + SNR_min (thermal noise
+       density kT_0 with T_0 = 290 K, ITU-R P.372); see
+       :func:`profiler.lora_modem.lora_sensitivity_dbm`.
     """
     nf = np.asarray(noise_figure_db, dtype=float)[..., None]
     sens = lora_modem.lora_sensitivity_batch_dbm(rules["sf"], rules["bw_khz"], nf)
@@ -165,14 +242,58 @@ def dr_margins(rx_power_dbm, rules: dict, noise_figure_db, fade_margin_db):
 
 
 def slowest_allowed(rules: dict) -> int:
-    """Index of the slowest allowed DR (the fallback when none closes); -1 when none is allowed."""
+    """Index of the slowest allowed DR (the fallback when none closes); -1 when none is allowed.
+
+    Parameters
+    ----------
+    rules : dict
+        Output of :func:`dr_rules`.
+
+    Returns
+    -------
+    index : int
+        Index into the DR axis [-]; -1 when no DR is allowed.
+
+    References
+    ----------
+    .. [1] RP002-1.0.4, the plan's data-rate table (the slowest DR has the
+       lowest bit rate).
+    """
     score = np.where(rules["allowed"], -rules["bitrate_bps"], -np.inf)
     i = int(np.argmax(score))
     return i if np.isfinite(score[i]) else -1
 
 
 def direction_block(rules: dict, frequency_mhz: float, sens, margin, closes, recommended: int) -> dict:
-    """The ``lora.uplink`` / ``lora.downlink`` block of the JSON report for one link."""
+    """The ``lora.uplink`` / ``lora.downlink`` block of the JSON report for one link.
+
+    Parameters
+    ----------
+    rules : dict
+        Output of :func:`dr_rules`.
+    frequency_mhz : float
+        Working frequency of the direction [MHz].
+    sens : ndarray, shape (n_dr,)
+        Sensitivity per DR [dBm].
+    margin : ndarray, shape (n_dr,)
+        Margin per DR [dB].
+    closes : ndarray of bool, shape (n_dr,)
+        Whether each DR closes.
+    recommended : int
+        Index of the recommended DR [-]; -1 for none.
+
+    Returns
+    -------
+    dict
+        ``frequency_mhz`` [MHz], ``duty_cycle`` [-], ``per_dr`` (one dict per
+        DR with ``sensitivity_dbm`` [dBm], ``margin_db`` [dB],
+        ``time_on_air_ms`` [ms], ...) and ``recommended_dr``.
+
+    References
+    ----------
+    .. [1] RP002-1.0.4, the plan's data-rate, payload-size and duty-cycle
+       rules (see :func:`dr_rules`).
+    """
     rows = []
     for i in range(rules["dr"].size):
         n = int(rules["max_payload_bytes"][i])
@@ -189,15 +310,56 @@ def direction_block(rules: dict, frequency_mhz: float, sens, margin, closes, rec
 
 
 def eirp_dbm(tx_power_dbm, gain_dbi, cable_loss_db):
-    """EIRP = P + G - L [dBm] (ITU-R P.525-4 Annex 1 section 2.2: losses between isotropic antennas)."""
+    """EIRP = P + G - L [dBm] (ITU-R P.525-4 Annex 1 section 2.2: losses between isotropic antennas).
+
+    Parameters
+    ----------
+    tx_power_dbm : float or array_like
+        Transmitter output power P [dBm].
+    gain_dbi : float or array_like
+        Antenna gain G [dBi].
+    cable_loss_db : float or array_like
+        Feeder and connector loss L [dB].
+
+    Returns
+    -------
+    eirp_dbm : ndarray
+        Equivalent isotropically radiated power [dBm].
+
+    References
+    ----------
+    .. [1] ITU-R P.525-4 Annex 1 section 2.2.
+    """
     return np.asarray(tx_power_dbm, dtype=float) + gain_dbi - cable_loss_db
 
 
 def compliance_block(p: Plan | None, ends: dict, dwell_limit_ms, capped: list) -> dict:
     """The ``compliance`` block: EIRP of both ends against the plan's limit, dwell time, duty cycle.
 
-    ``ends`` maps "gateway" and "node" to dicts with tx_power_dbm, gain_dbi,
-    cable_loss_db.  ``capped`` holds notes from ``--cap-eirp``.
+    Parameters
+    ----------
+    p : Plan or None
+        Regional plan; None for an explicit frequency (nothing is checked).
+    ends : dict
+        Maps "gateway" and "node" to dicts with ``tx_power_dbm`` [dBm],
+        ``gain_dbi`` [dBi] and ``cable_loss_db`` [dB].
+    dwell_limit_ms : float or None
+        Uplink dwell-time limit in force [ms]; None for none.
+    capped : list of str
+        Notes from ``--cap-eirp``.
+
+    Returns
+    -------
+    dict
+        ``max_eirp_dbm``, ``eirp_gateway_dbm``, ``eirp_node_dbm`` [dBm],
+        ``eirp_ok``, ``dwell_time_limit_ms`` [ms], ``duty_cycle``,
+        ``duty_cycle_downlink`` [-] and ``notes``.
+
+    References
+    ----------
+    .. [1] RP002-1.0.4, the plan's "Data Rate and End-device Output Power
+       Encoding" subsection (maximum EIRP) and its dwell-time rule.
+    .. [2] ETSI EN 300 220-2 V3.2.1, annex B (sub-band duty cycles).
     """
     eirp = {k: float(eirp_dbm(v["tx_power_dbm"], v["gain_dbi"], v["cable_loss_db"])) for k, v in ends.items()}
     if p is None:

@@ -60,7 +60,7 @@ def lora_symbol_time_ms(sf, bw_khz):
     Parameters
     ----------
     sf : int or array_like of int
-        Spreading factor, 7 to 12.
+        Spreading factor [-], 7 to 12.
     bw_khz : float or array_like
         Signal bandwidth [kHz]: 125, 250 or 500.
 
@@ -89,7 +89,7 @@ def lora_sensitivity_dbm(sf, bw_khz, noise_figure_db):
     Parameters
     ----------
     sf : int or array_like of int
-        Spreading factor, 7 to 12.
+        Spreading factor [-], 7 to 12.
     bw_khz : float or array_like
         Signal bandwidth [kHz]: 125, 250 or 500.
     noise_figure_db : float or array_like
@@ -134,7 +134,7 @@ def lora_sensitivity_batch_dbm(sf, bw_khz, noise_figure_db):
     Parameters
     ----------
     sf : array_like of int
-        Spreading factor, 7 to 12.
+        Spreading factor [-], 7 to 12.
     bw_khz : array_like
         Signal bandwidth [kHz].
     noise_figure_db : array_like
@@ -174,13 +174,13 @@ def lora_time_on_air_ms(sf, bw_khz, payload_bytes, coding_rate=1,
     Parameters
     ----------
     sf : int or array_like of int
-        Spreading factor, 7 to 12.
+        Spreading factor [-], 7 to 12.
     bw_khz : float or array_like
         Signal bandwidth [kHz]: 125, 250 or 500.
     payload_bytes : int or array_like of int
         Application payload length :math:`PL` [byte], 1 to 255.
     coding_rate : int, default 1
-        :math:`CR`, 1 to 4, meaning code rate 4/5 to 4/8.
+        :math:`CR` [-], 1 to 4, meaning code rate 4/5 to 4/8.
     preamble_symbols : int, default 8
         Programmed preamble length :math:`n_{preamble}` [symbol], 6 to 65535.
     explicit_header : bool, default True
@@ -344,7 +344,7 @@ def lowest_closing_sf(table):
     Returns
     -------
     sf : int or None
-        Smallest ``sf`` with ``closes`` True, or None if no SF closes.
+        Smallest spreading factor [-] with ``closes`` True, or None if no SF closes.
 
     References
     ----------

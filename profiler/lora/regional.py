@@ -60,7 +60,51 @@ LORAWAN_OVERHEAD_BYTES = 13
 
 @dataclass(frozen=True)
 class Plan:
-    """One regional channel plan (see the module docstring for the fields)."""
+    """One regional channel plan (see the module docstring for the fields).
+
+    Parameters
+    ----------
+    name : str
+        Plan name (``"EU868"``, ...).
+    section : str
+        Section of RP002-1.0.4 the values come from.
+    data_rates : dict
+        DR -> (spreading factor [-], bandwidth [kHz]) for the LoRa DRs.
+    uplink_drs, downlink_drs : tuple of int
+        Data-rate indices [-] each direction may use.
+    uplink_channels_mhz, downlink_channels_mhz : tuple of float
+        Lowest and highest channel of each direction [MHz].
+    rx1_rule : str
+        How RX1 picks its channel and DR, in words.
+    rx1_dr : dict
+        Uplink DR -> RX1 DR (RX1DROffset 0).
+    rx2_frequency_mhz : float
+        RX2 default frequency [MHz].
+    rx2_dr : int
+        RX2 default DR [-].
+    max_eirp_dbm : float
+        Default maximum EIRP [dBm].
+    max_app_payload : dict
+        DR -> largest application payload N [byte].
+    max_conducted_dbm : float, optional
+        Conducted power limit where the plan states one [dBm].
+    max_antenna_gain_dbi : float, optional
+        Antenna gain allowed with that conducted limit [dBi].
+    dwell_time_ms : float, optional
+        Uplink dwell-time limit where the plan imposes one [ms].
+    dwell_time_default : bool, default False
+        Whether the dwell-time limit applies by default.
+    dwell_time_optional : bool, default False
+        Whether ``--dwell-time on|off`` may change it.
+    max_app_payload_dwell : dict
+        DR -> N under the dwell-time limit [byte] (None: DR not usable).
+    duty_cycle_subbands : tuple, optional
+        (low [MHz], high [MHz], duty cycle [-]) per sub-band; None for none.
+    default_channels_mhz : tuple of float
+        Default channels [MHz].
+    notes : tuple of str
+        Remarks shown with the plan.
+    """
 
     name: str
     section: str
@@ -223,7 +267,28 @@ PLANS: dict[str, Plan] = {p.name: p for p in (
 
 
 def plan(name: str) -> Plan:
-    """Look up a regional plan by name (case-insensitive)."""
+    """Look up a regional plan by name (case-insensitive).
+
+    Parameters
+    ----------
+    name : str
+        Plan name, e.g. ``"EU868"``.
+
+    Returns
+    -------
+    Plan
+        The regional plan.
+
+    Raises
+    ------
+    ProfilerError
+        If no plan has that name.
+
+    References
+    ----------
+    .. [1] LoRa Alliance, RP002-1.0.4 LoRaWAN Regional Parameters (2022),
+       sections 2.4-2.13.
+    """
     key = str(name).strip().upper()
     if key not in PLANS:
         raise ProfilerError(f"unknown band {name!r}; choose one of {', '.join(PLANS)} or give --freq-mhz")
@@ -231,7 +296,26 @@ def plan(name: str) -> Plan:
 
 
 def duty_cycle_at(p: Plan, frequency_mhz: float):
-    """Duty cycle of the sub-band holding ``frequency_mhz`` [-], or None where the plan has none."""
+    """Duty cycle of the sub-band holding ``frequency_mhz`` [-], or None where the plan has none.
+
+    Parameters
+    ----------
+    p : Plan
+        Regional plan.
+    frequency_mhz : float
+        Frequency [MHz].
+
+    Returns
+    -------
+    duty_cycle : float or None
+        Duty cycle [-] (0.01 for 1 %); None outside every sub-band or where
+        the plan has no duty-cycle rule.
+
+    References
+    ----------
+    .. [1] ETSI EN 300 220-2 V3.2.1 (2018), annex B (sub-bands of
+       863-870 MHz and 433 MHz), as quoted by RP002-1.0.4 section 2.4.
+    """
     if p.duty_cycle_subbands is None:
         return None
     for low, high, duty in p.duty_cycle_subbands:
@@ -245,6 +329,28 @@ def dwell_time_limit_ms(p: Plan, dwell_time: str | None = None):
 
     ``dwell_time`` is ``"on"``, ``"off"`` or None (the plan's default).
     Refused where the plan does not let it be changed.
+
+    Parameters
+    ----------
+    p : Plan
+        Regional plan.
+    dwell_time : {"on", "off"}, optional
+        Dwell-time choice; None for the plan's default.
+
+    Returns
+    -------
+    limit_ms : float or None
+        Dwell-time limit [ms]; None where none applies.
+
+    Raises
+    ------
+    ProfilerError
+        If the choice is not understood or the plan does not let it be changed.
+
+    References
+    ----------
+    .. [1] RP002-1.0.4, dwell-time rules of the AS923 and AU915 plans
+       (sections 2.10 and 2.8).
     """
     if dwell_time is None:
         return p.dwell_time_ms if p.dwell_time_default else None
@@ -261,7 +367,26 @@ def dwell_time_limit_ms(p: Plan, dwell_time: str | None = None):
 
 
 def max_app_payload_bytes(p: Plan, dr: int, dwell_limited: bool):
-    """Largest application payload N at ``dr`` [byte]; None where the DR may not be used."""
+    """Largest application payload N at ``dr`` [byte]; None where the DR may not be used.
+
+    Parameters
+    ----------
+    p : Plan
+        Regional plan.
+    dr : int
+        Data-rate index [-].
+    dwell_limited : bool
+        Whether the uplink dwell-time limit is in force.
+
+    Returns
+    -------
+    n_bytes : int or None
+        Largest application payload N [byte]; None where the DR may not be used.
+
+    References
+    ----------
+    .. [1] RP002-1.0.4, the plan's "Maximum Payload Size" subsection.
+    """
     if dwell_limited and p.max_app_payload_dwell and dr in p.uplink_drs:
         return p.max_app_payload_dwell.get(dr)
     return p.max_app_payload.get(dr)
@@ -273,6 +398,26 @@ def max_tx_power_dbm(p: Plan, gain_dbi, cable_loss_db):
     EIRP = P + G - L must not exceed ``max_eirp_dbm``; where the plan states a
     conducted limit with an antenna-gain allowance (US915), the power is also
     at most ``max_conducted_dbm - max(0, G - max_antenna_gain_dbi)``.
+
+    Parameters
+    ----------
+    p : Plan
+        Regional plan.
+    gain_dbi : float or array_like
+        Antenna gain G [dBi].
+    cable_loss_db : float or array_like
+        Feeder and connector loss L [dB].
+
+    Returns
+    -------
+    power_dbm : float or ndarray
+        Highest transmitter output power [dBm].
+
+    References
+    ----------
+    .. [1] RP002-1.0.4, the plan's "Data Rate and End-device Output Power
+       Encoding" subsection; section 2.5 (US902-928 conducted power and
+       antenna-gain allowance).
     """
     gain = np.asarray(gain_dbi, dtype=float)
     limit = p.max_eirp_dbm - gain + np.asarray(cable_loss_db, dtype=float)
@@ -283,7 +428,24 @@ def max_tx_power_dbm(p: Plan, gain_dbi, cable_loss_db):
 
 
 def plan_dict(p: Plan) -> dict:
-    """One plan as plain JSON types (``profiler bands NAME --json``)."""
+    """One plan as plain JSON types (``profiler bands NAME --json``).
+
+    Parameters
+    ----------
+    p : Plan
+        Regional plan.
+
+    Returns
+    -------
+    dict
+        The plan's fields as JSON types: frequencies [MHz], powers [dBm],
+        gains [dBi], times [ms], payloads [byte].
+
+    References
+    ----------
+    .. [1] LoRa Alliance, RP002-1.0.4 LoRaWAN Regional Parameters (2022),
+       the plan's section.
+    """
     def dr_rows(drs, dwell):
         rows = []
         for dr in drs:

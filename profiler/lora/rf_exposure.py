@@ -152,7 +152,23 @@ def reference_level_w_m2(frequency_mhz, rule: str, exposure: str):
 
 
 def eirp_w(eirp_dbm):
-    """EIRP in watts from dBm: P = 10^((dBm - 30) / 10) [W]."""
+    """EIRP in watts from dBm: P = 10^((dBm - 30) / 10) [W].
+
+    Parameters
+    ----------
+    eirp_dbm : array_like
+        Equivalent isotropically radiated power [dBm].
+
+    Returns
+    -------
+    eirp_w : float or ndarray
+        The same power [W]; a float for scalar input.
+
+    References
+    ----------
+    .. [1] Power level relative to 1 mW: P [dBm] = 10 log10(P / 1 mW)
+       (Recommendation ITU-R V.574, use of the decibel and the neper).
+    """
     p = 10.0 ** ((np.asarray(eirp_dbm, dtype=float) - 30.0) / 10.0)
     return float(p) if p.ndim == 0 else p
 

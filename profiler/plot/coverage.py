@@ -17,9 +17,11 @@ the blue-yellow axis, so they stay distinct with the common red-green
 colour-vision deficiencies and in greyscale.
 
 Nothing is cut: site names are wrapped (in the table and on the map); the
-site table's type shrinks from 6.8 pt to :data:`MIN_TABLE_PT` when the
-sites do not fit, and sites that still do not fit are counted in a line
-that points to the JSON.
+site table's type shrinks from 6.8 pt to :data:`MIN_TABLE_PT` (5.5 pt) when
+the sites do not fit, and the sites that still do not fit continue on
+continuation sheets (:mod:`profiler.plot.continuation`: a PDF's further
+pages, ``NAME-2.png`` beside a PNG), the table's last line saying how many
+and on which sheet.
 """
 
 from __future__ import annotations
@@ -33,7 +35,7 @@ from .sheet import (BADGE_BAD, BADGE_GOOD, BADGE_WARN, MIDDOT, clean, draw_title
 from .tables import draw_tables
 from .titleblock import draw_notes, draw_title_box, provenance_lines, title_block_rows
 
-__all__ = ["build_coverage_figure", "write_coverage_figure", "site_rows", "MIN_TABLE_PT"]
+__all__ = ["build_coverage_figure", "build_coverage_sheets", "write_coverage_figure", "site_rows", "MIN_TABLE_PT"]
 
 #: Smallest type of the site table [pt].
 MIN_TABLE_PT = 5.5
@@ -48,7 +50,7 @@ LOS_STYLE = {"colors": "#5b1a4a", "linewidths": 1.1}
 
 
 def write_coverage_figure(result, path, paper: str = "a4", dpi: float = 200, dem_paths=None, *, report=None,
-                          date_text: str | None = None) -> None:
+                          date_text: str | None = None, files=None) -> None:
     """Draw the coverage map sheet and write it to ``path`` (PNG, PDF or SVG by extension).
 
     Parameters
@@ -66,10 +68,12 @@ def write_coverage_figure(result, path, paper: str = "a4", dpi: float = 200, dem
         The summary to print (default ``result.report``; the CLI passes it with its text made safe).
     date_text : str, optional
         Date printed on the sheet (default the report's ``sheet.date``, else today).
+    files : profiler.outputs.ExtraFiles, optional
+        The run's transaction, for the continuation sheets of a PNG or SVG (:func:`~profiler.plot.sheet.write_sheet`).
     """
     report = report or result.report
-    write_sheet(path, paper, dpi, lambda: build_coverage_figure(result, report, paper, dem_paths, date_text),
-                f"Coverage map: {_title(report)}", report)
+    write_sheet(path, paper, dpi, lambda: build_coverage_sheets(result, report, paper, dem_paths, date_text),
+                f"Coverage map: {_title(report)}", report, files)
 
 
 def _sites(report) -> list:
@@ -84,7 +88,15 @@ def _title(report) -> str:
 
 
 def build_coverage_figure(result, report=None, paper: str = "a4", dem_paths=None, date_text=None, dpi=100.0):
-    """Build the sheet as a :class:`matplotlib.figure.Figure`; the map axes has the label ``coverage-map``."""
+    """Build the sheet as a :class:`matplotlib.figure.Figure`; the map axes has the label ``coverage-map``
+    (the first of :func:`build_coverage_sheets`)."""
+    return build_coverage_sheets(result, report, paper, dem_paths, date_text, dpi)[0]
+
+
+def build_coverage_sheets(result, report=None, paper: str = "a4", dem_paths=None, date_text=None, dpi=100.0):
+    """The sheet and its continuation sheets (the sites the table has no room for) as a list of Figures."""
+    from .continuation import continuation_figures, plan
+
     report = report or result.report
     with style():
         fig, renderer, width_in, height_in = new_sheet(paper, dpi)
@@ -107,18 +119,21 @@ def build_coverage_figure(result, report=None, paper: str = "a4", dem_paths=None
         sites_ax = inch_axes(fig, (side_left, margin + block_h + 0.15, side_w, below), width_in, height_in)
         sites_ax.set_label("coverage-sites")
         area_h = 0.125 * (len(_blocks(report)[0][2]) + 1) + 0.03      # the area table at least 0.125 in a row
-        used = draw_site_table(sites_ax, renderer, _sites(report), max_height_in=below - 0.15 - area_h)
+        used, rest = draw_site_table(sites_ax, renderer, _sites(report), max_height_in=below - 0.15 - area_h)
+        layout = plan(renderer, paper, [(_site_heading(_sites(report)), [_site_entry(row) for row in rest])])
         table_ax = inch_axes(fig, (side_left, margin + block_h + 0.15, side_w, below - used - 0.15), width_in,
                              height_in)
         draw_tables(table_ax, renderer, _blocks(report), max_row_h=0.2)
         sheet = dict(report.get("sheet") or {})
         if date_text:
             sheet["date"] = date_text
+        title = f"Coverage map: {_title(report)}"
         draw_title_box(inch_axes(fig, (side_left, margin, side_w, block_h), width_in, height_in), renderer,
-                       title_block_rows(sheet, f"Coverage map: {_title(report)}", report))
+                       title_block_rows(sheet, title, report, 1, layout.count))
+        notes = provenance_lines(report, source_text(report.get("dem")))
         draw_notes(inch_axes(fig, (margin, margin, side_left - 0.25 - margin, notes_h), width_in, height_in),
-                   renderer, provenance_lines(report, source_text(report.get("dem"))))
-    return fig
+                   renderer, notes)
+        return [fig] + continuation_figures(layout, paper, dpi, title=title, report=report, sheet=sheet, notes=notes)
 
 
 def _draw_header(ax, report, renderer) -> None:
@@ -324,22 +339,35 @@ def _site_columns(rows, renderer, fontsize, pad) -> list:
             + 2 * pad for j, h in enumerate(HEADS)]
 
 
-def draw_site_table(ax, renderer, sites, max_height_in: float, fontsize: float = 6.8, pad: float = 0.035) -> float:
-    """The sites (existing gateways, then candidate sites) from the top of ``ax``; returns the height drawn [in].
+def _site_heading(sites) -> str:
+    """``Sites: 2 gateways and 4 candidate sites`` (the counts of the report's ``summary``)."""
+    from ..io.coverage import site_count_text
+
+    roles = [s.get("role") or "gateway" for s in sites]
+    return "Sites: " + site_count_text({"gateways": roles.count("gateway"), "candidates": roles.count("candidate")})
+
+
+def _site_entry(row) -> tuple[str, str]:
+    """A site table row as a continuation sheet's entry: the key and name, then position, mast, gain, EIRP."""
+    kept = [f"{h} {v}".replace(" ", "\u00a0") for h, v in zip(HEADS[1:], row[2:])]     # a value on one line
+    return row[0], f"  {MIDDOT}  ".join([row[1].replace("\n", "  ")] + kept)
+
+
+def draw_site_table(ax, renderer, sites, max_height_in: float, fontsize: float = 6.8, pad: float = 0.035,
+                    continued_on: int = 2) -> tuple[float, list]:
+    """The sites (existing gateways, then candidate sites) from the top of ``ax``.
 
     A dark heading counts the sites by role, a row of column heads names position, mast, antenna
     gain and EIRP; each site has its role and name in bold across the whole width (wrapped, never
-    cut), then its numbers.  The type shrinks to :data:`MIN_TABLE_PT` until the table fits
-    ``max_height_in``; sites that still do not fit are counted in a last line that points to the JSON.
+    cut), then its numbers.  The type shrinks to :data:`MIN_TABLE_PT` (5.5 pt) until the table fits
+    ``max_height_in``; the sites that still do not fit are left for sheet ``continued_on``, a last
+    line saying how many.  Returns the height drawn [in] and the rows left (:func:`site_rows`).
     """
     from matplotlib.patches import Rectangle
 
-    from ..io.coverage import site_count_text
-
     width, top = ax.get_xlim()[1], ax.get_ylim()[1]
     all_rows = site_rows(sites)
-    roles = [s.get("role") or "gateway" for s in sites]
-    heading = "Sites: " + site_count_text({"gateways": roles.count("gateway"), "candidates": roles.count("candidate")})
+    heading = _site_heading(sites)
     while True:
         widths, names, heights, line_h, rows = _site_layout(all_rows, width, renderer, fontsize, pad)
         head_h = line_h + 2 * pad
@@ -359,10 +387,9 @@ def draw_site_table(ax, renderer, sites, max_height_in: float, fontsize: float =
     for text, x, w in zip(HEADS, lefts, widths):
         cell(x, y - pad, text, (x, y - head_h, x + w, y), fontweight="bold", color="0.2")
     y -= head_h
-    shown = 0
-    for i, (row, name, h) in enumerate(zip(rows, names, heights)):
-        if y - h < top - max_height_in - 1e-9:
-            break
+    shown = _rows_that_fit(heights, max_height_in - 2 * head_h,
+                           _wrapped(_more_text(len(rows), continued_on), width, renderer, fontsize, True), line_h)
+    for i, (row, name, h) in enumerate(zip(rows[:shown], names, heights)):
         if i % 2:
             ax.add_patch(Rectangle((0.0, y - h), width, h, fc="0.93", ec="none", zorder=0))
         name_h = len(name) * line_h + 0.5 * pad
@@ -370,14 +397,24 @@ def draw_site_table(ax, renderer, sites, max_height_in: float, fontsize: float =
         for text, x, w in zip(row[1:], lefts, widths):
             cell(x, y - name_h - 0.5 * pad, text, (x, y - h, x + w, y - name_h))
         y -= h
-        shown += 1
     ax.plot([0.0, width], [y, y], color="0.35", lw=0.8)
     if shown < len(rows):
-        lines = _wrapped(f"{len(rows) - shown} more site(s) not shown for want of room: see the JSON (--json)",
-                         width, renderer, fontsize, bold=True)
+        lines = _wrapped(_more_text(len(rows) - shown, continued_on), width, renderer, fontsize, bold=True)
         cell(-pad, y - 0.04, "\n".join(lines), None, fontweight="bold")
         y -= 0.04 + len(lines) * line_h
-    return top - y
+    return top - y, all_rows[shown:]
+
+
+def _more_text(n: int, sheet_no: int) -> str:
+    return f"{n} more site{'' if n == 1 else 's'} continued on sheet {sheet_no}"
+
+
+def _rows_that_fit(heights, room: float, note_lines, line_h: float) -> int:
+    """How many rows of ``heights`` [in] fit ``room`` [in], with the note's lines under them when not all do."""
+    cum = np.cumsum(heights)
+    if not len(cum) or cum[-1] <= room + 1e-9:
+        return len(heights)
+    return int(np.searchsorted(cum, room - 0.04 - len(note_lines) * line_h + 1e-9, side="right"))
 
 
 def _blocks(report) -> list:

@@ -6,7 +6,9 @@ shapes and colours, links by status with different line styles as well as
 colours, a north arrow, a scale bar and degree ticks), the legend, a summary
 table, the radio settings, the nodes not covered, and the title block,
 provenance and caution line shared with the link sheet
-(:mod:`profiler.plot.sheet`).
+(:mod:`profiler.plot.sheet`).  Node names that do not fit the side column
+even at its smallest type continue on continuation sheets
+(:mod:`profiler.plot.continuation`).
 
 Existing gateways (role ``gateway``) and candidate sites (role
 ``candidate``) are kept apart: candidates are reddish-purple diamonds, their
@@ -48,7 +50,7 @@ from .sheet import (BADGE_BAD, BADGE_GOOD, BADGE_WARN, DASH, EN, MIDDOT, clean, 
                     wrap_text, write_sheet)
 from .tables import draw_tables
 
-__all__ = ["LINK_CHOICES", "STATUSES", "build_network_figure", "drawn_links", "link_status",
+__all__ = ["LINK_CHOICES", "STATUSES", "build_network_figure", "build_network_sheets", "drawn_links", "link_status",
            "write_network_figure"]
 
 #: The choices of ``links``: per node the best link from a gateway and from a candidate, or every link.
@@ -108,7 +110,7 @@ def link_status(links, fade_margin_db) -> list[str]:
 
 def write_network_figure(report: dict, path, paper: str = "a4", dpi: float = 200, dem_paths=None, *,
                          highlight=None, marked=None, date_text: str | None = None, sheet: dict | None = None,
-                         links: str = "best") -> None:
+                         links: str = "best", files=None) -> None:
     """Draw the network map sheet and write it to ``path`` (PNG, PDF or SVG by extension).
 
     Parameters
@@ -137,6 +139,8 @@ def write_network_figure(report: dict, path, paper: str = "a4", dpi: float = 200
         Links drawn: per node the one from its best existing gateway and the
         one from its best candidate site (default), or every link of the
         report.  The counts on the sheet are always of every link.
+    files : profiler.outputs.ExtraFiles, optional
+        The run's transaction, for the continuation sheets of a PNG or SVG (:func:`~profiler.plot.sheet.write_sheet`).
 
     Raises
     ------
@@ -144,14 +148,21 @@ def write_network_figure(report: dict, path, paper: str = "a4", dpi: float = 200
         Unknown extension, paper size or ``links``, a bad dpi, a report
         without sites, a missing output folder or a write error.
     """
-    write_sheet(path, paper, dpi, lambda: build_network_figure(
+    write_sheet(path, paper, dpi, lambda: build_network_sheets(
         report, paper=paper, dem_paths=dem_paths, highlight=highlight, marked=marked, date_text=date_text,
-        sheet=sheet, links=links), f"Network map: {_title(report)}", report)
+        sheet=sheet, links=links), f"Network map: {_title(report)}", report, files)
 
 
 def build_network_figure(report: dict, paper: str = "a4", dem_paths=None, *, highlight=None, marked=None,
                          date_text: str | None = None, sheet: dict | None = None, links: str = "best"):
-    """Build the network map sheet as a :class:`matplotlib.figure.Figure` (Agg canvas).
+    """The network map sheet as a :class:`matplotlib.figure.Figure` (the first of :func:`build_network_sheets`)."""
+    return build_network_sheets(report, paper, dem_paths, highlight=highlight, marked=marked, date_text=date_text,
+                                sheet=sheet, links=links)[0]
+
+
+def build_network_sheets(report: dict, paper: str = "a4", dem_paths=None, *, highlight=None, marked=None,
+                         date_text: str | None = None, sheet: dict | None = None, links: str = "best") -> list:
+    """Build the network map sheet and its continuation sheets (node names it has no room for) as Figures.
 
     Parameters are those of :func:`write_network_figure`.  The map axes
     carries the label ``"network-map"``; the site markers of a role are one
@@ -159,6 +170,9 @@ def build_network_figure(report: dict, paper: str = "a4", dem_paths=None, *, hig
     one collection with the gid ``links-<status>`` (from existing gateways)
     or ``candidate-links-<status>`` (from candidate sites).
     """
+    from .continuation import continuation_figures
+    from .titleblock import provenance_lines
+
     sites = _site_table(report)
     status = link_status(report.get("links") or [], report.get("fade_margin_db"))
     drawn = drawn_links(report, links)
@@ -168,17 +182,20 @@ def build_network_figure(report: dict, paper: str = "a4", dem_paths=None, *, hig
         _draw_header(inch_axes(fig, boxes["header"], width_in, height_in), report, renderer)
         ax = fig.add_axes(fraction(boxes["map"], width_in, height_in), label="network-map")
         _draw_map(ax, report, sites, status, drawn, dem_paths, set(highlight or ()), set(marked or ()), renderer)
-        _draw_side(fig, boxes["side"], width_in, height_in, report, sites, status, drawn, renderer,
-                   bool(highlight), bool(marked))
+        layout = _draw_side(fig, boxes["side"], width_in, height_in, report, sites, status, drawn, renderer,
+                            bool(highlight), bool(marked), paper)
         sheet = dict(sheet or {})
         date_text = date_text or sheet.get("date")
         if date_text:
             sheet["date"] = date_text
+        title = f"Network map: {_title(report)}"
         draw_title_box(inch_axes(fig, boxes["title_block"], width_in, height_in), renderer,
-                       title_block_rows(sheet, f"Network map: {_title(report)}", report))
+                       title_block_rows(sheet, title, report, 1, layout.count))
         draw_footer(inch_axes(fig, boxes["footer"], width_in, height_in), renderer, report,
                     source_text(report.get("dem")), date_text)
-    return fig
+        notes = provenance_lines(report, source_text(report.get("dem")))
+        return [fig] + continuation_figures(layout, paper, fig.dpi, title=title, report=report,
+                                            sheet=sheet, notes=notes)
 
 
 def drawn_links(report: dict, links: str = "best") -> np.ndarray:
@@ -447,8 +464,11 @@ def _free_spot(name, point, gap, taken, frame, renderer, size, bold, measure=Non
 
 
 # --------------------------------------------------------------------------- side column
-def _draw_side(fig, box, width_in, height_in, report, sites, status, drawn, renderer, highlight, marked) -> None:
-    """Legend, summary table and the nodes not covered, top to bottom."""
+def _draw_side(fig, box, width_in, height_in, report, sites, status, drawn, renderer, highlight, marked, paper):
+    """Legend, summary table and the nodes not covered, top to bottom; returns the
+    :class:`~profiler.plot.continuation.Plan` of the names left for continuation sheets."""
+    from .continuation import plan
+
     left, bottom, w, h = box
     legend_h = 1.72 + 0.15 * (bool(highlight) + bool(marked))
     legend_ax = inch_axes(fig, (left, bottom + h - legend_h, w, legend_h), width_in, height_in)
@@ -459,7 +479,9 @@ def _draw_side(fig, box, width_in, height_in, report, sites, status, drawn, rend
     draw_tables(table_ax, renderer, blocks, max_row_h=0.2)
     notes_h = h - legend_h - table_h - 0.25
     if notes_h > 0.3:
-        _draw_uncovered(inch_axes(fig, (left, bottom, w, notes_h), width_in, height_in), report, sites, renderer)
+        return _draw_uncovered(inch_axes(fig, (left, bottom, w, notes_h), width_in, height_in), report, sites,
+                               renderer, paper)
+    return plan(renderer, paper, _uncovered_sections(report, sites))
 
 
 def _draw_legend(ax, report, highlight, marked) -> None:
@@ -518,47 +540,67 @@ def _summary_blocks(report, status) -> list:
 
 
 #: Font sizes [pt] of the names of the nodes not covered: wrapped at the first, shrunk to the second
-#: (the smallest) when they do not fit; what still does not fit is counted, never cut.
+#: (the smallest) when they do not fit; what still does not fit continues on a continuation sheet.
 NAME_LIST_PT = (6.5, 5.6)
 
 
-def _name_lines(names, width, renderer, room, size, measure=None) -> list[str]:
+def _name_lines(names, width, renderer, room, size, measure=None) -> tuple[list[str], list]:
     """The names, comma-separated, wrapped to ``width`` [in] at ``size`` [pt], in at most ``room``
-    lines: whole names only, the rest counted on a last line."""
+    lines: whole names only, then a last line counting the rest (:func:`_more_line`).  Returns the
+    lines and the names left for a continuation sheet."""
     body = wrap_label(", ".join(names) if names else "none", width, renderer, size, measure=measure).split("\n")
     if len(body) <= room:
-        return body
+        return body, []
     shown = []
     for k, name in enumerate(names):               # whole names only, then the count of the rest
         wrapped = wrap_label(name + ",", width, renderer, size, measure=measure).split("\n")
         if len(shown) + len(wrapped) > room - 1:
-            return shown + [f"{EN} and {len(names) - k} more (see the JSON or CSV report)"]
+            return shown + [_more_line(len(names) - k, 2)], list(names[k:])
         shown += wrapped
-    return shown
+    return shown, []
 
 
-def _draw_uncovered(ax, report, sites, renderer) -> None:
-    """The nodes no existing gateway hears with the fade margin, then those no candidate hears either;
-    names wrapped, shrunk down to ``NAME_LIST_PT[-1]`` when needed, never cut; what does not fit is
-    counted and left to the JSON and CSV reports."""
-    width, height = ax.get_xlim()[1], ax.get_ylim()[1]
+def _more_line(n: int, sheet_no: int) -> str:
+    return f"{EN} and {n} more: continued on sheet {sheet_no}"
+
+
+def _uncovered_sections(report, sites) -> list:
+    """``(heading, names)``: the nodes no existing gateway hears with the fade margin, then (with
+    candidate sites) those no candidate hears either."""
     node = sites["role"] == "node"
     by_gateways = [sites["label"][i] for i in np.flatnonzero(node & ~sites["covered"])]
     at_all = [sites["label"][i] for i in np.flatnonzero(node & ~sites["covered"] & ~sites["candidate_covered"])]
     sections = [(f"Nodes not covered by gateways ({len(by_gateways)})", by_gateways)]
     if _has_candidates(report):
         sections.append((f"Not covered even with candidates ({len(at_all)})", at_all))
+    return sections
+
+
+def _draw_uncovered(ax, report, sites, renderer, paper):
+    """The nodes no existing gateway hears with the fade margin, then those no candidate hears either;
+    names wrapped, shrunk down to ``NAME_LIST_PT[-1]`` (5.6 pt) when needed, never cut; the names that
+    still do not fit continue on continuation sheets, a last line saying how many and on which sheet.
+    Returns their :class:`~profiler.plot.continuation.Plan`."""
+    from .continuation import plan
+
+    width, height = ax.get_xlim()[1], ax.get_ylim()[1]
+    sections = _uncovered_sections(report, sites)
     title_h, gap, measure = 0.16, 0.06, TextMeasure(renderer)
     for size in NAME_LIST_PT:
         line_h = size * 1.25 / 72.0
         total = int((height - len(sections) * (title_h + gap)) / line_h)
-        blocks, left = [], total
+        blocks, rest, left = [], [], total
         for k, (title, names) in enumerate(sections):     # the later sections keep one line each
-            lines = _name_lines(names, width, renderer, max(left - (len(sections) - 1 - k), 1), size, measure)
+            lines, more = _name_lines(names, width, renderer, max(left - (len(sections) - 1 - k), 1), size, measure)
             blocks.append((title, lines))
+            rest.append((title, more))
             left -= len(lines)
-        if not any(lines[-1].startswith(EN) for _, lines in blocks):
+        if not any(more for _, more in rest):
             break
+    layout = plan(renderer, paper, rest)
+    for k, (_, more) in enumerate(rest):            # the sheet each list continues on, from the plan
+        if more:
+            blocks[k][1][-1] = _more_line(len(more), layout.first_sheet[k])
     y = height
     for title, lines in blocks:
         contain(put_text(ax, 0.0, y, title, ha="left", va="top", fontsize=7.0, fontweight="bold"), ax)
@@ -566,3 +608,4 @@ def _draw_uncovered(ax, report, sites, renderer) -> None:
         contain(put_text(ax, 0.0, y, "\n".join(lines), ha="left", va="top", fontsize=size, color="0.15",
                          linespacing=1.25 / 1.2), ax)
         y -= line_h * len(lines) + gap
+    return layout

@@ -13,7 +13,8 @@ Every sheet (link, network, later coverage and siting) is drawn the same way:
    sha256 prefix, resolution and CRS; tool version, report schema, date,
    warnings) and the caution line :data:`profiler.CAUTION`;
 4. :func:`write_sheet` checks the format, paper and dpi, and writes the
-   figure atomically (temporary file, then rename) inside :func:`style`.
+   figure and its continuation sheets (:mod:`profiler.plot.continuation`)
+   all or nothing (temporary files, then rename) inside :func:`style`.
 
 Maps (hillshade, north arrow, scale bar, degree ticks, label placement) are
 in :mod:`profiler.plot.basemap`.
@@ -36,7 +37,7 @@ import numpy as np
 
 from ..about import CAUTION, __version__
 from ..errors import ProfilerError
-from ..io.outputs import atomic_path
+from ..io.outputs import check_output_path
 from ..io.report import inert_text
 from . import audit
 from .style import style
@@ -61,6 +62,7 @@ NODATA_HATCH = "////"     # no data (map outside the elevation model, empty pane
 BADGE_GOOD = {"fc": "#e2f0dc", "ec": "0.1", "lw": 0.8}
 BADGE_WARN = {"fc": "#fbeccb", "ec": "0.1", "lw": 1.6}
 BADGE_BAD = {"fc": "#f6d2d2", "ec": "0.0", "lw": 2.6}
+BADGE_PLAIN = {"fc": "white", "ec": "0.1", "lw": 0.8}     # no verdict: a continuation sheet's number
 
 #: Keyword arguments of ``Axes.legend`` shared by the sheets: no frame, small type.
 LEGEND_KW = dict(frameon=False, handlelength=2.4, handleheight=0.9, columnspacing=1.4, labelspacing=0.25,
@@ -102,34 +104,84 @@ def check_dpi(dpi) -> float:
     return dpi
 
 
-def write_sheet(path, paper: str, dpi, build, title: str, report: dict) -> None:
-    """Check the output, build the figure with ``build()`` and write it atomically.
+def write_sheet(path, paper: str, dpi, build, title: str, report: dict, files=None) -> None:
+    """Check the output, build the sheets with ``build()`` and write them, all or nothing.
+
+    ``build`` returns one :class:`matplotlib.figure.Figure` or a list of them: the sheet and its
+    continuation sheets (:mod:`profiler.plot.continuation`).  A PDF gets every sheet as a page of
+    the one file; a PNG or SVG ``NAME.png`` gets the first, and sheet *k* goes to ``NAME-k.png``
+    beside it (:func:`~profiler.plot.continuation_files.continuation_path`).  Continuation files of an
+    earlier run beyond the sheets written now are deleted
+    (:func:`~profiler.plot.continuation_files.stale_continuations`).  Every file is written to a
+    temporary file and renamed only when all succeeded.
 
     Parameters
     ----------
     path : str or os.PathLike
-        ``.png``, ``.pdf`` or ``.svg``; a missing folder fails before drawing.
+        ``.png``, ``.pdf`` or ``.svg``; a missing folder fails before drawing.  With ``files``,
+        the temporary file to write the first sheet to.
     paper : {"a4", "letter"}
     dpi : float
         Resolution of a PNG and of the rasters embedded in a PDF or SVG [dpi].
     build : callable
-        No arguments; returns the :class:`matplotlib.figure.Figure`.
+        No arguments; returns the Figure or the list of Figures.
     title : str
         Document title for the file's metadata.
     report : dict
         The report drawn (its ``tool_version`` goes into the metadata).
+    files : profiler.outputs.ExtraFiles, optional
+        The run's transaction (:func:`profiler.outputs.write_outputs`): continuation files are
+        claimed from it and renamed with the run's other outputs.  Without it the sheet writes
+        its own files atomically.
     """
-    fmt = figure_format(path)
+    from ..io.outputs import ExtraFiles, Transaction
+    from .continuation_files import stale_continuations
+
+    own = files is None
+    target = Path(path) if own else Path(files.target)
+    fmt = figure_format(target)
     paper_size_in(paper)
     dpi = check_dpi(dpi)
-    with atomic_path(path) as tmp, style():
-        fig = build()
-        try:
-            # zlib level 1 for PNG: about 0.15 s less at 200 dpi for a slightly larger file
-            extra = {"pil_kwargs": {"compress_level": 1}} if fmt == "png" else {}
-            fig.savefig(tmp, format=fmt, dpi=dpi, metadata=metadata(title, report, fmt), **extra)
-        except OSError as exc:
-            raise ProfilerError(f"cannot write {path}: {exc.strerror or exc}") from exc
+    if own:
+        check_output_path(path, stdout=False)
+        transaction = Transaction()
+        files = ExtraFiles(target, "figure", transaction)
+    try:
+        tmp = files.claim(target) if own else Path(path)
+        with style():
+            figures = build()
+            figures = list(figures) if isinstance(figures, (list, tuple)) else [figures]
+            _save_sheets(figures, tmp, target, fmt, dpi, title, report, files)
+        for stale in stale_continuations(target, len(figures)) if fmt != "pdf" else ():
+            files.remove_on_commit(stale)
+        if own:
+            transaction.commit()
+    except BaseException:
+        if own:
+            transaction.abort()
+        raise
+
+
+def _save_sheets(figures, tmp, target, fmt, dpi, title, report, files) -> None:
+    """Save the sheets: a PDF as pages of ``tmp``; else the first to ``tmp``, the others to claimed files."""
+    from .continuation_files import continuation_path, continued_title
+
+    # zlib level 1 for PNG: about 0.15 s less at 200 dpi for a slightly larger file
+    extra = {"pil_kwargs": {"compress_level": 1}} if fmt == "png" else {}
+    try:
+        if fmt == "pdf":
+            from matplotlib.backends.backend_pdf import PdfPages
+
+            with PdfPages(tmp, metadata=metadata(title, report, fmt)) as pdf:
+                for fig in figures:
+                    fig.savefig(pdf, format="pdf", dpi=dpi)
+            return
+        for k, fig in enumerate(figures, start=1):
+            out = tmp if k == 1 else files.claim(continuation_path(target, k))
+            info = metadata(title if k == 1 else continued_title(title, k, len(figures)), report, fmt)
+            fig.savefig(out, format=fmt, dpi=dpi, metadata=info, **extra)
+    except OSError as exc:
+        raise ProfilerError(f"cannot write {target}: {exc.strerror or exc}") from exc
 
 
 def metadata(title: str, report: dict, fmt: str) -> dict:
@@ -339,7 +391,8 @@ def draw_title_block(ax, renderer, title: str, subtitle: str, badge: str, badge_
         Small caps label above the badge.
     fit_title : callable, optional
         ``fit_title(text_artist, room_in)``: the caller's own fitting of the
-        title to ``room_in`` [in] wide (default: wrap and shrink as above).
+        title to ``room_in`` [in] wide, called only when the title is wider
+        than that on one line at 15 pt (default: wrap and shrink as above).
 
     Returns
     -------
@@ -369,7 +422,7 @@ def draw_title_block(ax, renderer, title: str, subtitle: str, badge: str, badge_
     title_room_h = height - 0.02 - (0.04 + sub_fit.height_in + 0.05)
     head = put_text(ax, 0.0, height - 0.02, title, ha="left", va="top", fontsize=15, fontweight="bold",
                     linespacing=1.05)
-    if fit_title is not None:
+    if fit_title is not None and measure(title, 15, True) > room:     # the caller's fitting, only when needed
         fit_title(head, room)
         title_ok = True
     else:

@@ -22,8 +22,9 @@ solved over:
 Every count on the sheet is read from the siting report, so the sheet and
 the JSON beside it agree.  Nothing is cut: the lists are wrapped (a word
 longer than the column is broken between characters), the font shrinks
-from 6.5 pt to :data:`MIN_FONT_PT`, and entries that still do not fit are
-counted in a last line that points to the JSON report.  A map name that the
+from 6.5 pt to :data:`MIN_FONT_PT` (5 pt), and the entries that still do not
+fit continue on continuation sheets (:mod:`profiler.plot.continuation`), a
+last line saying how many and on which sheet.  A map name that the
 network map's placement shortened is replaced by the site's row in the site
 list (``[6]``); the lists use that number and end with the full names.
 """
@@ -39,9 +40,9 @@ from .sheet import (BADGE_BAD, BADGE_GOOD, BADGE_WARN, ELLIPSIS, MIDDOT, clean, 
 from .tables import draw_tables
 from .titleblock import draw_notes, draw_title_box, provenance_lines, title_block_rows
 
-__all__ = ["build_siting_figure", "write_siting_figure", "served_links", "MIN_FONT_PT"]
+__all__ = ["build_siting_figure", "build_siting_sheets", "write_siting_figure", "served_links", "MIN_FONT_PT"]
 
-#: Smallest font of the side lists [pt]; below it entries are counted, not drawn.
+#: Smallest font of the side lists [pt]; what does not fit at it continues on a continuation sheet.
 MIN_FONT_PT = 5.0
 
 #: Font of the notes under the map [pt] (as ``titleblock.draw_notes``).
@@ -50,7 +51,7 @@ NOTES_PT = 6.0
 
 # --------------------------------------------------------------------------- public API
 def write_siting_figure(siting: dict, network: dict, path, paper: str = "a4", dpi: float = 150, dem_paths=None, *,
-                        sheet: dict | None = None, date_text: str | None = None) -> None:
+                        sheet: dict | None = None, date_text: str | None = None, files=None) -> None:
     """Draw the siting sheet and write it to ``path`` (PNG, PDF or SVG by extension).
 
     Parameters
@@ -70,16 +71,24 @@ def write_siting_figure(siting: dict, network: dict, path, paper: str = "a4", dp
         Title-block fields (``SheetInfo.to_dict()`` plus ``date``).
     date_text : str, optional
         Date on the sheet; default ``sheet["date"]``, else today.
+    files : profiler.outputs.ExtraFiles, optional
+        The run's transaction, for the continuation sheets of a PNG or SVG (:func:`~profiler.plot.sheet.write_sheet`).
     """
     # Laid out at 100 dpi, as the network map whose drawing it reuses (and as the layout audit checks it).
-    write_sheet(path, paper, dpi, lambda: build_siting_figure(
+    write_sheet(path, paper, dpi, lambda: build_siting_sheets(
         siting, network, paper=paper, dem_paths=dem_paths, sheet=sheet, date_text=date_text),
-        f"Gateway siting: {_title(siting)}", siting)
+        f"Gateway siting: {_title(siting)}", siting, files)
 
 
 def build_siting_figure(siting: dict, network: dict, paper: str = "a4", dem_paths=None, *, sheet: dict | None = None,
                         date_text: str | None = None, dpi: float = 100.0):
-    """Build the siting sheet as a :class:`matplotlib.figure.Figure` (Agg canvas).
+    """The siting sheet as a :class:`matplotlib.figure.Figure` (the first of :func:`build_siting_sheets`)."""
+    return build_siting_sheets(siting, network, paper, dem_paths, sheet=sheet, date_text=date_text, dpi=dpi)[0]
+
+
+def build_siting_sheets(siting: dict, network: dict, paper: str = "a4", dem_paths=None, *, sheet: dict | None = None,
+                        date_text: str | None = None, dpi: float = 100.0) -> list:
+    """Build the siting sheet and its continuation sheets (the list entries it has no room for) as Figures.
 
     Parameters are those of :func:`write_siting_figure`.  The map axes has
     the label ``"siting-map"``; the best-server links are the collections
@@ -89,6 +98,7 @@ def build_siting_figure(siting: dict, network: dict, paper: str = "a4", dem_path
     ``candidate-links-error`` (the network map's faint style).
     """
     from . import network as netmap
+    from .continuation import continuation_figures, plan
 
     served = served_links(siting)
     with style():
@@ -111,12 +121,14 @@ def build_siting_figure(siting: dict, network: dict, paper: str = "a4", dem_path
                          set(siting.get("chosen") or ()), {u["name"] for u in siting.get("unreachable") or []},
                          renderer)
         keys = _key_shortened_labels(ax, sites)
-        _draw_side(fig, boxes["side"], width_in, height_in, siting, served, keys, renderer)
+        rest = _draw_side(fig, boxes["side"], width_in, height_in, siting, served, keys, renderer)
+        layout = plan(renderer, paper, rest)
         sheet = {**(sheet or {}), **({"date": date_text} if date_text else {})}
+        title = f"Gateway siting: {_title(siting)}"
         draw_title_box(inch_axes(fig, boxes["title_block"], width_in, height_in), renderer,
-                       title_block_rows(sheet, f"Gateway siting: {_title(siting)}", siting))
+                       title_block_rows(sheet, title, siting, 1, layout.count))
         draw_notes(inch_axes(fig, boxes["notes"], width_in, height_in), renderer, notes, fontsize=NOTES_PT)
-    return fig
+        return [fig] + continuation_figures(layout, paper, dpi, title=title, report=siting, sheet=sheet, notes=notes)
 
 
 def served_links(siting: dict) -> list[tuple]:
@@ -215,8 +227,9 @@ def _key_shortened_labels(ax, sites) -> dict:
 
 
 # --------------------------------------------------------------------------- side column
-def _draw_side(fig, box, width_in, height_in, siting, served, keys, renderer) -> None:
-    """Legend, solution table, then the chosen sites, the greedy choice and the unreachable nodes."""
+def _draw_side(fig, box, width_in, height_in, siting, served, keys, renderer) -> list:
+    """Legend, solution table, then the chosen sites, the greedy choice and the unreachable nodes;
+    returns the sections ``(heading, entries)`` left for the continuation sheets."""
     left, bottom, w, h = box
     legend_h = 1.08
     legend_ax = inch_axes(fig, (left, bottom + h - legend_h, w, legend_h), width_in, height_in)
@@ -229,7 +242,8 @@ def _draw_side(fig, box, width_in, height_in, siting, served, keys, renderer) ->
     lists_h = top - used - 0.12
     if lists_h > 0.2:
         lists_ax = inch_axes(fig, (left, bottom, w, lists_h), width_in, height_in)
-        _draw_lists(lists_ax, renderer, _sections(siting, keys))
+        return _draw_lists(lists_ax, renderer, _sections(siting, keys))
+    return _sections(siting, keys)
 
 
 def _draw_legend(ax, siting) -> None:
@@ -324,7 +338,7 @@ def _sections(siting: dict, keys: dict) -> list[tuple[str, list[str]]]:
     return sections
 
 
-#: Sections whose entries give way first when the lists do not fit: the names of numbered sites
+#: Sections whose entries move first to a continuation sheet when the lists do not fit: the names of numbered sites
 #: (also in the site list, by row), the chosen sites (ringed and named on the map; their count and
 #: total cost in the table), the greedy choice, and last the unreachable nodes (their reasons are
 #: nowhere else on the sheet).
@@ -392,8 +406,10 @@ def _lines_height(layout, size) -> float:
     return sum(len(head) * head_h + sum(len(e) for e in entries) * line_h + 0.6 * line_h for head, entries in layout)
 
 
-def _draw_lists(ax, renderer, sections) -> None:
-    """The lists, wrapped; the font shrinks to :data:`MIN_FONT_PT`, then the last entries are counted."""
+def _draw_lists(ax, renderer, sections) -> list:
+    """The lists, wrapped; the font shrinks to :data:`MIN_FONT_PT`, then the last entries of the lists
+    (in :data:`DROP_ORDER`) move to sheet 2, a line under each list saying how many of its entries
+    ("and 5 more: continued on sheet 2"); returns the sections moved ``(heading, entries)``."""
     width, height = ax.get_xlim()[1], ax.get_ylim()[1]
     widths = _Widths(renderer)
     size = 6.5
@@ -404,16 +420,18 @@ def _draw_lists(ax, renderer, sections) -> None:
     widths = _Widths(renderer, exact=True)            # the lines drawn: wrapped with widths at their size
     layout = _list_layout(sections, width, widths, size)
     line_h = size * 1.25 / 72.0
-    dropped, note = 0, []
-    while _lines_height(layout, size) + len(note) * line_h > height and any(e for _, e in layout):
+
+    def notes():                                    # per list, the line saying how many moved
+        return [_wrap(f"and {len(all_) - len(kept)} more: continued on sheet 2", width, widths, size)
+                if len(kept) < len(all_) else [] for (_, all_), (_, kept) in zip(sections, layout)]
+
+    while (_lines_height(layout, size) + sum(map(len, notes())) * line_h > height
+           and any(e for _, e in layout)):
         k = next(i for i in DROP_ORDER if i < len(layout) and layout[i][1])
-        layout[k][1].pop()              # the last entry of the least needed list: counted below, not drawn
-        dropped += 1
-        note = _wrap(f"and {dropped} more entr{'y' if dropped == 1 else 'ies'}: see the site list (by row) and "
-                     "the JSON report (profiler.siting/1)", width, widths, size)
+        layout[k][1].pop()              # the last entry of the least needed list: to the continuation sheet
     head_h = (size + 0.8) * 1.25 / 72.0
     y = height
-    for head, entries in layout:
+    for (head, entries), note in zip(layout, notes()):
         for line in head:
             audit.contain(put_text(ax, 0.0, y, line, ha="left", va="top", fontsize=size + 0.8, fontweight="bold"), ax)
             y -= head_h
@@ -422,7 +440,9 @@ def _draw_lists(ax, renderer, sections) -> None:
                 audit.contain(put_text(ax, 0.0 if j == 0 else 0.1, y, line, ha="left", va="top", fontsize=size,
                                        color="0.1"), ax)
                 y -= line_h
+        for line in note:
+            audit.contain(put_text(ax, 0.0, y, line, ha="left", va="top", fontsize=size, fontstyle="italic"), ax)
+            y -= line_h
         y -= 0.6 * line_h
-    for line in note:
-        audit.contain(put_text(ax, 0.0, y, line, ha="left", va="top", fontsize=size, fontstyle="italic"), ax)
-        y -= line_h
+    return [(head, entries[len(kept):]) for (head, entries), (_, kept) in zip(sections, layout)
+            if len(kept) < len(entries)]

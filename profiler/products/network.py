@@ -25,7 +25,7 @@ from ..lora.bands import resolve_frequency_mhz
 from ..propagation.free_space import wavelength_m
 from ..errors import ProfilerError
 from ..engine.links import NetworkSettings, link_fields
-from ..engine.radio import RadioSettings, check_separation, min_separation_m, slant_distance_m
+from ..engine.radio import RadioSettings, check_separation, minimum_separation_m, slant_distance_m
 
 SCHEMA = "profiler.network/2"
 CHUNK_LINKS = 256
@@ -79,7 +79,7 @@ def compute_links(model, settings: NetworkSettings, lat_gw, lon_gw, mast_gw, lat
         lam = float(wavelength_m(settings.frequency_mhz))
         ae = float(geometry.effective_radius_m(settings.k_factor))
         slant = slant_distance_m(s.length_m[rows], h_a, h_b)
-        too_close = ~(slant >= min_separation_m(lam))
+        too_close = ~(slant >= minimum_separation_m(lam))
         for j in np.flatnonzero(too_close):  # rare: each needs its own message
             try:
                 check_separation(float(slant[j]), lam)

@@ -47,7 +47,7 @@ OVERRIDE_COLUMNS = ("tx_power_dbm", "gain_dbi", "cable_loss_db", "noise_figure_d
 MAX_MAST_M = 1000.0
 """Highest accepted antenna height above ground [m]."""
 
-_SITES_HINT = "header name,lat_deg,lon_deg,mast_m,role (see README, 'profiler network')"
+_SITES_HINT = "header name,lat_deg,lon_deg,mast_m,role (see docs/network.md, 'Site and pairs files')"
 
 
 # --------------------------------------------------------------------------- the table

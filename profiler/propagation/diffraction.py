@@ -68,7 +68,7 @@ _POLARIZATIONS = ("horizontal", "vertical")
 class KnifeEdge:
     """Single knife edge at the profile sample of largest diffraction parameter.
 
-    Attributes
+    Parameters
     ----------
     loss_db : float
         Knife-edge loss J(v_max) [dB].
@@ -87,7 +87,7 @@ class KnifeEdge:
 class SmoothEarthHeights:
     """Smooth-Earth surface heights of P.452-18 Attachment 2 section 5.1.6.
 
-    Attributes
+    Parameters
     ----------
     surface_height_a_m : float
         Least-squares smooth-surface height at site A, hst [m amsl] (eq. 163).
@@ -111,7 +111,7 @@ class SmoothEarthHeights:
 class DeltaBullington:
     """Complete delta-Bullington diffraction loss and its parts (P.452-18 section 4.2.3).
 
-    Attributes
+    Parameters
     ----------
     loss_db : float
         Ld = Lbulla + max(Ldsph - Lbulls, 0) [dB] (eq. 43).

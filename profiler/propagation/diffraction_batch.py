@@ -157,17 +157,78 @@ def _col(x):
 # ---------------------------------------------------------------------------
 
 def bulge_km_term(di_km, dd_km, ae_km):
-    """Earth-curvature term 500 C_e d_i (d - d_i) of P.452-18 eq. (14) [m] (C_e = 1 / a_e [1/km])."""
+    """Earth-curvature term 500 C_e d_i (d - d_i) of P.452-18 eq. (14) [m] (C_e = 1 / a_e [1/km]).
+
+    Parameters
+    ----------
+    di_km : float or ndarray
+        Distance of the sample from site A, d_i [km].
+    dd_km : float or ndarray
+        Distance of the sample from site B, d - d_i [km].
+    ae_km : float or ndarray
+        Effective Earth radius a_e [km].
+
+    Returns
+    -------
+    bulge_m : float or ndarray
+        Earth-curvature height [m].
+
+    References
+    ----------
+    .. [1] ITU-R P.452-18 section 4.2.1, eq. (14).
+    """
     return (500.0 / ae_km) * di_km * dd_km
 
 
 def slope_term(hc_m, h_end_m, distance_km):
-    """Slope from an antenna to an interior point, P.452-18 eqs. (14), (18) [m/km]."""
+    """Slope from an antenna to an interior point, P.452-18 eqs. (14), (18) [m/km].
+
+    Parameters
+    ----------
+    hc_m : float or ndarray
+        Height of the point, terrain plus Earth curvature [m amsl].
+    h_end_m : float or ndarray
+        Antenna height at the end the slope is taken from [m amsl].
+    distance_km : float or ndarray
+        Distance of the point from that end [km], greater than 0.
+
+    Returns
+    -------
+    slope_m_per_km : float or ndarray
+        (hc - h_end) / distance [m/km].
+
+    References
+    ----------
+    .. [1] ITU-R P.452-18 section 4.2.1, eqs. (14) and (18).
+    """
     return (hc_m - h_end_m) / distance_km
 
 
 def obstacle_term(h_m, hts_m, hrs_m, di_km, dd_km, d_km):
-    """Height above the straight antenna-to-antenna line, P.452-18 eq. (165d) [m]."""
+    """Height above the straight antenna-to-antenna line, P.452-18 eq. (165d) [m].
+
+    Parameters
+    ----------
+    h_m : float or ndarray
+        Height of the point [m amsl].
+    hts_m, hrs_m : float or ndarray
+        Antenna heights at A and B [m amsl].
+    di_km : float or ndarray
+        Distance of the point from A [km].
+    dd_km : float or ndarray
+        Distance of the point from B [km].
+    d_km : float or ndarray
+        Path length [km], greater than 0.
+
+    Returns
+    -------
+    height_m : float or ndarray
+        Height of the point above the line [m]; negative below it.
+
+    References
+    ----------
+    .. [1] ITU-R P.452-18 Attachment 2 section 5.1.6, eq. (165d).
+    """
     return h_m - (hts_m * dd_km + hrs_m * di_km) / d_km
 
 
@@ -176,12 +237,55 @@ def v_unit_term(hc_m, hts_m, hrs_m, di_km, dd_km, d_km):
 
     v = v_unit / sqrt(lambda [m]); the wavelength is a common factor of every
     sample, so the reductions (maximum, its index) do not depend on it.
+
+    Parameters
+    ----------
+    hc_m : float or ndarray
+        Height of the point, terrain plus Earth curvature [m amsl].
+    hts_m, hrs_m : float or ndarray
+        Antenna heights at A and B [m amsl].
+    di_km : float or ndarray
+        Distance of the point from A [km], greater than 0.
+    dd_km : float or ndarray
+        Distance of the point from B [km], greater than 0.
+    d_km : float or ndarray
+        Path length [km].
+
+    Returns
+    -------
+    v_unit : float or ndarray
+        v sqrt(lambda) [m^0.5].
+
+    References
+    ----------
+    .. [1] ITU-R P.452-18 section 4.2.1, eq. (16).
     """
     return obstacle_term(hc_m, hts_m, hrs_m, di_km, dd_km, d_km) * np.sqrt(0.002 * d_km / (di_km * dd_km))
 
 
 def smooth_sum_terms(seg_km, d0_km, d1_km, h0_m, h1_m):
-    """The summands of one profile segment in P.452-18 eqs. (161) and (162): (v1 term, v2 term)."""
+    """The summands of one profile segment in P.452-18 eqs. (161) and (162): (v1 term, v2 term).
+
+    Parameters
+    ----------
+    seg_km : float or ndarray
+        Segment length d_i - d_(i-1) [km].
+    d0_km, d1_km : float or ndarray
+        Distances of the segment's first and second sample from A [km].
+    h0_m, h1_m : float or ndarray
+        Terrain heights of those samples [m amsl].
+
+    Returns
+    -------
+    v1_term : float or ndarray
+        Summand of v1, eq. (161) [km m].
+    v2_term : float or ndarray
+        Summand of v2, eq. (162) [km^2 m].
+
+    References
+    ----------
+    .. [1] ITU-R P.452-18 Attachment 2 section 5.1.6, eqs. (161)-(162).
+    """
     return seg_km * (h1_m + h0_m), seg_km * (h1_m * (2.0 * d1_km + d0_km) + h0_m * (d1_km + 2.0 * d0_km))
 
 
@@ -275,11 +379,13 @@ def diffraction_reductions(reduce, d_total_km, h_first_m, h_last_m, h_tx_amsl_m,
     Returns
     -------
     dict of ndarray, shape (L,)
-        Independent of the frequency: input of :func:`diffraction_finish`.
+        Independent of the frequency: input of :func:`diffraction_finish`;
+        heights [m amsl], slopes [m/km], ``v_unit`` [m^0.5], distances [km].
 
     References
     ----------
-    ITU-R P.452-18 section 4.2 (eqs. 14-18) and Attachment 2 section 5.1.6 (eqs. 161-167).
+    .. [1] ITU-R P.452-18 section 4.2 (eqs. 14-18) and Attachment 2
+       section 5.1.6 (eqs. 161-167).
     """
     hts = np.asarray(h_tx_amsl_m, dtype=float)
     hrs = np.asarray(h_rx_amsl_m, dtype=float)
@@ -297,9 +403,30 @@ def diffraction_reductions(reduce, d_total_km, h_first_m, h_last_m, h_tx_amsl_m,
 def diffraction_finish(reduced, frequency_mhz, effective_radius_m, vertical=True, sea_fraction=0.0) -> dict:
     """The losses of :func:`diffraction_batch` from :func:`diffraction_reductions` (per-link formulas only).
 
+    Parameters
+    ----------
+    reduced : dict of ndarray, shape (L,)
+        Output of :func:`diffraction_reductions` (heights [m amsl], slopes
+        [m/km], distances [km]).
+    frequency_mhz : float
+        Frequency [MHz].
+    effective_radius_m : float or ndarray, shape (L,)
+        Effective Earth radius [m].
+    vertical : bool or ndarray of bool
+        Polarization of the spherical-Earth first-term part.
+    sea_fraction : float or ndarray
+        Fraction of each path over sea [-].
+
+    Returns
+    -------
+    dict of ndarray, shape (L,)
+        The keys of :func:`diffraction_batch`: losses [dB], diffraction
+        parameters [-], heights [m amsl].
+
     References
     ----------
-    ITU-R P.452-18 section 4.2 (eqs. 13-43); ITU-R P.526-15 sections 4.1 and 4.5.
+    .. [1] ITU-R P.452-18 section 4.2 (eqs. 13-43); ITU-R P.526-15
+       sections 4.1 and 4.5.
     """
     f_mhz = float(frequency_mhz)
     wavelength_m = float(_wavelength_m(f_mhz))
@@ -334,7 +461,7 @@ def diffraction_batch(distance_m, height_m, n_samples, h_tx_amsl_m, h_rx_amsl_m,
         (distance 0) to site B; values beyond are ignored.  Distances [m]
         strictly increase; heights [m amsl].
     n_samples : ndarray of int, shape (L,)
-        Samples per profile, at least 3.
+        Number of samples per profile (a count), at least 3.
     h_tx_amsl_m, h_rx_amsl_m : float or ndarray, shape (L,)
         Antenna heights at A and B [m amsl].
     frequency_mhz : float
@@ -357,8 +484,8 @@ def diffraction_batch(distance_m, height_m, n_samples, h_tx_amsl_m, h_rx_amsl_m,
 
     References
     ----------
-    ITU-R P.452-18 section 4.2 (eqs. 13-43) and Attachment 2 section 5.1.6
-    (eqs. 161-167); ITU-R P.526-15 sections 4.1 and 4.5.
+    .. [1] ITU-R P.452-18 section 4.2 (eqs. 13-43) and Attachment 2
+       section 5.1.6 (eqs. 161-167); ITU-R P.526-15 sections 4.1 and 4.5.
     """
     ae_km = np.asarray(effective_radius_m, dtype=float) * 1e-3
     p = _paths(np.asarray(distance_m, dtype=float) * 1e-3, height_m, n_samples, ae_km)

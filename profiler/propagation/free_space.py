@@ -82,29 +82,31 @@ def free_space_loss_db(distance_m, frequency_mhz):
     """
     d = positive("distance", distance_m, "m")
     f = positive("frequency", frequency_mhz, "MHz")
-    return scalar_or_array(free_space_loss_batch_db(d, f))
+    return scalar_or_array(free_space_term_db(d, f))
 
 
-def free_space_loss_batch_db(distance_m, frequency_mhz):
-    r"""The formula of :func:`free_space_loss_db` unchecked, for batches (NaN passes through).
+def free_space_term_db(distance_m, frequency_mhz):
+    """Free-space basic transmission loss of many links [dB] (plain arithmetic, no checks).
 
-    .. math:: L_{bf} = 20 \log_{10}\left(\frac{4 \pi d f}{c}\right)
+    The one formula behind :func:`free_space_loss_db` and the link engine
+    (:func:`profiler.engine.radio.path_loss`): L_bf = 20 log10(4 pi d f / c).
 
     Parameters
     ----------
-    distance_m : ndarray
-        Path length :math:`d` [m].
-    frequency_mhz : float or ndarray
-        Frequency :math:`f` [MHz].
+    distance_m : float or array_like
+        Path length d [m], greater than 0.
+    frequency_mhz : float or array_like
+        Frequency f [MHz], greater than 0; broadcasts against ``distance_m``.
 
     Returns
     -------
-    loss_db : ndarray
+    loss_db : float or numpy.ndarray
         Free-space basic transmission loss [dB].
 
     References
     ----------
-    ITU-R P.525-4 Annex 1 §2.2, eq. (4).
+    .. [1] ITU-R P.525-4 (2019), "Calculation of free-space attenuation",
+       Annex 1 section 2.2, eq. (4).
     """
     return 20.0 * np.log10(4.0 * np.pi * distance_m * frequency_mhz * 1e6 / SPEED_OF_LIGHT_M_S)
 
@@ -136,5 +138,3 @@ def near_field_distance_m(frequency_mhz, wavelengths=4.0):
     f = positive("frequency", frequency_mhz, "MHz")
     n = positive("near-field distance", wavelengths, "wavelengths")
     return scalar_or_array(n * wavelength_m(f))
-
-

@@ -139,24 +139,24 @@ def worst_ratio_prefixes(distance_m, terrain_m, n, site_amsl_m, node_amsl_m, wav
     distance_m, terrain_m : ndarray, shape (R, N)
         Radial profiles [m], [m AMSL].
     n : ndarray of int, shape (R,)
-        Samples per radial.
+        Number of samples per radial (a count).
     site_amsl_m : ndarray, shape (R,)
         Site antenna [m AMSL].
     node_amsl_m : ndarray, shape (R, N)
         Node antenna at every sample [m AMSL].
     wavelength_m, effective_radius_m : float
-        [m].
+        Wavelength and effective Earth radius [m].
 
     Returns
     -------
     ndarray, shape (R, N)
         Minimum of :func:`profiler.propagation.geometry.clearance_ratio_term` over
-        ``0 < i < j`` at ``[r, j]`` (NaN for ``j < 2`` or beyond ``n``).
+        ``0 < i < j`` at ``[r, j]`` [-] (NaN for ``j < 2`` or beyond ``n``).
         Not where it is: tracking the index would keep the loop from vectorizing.
 
     References
     ----------
-    ITU-R P.526-15 section 2 and eq. (2).
+    .. [1] ITU-R P.526-15 section 2 and eq. (2).
     """
     shape = np.shape(distance_m)
     worst = np.full(shape, np.nan)
@@ -176,25 +176,25 @@ def bullington_prefixes(distance_km, height_m, n, hts_m, hrs_m, effective_radius
     distance_km, height_m : ndarray, shape (R, N)
         Radial profiles [km from the site], [m AMSL].
     n : ndarray of int, shape (R,)
-        Samples per radial.
+        Number of samples per radial (a count).
     hts_m, hrs_m : ndarray, shape (R, N)
         Antenna heights of the link ending at each sample [m AMSL].
     effective_radius_km : float
-        [km].
+        Effective Earth radius [km].
     actual : bool
         Terrain + bulge (the actual profile) or the bulge alone (the smooth profile).
 
     Returns
     -------
     dict of ndarray, shape (R, N)
-        ``stim``, ``srim``, ``v_unit`` and, with ``actual``, ``hobs``,
-        ``alpha_obt``, ``alpha_obr`` of the link ending at ``[r, j]``
-        (defined for ``2 <= j < n[r]``); no ``v_index`` (the knife-edge
-        sample, which a coverage map does not show).
+        ``stim``, ``srim`` [m/km], ``v_unit`` [m^0.5] and, with ``actual``,
+        ``hobs`` [m], ``alpha_obt``, ``alpha_obr`` [m/km] of the link ending
+        at ``[r, j]`` (defined for ``2 <= j < n[r]``); no ``v_index`` (the
+        knife-edge sample, which a coverage map does not show).
 
     References
     ----------
-    ITU-R P.452-18 eqs. (14), (16), (18), (165a)-(165d).
+    .. [1] ITU-R P.452-18 eqs. (14), (16), (18), (165a)-(165d).
     """
     out = np.full((6,) + np.shape(distance_km), np.nan)
     with _LAUNCH:

@@ -66,7 +66,13 @@ class FileDigests:
         self._lock = threading.Lock()
 
     def start(self, paths) -> None:
-        """Start hashing, in the background, every path of ``paths`` that is a regular file."""
+        """Start hashing, in the background, every path of ``paths`` that is a regular file.
+
+        Parameters
+        ----------
+        paths : iterable of str or path-like
+            Files to hash; folders and missing paths are skipped.
+        """
         for path in paths:
             try:
                 if not os.path.isfile(path):
@@ -83,7 +89,27 @@ class FileDigests:
             thread.start()
 
     def sha256(self, path) -> str:
-        """SHA-256 of the file at ``path`` [hex]; raises OSError if it cannot be read."""
+        """SHA-256 of the file at ``path`` [hex]; raises OSError if it cannot be read.
+
+        Parameters
+        ----------
+        path : str or path-like
+            The file.
+
+        Returns
+        -------
+        str
+            Hex digest (64 characters).
+
+        Raises
+        ------
+        OSError
+            If the file cannot be read.
+
+        References
+        ----------
+        .. [1] NIST FIPS 180-4, Secure Hash Standard, section 6.2 (SHA-256).
+        """
         key = _key(path)
         with self._lock:
             if key in self._done:

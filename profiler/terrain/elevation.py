@@ -67,6 +67,19 @@ class ElevationModel:
     (bounded by ``cache_bytes``), so a second profile in the same area reads
     nothing from disk.  ``blocks_read`` counts the block reads done so far.
 
+    Parameters
+    ----------
+    tiles : list of profiler.dem_mosaic.Tile
+        The rasters, in the order given.
+    groups : list of profiler.dem_mosaic.TileGroup
+        The same rasters joined into grid-aligned mosaics, finest first.
+    cache_bytes : int, default 256 MiB
+        Upper bound of the in-memory block cache [bytes].
+    max_open : int, default 64
+        Largest number of raster files kept open at once (a count).
+    digests : profiler.provenance.FileDigests, optional
+        Provenance digests; default a new one.
+
     Attributes
     ----------
     sources : list of SourceInfo
@@ -147,7 +160,18 @@ class ElevationModel:
         return model
 
     def sources_covering(self, lon_deg, lat_deg):
-        """Sources whose WGS84 bounds contain at least one of the points (a cheap test, no pixel read)."""
+        """Sources whose WGS84 bounds contain at least one of the points (a cheap test, no pixel read).
+
+        Parameters
+        ----------
+        lon_deg, lat_deg : array_like
+            WGS84 longitude and latitude [deg].
+
+        Returns
+        -------
+        list of SourceInfo
+            In the order of :attr:`sources`.
+        """
         lon = np.atleast_1d(np.asarray(lon_deg, dtype=float))
         lat = np.atleast_1d(np.asarray(lat_deg, dtype=float))
         found = []
@@ -158,11 +182,29 @@ class ElevationModel:
         return found
 
     def start_digests(self, lon_deg, lat_deg) -> None:
-        """Start hashing, in the background, the files of the sources that cover the points."""
+        """Start hashing, in the background, the files of the sources that cover the points.
+
+        Parameters
+        ----------
+        lon_deg, lat_deg : array_like
+            WGS84 longitude and latitude [deg].
+        """
         self.digests.start([s.file_path or s.path for s in self.sources_covering(lon_deg, lat_deg)])
 
     def provenance(self, sources) -> list:
-        """Report records ``{path, sha256, crs, resolution}`` of ``sources``, each file hashed once per model."""
+        """Report records ``{path, sha256, crs, resolution}`` of ``sources``, each file hashed once per model.
+
+        Parameters
+        ----------
+        sources : list of SourceInfo
+            The sources to describe (e.g. from :meth:`sources_used`).
+
+        Returns
+        -------
+        list of dict
+            One record per source: ``path``, ``sha256`` (hex), ``crs`` and
+            ``resolution`` (pixel size in CRS units [deg or m]).
+        """
         return [{"path": s.path, "sha256": self.digests.sha256(s.file_path or s.path), "crs": s.crs,
                  "resolution": list(s.resolution)} for s in sources]
 
@@ -274,6 +316,20 @@ class ElevationModel:
 
         The per-point form of :meth:`pixel_size_m` (same rules), so that a
         batch of links gets each link's sampling step in one call.
+
+        Parameters
+        ----------
+        lon_deg, lat_deg : array_like
+            WGS84 longitude and latitude [deg].
+
+        Returns
+        -------
+        ndarray
+            Pixel size per point [m], flattened; inf where no source covers it.
+
+        References
+        ----------
+        WGS84 meridional and parallel radii, NIMA TR8350.2 ch. 4.
         """
         lon, lat, _ = _flat_points(lon_deg, lat_deg)
         best = np.full(lon.shape, math.inf)

@@ -22,7 +22,7 @@ from ..limits import sample_count
 class GeodesicPath:
     """Equally spaced points on the geodesic from site A to site B.
 
-    Attributes
+    Parameters
     ----------
     distance_m : ndarray
         Distance from A along the geodesic [m]; first 0, last ``length_m``.
@@ -44,15 +44,53 @@ class GeodesicPath:
 
 
 def swapped_hint(lat_deg: float, lon_deg: float) -> str:
-    """``; lat/lon swapped? (...)`` when a latitude out of -90..90 would be a valid longitude and the
-    longitude a valid latitude; empty otherwise.  For the one-line refusal of a latitude out of range."""
+    """Hint that latitude and longitude may be swapped.
+
+    ``; lat/lon swapped? (...)`` when a latitude out of -90..90 would be a
+    valid longitude and the longitude a valid latitude; empty otherwise.  For
+    the one-line refusal of a latitude out of range.
+
+    Parameters
+    ----------
+    lat_deg : float
+        Latitude as given [deg].
+    lon_deg : float
+        Longitude as given [deg].
+
+    Returns
+    -------
+    str
+        The hint, or ``""``.
+    """
     if -90.0 <= lon_deg <= 90.0 and -180.0 <= lat_deg <= 180.0:
         return f"; lat/lon swapped? ({lon_deg:g},{lat_deg:g} would be valid)"
     return ""
 
 
 def validate_lat_lon(lat_deg: float, lon_deg: float, what: str = "site") -> tuple[float, float]:
-    """Check a latitude/longitude pair and return it as floats."""
+    """Check a latitude/longitude pair and return it as floats.
+
+    Parameters
+    ----------
+    lat_deg : float or str
+        Latitude [deg, WGS84], -90 to 90.
+    lon_deg : float or str
+        Longitude [deg, WGS84], -180 to 180.
+    what : str, default "site"
+        Name of the site for the message.
+
+    Returns
+    -------
+    lat_deg : float
+        Latitude [deg].
+    lon_deg : float
+        Longitude [deg].
+
+    Raises
+    ------
+    ProfilerError
+        If a coordinate is not a finite number or is out of range.
+    """
     try:
         lat, lon = float(lat_deg), float(lon_deg)
     except (TypeError, ValueError):
@@ -68,7 +106,29 @@ def validate_lat_lon(lat_deg: float, lon_deg: float, what: str = "site") -> tupl
 
 
 def geodesic_inverse(lat_a_deg, lon_a_deg, lat_b_deg, lon_b_deg) -> tuple[float, float, float]:
-    """Geodesic distance [m] and the azimuths at both ends [deg, 0-360]."""
+    """Geodesic distance [m] and the azimuths at both ends [deg, 0-360].
+
+    Parameters
+    ----------
+    lat_a_deg, lon_a_deg : float
+        Site A [deg, WGS84].
+    lat_b_deg, lon_b_deg : float
+        Site B [deg, WGS84].
+
+    Returns
+    -------
+    length_m : float
+        Geodesic distance A-B [m].
+    azimuth_a_to_b_deg : float
+        Azimuth at A towards B [deg from true north, clockwise, 0-360].
+    azimuth_b_to_a_deg : float
+        Azimuth at B towards A [deg from true north, clockwise, 0-360].
+
+    References
+    ----------
+    .. [1] C. F. F. Karney, "Algorithms for geodesics", J. Geodesy 87, 43-55
+       (2013), as implemented by PROJ's ``geod`` (pyproj.Geod).
+    """
     geod = Geod(ellps="WGS84")
     az_ab, az_ba_back, dist = geod.inv(lon_a_deg, lat_a_deg, lon_b_deg, lat_b_deg)
     return float(dist), float(az_ab) % 360.0, float(az_ba_back) % 360.0

@@ -30,7 +30,23 @@ CHUNK_PX = 256
 
 
 class Tile:
-    """One raster file: metadata, its place in a mosaic grid, read chunking."""
+    """One raster file: metadata, its place in a mosaic grid, read chunking.
+
+    Parameters
+    ----------
+    index : int
+        Position of the raster in the order given [-].
+    gdal_path : str
+        Path as GDAL opens it (``/vsizip/...`` inside a zip).
+    info : SourceInfo
+        Description of the raster.
+    ds : rasterio.DatasetReader
+        The open dataset (only its metadata is read).
+    pcrs : pyproj.CRS
+        Horizontal CRS of the raster.
+    crs_key : str
+        Key of that CRS (its WKT), shared by rasters with the same CRS.
+    """
 
     def __init__(self, index, gdal_path, info, ds, pcrs, crs_key):
         self.index = index
@@ -56,7 +72,19 @@ class Tile:
         self.col0 = 0
 
     def to_float(self, raw):
-        """Stored values (native dtype) to float64 heights in stored units, NaN void."""
+        """Stored values (native dtype) to float64 heights in stored units, NaN void.
+
+        Parameters
+        ----------
+        raw : ndarray
+            Pixel values as stored [raster units], before scale and offset.
+
+        Returns
+        -------
+        ndarray of float64
+            Heights in the raster's stored units [m or ft], band scale and
+            offset applied; NaN where the pixel is void.
+        """
         values = raw.astype(np.float64)
         if self.void_value is not None:
             values[raw == self.void_value] = np.nan
@@ -66,7 +94,20 @@ class Tile:
 
 
 def void_value(dtype, nodata):
-    """The nodata value in the raster's dtype, or None (NaN is always void)."""
+    """The nodata value in the raster's dtype, or None (NaN is always void).
+
+    Parameters
+    ----------
+    dtype : numpy.dtype
+        Data type of the band.
+    nodata : float or None
+        The raster's nodata value [stored units].
+
+    Returns
+    -------
+    scalar of ``dtype`` or None
+        The void marker; None where there is none or it does not fit the dtype.
+    """
     if nodata is None or math.isnan(nodata):
         return None
     if dtype.kind in "iu":
@@ -79,7 +120,15 @@ def void_value(dtype, nodata):
 
 
 class TileGroup:
-    """Tiles sharing CRS, pixel size and grid alignment: one virtual mosaic."""
+    """Tiles sharing CRS, pixel size and grid alignment: one virtual mosaic.
+
+    Parameters
+    ----------
+    tile : Tile
+        The first tile; it fixes the grid.
+    transformer : pyproj.Transformer or None
+        WGS84 to the tile's CRS; None for a geographic WGS84 grid.
+    """
 
     def __init__(self, tile, transformer):
         self.tiles = [tile]
@@ -92,7 +141,18 @@ class TileGroup:
         self.crs_key = tile.crs_key
 
     def try_add(self, tile):
-        """Add ``tile`` if it lies on this group's pixel grid; return success."""
+        """Add ``tile`` if it lies on this group's pixel grid; return success.
+
+        Parameters
+        ----------
+        tile : Tile
+            Candidate raster.
+
+        Returns
+        -------
+        bool
+            True when the tile was added.
+        """
         if tile.crs_key != self.crs_key or tile.info.vertical_scale != self.vertical_scale:
             return False
         ref, new = self.transform, tile.transform
@@ -139,7 +199,19 @@ class TileGroup:
         self.uniform_tile = first if same else None
 
     def pixel_coords(self, lon_deg, lat_deg):
-        """Fractional corner-based (row, col) in the group grid for lon/lat."""
+        """Fractional corner-based (row, col) in the group grid for lon/lat.
+
+        Parameters
+        ----------
+        lon_deg, lat_deg : array_like
+            WGS84 longitude and latitude [deg].
+
+        Returns
+        -------
+        frow, fcol : ndarray
+            Fractional row and column in the group grid [pixel]; non-finite
+            input stays non-finite.
+        """
         if self.transformer is None:
             x, y = lon_deg, lat_deg
         else:
@@ -159,6 +231,18 @@ class TileGroup:
 
         The mosaic's far edges are closed: a point exactly on the bottom or
         right edge (latitude -90 on a global grid) belongs to the edge pixel.
+
+        Parameters
+        ----------
+        frow, fcol : ndarray
+            Fractional row and column in the group grid [pixel].
+
+        Returns
+        -------
+        rows, cols : ndarray of int64
+            Pixel indices in the group grid [pixel].
+        owner : ndarray of intp
+            Index into ``self.tiles`` of the tile holding the pixel; -1 if none.
         """
         rows, cols = floor_int(frow), floor_int(fcol)
         owner = self.tile_of(rows, cols)
@@ -172,7 +256,18 @@ class TileGroup:
         return rows, cols, owner
 
     def tile_of(self, rows, cols):
-        """Index (into ``self.tiles``) of the first tile holding each pixel, -1 if none."""
+        """Index (into ``self.tiles``) of the first tile holding each pixel, -1 if none.
+
+        Parameters
+        ----------
+        rows, cols : ndarray of int
+            Pixel indices in the group grid [pixel].
+
+        Returns
+        -------
+        ndarray of intp
+            Tile index per pixel (an index); -1 where no tile holds it.
+        """
         if len(self.tiles) == 1:
             inside = ((rows >= self.r0[0]) & (rows < self.r1[0])
                       & (cols >= self.c0[0]) & (cols < self.c1[0]))
@@ -193,6 +288,22 @@ class TileGroup:
         """Global block number, flat offset in the block and block width.
 
         Entries whose ``owner`` is negative get meaningless values.
+
+        Parameters
+        ----------
+        owner : ndarray of int
+            Tile index per pixel, from :meth:`owner_pixels`.
+        rows, cols : ndarray of int
+            Pixel indices in the group grid [pixel].
+
+        Returns
+        -------
+        key : ndarray of int
+            Global block number (an index) for the block cache.
+        offset : ndarray of int
+            Flat index of the pixel inside its block.
+        width : ndarray of int
+            Block width [pixel].
         """
         if len(self.tiles) == 1:
             t = self.tiles[0]
@@ -208,13 +319,35 @@ class TileGroup:
 
 
 def floor_int(frac):
-    """Integer floor of fractional pixel coordinates; NaN maps far outside."""
+    """Integer floor of fractional pixel coordinates; NaN maps far outside.
+
+    Parameters
+    ----------
+    frac : ndarray
+        Fractional pixel coordinates [pixel].
+
+    Returns
+    -------
+    ndarray of int64
+        Floor [pixel]; -2**40 where the input is not finite.
+    """
     out = np.floor(np.where(np.isfinite(frac), frac, -2.0 ** 40))
     return out.astype(np.int64)
 
 
 def build_groups(tiles):
-    """Join grid-aligned tiles into mosaics; order finest first, then as given."""
+    """Join grid-aligned tiles into mosaics; order finest first, then as given.
+
+    Parameters
+    ----------
+    tiles : list of Tile
+        The rasters, in the order given.
+
+    Returns
+    -------
+    list of TileGroup
+        Finished groups, finest resolution first.
+    """
     transformers = {}
     groups = []
     for tile in tiles:

@@ -28,7 +28,7 @@ MIN_SURVEY_SPACING_M = 0.001
 class TerrainProfile:
     """Terrain along the path from site A (first sample) to site B (last).
 
-    Attributes
+    Parameters
     ----------
     distance_m : ndarray
         Distance from A [m], strictly increasing, first element 0.
@@ -43,10 +43,10 @@ class TerrainProfile:
         used, or the surveyed profile file.
     voids_filled : int
         Number of samples interpolated across elevation voids.
-    void_stretches_m : list
-        ``[[from_m, to_m], ...]`` of the interpolated stretches (distance from A).
     kind : str
         ``"dem"`` or ``"surveyed"``.
+    void_stretches_m : list
+        ``[[from_m, to_m], ...]`` of the interpolated stretches (distance from A).
     """
 
     distance_m: np.ndarray
@@ -82,10 +82,25 @@ def profile_from_dem(model, lat_a_deg: float, lon_a_deg: float, lat_b_deg: float
         elevation data along the path.
     fill_voids : bool
         Interpolate across nodata voids along the profile instead of refusing.
+    name_a, name_b : str
+        Site names used in error messages.
 
     Returns
     -------
     TerrainProfile
+        Distances from A [m], terrain [m AMSL], coordinates and provenance.
+
+    Raises
+    ------
+    ProfilerError
+        If a coordinate or the step is out of range, or the path cannot be
+        sampled (outside the elevation data, or a void with ``fill_voids``
+        False).
+
+    References
+    ----------
+    .. [1] C. F. F. Karney, "Algorithms for geodesics", J. Geodesy 87, 43-55
+       (2013) (the geodesic the samples follow).
     """
     from .sampling import sample_links
 
@@ -115,6 +130,22 @@ def read_profile_csv(path) -> TerrainProfile:
     A header row is required; rows are used as given (no resampling).  Site A
     is the first row and site B the last.  Distances must be strictly
     increasing; they are taken relative to the first row.
+
+    Parameters
+    ----------
+    path : str or path-like
+        The CSV file (distances [m], elevations [m above mean sea level]).
+
+    Returns
+    -------
+    TerrainProfile
+        With ``kind="surveyed"`` and no coordinates.
+
+    Raises
+    ------
+    ProfilerError
+        If the file is missing, not UTF-8, has no proper header, fewer than
+        3 or too many rows, or values that are not numbers.
     """
     import hashlib
 

@@ -46,16 +46,16 @@ MAX_ANCHORED_M = 1_000_000.0
 class LinkSamples:
     """Terrain profiles of a batch of links (padded arrays, see the module docstring).
 
-    Attributes
+    Parameters
     ----------
     distance_m, lat_deg, lon_deg, terrain_m : ndarray, shape (L, N)
         Distance from A [m], sample coordinates [deg, WGS84], terrain [m AMSL].
     n : ndarray of int, shape (L,)
-        Samples per link (3 for a link with an error, whose values are NaN).
+        Number of samples per link (3 for a link with an error, whose values are NaN).
     length_m, azimuth_a_to_b_deg, azimuth_b_to_a_deg : ndarray, shape (L,)
         Geodesic length [m] and azimuths at both ends [deg from true north].
     voids_filled : ndarray of int, shape (L,)
-        Samples interpolated across voids.
+        Number of samples interpolated across voids.
     void_stretches_m : list of list
         Per link, ``[[from_m, to_m], ...]`` of the interpolated stretches (distance from A).
     error : list of (str or None)
@@ -113,12 +113,19 @@ def sample_links(model, lat_a_deg, lon_a_deg, lat_b_deg, lon_b_deg, *, step_m=No
     Returns
     -------
     LinkSamples
+        Padded profiles: distances [m], coordinates [deg], terrain [m AMSL].
 
     Notes
     -----
     Each link gets ``n = max(ceil(length / step) + 1, 3)`` equally spaced
     samples including both ends.  Positions are the direct geodesic problem
     from A along the forward azimuth at ``length * j / (n - 1)``.
+
+    References
+    ----------
+    .. [1] C. F. F. Karney, "Algorithms for geodesics", J. Geodesy 87,
+       43-55 (2013): the inverse and direct geodesic problems on the
+       WGS84 ellipsoid, as implemented by PROJ's ``geod``.
     """
     from pyproj import Geod
 

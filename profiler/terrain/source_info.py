@@ -21,7 +21,7 @@ __all__ = ["SourceInfo", "file_sha256"]
 class SourceInfo:
     """Description of one elevation raster.
 
-    Attributes
+    Parameters
     ----------
     path : str
         Path as GDAL opened it (``/vsizip/...`` for a raster inside a zip).
@@ -36,6 +36,8 @@ class SourceInfo:
         (west, south, east, north) of the raster extent in WGS84 [deg].
     vertical_scale : float
         Metres per stored height unit [m] (1 for metres, 0.3048 for feet).
+    file_path : str, default ""
+        The file on disk (the zip archive for a raster inside one).
     """
 
     path: str

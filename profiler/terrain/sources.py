@@ -66,7 +66,31 @@ def metres_per_degree(lat_deg):
 
 
 def unit_scale_m(unit, path):
-    """Metres per vertical unit for a band unit string ('' means metres)."""
+    """Metres per vertical unit for a band unit string ('' means metres).
+
+    Parameters
+    ----------
+    unit : str
+        Band unit as the raster states it (``"m"``, ``"ft"``, ``"US survey foot"``, ...).
+    path : str
+        Raster file, for the message.
+
+    Returns
+    -------
+    float
+        Metres per unit [m]: 1, 0.3048 (international foot) or 1200/3937
+        (US survey foot).
+
+    Raises
+    ------
+    ProfilerError
+        If the unit is neither metres nor feet.
+
+    References
+    ----------
+    .. [1] NIST Special Publication 811 (2008), appendix B (international
+       foot 0.3048 m; US survey foot 1200/3937 m).
+    """
     text = " ".join(str(unit or "").lower().replace("_", " ").replace("-", " ").split())
     if text in ("", "m", "metre", "metres", "meter", "meters", "metre amsl", "m amsl"):
         return 1.0
@@ -81,7 +105,18 @@ def unit_scale_m(unit, path):
 
 
 def root_cause(exc):
-    """First line of the innermost message in an exception chain."""
+    """First line of the innermost message in an exception chain.
+
+    Parameters
+    ----------
+    exc : BaseException
+        The exception caught.
+
+    Returns
+    -------
+    str
+        First line of the innermost non-empty message, else the type name.
+    """
     reason, seen = type(exc).__name__, set()
     while exc is not None and id(exc) not in seen:
         seen.add(id(exc))
@@ -93,7 +128,24 @@ def root_cause(exc):
 
 
 def expand_path(path):
-    """List of (gdal_path, file_path) for a file, zip archive or folder."""
+    """List of (gdal_path, file_path) for a file, zip archive or folder.
+
+    Parameters
+    ----------
+    path : pathlib.Path
+        A raster file, a zip archive of rasters, or a folder searched
+        recursively.
+
+    Returns
+    -------
+    list of tuple of str
+        ``(gdal_path, file_path)`` per raster, sorted by path.
+
+    Raises
+    ------
+    ProfilerError
+        If the path is missing or holds no raster.
+    """
     if not path.exists():
         raise ProfilerError(f"DEM not found: {path}; check --dem")
     if path.is_dir():
@@ -117,6 +169,26 @@ def expand_path(path):
 
 
 def zip_members(path, required):
+    """The rasters inside a zip archive as GDAL ``/vsizip/`` paths.
+
+    Parameters
+    ----------
+    path : pathlib.Path
+        The zip archive.
+    required : bool
+        Refuse an unreadable archive or one without rasters (given
+        directly) instead of skipping it (found in a folder).
+
+    Returns
+    -------
+    list of tuple of str
+        ``(gdal_path, file_path)`` per raster member.
+
+    Raises
+    ------
+    ProfilerError
+        With ``required``, if the archive cannot be read or holds no raster.
+    """
     import zipfile
 
     try:
@@ -136,6 +208,25 @@ def zip_members(path, required):
 
 
 def open_dataset(gdal_path, file_path):
+    """Open one raster with rasterio, GDAL warnings silenced.
+
+    Parameters
+    ----------
+    gdal_path : str
+        Path as GDAL opens it.
+    file_path : str
+        The file on disk, for the message.
+
+    Returns
+    -------
+    rasterio.DatasetReader
+        The open dataset.
+
+    Raises
+    ------
+    ProfilerError
+        If GDAL cannot read the file as a raster.
+    """
     try:
         with warnings.catch_warnings():
             warnings.simplefilter("ignore")
@@ -147,6 +238,18 @@ def open_dataset(gdal_path, file_path):
 
 
 def linear_unit_m(pcrs):
+    """Metres per unit of the first axis of a CRS (1 when unknown).
+
+    Parameters
+    ----------
+    pcrs : pyproj.CRS
+        A projected CRS.
+
+    Returns
+    -------
+    float
+        Metres per CRS unit [m].
+    """
     try:
         return float(pcrs.axis_info[0].unit_conversion_factor)
     except (IndexError, AttributeError):
@@ -154,7 +257,23 @@ def linear_unit_m(pcrs):
 
 
 def crs_entry(ds, crs_cache, path):
-    """(key, pyproj CRS, display string, vertical unit [m]) for a dataset."""
+    """(key, pyproj CRS, display string, vertical unit [m]) for a dataset.
+
+    Parameters
+    ----------
+    ds : rasterio.DatasetReader
+        The open dataset.
+    crs_cache : dict
+        Entries already built, by WKT; the new entry is added to it.
+    path : str
+        Raster file, for messages.
+
+    Returns
+    -------
+    tuple or None
+        ``(wkt, horizontal pyproj.CRS, display name, metres per vertical
+        unit [m] or None)``; None when the raster has no CRS.
+    """
     if ds.crs is None:
         return None
     wkt = ds.crs.to_wkt()
@@ -178,7 +297,38 @@ def crs_entry(ds, crs_cache, path):
 
 
 def describe_raster(index, gdal_path, file_path, ds, crs_cache):
-    """Build a Tile from dataset metadata (no pixel reads)."""
+    """Build a Tile from dataset metadata (no pixel reads).
+
+    Parameters
+    ----------
+    index : int
+        Position of the raster in the order given [-].
+    gdal_path : str
+        Path as GDAL opens it.
+    file_path : str
+        The file on disk.
+    ds : rasterio.DatasetReader
+        The open dataset.
+    crs_cache : dict
+        CRS entries by WKT (see :func:`crs_entry`).
+
+    Returns
+    -------
+    Tile
+        With its :class:`SourceInfo` (pixel size [m], WGS84 bounds [deg],
+        vertical scale [m]).
+
+    Raises
+    ------
+    ProfilerError
+        If the raster has no band, no georeferencing, no CRS outside
+        geographic bounds, or an unsupported vertical unit.
+
+    References
+    ----------
+    WGS84 meridional and parallel radii, NIMA TR8350.2 ch. 4 (pixel size of
+    a geographic grid in metres).
+    """
     if ds.count < 1:
         raise ProfilerError(f"raster has no bands: {file_path}; give an elevation raster")
     transform = ds.transform

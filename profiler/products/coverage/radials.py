@@ -91,8 +91,8 @@ def line_of_sight_radials(distance_m, terrain_m, n, site_amsl_m, node_mast_m, ef
     t = np.asarray(terrain_m, dtype=float)
     h_a = np.asarray(site_amsl_m, dtype=float)[:, None]
     with np.errstate(divide="ignore", invalid="ignore"):
-        angle = geometry.elevation_slope(h_a, t, d, effective_radius_m)
-        node = geometry.elevation_slope(h_a, t + node_mast_m, d, effective_radius_m)
+        angle = geometry.elevation_tangent(h_a, t, d, effective_radius_m)
+        node = geometry.elevation_tangent(h_a, t + node_mast_m, d, effective_radius_m)
     angle[:, 0] = -np.inf
     angle = np.where(np.isfinite(angle), angle, -np.inf)
     horizon = np.maximum.accumulate(angle, axis=1)
