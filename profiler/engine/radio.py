@@ -635,7 +635,7 @@ def block_allowed(block) -> set:
     ----------
     block : dict
         A ``lora.uplink`` / ``lora.downlink`` block
-        (:func:`profiler.lorawan.direction_block`).
+        (:func:`profiler.lora.lorawan.direction_block`).
 
     Returns
     -------

@@ -111,7 +111,7 @@ def data_rates(p: Plan, direction: str):
     Parameters
     ----------
     p : Plan
-        Regional plan (:func:`profiler.regional.plan`).
+        Regional plan (:func:`profiler.lora.regional.plan`).
     direction : {"uplink", "downlink"}
         Link direction.
 
@@ -229,7 +229,7 @@ def dr_margins(rx_power_dbm, rules: dict, noise_figure_db, fade_margin_db):
     ----------
     .. [1] Sensitivity S = -174 + 10 log10(BW) + NF + SNR_min (thermal noise
        density kT_0 with T_0 = 290 K, ITU-R P.372); see
-       :func:`profiler.lora_modem.lora_sensitivity_dbm`.
+       :func:`profiler.lora.modem.lora_sensitivity_dbm`.
     """
     nf = np.asarray(noise_figure_db, dtype=float)[..., None]
     sens = lora_modem.lora_sensitivity_batch_dbm(rules["sf"], rules["bw_khz"], nf)

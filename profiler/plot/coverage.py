@@ -68,7 +68,7 @@ def write_coverage_figure(result, path, paper: str = "a4", dpi: float = 200, dem
         The summary to print (default ``result.report``; the CLI passes it with its text made safe).
     date_text : str, optional
         Date printed on the sheet (default the report's ``sheet.date``, else today).
-    files : profiler.outputs.ExtraFiles, optional
+    files : profiler.io.outputs.ExtraFiles, optional
         The run's transaction, for the continuation sheets of a PNG or SVG (:func:`~profiler.plot.sheet.write_sheet`).
     """
     report = report or result.report

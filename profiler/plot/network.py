@@ -139,7 +139,7 @@ def write_network_figure(report: dict, path, paper: str = "a4", dpi: float = 200
         Links drawn: per node the one from its best existing gateway and the
         one from its best candidate site (default), or every link of the
         report.  The counts on the sheet are always of every link.
-    files : profiler.outputs.ExtraFiles, optional
+    files : profiler.io.outputs.ExtraFiles, optional
         The run's transaction, for the continuation sheets of a PNG or SVG (:func:`~profiler.plot.sheet.write_sheet`).
 
     Raises

@@ -129,8 +129,8 @@ def write_sheet(path, paper: str, dpi, build, title: str, report: dict, files=No
         Document title for the file's metadata.
     report : dict
         The report drawn (its ``tool_version`` goes into the metadata).
-    files : profiler.outputs.ExtraFiles, optional
-        The run's transaction (:func:`profiler.outputs.write_outputs`): continuation files are
+    files : profiler.io.outputs.ExtraFiles, optional
+        The run's transaction (:func:`profiler.io.outputs.write_outputs`): continuation files are
         claimed from it and renamed with the run's other outputs.  Without it the sheet writes
         its own files atomically.
     """

@@ -71,7 +71,7 @@ def write_siting_figure(siting: dict, network: dict, path, paper: str = "a4", dp
         Title-block fields (``SheetInfo.to_dict()`` plus ``date``).
     date_text : str, optional
         Date on the sheet; default ``sheet["date"]``, else today.
-    files : profiler.outputs.ExtraFiles, optional
+    files : profiler.io.outputs.ExtraFiles, optional
         The run's transaction, for the continuation sheets of a PNG or SVG (:func:`~profiler.plot.sheet.write_sheet`).
     """
     # Laid out at 100 dpi, as the network map whose drawing it reuses (and as the layout audit checks it).

@@ -69,15 +69,15 @@ class ElevationModel:
 
     Parameters
     ----------
-    tiles : list of profiler.dem_mosaic.Tile
+    tiles : list of profiler.terrain.mosaic.Tile
         The rasters, in the order given.
-    groups : list of profiler.dem_mosaic.TileGroup
+    groups : list of profiler.terrain.mosaic.TileGroup
         The same rasters joined into grid-aligned mosaics, finest first.
     cache_bytes : int, default 256 MiB
         Upper bound of the in-memory block cache [bytes].
     max_open : int, default 64
         Largest number of raster files kept open at once (a count).
-    digests : profiler.provenance.FileDigests, optional
+    digests : profiler.terrain.digests.FileDigests, optional
         Provenance digests; default a new one.
 
     Attributes
