@@ -38,13 +38,12 @@ sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
 
 from bench_profile import TILE_SOUTH, TILE_WEST, make_tile, tile_path  # noqa: E402
 
-from profiler.propagation import geometry  # noqa: E402
+from profiler.engine.radio import RadioSettings  # noqa: E402
 from profiler.products.coverage.grid import Gateway, make_grid, pixel_polar, radial_lookup  # noqa: E402
 from profiler.products.coverage.map import coverage  # noqa: E402
-from profiler.products.coverage.radials import (keep_freed_memory, line_of_sight_radials, radial_count,  # noqa: E402
-                                                sample_radials)
+from profiler.products.coverage.radials import keep_freed_memory, line_of_sight_radials, radial_count, sample_radials  # noqa: E402
+from profiler.propagation import geometry  # noqa: E402
 from profiler.terrain.elevation import ElevationModel  # noqa: E402
-from profiler.engine.radio import RadioSettings  # noqa: E402
 
 SITE = (TILE_SOUTH + 0.5, TILE_WEST + 0.5)
 MAST_M, NODE_M = 10.0, 1.5

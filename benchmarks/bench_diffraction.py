@@ -17,6 +17,7 @@ sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
 sys.path.insert(0, str(Path(__file__).resolve().parent))
 
 from _timing import best_of  # noqa: E402
+
 from profiler.propagation.diffraction import bullington, delta_bullington, knife_edge  # noqa: E402
 
 

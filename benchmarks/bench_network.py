@@ -31,9 +31,9 @@ sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
 from bench_profile import TILE_SOUTH, TILE_WEST, cli_ratio, make_tile, tile_path  # noqa: E402
 
 from profiler.products.link import analyze_link  # noqa: E402
-from profiler.terrain.elevation import ElevationModel  # noqa: E402
 from profiler.products.network import network  # noqa: E402
 from profiler.products.sites import sites_from_records  # noqa: E402
+from profiler.terrain.elevation import ElevationModel  # noqa: E402
 from profiler.terrain.profile import profile_from_dem  # noqa: E402
 
 GATEWAY = (TILE_SOUTH + 0.5, TILE_WEST + 0.5)

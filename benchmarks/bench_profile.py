@@ -33,10 +33,10 @@ sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
 sys.path.insert(0, str(Path(__file__).resolve().parent))
 
 import rasterio  # noqa: E402
+from _timing import best_of  # noqa: E402
 from affine import Affine  # noqa: E402
 from pyproj import Geod  # noqa: E402
 
-from _timing import best_of  # noqa: E402
 from profiler.terrain.elevation import ElevationModel  # noqa: E402
 
 TILE_SAMPLES = 3601

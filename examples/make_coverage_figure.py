@@ -20,8 +20,8 @@ if str(ROOT) not in sys.path:           # run from a source checkout without ins
     sys.path.insert(0, str(ROOT))
 
 from profiler import coverage  # noqa: E402
-from profiler.plot import write_coverage_figure  # noqa: E402
 from profiler.io.sheetinfo import SheetInfo  # noqa: E402
+from profiler.plot import write_coverage_figure  # noqa: E402
 
 DEM = ROOT / "dem_samples"
 SITE = (-29.9125, -19.955)

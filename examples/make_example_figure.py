@@ -31,8 +31,8 @@ if str(ROOT) not in sys.path:           # run from a source checkout without ins
     sys.path.insert(0, str(ROOT))
 
 from profiler.api import link  # noqa: E402
-from profiler.plot import write_link_figure  # noqa: E402
 from profiler.io.sheetinfo import SheetInfo  # noqa: E402
+from profiler.plot import write_link_figure  # noqa: E402
 
 DEM = ROOT / "dem_samples" / "vellmoor_synthetic_1s.tif"
 GATEWAY = ("Cairnfell Beacon", (-29.9125, -19.955), 10.0)      # name, (lat, lon) [deg], mast [m]

@@ -15,7 +15,7 @@ or in one call: :func:`profiler.link`.
 """
 
 from ._deprecated import install as _install_deprecated
-from .about import CAUTION, __version__
+from .about import CAUTION, __version__  # noqa: F401 (the package's version, read by users and the CLI)
 
 _install_deprecated()
 

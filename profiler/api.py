@@ -2,11 +2,11 @@
 
 from __future__ import annotations
 
-from .products.link import LinkResult, analyze_link
 from .engine.radio import RadioSettings
-from .lora.bands import resolve_frequency_mhz
 from .errors import ProfilerError
 from .limits import check_name
+from .lora.bands import resolve_frequency_mhz
+from .products.link import LinkResult, analyze_link
 from .propagation.geometry import parse_k_factor
 from .terrain.profile import profile_from_dem, read_profile_csv
 

@@ -9,14 +9,19 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 from scipy import constants
 
-from profiler.lora import budget, modem as lora_modem
-from profiler.lora.budget import LinkBudget, link_budget
-from profiler.propagation.free_space import free_space_loss_db, near_field_distance_m
-from profiler.lora.modem import (lora_sensitivity_dbm, lora_symbol_time_ms, lora_table, lora_time_on_air_ms,
-                                 lowest_closing_sf, uplinks_per_hour)
-from profiler.propagation.polarization import polarization_angle_deg, polarization_mismatch_db
 from profiler.errors import ProfilerError
-
+from profiler.lora import modem as lora_modem
+from profiler.lora.budget import LinkBudget, link_budget
+from profiler.lora.modem import (
+    lora_sensitivity_dbm,
+    lora_symbol_time_ms,
+    lora_table,
+    lora_time_on_air_ms,
+    lowest_closing_sf,
+    uplinks_per_hour,
+)
+from profiler.propagation.free_space import free_space_loss_db, near_field_distance_m
+from profiler.propagation.polarization import polarization_angle_deg, polarization_mismatch_db
 
 # ---------------------------------------------------------------------------
 # free-space loss

@@ -8,9 +8,9 @@ import shlex
 
 import pytest
 from click.testing import CliRunner
+from sample_sites import GATEWAY, PUMP, ROOT
 
 from profiler.cli import main
-from sample_sites import GATEWAY, PUMP, ROOT
 
 SITES = str(ROOT / "examples" / "vellmoor_network.csv")
 SITING = str(ROOT / "examples" / "siting_sites.csv")

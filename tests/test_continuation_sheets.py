@@ -14,11 +14,11 @@ from pathlib import Path
 
 import pytest
 from matplotlib.text import Text
+from test_network_layout import long_names  # noqa: E402  (the tests folder is on the path, as sample_sites)
 
 from profiler.errors import ProfilerError
 from profiler.io.outputs import Output, write_outputs
 from profiler.plot import audit
-from test_network_layout import long_names  # noqa: E402  (the tests folder is on the path, as sample_sites)
 
 ROOT = Path(__file__).resolve().parents[1]
 DEM = [str(ROOT / "dem_samples")]

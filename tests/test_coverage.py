@@ -16,8 +16,8 @@ import pytest
 from click.testing import CliRunner
 from sample_sites import DEM, GATEWAY
 
-from profiler.products.coverage.grid import BANDS, COMPOSITE_BANDS, composite
 from profiler.api import coverage  # the computation, and the files it is asked for
+from profiler.products.coverage.grid import BANDS, COMPOSITE_BANDS, composite
 from profiler.products.coverage.radials import line_of_sight_radials, radial_count
 
 RADIUS_KM = 3.0
@@ -134,10 +134,10 @@ def test_values_equal_profiler_link_at_the_sample_and_near_it_at_the_pixel_centr
 
 
 def test_line_of_sight_against_exact_per_pixel_check(run):
+    from profiler.engine.geometry import geometry_batch
     from profiler.propagation import geometry
     from profiler.propagation.free_space import wavelength_m
     from profiler.terrain.elevation import ElevationModel
-    from profiler.engine.geometry import geometry_batch
     from profiler.terrain.sampling import sample_links
 
     los = run.bands["line_of_sight"]

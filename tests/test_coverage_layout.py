@@ -15,9 +15,9 @@ import pytest
 from click.testing import CliRunner
 from sample_sites import DEM, GATEWAY
 
-from profiler.products.coverage.map import coverage
 from profiler.plot.audit import drawn_texts, layout_problems
 from profiler.plot.coverage import build_coverage_figure
+from profiler.products.coverage.map import coverage
 
 RADIUS_KM, RES_M = 1.5, 150.0
 SHORT = "Cairnfell Beacon"

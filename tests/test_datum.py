@@ -3,8 +3,8 @@
 import pyproj
 import pytest
 
-from profiler.terrain.datum import datum_text, vertical_datums
 from profiler.errors import ProfilerError
+from profiler.terrain.datum import datum_text, vertical_datums
 
 PREFIX = "Horizontal: WGS84; heights: metres above mean sea level as given by the elevation data; "
 

@@ -15,12 +15,12 @@ import numpy as np
 import pytest
 import rasterio
 import rasterio.io
-from pyproj import Transformer
 from affine import Affine
+from pyproj import Transformer
 
+from profiler.errors import ProfilerError
 from profiler.terrain.elevation import ElevationModel
 from profiler.terrain.voids import fill_voids_along_profile
-from profiler.errors import ProfilerError
 
 ARCSEC3_DEG = 3.0 / 3600.0
 ARCSEC1_DEG = 1.0 / 3600.0

@@ -60,7 +60,7 @@ def test_the_examples_of_the_moves():
 
     sys.modules.pop("profiler.dem", None)
     with pytest.warns(DeprecationWarning, match="profiler.terrain.elevation"):
-        from profiler.dem import ElevationModel as old_model   # noqa: F401
+        from profiler.dem import ElevationModel as old_model  # noqa: F401
     assert old_model is ElevationModel
     budget, _ = fresh_import("profiler.budget")
     with pytest.warns(DeprecationWarning, match="profiler.propagation.free_space.free_space_loss_db"):

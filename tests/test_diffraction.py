@@ -18,11 +18,17 @@ import numpy as np
 import pytest
 from scipy.integrate import quad
 
-from profiler.propagation import diffraction
-from profiler.propagation.diffraction import (DeltaBullington, bullington, delta_bullington, knife_edge,
-                                              smooth_earth_heights, spherical_earth)
-from profiler.propagation.diffraction_batch import j_knife_edge_db, j_knife_edge_exact_db
 from profiler.errors import ProfilerError
+from profiler.propagation import diffraction
+from profiler.propagation.diffraction import (
+    DeltaBullington,
+    bullington,
+    delta_bullington,
+    knife_edge,
+    smooth_earth_heights,
+    spherical_earth,
+)
+from profiler.propagation.diffraction_batch import j_knife_edge_db, j_knife_edge_exact_db
 
 C0 = 299_792_458.0  # speed of light [m/s], SI definition
 DATA = Path(__file__).parent / "data" / "p452_validation"

@@ -13,16 +13,15 @@ import xml.etree.ElementTree as ET
 import numpy as np
 import pytest
 from geographiclib.geodesic import Geodesic
+from sample_sites import EVIL_A, EVIL_B, GATEWAY, PUMP  # noqa: E402
 
-from profiler.products.link import analyze_link
 from profiler.api import link
 from profiler.errors import ProfilerError
 from profiler.io.exports import geojson_dict, split_at_antimeridian, write_geojson, write_kml
-from profiler.terrain.geodesic import geodesic_path
 from profiler.io.report import csv_text, inert_text
+from profiler.products.link import analyze_link
+from profiler.terrain.geodesic import geodesic_path
 from profiler.terrain.profile import TerrainProfile
-
-from sample_sites import EVIL_A, EVIL_B, GATEWAY, PUMP  # noqa: E402
 
 KML = "{http://www.opengis.net/kml/2.2}"
 FORMULA_START = ("=", "+", "-", "@", "\t", "\r")    # OWASP "CSV injection" trigger characters

@@ -15,14 +15,20 @@ from pathlib import Path
 
 import pytest
 from geographiclib.geodesic import Geodesic
+from sample_sites import EVIL_B  # noqa: E402
+from test_exports import FORMULA_START, KML, _is_number  # noqa: E402  (shared checks of the link exports)
 
 from profiler.about import CAUTION
 from profiler.errors import ProfilerError
-from profiler.io.network_exports import (LINK_COLUMNS, link_status, network_csv_text, network_geojson_dict,
-                                         network_geojson_text, network_kml_text)
+from profiler.io.network_exports import (
+    LINK_COLUMNS,
+    link_status,
+    network_csv_text,
+    network_geojson_dict,
+    network_geojson_text,
+    network_kml_text,
+)
 
-from sample_sites import EVIL_B  # noqa: E402
-from test_exports import FORMULA_START, KML, _is_number  # noqa: E402  (shared checks of the link exports)
 LINK_KEYS = [key for key, _ in LINK_COLUMNS]
 
 

@@ -4,11 +4,12 @@ import math
 
 import numpy as np
 import pytest
-from hypothesis import given, settings, strategies as st
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
+from profiler.errors import ProfilerError
 from profiler.propagation import geometry
 from profiler.propagation.free_space import wavelength_m
-from profiler.errors import ProfilerError
 
 
 def test_effective_radius_four_thirds():

@@ -14,13 +14,12 @@ import re
 
 import pytest
 from click.testing import CliRunner
+from sample_sites import DEM, GATEWAY, PUMP
 
 from profiler.cli import main
 from profiler.limits import MAX_NAME_CHARS
 from profiler.plot import audit
 from profiler.plot.audit import layout_problems
-
-from sample_sites import DEM, GATEWAY, PUMP
 
 BLOCKED_B = (-30.0, -19.845)           # the blocked sample link (issue 17): no line of sight
 PAPERS = ("a4", "letter")
@@ -93,8 +92,8 @@ def test_fit_text_wraps_then_shrinks_and_never_cuts():
 
 
 def test_draw_tables_reports_overflow_instead_of_cutting():
-    from profiler.plot.tables import draw_tables
     from profiler.plot.sheet import inch_axes, new_sheet, style
+    from profiler.plot.tables import draw_tables
     from profiler.plot.textfit import LayoutOverflow
 
     rows = [(f"Row {i}", NAME_200) for i in range(6)]

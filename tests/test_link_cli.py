@@ -8,11 +8,12 @@ from pathlib import Path
 import numpy as np
 import pytest
 from click.testing import CliRunner
-from hypothesis import given, settings, strategies as st
+from hypothesis import given, settings
+from hypothesis import strategies as st
 from rasterio.transform import from_origin
 
-from profiler.products.link import analyze_link
 from profiler.cli import main
+from profiler.products.link import analyze_link
 from profiler.terrain.elevation import ElevationModel
 from profiler.terrain.profile import TerrainProfile, profile_from_dem
 

@@ -9,7 +9,6 @@ the scale bar's boxes, nor with the other label.
 """
 
 import pytest
-
 from sample_sites import DEM
 
 CORNER_PATHS = {

@@ -5,8 +5,8 @@ import datetime as dt
 import numpy as np
 import pytest
 
-from profiler.terrain import magnetic
 from profiler.errors import ProfilerError
+from profiler.terrain import magnetic
 
 # Mid-latitude and low-latitude points well away from the magnetic poles (|lat| <= 65).
 POINTS = np.array([

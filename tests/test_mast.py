@@ -13,8 +13,8 @@ from hypothesis import strategies as st
 from scipy import constants
 from scipy.optimize import linprog
 
-from profiler.engine.radio import RadioSettings
 from profiler.cli import main
+from profiler.engine.radio import RadioSettings
 from profiler.products.mast.solve import solve_mast
 from profiler.terrain.profile import TerrainProfile
 

@@ -23,14 +23,13 @@ import numpy as np
 import pytest
 import rasterio
 from click.testing import CliRunner
+from sample_sites import DEM, GATEWAY, PUMP, ROOT  # noqa: E402
 
 from profiler.cli import main
-from profiler.products.mast.result import fixed, up_text
 from profiler.plot.audit import layout_problems
 from profiler.plot.mast import build_mast_figure
 from profiler.plot.sheet import style
-
-from sample_sites import DEM, GATEWAY, PUMP, ROOT  # noqa: E402
+from profiler.products.mast.result import fixed, up_text
 
 A = f"{GATEWAY[0]},{GATEWAY[1]}"
 BLOCKED_B = "-30.0,-19.845"      # behind the ridge: 0.6 F1 needs about 165 m at B

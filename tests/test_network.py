@@ -293,8 +293,8 @@ def test_links_option_takes_best_or_all_only(tmp_path):
 def test_api_refuses_a_gateway_at_end_b_naming_the_python_setting():
     """The commands no longer take --gateway; the API's refusal names the Python setting instead."""
     from profiler import network
-    from profiler.errors import ProfilerError
     from profiler.engine.radio import RadioSettings
+    from profiler.errors import ProfilerError
 
     with pytest.raises(ProfilerError, match=r"RadioSettings\(gateway=\.\.\.\) at 'a'") as err:
         network(str(EXAMPLE_SITES), dem=[SAMPLE], radio=RadioSettings(gateway="b"))

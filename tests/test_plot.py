@@ -12,13 +12,12 @@ import zlib
 
 import numpy as np
 import pytest
+from sample_sites import DEM, EVIL_A, EVIL_B, GATEWAY, PUMP, SHEEPFOLD, TANK  # noqa: E402
 
 from profiler.api import link
 from profiler.errors import ProfilerError
-from profiler.plot import build_link_figure, write_link_figure
 from profiler.io.report import inert_text, verdict
-
-from sample_sites import DEM, EVIL_A, EVIL_B, GATEWAY, PUMP, SHEEPFOLD, TANK  # noqa: E402
+from profiler.plot import build_link_figure, write_link_figure
 
 MM_PER_IN = 25.4                       # exact, by definition of the inch
 PT_PER_IN = 72.0                       # PostScript/PDF point (ISO 32000-1, 8.3.2.3)

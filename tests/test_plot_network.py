@@ -13,13 +13,12 @@ import xml.etree.ElementTree as ET
 
 import numpy as np
 import pytest
+from sample_sites import DEM, GATEWAY, PUMP, SHEEPFOLD, TANK  # noqa: E402
 
 from profiler.about import CAUTION
 from profiler.errors import ProfilerError
 from profiler.plot import build_network_figure, link_status, write_network_figure
 from profiler.plot.network import STATUS_STYLE, build_network_sheets
-
-from sample_sites import DEM, GATEWAY, PUMP, SHEEPFOLD, TANK  # noqa: E402
 
 SVG_NS = "{http://www.w3.org/2000/svg}"
 MM_PER_IN = 25.4                       # exact, by definition of the inch

@@ -18,9 +18,9 @@ from sample_sites import DEM, GATEWAY
 
 pytest.importorskip("numba")
 
+from profiler.engine.radio import RadioSettings  # noqa: E402
 from profiler.products.coverage.map import _settings, coverage
 from profiler.products.coverage.radials import radial_fields  # noqa: E402
-from profiler.engine.radio import RadioSettings  # noqa: E402
 
 TOL = 1e-9
 
@@ -82,7 +82,8 @@ def test_coverage_with_and_without_kernel_agree():
 
 
 def test_cache_key_follows_the_terms(monkeypatch):
-    from profiler.propagation import diffraction_batch as diffraction_engine, prefix_kernel
+    from profiler.propagation import diffraction_batch as diffraction_engine
+    from profiler.propagation import prefix_kernel
 
     before = prefix_kernel._fingerprint()
     monkeypatch.setattr(diffraction_engine, "slope_term", lambda hc_m, h_end_m, distance_km: (hc_m + h_end_m) / distance_km)

@@ -5,8 +5,8 @@ from pathlib import Path
 
 import pytest
 
-from profiler.terrain.elevation import ElevationModel
 from profiler.terrain.digests import FileDigests, file_sha256
+from profiler.terrain.elevation import ElevationModel
 
 SAMPLE = Path(__file__).resolve().parents[1] / "dem_samples"
 

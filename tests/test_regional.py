@@ -13,9 +13,9 @@ from pathlib import Path
 import pytest
 from click.testing import CliRunner
 
-from profiler.lora import budget, lorawan, regional
-from profiler.lora import modem as lora_modem
 from profiler.cli import main
+from profiler.lora import lorawan, regional
+from profiler.lora import modem as lora_modem
 
 SAMPLE = str(Path(__file__).resolve().parents[1] / "dem_samples")
 GW = "-29.9125,-19.955"      # Cairnfell Beacon (invented), sample DEM

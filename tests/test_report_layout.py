@@ -15,6 +15,7 @@ import json
 import click
 import pytest
 from click.testing import CliRunner
+from sample_sites import DEM, GATEWAY, PUMP  # noqa: E402
 
 from profiler.api import link
 from profiler.cli import main
@@ -23,8 +24,6 @@ from profiler.cli.options import run_record
 from profiler.plot.audit import layout_problems
 from profiler.plot.report_pdf import build_link_report_pages, build_mast_report_pages
 from profiler.plot.sheet import num
-
-from sample_sites import DEM, GATEWAY, PUMP  # noqa: E402
 
 BLOCKED_B = (-30.0, -19.845)          # the ridge between it and the gateway: no line of sight
 LONG_A = ("Cairnfell Beacon upper hill-top gateway cabinet beside the old signal mast on the northern "

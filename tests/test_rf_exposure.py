@@ -6,8 +6,8 @@ import math
 import numpy as np
 import pytest
 
-from profiler.lora import rf_exposure
 from profiler.errors import ProfilerError
+from profiler.lora import rf_exposure
 
 GP, OCC = "general_public", "occupational"
 

@@ -32,9 +32,9 @@ import pytest
 from click.testing import CliRunner
 from hypothesis import HealthCheck, event, given, settings
 from hypothesis import strategies as st
+from sample_sites import DEM, GATEWAY, PUMP
 
 from profiler.cli import main
-from sample_sites import DEM, GATEWAY, PUMP
 
 GW = f"{GATEWAY[0]},{GATEWAY[1]}"
 PU = f"{PUMP[0]},{PUMP[1]}"

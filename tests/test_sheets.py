@@ -20,10 +20,9 @@ import xml.etree.ElementTree as ET
 import numpy as np
 import pytest
 from click.testing import CliRunner
+from sample_sites import DEM, GATEWAY, PUMP  # noqa: E402
 
 from profiler.cli import main
-
-from sample_sites import DEM, GATEWAY, PUMP  # noqa: E402
 
 SVG_NS = "{http://www.w3.org/2000/svg}"
 LONG_A = "Cairnfell Beacon upper hill-top gateway cabinet north"    # invented names

@@ -6,12 +6,17 @@ and the gateway x node pairing with distances checked against geographiclib
 import numpy as np
 import pytest
 from geographiclib.geodesic import Geodesic
+from sample_sites import ROOT
 
 from profiler.errors import ProfilerError
-from profiler.products.sites import (SiteTable, candidate_pairs, pairs_from_names, read_pairs_csv, read_sites_csv,
-                                     sites_from_records)
-
-from sample_sites import ROOT
+from profiler.products.sites import (
+    SiteTable,
+    candidate_pairs,
+    pairs_from_names,
+    read_pairs_csv,
+    read_sites_csv,
+    sites_from_records,
+)
 
 HEADER = "name,lat_deg,lon_deg,mast_m,role"
 GOOD = (

@@ -19,9 +19,15 @@ import pytest
 
 from profiler.about import CAUTION
 from profiler.errors import ProfilerError
+from profiler.products.siting.report import (
+    margin_matrix,
+    site_costs,
+    siting_csv_text,
+    siting_from_network,
+    siting_geojson_dict,
+    siting_geojson_text,
+)
 from profiler.products.siting.setcover import greedy_siting, hearing_matrix, solve_siting
-from profiler.products.siting.report import (margin_matrix, site_costs, siting_csv_text, siting_from_network,
-                                             siting_geojson_dict, siting_geojson_text)
 
 
 # --------------------------------------------------------------------------- brute-force references

@@ -7,8 +7,12 @@ import json
 import click
 
 from ..lora.bands import BANDS
-from ..propagation.free_space import NEAR_FIELD_RULE_OF_THUMB_M, NEAR_FIELD_WAVELENGTHS, wavelength_m
-from ..propagation.free_space import near_field_distance_m
+from ..propagation.free_space import (
+    NEAR_FIELD_RULE_OF_THUMB_M,
+    NEAR_FIELD_WAVELENGTHS,
+    near_field_distance_m,
+    wavelength_m,
+)
 
 
 def _summary_rows():

@@ -4,9 +4,21 @@ from __future__ import annotations
 
 import click
 
-from .options import (NON_NEGATIVE, POSITIVE, SITE_NAME, LatLon, batch_radio_options, clearance_ratio_option,
-                      cluster_options, frequency_options, k_option, plot_options, radio_settings, sheet_options,
-                      sheet_settings)
+from .options import (
+    NON_NEGATIVE,
+    POSITIVE,
+    SITE_NAME,
+    LatLon,
+    batch_radio_options,
+    clearance_ratio_option,
+    cluster_options,
+    frequency_options,
+    k_option,
+    plot_options,
+    radio_settings,
+    sheet_options,
+    sheet_settings,
+)
 
 
 @click.command("coverage")
@@ -56,10 +68,10 @@ def coverage_command(dem_paths, site, mast_m, name, sites_csv, radius_km, resolu
 
     collect_garbage()   # long runs and Dask: the collector on as usual
     from ..api import coverage_outputs
-    from ..products.coverage.map import coverage
     from ..errors import ProfilerError
-    from ..limits import quiet_numerics
     from ..io.outputs import check_outputs, write_outputs
+    from ..limits import quiet_numerics
+    from ..products.coverage.map import coverage
 
     if all(p is None for p in (out_path, plot_path, kmz_path, json_path)):
         raise ProfilerError("nothing to write: give --out COVERAGE.tif, --plot MAP.png, --kmz OVERLAY.kmz "

@@ -4,8 +4,20 @@ from __future__ import annotations
 
 import click
 
-from .options import (clearance_ratio_option, frequency_options, k_option, plot_options, radio_options, radio_settings,
-                      report_option, run_record, sheet_options, sheet_settings, site_options, terrain_options)
+from .options import (
+    clearance_ratio_option,
+    frequency_options,
+    k_option,
+    plot_options,
+    radio_options,
+    radio_settings,
+    report_option,
+    run_record,
+    sheet_options,
+    sheet_settings,
+    site_options,
+    terrain_options,
+)
 
 
 @click.command("link")
@@ -47,8 +59,8 @@ def link_command(site_a, site_b, name_a, name_b, mast_a_m, mast_b_m, dem_paths, 
     digests = FileDigests()
     digests.start(dem_paths)   # hash the given files while the numerical libraries load
     from ..api import link
-    from ..limits import quiet_numerics, require_finite
     from ..io.outputs import check_outputs, write_outputs
+    from ..limits import quiet_numerics, require_finite
 
     outputs = link_outputs(json_path, csv_path, geojson_path, kml_path, plot_path, paper, dpi, list(dem_paths),
                            report_path=report_path, record=run_record())
@@ -90,7 +102,6 @@ def link_outputs(json_path, csv_path, geojson_path, kml_path, plot_path, paper="
 
     def render_report(report, path):
         from ..plot.report_pdf import write_link_report
-
         from ..textsafe import safe_strings
 
         write_link_report(report, path, paper=paper, dpi=dpi, dem_paths=list(dem_paths),

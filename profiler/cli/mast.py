@@ -5,9 +5,23 @@ from __future__ import annotations
 import click
 
 from ..errors import ProfilerError
-from .options import (NUMBER, POSITIVE, KFactor, clearance_ratio_option, frequency_options, k_option, plot_options,
-                      radio_options, radio_settings, report_option, run_record, sheet_options, sheet_settings,
-                      site_options, terrain_options)
+from .options import (
+    NUMBER,
+    POSITIVE,
+    KFactor,
+    clearance_ratio_option,
+    frequency_options,
+    k_option,
+    plot_options,
+    radio_options,
+    radio_settings,
+    report_option,
+    run_record,
+    sheet_options,
+    sheet_settings,
+    site_options,
+    terrain_options,
+)
 
 
 class InfeasibleMast(ProfilerError):
@@ -60,10 +74,10 @@ def mast_command(site_a, site_b, name_a, name_b, mast_a_m, mast_b_m, dem_paths, 
       profiler mast --dem dem_samples --site-a -29.9125,-19.955 --site-b -30.0,-19.845 --max-mast-m 15
       profiler mast --dem dem_samples --site-a -29.9125,-19.955 --site-b -29.9,-19.825 --solve both
     """
-    from ..lora.bands import resolve_frequency_mhz
-    from ..limits import quiet_numerics, require_finite
-    from ..products.mast.solve import solve_mast
     from ..io.outputs import check_outputs, write_outputs
+    from ..limits import quiet_numerics, require_finite
+    from ..lora.bands import resolve_frequency_mhz
+    from ..products.mast.solve import solve_mast
 
     outputs = mast_outputs(json_path, plot_path, paper, dpi, report_path=report_path, record=run_record())
     check_outputs(outputs)  # refuse bad outputs before any computation
@@ -118,7 +132,6 @@ def mast_outputs(json_path, plot_path, paper="a4", dpi=200, *, report_path=None,
 
     def render_report(report, path):
         from ..plot.report_pdf import write_mast_report
-
         from ..textsafe import safe_strings
 
         write_mast_report(report, path, paper=paper, dpi=dpi, record=safe_strings(record, "figure"))
@@ -141,7 +154,8 @@ def _criterion_text(c) -> str:
 def mast_summary_text(report: dict) -> str:
     """Short human summary of the mast report: heights, why, and what each extra metre buys."""
     from ..about import CAUTION
-    from ..products.mast.result import fixed, up_text as _up
+    from ..products.mast.result import fixed
+    from ..products.mast.result import up_text as _up
 
     a, b = report["site_a"], report["site_b"]
     solve = report["solve"]

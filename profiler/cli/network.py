@@ -45,8 +45,8 @@ def network_command(json_path, csv_path, geojson_path, kml_path, plot_path, pape
 
     collect_garbage()   # long runs and Dask: the collector on as usual
     from ..api import network
-    from ..limits import quiet_numerics
     from ..io.outputs import check_outputs, write_outputs
+    from ..limits import quiet_numerics
 
     sheet_info, date = sheet_settings(kw)
     call = network_call_kwargs(kw)

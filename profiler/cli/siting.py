@@ -4,8 +4,16 @@ from __future__ import annotations
 
 import click
 
-from .options import (INTEGER, NUMBER, cluster_options, network_call_kwargs, network_options, plot_options,
-                      sheet_options, sheet_settings)
+from .options import (
+    INTEGER,
+    NUMBER,
+    cluster_options,
+    network_call_kwargs,
+    network_options,
+    plot_options,
+    sheet_options,
+    sheet_settings,
+)
 
 
 @click.command("siting")
@@ -45,8 +53,8 @@ def siting_command(redundancy, min_margin_db, max_gateways, time_limit_s, json_p
 
     collect_garbage()   # long runs and Dask: the collector on as usual
     from ..api import siting
-    from ..limits import quiet_numerics
     from ..io.outputs import check_outputs, write_outputs
+    from ..limits import quiet_numerics
 
     sheet_info, date = sheet_settings(kw)
     call = network_call_kwargs(kw)

@@ -27,13 +27,14 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from .. import limits
+from ..errors import ProfilerError
+from ..lora import lorawan
+from ..lora import modem as lora_modem
+from ..lora.regional import Plan, dwell_time_limit_ms, max_tx_power_dbm
 from ..propagation import polarization
 from ..propagation.diffraction_batch import diffraction_batch, diffraction_finish
-from .. import limits
-from ..lora import modem as lora_modem, lorawan
 from ..propagation.free_space import free_space_term_db
-from ..errors import ProfilerError
-from ..lora.regional import Plan, dwell_time_limit_ms, max_tx_power_dbm
 
 DIFFRACTION_METHODS = ("delta-bullington", "bullington", "knife-edge", "none")
 NODE_TX_POWER_DBM = 14.0

@@ -34,9 +34,9 @@ import numpy as np
 
 from ..about import CAUTION
 from ..errors import ProfilerError
+from ..textsafe import json_text
 from .outputs import write_text
 from .report import inert_text, summary_rows, verdict
-from ..textsafe import json_text
 
 __all__ = ["geojson_dict", "geojson_text", "write_geojson", "kml_text", "write_kml",
            "split_at_antimeridian", "site_label", "KML_NAMESPACE"]

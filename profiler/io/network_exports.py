@@ -35,9 +35,21 @@ import numpy as np
 
 from ..about import CAUTION
 from ..errors import ProfilerError
-from .exports import (EN_DASH, KML_NAMESPACE, extended_data, geojson_positions, html_description, kml_coordinates,
-                      kml_style, num, property_value, split_at_antimeridian, sub_element, wrap_longitude)
 from ..terrain.geodesic import geodesic_path
+from .exports import (
+    EN_DASH,
+    KML_NAMESPACE,
+    extended_data,
+    geojson_positions,
+    html_description,
+    kml_coordinates,
+    kml_style,
+    num,
+    property_value,
+    split_at_antimeridian,
+    sub_element,
+    wrap_longitude,
+)
 from .report import inert_text
 
 __all__ = ["LINK_COLUMNS", "STATUSES", "link_status", "network_csv_text", "network_geojson_text",

@@ -13,8 +13,8 @@ import json
 import numpy as np
 
 from ..about import CAUTION
-from .outputs import write_text
 from ..textsafe import csv_cell, safe_strings
+from .outputs import write_text
 
 CSV_COLUMNS = (
     ("distance_m", "distance_m"),

@@ -20,6 +20,7 @@ from dataclasses import dataclass
 
 from ..errors import ProfilerError
 
+
 @dataclass(frozen=True)
 class Band:
     """A channel plan: name, lowest and highest channel frequency [MHz].

@@ -16,8 +16,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .modem import lora_sensitivity_dbm
 from ..numeric_args import non_negative, numbers, scalar_or_array
+from .modem import lora_sensitivity_dbm
 
 __all__ = ["link_budget", "LinkBudget"]
 

@@ -23,8 +23,8 @@ import math
 
 import numpy as np
 
-from . import modem as lora_modem
 from ..errors import ProfilerError
+from . import modem as lora_modem
 from .regional import LORAWAN_OVERHEAD_BYTES, Plan, duty_cycle_at, max_app_payload_bytes
 
 DIRECTIONS = ("uplink", "downlink")

@@ -14,8 +14,16 @@ from __future__ import annotations
 import numpy as np
 
 from profiler.errors import ProfilerError
-from profiler.numeric_args import (flag, fmt_value, integers, non_negative, numbers, positive,
-                                   scalar_or_array, single_integer)
+from profiler.numeric_args import (
+    flag,
+    fmt_value,
+    integers,
+    non_negative,
+    numbers,
+    positive,
+    scalar_or_array,
+    single_integer,
+)
 
 __all__ = ["THERMAL_NOISE_DBM_PER_HZ", "LORA_SPREADING_FACTORS", "LORA_BANDWIDTHS_KHZ", "LORA_SNR_MIN_DB",
            "LORA_LDRO_SYMBOL_TIME_MS", "lora_symbol_time_ms", "lora_sensitivity_dbm",

@@ -20,8 +20,8 @@ from .coverage import build_coverage_figure, build_coverage_sheets, write_covera
 from .link import build_link_figure, write_link_figure
 from .mast import write_mast_figure
 from .network import build_network_figure, build_network_sheets, link_status, write_network_figure
-from .siting import build_siting_figure, build_siting_sheets, write_siting_figure
 from .sheet import FIGURE_FORMATS, PAPER_SIZES_IN, figure_format, paper_size_in
+from .siting import build_siting_figure, build_siting_sheets, write_siting_figure
 
 __all__ = ["PAPER_SIZES_IN", "FIGURE_FORMATS", "figure_format", "paper_size_in", "write_mast_figure",
            "build_link_figure", "write_link_figure", "build_network_figure", "write_network_figure",

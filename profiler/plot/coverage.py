@@ -30,8 +30,26 @@ import numpy as np
 
 from . import basemap
 from .audit import contain
-from .sheet import (BADGE_BAD, BADGE_GOOD, BADGE_WARN, MIDDOT, clean, draw_title_block, fraction, inch_axes, k_text,
-                    new_sheet, num, put_text, sheet_legend, source_text, style, text_width_in, wrap_text, write_sheet)
+from .sheet import (
+    BADGE_BAD,
+    BADGE_GOOD,
+    BADGE_WARN,
+    MIDDOT,
+    clean,
+    draw_title_block,
+    fraction,
+    inch_axes,
+    k_text,
+    new_sheet,
+    num,
+    put_text,
+    sheet_legend,
+    source_text,
+    style,
+    text_width_in,
+    wrap_text,
+    write_sheet,
+)
 from .tables import draw_tables
 from .titleblock import draw_notes, draw_title_box, provenance_lines, title_block_rows
 
@@ -157,7 +175,7 @@ def _draw_header(ax, report, renderer) -> None:
 
 # --------------------------------------------------------------------------- map
 def _draw_map(ax, result, report, dem_paths, renderer) -> None:
-    from ..io.coverage import geographic_classes, class_rgba
+    from ..io.coverage import class_rgba, geographic_classes
 
     sites = _sites(report)
     radius = report["settings"]["radius_km"] * 1000.0

@@ -25,14 +25,35 @@ import numpy as np
 
 from ..io.report import verdict
 from . import audit, basemap
-from .titleblock import draw_notes, draw_title_box, provenance_lines, title_block_rows, title_box_height
-from .sheet import (BADGE_BAD, BADGE_GOOD, BADGE_WARN, DASH, EN, MIDDOT, arr, clean, dms, draw_title_block,
-                    figure_format, fraction, inch_axes, k_text, km, nanmax, new_sheet, num, site_name, source_text,
-                    style, write_sheet)
-from .tables import draw_tables
 from .link_tables import bearing_lines, declination_text, exposure_line, radio_block
 from .profile_panel import draw_profile, end_label
+from .sheet import (
+    BADGE_BAD,
+    BADGE_GOOD,
+    BADGE_WARN,
+    DASH,
+    EN,
+    MIDDOT,
+    arr,
+    clean,
+    dms,
+    draw_title_block,
+    figure_format,
+    fraction,
+    inch_axes,
+    k_text,
+    km,
+    nanmax,
+    new_sheet,
+    num,
+    site_name,
+    source_text,
+    style,
+    write_sheet,
+)
+from .tables import draw_tables
 from .textfit import Measure, fit_text
+from .titleblock import draw_notes, draw_title_box, provenance_lines, title_block_rows, title_box_height
 
 __all__ = ["build_link_figure", "write_link_figure"]
 

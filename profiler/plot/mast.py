@@ -29,8 +29,25 @@ from __future__ import annotations
 
 from ..products.mast.result import fixed, up_text
 from .mast_labels import place_off_lines
-from .sheet import (BADGE_BAD, BADGE_GOOD, DASH, EN, MIDDOT, clean, draw_title_block, fraction, inch_axes, k_text,
-                    new_sheet, site_name, source_text, style, text_width_in, wrap_text, write_sheet)
+from .sheet import (
+    BADGE_BAD,
+    BADGE_GOOD,
+    DASH,
+    EN,
+    MIDDOT,
+    clean,
+    draw_title_block,
+    fraction,
+    inch_axes,
+    k_text,
+    new_sheet,
+    site_name,
+    source_text,
+    style,
+    text_width_in,
+    wrap_text,
+    write_sheet,
+)
 from .tables import draw_tables
 from .titleblock import draw_notes, draw_title_box, provenance_lines, title_block_rows
 

@@ -44,11 +44,30 @@ from ..errors import ProfilerError
 from . import basemap
 from .audit import contain
 from .network_text import TextMeasure, wrap_label
-from .titleblock import draw_title_box, title_block_rows
-from .sheet import (BADGE_BAD, BADGE_GOOD, BADGE_WARN, DASH, EN, MIDDOT, clean, draw_footer, draw_title_block,
-                    fraction, inch_axes, k_text, new_sheet, num, put_text, sheet_legend, source_text, style,
-                    wrap_text, write_sheet)
+from .sheet import (
+    BADGE_BAD,
+    BADGE_GOOD,
+    BADGE_WARN,
+    DASH,
+    EN,
+    MIDDOT,
+    clean,
+    draw_footer,
+    draw_title_block,
+    fraction,
+    inch_axes,
+    k_text,
+    new_sheet,
+    num,
+    put_text,
+    sheet_legend,
+    source_text,
+    style,
+    wrap_text,
+    write_sheet,
+)
 from .tables import draw_tables
+from .titleblock import draw_title_box, title_block_rows
 
 __all__ = ["LINK_CHOICES", "STATUSES", "build_network_figure", "build_network_sheets", "drawn_links", "link_status",
            "write_network_figure"]

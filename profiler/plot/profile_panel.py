@@ -16,9 +16,9 @@ import numpy as np
 
 from ..propagation.free_space import wavelength_m
 from ..propagation.geometry import fresnel_radius_m
-from .textfit import Measure, fit_text
 from . import audit
 from .sheet import MIDDOT, arr, k_text, km, num, round_sig, sheet_legend, site_name
+from .textfit import Measure, fit_text
 
 __all__ = ["draw_profile", "end_label", "SHORT_EDGE", "SHORT_FACE", "SHORT_HATCH"]
 

@@ -27,8 +27,8 @@ import math
 from dataclasses import dataclass, replace
 
 from .audit import contain, reserve
-from .tables import RULE, SHADE
 from .sheet import cell_text, text_width_in
+from .tables import RULE, SHADE
 
 __all__ = ["Table", "Placed", "Measure", "paginate", "draw_placed", "FONT_PT", "MIN_FONT_PT"]
 

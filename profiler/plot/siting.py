@@ -34,9 +34,27 @@ from __future__ import annotations
 import numpy as np
 
 from . import audit
-from .sheet import (BADGE_BAD, BADGE_GOOD, BADGE_WARN, ELLIPSIS, MIDDOT, clean, draw_title_block, fraction, inch_axes,
-                    k_text, new_sheet, num, put_text, sheet_legend, source_text, style, text_width_in, wrap_text,
-                    write_sheet)
+from .sheet import (
+    BADGE_BAD,
+    BADGE_GOOD,
+    BADGE_WARN,
+    ELLIPSIS,
+    MIDDOT,
+    clean,
+    draw_title_block,
+    fraction,
+    inch_axes,
+    k_text,
+    new_sheet,
+    num,
+    put_text,
+    sheet_legend,
+    source_text,
+    style,
+    text_width_in,
+    wrap_text,
+    write_sheet,
+)
 from .tables import draw_tables
 from .titleblock import draw_notes, draw_title_box, provenance_lines, title_block_rows
 

@@ -7,23 +7,22 @@ JSON report (schema ``profiler.link/3``).
 
 from __future__ import annotations
 
+import datetime as _dt
 import math
 from dataclasses import dataclass, field
 
 import numpy as np
 
-import datetime as _dt
-
-from ..about import __version__
-from ..propagation import diffraction, geometry
 from .. import limits
-from ..propagation.free_space import NEAR_FIELD_RULE_OF_THUMB_M, NEAR_FIELD_WAVELENGTHS, wavelength_m
+from ..about import __version__
 from ..engine.geometry import geometry_batch
+from ..engine.radio import RadioSettings, check_separation, radio_results
+from ..engine.radio import slant_distance_m as radio_slant
 from ..errors import ProfilerError
 from ..io.jsonsafe import json_clean, json_number
-from ..engine.radio import slant_distance_m as radio_slant
-from ..engine.radio import RadioSettings, check_separation, radio_results
 from ..lora.regional import plan as regional_plan
+from ..propagation import diffraction, geometry
+from ..propagation.free_space import NEAR_FIELD_RULE_OF_THUMB_M, NEAR_FIELD_WAVELENGTHS, wavelength_m
 from ..terrain.profile import TerrainProfile
 
 SCHEMA = "profiler.link/3"

@@ -20,12 +20,12 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from ..about import CAUTION, __version__
-from ..propagation import geometry
-from ..lora.bands import resolve_frequency_mhz
-from ..propagation.free_space import wavelength_m
-from ..errors import ProfilerError
 from ..engine.links import NetworkSettings, link_fields
 from ..engine.radio import RadioSettings, check_separation, minimum_separation_m, slant_distance_m
+from ..errors import ProfilerError
+from ..lora.bands import resolve_frequency_mhz
+from ..propagation import geometry
+from ..propagation.free_space import wavelength_m
 
 SCHEMA = "profiler.network/2"
 CHUNK_LINKS = 256

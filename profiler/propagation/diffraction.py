@@ -36,9 +36,9 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .free_space import wavelength_m as _wavelength_m
-from .diffraction_batch import diffraction_batch, j_knife_edge_db, j_knife_edge_exact_db
 from ..errors import ProfilerError
+from .diffraction_batch import diffraction_batch, j_knife_edge_db, j_knife_edge_exact_db
+from .free_space import wavelength_m as _wavelength_m
 from .spherical_earth import spherical_earth_db
 
 __all__ = [

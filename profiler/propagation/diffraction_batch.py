@@ -37,7 +37,6 @@ import numpy as np
 from .free_space import wavelength_m as _wavelength_m
 from .spherical_earth import spherical_earth_db
 
-
 # ---------------------------------------------------------------------------
 # Knife-edge loss J(v)
 # ---------------------------------------------------------------------------

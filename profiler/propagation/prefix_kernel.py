@@ -38,8 +38,8 @@ import types
 import numba
 import numpy as np
 
-from . import diffraction_batch as diffraction_engine, geometry
-
+from . import diffraction_batch as diffraction_engine
+from . import geometry
 
 FASTMATH = {"nsz", "arcp", "contract", "afn", "reassoc"}
 """LLVM fast-math flags of the kernels: reassociation and reciprocals let the inner loops vectorize (about 2x);

@@ -41,12 +41,19 @@ from pathlib import Path
 import numpy as np
 from rasterio.windows import Window
 
-from profiler.terrain.mosaic import build_groups
-from profiler.terrain.source_info import SourceInfo
-from profiler.terrain.sources import (RASTER_SUFFIXES, describe_raster, expand_path, linear_unit_m,
-                                      metres_per_degree, open_dataset, root_cause)
 from profiler.errors import ProfilerError, refuse_empty_path
 from profiler.terrain.digests import FileDigests
+from profiler.terrain.mosaic import build_groups
+from profiler.terrain.source_info import SourceInfo
+from profiler.terrain.sources import (
+    RASTER_SUFFIXES,
+    describe_raster,
+    expand_path,
+    linear_unit_m,
+    metres_per_degree,
+    open_dataset,
+    root_cause,
+)
 from profiler.terrain.voids import fill_voids_along_profile
 
 __all__ = ["ElevationModel", "SourceInfo", "fill_voids_along_profile", "RASTER_SUFFIXES"]

@@ -15,9 +15,9 @@ from pathlib import Path
 import numpy as np
 
 from ..errors import ProfilerError, refuse_empty_path
-from .sampling import MAX_SAMPLES
 from ..limits import check, check_array
 from .geodesic import validate_lat_lon
+from .sampling import MAX_SAMPLES
 
 MIN_SURVEY_SPACING_M = 0.001
 """Closest allowed spacing of surveyed profile rows [m] (the smallest --step-m)."""

@@ -16,9 +16,9 @@ import numpy as np
 import pyproj
 import rasterio
 
+from profiler.errors import ProfilerError
 from profiler.terrain.mosaic import Tile
 from profiler.terrain.source_info import SourceInfo
-from profiler.errors import ProfilerError
 
 __all__ = ["RASTER_SUFFIXES", "metres_per_degree", "unit_scale_m", "root_cause", "expand_path",
            "zip_members", "open_dataset", "linear_unit_m", "crs_entry", "describe_raster"]

@@ -55,11 +55,17 @@ from dataclasses import dataclass
 import numpy as np
 
 from ...about import CAUTION, __version__
+from ...errors import ProfilerError
 from ...propagation import geometry
 from .grid import CoverageGrid, Gateway, composite, make_grid, pixel_polar, radial_lookup, to_grid
-from .radials import (keep_freed_memory, line_of_sight_radials, radial_count, radial_fields, radial_step_m,
-                      sample_radials)
-from ...errors import ProfilerError
+from .radials import (
+    keep_freed_memory,
+    line_of_sight_radials,
+    radial_count,
+    radial_fields,
+    radial_step_m,
+    sample_radials,
+)
 
 SCHEMA = "profiler.coverage/2"
 RADIALS_PER_CHUNK = 32
@@ -242,9 +248,9 @@ def coverage(site=None, *, dem, mast_m=None, name="site", sites=None, radius_km:
 
 def _settings(dem, band, frequency_mhz, k_factor, clearance_ratio, fill_voids, radio):
     """Validated engine settings (a picklable NetworkSettings) of a coverage run."""
-    from ...lora.bands import resolve_frequency_mhz
     from ...engine.links import NetworkSettings
     from ...engine.radio import RadioSettings
+    from ...lora.bands import resolve_frequency_mhz
 
     radio = (radio or RadioSettings()).validate()
     if radio.gateway != "a":
@@ -297,8 +303,8 @@ def _radio_ends(gateways, settings) -> dict:
     The same resolution as the engine's (:func:`profiler.engine.radio.resolve_ends`: the options, per-site
     columns of the site list, the plan's EIRP limit); EIRP = P + G - L (ITU-R P.525-4).
     """
-    from ...lora.lorawan import eirp_dbm
     from ...engine.radio import resolve_ends
+    from ...lora.lorawan import eirp_dbm
     from ...lora.regional import plan as regional_plan
 
     plan = regional_plan(settings.band) if settings.band is not None else None

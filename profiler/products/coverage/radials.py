@@ -201,8 +201,8 @@ def radial_fields(distance_m, terrain_m, n, mast_m, node_mast_m, settings, overr
 
 def _fresnel_only(out, d, t, n, mast_m, node_mast_m, settings) -> None:
     """Worst Fresnel ratio by the geometry of the prefix batches (no diffraction)."""
-    from ...propagation.free_space import wavelength_m
     from ...engine.geometry import geometry_batch
+    from ...propagation.free_space import wavelength_m
 
     lam = float(wavelength_m(settings.frequency_mhz))
     ae = float(geometry.effective_radius_m(settings.k_factor))
@@ -219,10 +219,10 @@ def _fresnel_only(out, d, t, n, mast_m, node_mast_m, settings) -> None:
 
 def _kernel_fields(out, d, t, n, mast_m, node_mast_m, settings, overrides, fast) -> None:
     """Links to samples 2 .. n - 1 of every radial: the kernel's reductions, then the numpy finish (fills ``out``)."""
-    from ...propagation import prefix_kernel
-    from ...propagation.free_space import wavelength_m
-    from ...propagation.diffraction_batch import diffraction_reductions, smooth_sum_terms
     from ...engine.links import link_fields
+    from ...propagation import prefix_kernel
+    from ...propagation.diffraction_batch import diffraction_reductions, smooth_sum_terms
+    from ...propagation.free_space import wavelength_m
 
     lam = float(wavelength_m(settings.frequency_mhz))
     ae = float(geometry.effective_radius_m(settings.k_factor))

@@ -21,8 +21,8 @@ from __future__ import annotations
 
 import numpy as np
 
-from ...propagation import geometry
 from ...errors import ProfilerError
+from ...propagation import geometry
 
 __all__ = ["SOLVE_ENDS", "round_up_mm", "clearance_target_m", "required_height_m", "lowest_b_clearance_m",
            "clearance_criteria"]

@@ -22,11 +22,11 @@ import math
 
 import numpy as np
 
+from ...engine.radio import radio_batch
+from ...errors import ProfilerError
 from ...propagation import geometry
 from ...propagation.free_space import wavelength_m as _wavelength_m
-from ...errors import ProfilerError
 from .clearance import round_up_mm
-from ...engine.radio import radio_batch
 
 __all__ = ["MAX_GRID_POINTS", "MAST_BATCH", "MARGIN_TOLERANCE_M", "MONOTONE_TOLERANCE_DB", "height_grid",
            "MastProblem", "table_rows", "lowest_meeting", "bisect_up", "monotone_note", "rate_text",

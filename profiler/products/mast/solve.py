@@ -52,18 +52,26 @@ import math
 
 import numpy as np
 
-from ...propagation import geometry
 from ... import limits
-from ...errors import ProfilerError
-from .clearance import (SOLVE_ENDS, clearance_criteria, clearance_target_m, required_height_m,
-                        round_up_mm)
-from .result import SCHEMA, MastResult, feasible_binding, infeasible_outcome, per_extra_metre
-from .search import (MARGIN_TOLERANCE_M, MAST_BATCH, MAX_GRID_POINTS, MONOTONE_TOLERANCE_DB,
-                     MastProblem, height_grid, margin_criterion, monotone_note, table_rows)
-from .split import cheapest_split, cheapest_split_m
 from ...engine.radio import RadioSettings
+from ...errors import ProfilerError
 from ...lora.regional import plan as regional_plan
+from ...propagation import geometry
 from ...terrain.profile import TerrainProfile
+from .clearance import SOLVE_ENDS, clearance_criteria, clearance_target_m, required_height_m, round_up_mm
+from .result import SCHEMA, MastResult, feasible_binding, infeasible_outcome, per_extra_metre
+from .search import (
+    MARGIN_TOLERANCE_M,
+    MAST_BATCH,
+    MAX_GRID_POINTS,
+    MONOTONE_TOLERANCE_DB,
+    MastProblem,
+    height_grid,
+    margin_criterion,
+    monotone_note,
+    table_rows,
+)
+from .split import cheapest_split, cheapest_split_m
 
 __all__ = ["solve_mast", "MastResult", "required_height_m", "cheapest_split_m", "clearance_target_m",
            "round_up_mm", "SCHEMA", "SOLVE_ENDS", "CRITERIA", "MAX_GRID_POINTS", "MAST_BATCH",
