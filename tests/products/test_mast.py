@@ -23,7 +23,7 @@ F_MHZ = 868.0
 LAM = constants.c / (F_MHZ * 1e6)
 EARTH_KM = 6371.0  # ITU-R P.452-18 eq. (6a) / P.834-9: a_e = k * 6371 km
 HUGE_K = "1e6"  # effective radius 6.4e9 km: the Earth bulge over 10 km is 2e-6 m, i.e. flat
-SAMPLE_DEM = Path(__file__).resolve().parents[1] / "dem_samples" / "vellmoor_synthetic_1s.tif"
+SAMPLE_DEM = Path(__file__).resolve().parents[2] / "dem_samples" / "vellmoor_synthetic_1s.tif"
 GATEWAY = "-29.9125,-19.955"  # "Cairnfell Beacon" on the sample DEM
 PUMP = "-29.9,-19.825"  # "Osterby Farm pump", behind a ridge
 

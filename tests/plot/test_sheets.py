@@ -202,7 +202,7 @@ def test_bad_sheet_info_is_one_line_exit_2(tmp_path):
 def test_network_accepts_sheet_options(tmp_path):
     from pathlib import Path
 
-    root = Path(__file__).resolve().parents[1]
+    root = Path(__file__).resolve().parents[2]
     res = run("network", "--dem", DEM[0], "--sites", root / "examples" / "vellmoor_network.csv",
               "--pairs", root / "examples" / "vellmoor_pairs.csv", "--project", "Vellmoor network",
               "--document", "VV-NET-1", "--date", DATE, "--plot", tmp_path / "n.svg", "--no-progress")

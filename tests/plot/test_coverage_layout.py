@@ -198,7 +198,7 @@ def test_many_sites_counted_never_dropped_silently():
     import re
     from pathlib import Path
 
-    sites_csv = Path(__file__).resolve().parents[1] / "examples" / "vellmoor_network.csv"
+    sites_csv = Path(__file__).resolve().parents[2] / "examples" / "vellmoor_network.csv"
     result = coverage(dem=DEM, sites=sites_csv, radius_km=0.6, resolution_m=RES_M, progress=False)
     fig = build_coverage_figure(result, paper="letter", dem_paths=DEM)
     assert [str(p) for p in layout_problems(fig)] == []

@@ -21,7 +21,7 @@ from profiler.plot import audit
 from profiler.plot.siting import build_siting_figure, served_links
 from profiler.products.siting.report import siting_from_network, siting_geojson_dict
 
-ROOT = Path(__file__).resolve().parents[1]
+ROOT = Path(__file__).resolve().parents[2]
 DEM = [str(ROOT / "dem_samples")]
 SITES = ROOT / "examples" / "siting_sites.csv"
 

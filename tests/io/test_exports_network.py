@@ -119,7 +119,7 @@ def test_csv_one_row_per_link_with_the_link_fields(report):
 def test_csv_carries_every_link_field_the_docs_list():
     """docs/network.md says the CSV has one row per link with the fields of links[] in the JSON contract: every
     field docs/json.md lists there (max_margin_db and downlink_closes included) is a CSV column."""
-    readme = (Path(__file__).resolve().parents[1] / "docs" / "json.md").read_text(encoding="utf-8")
+    readme = (Path(__file__).resolve().parents[2] / "docs" / "json.md").read_text(encoding="utf-8")
     block = readme[readme.index("links[]      {"):readme.index("nodes[]      {")]
     fields = set(re.findall(r"\b[a-z]+(?:_[a-z0-9]+)+\b", block)) | {"gateway", "node", "closes", "error"}
     assert {"max_margin_db", "downlink_closes"} <= fields

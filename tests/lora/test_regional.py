@@ -17,7 +17,7 @@ from profiler.cli import main
 from profiler.lora import lorawan, regional
 from profiler.lora import modem as lora_modem
 
-SAMPLE = str(Path(__file__).resolve().parents[1] / "dem_samples")
+SAMPLE = str(Path(__file__).resolve().parents[2] / "dem_samples")
 GW = "-29.9125,-19.955"      # Cairnfell Beacon (invented), sample DEM
 PUMP = "-29.9,-19.825"       # Osterby Farm pump (invented)
 RESERVOIR = "-30.0,-19.845"  # Wendle Reservoir (invented): deep behind the ridge

@@ -18,7 +18,7 @@ from click.testing import CliRunner
 from profiler.cli import main
 from profiler.plot.audit import layout_problems
 
-ROOT = Path(__file__).resolve().parents[1]
+ROOT = Path(__file__).resolve().parents[2]
 DEM = [str(ROOT / "dem_samples")]
 SITES = ROOT / "examples" / "siting_sites.csv"
 BLOCKED = ("-29.9125,-19.955", "-30.0,-19.845")     # Cairnfell Beacon to a node behind the ridge (invented)

@@ -8,7 +8,7 @@ import pytest
 from profiler.terrain.digests import FileDigests, file_sha256
 from profiler.terrain.elevation import ElevationModel
 
-SAMPLE = Path(__file__).resolve().parents[1] / "dem_samples"
+SAMPLE = Path(__file__).resolve().parents[2] / "dem_samples"
 
 # FIPS 180-2 Appendix B.1: SHA-256("abc").
 ABC_SHA256 = "ba7816bf8f01cfea414140de5dae2223b00361a396177a9cb410ff61f20015ad"

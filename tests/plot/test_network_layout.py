@@ -15,7 +15,7 @@ from pathlib import Path
 
 import pytest
 
-ROOT = Path(__file__).resolve().parents[1]
+ROOT = Path(__file__).resolve().parents[2]
 SAMPLE = str(ROOT / "dem_samples")
 EXAMPLE_SITES = ROOT / "examples" / "vellmoor_network.csv"
 

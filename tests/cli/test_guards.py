@@ -240,7 +240,7 @@ def test_regional_model_refuses_with_a_true_message(write_dem):
 def test_docs_ranges_table_matches_the_limits_table():
     import re
 
-    readme = (Path(__file__).resolve().parents[1] / "docs" / "outputs.md").read_text(encoding="utf-8")
+    readme = (Path(__file__).resolve().parents[2] / "docs" / "outputs.md").read_text(encoding="utf-8")
     section = readme.split("## Exit codes and the output promise", 1)[1].split("\n## ", 1)[0]
     rows = dict(re.findall(r"^\| `(--[a-z0-9-]+)` \| ([^|]+?) \|", section, flags=re.M))
     assert len(rows) >= 25
@@ -259,6 +259,6 @@ def test_profiler_link_imports_no_other_command():
             "print(' '.join(sorted(m for m in sys.modules if m.startswith(('profiler.cli.', 'matplotlib', "
             "'numba', 'dask', 'profiler.products.network', 'profiler.products.coverage')))))")
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, timeout=120,
-                         cwd=str(__import__("pathlib").Path(__file__).resolve().parents[1]))
+                         cwd=str(__import__("pathlib").Path(__file__).resolve().parents[2]))
     assert out.returncode == 0, out.stderr
     assert out.stdout.split() == ["profiler.cli.link", "profiler.cli.options"]

@@ -17,7 +17,7 @@ from profiler.products.link import analyze_link
 from profiler.terrain.elevation import ElevationModel
 from profiler.terrain.profile import TerrainProfile, profile_from_dem
 
-ROOT = Path(__file__).resolve().parents[1]
+ROOT = Path(__file__).resolve().parents[2]
 SAMPLE = str(ROOT / "dem_samples")
 GW = "-29.9125,-19.955"          # invented gateway site on the synthetic terrain
 PUMP = "-29.9,-19.825"           # invented sensor site behind the ridge

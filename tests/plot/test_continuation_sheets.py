@@ -20,7 +20,7 @@ from profiler.errors import ProfilerError
 from profiler.io.outputs import Output, write_outputs
 from profiler.plot import audit
 
-ROOT = Path(__file__).resolve().parents[1]
+ROOT = Path(__file__).resolve().parents[2]
 DEM = [str(ROOT / "dem_samples")]
 NETWORK_SITES = ROOT / "examples" / "vellmoor_network.csv"
 MAPS = {"coverage-map", "network-map", "siting-map"}

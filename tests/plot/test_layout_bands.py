@@ -20,7 +20,7 @@ GATEWAY, NODE = (-29.9125, -19.955), (-30.0, -19.845)     # invented Vellmoor si
 def _root(monkeypatch):
     from pathlib import Path
 
-    monkeypatch.chdir(Path(__file__).resolve().parents[1])
+    monkeypatch.chdir(Path(__file__).resolve().parents[2])
 
 
 def test_every_band_is_in_the_matrix():

@@ -11,7 +11,7 @@ from geographiclib.geodesic import Geodesic
 
 from profiler.cli import main
 
-ROOT = Path(__file__).resolve().parents[1]
+ROOT = Path(__file__).resolve().parents[2]
 SAMPLE = str(ROOT / "dem_samples")
 EXAMPLE_SITES = ROOT / "examples" / "vellmoor_network.csv"
 GW = (-29.9125, -19.955)        # Cairnfell Beacon (invented)
