@@ -28,18 +28,11 @@ import numpy as np
 
 from ..errors import ProfilerError
 from ..limits import LIMITS, MAX_PROFILE_SAMPLES, check
+from .geodesic import geodesic_anchors, geodesic_positions
 
 MAX_SAMPLES = MAX_PROFILE_SAMPLES
 """Upper bound on samples of one link; a finer step is refused with a hint (see :mod:`profiler.limits`)."""
 
-ANCHOR_M = 250.0
-"""Spacing of the exact geodesic anchors between which samples are interpolated [m]."""
-
-POLAR_LAT_DEG = 80.0
-"""Links starting beyond this latitude take the direct geodesic problem at every sample."""
-
-MAX_ANCHORED_M = 1_000_000.0
-"""Links longer than this (they may pass near a pole) take the direct problem at every sample [m]."""
 
 
 @dataclass(frozen=True)
@@ -149,7 +142,7 @@ def sample_links(model, lat_a_deg, lon_a_deg, lat_b_deg, lon_b_deg, *, step_m=No
             f"{model.bounds_text()}" + ("; lat/lon swapped? the site read the other way round lies inside"
                                         if swapped[i] else "")))
     ok = np.array([e is None for e in errors])
-    anchors = _anchors(geod, lat_a, lon_a, az_ab, length, ok)
+    anchors = geodesic_anchors(geod, lat_a, lon_a, az_ab, length, ok)
     step = _steps_m(model, anchors, ok, step_m)
     with np.errstate(divide="ignore", invalid="ignore"):
         n = np.where(ok, np.maximum(np.ceil(length / step) + 1, 3), 3)
@@ -164,7 +157,7 @@ def sample_links(model, lat_a_deg, lon_a_deg, lat_b_deg, lon_b_deg, *, step_m=No
     starts = np.concatenate([[0], np.cumsum(n[ok])[:-1]]) if ok.any() else np.zeros(0, dtype=np.int64)
     cols = np.arange(rows.size) - np.repeat(starts, n[ok])
     dist = length[rows] * cols / (n[rows] - 1)
-    lon_s, lat_s = _positions(geod, lat_a, lon_a, az_ab, anchors, rows, dist)
+    lon_s, lat_s = geodesic_positions(geod, lat_a, lon_a, az_ab, anchors, rows, dist)
     last = cols == n[rows] - 1        # the far end exactly at B, as given
     lon_s[last], lat_s[last] = lon_b[rows[last]], lat_b[rows[last]]
     shape = (n_links, n_max)
@@ -252,61 +245,6 @@ def _check_heights(out, errors):
         except ProfilerError as exc:
             errors[i] = errors[i] or str(exc)
 
-
-def _anchors(geod, lat_a, lon_a, az_ab, length, ok):
-    """Exact points of the direct geodesic problem every ANCHOR_M along each link (longitudes unwrapped)."""
-    n_anchor = np.where(ok, np.ceil(np.nan_to_num(length) / ANCHOR_M).astype(np.int64) + 1, 0)
-    a_rows = np.repeat(np.arange(lat_a.size), n_anchor)
-    a_start = np.concatenate([[0], np.cumsum(n_anchor)[:-1]])
-    a_cols = np.arange(a_rows.size) - np.repeat(a_start, n_anchor)
-    spacing = np.where(n_anchor > 1, np.nan_to_num(length) / np.maximum(n_anchor - 1, 1), 1.0)
-    a_lon, a_lat, _ = geod.fwd(lon_a[a_rows], lat_a[a_rows], az_ab[a_rows], a_cols * spacing[a_rows])
-    a_lon, a_lat = np.asarray(a_lon, dtype=float), np.asarray(a_lat, dtype=float)
-    step = np.diff(a_lon, prepend=a_lon[:1])
-    step = np.where(a_cols == 0, 0.0, (step + 180.0) % 360.0 - 180.0)
-    unwrapped = a_lon[a_start[a_rows]] + _segment_cumsum(step, a_start, n_anchor, a_rows) if a_rows.size else a_lon
-    reach = np.zeros(lat_a.size)
-    has = n_anchor > 0
-    if has.any():
-        reach[has] = np.maximum.reduceat(np.abs(a_lat), a_start[has])
-    polar = ok & ((reach > POLAR_LAT_DEG) | (length > MAX_ANCHORED_M))
-    return {"lon": unwrapped, "lat": a_lat, "start": a_start, "count": n_anchor, "spacing": spacing,
-            "rows": a_rows, "polar": polar}
-
-
-def _positions(geod, lat_a, lon_a, az_ab, anchors, rows, dist):
-    """Sample coordinates: linear in (latitude, unwrapped longitude) between exact anchors 250 m apart.
-
-    Between anchors the geodesic departs from that straight line by less
-    than L^2 kappa / 8, about 1 mm at mid latitudes (kappa ~ tan(lat) / R),
-    far below any elevation pixel.  Links reaching beyond 80 degrees of
-    latitude, or longer than 1,000 km, take the direct problem at every sample.
-    """
-    a_lon, a_lat, a_start, n_anchor = anchors["lon"], anchors["lat"], anchors["start"], anchors["count"]
-    lon_s = np.empty(rows.size)
-    lat_s = np.empty(rows.size)
-    exact = anchors["polar"][rows]
-    if exact.any():
-        lo, la, _ = geod.fwd(lon_a[rows[exact]], lat_a[rows[exact]], az_ab[rows[exact]], dist[exact])
-        lon_s[exact], lat_s[exact] = lo, la
-    near = ~exact
-    r = rows[near]
-    u = dist[near] / anchors["spacing"][r]
-    i0 = np.clip(np.floor(u).astype(np.int64), 0, np.maximum(n_anchor[r] - 2, 0))
-    w = u - i0
-    k0 = a_start[r] + i0
-    k1 = np.minimum(k0 + 1, a_start[r] + n_anchor[r] - 1)
-    lon_s[near] = a_lon[k0] * (1.0 - w) + a_lon[k1] * w
-    lat_s[near] = a_lat[k0] * (1.0 - w) + a_lat[k1] * w
-    return (lon_s + 180.0) % 360.0 - 180.0, lat_s
-
-
-def _segment_cumsum(values, starts, counts, rows):
-    """Cumulative sum of ``values`` restarting at every segment start."""
-    total = np.cumsum(values)
-    before = np.where(counts > 0, total[np.minimum(starts, total.size - 1)] - values[np.minimum(starts, total.size - 1)],
-                      0.0) if total.size else np.zeros(starts.size)
-    return total - before[rows]
 
 
 def _steps_m(model, anchors, ok, step_m):
