@@ -111,5 +111,20 @@ def write_public_api(app):
         out.write_text(text)
 
 
+def write_moves(app):
+    """Write ``_generated/moves.md``: every old module path and where it lives now, from
+    ``profiler._deprecated.MOVED`` (the table the deprecation finder itself uses)."""
+    from profiler._deprecated import MOVED
+
+    rows = ["| old module (deprecated) | new module |", "| --- | --- |"]
+    rows += [f"| `{old}` | `{new}` |" for old, new in sorted(MOVED.items())]
+    out = Path(app.srcdir) / "_generated" / "moves.md"
+    out.parent.mkdir(exist_ok=True)
+    text = "\n".join(rows) + "\n"
+    if not out.exists() or out.read_text() != text:
+        out.write_text(text)
+
+
 def setup(app):
     app.connect("builder-inited", write_public_api, priority=100)
+    app.connect("builder-inited", write_moves, priority=100)
