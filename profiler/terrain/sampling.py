@@ -304,7 +304,8 @@ def _positions(geod, lat_a, lon_a, az_ab, anchors, rows, dist):
 def _segment_cumsum(values, starts, counts, rows):
     """Cumulative sum of ``values`` restarting at every segment start."""
     total = np.cumsum(values)
-    before = np.where(counts > 0, total[np.minimum(starts, total.size - 1)] - values[np.minimum(starts, total.size - 1)],
+    before = np.where(counts > 0,
+                      total[np.minimum(starts, total.size - 1)] - values[np.minimum(starts, total.size - 1)],
                       0.0) if total.size else np.zeros(starts.size)
     return total - before[rows]
 
