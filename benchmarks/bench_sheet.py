@@ -57,7 +57,8 @@ def main():
         fig = build_link_figure(report, dem_paths=[DEM], dpi=args.dpi if args.format == "png" else 100)
         t1 = time.perf_counter()
         with style():
-            fig.savefig(plot_out, dpi=args.dpi, **({"pil_kwargs": {"compress_level": 1}} if args.format == "png" else {}))
+            fig.savefig(plot_out, dpi=args.dpi,
+                        **({"pil_kwargs": {"compress_level": 1}} if args.format == "png" else {}))
         t2 = time.perf_counter()
     print(f"link run without plot   {plain:6.2f} s")
     print(f"link run with --plot    {plotted:6.2f} s  ({args.format}, {args.dpi} dpi)")

@@ -26,8 +26,8 @@ from typing import Iterable, Iterator, Mapping
 
 from .errors import ProfilerError
 
-__all__ = ["Limit", "LIMITS", "MAX_PROFILE_SAMPLES", "MAX_NAME_CHARS", "check_name", "check", "check_values", "check_fields", "check_array",
-           "sample_count", "quiet_numerics", "require_finite", "range_text"]
+__all__ = ["Limit", "LIMITS", "MAX_PROFILE_SAMPLES", "MAX_NAME_CHARS", "check_name", "check", "check_values",
+           "check_fields", "check_array", "sample_count", "quiet_numerics", "require_finite", "range_text"]
 
 
 @dataclass(frozen=True)

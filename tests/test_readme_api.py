@@ -63,7 +63,8 @@ def resolve(name: str):
 def test_readme_shows_python_names():
     assert len(PAGES) > 10                      # README and the docs pages
     names = readme_names()
-    assert "profiler.products.siting.setcover.solve_siting" in names and "profiler.products.siting.report.siting_from_network" in names
+    assert ("profiler.products.siting.setcover.solve_siting" in names
+            and "profiler.products.siting.report.siting_from_network" in names)
     assert not any("/" in n for n in names)
 
 

@@ -55,7 +55,8 @@ def _plan_text(d: dict) -> str:
     if d["duty_cycle_subbands"] is None:
         lines.append("  duty cycle    none in the plan")
     else:
-        parts = [f"{s['low_mhz']:g}-{s['high_mhz']:g} MHz {100 * s['duty_cycle']:g} %" for s in d["duty_cycle_subbands"]]
+        parts = [f"{s['low_mhz']:g}-{s['high_mhz']:g} MHz {100 * s['duty_cycle']:g} %"
+                 for s in d["duty_cycle_subbands"]]
         lines.append(f"  duty cycle    {'; '.join(parts)}")
     for label, key in (("uplink DRs", "uplink_drs"), ("downlink DRs", "downlink_drs")):
         lines.append(f"  {label:<13} DR   SF   BW kHz  max app payload [bytes]")
@@ -64,7 +65,8 @@ def _plan_text(d: dict) -> str:
                      if key == "uplink_drs" and d["dwell_time_optional"] else "")
             if key == "uplink_drs" and d["dwell_time_optional"] and r["max_app_payload_dwell_bytes"] is None:
                 dwell = " (not allowed with dwell time)"
-            lines.append(f"                {r['dr']:>2}  {r['sf']:>3}  {r['bw_khz']:>7}  {r['max_app_payload_bytes']}{dwell}")
+            lines.append(f"                {r['dr']:>2}  {r['sf']:>3}  {r['bw_khz']:>7}  "
+                         f"{r['max_app_payload_bytes']}{dwell}")
     for note in d["notes"]:
         lines.append(f"  note          {note}")
     return "\n".join(lines)

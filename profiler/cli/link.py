@@ -29,7 +29,8 @@ from .options import (
 @radio_options
 @click.option("--json", "json_path", default=None, metavar="FILE", help="Write the JSON report ('-' for stdout).")
 @click.option("--csv", "csv_path", default=None, metavar="FILE", help="Write one CSV row per profile sample.")
-@click.option("--geojson", "geojson_path", default=None, metavar="FILE", help="Write the path, sites and worst point as GeoJSON.")
+@click.option("--geojson", "geojson_path", default=None, metavar="FILE",
+              help="Write the path, sites and worst point as GeoJSON.")
 @click.option("--kml", "kml_path", default=None, metavar="FILE", help="Write the path and sites as KML.")
 @plot_options
 @report_option

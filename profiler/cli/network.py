@@ -98,7 +98,8 @@ def network_summary_text(report: dict) -> str:
     lines = [f"Network: {s['links']} links, {s['closing']} close with the {report['fade_margin_db']:g} dB fade margin, "
              f"{s['errors']} could not be computed",
              f"  frequency     {report['frequency_mhz']:.4f} MHz{band}, k = {report['k_factor']:.4g}",
-             f"  sites         {_count(s['gateways'], 'existing gateway')}, {_count(s['candidates'], 'candidate site')}, "
+             f"  sites         {_count(s['gateways'], 'existing gateway')}, "
+             f"{_count(s['candidates'], 'candidate site')}, "
              f"{_count(s['nodes_total'], 'node')}",
              f"  nodes         {s['nodes_covered_by_gateways']} of {s['nodes_total']} heard by the existing gateways "
              f"({s['nodes_covered_twice']} by two or more){with_cand}",

@@ -120,7 +120,8 @@ def siting_summary_text(report: dict) -> str:
              f"(objective {report['greedy']['objective']:g})"]
     if s:
         lines.append(f"  nodes         {s.get('nodes_heard')} of {s.get('nodes_total')} heard "
-                     f"{report.get('redundancy', s.get('redundancy', 1))} time(s); {s.get('nodes_unreachable')} unreachable")
+                     f"{report.get('redundancy', s.get('redundancy', 1))} time(s); "
+                     f"{s.get('nodes_unreachable')} unreachable")
     for u in report["unreachable"]:
         lines.append(f"  unreachable   {u['name']}: {u['reason']}")
     for msg in report.get("warnings", []):

@@ -199,7 +199,8 @@ def coverage_summary_text(report: dict) -> str:
              f"{st['resolution_m']:.1f} m ({report['grid']['width']} x {report['grid']['height']} pixels, "
              f"{st['radials']} radials)",
              f"  sites         {site_count_text(s)}"]
-    lines += [f"  {'candidate' if g.get('role') == 'candidate' else 'gateway':<13} {g['name']}: {g['lat_deg']:.6f}, {g['lon_deg']:.6f}, mast {g['mast_m']:g} m, "
+    lines += [f"  {'candidate' if g.get('role') == 'candidate' else 'gateway':<13} {g['name']}: "
+              f"{g['lat_deg']:.6f}, {g['lon_deg']:.6f}, mast {g['mast_m']:g} m, "
               f"gain {g['gain_dbi']:.2f} dBi, EIRP {g['eirp_dbm']:.2f} dBm" for g in sites]
     lines += [f"  computed      {s['area_computed_km2']:.2f} km2",
               f"  covered       {s['covered']['area_km2']:.2f} km2 ({(s['covered']['share'] or 0):.1%}) with the "

@@ -113,7 +113,8 @@ def check_output_path(path, suffixes: tuple[str, ...] | None = None, option: str
     if target.is_dir():
         raise ProfilerError(f"cannot write {target} ({option}): it is a folder; give a file name")
     if suffixes and target.suffix.lower() not in suffixes:
-        raise ProfilerError(f"{option} {target}: unknown file type {target.suffix or '(none)'}; use {', '.join(suffixes)}")
+        raise ProfilerError(f"{option} {target}: unknown file type {target.suffix or '(none)'}; "
+                            f"use {', '.join(suffixes)}")
 
 
 # ---------------------------------------------------------------------------- all outputs of one run

@@ -158,7 +158,8 @@ def summary_text(report: dict) -> str:
     lines.append(f"  frequency     {report['frequency_mhz']:.4f} MHz{band}, k = {report['k_factor']:.4g}")
     lines.append(f"  antennas      A {a['antenna_amsl_m']:.1f} m AMSL ({a['mast_m']:g} m mast), "
                  f"B {b['antenna_amsl_m']:.1f} m AMSL ({b['mast_m']:g} m mast)")
-    lines.append(f"  tilt          A {report['elevation_angle_a_deg']:+.3f} deg, B {report['elevation_angle_b_deg']:+.3f} deg")
+    lines.append(f"  tilt          A {report['elevation_angle_a_deg']:+.3f} deg, "
+                 f"B {report['elevation_angle_b_deg']:+.3f} deg")
     lines.append(f"  verdict       {verdict(report)}")
     pct = 100.0 * w["fresnel_ratio"] if w["fresnel_ratio"] is not None else float("nan")
     lines.append(f"  worst point   {w['distance_m'] / 1000:.3f} km from A: clearance {w['clearance_m']:+.1f} m "
@@ -186,7 +187,8 @@ def budget_lines(report: dict) -> list[str]:
     for label, bud in (("uplink", report["budget"]), ("downlink", report["budget_downlink"])):
         tx, rx = bud["transmitter"].upper(), bud["receiver"].upper()
         rate = f" at {rate_text(bud['sf'], bud['bw_khz'], bud['dr'])}" if bud["sf"] is not None else ""
-        lines.append(f"  {label:<13} {tx}->{rx}: EIRP {bud['eirp_dbm']:.1f} dBm, received {bud['rx_power_dbm']:.1f} dBm, "
+        lines.append(f"  {label:<13} {tx}->{rx}: EIRP {bud['eirp_dbm']:.1f} dBm, "
+                     f"received {bud['rx_power_dbm']:.1f} dBm, "
                      f"sensitivity {bud['sensitivity_dbm']:.1f} dBm{rate}, margin {bud['margin_db']:.1f} dB "
                      f"(need {bud['fade_margin_required_db']:.1f} dB)")
     if lora is None:
@@ -204,5 +206,6 @@ def budget_lines(report: dict) -> list[str]:
         lines.append(f"  recommended   {'; '.join(parts)}")
     else:
         sf = lora["lowest_closing_sf"]
-        lines.append(f"  recommended   {rate_text(sf, lora['bw_khz']) if sf is not None else 'no spreading factor closes the link'}")
+        lines.append("  recommended   "
+                     f"{rate_text(sf, lora['bw_khz']) if sf is not None else 'no spreading factor closes the link'}")
     return lines

@@ -227,7 +227,8 @@ def _draw_map(ax, result, report, dem_paths, renderer) -> None:
 
 
 def _draw_los_edge(ax, result) -> None:
-    """The edge of the line-of-sight area: the 0.5 contour of the ``line_of_sight`` band (gid ``line-of-sight-edge``)."""
+    """The edge of the line-of-sight area: the 0.5 contour of the ``line_of_sight`` band
+    (gid ``line-of-sight-edge``)."""
     from ..io.coverage import geographic_classes
 
     los, (west, east, south, north) = geographic_classes(result, max_pixels=900, band="line_of_sight")

@@ -251,7 +251,8 @@ def _draw_path(ax, report: dict, lon, lat) -> None:
     short[0] = short[-1] = False
     if short.any():
         ax.plot(lon, np.where(short, lat, np.nan), color=SHORT_EDGE, lw=2.6, ls=(0, (2.0, 1.0)), zorder=5)
-    ax.plot(lon[0], lat[0], marker="^", ms=8, mfc="black", mec="white", mew=1.0, zorder=7)   # sites above the worst point
+    # sites above the worst point
+    ax.plot(lon[0], lat[0], marker="^", ms=8, mfc="black", mec="white", mew=1.0, zorder=7)
     ax.plot(lon[-1], lat[-1], marker="o", ms=7, mfc="white", mec="black", mew=1.4, zorder=7)
     worst = report.get("worst") or {}
     if worst.get("lon_deg") is not None:
@@ -261,9 +262,9 @@ def _draw_path(ax, report: dict, lon, lat) -> None:
 
 
 def _label_sites(ax, report: dict, lon, lat, ext, points, renderer, furniture=()) -> list:
-    """Site labels: of sixteen places around each marker (eight directions, two distances), the one least in the way of the furniture, the
-    path, the other label and the frame (:func:`basemap.label_score`); first choice on opposite sides of
-    the path; always inside the frame.  Returns their boxes [axes fractions]."""
+    """Site labels: of sixteen places around each marker (eight directions, two distances), the one least in the way of
+    the furniture, the path, the other label and the frame (:func:`basemap.label_score`); first choice on opposite
+    sides of the path; always inside the frame.  Returns their boxes [axes fractions]."""
     ux, uy = (lon[-1] - lon[0]) * ext.m_lon, (lat[-1] - lat[0]) * ext.m_lat
     norm = math.hypot(ux, uy) or 1.0
     nx_, ny_ = -uy / norm, ux / norm

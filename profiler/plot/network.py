@@ -383,7 +383,8 @@ def _draw_sites(ax, sites, highlight, marked) -> None:
         if mask.any():
             ax.plot(lon[mask], lat[mask], ls="none", zorder=6 - 0.1 * z, gid=f"sites-{key}", **ROLE_STYLE[key])
     names = np.array(sites["name"], dtype=object)
-    for chosen, style_kw, gid in ((highlight, HIGHLIGHT_STYLE, "sites-highlight"), (marked, MARKED_STYLE, "sites-marked")):
+    for chosen, style_kw, gid in ((highlight, HIGHLIGHT_STYLE, "sites-highlight"),
+                                  (marked, MARKED_STYLE, "sites-marked")):
         mask = np.isin(names, list(chosen)) if chosen else np.zeros(names.size, dtype=bool)
         if mask.any():
             ax.plot(lon[mask], lat[mask], ls="none", zorder=7, gid=gid, **style_kw)
@@ -552,7 +553,8 @@ def _summary_blocks(report, status) -> list:
         ("Below the fade margin", f"{status.count('marginal')}"),
         ("Failing", f"{status.count('fails')}"),
         ("Errors", num(summary.get("errors"), "d")),
-        ("Band / frequency", f"{clean(report.get('band') or DASH)} / {num(report.get('frequency_mhz'), '.4f', ' MHz')}"),
+        ("Band / frequency",
+         f"{clean(report.get('band') or DASH)} / {num(report.get('frequency_mhz'), '.4f', ' MHz')}"),
         ("k-factor", k_text(report.get("k_factor"))),
     ]
     return [("Summary", None, rows)]

@@ -240,7 +240,8 @@ def _legend(ax, report: dict, d, short_label: str, void_label: str | None = None
 
     freq = report.get("frequency_mhz")
     handles = [
-        Patch(fc=TERRAIN_FACE, ec=TERRAIN_EDGE, lw=0.8, label=f"Terrain + Earth bulge (k = {k_text(report.get('k_factor'))})"),
+        Patch(fc=TERRAIN_FACE, ec=TERRAIN_EDGE, lw=0.8,
+              label=f"Terrain + Earth bulge (k = {k_text(report.get('k_factor'))})"),
         Line2D([], [], color="black", lw=1.5, label="Line of sight"),
         Patch(fc=FRESNEL_FACE, ec=FRESNEL_EDGE, lw=0.8, ls=FRESNEL_STYLE,
               label=f"1st Fresnel zone \u00b1F1 ({num(freq, '.1f', ' MHz')})"),

@@ -309,7 +309,8 @@ def draw_placed(ax, m: Measure, placed) -> None:
                 ax.add_patch(Rectangle((x0, y - rh), total, rh, fc=SHADE, ec="none", zorder=0))
             for j, (cell, left, w) in enumerate(zip(row, lefts, widths)):
                 strong = j > 0 and cell.startswith("NO")
-                _cell(ax, m, left, y, w, rh, cell, size, bold=strong, color="0.25" if j == 0 < len(row) - 1 else "black")
+                _cell(ax, m, left, y, w, rh, cell, size, bold=strong,
+                      color="0.25" if j == 0 < len(row) - 1 else "black")
             y -= rh
         reserve(ax, (x0, y, x0 + total, top_in - p.y_in), name="a table")
         ax.plot([x0, x0 + total], [y, y], color=RULE, lw=0.8)

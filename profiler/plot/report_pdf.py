@@ -184,13 +184,17 @@ def _budget_table(report) -> Table:
     up, down = report["budget"], report.get("budget_downlink") or report["budget"]
     rows = [("Transmitter", _end(report, up["transmitter"]), _end(report, down["transmitter"])),
             ("Receiver", _end(report, up["receiver"]), _end(report, down["receiver"]))]
-    for key, label, fmt, unit in (("frequency_mhz", "Frequency", ".4f", " MHz"), ("tx_power_dbm", "Tx power", ".2f", " dBm"),
+    for key, label, fmt, unit in (("frequency_mhz", "Frequency", ".4f", " MHz"),
+                                  ("tx_power_dbm", "Tx power", ".2f", " dBm"),
                                   ("eirp_dbm", "EIRP", ".2f", " dBm"), ("path_loss_db", "Path loss", ".2f", " dB"),
-                                  ("rx_power_dbm", "Rx power", ".2f", " dBm"), ("noise_figure_db", "Noise figure", ".1f", " dB"),
-                                  ("sensitivity_dbm", "Sensitivity", ".2f", " dBm"), ("margin_db", "Margin", "+.2f", " dB"),
+                                  ("rx_power_dbm", "Rx power", ".2f", " dBm"),
+                                  ("noise_figure_db", "Noise figure", ".1f", " dB"),
+                                  ("sensitivity_dbm", "Sensitivity", ".2f", " dBm"),
+                                  ("margin_db", "Margin", "+.2f", " dB"),
                                   ("fade_margin_required_db", "Fade margin required", ".1f", " dB")):
         rows.append((label, num(up.get(key), fmt, unit), num(down.get(key), fmt, unit)))
-    rows += [("Sensitivity source", _source(up), _source(down)), ("Closes", _yes(up.get("closes")), _yes(down.get("closes"))),
+    rows += [("Sensitivity source", _source(up), _source(down)),
+             ("Closes", _yes(up.get("closes")), _yes(down.get("closes"))),
              ("Data rate", _rate(up), _rate(down))]
     return Table("Budget", ("", "Uplink (node \u2192 gateway)", "Downlink (gateway \u2192 node)"), tuple(rows))
 
@@ -333,13 +337,15 @@ def _version_rows():
 def _record_groups(report, record):
     record = record or {}
     command = figure_text(shlex.join(record.get("command_line") or [])) or DASH
-    run = (("Command", figure_text(record.get("command")) or DASH), ("Report schema", figure_text(report.get("schema"))),
+    run = (("Command", figure_text(record.get("command")) or DASH),
+           ("Report schema", figure_text(report.get("schema"))),
            ("Date", figure_text((report.get("sheet") or {}).get("date")) or DASH),
            ("Band (as used)", figure_text(report.get("band")) or DASH),
            ("Frequency (as used)", num(report.get("frequency_mhz"), ".4f", " MHz")))
     files = []
     for s in (report.get("dem") or {}).get("sources") or []:
-        files += [("Path", figure_text(s.get("path")) or DASH), ("sha256", _chunks(figure_text(s.get("sha256")), 16) or DASH),
+        files += [("Path", figure_text(s.get("path")) or DASH),
+                  ("sha256", _chunks(figure_text(s.get("sha256")), 16) or DASH),
                   ("CRS", figure_text(s.get("crs")) or DASH)]
     groups = [[Table("Command line", None, ((command,),))],
               [Table("Run", None, run), Table("Elevation files", None, tuple(files) or (("Path", DASH),)),

@@ -280,7 +280,8 @@ def _draw_legend(ax, siting) -> None:
                Line2D([], [], ls="none", label="Candidate site", **ROLE_STYLE["candidate"]),
                Line2D([], [], ls="none", label="Chosen (ring)", **{**HIGHLIGHT_STYLE, "ms": 10.0}),
                Line2D([], [], ls="none", label=f"Node heard {_times(r)}", **ROLE_STYLE["node"]),
-               Line2D([], [], ls="none", label="Node not heard" if r == 1 else "Node heard fewer times", **ROLE_STYLE["node_uncovered"]),
+               Line2D([], [], ls="none", label="Node not heard" if r == 1 else "Node heard fewer times",
+                      **ROLE_STYLE["node_uncovered"]),
                Line2D([], [], ls="none", label="Unreachable node", **{**MARKED_STYLE, "ms": 8.0})]
     audit.contain(put_text(ax, 0.0, ax.get_ylim()[1], "Legend", ha="left", va="top", fontsize=7.5,
                            fontweight="bold"), ax)

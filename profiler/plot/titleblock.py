@@ -145,7 +145,8 @@ def draw_notes(ax, renderer, lines, fontsize: float = 6.0, bold_last: bool = Tru
 def provenance_lines(report: dict, source_line: str, extra=()) -> list[str]:
     """Footer lines of a sheet: elevation data, datums, extras, tool / schema / warnings, and the caution."""
     warnings = list(dict.fromkeys(clean(w) for w in (report.get("warnings") or [])))
-    tool = f"profiler {clean(report.get('tool_version') or __version__)}  {MIDDOT}  report {clean(report.get('schema') or '')}"
+    tool = (f"profiler {clean(report.get('tool_version') or __version__)}  {MIDDOT}  "
+            f"report {clean(report.get('schema') or '')}")
     if warnings:
         tool += f"  {MIDDOT}  warnings: " + "; ".join(warnings)
     return [source_line, f"Datums: {clean(datum_line(report))}", *extra, tool, CAUTION]

@@ -66,7 +66,8 @@ def compute_links(model, settings: NetworkSettings, lat_gw, lon_gw, mast_gw, lat
     n_links = len(s.error)
     errors = list(s.error)
     out = {k: np.full(n_links, np.nan) for k in LINK_FLOAT_KEYS}
-    out.update(voids_filled=np.asarray(s.voids_filled), recommended_dr=np.full(n_links, -1), closes=np.zeros(n_links, bool),
+    out.update(voids_filled=np.asarray(s.voids_filled), recommended_dr=np.full(n_links, -1),
+               closes=np.zeros(n_links, bool),
                downlink_closes=np.zeros(n_links, bool), line_of_sight=np.zeros(n_links, bool),
                fresnel_clear=np.zeros(n_links, bool))
     ok = s.ok
@@ -111,7 +112,8 @@ def _chunk_job(idx, *, settings, sites_arrays, model=None):
     """Compute one chunk of links; opens the elevation files by path when no model is given (a worker)."""
     gw, node = idx
     a = sites_arrays
-    overrides = {role: {k: v[sel] for k, v in a["overrides"].items()} for role, sel in (("gateway", gw), ("node", node))}
+    overrides = {role: {k: v[sel] for k, v in a["overrides"].items()}
+                 for role, sel in (("gateway", gw), ("node", node))}
     args = (settings, a["lat"][gw], a["lon"][gw], a["mast"][gw], a["lat"][node], a["lon"][node], a["mast"][node],
             overrides, [a["names"][i] for i in gw], [a["names"][i] for i in node])
     if model is not None:
@@ -272,7 +274,8 @@ def network(sites, *, dem, pairs=None, max_distance_km: float = 50.0, band: str 
     table = sites if hasattr(sites, "names") else read_sites_csv(sites)
     radio = (radio or RadioSettings()).validate()
     if radio.gateway != "a":
-        raise ProfilerError("in a network the gateway is always end A of every link; leave RadioSettings(gateway=...) at 'a' (the sites file role column says which site is a gateway)")
+        raise ProfilerError("in a network the gateway is always end A of every link; leave RadioSettings(gateway=...) "
+                            "at 'a' (the sites file role column says which site is a gateway)")
     f_mhz, band_name = resolve_frequency_mhz(frequency_mhz, band)
     k = geometry.parse_k_factor(k_factor)
     if pairs is None:
@@ -316,5 +319,6 @@ def network(sites, *, dem, pairs=None, max_distance_km: float = 50.0, band: str 
                     "pairs": pairs is not None}
     return NetworkResult(sites=site_rows, links=_link_records(table, gw, node, res), nodes=nodes, summary=summary,
                          band=band_name, frequency_mhz=f_mhz, k_factor=k, fade_margin_db=radio.fade_margin_db,
-                         dem={"kind": "dem", "sources": sources, "voids_filled": int(np.sum(res["voids_filled"]))}, warnings=warnings,
+                         dem={"kind": "dem", "sources": sources, "voids_filled": int(np.sum(res["voids_filled"]))},
+                         warnings=warnings,
                          settings=settings_out)

@@ -267,7 +267,8 @@ def _check_lat_lon(lat, lon, cols, lines, where) -> None:
 
 
 def _polarization(text: str, line: int, where) -> str | None:
-    """A polarization cell checked by :func:`profiler.propagation.polarization.polarization_angle_deg`; None when empty."""
+    """A polarization cell checked by :func:`profiler.propagation.polarization.polarization_angle_deg`;
+    None when empty."""
     from ..propagation.polarization import polarization_angle_deg
 
     if not text:

@@ -71,7 +71,8 @@ def parse_k_factor(text) -> float:
             else:
                 value = float(s)
         except (ValueError, ZeroDivisionError):
-            raise ProfilerError(f"k-factor {text!r} is not a number; give a decimal like 1.33 or a fraction like 4/3") from None
+            raise ProfilerError(f"k-factor {text!r} is not a number; "
+                                "give a decimal like 1.33 or a fraction like 4/3") from None
     if not math.isfinite(value) or value <= 0:
         raise ProfilerError(f"k-factor must be a positive finite number, got {text!r}")
     return value

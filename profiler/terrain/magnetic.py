@@ -222,7 +222,8 @@ def _caution_text(h_nt):
     if h_nt < BLACKOUT_H_NT:
         return f"compass unreliable here (WMM Blackout Zone: horizontal field {h_nt:.0f} nT < {BLACKOUT_H_NT:.0f} nT)"
     if h_nt < CAUTION_H_NT:
-        return f"compass may be unreliable here (WMM Caution Zone: horizontal field {h_nt:.0f} nT < {CAUTION_H_NT:.0f} nT)"
+        return (f"compass may be unreliable here (WMM Caution Zone: horizontal field {h_nt:.0f} nT "
+                f"< {CAUTION_H_NT:.0f} nT)")
     return ""
 
 

@@ -160,10 +160,12 @@ def read_profile_csv(path) -> TerrainProfile:
         raise ProfilerError(f"profile file {p} is not UTF-8 text; save it as a CSV file") from None
     rows = [r for r in csv.reader(text.splitlines()) if r and any(c.strip() for c in r)]
     if not rows:
-        raise ProfilerError(f"profile file {p} is empty; it needs a header 'distance_m,elevation_m' and at least 3 rows")
+        raise ProfilerError(f"profile file {p} is empty; "
+                            "it needs a header 'distance_m,elevation_m' and at least 3 rows")
     header = [c.strip().lower() for c in rows[0]]
     if "distance_m" not in header or "elevation_m" not in header:
-        raise ProfilerError(f"profile file {p} needs a header row with columns distance_m,elevation_m; found {','.join(rows[0])}")
+        raise ProfilerError(f"profile file {p} needs a header row with columns distance_m,elevation_m; "
+                            f"found {','.join(rows[0])}")
     i_d, i_h = header.index("distance_m"), header.index("elevation_m")
     body = rows[1:]
     if len(body) < 3:
@@ -180,12 +182,14 @@ def read_profile_csv(path) -> TerrainProfile:
         bad = int(np.argmax(~(np.isfinite(d) & np.isfinite(h)))) + 2
         raise ProfilerError(f"profile file {p} line {bad}: distance and elevation must be finite numbers (no NaN)")
     check_array("terrain", h, lambda i: f"profile file {p} line {i + 2}: elevation_m")
-    check_array("distance", np.abs(d - d[0]), lambda i: f"profile file {p} line {i + 2}: distance_m (from the first row)")
+    check_array("distance", np.abs(d - d[0]),
+                lambda i: f"profile file {p} line {i + 2}: distance_m (from the first row)")
     steps = np.diff(d)
     if np.any(steps <= 0):
         bad = int(np.argmax(steps <= 0)) + 3
         kind = "duplicate" if steps[bad - 3] == 0 else "decreasing"
-        raise ProfilerError(f"profile file {p} line {bad}: {kind} distance; distances must strictly increase from site A to site B")
+        raise ProfilerError(f"profile file {p} line {bad}: {kind} distance; "
+                            "distances must strictly increase from site A to site B")
     if np.any(steps < MIN_SURVEY_SPACING_M):
         bad = int(np.argmax(steps < MIN_SURVEY_SPACING_M)) + 3
         raise ProfilerError(f"profile file {p} line {bad}: rows only {steps[bad - 3]:.3g} m apart; "

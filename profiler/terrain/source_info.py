@@ -50,5 +50,6 @@ class SourceInfo:
 
     @cached_property
     def sha256(self) -> str:
-        """SHA-256 of the file on disk [hex] (reports use :meth:`profiler.terrain.elevation.ElevationModel.provenance`)."""
+        """SHA-256 of the file on disk [hex]
+        (reports use :meth:`profiler.terrain.elevation.ElevationModel.provenance`)."""
         return file_sha256(self.file_path or self.path)

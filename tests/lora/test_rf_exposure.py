@@ -51,8 +51,10 @@ def test_icnirp2020_below_30_mhz_is_plane_wave_equivalent_of_e_field():
     # ICNIRP (2020) Table 5, 0.1-30 MHz: E_inc = 300 / f^0.7 V/m (general public),
     # 660 / f^0.7 V/m (occupational); plane-wave S = E^2 / Z0, Z0 = 376.730 ohm (CODATA).
     for f in (0.1, 1.0, 10.0, 27.0):
-        assert rf_exposure.reference_level_w_m2(f, "icnirp2020", GP) == pytest.approx((300 / f ** 0.7) ** 2 / 376.730, rel=1e-5)
-        assert rf_exposure.reference_level_w_m2(f, "icnirp2020", OCC) == pytest.approx((660 / f ** 0.7) ** 2 / 376.730, rel=1e-5)
+        assert (rf_exposure.reference_level_w_m2(f, "icnirp2020", GP)
+                == pytest.approx((300 / f ** 0.7) ** 2 / 376.730, rel=1e-5))
+        assert (rf_exposure.reference_level_w_m2(f, "icnirp2020", OCC)
+                == pytest.approx((660 / f ** 0.7) ** 2 / 376.730, rel=1e-5))
     # Continuity with the >30 MHz rows (2 and 10 W/m^2) within 3 %: a check on the exponent.
     assert rf_exposure.reference_level_w_m2(30.0, "icnirp2020", GP) == pytest.approx(2.0, rel=0.03)
     assert rf_exposure.reference_level_w_m2(30.0, "icnirp2020", OCC) == pytest.approx(10.0, rel=0.03)

@@ -333,7 +333,8 @@ def test_candidates_and_what_they_add_are_drawn_apart():
 
     sites = SITES[:2] + [("Osterby Farm pump", PUMP, "node"), ("Millbrook Tank", TANK, "node"),
                          ("Wendle Reservoir", (-30.0, -19.845), "node")]
-    links = [("Cairnfell Beacon", "Osterby Farm pump", 4.0, None), ("Tollan Down mast", "Osterby Farm pump", 15.0, None),
+    links = [("Cairnfell Beacon", "Osterby Farm pump", 4.0, None),
+             ("Tollan Down mast", "Osterby Farm pump", 15.0, None),
              ("Cairnfell Beacon", "Millbrook Tank", 18.0, None), ("Tollan Down mast", "Millbrook Tank", 12.0, None),
              ("Cairnfell Beacon", "Wendle Reservoir", -3.0, None), ("Tollan Down mast", "Wendle Reservoir", -1.0, None)]
     report = network_report(sites, links)

@@ -258,7 +258,8 @@ def network_report():
          "ground_m": 300.0},
     ] + [{"name": name, "lat_deg": -29.9 + 0.01 * k, "lon_deg": -19.85, "mast_m": 2, "role": "node",
           "ground_m": 200.0} for k, name in enumerate(
-              ["Osterby Farm pump", "Millbrook Tank", "Wendle Reservoir", "Quarry Gate sensor", "Saltmarsh Lane trough"])]
+              ["Osterby Farm pump", "Millbrook Tank", "Wendle Reservoir", "Quarry Gate sensor",
+               "Saltmarsh Lane trough"])]
     links = [
         link("Cairnfell Beacon", "Osterby Farm pump", 14.0),
         link("Cairnfell Beacon", "Millbrook Tank", 3.0, fresnel_clear=False, worst_fresnel_ratio=0.2),

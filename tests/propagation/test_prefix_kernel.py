@@ -86,12 +86,14 @@ def test_cache_key_follows_the_terms(monkeypatch):
     from profiler.propagation import prefix_kernel
 
     before = prefix_kernel._fingerprint()
-    monkeypatch.setattr(diffraction_engine, "slope_term", lambda hc_m, h_end_m, distance_km: (hc_m + h_end_m) / distance_km)
+    monkeypatch.setattr(diffraction_engine, "slope_term",
+                        lambda hc_m, h_end_m, distance_km: (hc_m + h_end_m) / distance_km)
     assert prefix_kernel._fingerprint() != before
 
 
 def test_numba_is_not_imported_by_the_package_or_the_link_command():
-    code = ("import sys, profiler, profiler.cli, profiler.products.link, profiler.products.coverage.map, profiler.cli.coverage; "
+    code = ("import sys, profiler, profiler.cli, profiler.products.link, profiler.products.coverage.map, "
+            "profiler.cli.coverage; "
             "print('numba' in sys.modules)")
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True).stdout
     assert out.strip() == "False"

@@ -159,7 +159,8 @@ def _gateways(site, mast_m, name, sites):
 
 
 def _check_numbers(radius_km, resolution_m, node_mast_m):
-    for label, value, low, high in (("--radius-km", radius_km, 0.0, 200.0), ("--node-mast-m", node_mast_m, 0.0, 1000.0)):
+    for label, value, low, high in (("--radius-km", radius_km, 0.0, 200.0),
+                                    ("--node-mast-m", node_mast_m, 0.0, 1000.0)):
         if not (isinstance(value, (int, float)) and math.isfinite(value) and low <= value <= high) or \
                 (label == "--radius-km" and value <= 0):
             raise ProfilerError(f"{label} {value} is out of range; give a number from {low:g} to {high:g}")
@@ -254,7 +255,8 @@ def _settings(dem, band, frequency_mhz, k_factor, clearance_ratio, fill_voids, r
 
     radio = (radio or RadioSettings()).validate()
     if radio.gateway != "a":
-        raise ProfilerError("in a coverage map the site is the gateway (end A); leave RadioSettings(gateway=...) at 'a'")
+        raise ProfilerError("in a coverage map the site is the gateway (end A); "
+                            "leave RadioSettings(gateway=...) at 'a'")
     f_mhz, band_name = resolve_frequency_mhz(frequency_mhz, band)
     dem_paths = tuple(str(p) for p in (dem if isinstance(dem, (list, tuple)) else [dem]))
     if not dem_paths:

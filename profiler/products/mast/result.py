@@ -120,7 +120,8 @@ def infeasible_outcome(pb, grid, clearance_ok, name_c, clearance_req, ratios, x_
         best = pb.state(pb.upper)
         best_ratio = best["worst_ratio"] if name_c == "clearance" else best["worst_ratio_low_k"]
         need = round_up_mm(clearance_req[name_c][0])
-        need_text = f"{up_text(need)} m at {solve.upper()}" if solve != "both" else f"{up_text(need)} m added at both ends"
+        need_text = (f"{up_text(need)} m at {solve.upper()}" if solve != "both"
+                     else f"{up_text(need)} m added at both ends")
         what = (f"clearance {r_need:g} F1 at k = {k_need:.4g} would need {need_text}; best achievable worst "
                 f"clearance {best_ratio:.2f} F1")
     else:

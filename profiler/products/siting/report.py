@@ -37,8 +37,8 @@ from ...io.exports import geojson_position, geojson_positions, split_at_antimeri
 from ...io.report import format_cell, inert_text
 from .setcover import hearing_matrix, solve_siting
 
-__all__ = ["SCHEMA", "SitingResult", "MarginMatrix", "margin_matrix", "site_costs", "siting_from_network", "siting_report",
-           "siting_csv_text", "siting_geojson_dict", "siting_geojson_text", "siting_kml_text"]
+__all__ = ["SCHEMA", "SitingResult", "MarginMatrix", "margin_matrix", "site_costs", "siting_from_network",
+           "siting_report", "siting_csv_text", "siting_geojson_dict", "siting_geojson_text", "siting_kml_text"]
 
 SCHEMA = "profiler.siting/1"
 
@@ -178,7 +178,8 @@ def site_costs(network_report: dict, matrix: MarginMatrix, costs: dict | None = 
         except (TypeError, ValueError):
             out[k] = math.nan
         if not (math.isfinite(out[k]) and out[k] > 0):
-            raise ProfilerError(f"candidate site {name!r}: cost {value!r} is not a positive number; fix the cost column")
+            raise ProfilerError(f"candidate site {name!r}: cost {value!r} is not a positive number; "
+                                "fix the cost column")
     return out
 
 

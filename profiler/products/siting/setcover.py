@@ -185,7 +185,8 @@ def _check_inputs(hears, cost, fixed, redundancy, max_gateways, margin_db, time_
     if c.shape != (m,):
         raise ProfilerError(f"siting: {c.size} costs given for {m} gateway sites")
     if not np.all(np.isfinite(c[~fixed_mask]) & (c[~fixed_mask] > 0)):
-        raise ProfilerError("every candidate site's cost must be a positive number (use a small one for a nearly free site)")
+        raise ProfilerError("every candidate site's cost must be a positive number "
+                            "(use a small one for a nearly free site)")
     c = np.where(fixed_mask, 0.0, c)
     if max_gateways is not None:
         max_gateways = _whole(max_gateways, "--max-gateways")
