@@ -153,9 +153,8 @@ def geodesic_path(lat_a_deg: float, lon_a_deg: float, lat_b_deg: float, lon_b_de
 
     References
     ----------
-    Karney (2013), the inverse and direct geodesic problems; the points
-    come from the link engine's one sampler (:func:`geodesic_anchors`,
-    :func:`geodesic_positions`) with the direct problem at every point.
+    Karney (2013), the inverse geodesic problem and equally spaced points
+    of one geodesic line (pyproj ``Geod.inv_intermediate``).
     """
     lat_a, lon_a = validate_lat_lon(lat_a_deg, lon_a_deg, "site A")
     lat_b, lon_b = validate_lat_lon(lat_b_deg, lon_b_deg, "site B")
@@ -164,11 +163,14 @@ def geodesic_path(lat_a_deg: float, lon_a_deg: float, lat_b_deg: float, lon_b_de
     if length <= 0.0:
         raise ProfilerError("site A and site B are the same point; give two different sites")
     n = sample_count(length, step_m)  # refused here, before any array is allocated
+    # One geodesic line sampled at equal spacing (every point exact): the reference form of the
+    # anchored batch sampler below, for one path (line vertices, checks); twice as fast as the direct
+    # problem at every point.
+    line = geod.inv_intermediate(lon_a, lat_a, lon_b, lat_b, npts=n, initial_idx=0, terminus_idx=0,
+                                 return_back_azimuth=True)
+    lons = (np.asarray(line.lons, dtype=float) + 180.0) % 360.0 - 180.0
+    lats = np.asarray(line.lats, dtype=float)
     distance = np.linspace(0.0, length, n)
-    one = [np.array([v], dtype=float) for v in (lat_a, lon_a, az_ab, length)]     # a batch of one link
-    anchors = geodesic_anchors(geod, *one, np.array([True]), exact=True)    # every point exact
-    lons, lats = geodesic_positions(geod, *one[:3], anchors, np.zeros(n, dtype=np.int64), distance)
-    lons[-1], lats[-1] = (lon_b + 180.0) % 360.0 - 180.0, lat_b      # the far end exactly at B, as given
     return GeodesicPath(distance_m=distance, lat_deg=lats, lon_deg=lons, length_m=float(length),
                         azimuth_a_to_b_deg=float(az_ab) % 360.0,
                         azimuth_b_to_a_deg=float(az_back) % 360.0)
@@ -184,12 +186,12 @@ MAX_ANCHORED_M = 1_000_000.0
 """Links longer than this (they may pass near a pole) take the direct problem at every sample [m]."""
 
 
-def geodesic_anchors(geod, lat_a, lon_a, az_ab, length, ok, exact: bool = False):
+def geodesic_anchors(geod, lat_a, lon_a, az_ab, length, ok):
     """Exact points of the direct geodesic problem every :data:`ANCHOR_M` along each link.
 
-    The first half of the one geodesic sampler (:func:`geodesic_positions`
-    the second), used by :func:`geodesic_path` and by the link engine's
-    :func:`profiler.terrain.sampling.sample_links`.
+    With :func:`geodesic_positions`, the geodesic sampling of many links at
+    once that the link engine's :func:`profiler.terrain.sampling.sample_links`
+    uses; :func:`geodesic_path` is the exact form for one path.
 
     Parameters
     ----------
@@ -203,9 +205,6 @@ def geodesic_anchors(geod, lat_a, lon_a, az_ab, length, ok, exact: bool = False)
         Geodesic length of each link [m].
     ok : numpy.ndarray of bool
         Links to sample (others get no anchors).
-    exact : bool, default False
-        Flag: every sample of every link by the direct problem (the
-        ``polar`` path), not interpolated between anchors.
 
     Returns
     -------
@@ -234,7 +233,7 @@ def geodesic_anchors(geod, lat_a, lon_a, az_ab, length, ok, exact: bool = False)
     has = n_anchor > 0
     if has.any():
         reach[has] = np.maximum.reduceat(np.abs(a_lat), a_start[has])
-    polar = ok & (exact | (reach > POLAR_LAT_DEG) | (length > MAX_ANCHORED_M))
+    polar = ok & ((reach > POLAR_LAT_DEG) | (length > MAX_ANCHORED_M))
     return {"lon": unwrapped, "lat": a_lat, "start": a_start, "count": n_anchor, "spacing": spacing,
             "rows": a_rows, "polar": polar}
 
