@@ -19,7 +19,6 @@ from .propagation.geometry import parse_k_factor
 from .terrain.profile import profile_from_dem, read_profile_csv
 
 
-
 def link(site_a=None, site_b=None, *, dem=None, profile_csv=None, mast_a_m: float = 10.0,
          mast_b_m: float = 2.0, name_a: str = "A", name_b: str = "B", k_factor="4/3",
          frequency_mhz: float | None = None, band: str | None = None, step_m: float | None = None,

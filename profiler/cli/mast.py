@@ -191,8 +191,8 @@ def mast_summary_text(report: dict) -> str:
             if previous is not None and row["margin_db"] < previous["margin_db"] - 1e-6 and \
                     _rate(row) != _rate(previous):
                 change = "  <- lower margin: faster data rate recommended"
-            lines.append(f"                {_up(row['mast_a_m']):>10}  {_up(row['mast_b_m']):>10}  {_f(row['worst_ratio'])}"
-                         f"  {_f(row['worst_ratio_low_k'])}  {row['diffraction_db']:10.1f}  {row['margin_db']:11.1f}"
+            lines.append(f"                {_up(row['mast_a_m']):>10}  {_up(row['mast_b_m']):>10}"
+                         f"  {_f(row['worst_ratio'])}  {_f(row['worst_ratio_low_k'])}  {row['diffraction_db']:10.1f}  {row['margin_db']:11.1f}"
                          f"  {rate}{change}")
             previous = row
     for msg in report["notes"] + report["warnings"]:
