@@ -192,8 +192,8 @@ def mast_summary_text(report: dict) -> str:
                     _rate(row) != _rate(previous):
                 change = "  <- lower margin: faster data rate recommended"
             lines.append(f"                {_up(row['mast_a_m']):>10}  {_up(row['mast_b_m']):>10}"
-                         f"  {_f(row['worst_ratio'])}  {_f(row['worst_ratio_low_k'])}  {row['diffraction_db']:10.1f}  {row['margin_db']:11.1f}"
-                         f"  {rate}{change}")
+                         f"  {_f(row['worst_ratio'])}  {_f(row['worst_ratio_low_k'])}"
+                         f"  {row['diffraction_db']:10.1f}  {row['margin_db']:11.1f}  {rate}{change}")
             previous = row
     for msg in report["notes"] + report["warnings"]:
         lines.append(f"  note          {msg}")
