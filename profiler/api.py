@@ -18,7 +18,47 @@ from .products.link import LinkResult, analyze_link
 from .propagation.geometry import parse_k_factor
 from .terrain.profile import profile_from_dem, read_profile_csv
 
+#: One wording per shared parameter of the functions' docstrings (``<<name>>`` in a docstring; numpydoc text).
+PARAMETERS = {
+    "site_a": "site_a, site_b : tuple of float, optional\n"
+              "        ``(lat_deg, lon_deg)`` of each site [deg] (WGS84).  Required with ``dem``.",
+    "dem": "dem : str, Path or list of them\n        Elevation files or folders of tiles.",
+    "profile_csv": "profile_csv : str or Path, optional\n"
+                   "        A surveyed profile (``distance_m,elevation_m``) instead of ``dem``; A is its first row.",
+    "name_a": "name_a, name_b : str\n        Site names (at most :data:`profiler.limits.MAX_NAME_CHARS` characters).",
+    "k_factor": "k_factor : float or str\n"
+                "        Effective-Earth-radius factor [-], a number or a fraction such as ``\"4/3\"``.",
+    "frequency_mhz": "frequency_mhz : float, optional\n"
+                     "        Working frequency [MHz]; otherwise the mean channel frequency of ``band``.",
+    "band": "band : str, optional\n        Regional channel plan (default EU868; see ``profiler bands``).",
+    "step_m": "step_m : float, optional\n"
+              "        Largest spacing of profile samples [m]; default the finest DEM pixel along each path.",
+    "clearance_ratio": "clearance_ratio : float\n"
+                       "        Required clearance as a fraction of the first Fresnel radius [-].",
+    "fill_voids": "fill_voids : bool\n"
+                  "        Interpolate across elevation voids; otherwise a path over a void is refused (a network\n"
+                  "        link fails, a coverage pixel is nodata).",
+    "sheet_info": "sheet_info : profiler.io.sheetinfo.SheetInfo, optional\n"
+                  "        Title-block fields (project, document, ...) for the report's ``sheet`` block.",
+    "digests": "digests : profiler.terrain.digests.FileDigests, optional\n"
+               "        Provenance digests of the elevation files, possibly already started.",
+    "workers": "workers : int, optional\n"
+               "        Run the chunks of work on a local Dask cluster of this many worker processes.",
+    "scheduler": "scheduler : str, optional\n"
+                 "        Run them on the Dask cluster at this address (``tcp://HOST:PORT``); the elevation files\n"
+                 "        must be visible to every worker at the same path.",
+    "progress": "progress : bool, optional\n        Progress bar on standard error (default: when it is a terminal).",
+}
 
+
+def shared_parameters(function):
+    """Decorator: write the :data:`PARAMETERS` entries into ``function.__doc__`` at their ``<<name>>``."""
+    for name, text in PARAMETERS.items():
+        function.__doc__ = function.__doc__.replace(f"<<{name}>>", text)
+    return function
+
+
+@shared_parameters
 def link(site_a=None, site_b=None, *, dem=None, profile_csv=None, mast_a_m: float = 10.0,
          mast_b_m: float = 2.0, name_a: str = "A", name_b: str = "B", k_factor="4/3",
          frequency_mhz: float | None = None, band: str | None = None, step_m: float | None = None,
@@ -28,37 +68,25 @@ def link(site_a=None, site_b=None, *, dem=None, profile_csv=None, mast_a_m: floa
 
     Parameters
     ----------
-    site_a, site_b : tuple of float, optional
-        ``(lat_deg, lon_deg)`` of each site [deg] (WGS84).  Required with ``dem``.
-    dem : str, Path or list of them
-        Elevation files or folders of tiles.
-    profile_csv : str or Path, optional
-        A surveyed profile (``distance_m,elevation_m``) instead of ``dem``; A is its first row.
+    <<site_a>>
+    <<dem>>
+    <<profile_csv>>
     mast_a_m, mast_b_m : float
         Antenna heights above ground at A and B [m].
-    name_a, name_b : str
-        Site names (at most :data:`profiler.limits.MAX_NAME_CHARS` characters).
-    k_factor : float or str
-        Effective-Earth-radius factor [-], a number or a fraction such as ``"4/3"``.
-    frequency_mhz : float, optional
-        Working frequency [MHz]; otherwise the mean channel frequency of ``band``.
-    band : str, optional
-        Regional channel plan (default EU868; see ``profiler bands``).
-    step_m : float, optional
-        Largest spacing of profile samples [m]; default the finest DEM pixel along the path.
-    clearance_ratio : float
-        Required clearance as a fraction of the first Fresnel radius [-].
-    fill_voids : bool
-        Interpolate across elevation voids instead of refusing.
+    <<name_a>>
+    <<k_factor>>
+    <<frequency_mhz>>
+    <<band>>
+    <<step_m>>
+    <<clearance_ratio>>
+    <<fill_voids>>
     radio : RadioSettings, optional
         Link-budget and LoRa settings (powers, gains, losses, fade margin, SF, diffraction method, which
         end is the gateway).
     date : datetime.date, optional
         Date of the sheet and of the magnetic declination (default today).
-    sheet_info : profiler.io.sheetinfo.SheetInfo, optional
-        Title-block fields (project, document, ...) for the report's ``sheet`` block.
-    digests : profiler.terrain.digests.FileDigests, optional
-        Provenance digests of the elevation files, possibly already started.
+    <<sheet_info>>
+    <<digests>>
 
     Returns
     -------
@@ -80,6 +108,7 @@ def link(site_a=None, site_b=None, *, dem=None, profile_csv=None, mast_a_m: floa
                         date=date, sheet_info=sheet_info)
 
 
+@shared_parameters
 def mast(site_a=None, site_b=None, *, dem=None, profile_csv=None, mast_a_m: float = 10.0,
          mast_b_m: float = 2.0, name_a: str = "A", name_b: str = "B", k_factor="4/3",
          frequency_mhz: float | None = None, band: str | None = None, step_m: float | None = None,
@@ -95,31 +124,23 @@ def mast(site_a=None, site_b=None, *, dem=None, profile_csv=None, mast_a_m: floa
 
     Parameters
     ----------
-    site_a, site_b : tuple of float, optional
-        ``(lat_deg, lon_deg)`` of each site [deg] (WGS84).  Required with ``dem``.
-    dem : str, Path or list of them
-        Elevation files or folders of tiles.
-    profile_csv : str or Path, optional
-        A surveyed profile (``distance_m,elevation_m``) instead of ``dem``; A is its first row.
+    <<site_a>>
+    <<dem>>
+    <<profile_csv>>
     mast_a_m, mast_b_m : float
         Antenna heights above ground at A and B [m]: the fixed height of the end not solved, and the
         first row of the table.
-    name_a, name_b : str
-        Site names (at most :data:`profiler.limits.MAX_NAME_CHARS` characters).
+    <<name_a>>
     k_factor : float or str
         Median effective-Earth-radius factor [-], a number or a fraction such as ``"4/3"`` (also the
         factor of the margin).
-    frequency_mhz : float, optional
-        Working frequency [MHz]; otherwise the mean channel frequency of ``band``.
-    band : str, optional
-        Regional channel plan (default EU868; see ``profiler bands``).
-    step_m : float, optional
-        Largest spacing of profile samples [m]; default the finest DEM pixel along the path.
+    <<frequency_mhz>>
+    <<band>>
+    <<step_m>>
     clearance_ratio : float or None
         Required clearance at ``k_factor`` as a fraction of the first Fresnel radius [-]; None drops the
         criterion (the command's ``--no-clearance`` drops it and the low-k one).
-    fill_voids : bool
-        Interpolate across elevation voids instead of refusing.
+    <<fill_voids>>
     low_k_factor : float or str
         Low (sub-refractive) effective-Earth-radius factor [-] of the second clearance criterion.
     low_k_clearance_ratio : float or None
@@ -138,10 +159,8 @@ def mast(site_a=None, site_b=None, *, dem=None, profile_csv=None, mast_a_m: floa
         Link-budget and LoRa settings, as for :func:`link`.
     date : datetime.date, optional
         Date of the sheet (default today).
-    sheet_info : profiler.io.sheetinfo.SheetInfo, optional
-        Title-block fields (project, document, ...) for the report's ``sheet`` block.
-    digests : profiler.terrain.digests.FileDigests, optional
-        Provenance digests of the elevation files, possibly already started.
+    <<sheet_info>>
+    <<digests>>
 
     Returns
     -------
@@ -169,26 +188,21 @@ def mast(site_a=None, site_b=None, *, dem=None, profile_csv=None, mast_a_m: floa
     return dataclasses.replace(result, sheet=sheet_block(sheet_info, date or datetime.date.today()))
 
 
+@shared_parameters
 def load_profile(site_a=None, site_b=None, *, dem=None, profile_csv=None, step_m: float | None = None,
                  fill_voids: bool = False, name_a: str = "A", name_b: str = "B", digests=None):
     """The terrain profile from a surveyed CSV file or from elevation data along the geodesic A-B.
 
     Parameters
     ----------
-    site_a, site_b : tuple of float, optional
-        ``(lat_deg, lon_deg)`` of each site [deg] (WGS84).  Required with ``dem``.
-    dem : str, Path or list of them
-        Elevation files or folders of tiles.
-    profile_csv : str or Path, optional
-        A surveyed profile (``distance_m,elevation_m``) instead of ``dem``.
-    step_m : float, optional
-        Largest spacing of profile samples [m]; default the finest DEM pixel along the path.
-    fill_voids : bool
-        Interpolate across elevation voids instead of refusing.
+    <<site_a>>
+    <<dem>>
+    <<profile_csv>>
+    <<step_m>>
+    <<fill_voids>>
     name_a, name_b : str
         Site names, for the profile's end labels.
-    digests : profiler.terrain.digests.FileDigests, optional
-        Provenance digests of the elevation files, possibly already started.
+    <<digests>>
 
     Returns
     -------
@@ -213,6 +227,7 @@ def load_profile(site_a=None, site_b=None, *, dem=None, profile_csv=None, step_m
                                 name_b=f"site B ({name_b})" if name_b != "B" else "site B")
 
 
+@shared_parameters
 def network(sites, *, dem, pairs=None, max_distance_km: float = 50.0, k_factor="4/3",
             frequency_mhz: float | None = None, band: str | None = None, step_m: float | None = None,
             clearance_ratio: float = 0.6, fill_voids: bool = False, radio: RadioSettings | None = None,
@@ -227,34 +242,23 @@ def network(sites, *, dem, pairs=None, max_distance_km: float = 50.0, k_factor="
     sites : str, Path or profiler.products.sites.SiteTable
         The site list, a CSV file ``name,lat_deg,lon_deg,mast_m,role`` (role gateway, node or candidate)
         with optional per-site columns (see :func:`profiler.products.sites.read_sites_csv`).
-    dem : str, Path or list of them
-        Elevation files or folders of tiles.
+    <<dem>>
     pairs : str or Path, optional
         Exactly these links (a ``gateway,node`` CSV file) instead of every pair within
         ``max_distance_km``.
     max_distance_km : float
         Longest gateway-node link considered [km].
-    k_factor : float or str
-        Effective-Earth-radius factor [-], a number or a fraction such as ``"4/3"``.
-    frequency_mhz : float, optional
-        Working frequency [MHz]; otherwise the mean channel frequency of ``band``.
-    band : str, optional
-        Regional channel plan (default EU868; see ``profiler bands``).
-    step_m : float, optional
-        Largest spacing of profile samples [m]; default the finest DEM pixel along each path.
-    clearance_ratio : float
-        Required clearance as a fraction of the first Fresnel radius [-].
-    fill_voids : bool
-        Interpolate across elevation voids instead of failing the link.
+    <<k_factor>>
+    <<frequency_mhz>>
+    <<band>>
+    <<step_m>>
+    <<clearance_ratio>>
+    <<fill_voids>>
     radio : RadioSettings, optional
         Link-budget and LoRa settings; the gateway is end A (``RadioSettings(gateway="a")``).
-    workers : int, optional
-        Run the chunks of links on a local Dask cluster of this many worker processes.
-    scheduler : str, optional
-        Run them on the Dask cluster at this address (``tcp://HOST:PORT``); the elevation files must be
-        visible to every worker at the same path.
-    progress : bool, optional
-        Progress bar on standard error (default: when it is a terminal).
+    <<workers>>
+    <<scheduler>>
+    <<progress>>
 
     Returns
     -------
@@ -269,6 +273,7 @@ def network(sites, *, dem, pairs=None, max_distance_km: float = 50.0, k_factor="
                     fill_voids=fill_voids, radio=radio, workers=workers, scheduler=scheduler, progress=progress)
 
 
+@shared_parameters
 def siting(sites, *, dem, redundancy: int = 1, min_margin_db: float | None = None, max_gateways: int | None = None,
            time_limit_s: float = 60.0, pairs=None, max_distance_km: float = 50.0, k_factor="4/3",
            frequency_mhz: float | None = None, band: str | None = None, step_m: float | None = None,
@@ -286,8 +291,7 @@ def siting(sites, *, dem, redundancy: int = 1, min_margin_db: float | None = Non
     sites : str, Path or profiler.products.sites.SiteTable
         The site list, as for :func:`network`; role ``candidate`` may get a gateway (optional ``cost``
         column, default 1), ``gateway`` is an existing one that is always kept, ``node`` must be heard.
-    dem : str, Path or list of them
-        Elevation files or folders of tiles.
+    <<dem>>
     redundancy : int
         Gateways that must hear each node.
     min_margin_db : float, optional
@@ -320,6 +324,7 @@ def siting(sites, *, dem, redundancy: int = 1, min_margin_db: float | None = Non
     return SitingResult(report, net)
 
 
+@shared_parameters
 def coverage(site=None, *, dem, mast_m: float | None = None, radius_km: float, name: str = "site", sites=None,
              resolution_m: float | None = None, node_mast_m: float = 1.5, k_factor="4/3",
              frequency_mhz: float | None = None, band: str | None = None, clearance_ratio: float = 0.6,
@@ -336,8 +341,7 @@ def coverage(site=None, *, dem, mast_m: float | None = None, radius_km: float, n
     ----------
     site : tuple of float, optional
         ``(lat_deg, lon_deg)`` of the gateway [deg] (WGS84), with ``mast_m``; or give ``sites``.
-    dem : str, Path or list of them
-        Elevation files or folders of tiles.
+    <<dem>>
     mast_m : float, optional
         Antenna height of the gateway ``site`` above ground [m] (required with ``site``).
     radius_km : float
@@ -351,16 +355,11 @@ def coverage(site=None, *, dem, mast_m: float | None = None, radius_km: float, n
         Output pixel size [m]; default the elevation pixel at the (first) site.
     node_mast_m : float
         Node antenna height above ground at every pixel [m].
-    k_factor : float or str
-        Effective-Earth-radius factor [-], a number or a fraction such as ``"4/3"``.
-    frequency_mhz : float, optional
-        Working frequency [MHz]; otherwise the mean channel frequency of ``band``.
-    band : str, optional
-        Regional channel plan (default EU868; see ``profiler bands``).
-    clearance_ratio : float
-        Required clearance as a fraction of the first Fresnel radius [-].
-    fill_voids : bool
-        Interpolate across elevation voids instead of leaving nodata.
+    <<k_factor>>
+    <<frequency_mhz>>
+    <<band>>
+    <<clearance_ratio>>
+    <<fill_voids>>
     radio : RadioSettings, optional
         Link-budget and LoRa settings; the site is the gateway, end A.
     workers, scheduler, progress
@@ -370,8 +369,7 @@ def coverage(site=None, *, dem, mast_m: float | None = None, radius_km: float, n
         prefix batches; the results agree to rounding.
     date : datetime.date, optional
         Date of the sheet (default today).
-    sheet_info : profiler.io.sheetinfo.SheetInfo, optional
-        Title-block fields (project, document, ...) for the report's ``sheet`` block.
+    <<sheet_info>>
     out, plot, kmz, json : str or Path, optional
         Files to write: the bands as a float32 GeoTIFF, the map sheet (.png, .pdf or .svg), a KMZ ground
         overlay, the JSON report (``"-"``: standard output).
