@@ -15,6 +15,7 @@ from .errors import ProfilerError
 from .limits import check_name
 from .lora.bands import resolve_frequency_mhz
 from .products.link import LinkResult, analyze_link
+from .products.network import CHUNK_LINKS
 from .propagation.geometry import parse_k_factor
 from .terrain.profile import profile_from_dem, read_profile_csv
 
@@ -48,6 +49,8 @@ PARAMETERS = {
                  "        Run them on the Dask cluster at this address (``tcp://HOST:PORT``); the elevation files\n"
                  "        must be visible to every worker at the same path.",
     "progress": "progress : bool, optional\n        Progress bar on standard error (default: when it is a terminal).",
+    "chunk_links": "chunk_links : int\n"
+                   "        Links per chunk: the unit of work of a worker and of the progress bar.",
 }
 
 
@@ -231,7 +234,8 @@ def load_profile(site_a=None, site_b=None, *, dem=None, profile_csv=None, step_m
 def network(sites, *, dem, pairs=None, max_distance_km: float = 50.0, k_factor="4/3",
             frequency_mhz: float | None = None, band: str | None = None, step_m: float | None = None,
             clearance_ratio: float = 0.6, fill_voids: bool = False, radio: RadioSettings | None = None,
-            workers: int | None = None, scheduler: str | None = None, progress: bool | None = None):
+            workers: int | None = None, scheduler: str | None = None, progress: bool | None = None,
+            chunk_links: int = CHUNK_LINKS):
     """Every gateway -> node link of a site list (``profiler network``).
 
     Gateways and candidate sites are end A of every link, nodes end B: the ``radio`` settings of end A
@@ -259,6 +263,7 @@ def network(sites, *, dem, pairs=None, max_distance_km: float = 50.0, k_factor="
     <<workers>>
     <<scheduler>>
     <<progress>>
+    <<chunk_links>>
 
     Returns
     -------
@@ -270,7 +275,8 @@ def network(sites, *, dem, pairs=None, max_distance_km: float = 50.0, k_factor="
 
     return _network(sites, dem=dem, pairs=pairs, max_distance_km=max_distance_km, band=band,
                     frequency_mhz=frequency_mhz, k_factor=k_factor, clearance_ratio=clearance_ratio, step_m=step_m,
-                    fill_voids=fill_voids, radio=radio, workers=workers, scheduler=scheduler, progress=progress)
+                    fill_voids=fill_voids, radio=radio, workers=workers, scheduler=scheduler, progress=progress,
+                    chunk_links=chunk_links)
 
 
 @shared_parameters
@@ -278,7 +284,8 @@ def siting(sites, *, dem, redundancy: int = 1, min_margin_db: float | None = Non
            time_limit_s: float = 60.0, pairs=None, max_distance_km: float = 50.0, k_factor="4/3",
            frequency_mhz: float | None = None, band: str | None = None, step_m: float | None = None,
            clearance_ratio: float = 0.6, fill_voids: bool = False, radio: RadioSettings | None = None,
-           workers: int | None = None, scheduler: str | None = None, progress: bool | None = None):
+           workers: int | None = None, scheduler: str | None = None, progress: bool | None = None,
+           chunk_links: int = CHUNK_LINKS):
     """The cheapest set of candidate gateway sites that hears every node (``profiler siting``).
 
     Runs :func:`network` from every ``gateway`` and ``candidate`` site to every node, then solves the
@@ -303,8 +310,8 @@ def siting(sites, *, dem, redundancy: int = 1, min_margin_db: float | None = Non
     pairs, max_distance_km, k_factor, frequency_mhz, band, step_m, clearance_ratio, fill_voids, radio
         The links, as for :func:`network` (``max_distance_km`` [km], ``frequency_mhz`` [MHz],
         ``step_m`` [m], ``k_factor`` and ``clearance_ratio`` [-]).
-    workers, scheduler, progress
-        Where the links run, as for :func:`network`.
+    workers, scheduler, progress, chunk_links
+        Where and in which chunks the links run, as for :func:`network`.
 
     Returns
     -------
@@ -316,8 +323,8 @@ def siting(sites, *, dem, redundancy: int = 1, min_margin_db: float | None = Non
 
     net = network(sites, dem=dem, pairs=pairs, max_distance_km=max_distance_km, band=band,
                   frequency_mhz=frequency_mhz, k_factor=k_factor, clearance_ratio=clearance_ratio, step_m=step_m,
-                  fill_voids=fill_voids, radio=radio, workers=workers, scheduler=scheduler,
-                  progress=progress).to_dict()
+                  fill_voids=fill_voids, radio=radio, workers=workers, scheduler=scheduler, progress=progress,
+                  chunk_links=chunk_links).to_dict()
     threshold = (radio or RadioSettings()).fade_margin_db if min_margin_db is None else float(min_margin_db)
     report = siting_from_network(net, min_margin_db=threshold, redundancy=redundancy, max_gateways=max_gateways,
                                  time_limit_s=time_limit_s)
