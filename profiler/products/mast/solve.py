@@ -1,6 +1,7 @@
 """Lowest antenna mast that meets Fresnel-clearance and link-margin criteria.
 
-:func:`solve_mast` is the one Python call behind ``profiler mast``.  It
+:func:`solve_mast` is the computation behind ``profiler mast`` and
+:func:`profiler.mast` (which load the profile and add the sheet block).  It
 answers "how high must the mast be?" for site A, site B, or both ends raised
 by the same amount, under any combination of three criteria that must all
 hold:
