@@ -205,7 +205,8 @@ def solve_mast(profile: TerrainProfile, *, frequency_mhz: float, solve: str = "b
         binding = feasible_binding(pb, t_sol, t_clear, name_c, clearance_req, min_margin_db)
     else:
         ratios = {"clearance": (ratio, pb.k), "clearance_low_k": (ratio_low, pb.k_low)}
-        binding, best, message = infeasible_outcome(pb, grid, clearance_ok, name_c, clearance_req, ratios, x_db, max_mast_m)
+        binding, best, message = infeasible_outcome(pb, grid, clearance_ok, name_c, clearance_req, ratios, x_db,
+                                                    max_mast_m)
 
     split = _split_row(pb, clearance_req, max_mast_m, mast_step_m, x_db) if solve == "both" else None
     warnings = []
