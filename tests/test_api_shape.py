@@ -177,3 +177,19 @@ def test_renamed_keyword_warns_and_still_works():
     with pytest.raises(TypeError, match="give only 'clearance_ratio'"):
         analyze_link(prof, frequency_mhz=868.1, clearance_ratio=0.3, clearance_ratio_required=0.3)
     assert "clearance_ratio_required" not in inspect.signature(analyze_link).parameters
+
+
+def test_renamed_site_keywords_warn_and_still_work():
+    from profiler.products.link import analyze_link
+    from profiler.products.mast.solve import solve_mast
+
+    prof = profiler.load_profile(GATEWAY, PUMP, dem=[DEM_PATH])
+    new = analyze_link(prof, frequency_mhz=868.1, site_a=GATEWAY, site_b=PUMP, date=DATE).to_dict()
+    with pytest.warns(DeprecationWarning, match=r"site_a_lat_lon=.*use site_a="):
+        old = analyze_link(prof, frequency_mhz=868.1, site_a_lat_lon=GATEWAY, site_b=PUMP, date=DATE).to_dict()
+    assert old == new and new["site_a"]["lat_deg"] == GATEWAY[0]
+    assert new["declination_a_deg"] is not None              # the bearings need both sites
+    new = solve_mast(prof, frequency_mhz=868.1, site_a=GATEWAY, site_b=PUMP).to_dict()
+    with pytest.warns(DeprecationWarning, match=r"site_b_lat_lon=.*use site_b="):
+        old = solve_mast(prof, frequency_mhz=868.1, site_a=GATEWAY, site_b_lat_lon=PUMP).to_dict()
+    assert old == new and new["site_b"]["lon_deg"] == PUMP[1]

@@ -129,12 +129,14 @@ def _check_mast(value: float, which: str) -> float:
 
 
 @renamed_keyword("clearance_ratio_required", "clearance_ratio", since="0.2")
+@renamed_keyword("site_a_lat_lon", "site_a", since="0.2")
+@renamed_keyword("site_b_lat_lon", "site_b", since="0.2")
 def analyze_link(profile: TerrainProfile, *, mast_a_m: float = 10.0, mast_b_m: float = 2.0,
                  frequency_mhz: float, band: str | None = None, k_factor: float = 4.0 / 3.0,
                  clearance_ratio: float = 0.6, radio: RadioSettings | None = None,
                  name_a: str = "A", name_b: str = "B",
-                 site_a_lat_lon: tuple[float, float] | None = None,
-                 site_b_lat_lon: tuple[float, float] | None = None,
+                 site_a: tuple[float, float] | None = None,
+                 site_b: tuple[float, float] | None = None,
                  date: _dt.date | None = None, sheet_info=None) -> LinkResult:
     """Analyse a point-to-point link over a terrain profile.
 
@@ -159,8 +161,10 @@ def analyze_link(profile: TerrainProfile, *, mast_a_m: float = 10.0, mast_b_m: f
         10 dB fade margin, LoRa 125 kHz, NF 6 dB, 12-byte payload).
     name_a, name_b : str
         Site names.
-    site_a_lat_lon, site_b_lat_lon : tuple, optional
-        Site coordinates [deg] for the report (None for a surveyed profile).
+    site_a, site_b : tuple of float, optional
+        ``(lat_deg, lon_deg)`` of each site [deg] for the report (None for a surveyed profile).  The
+        former keywords ``site_a_lat_lon``, ``site_b_lat_lon`` still work until the next release, with a
+        ``DeprecationWarning``.
     date : datetime.date, optional
         Date of the sheet and of the magnetic declination (default today).
     sheet_info : profiler.io.sheetinfo.SheetInfo, optional
@@ -215,8 +219,8 @@ def analyze_link(profile: TerrainProfile, *, mast_a_m: float = 10.0, mast_b_m: f
     date = date or _dt.date.today()
     ends = end_blocks(rr, radio.gateway, plan)
     return LinkResult(
-        site_a=_site(name_a, site_a_lat_lon, terrain[0], mast_a),
-        site_b=_site(name_b, site_b_lat_lon, terrain[-1], mast_b),
+        site_a=_site(name_a, site_a, terrain[0], mast_a),
+        site_b=_site(name_b, site_b, terrain[-1], mast_b),
         frequency_mhz=float(frequency_mhz), band=band, wavelength_m=lam, k_factor=k,
         effective_radius_m=ae, distance_m=total,
         azimuth_a_to_b_deg=profile.azimuth_a_to_b_deg, azimuth_b_to_a_deg=profile.azimuth_b_to_a_deg,
@@ -229,7 +233,7 @@ def analyze_link(profile: TerrainProfile, *, mast_a_m: float = 10.0, mast_b_m: f
         loss_db=loss, budget=rr["budget"], lora=rr["lora"], budget_downlink=rr["budget_downlink"],
         compliance=rr["compliance"], gateway=radio.gateway, slant_distance_m=rr["slant_distance_m"],
         radio_ends=ends, rf_exposure=exposure_blocks(ends),
-        bearings=magnetic_bearings(site_a_lat_lon, site_b_lat_lon, profile, h_a, h_b, date),
+        bearings=magnetic_bearings(site_a, site_b, profile, h_a, h_b, date),
         sheet=sheet_block(sheet_info, date),
         dem={"kind": profile.kind, "sources": list(profile.sources), "voids_filled": int(profile.voids_filled),
              "void_stretches_m": [list(map(float, x)) for x in profile.void_stretches_m]},
