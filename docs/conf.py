@@ -26,7 +26,7 @@ import profiler  # noqa: E402
 #: defined, and one listed in ``API_OPTIONAL`` that does not exist at all is left out.
 API_FUNCTIONS = ["link", "mast", "network", "coverage", "siting", "load_profile",
                  "analyze_link", "profile_from_dem", "read_profile_csv"]
-API_OPTIONAL = {"mast", "MastResult"}
+API_OPTIONAL: set[str] = set()
 #: Public classes (the result objects keep these names), found by name in the package.
 API_CLASSES = ["LinkResult", "NetworkResult", "CoverageResult", "SitingResult", "MastResult",
                "RadioSettings", "ElevationModel", "TerrainProfile", "SheetInfo", "ProfilerError"]

@@ -11,7 +11,8 @@ The Python API mirrors the command line::
     result = analyze_link(prof, mast_a_m=10, mast_b_m=2, frequency_mhz=868.3125)
     result.to_dict()   # the JSON report
 
-or in one call: :func:`profiler.link`.
+or in one call: :func:`profiler.link` (and :func:`profiler.mast`, :func:`profiler.network`,
+:func:`profiler.coverage`, :func:`profiler.siting`: see :mod:`profiler.api`).
 """
 
 from ._deprecated import install as _install_deprecated
@@ -19,14 +20,16 @@ from .about import CAUTION, __version__  # noqa: F401 (the package's version, re
 
 _install_deprecated()
 
+#: The functions of :mod:`profiler.api`, one per command (and the profile step), as ``profiler.NAME``.
+API_FUNCTIONS = ("link", "mast", "network", "coverage", "siting", "load_profile")
+
 
 def __getattr__(name):
     # Lazy public API so that `import profiler` (and the CLI start-up) stays fast.
-    if name in ("analyze_link", "LinkResult", "RadioSettings", "link", "network", "siting",
-                "coverage"):
-        if name in ("link", "network", "siting", "coverage"):
-            from . import api
-            return getattr(api, name)
+    if name in API_FUNCTIONS:
+        from . import api
+        return getattr(api, name)
+    if name in ("analyze_link", "LinkResult", "RadioSettings"):
         if name == "RadioSettings":
             from .engine.radio import RadioSettings
             return RadioSettings
@@ -45,4 +48,5 @@ def __getattr__(name):
 
 
 __all__ = ["CAUTION", "ElevationModel", "LinkResult", "ProfilerError", "RadioSettings", "TerrainProfile",
-           "analyze_link", "coverage", "link", "network", "profile_from_dem", "read_profile_csv", "siting"]
+           "analyze_link", "coverage", "link", "load_profile", "mast", "network", "profile_from_dem",
+           "read_profile_csv", "siting"]

@@ -1,4 +1,12 @@
-"""One call from sites and elevation data to a :class:`~profiler.products.link.LinkResult`."""
+"""The Python API: one call per command, each returning a result object whose ``to_dict()`` is the JSON report.
+
+:func:`link`, :func:`mast`, :func:`network`, :func:`coverage` and :func:`siting` take the sites as
+``(lat_deg, lon_deg)`` tuples (a site list as a CSV path) and the elevation data as ``dem``; every
+option is a keyword with the same name for the same quantity in every function (``mast_a_m``,
+``k_factor``, ``clearance_ratio``, ``frequency_mhz``, ``band``, ``step_m``, ``fill_voids``, ``radio``,
+``date``, ``sheet_info``, ``workers``, ``scheduler``, ``progress``).  Only :func:`coverage` writes
+files, and only those it is asked for (``out``, ``plot``, ``kmz``, ``json``), after the computation.
+"""
 
 from __future__ import annotations
 
@@ -7,50 +15,88 @@ from .errors import ProfilerError
 from .limits import check_name
 from .lora.bands import resolve_frequency_mhz
 from .products.link import LinkResult, analyze_link
+from .products.network import CHUNK_LINKS
 from .propagation.geometry import parse_k_factor
 from .terrain.profile import profile_from_dem, read_profile_csv
 
+#: One wording per shared parameter of the functions' docstrings (``<<name>>`` in a docstring; numpydoc text).
+PARAMETERS = {
+    "site_a": "site_a, site_b : tuple of float, optional\n"
+              "        ``(lat_deg, lon_deg)`` of each site [deg] (WGS84).  Required with ``dem``.",
+    "dem": "dem : str, Path or list of them\n        Elevation files or folders of tiles.",
+    "profile_csv": "profile_csv : str or Path, optional\n"
+                   "        A surveyed profile (``distance_m,elevation_m``) instead of ``dem``; A is its first row.",
+    "name_a": "name_a, name_b : str\n        Site names (at most :data:`profiler.limits.MAX_NAME_CHARS` characters).",
+    "k_factor": "k_factor : float or str\n"
+                "        Effective-Earth-radius factor [-], a number or a fraction such as ``\"4/3\"``.",
+    "frequency_mhz": "frequency_mhz : float, optional\n"
+                     "        Working frequency [MHz]; otherwise the mean channel frequency of ``band``.",
+    "band": "band : str, optional\n        Regional channel plan (default EU868; see ``profiler bands``).",
+    "step_m": "step_m : float, optional\n"
+              "        Largest spacing of profile samples [m]; default the finest DEM pixel along each path.",
+    "clearance_ratio": "clearance_ratio : float\n"
+                       "        Required clearance as a fraction of the first Fresnel radius [-].",
+    "fill_voids": "fill_voids : bool\n"
+                  "        Interpolate across elevation voids; otherwise a path over a void is refused (a network\n"
+                  "        link fails, a coverage pixel is nodata).",
+    "sheet_info": "sheet_info : profiler.io.sheetinfo.SheetInfo, optional\n"
+                  "        Title-block fields (project, document, ...) for the report's ``sheet`` block.",
+    "digests": "digests : profiler.terrain.digests.FileDigests, optional\n"
+               "        Provenance digests of the elevation files, possibly already started.",
+    "workers": "workers : int, optional\n"
+               "        Run the chunks of work on a local Dask cluster of this many worker processes.",
+    "scheduler": "scheduler : str, optional\n"
+                 "        Run them on the Dask cluster at this address (``tcp://HOST:PORT``); the elevation files\n"
+                 "        must be visible to every worker at the same path.",
+    "progress": "progress : bool, optional\n        Progress bar on standard error (default: when it is a terminal).",
+    "chunk_links": "chunk_links : int\n"
+                   "        Links per chunk: the unit of work of a worker and of the progress bar.",
+}
 
+
+def shared_parameters(function):
+    """Decorator: write the :data:`PARAMETERS` entries into ``function.__doc__`` at their ``<<name>>``."""
+    for name, text in PARAMETERS.items():
+        function.__doc__ = function.__doc__.replace(f"<<{name}>>", text)
+    return function
+
+
+@shared_parameters
 def link(site_a=None, site_b=None, *, dem=None, profile_csv=None, mast_a_m: float = 10.0,
          mast_b_m: float = 2.0, name_a: str = "A", name_b: str = "B", k_factor="4/3",
          frequency_mhz: float | None = None, band: str | None = None, step_m: float | None = None,
          clearance_ratio: float = 0.6, fill_voids: bool = False,
          radio: RadioSettings | None = None, date=None, sheet_info=None, digests=None) -> LinkResult:
-    """Analyse the link A-B over elevation data or a surveyed profile.
+    """Analyse the link A-B over elevation data or a surveyed profile (``profiler link``).
 
     Parameters
     ----------
-    site_a, site_b : tuple of float, optional
-        ``(lat_deg, lon_deg)`` of each site (WGS84).  Required with ``dem``.
-    dem : str, Path or list of them
-        Elevation files or folders of tiles.
-    profile_csv : str or Path
-        A surveyed profile (``distance_m,elevation_m``) instead of ``dem``.
+    <<site_a>>
+    <<dem>>
+    <<profile_csv>>
     mast_a_m, mast_b_m : float
-        Antenna heights above ground [m].
-    k_factor : float or str
-        Effective-Earth-radius factor, e.g. ``4/3``.
-    frequency_mhz : float, optional
-        Working frequency [MHz]; otherwise the mean of ``band`` (default EU868).
-    step_m : float, optional
-        Largest spacing of profile samples [m]; default the finest DEM pixel.
-    clearance_ratio : float
-        Required clearance as a fraction of the first Fresnel radius.
-    fill_voids : bool
-        Interpolate across elevation voids instead of refusing.
+        Antenna heights above ground at A and B [m].
+    <<name_a>>
+    <<k_factor>>
+    <<frequency_mhz>>
+    <<band>>
+    <<step_m>>
+    <<clearance_ratio>>
+    <<fill_voids>>
     radio : RadioSettings, optional
-        Link-budget and LoRa settings.
+        Link-budget and LoRa settings (powers, gains, losses, fade margin, SF, diffraction method, which
+        end is the gateway).
     date : datetime.date, optional
         Date of the sheet and of the magnetic declination (default today).
-    sheet_info : profiler.io.sheetinfo.SheetInfo, optional
-        Title-block fields (project, document, ...) for the report's ``sheet`` block.
-    digests : profiler.terrain.digests.FileDigests, optional
-        Provenance digests of the elevation files, possibly already started.
+    <<sheet_info>>
+    <<digests>>
 
     Returns
     -------
     LinkResult
-        ``result.to_dict()`` is the JSON report.
+        ``result.to_dict()`` is the ``profiler.link/3`` JSON report; ``result.profile`` holds the
+        per-sample arrays (``distance_m``, ``terrain_m``, ``bulge_m``, ``los_m``, ``fresnel_radius_m``,
+        ``clearance_m``, ...).
     """
     check_names(name_a=name_a, name_b=name_b)
     f_mhz, band_name = resolve_frequency_mhz(frequency_mhz, band)
@@ -58,19 +104,113 @@ def link(site_a=None, site_b=None, *, dem=None, profile_csv=None, mast_a_m: floa
     prof = load_profile(site_a, site_b, dem=dem, profile_csv=profile_csv, step_m=step_m,
                         fill_voids=fill_voids, name_a=name_a, name_b=name_b, digests=digests)
     return analyze_link(prof, mast_a_m=mast_a_m, mast_b_m=mast_b_m, frequency_mhz=f_mhz, band=band_name,
-                        k_factor=k, clearance_ratio_required=clearance_ratio, radio=radio,
+                        k_factor=k, clearance_ratio=clearance_ratio, radio=radio,
                         name_a=name_a, name_b=name_b,
-                        site_a_lat_lon=tuple(site_a) if site_a is not None else None,
-                        site_b_lat_lon=tuple(site_b) if site_b is not None else None,
+                        site_a=tuple(site_a) if site_a is not None else None,
+                        site_b=tuple(site_b) if site_b is not None else None,
                         date=date, sheet_info=sheet_info)
 
 
+@shared_parameters
+def mast(site_a=None, site_b=None, *, dem=None, profile_csv=None, mast_a_m: float = 10.0,
+         mast_b_m: float = 2.0, name_a: str = "A", name_b: str = "B", k_factor="4/3",
+         frequency_mhz: float | None = None, band: str | None = None, step_m: float | None = None,
+         clearance_ratio: float | None = 0.6, fill_voids: bool = False, low_k_factor="2/3",
+         low_k_clearance_ratio: float | None = 0.0, min_margin_db: float | None = None, solve: str = "b",
+         max_mast_m: float = 60.0, mast_step_m: float = 1.0, radio: RadioSettings | None = None, date=None,
+         sheet_info=None, digests=None):
+    """The lowest mast that meets every given criterion on the link A-B (``profiler mast``).
+
+    The criteria that are given must all hold: clearance >= ``clearance_ratio`` F1 at ``k_factor``,
+    clearance >= ``low_k_clearance_ratio`` F1 at ``low_k_factor``, and link margin >= ``min_margin_db``
+    (see :func:`profiler.products.mast.solve.solve_mast`).
+
+    Parameters
+    ----------
+    <<site_a>>
+    <<dem>>
+    <<profile_csv>>
+    mast_a_m, mast_b_m : float
+        Antenna heights above ground at A and B [m]: the fixed height of the end not solved, and the
+        first row of the table.
+    <<name_a>>
+    k_factor : float or str
+        Median effective-Earth-radius factor [-], a number or a fraction such as ``"4/3"`` (also the
+        factor of the margin).
+    <<frequency_mhz>>
+    <<band>>
+    <<step_m>>
+    clearance_ratio : float or None
+        Required clearance at ``k_factor`` as a fraction of the first Fresnel radius [-]; None drops the
+        criterion (the command's ``--no-clearance`` drops it and the low-k one).
+    <<fill_voids>>
+    low_k_factor : float or str
+        Low (sub-refractive) effective-Earth-radius factor [-] of the second clearance criterion.
+    low_k_clearance_ratio : float or None
+        Required clearance at ``low_k_factor`` as a fraction of F1 [-]; None drops the criterion
+        (``--no-low-k``).
+    min_margin_db : float, optional
+        Least uplink margin [dB] at the chosen or recommended data rate with the radio's diffraction
+        method; None: no margin criterion.
+    solve : {"a", "b", "both"}
+        End raised: A, B, or both by the same added height (the cheapest split is reported too).
+    max_mast_m : float
+        Highest allowed mast [m].
+    mast_step_m : float
+        Height step of the table and of the margin scan [m].
+    radio : RadioSettings, optional
+        Link-budget and LoRa settings, as for :func:`link`.
+    date : datetime.date, optional
+        Date of the sheet (default today).
+    <<sheet_info>>
+    <<digests>>
+
+    Returns
+    -------
+    profiler.products.mast.result.MastResult
+        ``result.to_dict()`` is the ``profiler.mast/2`` JSON report; ``result.feasible`` is False (with
+        ``result.message``) when no height up to ``max_mast_m`` meets every criterion.
+    """
+    import dataclasses
+    import datetime
+
+    from .products.link import sheet_block
+    from .products.mast.solve import solve_mast
+
+    check_names(name_a=name_a, name_b=name_b)
+    f_mhz, band_name = resolve_frequency_mhz(frequency_mhz, band)
+    prof = load_profile(site_a, site_b, dem=dem, profile_csv=profile_csv, step_m=step_m,
+                        fill_voids=fill_voids, name_a=name_a, name_b=name_b, digests=digests)
+    result = solve_mast(prof, frequency_mhz=f_mhz, band=band_name, solve=solve, mast_a_m=mast_a_m,
+                        mast_b_m=mast_b_m, clearance_ratio=clearance_ratio, k_factor=k_factor,
+                        low_k_clearance_ratio=low_k_clearance_ratio, low_k_factor=low_k_factor,
+                        min_margin_db=min_margin_db, radio=radio, max_mast_m=max_mast_m, mast_step_m=mast_step_m,
+                        name_a=name_a, name_b=name_b,
+                        site_a=tuple(site_a) if profile_csv is None and site_a is not None else None,
+                        site_b=tuple(site_b) if profile_csv is None and site_b is not None else None)
+    return dataclasses.replace(result, sheet=sheet_block(sheet_info, date or datetime.date.today()))
+
+
+@shared_parameters
 def load_profile(site_a=None, site_b=None, *, dem=None, profile_csv=None, step_m: float | None = None,
                  fill_voids: bool = False, name_a: str = "A", name_b: str = "B", digests=None):
-    """The terrain profile from a surveyed CSV file or from elevation data along the geodesic.
+    """The terrain profile from a surveyed CSV file or from elevation data along the geodesic A-B.
 
-    Parameters are those of :func:`link`.  Returns a
-    :class:`~profiler.terrain.profile.TerrainProfile`.
+    Parameters
+    ----------
+    <<site_a>>
+    <<dem>>
+    <<profile_csv>>
+    <<step_m>>
+    <<fill_voids>>
+    name_a, name_b : str
+        Site names, for the profile's end labels.
+    <<digests>>
+
+    Returns
+    -------
+    profiler.terrain.profile.TerrainProfile
+        Distances [m] and terrain heights [m] from A to B, with the elevation sources.
     """
     check_names(name_a=name_a, name_b=name_b)
     if profile_csv is not None:
@@ -90,64 +230,180 @@ def load_profile(site_a=None, site_b=None, *, dem=None, profile_csv=None, step_m
                                 name_b=f"site B ({name_b})" if name_b != "B" else "site B")
 
 
-def network(sites, *, dem, **kwargs):
-    """Every gateway -> node link of a site list: see :func:`profiler.products.network.network`.
+@shared_parameters
+def network(sites, *, dem, pairs=None, max_distance_km: float = 50.0, k_factor="4/3",
+            frequency_mhz: float | None = None, band: str | None = None, step_m: float | None = None,
+            clearance_ratio: float = 0.6, fill_voids: bool = False, radio: RadioSettings | None = None,
+            workers: int | None = None, scheduler: str | None = None, progress: bool | None = None,
+            chunk_links: int = CHUNK_LINKS):
+    """Every gateway -> node link of a site list (``profiler network``).
 
-    Returns a :class:`~profiler.products.network.NetworkResult` whose
-    ``to_dict()`` is the ``profiler.network/2`` JSON report.
+    Gateways and candidate sites are end A of every link, nodes end B: the ``radio`` settings of end A
+    apply to the gateways, those of end B to the nodes; per-site columns of the site list override them.
+
+    Parameters
+    ----------
+    sites : str, Path or profiler.products.sites.SiteTable
+        The site list, a CSV file ``name,lat_deg,lon_deg,mast_m,role`` (role gateway, node or candidate)
+        with optional per-site columns (see :func:`profiler.products.sites.read_sites_csv`).
+    <<dem>>
+    pairs : str or Path, optional
+        Exactly these links (a ``gateway,node`` CSV file) instead of every pair within
+        ``max_distance_km``.
+    max_distance_km : float
+        Longest gateway-node link considered [km].
+    <<k_factor>>
+    <<frequency_mhz>>
+    <<band>>
+    <<step_m>>
+    <<clearance_ratio>>
+    <<fill_voids>>
+    radio : RadioSettings, optional
+        Link-budget and LoRa settings; the gateway is end A (``RadioSettings(gateway="a")``).
+    <<workers>>
+    <<scheduler>>
+    <<progress>>
+    <<chunk_links>>
+
+    Returns
+    -------
+    profiler.products.network.NetworkResult
+        ``result.to_dict()`` is the ``profiler.network/2`` JSON report (``links``, ``nodes``, ``sites``,
+        ``summary`` as attributes too).
     """
     from .products.network import network as _network
 
-    return _network(sites, dem=dem, **kwargs)
+    return _network(sites, dem=dem, pairs=pairs, max_distance_km=max_distance_km, band=band,
+                    frequency_mhz=frequency_mhz, k_factor=k_factor, clearance_ratio=clearance_ratio, step_m=step_m,
+                    fill_voids=fill_voids, radio=radio, workers=workers, scheduler=scheduler, progress=progress,
+                    chunk_links=chunk_links)
 
 
+@shared_parameters
 def siting(sites, *, dem, redundancy: int = 1, min_margin_db: float | None = None, max_gateways: int | None = None,
-           time_limit_s: float = 60.0, **kwargs):
-    """The cheapest set of candidate gateway sites that hears every node.
+           time_limit_s: float = 60.0, pairs=None, max_distance_km: float = 50.0, k_factor="4/3",
+           frequency_mhz: float | None = None, band: str | None = None, step_m: float | None = None,
+           clearance_ratio: float = 0.6, fill_voids: bool = False, radio: RadioSettings | None = None,
+           workers: int | None = None, scheduler: str | None = None, progress: bool | None = None,
+           chunk_links: int = CHUNK_LINKS):
+    """The cheapest set of candidate gateway sites that hears every node (``profiler siting``).
 
-    Runs the network engine from every ``gateway`` and ``candidate`` site to
-    every node (``kwargs`` as for :func:`network`), then solves the set
-    multicover (or, with ``max_gateways``, maximum coverage) programme of
-    :mod:`profiler.products.siting.setcover`.  A node is heard by a site when the best
-    uplink margin over the plan's allowed data rates reaches
-    ``min_margin_db`` (default: the fade margin).
+    Runs :func:`network` from every ``gateway`` and ``candidate`` site to every node, then solves the
+    set multicover (or, with ``max_gateways``, maximum coverage) programme of
+    :mod:`profiler.products.siting.setcover`.  A node is heard by a site when the best uplink margin
+    over the plan's allowed data rates reaches ``min_margin_db``.
+
+    Parameters
+    ----------
+    sites : str, Path or profiler.products.sites.SiteTable
+        The site list, as for :func:`network`; role ``candidate`` may get a gateway (optional ``cost``
+        column, default 1), ``gateway`` is an existing one that is always kept, ``node`` must be heard.
+    <<dem>>
+    redundancy : int
+        Gateways that must hear each node.
+    min_margin_db : float, optional
+        Least uplink margin for a node to count as heard [dB] (default: the fade margin of ``radio``).
+    max_gateways : int, optional
+        Choose at most this many sites (existing gateways included) hearing the most nodes.
+    time_limit_s : float
+        Solver time limit [s]; the best set found is returned with its gap.
+    pairs, max_distance_km, k_factor, frequency_mhz, band, step_m, clearance_ratio, fill_voids, radio
+        The links, as for :func:`network` (``max_distance_km`` [km], ``frequency_mhz`` [MHz],
+        ``step_m`` [m], ``k_factor`` and ``clearance_ratio`` [-]).
+    workers, scheduler, progress, chunk_links
+        Where and in which chunks the links run, as for :func:`network`.
 
     Returns
     -------
     profiler.products.siting.report.SitingResult
-        ``result.to_dict()`` is the ``profiler.siting/1`` JSON report;
-        ``result.network`` the ``profiler.network/2`` report it was solved over.
+        ``result.to_dict()`` is the ``profiler.siting/1`` JSON report; ``result.network`` the
+        ``profiler.network/2`` report it was solved over.
     """
-    from .engine.radio import RadioSettings
     from .products.siting.report import SitingResult, siting_from_network
 
-    radio = kwargs.get("radio") or RadioSettings()
-    net = network(sites, dem=dem, **kwargs).to_dict()
-    threshold = radio.fade_margin_db if min_margin_db is None else float(min_margin_db)
+    net = network(sites, dem=dem, pairs=pairs, max_distance_km=max_distance_km, band=band,
+                  frequency_mhz=frequency_mhz, k_factor=k_factor, clearance_ratio=clearance_ratio, step_m=step_m,
+                  fill_voids=fill_voids, radio=radio, workers=workers, scheduler=scheduler, progress=progress,
+                  chunk_links=chunk_links).to_dict()
+    threshold = (radio or RadioSettings()).fade_margin_db if min_margin_db is None else float(min_margin_db)
     report = siting_from_network(net, min_margin_db=threshold, redundancy=redundancy, max_gateways=max_gateways,
                                  time_limit_s=time_limit_s)
     return SitingResult(report, net)
 
 
-def coverage(site=None, *, dem, out=None, plot=None, kmz=None, json=None, paper="a4", dpi=200, **kwargs):
-    """Coverage of a site within a radius: see :func:`profiler.products.coverage.map.coverage`.
+@shared_parameters
+def coverage(site=None, *, dem, mast_m: float | None = None, radius_km: float, name: str = "site", sites=None,
+             resolution_m: float | None = None, node_mast_m: float = 1.5, k_factor="4/3",
+             frequency_mhz: float | None = None, band: str | None = None, clearance_ratio: float = 0.6,
+             fill_voids: bool = False, radio: RadioSettings | None = None, workers: int | None = None,
+             scheduler: str | None = None, progress: bool | None = None, kernel: bool | None = None, date=None,
+             sheet_info=None, out=None, plot=None, kmz=None, json=None, paper: str = "a4", dpi: int = 200):
+    """Margin and data rate at every pixel within a radius of a gateway site (``profiler coverage``).
 
-    Returns a :class:`~profiler.products.coverage.map.CoverageResult` (``bands``: name
-    -> float32 array, ``grid``, ``report`` = the ``profiler.coverage/2``
-    summary). ``out``, ``plot``, ``kmz``, ``json`` (str or Path, optional):
-    files to write (GeoTIFF, map sheet at ``paper`` and ``dpi``, KMZ, JSON
-    summary), all or nothing, checked before and written after the computation.
+    The computation (:func:`profiler.products.coverage.map.coverage`) writes no file; the files asked
+    for with ``out``, ``plot``, ``kmz`` and ``json`` are checked before it and written after it, all or
+    nothing (:func:`coverage_outputs`, the writers the command uses too).
+
+    Parameters
+    ----------
+    site : tuple of float, optional
+        ``(lat_deg, lon_deg)`` of the gateway [deg] (WGS84), with ``mast_m``; or give ``sites``.
+    <<dem>>
+    mast_m : float, optional
+        Antenna height of the gateway ``site`` above ground [m] (required with ``site``).
+    radius_km : float
+        Radius around each gateway [km].
+    name : str
+        Name of the site (at most :data:`profiler.limits.MAX_NAME_CHARS` characters).
+    sites : str, Path or profiler.products.sites.SiteTable, optional
+        A site list (the network format) instead of ``site``: the bands are the composite over its
+        gateway and candidate rows, each with its own mast and overrides.
+    resolution_m : float, optional
+        Output pixel size [m]; default the elevation pixel at the (first) site.
+    node_mast_m : float
+        Node antenna height above ground at every pixel [m].
+    <<k_factor>>
+    <<frequency_mhz>>
+    <<band>>
+    <<clearance_ratio>>
+    <<fill_voids>>
+    radio : RadioSettings, optional
+        Link-budget and LoRa settings; the site is the gateway, end A.
+    workers, scheduler, progress
+        Where the radial sectors run, as for :func:`network`.
+    kernel : bool, optional
+        Reductions in the numba kernel (default: when numba is installed) or, with False, in numpy
+        prefix batches; the results agree to rounding.
+    date : datetime.date, optional
+        Date of the sheet (default today).
+    <<sheet_info>>
+    out, plot, kmz, json : str or Path, optional
+        Files to write: the bands as a float32 GeoTIFF, the map sheet (.png, .pdf or .svg), a KMZ ground
+        overlay, the JSON report (``"-"``: standard output).
+    paper : {"a4", "letter"}
+        Paper size of the map sheet.
+    dpi : int
+        Resolution of a PNG map sheet [dots per inch].
+
+    Returns
+    -------
+    profiler.products.coverage.map.CoverageResult
+        ``result.to_dict()`` is the ``profiler.coverage/2`` JSON report; ``result.bands`` maps each band
+        name to a float32 array on ``result.grid`` (NaN: nodata).
     """
     from .io.outputs import check_outputs, write_outputs
     from .products.coverage.map import coverage as _coverage
 
-    check_names(name=kwargs.get("name"))
+    check_names(name=name)
     check_outputs(coverage_outputs(out, plot, kmz, json, paper=paper, dpi=dpi, dem_paths=dem))
-    result = _coverage(site, dem=dem, **kwargs)
+    result = _coverage(site, dem=dem, mast_m=mast_m, name=name, sites=sites, radius_km=radius_km,
+                       resolution_m=resolution_m, node_mast_m=node_mast_m, band=band, frequency_mhz=frequency_mhz,
+                       k_factor=k_factor, clearance_ratio=clearance_ratio, fill_voids=fill_voids, radio=radio,
+                       workers=workers, scheduler=scheduler, progress=progress, kernel=kernel, date=date,
+                       sheet_info=sheet_info)
     write_outputs(coverage_outputs(out, plot, kmz, json, paper=paper, dpi=dpi, dem_paths=dem, result=result),
-                  result.report)
+                  result.to_dict())
     return result
-
 
 def coverage_outputs(out=None, plot=None, kmz=None, json=None, *, paper="a4", dpi=200, dem_paths=(), result=None,
                      summary=False):

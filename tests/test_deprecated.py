@@ -23,6 +23,18 @@ def fresh_import(old: str):
     return module, [w for w in caught if issubclass(w.category, DeprecationWarning)]
 
 
+@pytest.fixture(autouse=True)
+def forget_old_modules():
+    """Unbind the old modules after each test: ``import profiler.mast`` binds the alias over the name of the
+    API function ``profiler.mast``, which later tests (and users who never import old paths) get."""
+    yield
+    for old in MOVED:
+        sys.modules.pop(old, None)
+        parent, _, leaf = old.rpartition(".")
+        if isinstance(vars(sys.modules[parent]).get(leaf), _deprecated._OldModule):
+            vars(sys.modules[parent]).pop(leaf)
+
+
 def public_names(module) -> list[str]:
     return [n for n, v in vars(module).items()
             if not n.startswith("_") and getattr(v, "__module__", None) == module.__name__]
@@ -84,6 +96,17 @@ def test_an_old_module_named_like_an_api_function_calls_it(monkeypatch):
     monkeypatch.setattr(profiler.api, "mast", lambda *a, **k: ("api", a, k), raising=False)
     module, _ = fresh_import("profiler.mast")
     assert module(1, x=2) == ("api", (1,), {"x": 2})
+    assert profiler.mast is module          # bound over the function name until forget_old_modules
+
+
+def test_the_api_function_mast_is_not_the_old_module():
+    import profiler
+    import profiler.api
+
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")
+        from profiler import mast
+    assert mast is profiler.mast is profiler.api.mast
 
 
 def test_no_old_path_is_a_file_and_the_finder_is_installed_once():

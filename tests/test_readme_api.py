@@ -3,7 +3,7 @@ import`` lines.
 
 Check value: README and ``docs/*.md`` themselves (issue 17: README pointed at ``profiler.siting.solve_siting``,
 which did not exist; issue 18 moved README's manual into ``docs/``).
-Names are resolved by importing the longest importable module prefix and getting the rest as attributes.
+Names are resolved as code reads them after ``import profiler`` (attributes first, then submodules).
 Report schemas (``profiler.link/3``) and command lines (``profiler link ...``) are not Python names.
 """
 
@@ -44,27 +44,31 @@ def readme_names() -> list[str]:
 
 
 def resolve(name: str):
-    """Import the longest module prefix of ``name`` and get the rest as attributes (AttributeError if missing)."""
+    """``name`` as code reads it after ``import profiler``: attributes first, a submodule imported where no
+    attribute has the name (AttributeError or ModuleNotFoundError if missing).
+
+    Attributes first, so that ``profiler.mast`` is the API function, not the old module path of that name
+    (which imports only for one release, with a DeprecationWarning).
+    """
+    import inspect
+
     parts = name.split(".")
-    for i in range(len(parts), 0, -1):
-        module_name = ".".join(parts[:i])
+    obj = importlib.import_module(parts[0])
+    for i, attr in enumerate(parts[1:], start=2):
         try:
-            obj = importlib.import_module(module_name)
-        except ModuleNotFoundError as exc:
-            if exc.name is not None and not module_name.startswith(exc.name) and exc.name != module_name:
-                raise                       # the module exists but one of its imports is missing
-            continue
-        for attr in parts[i:]:
             obj = getattr(obj, attr)
-        return obj
-    raise ModuleNotFoundError(name)
+        except AttributeError:
+            if not inspect.ismodule(obj):
+                raise
+            obj = importlib.import_module(".".join(parts[:i]))
+    return obj
 
 
 def test_readme_shows_python_names():
     assert len(PAGES) > 10                      # README and the docs pages
     names = readme_names()
-    assert ("profiler.products.siting.setcover.solve_siting" in names
-            and "profiler.products.siting.report.siting_from_network" in names)
+    assert "profiler.products.siting.setcover.solve_siting" in names
+    assert "profiler.products.siting.report.siting_from_network" in names
     assert not any("/" in n for n in names)
 
 
@@ -77,6 +81,14 @@ def test_resolve_refuses_a_missing_name():
     with pytest.raises(AttributeError):
         resolve("profiler.siting.solve_siting")       # the name README showed before issue 17
     assert resolve("profiler.products.siting.setcover.solve_siting").__name__ == "solve_siting"
+    with pytest.raises(ModuleNotFoundError):
+        resolve("profiler.no_such_module.name")
+
+
+def test_resolve_reads_an_api_function_named_like_an_old_module():
+    import profiler.api
+
+    assert resolve("profiler.mast") is profiler.api.mast    # not the deprecated module path profiler.mast
 
 
 def readme_example(command: str) -> list[str]:

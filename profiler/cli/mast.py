@@ -74,10 +74,9 @@ def mast_command(site_a, site_b, name_a, name_b, mast_a_m, mast_b_m, dem_paths, 
       profiler mast --dem dem_samples --site-a -29.9125,-19.955 --site-b -30.0,-19.845 --max-mast-m 15
       profiler mast --dem dem_samples --site-a -29.9125,-19.955 --site-b -29.9,-19.825 --solve both
     """
+    from ..api import mast
     from ..io.outputs import check_outputs, write_outputs
     from ..limits import quiet_numerics, require_finite
-    from ..lora.bands import resolve_frequency_mhz
-    from ..products.mast.solve import solve_mast
 
     outputs = mast_outputs(json_path, plot_path, paper, dpi, report_path=report_path, record=run_record())
     check_outputs(outputs)  # refuse bad outputs before any computation
@@ -85,20 +84,14 @@ def mast_command(site_a, site_b, name_a, name_b, mast_a_m, mast_b_m, dem_paths, 
     radio = radio_settings(radio_kw)
     if no_clearance and min_margin_db is None:
         raise ProfilerError("--no-clearance leaves no criterion: give --min-margin-db too")
-    f_mhz, band = resolve_frequency_mhz(freq_mhz, band_name)
-    from ..api import load_profile
-
     with quiet_numerics():
-        profile = load_profile(site_a, site_b, dem=list(dem_paths), profile_csv=profile_csv, step_m=step_m,
-                               fill_voids=fill_voids, name_a=name_a, name_b=name_b)
-        result = solve_mast(
-            profile, frequency_mhz=f_mhz, band=band, solve=solve, mast_a_m=mast_a_m, mast_b_m=mast_b_m,
-            clearance_ratio=None if no_clearance else clearance_ratio, k_factor=k_text,
-            low_k_clearance_ratio=None if (no_clearance or no_low_k) else low_k_clearance, low_k_factor=low_k_text,
-            min_margin_db=min_margin_db, radio=radio, max_mast_m=max_mast_m, mast_step_m=mast_step_m,
-            name_a=name_a, name_b=name_b, site_a_lat_lon=site_a if profile_csv is None else None,
-            site_b_lat_lon=site_b if profile_csv is None else None)
-        result = with_sheet(result, profile, sheet_info, date)
+        result = mast(site_a, site_b, dem=list(dem_paths), profile_csv=profile_csv, mast_a_m=mast_a_m,
+                      mast_b_m=mast_b_m, name_a=name_a, name_b=name_b, k_factor=k_text, frequency_mhz=freq_mhz,
+                      band=band_name, step_m=step_m, fill_voids=fill_voids,
+                      clearance_ratio=None if no_clearance else clearance_ratio, low_k_factor=low_k_text,
+                      low_k_clearance_ratio=None if (no_clearance or no_low_k) else low_k_clearance,
+                      min_margin_db=min_margin_db, solve=solve, max_mast_m=max_mast_m, mast_step_m=mast_step_m,
+                      radio=radio, date=date, sheet_info=sheet_info)
         report = result.to_dict()
         require_finite(report, MAST_FINITE + (MAST_FEASIBLE_FINITE if report["feasible"] else ()), "mast search")
         write_outputs(outputs, report)  # an infeasible search still writes its report, then exits 3
@@ -110,15 +103,6 @@ def mast_command(site_a, site_b, name_a, name_b, mast_a_m, mast_b_m, dem_paths, 
 MAST_FINITE = ("distance_m", "frequency_mhz")
 MAST_FEASIBLE_FINITE = ("required_mast_a_m", "required_mast_b_m", "at_required.worst_ratio",
                         "at_required.diffraction_db", "at_required.margin_db")
-
-
-def with_sheet(result, profile, sheet_info, date):
-    """The mast result with its ``sheet`` block (title-block fields, date)."""
-    import dataclasses
-
-    from ..products.link import sheet_block
-
-    return dataclasses.replace(result, sheet=sheet_block(sheet_info, date))
 
 
 def mast_outputs(json_path, plot_path, paper="a4", dpi=200, *, report_path=None, record=None):
@@ -207,10 +191,9 @@ def mast_summary_text(report: dict) -> str:
             if previous is not None and row["margin_db"] < previous["margin_db"] - 1e-6 and \
                     _rate(row) != _rate(previous):
                 change = "  <- lower margin: faster data rate recommended"
-            lines.append(f"                {_up(row['mast_a_m']):>10}  {_up(row['mast_b_m']):>10}  "
-                         f"{_f(row['worst_ratio'])}"
-                         f"  {_f(row['worst_ratio_low_k'])}  {row['diffraction_db']:10.1f}  {row['margin_db']:11.1f}"
-                         f"  {rate}{change}")
+            lines.append(f"                {_up(row['mast_a_m']):>10}  {_up(row['mast_b_m']):>10}"
+                         f"  {_f(row['worst_ratio'])}  {_f(row['worst_ratio_low_k'])}"
+                         f"  {row['diffraction_db']:10.1f}  {row['margin_db']:11.1f}  {rate}{change}")
             previous = row
     for msg in report["notes"] + report["warnings"]:
         lines.append(f"  note          {msg}")

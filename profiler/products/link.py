@@ -20,6 +20,7 @@ from ..engine.radio import RadioSettings, check_separation, radio_results
 from ..engine.radio import slant_distance_m as radio_slant
 from ..errors import ProfilerError
 from ..io.jsonsafe import json_clean, json_number
+from ..keywords import renamed_keyword
 from ..lora.regional import plan as regional_plan
 from ..propagation import diffraction, geometry
 from ..propagation.free_space import NEAR_FIELD_RULE_OF_THUMB_M, NEAR_FIELD_WAVELENGTHS, wavelength_m
@@ -127,12 +128,15 @@ def _check_mast(value: float, which: str) -> float:
     return v
 
 
+@renamed_keyword("clearance_ratio_required", "clearance_ratio", since="0.2")
+@renamed_keyword("site_a_lat_lon", "site_a", since="0.2")
+@renamed_keyword("site_b_lat_lon", "site_b", since="0.2")
 def analyze_link(profile: TerrainProfile, *, mast_a_m: float = 10.0, mast_b_m: float = 2.0,
                  frequency_mhz: float, band: str | None = None, k_factor: float = 4.0 / 3.0,
-                 clearance_ratio_required: float = 0.6, radio: RadioSettings | None = None,
+                 clearance_ratio: float = 0.6, radio: RadioSettings | None = None,
                  name_a: str = "A", name_b: str = "B",
-                 site_a_lat_lon: tuple[float, float] | None = None,
-                 site_b_lat_lon: tuple[float, float] | None = None,
+                 site_a: tuple[float, float] | None = None,
+                 site_b: tuple[float, float] | None = None,
                  date: _dt.date | None = None, sheet_info=None) -> LinkResult:
     """Analyse a point-to-point link over a terrain profile.
 
@@ -148,15 +152,19 @@ def analyze_link(profile: TerrainProfile, *, mast_a_m: float = 10.0, mast_b_m: f
         Name of the channel plan the frequency came from (for the report).
     k_factor : float
         Effective-Earth-radius factor k (default 4/3).
-    clearance_ratio_required : float
-        Fraction of the first Fresnel radius that must be clear (default 0.6).
+    clearance_ratio : float
+        Fraction of the first Fresnel radius that must be clear [-] (default 0.6; the report's
+        ``clearance_ratio_required``).  The former keyword ``clearance_ratio_required`` still works
+        until the next release, with a ``DeprecationWarning``.
     radio : RadioSettings, optional
         Link-budget and modem settings (defaults: 14 dBm, 2.15 dBi dipoles,
         10 dB fade margin, LoRa 125 kHz, NF 6 dB, 12-byte payload).
     name_a, name_b : str
         Site names.
-    site_a_lat_lon, site_b_lat_lon : tuple, optional
-        Site coordinates [deg] for the report (None for a surveyed profile).
+    site_a, site_b : tuple of float, optional
+        ``(lat_deg, lon_deg)`` of each site [deg] for the report (None for a surveyed profile).  The
+        former keywords ``site_a_lat_lon``, ``site_b_lat_lon`` still work until the next release, with a
+        ``DeprecationWarning``.
     date : datetime.date, optional
         Date of the sheet and of the magnetic declination (default today).
     sheet_info : profiler.io.sheetinfo.SheetInfo, optional
@@ -181,9 +189,9 @@ def analyze_link(profile: TerrainProfile, *, mast_a_m: float = 10.0, mast_b_m: f
         raise ProfilerError(f"frequency must be a positive number of MHz, got {frequency_mhz}")
     k = geometry.parse_k_factor(k_factor)
     limits.check_values({"--mast-a": mast_a, "--mast-b": mast_b, "--freq-mhz": frequency_mhz, "--k": k,
-                         "--clearance-ratio": clearance_ratio_required})
-    if not (math.isfinite(clearance_ratio_required) and clearance_ratio_required >= 0):
-        raise ProfilerError(f"--clearance-ratio must be 0 or more, got {clearance_ratio_required}")
+                         "--clearance-ratio": clearance_ratio})
+    if not (math.isfinite(clearance_ratio) and clearance_ratio >= 0):
+        raise ProfilerError(f"--clearance-ratio must be 0 or more, got {clearance_ratio}")
 
     d = np.asarray(profile.distance_m, dtype=float)
     terrain = np.asarray(profile.terrain_m, dtype=float)
@@ -195,7 +203,7 @@ def analyze_link(profile: TerrainProfile, *, mast_a_m: float = 10.0, mast_b_m: f
 
     # The geometry of the link engine, as a batch of one.
     g = geometry_batch(d[None, :], terrain[None, :], np.array([d.size]), np.array([h_a]), np.array([h_b]),
-                       lam, ae, clearance_ratio_required)
+                       lam, ae, clearance_ratio)
     bulge, los, f1, clearance = g.bulge_m[0], g.los_m[0], g.fresnel_radius_m[0], g.clearance_m[0]
     worst = _worst_block(g, profile)
     line_of_sight, fresnel_clear = bool(g.line_of_sight[0]), bool(g.fresnel_clear[0])
@@ -211,8 +219,8 @@ def analyze_link(profile: TerrainProfile, *, mast_a_m: float = 10.0, mast_b_m: f
     date = date or _dt.date.today()
     ends = end_blocks(rr, radio.gateway, plan)
     return LinkResult(
-        site_a=_site(name_a, site_a_lat_lon, terrain[0], mast_a),
-        site_b=_site(name_b, site_b_lat_lon, terrain[-1], mast_b),
+        site_a=_site(name_a, site_a, terrain[0], mast_a),
+        site_b=_site(name_b, site_b, terrain[-1], mast_b),
         frequency_mhz=float(frequency_mhz), band=band, wavelength_m=lam, k_factor=k,
         effective_radius_m=ae, distance_m=total,
         azimuth_a_to_b_deg=profile.azimuth_a_to_b_deg, azimuth_b_to_a_deg=profile.azimuth_b_to_a_deg,
@@ -221,11 +229,11 @@ def analyze_link(profile: TerrainProfile, *, mast_a_m: float = 10.0, mast_b_m: f
                  "terrain_m": terrain, "bulge_m": bulge, "los_m": los,
                  "fresnel_radius_m": f1, "clearance_m": clearance},
         worst=worst, line_of_sight=line_of_sight, fresnel_clear=fresnel_clear,
-        clearance_ratio_required=float(clearance_ratio_required),
+        clearance_ratio_required=float(clearance_ratio),
         loss_db=loss, budget=rr["budget"], lora=rr["lora"], budget_downlink=rr["budget_downlink"],
         compliance=rr["compliance"], gateway=radio.gateway, slant_distance_m=rr["slant_distance_m"],
         radio_ends=ends, rf_exposure=exposure_blocks(ends),
-        bearings=magnetic_bearings(site_a_lat_lon, site_b_lat_lon, profile, h_a, h_b, date),
+        bearings=magnetic_bearings(site_a, site_b, profile, h_a, h_b, date),
         sheet=sheet_block(sheet_info, date),
         dem={"kind": profile.kind, "sources": list(profile.sources), "voids_filled": int(profile.voids_filled),
              "void_stretches_m": [list(map(float, x)) for x in profile.void_stretches_m]},

@@ -49,8 +49,8 @@ def antimeridian_report():
                           lat_deg=p.lat_deg, lon_deg=p.lon_deg, azimuth_a_to_b_deg=p.azimuth_a_to_b_deg,
                           azimuth_b_to_a_deg=p.azimuth_b_to_a_deg, kind="dem")
     return analyze_link(prof, mast_a_m=30.0, mast_b_m=30.0, frequency_mhz=915.0, name_a="West Spit",
-                        name_b="East Spit", site_a_lat_lon=(-16.5, 179.8),
-                        site_b_lat_lon=(-16.6, -179.7)).to_dict()
+                        name_b="East Spit", site_a=(-16.5, 179.8),
+                        site_b=(-16.6, -179.7)).to_dict()
 
 
 def _is_number(text):

@@ -1,6 +1,7 @@
 """Lowest antenna mast that meets Fresnel-clearance and link-margin criteria.
 
-:func:`solve_mast` is the one Python call behind ``profiler mast``.  It
+:func:`solve_mast` is the computation behind ``profiler mast`` and
+:func:`profiler.mast` (which load the profile and add the sheet block).  It
 answers "how high must the mast be?" for site A, site B, or both ends raised
 by the same amount, under any combination of three criteria that must all
 hold:
@@ -55,6 +56,7 @@ import numpy as np
 from ... import limits
 from ...engine.radio import RadioSettings
 from ...errors import ProfilerError
+from ...keywords import renamed_keyword
 from ...lora.regional import plan as regional_plan
 from ...propagation import geometry
 from ...terrain.profile import TerrainProfile
@@ -121,6 +123,8 @@ def _validated(solve, frequency_mhz, max_mast_m, mast_step_m, mast_a_m, mast_b_m
     return max_mast_m, mast_step_m, masts["a"], masts["b"], ratio, ratio_low
 
 
+@renamed_keyword("site_a_lat_lon", "site_a", since="0.2")
+@renamed_keyword("site_b_lat_lon", "site_b", since="0.2")
 def solve_mast(profile: TerrainProfile, *, frequency_mhz: float, solve: str = "b",
                mast_a_m: float = 10.0, mast_b_m: float = 2.0,
                clearance_ratio: float | None = 0.6, k_factor=4.0 / 3.0,
@@ -128,8 +132,8 @@ def solve_mast(profile: TerrainProfile, *, frequency_mhz: float, solve: str = "b
                min_margin_db: float | None = None, radio: RadioSettings | None = None,
                max_mast_m: float = 60.0, mast_step_m: float = 1.0, band: str | None = None,
                name_a: str = "A", name_b: str = "B",
-               site_a_lat_lon: tuple[float, float] | None = None,
-               site_b_lat_lon: tuple[float, float] | None = None) -> MastResult:
+               site_a: tuple[float, float] | None = None,
+               site_b: tuple[float, float] | None = None) -> MastResult:
     """Find the lowest mast(s) that meet every given criterion.
 
     Parameters
@@ -161,8 +165,10 @@ def solve_mast(profile: TerrainProfile, *, frequency_mhz: float, solve: str = "b
         Highest allowed mast [m] (default 60).
     mast_step_m : float
         Height step of the table and of the margin scan [m] (default 1).
-    band, name_a, name_b, site_a_lat_lon, site_b_lat_lon
-        Report metadata, as for :func:`profiler.products.link.analyze_link`.
+    band, name_a, name_b, site_a, site_b
+        Report metadata, as for :func:`profiler.products.link.analyze_link` (``site_a``, ``site_b``:
+        ``(lat_deg, lon_deg)`` [deg]; the former keywords ``site_a_lat_lon``, ``site_b_lat_lon`` still
+        work until the next release, with a ``DeprecationWarning``).
 
     Returns
     -------
@@ -217,8 +223,8 @@ def solve_mast(profile: TerrainProfile, *, frequency_mhz: float, solve: str = "b
         req_a = None if solve in ("a", "both") else m_a0
         req_b = None if solve in ("b", "both") else m_b0
     return MastResult(
-        site_a=_site(name_a, site_a_lat_lon, pb.g_a, m_a0),
-        site_b=_site(name_b, site_b_lat_lon, pb.g_b, m_b0),
+        site_a=_site(name_a, site_a, pb.g_a, m_a0),
+        site_b=_site(name_b, site_b, pb.g_b, m_b0),
         frequency_mhz=float(frequency_mhz), band=band, wavelength_m=pb.lam, distance_m=pb.total,
         solve=solve, criteria=criteria, feasible=bool(feasible),
         required_mast_a_m=req_a, required_mast_b_m=req_b,
