@@ -10,12 +10,12 @@ files, and only those it is asked for (``out``, ``plot``, ``kmz``, ``json``), af
 
 from __future__ import annotations
 
+from .engine.cluster import CHUNK_LINKS
 from .engine.radio import RadioSettings
 from .errors import ProfilerError
 from .limits import check_name
 from .lora.bands import resolve_frequency_mhz
 from .products.link import LinkResult, analyze_link
-from .products.network import CHUNK_LINKS
 from .propagation.geometry import parse_k_factor
 from .terrain.profile import profile_from_dem, read_profile_csv
 

@@ -33,6 +33,9 @@ __all__ = ["run_chunks", "chunked", "CLUSTER_INSTALL_HINT"]
 
 CLUSTER_INSTALL_HINT = 'pip install -e ".[cluster]"'
 
+CHUNK_LINKS = 256
+"""Links per chunk (network, siting): the unit of work of a worker and of the progress bar."""
+
 _ADDRESS = re.compile(r"^(tcp|tls)://[^\s/:]+(:\d{1,5})?$|^(tcp|tls)://\[[0-9a-fA-F:.]+\](:\d{1,5})?$")
 
 

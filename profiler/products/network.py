@@ -20,6 +20,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from ..about import CAUTION, __version__
+from ..engine.cluster import CHUNK_LINKS
 from ..engine.links import NetworkSettings, link_fields
 from ..engine.radio import RadioSettings, check_separation, minimum_separation_m, slant_distance_m
 from ..errors import ProfilerError
@@ -28,8 +29,6 @@ from ..propagation import geometry
 from ..propagation.free_space import wavelength_m
 
 SCHEMA = "profiler.network/2"
-CHUNK_LINKS = 256
-"""Links per chunk: the unit of work of a worker and of the progress bar."""
 
 LINK_FLOAT_KEYS = ("distance_m", "azimuth_deg", "worst_fresnel_ratio", "worst_distance_m", "diffraction_db",
                    "total_loss_db", "margin_db", "downlink_margin_db", "max_margin_db")
