@@ -39,6 +39,7 @@ PHYSICS_MODULES = [
     "profiler.propagation.spherical_earth",
     "profiler.propagation.polarization",
     "profiler.propagation.prefix_kernel",
+    "profiler.propagation.p1812",
     "profiler.lora.bands",
     "profiler.lora.regional",
     "profiler.lora.modem",

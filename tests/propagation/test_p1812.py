@@ -1,0 +1,116 @@
+"""Tests of profiler.propagation.p1812 against the ITU-R SG3 validation examples for Rec. ITU-R P.1812-8.
+
+Check values: ITU-R SG3 validation examples for Rec. ITU-R P.1812-8
+(../shared/reference/p1812-validation, see its README): every row of
+expected.csv, every column the module computes so far, within 0.01 dB
+(heights, distances and angles within 1e-3).  The profile files are read in
+their SG3 data-bank layout by the small parser below (test helper only).
+"""
+
+import csv
+import functools
+
+import numpy as np
+import pytest
+from reference_data import missing_reason, reference_folder
+
+from profiler.propagation import p1812
+
+DATA = reference_folder("p1812-validation")          # ../shared/reference/p1812-validation (see its README)
+NO_DATA = pytest.mark.skipif(DATA is None, reason=missing_reason("p1812-validation"))
+
+
+def _rows():
+    if DATA is None:
+        return []
+    with open(DATA / "expected.csv", newline="") as fh:
+        return list(csv.DictReader(fh))
+
+
+ROWS = _rows()
+
+
+@functools.lru_cache(maxsize=None)
+def read_sg3_profile(name):
+    """One SG3 data-bank profile: header values and the profile columns (d [km], h [m], code, R [m], zone)."""
+    header, samples, in_profile = {}, [], False
+    for line in (DATA / "profiles" / name).read_text(encoding="latin-1").splitlines():
+        cells = [c.strip() for c in line.split(",")]
+        if cells[0].startswith("{Begin of Profile"):
+            in_profile = True
+        elif cells[0].startswith("{End of Profile"):
+            in_profile = False
+        elif in_profile:
+            try:
+                samples.append([float(c) for c in cells[:5]])
+            except ValueError:
+                continue          # "Number of Points:" line
+        elif len(cells) > 1 and cells[0].endswith(":") and cells[1]:
+            header[cells[0][:-1]] = cells[1]
+    columns = np.array(samples)
+    return header, columns
+
+
+def _lat_lon(header):
+    return (float(header["Tx LAT"]), float(header["Tx LON"]), float(header["Rx LAT"]), float(header["Rx LON"]))
+
+
+def _batch(rows):
+    """The module run over all ``rows`` at once (one padded batch)."""
+    profiles = [read_sg3_profile(r["profile"])[1] for r in rows]
+    n = np.array([len(p) for p in profiles])
+    shape = (len(rows), n.max())
+    d, h, r, z = (np.full(shape, np.nan) for _ in range(4))
+    for i, p in enumerate(profiles):
+        d[i, :n[i]], h[i, :n[i]], r[i, :n[i]], z[i, :n[i]] = p[:, 0], p[:, 1], p[:, 3], p[:, 4]
+    lat_lon = np.array([_lat_lon(read_sg3_profile(r["profile"])[0]) for r in rows]).T
+    col = {k: np.array([float(r[k]) for r in rows]) for k in ("f_ghz", "time_percent", "htg_m", "hrg_m",
+                                                              "polarization", "delta_n", "n0")}
+    return p1812.p1812_batch(d, h, r, np.nan_to_num(z).astype(int), n, f_ghz=col["f_ghz"],
+                             time_percent=col["time_percent"], htg_m=col["htg_m"], hrg_m=col["hrg_m"],
+                             vertical=col["polarization"] == 2, delta_n=col["delta_n"], n0=col["n0"],
+                             lat_t_deg=lat_lon[0], lon_t_deg=lat_lon[1], lat_r_deg=lat_lon[2],
+                             lon_r_deg=lat_lon[3])
+
+
+@functools.lru_cache(maxsize=None)
+def _result():
+    return _batch(ROWS)
+
+
+GEOMETRY = ["d_km", "dlt_km", "dlr_km", "theta_t_mrad", "theta_r_mrad", "theta_mrad", "hts_m", "hrs_m",
+            "htc_table5_m", "hrc_table5_m", "w_sea_fraction", "dtm_km", "dlm_km", "phi_path_centre_deg",
+            "beta0_percent", "ae_km", "hst_eq85_m", "hsr_eq86_m", "hst_eq90a_m", "hsr_eq90b_m", "hstd_m",
+            "hsrd_m", "htc_eq37a_m", "hrc_eq37b_m", "hte_m", "hre_m", "hm_m"]
+
+
+def _row_id(row):
+    return f"{row['profile'][:-4]}-{row['dataset']}"
+
+
+@NO_DATA
+def test_validation_data_complete():
+    # ITU-R SG3 validation examples for Rec. ITU-R P.1812-8: 13 profiles, 42 cases.
+    assert len(ROWS) == 42
+    assert len({r["profile"] for r in ROWS}) == 13
+
+
+def test_parser_reads_header_and_profile():
+    if DATA is None:
+        pytest.skip(missing_reason("p1812-validation"))
+    header, columns = read_sg3_profile("b2iseac.csv")
+    # ITU-R SG3 validation examples for Rec. ITU-R P.1812-8, b2iseac.csv: 211 points, 235.1 km.
+    assert columns.shape == (211, 5)
+    assert columns[-1, 0] == 235.1
+    assert float(header["Average annual values dN (N-units/km)"]) == 45.0
+
+
+@pytest.mark.parametrize("column", GEOMETRY)
+@NO_DATA
+def test_geometry_every_row(column):
+    # Expected: ITU-R SG3 validation examples for Rec. ITU-R P.1812-8, expected.csv column `column`.
+    got = np.asarray(_result()[column], dtype=float)
+    want = np.array([float(r[column]) for r in ROWS])
+    tol = 1e-3 if column != "w_sea_fraction" else 1e-6
+    bad = [(_row_id(r), g, w) for r, g, w in zip(ROWS, got, want) if not abs(g - w) <= tol]
+    assert not bad, bad
