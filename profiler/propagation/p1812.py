@@ -327,6 +327,48 @@ def effective_heights(distance_km, height_m, n_samples, geometry):
             "hte_m": geometry["hts_m"] - hst_g, "hre_m": geometry["hrs_m"] - hsr_g, "hm_m": hm}
 
 
+def basic_losses(geometry, f_ghz, time_percent, beta0):
+    """Free-space loss along the slant path and the losses not exceeded for p % and β0 % of time [dB].
+
+    Parameters
+    ----------
+    geometry : dict
+        Output of :func:`path_geometry` (``d_km``, ``dlt_km``, ``dlr_km``,
+        ``hts_m``, ``hrs_m``).
+    f_ghz : float or ndarray, shape (L,)
+        Frequency [GHz].
+    time_percent : float or ndarray, shape (L,)
+        Time percentage p [%].
+    beta0 : float or ndarray, shape (L,)
+        β0 [%].
+
+    Returns
+    -------
+    dict of ndarray, shape (L,)
+        ``lbfs_db`` (eq. 8, with the slant distance dfs of eq. 8a),
+        ``lb0p_db`` (eq. 10) and ``lb0b_db`` (eq. 11) [dB].
+
+    Notes
+    -----
+    Eq. (8) has the rounded constant 92.4 dB; the exact P.525 form of
+    :func:`profiler.propagation.free_space.free_space_term_db` (92.45 dB)
+    differs by 0.05 dB, more than the validation tolerance, so the
+    Recommendation's own form is used here.
+
+    References
+    ----------
+    .. [1] ITU-R P.1812-8 Annex 1 section 4.2, eqs. (8)-(11) (with the
+       focusing/multipath corrections Esp, Esβ of eq. 9).
+    """
+    g = geometry
+    dfs = np.sqrt(g["d_km"] ** 2 + ((g["hts_m"] - g["hrs_m"]) / 1000.0) ** 2)              # eq. (8a) [km]
+    lbfs = 92.4 + 20.0 * np.log10(f_ghz) + 20.0 * np.log10(dfs)                           # eq. (8)
+    horizons = 2.6 * (1.0 - np.exp(-0.1 * (g["dlt_km"] + g["dlr_km"])))
+    esp = horizons * np.log10(np.asarray(time_percent, dtype=float) / 50.0)               # eq. (9a)
+    esb = horizons * np.log10(np.asarray(beta0, dtype=float) / 50.0)                      # eq. (9b)
+    return {"lbfs_db": lbfs, "lb0p_db": lbfs + esp, "lb0b_db": lbfs + esb}                 # eqs. (10), (11)
+
+
 def p1812_batch(distance_km, height_m, clutter_m, zone, n_samples, *, f_ghz, time_percent, htg_m, hrg_m,
                 vertical, delta_n, n0, lat_t_deg, lon_t_deg, lat_r_deg, lon_r_deg):
     """ITU-R P.1812-8 for many terrain profiles at once: the named intermediate values.
@@ -380,6 +422,7 @@ def p1812_batch(distance_km, height_m, clutter_m, zone, n_samples, *, f_ghz, tim
     out["ae_km"] = ae * np.ones_like(out["d_km"])
     out["htc_table5_m"], out["hrc_table5_m"] = out["hts_m"], out["hrs_m"]
     out.update(effective_heights(distance_km, height_m, n, geo))
+    out.update(basic_losses(out, f_ghz, time_percent, out["beta0_percent"]))
     diff = _diffraction(d, h, g, n, out, f_ghz, ae, vertical)
     out.update(hstd_m=diff["hstd"], hsrd_m=diff["hsrd"],
                htc_eq37a_m=diff["modified_height_a_m"], hrc_eq37b_m=diff["modified_height_b_m"])

@@ -84,6 +84,9 @@ GEOMETRY = ["d_km", "dlt_km", "dlr_km", "theta_t_mrad", "theta_r_mrad", "theta_m
             "hsrd_m", "htc_eq37a_m", "hrc_eq37b_m", "hte_m", "hre_m", "hm_m"]
 
 
+LOSSES = ["lbfs_db", "lb0p_db", "lb0b_db"]
+
+
 def _row_id(row):
     return f"{row['profile'][:-4]}-{row['dataset']}"
 
@@ -113,4 +116,14 @@ def test_geometry_every_row(column):
     want = np.array([float(r[column]) for r in ROWS])
     tol = 1e-3 if column != "w_sea_fraction" else 1e-6
     bad = [(_row_id(r), g, w) for r, g, w in zip(ROWS, got, want) if not abs(g - w) <= tol]
+    assert not bad, bad
+
+
+@pytest.mark.parametrize("column", LOSSES)
+@NO_DATA
+def test_losses_every_row(column):
+    # Expected: ITU-R SG3 validation examples for Rec. ITU-R P.1812-8, expected.csv column `column` [dB].
+    got = np.asarray(_result()[column], dtype=float)
+    want = np.array([float(r[column]) for r in ROWS])
+    bad = [(_row_id(r), g, w) for r, g, w in zip(ROWS, got, want) if not abs(g - w) <= 0.01]
     assert not bad, bad
