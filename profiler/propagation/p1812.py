@@ -369,6 +369,84 @@ def basic_losses(geometry, f_ghz, time_percent, beta0):
     return {"lbfs_db": lbfs, "lb0p_db": lbfs + esp, "lb0b_db": lbfs + esb}                 # eqs. (10), (11)
 
 
+def inverse_normal_tail(x):
+    """Inverse complementary cumulative normal distribution I(x), approximation for 0 < x <= 0.5 [-].
+
+    Parameters
+    ----------
+    x : float or ndarray
+        Probability [-], 1e-6 to 0.5.
+
+    Returns
+    -------
+    i : float or ndarray
+        I(x) [-], such that the standard normal exceeds it with
+        probability x (accurate to 0.00054).
+
+    References
+    ----------
+    .. [1] ITU-R P.1812-8 Attachment 2 to Annex 1 (approximation of I(x)
+       with T(x) and ξ(x)); ITU-R P.452-18 Attachment 3.
+    """
+    t = np.sqrt(-2.0 * np.log(np.asarray(x, dtype=float)))
+    xi = (((0.010328 * t + 0.802853) * t) + 2.515516698) / (((0.001308 * t + 0.189269) * t + 1.432788) * t + 1.0)
+    return t - xi
+
+
+def diffraction_losses(d_km, h_m, g_m, n_samples, out, f_ghz, time_percent, ae_km, vertical):
+    """Diffraction loss of P.1812-8 section 4.3 for p % of time, and the basic losses associated with it.
+
+    Parameters
+    ----------
+    d_km, h_m, g_m : ndarray, shape (L, N)
+        Distances [km], terrain heights [m amsl] and terrain plus clutter
+        (at the interior points) [m amsl], padded with zeros.
+    n_samples : ndarray of int, shape (L,)
+        Samples per path (a count).
+    out : dict
+        Path geometry and basic losses (``hts_m``, ``hrs_m``,
+        ``w_sea_fraction``, ``beta0_percent``, ``lbfs_db``, ``lb0p_db``).
+    f_ghz : float or ndarray, shape (L,)
+        Frequency [GHz].
+    time_percent : float or ndarray, shape (L,)
+        Time percentage p [%].
+    ae_km : float or ndarray, shape (L,)
+        Median effective Earth radius [km].
+    vertical : bool or ndarray of bool, shape (L,)
+        Vertical polarization.
+
+    Returns
+    -------
+    dict of ndarray, shape (L,)
+        ``hstd_m``, ``hsrd_m``, ``htc_eq37a_m``, ``hrc_eq37b_m`` [m],
+        ``lbulla_db``, ``lbulls_db``, ``ldsph_db`` (the parts of Ldβ, as
+        in the SG3 examples), ``ld50_db``, ``ldb_db``, ``ldp_db``,
+        ``lbd50_db``, ``lbd_db`` (eq. 43) [dB] and ``fi`` [-].
+
+    References
+    ----------
+    .. [1] ITU-R P.1812-8 Annex 1 section 4.3 (delta-Bullington, eqs. 12-38,
+       the same model as ITU-R P.452-18 section 4.2) and section 4.3.5,
+       eqs. (39)-(43) (Ld50, Ldβ with aβ = 3 x 6371 km, Fi, Ldp, Lbd50,
+       Lbd).
+    """
+    ld50 = _diffraction(d_km, h_m, g_m, n_samples, out, f_ghz, ae_km, vertical)
+    ldb = _diffraction(d_km, h_m, g_m, n_samples, out, f_ghz, 3.0 * EARTH_RADIUS_KM, vertical)
+    p = np.asarray(time_percent, dtype=float)
+    beta0 = out["beta0_percent"]
+    above = p > beta0
+    fi = np.where(above, inverse_normal_tail(np.where(above, p, 1.0) / 100.0)
+                  / inverse_normal_tail(beta0 / 100.0), 1.0)                               # eq. (40)
+    fi = np.where(p >= 50.0, 0.0, fi)
+    ldp = ld50["delta_bullington"] + fi * (ldb["delta_bullington"] - ld50["delta_bullington"])  # eq. (41)
+    return {"hstd_m": ld50["hstd"], "hsrd_m": ld50["hsrd"], "htc_eq37a_m": ld50["modified_height_a_m"],
+            "hrc_eq37b_m": ld50["modified_height_b_m"], "lbulla_db": ldb["bullington"],
+            "lbulls_db": ldb["bullington_smooth"], "ldsph_db": ldb["spherical_earth"],
+            "ld50_db": ld50["delta_bullington"], "ldb_db": ldb["delta_bullington"], "ldp_db": ldp,
+            "lbd50_db": out["lbfs_db"] + ld50["delta_bullington"],                          # eq. (42)
+            "lbd_db": out["lb0p_db"] + ldp, "fi": fi}                                         # eq. (43)
+
+
 def p1812_batch(distance_km, height_m, clutter_m, zone, n_samples, *, f_ghz, time_percent, htg_m, hrg_m,
                 vertical, delta_n, n0, lat_t_deg, lon_t_deg, lat_r_deg, lon_r_deg):
     """ITU-R P.1812-8 for many terrain profiles at once: the named intermediate values.
@@ -423,9 +501,7 @@ def p1812_batch(distance_km, height_m, clutter_m, zone, n_samples, *, f_ghz, tim
     out["htc_table5_m"], out["hrc_table5_m"] = out["hts_m"], out["hrs_m"]
     out.update(effective_heights(distance_km, height_m, n, geo))
     out.update(basic_losses(out, f_ghz, time_percent, out["beta0_percent"]))
-    diff = _diffraction(d, h, g, n, out, f_ghz, ae, vertical)
-    out.update(hstd_m=diff["hstd"], hsrd_m=diff["hsrd"],
-               htc_eq37a_m=diff["modified_height_a_m"], hrc_eq37b_m=diff["modified_height_b_m"])
+    out.update(diffraction_losses(d, h, g, n, out, f_ghz, time_percent, ae, vertical))
     return out
 
 

@@ -84,7 +84,8 @@ GEOMETRY = ["d_km", "dlt_km", "dlr_km", "theta_t_mrad", "theta_r_mrad", "theta_m
             "hsrd_m", "htc_eq37a_m", "hrc_eq37b_m", "hte_m", "hre_m", "hm_m"]
 
 
-LOSSES = ["lbfs_db", "lb0p_db", "lb0b_db"]
+LOSSES = ["lbfs_db", "lb0p_db", "lb0b_db", "lbulla_db", "lbulls_db", "ldsph_db", "ld50_db", "ldb_db", "ldp_db",
+          "lbd50_db", "fi"]
 
 
 def _row_id(row):
@@ -127,3 +128,17 @@ def test_losses_every_row(column):
     want = np.array([float(r[column]) for r in ROWS])
     bad = [(_row_id(r), g, w) for r, g, w in zip(ROWS, got, want) if not abs(g - w) <= 0.01]
     assert not bad, bad
+
+
+@NO_DATA
+def test_lbd_eq43_every_row_where_the_examples_keep_it():
+    # Expected: ITU-R SG3 validation examples for Rec. ITU-R P.1812-8, column lbd_db [dB].  Where the
+    # examples have Lminbap <= Lbd (2 of 42 rows, rburg_urban_with_clutter 0 and 3) their lbd_db holds
+    # Lbda of eq. (60) (equal to their lbda_db), checked with the ducting step; there lbd_db (eq. 43)
+    # is Lb0p + Ldp, as in every other row.
+    got = np.asarray(_result()["lbd_db"], dtype=float)
+    kept = [float(r["lminbap_db"]) > float(r["lbd_db"]) for r in ROWS]
+    assert sum(kept) == 40
+    for row, g, keep in zip(ROWS, got, kept):
+        want = float(row["lbd_db"]) if keep else float(row["lb0p_db"]) + float(row["ldp_db"])
+        assert abs(g - want) <= 0.01, (_row_id(row), g, want)
