@@ -447,6 +447,38 @@ def diffraction_losses(d_km, h_m, g_m, n_samples, out, f_ghz, time_percent, ae_k
             "lbd_db": out["lb0p_db"] + ldp, "fi": fi}                                         # eq. (43)
 
 
+def troposcatter_db(d_km, theta_mrad, f_ghz, n0, time_percent):
+    """Basic transmission loss due to troposcatter not exceeded for p % of time, Lbs [dB].
+
+    Parameters
+    ----------
+    d_km : float or ndarray
+        Path length [km].
+    theta_mrad : float or ndarray
+        Path angular distance θ [mrad].
+    f_ghz : float or ndarray
+        Frequency [GHz].
+    n0 : float or ndarray
+        Sea-level surface refractivity N0 [N-units].
+    time_percent : float or ndarray
+        Time percentage p [%], at most 50.
+
+    Returns
+    -------
+    lbs_db : float or ndarray
+        Lbs [dB].
+
+    References
+    ----------
+    .. [1] ITU-R P.1812-8 Annex 1 section 4.4, eqs. (44) and (45)
+       (frequency-dependent loss Lf).
+    """
+    f = np.asarray(f_ghz, dtype=float)
+    lf = 25.0 * np.log10(f) - 2.5 * np.log10(f / 2.0) ** 2                                   # eq. (45)
+    return (190.1 + lf + 20.0 * np.log10(d_km) + 0.573 * np.asarray(theta_mrad) - 0.15 * np.asarray(n0)
+            - 10.125 * np.log10(50.0 / np.asarray(time_percent, dtype=float)) ** 0.7)        # eq. (44)
+
+
 def p1812_batch(distance_km, height_m, clutter_m, zone, n_samples, *, f_ghz, time_percent, htg_m, hrg_m,
                 vertical, delta_n, n0, lat_t_deg, lon_t_deg, lat_r_deg, lon_r_deg):
     """ITU-R P.1812-8 for many terrain profiles at once: the named intermediate values.
@@ -502,6 +534,7 @@ def p1812_batch(distance_km, height_m, clutter_m, zone, n_samples, *, f_ghz, tim
     out.update(effective_heights(distance_km, height_m, n, geo))
     out.update(basic_losses(out, f_ghz, time_percent, out["beta0_percent"]))
     out.update(diffraction_losses(d, h, g, n, out, f_ghz, time_percent, ae, vertical))
+    out["lbs_db"] = troposcatter_db(out["d_km"], out["theta_mrad"], f_ghz, n0, time_percent)
     return out
 
 
