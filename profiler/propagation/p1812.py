@@ -479,8 +479,117 @@ def troposcatter_db(d_km, theta_mrad, f_ghz, n0, time_percent):
             - 10.125 * np.log10(50.0 / np.asarray(time_percent, dtype=float)) ** 0.7)        # eq. (44)
 
 
+def _site_shielding_db(theta_mrad, dl_km, f_ghz):
+    """Site-shielding loss of one terminal towards its horizon [dB] (zero for θ'' <= 0)."""
+    tpp = theta_mrad - 0.1 * dl_km                                                           # θ''
+    pos = np.maximum(tpp, 0.0)
+    return np.where(tpp > 0.0, 20.0 * np.log10(1.0 + 0.361 * pos * np.sqrt(f_ghz * dl_km))
+                    + 0.264 * pos * f_ghz ** (1.0 / 3.0), 0.0)
+
+
+def _sea_coupling_db(dc_km, dl_km, hs_m, w):
+    """Over-sea surface-duct coupling correction of one terminal [dB] (zero unless near a mostly-sea path)."""
+    near = (w >= 0.75) & (dc_km <= dl_km) & (dc_km <= 5.0)
+    return np.where(near, -3.0 * np.exp(-0.25 * dc_km ** 2) * (1.0 + np.tanh(0.07 * (50.0 - hs_m))), 0.0)
+
+
+def ducting_db(out, f_ghz, time_percent, ae_km, dct_km, dcr_km):
+    """Basic transmission loss due to ducting/layer reflection not exceeded for p % of time, Lba [dB].
+
+    Parameters
+    ----------
+    out : dict
+        Path geometry and heights (``d_km``, ``dlt_km``, ``dlr_km``,
+        ``theta_t_mrad``, ``theta_r_mrad``, ``hts_m``, ``hrs_m``, ``hte_m``,
+        ``hre_m``, ``hm_m``, ``w_sea_fraction``, ``dlm_km``,
+        ``beta0_percent``).
+    f_ghz : float or ndarray, shape (L,)
+        Frequency [GHz].
+    time_percent : float or ndarray, shape (L,)
+        Time percentage p [%].
+    ae_km : float or ndarray, shape (L,)
+        Median effective Earth radius [km].
+    dct_km, dcr_km : float or ndarray, shape (L,)
+        Distances of the transmitter and the receiver from the coast [km]
+        (0 for a terminal at sea).
+
+    Returns
+    -------
+    lba_db : ndarray, shape (L,)
+        Lba = Af + Ad(p) [dB]: fixed coupling losses (empirical correction
+        Alf below 0.5 GHz, site shielding, over-sea coupling) and the time-percentage and angular-distance
+        dependent losses (γd θ' + A(p), with β = β0 μ2 μ3 and Γ).
+
+    References
+    ----------
+    .. [1] ITU-R P.1812-8 Annex 1 section 4.5 (ducting/layer reflection:
+       Af, Alf, Ast, Asr, Act, Acr, Ad(p), γd, θ', A(p), Γ, β, μ2, α, μ3, τ).
+    """
+    o = out
+    f = np.asarray(f_ghz, dtype=float)
+    d, dlt, dlr = o["d_km"], o["dlt_km"], o["dlr_km"]
+    a_lf = np.where(f < 0.5, 45.375 - 137.0 * f + 92.5 * f * f, 0.0)                       # below 500 MHz
+    af = (102.45 + 20.0 * np.log10(f) + 20.0 * np.log10(dlt + dlr) + a_lf
+          + _site_shielding_db(o["theta_t_mrad"], dlt, f) + _site_shielding_db(o["theta_r_mrad"], dlr, f)
+          + _sea_coupling_db(np.asarray(dct_km, dtype=float), dlt, o["hts_m"], o["w_sea_fraction"])
+          + _sea_coupling_db(np.asarray(dcr_km, dtype=float), dlr, o["hrs_m"], o["w_sea_fraction"]))
+    gamma_d = 5e-5 * ae_km * f ** (1.0 / 3.0)                                                # [dB/mrad]
+    th_t = np.minimum(o["theta_t_mrad"], 0.1 * dlt)
+    th_r = np.minimum(o["theta_r_mrad"], 0.1 * dlr)
+    theta_p = 1e3 * d / ae_km + th_t + th_r                                                  # θ' [mrad]
+    tau = 1.0 - np.exp(-4.12e-4 * o["dlm_km"] ** 2.41)
+    alpha = np.maximum(-0.6 - 3.5e-9 * d ** 3.1 * tau, -3.4)
+    mu2 = np.minimum((500.0 / ae_km * d ** 2 / (np.sqrt(o["hte_m"]) + np.sqrt(o["hre_m"])) ** 2) ** alpha, 1.0)
+    di = np.minimum(d - dlt - dlr, 40.0)
+    mu3 = np.where(o["hm_m"] <= 10.0, 1.0, np.exp(-4.6e-5 * (o["hm_m"] - 10.0) * (43.0 + 6.0 * di)))
+    beta = o["beta0_percent"] * mu2 * mu3
+    log_b = np.log10(beta)
+    gamma = (1.076 / (2.0058 - log_b) ** 1.012
+             * np.exp(-(9.51 - 4.8 * log_b + 0.198 * log_b ** 2) * 1e-6 * d ** 1.13))
+    p_beta = np.asarray(time_percent, dtype=float) / beta
+    a_p = -12.0 + (1.2 + 3.7e-3 * d) * np.log10(p_beta) + 12.0 * p_beta ** gamma
+    return af + gamma_d * theta_p + a_p
+
+
+def ducting_blend(out, time_percent):
+    """The blend of diffraction, line-of-sight and ducting losses before troposcatter is added [dB].
+
+    Parameters
+    ----------
+    out : dict
+        ``d_km``, ``theta_mrad``, ``w_sea_fraction``, ``beta0_percent``,
+        ``lb0p_db``, ``lb0b_db``, ``ldp_db``, ``lbd50_db``, ``lbd_db``,
+        ``lba_db``, ``fi``.
+    time_percent : float or ndarray, shape (L,)
+        Time percentage p [%].
+
+    Returns
+    -------
+    dict of ndarray, shape (L,)
+        ``fj`` (eq. 57), ``fk`` (eq. 58) [-], ``lminb0p_db`` (eq. 59),
+        ``lminbap_db`` (eq. 60), ``lbda_db`` (eq. 61), ``lbam_db``
+        (eq. 62) [dB].
+
+    References
+    ----------
+    .. [1] ITU-R P.1812-8 Annex 1 section 4.6, eqs. (57)-(62).
+    """
+    o = out
+    fj = 1.0 - 0.5 * (1.0 + np.tanh(3.0 * 0.8 * (o["theta_mrad"] - 0.3) / 0.3))                # eq. (57)
+    fk = 1.0 - 0.5 * (1.0 + np.tanh(3.0 * 0.5 * (o["d_km"] - 20.0) / 20.0))                     # eq. (58)
+    land_ldp = (1.0 - o["w_sea_fraction"]) * o["ldp_db"]
+    lminb0p = np.where(np.asarray(time_percent) < o["beta0_percent"], o["lb0p_db"] + land_ldp,
+                       o["lbd50_db"] + (o["lb0b_db"] + land_ldp - o["lbd50_db"]) * o["fi"])      # eq. (59)
+    eta = 2.5
+    lminbap = eta * np.logaddexp(o["lba_db"] / eta, o["lb0p_db"] / eta)                        # eq. (60)
+    lbd = o["lbd_db"]
+    lbda = np.where(lminbap > lbd, lbd, lminbap + (lbd - lminbap) * fk)                       # eq. (61)
+    lbam = lbda + (lminb0p - lbda) * fj                                                        # eq. (62)
+    return {"fj": fj, "fk": fk, "lminb0p_db": lminb0p, "lminbap_db": lminbap, "lbda_db": lbda, "lbam_db": lbam}
+
+
 def p1812_batch(distance_km, height_m, clutter_m, zone, n_samples, *, f_ghz, time_percent, htg_m, hrg_m,
-                vertical, delta_n, n0, lat_t_deg, lon_t_deg, lat_r_deg, lon_r_deg):
+                vertical, delta_n, n0, lat_t_deg, lon_t_deg, lat_r_deg, lon_r_deg, dct_km=500.0, dcr_km=500.0):
     """ITU-R P.1812-8 for many terrain profiles at once: the named intermediate values.
 
     Parameters
@@ -509,6 +618,9 @@ def p1812_batch(distance_km, height_m, clutter_m, zone, n_samples, *, f_ghz, tim
         Sea-level surface refractivity N0 [N-units].
     lat_t_deg, lon_t_deg, lat_r_deg, lon_r_deg : float or ndarray, shape (L,)
         Terminal coordinates [deg].
+    dct_km, dcr_km : float or ndarray, shape (L,)
+        Distances of the transmitter and the receiver from the coast [km]
+        (default 500, inland; 0 for a terminal at sea).
 
     Returns
     -------
@@ -535,6 +647,8 @@ def p1812_batch(distance_km, height_m, clutter_m, zone, n_samples, *, f_ghz, tim
     out.update(basic_losses(out, f_ghz, time_percent, out["beta0_percent"]))
     out.update(diffraction_losses(d, h, g, n, out, f_ghz, time_percent, ae, vertical))
     out["lbs_db"] = troposcatter_db(out["d_km"], out["theta_mrad"], f_ghz, n0, time_percent)
+    out["lba_db"] = ducting_db(out, f_ghz, time_percent, ae, dct_km, dcr_km)
+    out.update(ducting_blend(out, time_percent))
     return out
 
 

@@ -65,12 +65,13 @@ def _batch(rows):
         d[i, :n[i]], h[i, :n[i]], r[i, :n[i]], z[i, :n[i]] = p[:, 0], p[:, 1], p[:, 3], p[:, 4]
     lat_lon = np.array([_lat_lon(read_sg3_profile(r["profile"])[0]) for r in rows]).T
     col = {k: np.array([float(r[k]) for r in rows]) for k in ("f_ghz", "time_percent", "htg_m", "hrg_m",
-                                                              "polarization", "delta_n", "n0")}
+                                                              "polarization", "delta_n", "n0", "dct_km",
+                                                              "dcr_km")}
     return p1812.p1812_batch(d, h, r, np.nan_to_num(z).astype(int), n, f_ghz=col["f_ghz"],
                              time_percent=col["time_percent"], htg_m=col["htg_m"], hrg_m=col["hrg_m"],
                              vertical=col["polarization"] == 2, delta_n=col["delta_n"], n0=col["n0"],
                              lat_t_deg=lat_lon[0], lon_t_deg=lat_lon[1], lat_r_deg=lat_lon[2],
-                             lon_r_deg=lat_lon[3])
+                             lon_r_deg=lat_lon[3], dct_km=col["dct_km"], dcr_km=col["dcr_km"])
 
 
 @functools.lru_cache(maxsize=None)
@@ -85,7 +86,7 @@ GEOMETRY = ["d_km", "dlt_km", "dlr_km", "theta_t_mrad", "theta_r_mrad", "theta_m
 
 
 LOSSES = ["lbfs_db", "lb0p_db", "lb0b_db", "lbulla_db", "lbulls_db", "ldsph_db", "ld50_db", "ldb_db", "ldp_db",
-          "lbd50_db", "fi", "lbs_db"]
+          "lbd50_db", "fi", "lbs_db", "lba_db", "fj", "fk", "lminb0p_db", "lminbap_db", "lbda_db", "lbam_db"]
 
 
 def _row_id(row):
@@ -134,7 +135,7 @@ def test_losses_every_row(column):
 def test_lbd_eq43_every_row_where_the_examples_keep_it():
     # Expected: ITU-R SG3 validation examples for Rec. ITU-R P.1812-8, column lbd_db [dB].  Where the
     # examples have Lminbap <= Lbd (2 of 42 rows, rburg_urban_with_clutter 0 and 3) their lbd_db holds
-    # Lbda of eq. (60) (equal to their lbda_db), checked with the ducting step; there lbd_db (eq. 43)
+    # Lbda of eq. (61) (equal to their lbda_db, checked in test_losses_every_row); there lbd_db (eq. 43)
     # is Lb0p + Ldp, as in every other row.
     got = np.asarray(_result()["lbd_db"], dtype=float)
     kept = [float(r["lminbap_db"]) > float(r["lbd_db"]) for r in ROWS]
