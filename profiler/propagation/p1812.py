@@ -588,6 +588,34 @@ def ducting_blend(out, time_percent):
     return {"fj": fj, "fk": fk, "lminb0p_db": lminb0p, "lminbap_db": lminbap, "lbda_db": lbda, "lbam_db": lbam}
 
 
+def combined_losses(out, f_ghz):
+    """Overall basic transmission loss at the median location, and the field strength for 1 kW e.r.p.
+
+    Parameters
+    ----------
+    out : dict
+        ``lbs_db``, ``lbam_db``, ``lb0p_db`` [dB].
+    f_ghz : float or ndarray, shape (L,)
+        Frequency [GHz].
+
+    Returns
+    -------
+    dict of ndarray, shape (L,)
+        ``lbc_db`` (eq. 63) and ``lb_db`` (eq. 69 at 50 % of locations,
+        where the location term is zero) [dB], and ``e_dbuv_m``
+        (eq. 70, for 1 kW e.r.p.) [dBµV/m].
+
+    References
+    ----------
+    .. [1] ITU-R P.1812-8 Annex 1 section 4.7, eq. (63), section 4.9,
+       eq. (69), and section 4.10 (or 5), eq. (70).
+    """
+    lbc = -5.0 * np.log10(10.0 ** (-0.2 * out["lbs_db"]) + 10.0 ** (-0.2 * out["lbam_db"]))   # eq. (63)
+    lb = np.maximum(out["lb0p_db"], lbc)                                                        # eq. (69)
+    e = 199.36 + 20.0 * np.log10(np.asarray(f_ghz, dtype=float)) - lb                          # eq. (70)
+    return {"lbc_db": lbc, "lb_db": lb, "e_dbuv_m": e}
+
+
 def p1812_batch(distance_km, height_m, clutter_m, zone, n_samples, *, f_ghz, time_percent, htg_m, hrg_m,
                 vertical, delta_n, n0, lat_t_deg, lon_t_deg, lat_r_deg, lon_r_deg, dct_km=500.0, dcr_km=500.0):
     """ITU-R P.1812-8 for many terrain profiles at once: the named intermediate values.
@@ -649,6 +677,7 @@ def p1812_batch(distance_km, height_m, clutter_m, zone, n_samples, *, f_ghz, tim
     out["lbs_db"] = troposcatter_db(out["d_km"], out["theta_mrad"], f_ghz, n0, time_percent)
     out["lba_db"] = ducting_db(out, f_ghz, time_percent, ae, dct_km, dcr_km)
     out.update(ducting_blend(out, time_percent))
+    out.update(combined_losses(out, f_ghz))
     return out
 
 

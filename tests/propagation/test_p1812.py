@@ -86,7 +86,8 @@ GEOMETRY = ["d_km", "dlt_km", "dlr_km", "theta_t_mrad", "theta_r_mrad", "theta_m
 
 
 LOSSES = ["lbfs_db", "lb0p_db", "lb0b_db", "lbulla_db", "lbulls_db", "ldsph_db", "ld50_db", "ldb_db", "ldp_db",
-          "lbd50_db", "fi", "lbs_db", "lba_db", "fj", "fk", "lminb0p_db", "lminbap_db", "lbda_db", "lbam_db"]
+          "lbd50_db", "fi", "lbs_db", "lba_db", "fj", "fk", "lminb0p_db", "lminbap_db", "lbda_db", "lbam_db",
+          "lbc_db", "lb_db", "e_dbuv_m"]
 
 
 def _row_id(row):
