@@ -40,6 +40,8 @@ PHYSICS_MODULES = [
     "profiler.propagation.polarization",
     "profiler.propagation.prefix_kernel",
     "profiler.propagation.p1812",
+    "profiler.propagation.p1812.geometry",
+    "profiler.propagation.p1812.losses",
     "profiler.lora.bands",
     "profiler.lora.regional",
     "profiler.lora.modem",
