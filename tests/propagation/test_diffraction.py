@@ -9,14 +9,13 @@ Check values come from:
 """
 
 import ast
-import csv
 import functools
 import math
 from pathlib import Path
 
 import numpy as np
 import pytest
-from reference_data import missing_reason, reference_folder
+from reference_data import expected_rows, missing_reason, reference_folder
 from scipy.integrate import quad
 
 from profiler.errors import ProfilerError
@@ -40,14 +39,7 @@ NO_DATA = pytest.mark.skipif(DATA is None, reason=missing_reason("p452-validatio
 # ITU-R SG3 validation examples for Rec. ITU-R P.452-18
 # ---------------------------------------------------------------------------
 
-def _rows():
-    if DATA is None:
-        return []
-    with open(DATA / "expected.csv", newline="") as fh:
-        return list(csv.DictReader(fh))
-
-
-ROWS = _rows()
+ROWS = expected_rows(DATA)
 
 
 @functools.lru_cache(maxsize=None)

@@ -7,12 +7,11 @@ expected.csv, every column the module computes so far, within 0.01 dB
 their SG3 data-bank layout by the small parser below (test helper only).
 """
 
-import csv
 import functools
 
 import numpy as np
 import pytest
-from reference_data import missing_reason, reference_folder
+from reference_data import expected_rows, missing_reason, reference_folder
 
 from profiler.propagation import p1812
 
@@ -20,14 +19,7 @@ DATA = reference_folder("p1812-validation")          # ../shared/reference/p1812
 NO_DATA = pytest.mark.skipif(DATA is None, reason=missing_reason("p1812-validation"))
 
 
-def _rows():
-    if DATA is None:
-        return []
-    with open(DATA / "expected.csv", newline="") as fh:
-        return list(csv.DictReader(fh))
-
-
-ROWS = _rows()
+ROWS = expected_rows(DATA)
 
 
 @functools.lru_cache(maxsize=None)
