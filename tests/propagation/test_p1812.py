@@ -136,3 +136,42 @@ def test_lbd_eq43_every_row_where_the_examples_keep_it():
     for row, g, keep in zip(ROWS, got, kept):
         want = float(row["lbd_db"]) if keep else float(row["lb0p_db"]) + float(row["ldp_db"])
         assert abs(g - want) <= 0.01, (_row_id(row), g, want)
+
+
+def _measurement_rows(name):
+    """Measurement block of an SG3 profile file: (p [%], e.r.p. [dBW], E [dBuV/m], Lb [dB]) per case."""
+    rows, inside = [], False
+    for line in (DATA / "profiles" / name).read_text(encoding="latin-1").splitlines():
+        cells = [c.strip() for c in line.split(",")]
+        if cells[0].startswith("{Begin of Measurements"):
+            inside = True
+        elif cells[0].startswith("{End of Measurements"):
+            inside = False
+        elif inside and cells[0]:
+            rows.append((float(cells[14]), float(cells[12]), float(cells[16]), float(cells[17])))
+    return rows
+
+
+@NO_DATA
+def test_lb_matches_the_profile_files_own_reference_values():
+    # Expected: ITU-R SG3 validation examples for Rec. ITU-R P.1812-8, the measurement block of each
+    # profile file (columns 13, 15, 17, 18: total e.r.p. [dBW], p [%], field strength [dBuV/m] for that
+    # e.r.p., basic transmission loss Lb [dB]); e_dbuv_m is for 1 kW (30 dBW).
+    res = _result()
+    for i, row in enumerate(ROWS):
+        p, erp_dbw, e, lb = _measurement_rows(row["profile"])[int(row["dataset"])]
+        assert p == float(row["time_percent"])
+        assert abs(res["lb_db"][i] - lb) <= 0.01, (_row_id(row), res["lb_db"][i], lb)
+        e_got = res["e_dbuv_m"][i] + erp_dbw - 30.0
+        assert abs(e_got - e) <= 0.01, (_row_id(row), e_got, e)
+
+
+@NO_DATA
+def test_one_path_alone_gives_what_the_padded_batch_gives():
+    # Padding must not change a path's result: each row alone equals its row in the batch of 42
+    # (the check values are the batch's; both are validated against the SG3 examples above).
+    whole = _result()
+    for i in (0, 13, 24, 41):
+        alone = _batch([ROWS[i]])
+        for key in ("theta_t_mrad", "hstd_m", "ld50_db", "lba_db", "lb_db"):
+            assert alone[key][0] == pytest.approx(whole[key][i], abs=1e-9), (_row_id(ROWS[i]), key)
