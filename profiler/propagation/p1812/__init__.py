@@ -13,9 +13,9 @@ section 4.3 is :mod:`profiler.propagation.diffraction_batch` (P.452-18
 section 4.2, the same model), called with the P.1812 profile (clutter
 heights added at the interior points).
 
-Not yet here (later steps of the same issue): diffraction combination for
-time percentages, troposcatter, ducting/layer reflection, the overall
-combination, the location variability and the field strength.
+Not yet here: the location variability (P.1812-8 sections 4.8-4.10, a
+location percentage other than 50 % and σL); every result is for 50 % of
+locations, as the SG3 validation examples.  Not wired into any command.
 
 References
 ----------

@@ -41,8 +41,8 @@ def effective_radius_km(delta_n):
 
     References
     ----------
-    .. [1] ITU-R P.1812-8 Annex 1 section 3.5 (median effective Earth-radius
-       factor k50 and a_e).
+    .. [1] ITU-R P.1812-8 Annex 1 section 3 (radio-meteorological
+       parameters: median effective Earth-radius factor k50 and a_e).
     """
     return EARTH_RADIUS_KM * 157.0 / (157.0 - np.asarray(delta_n, dtype=float))
 
@@ -95,7 +95,8 @@ def beta0_percent(phi_deg, dtm_km, dlm_km):
 
     References
     ----------
-    .. [1] ITU-R P.1812-8 Annex 1 section 3.5 (β0, τ, μ1, μ4).
+    .. [1] ITU-R P.1812-8 Annex 1 section 3 (radio-meteorological
+       parameters: β0, τ, μ1, μ4).
     """
     phi = np.abs(np.asarray(phi_deg, dtype=float))
     tau = 1.0 - np.exp(-4.12e-4 * np.asarray(dlm_km, dtype=float) ** 2.41)
@@ -180,7 +181,7 @@ def smooth_surface_m(d_km, h_m, n_samples):
     References
     ----------
     .. [1] ITU-R P.1812-8 Annex 1 Attachment 1 (smooth-Earth surface,
-       eqs. 83-86); ITU-R P.452-18 Attachment 2 eqs. (161)-(164).
+       eqs. 85-86); ITU-R P.452-18 Attachment 2 eqs. (161)-(164).
     """
     n = np.asarray(n_samples, dtype=np.int64)
     cols = np.arange(d_km.shape[1])

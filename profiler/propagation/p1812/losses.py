@@ -116,9 +116,9 @@ def diffraction_losses(d_km, h_m, g_m, n_samples, out, f_ghz, time_percent, ae_k
 
     References
     ----------
-    .. [1] ITU-R P.1812-8 Annex 1 section 4.3 (delta-Bullington, eqs. 12-38,
-       the same model as ITU-R P.452-18 section 4.2) and section 4.3.5,
-       eqs. (39)-(43) (Ld50, Ldβ with aβ = 3 x 6371 km, Fi, Ldp, Lbd50,
+    .. [1] ITU-R P.1812-8 Annex 1 section 4.3 (delta-Bullington, Lbull
+       eq. 21, Ldsph eq. 27, the same model as ITU-R P.452-18 section 4.2)
+       and eqs. (39)-(43) (Ld50, Ldβ with aβ = 3 x 6371 km, Fi, Ldp, Lbd50,
        Lbd).
     """
     ld50 = _diffraction(d_km, h_m, g_m, n_samples, out, f_ghz, ae_km, vertical)
@@ -298,8 +298,9 @@ def combined_losses(out, f_ghz):
 
     References
     ----------
-    .. [1] ITU-R P.1812-8 Annex 1 section 4.7, eq. (63), section 4.9,
-       eq. (69), and section 4.10 (or 5), eq. (70).
+    .. [1] ITU-R P.1812-8 Annex 1 eq. (63) (combination with
+       troposcatter), eq. (69) (Lb, with the location term zero at 50 %)
+       and eq. (70) (field strength for 1 kW e.r.p.).
     """
     lbc = -5.0 * np.log10(10.0 ** (-0.2 * out["lbs_db"]) + 10.0 ** (-0.2 * out["lbam_db"]))   # eq. (63)
     lb = np.maximum(out["lb0p_db"], lbc)                                                        # eq. (69)
