@@ -23,24 +23,28 @@ ROWS = expected_rows(DATA)
 
 
 @functools.lru_cache(maxsize=None)
-def read_sg3_profile(name):
-    """One SG3 data-bank profile: header values and the profile columns (d [km], h [m], code, R [m], zone)."""
-    header, samples, in_profile = {}, [], False
+def read_sg3_file(name):
+    """An SG3 data-bank file: header values and the cells of each ``{Begin of X}`` .. ``{End of X}`` block."""
+    header, blocks, block = {}, {}, None
     for line in (DATA / "profiles" / name).read_text(encoding="latin-1").splitlines():
         cells = [c.strip() for c in line.split(",")]
-        if cells[0].startswith("{Begin of Profile"):
-            in_profile = True
-        elif cells[0].startswith("{End of Profile"):
-            in_profile = False
-        elif in_profile:
-            try:
-                samples.append([float(c) for c in cells[:5]])
-            except ValueError:
-                continue          # "Number of Points:" line
+        if cells[0].startswith("{Begin of "):
+            block = blocks.setdefault(cells[0][len("{Begin of "):-1], [])
+        elif cells[0].startswith("{End of "):
+            block = None
         elif len(cells) > 1 and cells[0].endswith(":") and cells[1]:
-            header[cells[0][:-1]] = cells[1]
-    columns = np.array(samples)
-    return header, columns
+            header[cells[0][:-1]] = cells[1]        # "Name:,value" lines, also in the meteorology block
+        elif block is not None:
+            block.append(cells)
+    return header, blocks
+
+
+@functools.lru_cache(maxsize=None)
+def read_sg3_profile(name):
+    """One SG3 profile: header values and the profile columns (d [km], h [m], code, R [m], zone)."""
+    header, blocks = read_sg3_file(name)
+    samples = [[float(c) for c in cells[:5]] for cells in blocks["Profile"] if cells[0][:1].isdigit()]
+    return header, np.array(samples)
 
 
 def _lat_lon(header):
@@ -140,16 +144,8 @@ def test_lbd_eq43_every_row_where_the_examples_keep_it():
 
 def _measurement_rows(name):
     """Measurement block of an SG3 profile file: (p [%], e.r.p. [dBW], E [dBuV/m], Lb [dB]) per case."""
-    rows, inside = [], False
-    for line in (DATA / "profiles" / name).read_text(encoding="latin-1").splitlines():
-        cells = [c.strip() for c in line.split(",")]
-        if cells[0].startswith("{Begin of Measurements"):
-            inside = True
-        elif cells[0].startswith("{End of Measurements"):
-            inside = False
-        elif inside and cells[0]:
-            rows.append((float(cells[14]), float(cells[12]), float(cells[16]), float(cells[17])))
-    return rows
+    cases = [cells for cells in read_sg3_file(name)[1]["Measurements"] if cells[0]]
+    return [(float(c[14]), float(c[12]), float(c[16]), float(c[17])) for c in cases]
 
 
 @NO_DATA
