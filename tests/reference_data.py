@@ -7,6 +7,7 @@ tests at another copy.  Tests that need a folder that is not there skip with
 that reason (a fresh clone without the reference data runs everything else).
 """
 
+import csv
 import os
 from pathlib import Path
 
@@ -24,3 +25,11 @@ def reference_folder(name: str) -> Path | None:
 def missing_reason(name: str) -> str:
     return (f"published validation data {name!r} not found under {REFERENCE_DIR} "
             "(set PROFILER_REFERENCE_DIR to its folder)")
+
+
+def expected_rows(folder: Path | None) -> list[dict]:
+    """The rows of ``folder / "expected.csv"`` as dicts of strings; [] when the folder is missing."""
+    if folder is None:
+        return []
+    with open(folder / "expected.csv", newline="") as fh:
+        return list(csv.DictReader(fh))

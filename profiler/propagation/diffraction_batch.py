@@ -29,7 +29,6 @@ References
 
 from __future__ import annotations
 
-import math
 from dataclasses import dataclass
 
 import numpy as np
@@ -292,11 +291,16 @@ def smooth_sum_terms(seg_km, d0_km, d1_km, h0_m, h1_m):
 # Reductions over the interior samples (numpy) and the per-link finish
 # ---------------------------------------------------------------------------
 
-def _numpy_reducer(p: _Paths, ae_km):
-    """The reduction of one Bullington pass over padded profiles (see :func:`diffraction_reductions`)."""
+def _numpy_reducer(p: _Paths, ae_km, bullington_h=None):
+    """The reduction of one Bullington pass over padded profiles (see :func:`diffraction_reductions`).
+
+    ``bullington_h`` (L, N) replaces the heights of the Bullington pass over
+    the actual profile (not the smooth-surface heights); None: ``p.h``.
+    """
+    h_bull = p.h if bullington_h is None else np.asarray(bullington_h, dtype=float)
 
     def reduce(actual, hts, hrs):
-        hc = np.where(p.interior, p.h + p.bulge, 0.0) if actual else p.bulge
+        hc = np.where(p.interior, h_bull + p.bulge, 0.0) if actual else p.bulge
         d = p.d_total[:, None]
         v = np.where(p.interior, v_unit_term(hc, _col(hts), _col(hrs), p.di, p.dd, d), -np.inf)
         out = {"stim": _masked_max(slope_term(hc, _col(hts), p.di), p.interior),      # eq. (14)
@@ -407,8 +411,8 @@ def diffraction_finish(reduced, frequency_mhz, effective_radius_m, vertical=True
     reduced : dict of ndarray, shape (L,)
         Output of :func:`diffraction_reductions` (heights [m amsl], slopes
         [m/km], distances [km]).
-    frequency_mhz : float
-        Frequency [MHz].
+    frequency_mhz : float or ndarray, shape (L,)
+        Frequency [MHz] (one per link, or one for all).
     effective_radius_m : float or ndarray, shape (L,)
         Effective Earth radius [m].
     vertical : bool or ndarray of bool
@@ -427,12 +431,12 @@ def diffraction_finish(reduced, frequency_mhz, effective_radius_m, vertical=True
     .. [1] ITU-R P.452-18 section 4.2 (eqs. 13-43); ITU-R P.526-15
        sections 4.1 and 4.5.
     """
-    f_mhz = float(frequency_mhz)
-    wavelength_m = float(_wavelength_m(f_mhz))
+    f_mhz = np.asarray(frequency_mhz, dtype=float) if np.ndim(frequency_mhz) else float(frequency_mhz)
+    wavelength_m = _wavelength_m(f_mhz)
     ae_km = np.asarray(effective_radius_m, dtype=float) * 1e-3
     r = reduced
     d, hts, hrs, hts_mod, hrs_mod = r["d_total_km"], r["hts"], r["hrs"], r["hts_mod"], r["hrs_mod"]
-    root = math.sqrt(wavelength_m)
+    root = np.sqrt(wavelength_m)
     v_max = r["v_unit"] / root
     lbulla, v_bull, trans = _bullington_finish(r["stim"], r["srim"], v_max, d, hts, hrs, wavelength_m)
     lbulls = _bullington_finish(r["smooth_stim"], r["smooth_srim"], r["smooth_v_unit"] / root, d, hts_mod,
@@ -447,7 +451,7 @@ def diffraction_finish(reduced, frequency_mhz, effective_radius_m, vertical=True
 
 
 def diffraction_batch(distance_m, height_m, n_samples, h_tx_amsl_m, h_rx_amsl_m, frequency_mhz,
-                      effective_radius_m, vertical=True, sea_fraction=0.0) -> dict:
+                      effective_radius_m, vertical=True, sea_fraction=0.0, bullington_height_m=None) -> dict:
     """Knife-edge, Bullington and delta-Bullington losses of many profiles at once.
 
     The numpy reduction over the samples (:func:`diffraction_reductions`)
@@ -463,14 +467,19 @@ def diffraction_batch(distance_m, height_m, n_samples, h_tx_amsl_m, h_rx_amsl_m,
         Number of samples per profile (a count), at least 3.
     h_tx_amsl_m, h_rx_amsl_m : float or ndarray, shape (L,)
         Antenna heights at A and B [m amsl].
-    frequency_mhz : float
-        Frequency [MHz].
+    frequency_mhz : float or ndarray, shape (L,)
+        Frequency [MHz] (one per link, or one for all).
     effective_radius_m : float or ndarray, shape (L,)
         Effective Earth radius [m].
     vertical : bool or ndarray of bool
         Polarization of the spherical-Earth first-term part.
     sea_fraction : float or ndarray
         Fraction of each path over sea [-].
+    bullington_height_m : ndarray, shape (L, N), optional
+        Heights of the Bullington pass over the actual profile [m amsl]
+        when they differ from the terrain used for the smooth surface
+        (P.1812-8 section 4.3: terrain plus representative clutter at the
+        interior points); default ``height_m``.
 
     Returns
     -------
@@ -490,5 +499,6 @@ def diffraction_batch(distance_m, height_m, n_samples, h_tx_amsl_m, h_rx_amsl_m,
     p = _paths(np.asarray(distance_m, dtype=float) * 1e-3, height_m, n_samples, ae_km)
     hts = np.broadcast_to(np.asarray(h_tx_amsl_m, dtype=float), p.d_total.shape)
     hrs = np.broadcast_to(np.asarray(h_rx_amsl_m, dtype=float), p.d_total.shape)
-    reduced = diffraction_reductions(_numpy_reducer(p, ae_km), p.d_total, p.h_first, p.h_last, hts, hrs)
+    reducer = _numpy_reducer(p, ae_km, bullington_height_m)
+    reduced = diffraction_reductions(reducer, p.d_total, p.h_first, p.h_last, hts, hrs)
     return diffraction_finish(reduced, frequency_mhz, effective_radius_m, vertical, sea_fraction)

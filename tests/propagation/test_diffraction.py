@@ -9,14 +9,13 @@ Check values come from:
 """
 
 import ast
-import csv
 import functools
 import math
 from pathlib import Path
 
 import numpy as np
 import pytest
-from reference_data import missing_reason, reference_folder
+from reference_data import expected_rows, missing_reason, reference_folder
 from scipy.integrate import quad
 
 from profiler.errors import ProfilerError
@@ -40,14 +39,7 @@ NO_DATA = pytest.mark.skipif(DATA is None, reason=missing_reason("p452-validatio
 # ITU-R SG3 validation examples for Rec. ITU-R P.452-18
 # ---------------------------------------------------------------------------
 
-def _rows():
-    if DATA is None:
-        return []
-    with open(DATA / "expected.csv", newline="") as fh:
-        return list(csv.DictReader(fh))
-
-
-ROWS = _rows()
+ROWS = expected_rows(DATA)
 
 
 @functools.lru_cache(maxsize=None)
@@ -343,3 +335,27 @@ def test_batch_equals_single_profiles():
         assert out["delta_bullington"][i] == pytest.approx(single.loss_db, abs=1e-9)
         assert out["spherical_earth"][i] == pytest.approx(single.spherical_earth_db, abs=1e-9)
         assert out["knife_edge"][i] == pytest.approx(knife_edge(d, h, ha, hb, 868.0, 8.5e6).loss_db, abs=1e-9)
+
+
+@NO_DATA
+def test_batch_with_one_frequency_per_link_and_explicit_bullington_heights():
+    # ITU-R SG3 validation examples for Rec. ITU-R P.452-18: two rows of different frequencies in one
+    # batch (frequency per link) give each row's Ld column; passing the terrain itself as
+    # bullington_height_m changes nothing.
+    from profiler.propagation.diffraction_batch import diffraction_batch
+
+    rows = [r for r in ROWS if r["profile"] == ROWS[0]["profile"]]
+    rows = [rows[0], next(r for r in rows if r["f_ghz"] != rows[0]["f_ghz"])]
+    d, h = _profile(rows[0]["profile"])
+    dd, hh = np.vstack([d, d]), np.vstack([h, h])
+    n = np.array([len(d), len(d)])
+    args = (dd, hh, n, [float(r["site_a_antenna_amsl_m"]) for r in rows],
+            [float(r["site_b_antenna_amsl_m"]) for r in rows], np.array([float(r["f_ghz"]) * 1000.0 for r in rows]),
+            np.array([float(r["effective_radius_km"]) * 1000.0 for r in rows]))
+    kw = dict(vertical=np.array([r["polarization"] == "vertical" for r in rows]),
+              sea_fraction=np.array([float(r["sea_fraction"]) for r in rows]))
+    res = diffraction_batch(*args, **kw)
+    same = diffraction_batch(*args, **kw, bullington_height_m=hh)
+    assert np.array_equal(res["delta_bullington"], same["delta_bullington"])
+    for i, r in enumerate(rows):
+        assert abs(res["delta_bullington"][i] - float(r["Ld_delta_bullington_db"])) <= 1e-3, _row_id(r)

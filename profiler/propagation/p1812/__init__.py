@@ -1,0 +1,126 @@
+"""ITU-R P.1812-8 point-to-area prediction for terrain profiles, vectorized over paths.
+
+Every function takes padded arrays with one row per path, shape (L, N): row
+l holds ``n_samples[l]`` profile samples from the transmitter (distance 0)
+to the receiver; values beyond are ignored (NaN padding as in the engine).
+Per-path inputs are scalars or arrays of shape (L,).  The results are dicts
+of arrays of shape (L,) keyed by the column names of the ITU-R SG3
+validation examples (``d_km``, ``theta_t_mrad``, ``lbfs_db``, ...).
+
+Practical units of the Recommendation inside: distances in km, heights in
+m, angles in mrad, frequency in GHz.  The delta-Bullington diffraction of
+section 4.3 is :mod:`profiler.propagation.diffraction_batch` (P.452-18
+section 4.2, the same model), called with the P.1812 profile (clutter
+heights added at the interior points).
+
+Not yet here: the location variability (P.1812-8 sections 4.8-4.10, a
+location percentage other than 50 % and σL); every result is for 50 % of
+locations, as the SG3 validation examples.  Not wired into any command.
+
+References
+----------
+.. [1] Recommendation ITU-R P.1812-8, "A path-specific propagation
+   prediction method for point-to-area terrestrial services in the frequency
+   range 30 MHz to 6 000 MHz", Annex 1 sections 3-4 and Attachment 1
+   (path profile analysis).
+.. [2] Recommendation ITU-R P.452-18 (10/2023), section 4.2 and Attachment 2
+   section 5.1.6 (the same smooth-surface heights).
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from .geometry import (
+    EARTH_RADIUS_KM,
+    ZONE_COASTAL,
+    ZONE_INLAND,
+    ZONE_SEA,
+    beta0_percent,
+    effective_heights,
+    effective_radius_km,
+    padded_profile,
+    path_centre_latitude_deg,
+    path_geometry,
+    smooth_surface_m,
+    zone_sections_km,
+)
+from .losses import (
+    basic_losses,
+    combined_losses,
+    diffraction_losses,
+    ducting_blend,
+    ducting_db,
+    inverse_normal_tail,
+    troposcatter_db,
+)
+
+__all__ = ["EARTH_RADIUS_KM", "ZONE_COASTAL", "ZONE_INLAND", "ZONE_SEA", "basic_losses", "beta0_percent",
+           "combined_losses", "diffraction_losses", "ducting_blend", "ducting_db", "effective_heights",
+           "effective_radius_km", "inverse_normal_tail", "p1812_batch", "path_centre_latitude_deg",
+           "padded_profile", "path_geometry", "smooth_surface_m", "troposcatter_db", "zone_sections_km"]
+
+
+def p1812_batch(distance_km, height_m, clutter_m, zone, n_samples, *, f_ghz, time_percent, htg_m, hrg_m,
+                vertical, delta_n, n0, lat_t_deg, lon_t_deg, lat_r_deg, lon_r_deg, dct_km=500.0, dcr_km=500.0):
+    """ITU-R P.1812-8 for many terrain profiles at once: the named intermediate values.
+
+    Parameters
+    ----------
+    distance_km : ndarray, shape (L, N)
+        Distances from the transmitter [km], padded (NaN beyond ``n_samples``).
+    height_m : ndarray, shape (L, N)
+        Terrain heights h_i [m amsl].
+    clutter_m : ndarray, shape (L, N)
+        Representative clutter heights R_i [m], added at the interior points.
+    zone : ndarray of int, shape (L, N)
+        Radio-meteorological zone codes [-] (1 sea, 3 coastal land, 4 inland).
+    n_samples : ndarray of int, shape (L,)
+        Samples per path (a count), at least 3.
+    f_ghz : float or ndarray, shape (L,)
+        Frequency [GHz], 0.03 to 6.
+    time_percent : float or ndarray, shape (L,)
+        Time percentage p [%], 1 to 50.
+    htg_m, hrg_m : float or ndarray, shape (L,)
+        Antenna heights above ground [m].
+    vertical : bool or ndarray of bool, shape (L,)
+        Vertical polarization (else horizontal).
+    delta_n : float or ndarray, shape (L,)
+        Refractivity lapse rate ΔN [N-units/km].
+    n0 : float or ndarray, shape (L,)
+        Sea-level surface refractivity N0 [N-units].
+    lat_t_deg, lon_t_deg, lat_r_deg, lon_r_deg : float or ndarray, shape (L,)
+        Terminal coordinates [deg].
+    dct_km, dcr_km : float or ndarray, shape (L,)
+        Distances of the transmitter and the receiver from the coast [km]
+        (default 500, inland; 0 for a terminal at sea).
+
+    Returns
+    -------
+    dict of ndarray, shape (L,)
+        Keyed by the column names of the SG3 validation examples, units in
+        the names ([km], [m], [mrad], [deg], [%], [dB]).
+
+    References
+    ----------
+    .. [1] ITU-R P.1812-8 Annex 1 sections 3-4 and Attachment 1.
+    """
+    f_ghz = np.asarray(f_ghz, dtype=float)
+    ae = effective_radius_km(delta_n)
+    geo = path_geometry(distance_km, height_m, n_samples, htg_m, hrg_m, f_ghz, ae)
+    out = {k: v for k, v in geo.items() if k not in ("ilt", "ilr")}
+    d, h, g, _, _, n, _ = padded_profile(distance_km, height_m, clutter_m, n_samples)
+    out.update(zone_sections_km(np.where(np.isfinite(distance_km), distance_km, np.nan), zone, n))
+    out["phi_path_centre_deg"] = path_centre_latitude_deg(lat_t_deg, lon_t_deg, lat_r_deg, lon_r_deg,
+                                                             out["d_km"])
+    out["beta0_percent"] = beta0_percent(out["phi_path_centre_deg"], out["dtm_km"], out["dlm_km"])
+    out["ae_km"] = ae * np.ones_like(out["d_km"])
+    out["htc_table5_m"], out["hrc_table5_m"] = out["hts_m"], out["hrs_m"]
+    out.update(effective_heights(distance_km, height_m, n, geo))
+    out.update(basic_losses(out, f_ghz, time_percent, out["beta0_percent"]))
+    out.update(diffraction_losses(d, h, g, n, out, f_ghz, time_percent, ae, vertical))
+    out["lbs_db"] = troposcatter_db(out["d_km"], out["theta_mrad"], f_ghz, n0, time_percent)
+    out["lba_db"] = ducting_db(out, f_ghz, time_percent, ae, dct_km, dcr_km)
+    out.update(ducting_blend(out, time_percent))
+    out.update(combined_losses(out, f_ghz))
+    return out
