@@ -94,7 +94,7 @@ def link(site_a=None, site_b=None, *, dem=None, profile_csv=None, mast_a_m: floa
     Returns
     -------
     LinkResult
-        ``result.to_dict()`` is the ``profiler.link/3`` JSON report; ``result.profile`` holds the
+        ``result.to_dict()`` is the ``profiler.link/4`` JSON report; ``result.profile`` holds the
         per-sample arrays (``distance_m``, ``terrain_m``, ``bulge_m``, ``los_m``, ``fresnel_radius_m``,
         ``clearance_m``, ...).
     """
@@ -168,7 +168,7 @@ def mast(site_a=None, site_b=None, *, dem=None, profile_csv=None, mast_a_m: floa
     Returns
     -------
     profiler.products.mast.result.MastResult
-        ``result.to_dict()`` is the ``profiler.mast/2`` JSON report; ``result.feasible`` is False (with
+        ``result.to_dict()`` is the ``profiler.mast/3`` JSON report; ``result.feasible`` is False (with
         ``result.message``) when no height up to ``max_mast_m`` meets every criterion.
     """
     import dataclasses
@@ -268,7 +268,7 @@ def network(sites, *, dem, pairs=None, max_distance_km: float = 50.0, k_factor="
     Returns
     -------
     profiler.products.network.NetworkResult
-        ``result.to_dict()`` is the ``profiler.network/2`` JSON report (``links``, ``nodes``, ``sites``,
+        ``result.to_dict()`` is the ``profiler.network/3`` JSON report (``links``, ``nodes``, ``sites``,
         ``summary`` as attributes too).
     """
     from .products.network import network as _network
@@ -317,7 +317,7 @@ def siting(sites, *, dem, redundancy: int = 1, min_margin_db: float | None = Non
     -------
     profiler.products.siting.report.SitingResult
         ``result.to_dict()`` is the ``profiler.siting/1`` JSON report; ``result.network`` the
-        ``profiler.network/2`` report it was solved over.
+        ``profiler.network/3`` report it was solved over.
     """
     from .products.siting.report import SitingResult, siting_from_network
 
@@ -388,7 +388,7 @@ def coverage(site=None, *, dem, mast_m: float | None = None, radius_km: float, n
     Returns
     -------
     profiler.products.coverage.map.CoverageResult
-        ``result.to_dict()`` is the ``profiler.coverage/2`` JSON report; ``result.bands`` maps each band
+        ``result.to_dict()`` is the ``profiler.coverage/3`` JSON report; ``result.bands`` maps each band
         name to a float32 array on ``result.grid`` (NaN: nodata).
     """
     from .io.outputs import check_outputs, write_outputs

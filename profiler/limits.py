@@ -95,6 +95,16 @@ LIMITS: dict[str, Limit] = {
     "--app-payload-bytes": Limit(0, 255, "bytes", "application payload", integer=True),
     "--sea-fraction": Limit(0.0, 1.0, "", "fraction of the path over sea"),
     "--extra-loss-db": Limit(0.0, 300.0, "dB", "fixed extra loss"),
+    # propagation model (ITU-R P.1812-8 section 1: 1-50 % of time, 1-99 % of locations)
+    "--time-percent": Limit(1.0, 50.0, "%", "time percentage"),
+    "--location-percent": Limit(1.0, 99.0, "%", "location percentage"),
+    "--location-sigma-db": Limit(0.0, 30.0, "dB", "location variability"),
+    "--area-width-m": Limit(1.0, 100_000.0, "m", "prediction resolution"),
+    # k = 157 / (157 - ΔN) must stay within the range of --k (0.1 to 1e6): ΔN from -1413 to 157 - 1.57e-4.
+    "--delta-n": Limit(-1413.0, 156.9, "N-units/km", "refractivity lapse rate"),
+    "--n0": Limit(200.0, 500.0, "N-units", "sea-level surface refractivity"),
+    "--coast-distance-a-km": Limit(0.0, 20_100.0, "km", "distance of A from the coast"),
+    "--coast-distance-b-km": Limit(0.0, 20_100.0, "km", "distance of B from the coast"),
     # mast search
     "--min-margin-db": Limit(-100.0, 100.0, "dB", "least link margin"),
     "--max-mast-m": Limit(0.0, 1000.0, "m", "highest allowed mast", low_open=True),

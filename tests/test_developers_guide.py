@@ -22,7 +22,7 @@ def dotted_names(text: str) -> list[str]:
     names = set()
     for span in code_spans(text):
         for m in re.finditer(r"\bprofiler(?:\.\w+)+", span):
-            if not re.match(r"profiler\.\w+/\d", span[m.start():]):       # a schema name: profiler.link/3
+            if not re.match(r"profiler\.\w+/\d", span[m.start():]):       # a schema name: profiler.link/4
                 names.add(m.group(0))
     return sorted(names)
 

@@ -42,6 +42,7 @@ PHYSICS_MODULES = [
     "profiler.propagation.p1812",
     "profiler.propagation.p1812.geometry",
     "profiler.propagation.p1812.losses",
+    "profiler.propagation.p1812.location",
     "profiler.lora.bands",
     "profiler.lora.regional",
     "profiler.lora.modem",
@@ -50,6 +51,8 @@ PHYSICS_MODULES = [
     "profiler.lora.rf_exposure",
     "profiler.engine.geometry",
     "profiler.engine.radio",
+    "profiler.engine.losses",
+    "profiler.engine.model",
 ]
 
 # Modules of formulas and published rules (physical quantities, regional
@@ -68,8 +71,12 @@ REFERENCED_FUNCTIONS = {
     "elevation.ElevationModel.sample", "elevation.ElevationModel.pixel_size_m",
     "elevation.ElevationModel.pixel_sizes_m", "sources.metres_per_degree",
     "sources.unit_scale_m", "sources.describe_raster",
-    "radio.slant_distance_m", "radio.check_separation", "radio.diffraction_losses",
-    "radio.path_loss_batch", "radio.radio_batch", "radio.radio_results",
+    "losses.slant_distance_m", "radio.check_separation", "radio.diffraction_losses",
+    "losses.path_loss_batch", "losses.terrain_loss_batch", "losses.p1812_loss_batch",
+    "losses.node_location_sigma_db", "radio.radio_batch", "radio.radio_results",
+    "model.delta_n_from_k", "model.k_from_delta_n",
+    "location.location_sigma_db", "location.height_factor", "location.inverse_normal",
+    "location.location_term_db",
 }
 
 # Modules that transcribe ITU-R recommendations or the LoRaWAN regional

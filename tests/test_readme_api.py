@@ -4,7 +4,7 @@ import`` lines.
 Check value: README and ``docs/*.md`` themselves (issue 17: README pointed at ``profiler.siting.solve_siting``,
 which did not exist; issue 18 moved README's manual into ``docs/``).
 Names are resolved as code reads them after ``import profiler`` (attributes first, then submodules).
-Report schemas (``profiler.link/3``) and command lines (``profiler link ...``) are not Python names.
+Report schemas (``profiler.link/4``) and command lines (``profiler link ...``) are not Python names.
 """
 
 from __future__ import annotations
@@ -20,7 +20,7 @@ README = ROOT / "README.md"
 #: The Markdown pages a reader sees: README and the manual in docs/.
 PAGES = [README, *sorted((ROOT / "docs").glob("*.md"))]
 
-#: A dotted Python name starting with ``profiler.``, not a schema (``profiler.link/3``) nor part of a path.
+#: A dotted Python name starting with ``profiler.``, not a schema (``profiler.link/4``) nor part of a path.
 DOTTED = re.compile(r"(?<![\w/.-])profiler(?:\.[A-Za-z_]\w*)+(?![\w/])")
 FROM_IMPORT = re.compile(r"^[ \t]*from[ \t]+(profiler(?:\.\w+)*)[ \t]+import[ \t]+([\w \t,]+)", re.M)
 

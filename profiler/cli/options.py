@@ -241,12 +241,69 @@ def _radio_option_list():
         click.option("--polarization-b", default="vertical", show_default=True,
                      help="Antenna polarization at B: vertical, horizontal or degrees from vertical."),
         click.option("--sea-fraction", type=FiniteFloat(0.0, 1.0), default=0.0, show_default=True,
-                     help="Fraction of the path over sea (spherical-Earth diffraction term)."),
+                     help="Fraction of the path over sea (spherical-Earth diffraction term; --model terrain only)."),
         click.option("--diffraction", "diffraction_method", type=click.Choice(DIFFRACTION_METHODS),
-                     default="delta-bullington", show_default=True, help="Diffraction model (ITU-R P.526-15)."),
+                     default="delta-bullington", show_default=True,
+                     help="Diffraction model of --model terrain (ITU-R P.526-15); P.1812-8 uses delta-Bullington."),
         click.option("--extra-loss-db", type=NON_NEGATIVE, default=0.0, show_default=True,
                      help="Fixed extra loss: foliage, building entry, ... [dB]."),
+        *model_option_list(),
     ]
+
+
+def model_option_list():
+    """The propagation-model options (:class:`profiler.engine.model.PropagationSettings`), new on each call."""
+    return [
+        click.option("--model", "model", type=click.Choice(["p1812", "terrain"]), default=None,
+                     help="Propagation model: p1812 (ITU-R P.1812-8: terrain, clutter, time and location "
+                          "percentages; the default) or terrain (free space + --diffraction, median; the default "
+                          "for a --profile without --site-a/--site-b)."),
+        click.option("--time-percent", type=NUMBER, default=50.0, show_default=True,
+                     help="P.1812: percentage of time the loss is not exceeded, 1 to 50 [%]; below 50 the loss is "
+                          "lower, i.e. more optimistic (ducting, layer reflection)."),
+        click.option("--location-percent", type=NUMBER, default=50.0, show_default=True,
+                     help="P.1812: percentage of locations the loss is not exceeded, 1 to 99 [%]; 95 plans for "
+                          "19 spots in 20."),
+        click.option("--location-sigma-db", type=NON_NEGATIVE, default=None,
+                     help="P.1812: location variability [dB] (default: P.1812-8 section 4.7 for --area-width-m, "
+                          "reduced for a node antenna above its clutter; 0 for a node at sea)."),
+        click.option("--area-width-m", type=POSITIVE, default=100.0, show_default=True,
+                     help="P.1812: prediction resolution, the width of the square the location variability "
+                          "applies to [m]."),
+        click.option("--delta-n", type=NUMBER, default=None,
+                     help="P.1812: refractivity lapse rate [N-units/km]; sets k = 157 / (157 - N) (default: from "
+                          "--k, 39.25 for 4/3); not together with --k."),
+        click.option("--n0", type=NUMBER, default=315.0, show_default=True,
+                     help="P.1812: sea-level surface refractivity [N-units] (default: ITU-R P.453-14 reference "
+                          "atmosphere)."),
+        click.option("--coast-distance-a-km", type=NON_NEGATIVE, default=500.0, show_default=True,
+                     help="P.1812: distance of A from the coast [km] (0: at sea; 500: inland)."),
+        click.option("--coast-distance-b-km", type=NON_NEGATIVE, default=500.0, show_default=True,
+                     help="P.1812: distance of B from the coast [km] (0: at sea; 500: inland)."),
+    ]
+
+
+MODEL_OPTION_NAMES = ("model", "time_percent", "location_percent", "location_sigma_db", "area_width_m", "delta_n",
+                      "n0", "coast_distance_a_km", "coast_distance_b_km")
+
+
+def propagation_settings(kw):
+    """:class:`PropagationSettings` from the parsed model options (popping them from ``kw``).
+
+    Refuses ``--delta-n`` together with a ``--k`` given on the command line
+    (each sets the effective Earth radius).
+    """
+    from click.core import ParameterSource
+
+    from ..engine.model import PropagationSettings
+
+    values = {n: kw.pop(n) for n in MODEL_OPTION_NAMES if n in kw}
+    ctx = click.get_current_context(silent=True)
+    if values.get("delta_n") is not None and ctx is not None and "k_text" in ctx.params \
+            and ctx.get_parameter_source("k_text") in (ParameterSource.COMMANDLINE, ParameterSource.ENVIRONMENT):
+        raise ProfilerError("give either --k or --delta-n, not both: each sets the effective Earth radius "
+                            "(k = 157 / (157 - delta-n))")
+    return PropagationSettings(**values)
 
 
 def radio_settings(kw):
@@ -261,7 +318,7 @@ def radio_settings(kw):
              "cable_loss_a_db", "cable_loss_b_db", "fade_margin_db", "sensitivity_dbm", "bw_khz", "noise_figure_db",
              "noise_figure_a_db", "noise_figure_b_db", "sf", "payload_bytes", "app_payload_bytes", "dwell_time",
              "polarization_a", "polarization_b", "sea_fraction", "diffraction_method", "extra_loss_db")
-    return RadioSettings(**{n: kw.pop(n) for n in names})
+    return RadioSettings(**{n: kw.pop(n) for n in names}, propagation=propagation_settings(kw))
 
 
 #: ``--plot`` of the commands whose sheets may continue on further sheets (network, coverage, siting).

@@ -34,7 +34,7 @@ class NetworkSettings:
 
 
 def link_fields(d, terrain, n, h_a, h_b, settings: NetworkSettings, overrides=None, *, wavelength=None,
-                effective_radius=None, reduced=None) -> dict:
+                effective_radius=None, reduced=None, paths=None) -> dict:
     """Geometry, losses and both budgets of a batch of sampled links (the engine, no sampling).
 
     Parameters
@@ -59,6 +59,9 @@ def link_fields(d, terrain, n, h_a, h_b, settings: NetworkSettings, overrides=No
         (the minimum of :func:`profiler.propagation.geometry.clearance_ratio_term` and
         where it is; NaN when not given); then
         ``d``, ``terrain`` and ``n`` may be None.
+    paths : dict, optional
+        Terminal coordinates (and clutter/zone columns) of the links, which
+        ``--model p1812`` needs (:func:`profiler.engine.losses.path_loss_batch`).
 
     Returns
     -------
@@ -81,7 +84,7 @@ def link_fields(d, terrain, n, h_a, h_b, settings: NetworkSettings, overrides=No
         worst_d = reduced.get("worst_distance_m", np.full(worst.shape, np.nan))
         los, clear = worst > 0.0, worst >= settings.clearance_ratio
     rb = radio_batch(d, terrain, n, h_a, h_b, settings.frequency_mhz, ae, radio, plan, overrides, rx2=False,
-                     reduced=reduced, informative=False)
+                     reduced=reduced, informative=False, paths=paths)
     fade = radio.fade_margin_db
     up, down = rb["uplink"], rb["downlink"]
     margin_up = up["rx_power_dbm"] - up["budget_sensitivity_dbm"]

@@ -33,8 +33,9 @@ from ..lora import lorawan
 from ..lora import modem as lora_modem
 from ..lora.regional import Plan, dwell_time_limit_ms, max_tx_power_dbm
 from ..propagation import polarization
-from ..propagation.diffraction_batch import diffraction_batch, diffraction_finish
-from ..propagation.free_space import free_space_term_db
+from ..propagation.diffraction_batch import diffraction_batch
+from .losses import path_loss_batch, slant_distance_m  # noqa: F401 - public names of this module before 0.5
+from .model import PropagationSettings
 
 DIFFRACTION_METHODS = ("delta-bullington", "bullington", "knife-edge", "none")
 NODE_TX_POWER_DBM = 14.0
@@ -96,6 +97,9 @@ class RadioSettings:
         One of ``DIFFRACTION_METHODS``.
     extra_loss_db : float, default 0
         Fixed extra loss added to the path [dB].
+    propagation : PropagationSettings
+        The propagation model and its inputs (:mod:`profiler.engine.model`;
+        default: P.1812-8 where the terminals have coordinates, medians).
     """
 
     gateway: str = "a"
@@ -122,6 +126,7 @@ class RadioSettings:
     sea_fraction: float = 0.0
     diffraction_method: str = "delta-bullington"
     extra_loss_db: float = 0.0
+    propagation: PropagationSettings = PropagationSettings()
 
     def validate(self) -> "RadioSettings":
         """Check the settings; raise :class:`ProfilerError` on the first problem.
@@ -164,7 +169,39 @@ class RadioSettings:
         lora_modem.lora_time_on_air_ms(12, self.bw_khz, phy)
         polarization.polarization_angle_deg(self.polarization_a)
         polarization.polarization_angle_deg(self.polarization_b)
+        self.propagation.validate()
+        if self.propagation.model == "p1812":
+            self._check_p1812()
         return self
+
+    def _check_p1812(self) -> None:
+        """Refuse the terrain model's options with ``--model p1812`` (one line saying what to do)."""
+        if self.diffraction_method != "delta-bullington":
+            raise ProfilerError(f"--diffraction {self.diffraction_method} is for --model terrain; P.1812-8 has its "
+                                "own delta-Bullington diffraction: add --model terrain or leave --diffraction out")
+        if self.sea_fraction != 0.0:
+            raise ProfilerError("--sea-fraction is for --model terrain; P.1812-8 takes the sea share from the "
+                                "profile's zone column: add --model terrain or leave --sea-fraction out")
+
+    def with_model(self, has_coordinates: bool) -> "RadioSettings":
+        """These settings with the propagation model chosen (:meth:`PropagationSettings.resolved`) and checked.
+
+        Parameters
+        ----------
+        has_coordinates : bool
+            Both terminals of every link have a latitude and longitude.
+
+        Returns
+        -------
+        RadioSettings
+            A copy whose ``propagation.model`` is "p1812" or "terrain".
+        """
+        from dataclasses import replace
+
+        out = replace(self, propagation=self.propagation.resolved(has_coordinates))
+        if out.propagation.model == "p1812":
+            out._check_p1812()
+        return out
 
     @property
     def node(self) -> str:
@@ -238,115 +275,6 @@ def resolve_ends(radio: RadioSettings, plan: Plan | None, n_links: int = 1, over
         ends[role] = {"end": end, "tx_power_dbm": power, "gain_dbi": gain, "cable_loss_db": loss,
                       "noise_figure_db": value("noise_figure_db", nf_option), "polarization_deg": pol}
     return ends, notes
-
-
-def slant_distance_m(distance_m, antenna_a_amsl_m, antenna_b_amsl_m, earth_radius_m: float = EARTH_RADIUS_M):
-    r"""Straight-line distance between the antenna tips over the spherical Earth [m].
-
-    .. math:: s^2 = (h_a - h_b)^2 + 4 (R + h_a)(R + h_b) \sin^2\left(\frac{d}{2R}\right)
-
-    (the law of cosines for two points at radii :math:`R + h` separated by
-    the ground angle :math:`d / R`, written without cancellation).
-
-    Parameters
-    ----------
-    distance_m : float or ndarray
-        Ground distance between the sites [m].
-    antenna_a_amsl_m, antenna_b_amsl_m : float or ndarray
-        Antenna heights [m above mean sea level].
-    earth_radius_m : float
-        True (not effective) Earth radius [m]: this is geometry, not refraction.
-
-    Returns
-    -------
-    slant_m : float or ndarray
-        Distance between the antenna tips [m].
-
-    References
-    ----------
-    Law of cosines (handbook); ITU-R P.525-4 uses the distance between the
-    antennas for the free-space loss.
-    """
-    ha = np.asarray(antenna_a_amsl_m, dtype=float)
-    hb = np.asarray(antenna_b_amsl_m, dtype=float)
-    s = np.sin(np.asarray(distance_m, dtype=float) / (2.0 * earth_radius_m))
-    return np.sqrt((ha - hb) ** 2 + 4.0 * (earth_radius_m + ha) * (earth_radius_m + hb) * s * s)
-
-
-def path_loss_batch(d, terrain, n, h_a, h_b, frequency_mhz, ae, radio: RadioSettings, pol_a_deg, pol_b_deg,
-                    reduced=None, informative=True):
-    """The ``loss_db`` block for one frequency, one value per link [dB].
-
-    Free space over the slant distance (ITU-R P.525-4), the chosen diffraction
-    method (ITU-R P.526-15 / P.452-18, :func:`profiler.propagation.diffraction_batch.diffraction_batch`),
-    the fixed extra loss and the polarization mismatch.  The spherical-Earth
-    term uses the polarization of antenna A.  ``smooth_surface_height_a_m``/
-    ``_b_m`` are the smooth-surface heights hstd, hsrd of the diffraction model
-    (P.452-18 Attachment 2 eqs. 165-167), not antenna heights.  With
-    ``reduced`` (:func:`profiler.propagation.diffraction_batch.diffraction_reductions` of these
-    links, already computed) the profiles are not read again: ``d``,
-    ``terrain`` and ``n`` may be None.  With ``informative=False`` and
-    ``--diffraction none`` no diffraction model runs at all (its informative
-    values are NaN).
-
-    Parameters
-    ----------
-    d, terrain : ndarray, shape (L, N), or None
-        Padded profiles (distance from A [m], terrain [m AMSL]).
-    n : ndarray of int, shape (L,), or None
-        Number of samples per link.
-    h_a, h_b : ndarray, shape (L,)
-        Antenna heights [m AMSL].
-    frequency_mhz : float
-        Frequency [MHz].
-    ae : float or ndarray
-        Effective Earth radius [m].
-    radio : RadioSettings
-        Validated settings (diffraction method, extra loss, sea fraction).
-    pol_a_deg, pol_b_deg : float
-        Polarization angles of the antennas [deg from vertical].
-    reduced : dict, optional
-        Frequency-independent diffraction reductions of these links.
-    informative : bool, default True
-        Compute the diffraction models even where they are only informative.
-
-    Returns
-    -------
-    dict
-        ``free_space``, ``diffraction``, ``extra``, ``polarization``,
-        ``total``, ``knife_edge``, ``bullington``, ``delta_bullington``,
-        ``spherical_earth`` [dB], ``smooth_surface_height_a_m``/``_b_m``
-        [m AMSL] (arrays over links) and ``diffraction_method``.
-
-    References
-    ----------
-    .. [1] ITU-R P.525-4 Annex 1 section 2.2, eq. (4) (free space).
-    .. [2] ITU-R P.526-15 section 4.1 and P.452-18 section 4.2 (diffraction).
-    """
-    vertical = np.abs(np.cos(np.radians(pol_a_deg))) >= math.sqrt(0.5)
-    if radio.diffraction_method == "none" and not informative:
-        nan = np.full(np.shape(h_a), np.nan)
-        parts = dict.fromkeys(("knife_edge", "bullington", "delta_bullington", "spherical_earth", "hstd", "hsrd"),
-                              nan)
-        length = d[np.arange(d.shape[0]), n - 1] if reduced is None else reduced["length_m"]
-    elif reduced is None:
-        parts = diffraction_batch(d, terrain, n, h_a, h_b, frequency_mhz, ae, vertical,
-                                  radio.sea_fraction)
-        length = d[np.arange(d.shape[0]), n - 1]
-    else:
-        parts = diffraction_finish(reduced, frequency_mhz, ae, vertical, radio.sea_fraction)
-        length = reduced["length_m"]
-    method = radio.diffraction_method
-    diff = np.zeros_like(h_a) if method == "none" else parts[method.replace("-", "_")]
-    slant = slant_distance_m(length, h_a, h_b)
-    free = free_space_term_db(slant, frequency_mhz)                                     # P.525-4 eq. (4)
-    pol_loss = polarization.polarization_mismatch_db(pol_a_deg, pol_b_deg) + np.zeros_like(h_a)
-    total = free + diff + radio.extra_loss_db + pol_loss
-    return {"free_space": free, "diffraction": diff, "extra": np.full_like(h_a, radio.extra_loss_db),
-            "polarization": pol_loss, "total": total, "diffraction_method": method,
-            "knife_edge": parts["knife_edge"], "bullington": parts["bullington"],
-            "delta_bullington": parts["delta_bullington"], "spherical_earth": parts["spherical_earth"],
-            "smooth_surface_height_a_m": parts["hstd"], "smooth_surface_height_b_m": parts["hsrd"]}
 
 
 def diffraction_losses(distance_m, terrain_m, antenna_a_amsl_m, antenna_b_amsl_m, frequency_mhz,
@@ -464,7 +392,7 @@ def _direction_batch(plan, radio, direction, tx, rx, loss_total, frequency_mhz, 
 
 def radio_batch(d, terrain, n, h_a, h_b, frequency_mhz, ae, radio: RadioSettings, plan: Plan | None = None,
                 overrides: dict | None = None, rx2: bool = True, reduced: dict | None = None,
-                informative: bool = True) -> dict:
+                informative: bool = True, paths: dict | None = None) -> dict:
     """Losses and both budgets of many links at once; every value an array over links.
 
     Parameters
@@ -495,11 +423,15 @@ def radio_batch(d, terrain, n, h_a, h_b, frequency_mhz, ae, radio: RadioSettings
     informative : bool
         With False and ``--diffraction none``, skip the diffraction models
         whose values are only informative (batch callers report none).
+    paths : dict, optional
+        Terminal coordinates and clutter/zone columns for ``--model p1812``
+        (:func:`profiler.engine.losses.path_loss_batch`).
 
     Returns
     -------
     dict
-        ``losses`` ({frequency: loss block of arrays}), ``ends``, ``cap_notes``,
+        ``losses`` ({frequency: loss block of arrays}), ``p1812``
+        ({frequency: named P.1812-8 values}, with ``--model p1812``), ``ends``, ``cap_notes``,
         ``uplink`` and ``downlink`` (rx power, the budget's margin, sf, bw,
         dr and sensitivity; with a plan also the per-DR arrays, the rules and
         the recommended index), ``rx2`` (with a plan), ``per_sf`` (uplink
@@ -526,11 +458,12 @@ def radio_batch(d, terrain, n, h_a, h_b, frequency_mhz, ae, radio: RadioSettings
     freqs = {frequency_mhz, f_down} | ({plan.rx2_frequency_mhz} if plan is not None and rx2 else set())
     pol_a = ends["gateway" if radio.gateway == "a" else "node"]["polarization_deg"]
     pol_b = ends["node" if radio.gateway == "a" else "gateway"]["polarization_deg"]
-    losses = {f: path_loss_batch(d, terrain, n, h_a, h_b, f, ae, radio, pol_a, pol_b, reduced, informative)
+    losses = {f: path_loss_batch(d, terrain, n, h_a, h_b, f, ae, radio, pol_a, pol_b, reduced, informative, paths)
               for f in sorted(freqs)}
+    named = {f: block.pop("p1812") for f, block in losses.items() if "p1812" in block}
     phy, app = lorawan.payload_sizes(radio.payload_bytes, radio.app_payload_bytes)
     gw, node = ends["gateway"], ends["node"]
-    out = {"losses": losses, "ends": ends, "cap_notes": cap_notes, "phy_bytes": phy, "app_bytes": app,
+    out = {"losses": losses, "p1812": named, "ends": ends, "cap_notes": cap_notes, "phy_bytes": phy, "app_bytes": app,
            "dwell_ms": dwell, "downlink_frequency_mhz": f_down}
     sf_axis = np.asarray(lora_modem.LORA_SPREADING_FACTORS)
     up_rx = _rx_power(node, gw, losses[frequency_mhz]["total"])
@@ -646,7 +579,8 @@ def block_allowed(block) -> set:
     return {row["dr"] for row in block["per_dr"] if row["allowed"]}
 
 
-def radio_results(d, terrain, h_a, h_b, frequency_mhz, ae, radio: RadioSettings, plan: Plan | None = None):
+def radio_results(d, terrain, h_a, h_b, frequency_mhz, ae, radio: RadioSettings, plan: Plan | None = None,
+                  paths: dict | None = None):
     """Losses, both budgets, the LoRa tables and compliance for one geometry (a batch of one).
 
     Parameters
@@ -665,11 +599,16 @@ def radio_results(d, terrain, h_a, h_b, frequency_mhz, ae, radio: RadioSettings,
         Validated settings.
     plan : Plan, optional
         Regional plan; None when only a frequency was given.
+    paths : dict, optional
+        ``--model p1812``'s terminal coordinates and clutter/zone columns of
+        the one profile, each with a leading axis of length 1
+        (:func:`profiler.engine.losses.path_loss_batch`).
 
     Returns
     -------
     dict
-        Keys ``loss_db`` (at the uplink frequency), ``budget`` (uplink,
+        Keys ``p1812`` (the named P.1812-8 values at the uplink frequency,
+        floats; None with ``--model terrain``), ``loss_db`` (at the uplink frequency), ``budget`` (uplink,
         node -> gateway), ``budget_downlink``, ``lora`` (None with a given
         sensitivity), ``compliance``, ``slant_distance_m`` [m], ``warnings``.
 
@@ -680,7 +619,7 @@ def radio_results(d, terrain, h_a, h_b, frequency_mhz, ae, radio: RadioSettings,
     """
     d2 = np.asarray(d, dtype=float)[None, :]
     rb = radio_batch(d2, np.asarray(terrain, dtype=float)[None, :], np.array([d2.shape[1]]),
-                     np.array([float(h_a)]), np.array([float(h_b)]), frequency_mhz, ae, radio, plan)
+                     np.array([float(h_a)]), np.array([float(h_b)]), frequency_mhz, ae, radio, plan, paths=paths)
     source = "given" if radio.sensitivity_dbm is not None else "lora"
     fade = radio.fade_margin_db
     loss = {k: (v if isinstance(v, str) else float(v[0])) for k, v in rb["losses"][frequency_mhz].items()}
@@ -694,7 +633,10 @@ def radio_results(d, terrain, h_a, h_b, frequency_mhz, ae, radio: RadioSettings,
     compliance = lorawan.compliance_block(plan, ends0, rb["dwell_ms"], rb["cap_notes"])
     if compliance["eirp_ok"] is False:
         warnings += [n for n in compliance["notes"] if "above the" in n]
-    return {"loss_db": loss,
+    named = rb["p1812"].get(frequency_mhz)
+    p1812 = None if named is None else {k: (bool(v[0]) if v.dtype == bool else float(v[0]))
+                                        for k, v in ((k, np.asarray(v)) for k, v in named.items())}
+    return {"loss_db": loss, "p1812": p1812,
             "budget": _budget_block(rb, "uplink", 0, fade, frequency_mhz, source),
             "budget_downlink": _budget_block(rb, "downlink", 0, fade, rb["downlink_frequency_mhz"], source),
             "lora": lora, "compliance": compliance, "ends": ends0,

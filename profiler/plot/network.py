@@ -1,7 +1,7 @@
 """The network map sheet: gateways, candidate sites, nodes and their links by status over a hillshade.
 
 :func:`write_network_figure` draws one landscape sheet from the
-``profiler.network/2`` report: the map (sites by role with different marker
+``profiler.network/3`` report: the map (sites by role with different marker
 shapes and colours, links by status with different line styles as well as
 colours, a north arrow, a scale bar and degree ticks), the legend, a summary
 table, the radio settings, the nodes not covered, and the title block,
@@ -135,7 +135,7 @@ def write_network_figure(report: dict, path, paper: str = "a4", dpi: float = 200
     Parameters
     ----------
     report : dict
-        The ``profiler.network/2`` report.
+        The ``profiler.network/3`` report.
     path : str or os.PathLike
         ``.png``, ``.pdf`` or ``.svg``; written atomically.
     paper : {"a4", "letter"}
@@ -303,7 +303,7 @@ def _has_candidates(report: dict) -> bool:
 
 
 def _covered_by_gateways(summary: dict) -> int:
-    """Nodes the existing gateways hear (``nodes_covered`` in a report older than ``profiler.network/2``)."""
+    """Nodes the existing gateways hear (``nodes_covered`` in a report older than ``profiler.network/3``)."""
     return int(summary.get("nodes_covered_by_gateways", summary.get("nodes_covered")) or 0)
 
 

@@ -1,7 +1,7 @@
 """The gateway siting sheet: the chosen sites, the links they serve, the proof and the greedy comparison.
 
 :func:`write_siting_figure` draws one landscape sheet from the
-``profiler.siting/1`` report and the ``profiler.network/2`` report it was
+``profiler.siting/1`` report and the ``profiler.network/3`` report it was
 solved over:
 
 * the map (the network map's relief, markers, north arrow, scale bar and
@@ -77,7 +77,7 @@ def write_siting_figure(siting: dict, network: dict, path, paper: str = "a4", dp
     siting : dict
         The ``profiler.siting/1`` report.
     network : dict
-        The ``profiler.network/2`` report it was solved over (site positions, links).
+        The ``profiler.network/3`` report it was solved over (site positions, links).
     path : str or os.PathLike
         ``.png``, ``.pdf`` or ``.svg``; written atomically.
     paper : {"a4", "letter"}

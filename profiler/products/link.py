@@ -2,7 +2,7 @@
 
 :func:`analyze_link` is the one Python call behind ``profiler link``.  It
 returns a :class:`LinkResult` whose :meth:`LinkResult.to_dict` is exactly the
-JSON report (schema ``profiler.link/3``).
+JSON report (schema ``profiler.link/4``).
 """
 
 from __future__ import annotations
@@ -16,6 +16,7 @@ import numpy as np
 from .. import limits
 from ..about import __version__
 from ..engine.geometry import geometry_batch
+from ..engine.losses import profile_paths
 from ..engine.radio import RadioSettings, check_separation, radio_results
 from ..engine.radio import slant_distance_m as radio_slant
 from ..errors import ProfilerError
@@ -26,7 +27,7 @@ from ..propagation import diffraction, geometry
 from ..propagation.free_space import NEAR_FIELD_RULE_OF_THUMB_M, NEAR_FIELD_WAVELENGTHS, wavelength_m
 from ..terrain.profile import TerrainProfile
 
-SCHEMA = "profiler.link/3"
+SCHEMA = "profiler.link/4"
 
 
 @dataclass(frozen=True)
@@ -67,6 +68,9 @@ class LinkResult:
     rf_exposure: dict = field(default_factory=dict)
     sheet: dict = field(default_factory=dict)
     warnings: list = field(default_factory=list)
+    model: str = "terrain"
+    propagation: dict = field(default_factory=dict)
+    p1812: dict | None = None
     tool_version: str = __version__
     schema: str = SCHEMA
 
@@ -80,6 +84,8 @@ class LinkResult:
             "site_b": json_clean(self.site_b),
             "frequency_mhz": json_number(self.frequency_mhz),
             "band": self.band,
+            "model": self.model,
+            "propagation": json_clean(self.propagation),
             "wavelength_m": json_number(self.wavelength_m),
             "k_factor": json_number(self.k_factor),
             "effective_radius_m": json_number(self.effective_radius_m),
@@ -97,6 +103,7 @@ class LinkResult:
             "fresnel_clear": bool(self.fresnel_clear),
             "clearance_ratio_required": json_number(self.clearance_ratio_required),
             "loss_db": json_clean(self.loss_db),
+            "p1812": json_clean(self.p1812),
             "budget": json_clean(self.budget),
             "budget_downlink": json_clean(self.budget_downlink),
             "lora": json_clean(self.lora),
@@ -183,11 +190,14 @@ def analyze_link(profile: TerrainProfile, *, mast_a_m: float = 10.0, mast_b_m: f
     limits.check_name(name_a, "name_a")
     limits.check_name(name_b, "name_b")
     radio = (radio or RadioSettings()).validate()
+    has_coordinates = site_a is not None and site_b is not None
+    model_chosen = radio.propagation.model
+    radio = radio.with_model(has_coordinates)
     mast_a = _check_mast(mast_a_m, "a")
     mast_b = _check_mast(mast_b_m, "b")
     if not (math.isfinite(frequency_mhz) and frequency_mhz > 0):
         raise ProfilerError(f"frequency must be a positive number of MHz, got {frequency_mhz}")
-    k = geometry.parse_k_factor(k_factor)
+    k = radio.propagation.k_factor(geometry.parse_k_factor(k_factor))
     limits.check_values({"--mast-a": mast_a, "--mast-b": mast_b, "--freq-mhz": frequency_mhz, "--k": k,
                          "--clearance-ratio": clearance_ratio})
     if not (math.isfinite(clearance_ratio) and clearance_ratio >= 0):
@@ -212,9 +222,13 @@ def analyze_link(profile: TerrainProfile, *, mast_a_m: float = 10.0, mast_b_m: f
     plan = regional_plan(band) if band is not None else None
     slant = float(radio_slant(total, h_a, h_b))
     check_separation(slant, lam)
-    rr = radio_results(d, terrain, h_a, h_b, frequency_mhz, ae, radio, plan)
+    rr = radio_results(d, terrain, h_a, h_b, frequency_mhz, ae, radio, plan,
+                       paths=profile_paths(profile, site_a, site_b) if has_coordinates else None)
 
     warnings = _link_warnings(rr, slant, lam, profile, radio)
+    if model_chosen is None and radio.propagation.model == "terrain":
+        warnings.append("the terrain model was used: ITU-R P.1812-8 needs the coordinates of both ends; with "
+                        "--profile give --site-a LAT,LON and --site-b LAT,LON for it")
     loss = rr["loss_db"]
     date = date or _dt.date.today()
     ends = end_blocks(rr, radio.gateway, plan)
@@ -227,7 +241,8 @@ def analyze_link(profile: TerrainProfile, *, mast_a_m: float = 10.0, mast_b_m: f
         elevation_angle_a_deg=angle_a, elevation_angle_b_deg=angle_b,
         profile={"distance_m": d, "lat_deg": profile.lat_deg, "lon_deg": profile.lon_deg,
                  "terrain_m": terrain, "bulge_m": bulge, "los_m": los,
-                 "fresnel_radius_m": f1, "clearance_m": clearance},
+                 "fresnel_radius_m": f1, "clearance_m": clearance,
+                 **({} if profile.clutter_height_m is None else {"clutter_height_m": profile.clutter_height_m})},
         worst=worst, line_of_sight=line_of_sight, fresnel_clear=fresnel_clear,
         clearance_ratio_required=float(clearance_ratio),
         loss_db=loss, budget=rr["budget"], lora=rr["lora"], budget_downlink=rr["budget_downlink"],
@@ -237,7 +252,8 @@ def analyze_link(profile: TerrainProfile, *, mast_a_m: float = 10.0, mast_b_m: f
         sheet=sheet_block(sheet_info, date),
         dem={"kind": profile.kind, "sources": list(profile.sources), "voids_filled": int(profile.voids_filled),
              "void_stretches_m": [list(map(float, x)) for x in profile.void_stretches_m]},
-        warnings=warnings,
+        warnings=warnings, model=radio.propagation.model, propagation=radio.propagation.to_dict(k),
+        p1812=rr["p1812"],
     )
 
 

@@ -8,7 +8,7 @@ chunks); the chunks run in-process, on a local Dask cluster
 Gateways (and candidate sites) are end A of every link, nodes end B.
 
 The report (:meth:`NetworkResult.to_dict`) is the JSON contract
-``profiler.network/2``.
+``profiler.network/3``.
 """
 
 from __future__ import annotations
@@ -28,7 +28,7 @@ from ..lora.bands import resolve_frequency_mhz
 from ..propagation import geometry
 from ..propagation.free_space import wavelength_m
 
-SCHEMA = "profiler.network/2"
+SCHEMA = "profiler.network/3"
 
 LINK_FLOAT_KEYS = ("distance_m", "azimuth_deg", "worst_fresnel_ratio", "worst_distance_m", "diffraction_db",
                    "total_loss_db", "margin_db", "downlink_margin_db", "max_margin_db")
@@ -88,7 +88,9 @@ def compute_links(model, settings: NetworkSettings, lat_gw, lon_gw, mast_gw, lat
         keep = ~too_close
         rows, n, d, terrain, h_a, h_b = rows[keep], n[keep], d[keep], terrain[keep], h_a[keep], h_b[keep]
         if rows.size:
-            _fill_results(out, rows, s, d, terrain, n, h_a, h_b, lam, ae, settings, overrides)
+            paths = {"lat_a_deg": np.asarray(lat_gw, float)[rows], "lon_a_deg": np.asarray(lon_gw, float)[rows],
+                     "lat_b_deg": np.asarray(lat_node, float)[rows], "lon_b_deg": np.asarray(lon_node, float)[rows]}
+            _fill_results(out, rows, s, d, terrain, n, h_a, h_b, lam, ae, settings, overrides, paths)
     bad = ~np.isfinite(out["margin_db"]) & np.array([e is None for e in errors])
     for i in np.flatnonzero(bad):  # a non-finite result is refused per link, never shown as a number
         errors[i] = "the link budget is not a finite number; check the masts, powers and elevation data"
@@ -96,9 +98,9 @@ def compute_links(model, settings: NetworkSettings, lat_gw, lon_gw, mast_gw, lat
     return out
 
 
-def _fill_results(out, rows, s, d, terrain, n, h_a, h_b, lam, ae, settings, overrides):
+def _fill_results(out, rows, s, d, terrain, n, h_a, h_b, lam, ae, settings, overrides, paths):
     sub = None if overrides is None else {role: {k: v[rows] for k, v in o.items()} for role, o in overrides.items()}
-    res = link_fields(d, terrain, n, h_a, h_b, settings, sub, wavelength=lam, effective_radius=ae)
+    res = link_fields(d, terrain, n, h_a, h_b, settings, sub, wavelength=lam, effective_radius=ae, paths=paths)
     out["distance_m"][rows] = s.length_m[rows]
     out["azimuth_deg"][rows] = s.azimuth_a_to_b_deg[rows]
     for key in ("worst_fresnel_ratio", "worst_distance_m", "line_of_sight", "fresnel_clear", "diffraction_db",
@@ -125,7 +127,7 @@ def _chunk_job(idx, *, settings, sites_arrays, model=None):
 
 @dataclass(frozen=True)
 class NetworkResult:
-    """The network report; :meth:`to_dict` is the JSON contract ``profiler.network/2``."""
+    """The network report; :meth:`to_dict` is the JSON contract ``profiler.network/3``."""
 
     sites: list
     links: list
@@ -271,12 +273,12 @@ def network(sites, *, dem, pairs=None, max_distance_km: float = 50.0, band: str 
     from .sites import candidate_pairs, read_pairs_csv, read_sites_csv, site_overrides
 
     table = sites if hasattr(sites, "names") else read_sites_csv(sites)
-    radio = (radio or RadioSettings()).validate()
+    radio = (radio or RadioSettings()).validate().with_model(True)
     if radio.gateway != "a":
         raise ProfilerError("in a network the gateway is always end A of every link; leave RadioSettings(gateway=...) "
                             "at 'a' (the sites file role column says which site is a gateway)")
     f_mhz, band_name = resolve_frequency_mhz(frequency_mhz, band)
-    k = geometry.parse_k_factor(k_factor)
+    k = radio.propagation.k_factor(geometry.parse_k_factor(k_factor))
     if pairs is None:
         gw, node, _ = candidate_pairs(table, float(max_distance_km) * 1000.0)
     elif isinstance(pairs, tuple):
@@ -315,7 +317,7 @@ def network(sites, *, dem, pairs=None, max_distance_km: float = 50.0, band: str 
         warnings.append(f"{summary['errors']} of {summary['links']} links could not be computed (see their error)")
     settings_out = {"clearance_ratio": settings.clearance_ratio, "diffraction_method": radio.diffraction_method,
                     "max_distance_km": None if pairs is not None else float(max_distance_km),
-                    "pairs": pairs is not None}
+                    "pairs": pairs is not None, **radio.propagation.to_dict(k)}
     return NetworkResult(sites=site_rows, links=_link_records(table, gw, node, res), nodes=nodes, summary=summary,
                          band=band_name, frequency_mhz=f_mhz, k_factor=k, fade_margin_db=radio.fade_margin_db,
                          dem={"kind": "dem", "sources": sources, "voids_filled": int(np.sum(res["voids_filled"]))},

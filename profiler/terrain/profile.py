@@ -47,6 +47,12 @@ class TerrainProfile:
         ``"dem"`` or ``"surveyed"``.
     void_stretches_m : list
         ``[[from_m, to_m], ...]`` of the interpolated stretches (distance from A).
+    clutter_height_m : ndarray or None
+        Representative clutter height R at each sample [m] (ITU-R P.1812-8
+        section 3.2); None: no clutter.
+    zone : ndarray of int or None
+        Radio-meteorological zone code of each sample [-] (1 sea, 3 coastal land,
+        4 inland; P.1812-8 section 3.3); None: inland.
     """
 
     distance_m: np.ndarray
@@ -59,6 +65,8 @@ class TerrainProfile:
     voids_filled: int = 0
     kind: str = "dem"
     void_stretches_m: list = field(default_factory=list)
+    clutter_height_m: np.ndarray | None = None
+    zone: np.ndarray | None = None
 
     @property
     def length_m(self) -> float:
@@ -124,12 +132,22 @@ def profile_from_dem(model, lat_a_deg: float, lon_a_deg: float, lat_b_deg: float
                           void_stretches_m=list(batch.void_stretches_m[0]))
 
 
+ZONE_NAMES = {"sea": 1, "coastal": 3, "inland": 4}
+"""Values of the profile CSV column ``zone`` and their codes (ITU-R P.1812-8 Table 2)."""
+
+MAX_CLUTTER_HEIGHT_M = 1000.0
+"""Tallest representative clutter height a profile row may give [m] (common practice: taller than any building)."""
+
+
 def read_profile_csv(path) -> TerrainProfile:
     """Read a surveyed profile: a CSV file with columns ``distance_m,elevation_m``.
 
     A header row is required; rows are used as given (no resampling).  Site A
     is the first row and site B the last.  Distances must be strictly
-    increasing; they are taken relative to the first row.
+    increasing; they are taken relative to the first row.  Optional columns:
+    ``clutter_height_m`` (representative clutter height R [m], 0 to 1000,
+    empty = 0) and ``zone`` (``sea``, ``coastal`` or ``inland``, empty =
+    inland), the inputs of ITU-R P.1812-8 sections 3.2-3.3.
 
     Parameters
     ----------
@@ -195,8 +213,49 @@ def read_profile_csv(path) -> TerrainProfile:
         raise ProfilerError(f"profile file {p} line {bad}: rows only {steps[bad - 3]:.3g} m apart; "
                             f"rows must be at least {MIN_SURVEY_SPACING_M:g} m apart")
     d = d - d[0]
+    clutter = _clutter_column(p, header, body)
+    zone = _zone_column(p, header, body)
     source = {"path": str(p), "sha256": hashlib.sha256(raw).hexdigest(), "crs": None, "resolution": None}
-    return TerrainProfile(distance_m=d, terrain_m=h, sources=[source], kind="surveyed")
+    return TerrainProfile(distance_m=d, terrain_m=h, sources=[source], kind="surveyed", clutter_height_m=clutter,
+                          zone=zone)
+
+
+def _cell(row, i) -> str:
+    return row[i].strip() if i < len(row) else ""
+
+
+def _clutter_column(p, header, body):
+    """The optional ``clutter_height_m`` column [m] (empty cells 0), or None without the column."""
+    if "clutter_height_m" not in header:
+        return None
+    i = header.index("clutter_height_m")
+    out = np.zeros(len(body))
+    for line, row in enumerate(body, start=2):
+        text = _cell(row, i)
+        try:
+            value = float(text) if text else 0.0
+        except ValueError:
+            value = float("nan")
+        if not (0.0 <= value <= MAX_CLUTTER_HEIGHT_M):
+            raise ProfilerError(f"profile file {p} line {line}: clutter_height_m {text!r} must be a height of 0 to "
+                                f"{MAX_CLUTTER_HEIGHT_M:g} m (or empty for none)")
+        out[line - 2] = value
+    return out
+
+
+def _zone_column(p, header, body):
+    """The optional ``zone`` column as P.1812-8 zone codes (empty cells inland), or None without the column."""
+    if "zone" not in header:
+        return None
+    i = header.index("zone")
+    out = np.full(len(body), ZONE_NAMES["inland"], dtype=np.int64)
+    for line, row in enumerate(body, start=2):
+        text = _cell(row, i).lower()
+        if text and text not in ZONE_NAMES:
+            raise ProfilerError(f"profile file {p} line {line}: zone {_cell(row, i)!r} is not sea, coastal or "
+                                "inland (or empty for inland)")
+        out[line - 2] = ZONE_NAMES[text] if text else ZONE_NAMES["inland"]
+    return out
 
 
 def _row_ok(row, i_d, i_h) -> bool:

@@ -75,7 +75,8 @@ def _result():
     return _batch(ROWS)
 
 
-GEOMETRY = ["d_km", "dlt_km", "dlr_km", "theta_t_mrad", "theta_r_mrad", "theta_mrad", "hts_m", "hrs_m",
+GEOMETRY = ["r2_m", "rn1_m", "delta_n", "n0", "dct_km", "dcr_km", "htg_m", "hrg_m", "f_ghz", "time_percent",
+            "polarization", "d_km", "dlt_km", "dlr_km", "theta_t_mrad", "theta_r_mrad", "theta_mrad", "hts_m", "hrs_m",
             "htc_table5_m", "hrc_table5_m", "w_sea_fraction", "dtm_km", "dlm_km", "phi_path_centre_deg",
             "beta0_percent", "ae_km", "hst_eq85_m", "hsr_eq86_m", "hst_eq90a_m", "hsr_eq90b_m", "hstd_m",
             "hsrd_m", "htc_eq37a_m", "hrc_eq37b_m", "hte_m", "hre_m", "hm_m"]

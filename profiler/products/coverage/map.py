@@ -67,7 +67,7 @@ from .radials import (
     sample_radials,
 )
 
-SCHEMA = "profiler.coverage/2"
+SCHEMA = "profiler.coverage/3"
 RADIALS_PER_CHUNK = 32
 """Radials per task (one sector)."""
 def _sector_job(chunk, *, settings, n_radials, radius_m, step_m, node_mast_m, kernel=None, model=None):
@@ -86,7 +86,8 @@ def _sector_job(chunk, *, settings, n_radials, radius_m, step_m, node_mast_m, ke
     az = np.asarray(indices) * (360.0 / n_radials)
     d, t, n = sample_radials(model, gw, az, radius_m, step_m, settings.fill_voids)
     ae = float(geometry.effective_radius_m(settings.k_factor))
-    out = radial_fields(d, t, n, gw.mast_m, node_mast_m, settings, gw.overrides, kernel)
+    coordinates = sample_coordinates(gw, az, d) if settings.radio.propagation.model == "p1812" else None
+    out = radial_fields(d, t, n, gw.mast_m, node_mast_m, settings, gw.overrides, kernel, coordinates)
     out["terrain_m"] = np.where(np.isfinite(d), t, np.nan)
     los = line_of_sight_radials(d, t, n, t[:, 0] + gw.mast_m, node_mast_m, ae)
     out["line_of_sight"] = np.where(np.isfinite(out["margin_db"]), los.astype(float), np.nan)
@@ -94,10 +95,26 @@ def _sector_job(chunk, *, settings, n_radials, radius_m, step_m, node_mast_m, ke
     return {k: (v.astype(np.float32) if k != "n" else v) for k, v in out.items()}
 
 
+def sample_coordinates(gw, azimuth_deg, distance_m) -> dict:
+    """The site's and every radial sample's latitude and longitude [deg] (``--model p1812``'s path centres).
+
+    Samples at NaN distances get NaN coordinates.
+    """
+    from pyproj import Geod
+
+    az = np.broadcast_to(np.asarray(azimuth_deg, dtype=float)[:, None], distance_m.shape)
+    ok = np.isfinite(distance_m)
+    lat, lon = np.full(distance_m.shape, np.nan), np.full(distance_m.shape, np.nan)
+    lo, la, _ = Geod(ellps="WGS84").fwd(np.full(int(ok.sum()), gw.lon_deg), np.full(int(ok.sum()), gw.lat_deg),
+                                        az[ok], distance_m[ok])
+    lat[ok], lon[ok] = la, lo
+    return {"lat_a_deg": float(gw.lat_deg), "lon_a_deg": float(gw.lon_deg), "lat_b_deg": lat, "lon_b_deg": lon}
+
+
 # --------------------------------------------------------------------------- the run
 @dataclass(frozen=True)
 class CoverageResult:
-    """Bands on the grid (float32, NaN = nodata) and the ``profiler.coverage/2`` summary."""
+    """Bands on the grid (float32, NaN = nodata) and the ``profiler.coverage/3`` summary."""
 
     bands: dict
     grid: CoverageGrid
@@ -241,7 +258,8 @@ def coverage(site=None, *, dem, mast_m=None, name="site", sites=None, radius_km:
     settings_record = {"radius_km": float(radius_km), "resolution_m": res, "node_mast_m": float(node_mast_m),
                        "band": settings.band, "frequency_mhz": settings.frequency_mhz, "k_factor": settings.k_factor,
                        "clearance_ratio": settings.clearance_ratio, "fade_margin_db": settings.radio.fade_margin_db,
-                       "diffraction": settings.radio.diffraction_method, "fill_voids": settings.fill_voids, **sweep}
+                       "diffraction": settings.radio.diffraction_method, "fill_voids": settings.fill_voids, **sweep,
+                       **settings.radio.propagation.to_dict(settings.k_factor)}
     report = _report(gateways, sites is not None, settings_record, grid, bands, inside_any, sources, heard_by_gateways,
                      _radio_ends(gateways, settings), _sheet_block(date, sheet_info))
     return CoverageResult(bands=bands, grid=grid, report=report)
@@ -253,7 +271,7 @@ def _settings(dem, band, frequency_mhz, k_factor, clearance_ratio, fill_voids, r
     from ...engine.radio import RadioSettings
     from ...lora.bands import resolve_frequency_mhz
 
-    radio = (radio or RadioSettings()).validate()
+    radio = (radio or RadioSettings()).validate().with_model(True)
     if radio.gateway != "a":
         raise ProfilerError("in a coverage map the site is the gateway (end A); "
                             "leave RadioSettings(gateway=...) at 'a'")
@@ -262,7 +280,8 @@ def _settings(dem, band, frequency_mhz, k_factor, clearance_ratio, fill_voids, r
     if not dem_paths:
         raise ProfilerError("no elevation data: give --dem FILE_OR_FOLDER")
     return NetworkSettings(dem_paths=dem_paths, frequency_mhz=f_mhz, band=band_name,
-                           k_factor=geometry.parse_k_factor(k_factor), clearance_ratio=float(clearance_ratio),
+                           k_factor=radio.propagation.k_factor(geometry.parse_k_factor(k_factor)),
+                           clearance_ratio=float(clearance_ratio),
                            step_m=None, fill_voids=bool(fill_voids), radio=radio)
 
 
@@ -329,7 +348,7 @@ def _sheet_block(date, sheet_info) -> dict:
 
 def _report(gateways, composite_run, settings_record, grid, bands, inside_any, sources, heard_by_gateways, radio,
             sheet) -> dict:
-    """The ``profiler.coverage/2`` summary."""
+    """The ``profiler.coverage/3`` summary."""
     from ...lora.regional import plan as regional_plan
 
     band_name = settings_record["band"]

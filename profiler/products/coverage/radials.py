@@ -127,7 +127,8 @@ def kernel_available() -> bool:
     return True
 
 
-def radial_fields(distance_m, terrain_m, n, mast_m, node_mast_m, settings, overrides=None, kernel=None) -> dict:
+def radial_fields(distance_m, terrain_m, n, mast_m, node_mast_m, settings, overrides=None, kernel=None,
+                  coordinates=None) -> dict:
     """Engine results for a node at every sample of every radial (every prefix of a radial is one link).
 
     The reductions over each link's samples run in the compiled kernel of
@@ -149,7 +150,11 @@ def radial_fields(distance_m, terrain_m, n, mast_m, node_mast_m, settings, overr
     overrides : dict, optional
         The site's radio values (``tx_power_dbm``, ``gain_dbi``, ...; NaN: the option).
     kernel : bool, optional
-        Use the numba kernel; default: when numba is installed.
+        Use the numba kernel; default: when numba is installed.  With
+        ``--model p1812`` the reductions run in the numpy prefix batches.
+    coordinates : dict, optional
+        ``lat_a_deg``, ``lon_a_deg`` (the site, floats) and ``lat_b_deg``,
+        ``lon_b_deg`` (every sample, (R, N)) [deg]: needed by ``--model p1812``.
 
     Returns
     -------
@@ -162,17 +167,22 @@ def radial_fields(distance_m, terrain_m, n, mast_m, node_mast_m, settings, overr
     d, t = np.asarray(distance_m, float), np.asarray(terrain_m, float)
     n = np.asarray(n)
     out = {k: np.full(d.shape, np.nan) for k in _FIELDS}
-    fast = settings.radio.diffraction_method == "none"
+    p1812 = settings.radio.propagation.model == "p1812"
+    fast = settings.radio.diffraction_method == "none" and not p1812
 
     def run(rr, jj, dd, tt, nn):
         h_a = t[rr, 0] + mast_m
         h_b = t[rr, jj] + node_mast_m
-        res = link_fields(dd, tt, nn, h_a, h_b, settings, _overrides(overrides, rr.size))
+        paths = None if coordinates is None else {
+            "lat_a_deg": np.full(rr.size, coordinates["lat_a_deg"]), "lon_a_deg": np.full(rr.size, coordinates["lon_a_deg"]),
+            "lat_b_deg": coordinates["lat_b_deg"][rr, jj], "lon_b_deg": coordinates["lon_b_deg"][rr, jj]}
+        res = link_fields(dd, tt, nn, h_a, h_b, settings, _overrides(overrides, rr.size), paths=paths)
         for band, key in _FIELDS.items():
             out[band][rr, jj] = res[key]
 
     if kernel is None:
         kernel = kernel_available()
+    kernel = kernel and not p1812
     rr, jj = np.nonzero((np.arange(d.shape[1])[None, :] >= 1) & (np.arange(d.shape[1])[None, :] < n[:, None]))
     # free space, or (numpy, no diffraction) a loss that depends on the two ends only
     straight = (jj == 1) | (fast and not kernel)

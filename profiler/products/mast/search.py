@@ -63,8 +63,9 @@ class MastProblem:
     """The geometry and radio of one mast search; the solved parameter ``t`` is the mast at A
     (``solve="a"``), at B (``"b"``) or the height added at both ends (``"both"``)."""
 
-    def __init__(self, profile, solve, m_a0, m_b0, frequency_mhz, k, k_low, radio, plan, max_mast_m):
+    def __init__(self, profile, solve, m_a0, m_b0, frequency_mhz, k, k_low, radio, plan, max_mast_m, paths=None):
         self.profile, self.solve, self.m_a0, self.m_b0 = profile, solve, m_a0, m_b0
+        self.paths = paths   # profiler.products.link.profile_paths (a batch of one), for --model p1812
         self.frequency_mhz, self.k, self.k_low, self.radio, self.plan = frequency_mhz, k, k_low, radio, plan
         d = self.d = np.asarray(profile.distance_m, dtype=float)
         terrain = self.terrain = np.asarray(profile.terrain_m, dtype=float)
@@ -117,8 +118,10 @@ class MastProblem:
             k = ma_arr[sl].size
             d = np.broadcast_to(self.d, (k, self.d.size))
             t = np.broadcast_to(self.terrain, (k, self.d.size))
+            paths = None if self.paths is None else {
+                key: None if v is None else np.broadcast_to(v, (k,) + np.shape(v)[1:]) for key, v in self.paths.items()}
             rb = radio_batch(d, t, np.full(k, self.d.size), self.g_a + ma_arr[sl], self.g_b + mb_arr[sl],
-                             self.frequency_mhz, self.ae, self.radio, self.plan, rx2=False)
+                             self.frequency_mhz, self.ae, self.radio, self.plan, rx2=False, paths=paths)
             up = rb["uplink"]
             margin = up["rx_power_dbm"] - up["budget_sensitivity_dbm"]
             diff = rb["losses"][self.frequency_mhz]["diffraction"]

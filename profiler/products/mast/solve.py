@@ -54,6 +54,7 @@ import math
 import numpy as np
 
 from ... import limits
+from ...engine.losses import profile_paths
 from ...engine.radio import RadioSettings
 from ...errors import ProfilerError
 from ...keywords import renamed_keyword
@@ -184,13 +185,17 @@ def solve_mast(profile: TerrainProfile, *, frequency_mhz: float, solve: str = "b
     limits.check_name(name_a, "name_a")
     limits.check_name(name_b, "name_b")
     radio = (radio or RadioSettings()).validate()
+    has_coordinates = site_a is not None and site_b is not None
+    model_chosen = radio.propagation.model
+    radio = radio.with_model(has_coordinates)
     max_mast_m, mast_step_m, m_a0, m_b0, ratio, ratio_low = _validated(
         solve, frequency_mhz, max_mast_m, mast_step_m, mast_a_m, mast_b_m, clearance_ratio,
         low_k_clearance_ratio, min_margin_db)
     plan = regional_plan(band) if band is not None else None
-    k, k_low = geometry.parse_k_factor(k_factor), geometry.parse_k_factor(low_k_factor)
+    k, k_low = radio.propagation.k_factor(geometry.parse_k_factor(k_factor)), geometry.parse_k_factor(low_k_factor)
     limits.check_values({"--k": k, "--low-k": k_low})
-    pb = MastProblem(profile, solve, m_a0, m_b0, frequency_mhz, k, k_low, radio, plan, max_mast_m)
+    paths = profile_paths(profile, site_a, site_b) if has_coordinates else None
+    pb = MastProblem(profile, solve, m_a0, m_b0, frequency_mhz, k, k_low, radio, plan, max_mast_m, paths)
 
     criteria, clearance_req = clearance_criteria(pb, ratio, ratio_low)
     name_c = max(clearance_req, key=lambda n: clearance_req[n][0]) if clearance_req else None
@@ -215,6 +220,9 @@ def solve_mast(profile: TerrainProfile, *, frequency_mhz: float, solve: str = "b
 
     split = _split_row(pb, clearance_req, max_mast_m, mast_step_m, x_db) if solve == "both" else None
     warnings = []
+    if model_chosen is None and radio.propagation.model == "terrain":
+        warnings.append("the terrain model was used: ITU-R P.1812-8 needs the coordinates of both ends; with "
+                        "--profile give --site-a LAT,LON and --site-b LAT,LON for it")
     if profile.voids_filled:
         warnings.append(f"{profile.voids_filled} profile samples were interpolated across elevation voids")
     if feasible:
@@ -237,7 +245,7 @@ def solve_mast(profile: TerrainProfile, *, frequency_mhz: float, solve: str = "b
         table=table_rows(pb, table_t), diffraction_method=radio.diffraction_method, message=message,
         notes=notes,
         dem={"kind": profile.kind, "sources": list(profile.sources), "voids_filled": int(profile.voids_filled)},
-        warnings=warnings,
+        warnings=warnings, model=radio.propagation.model, propagation=radio.propagation.to_dict(k),
     )
 
 

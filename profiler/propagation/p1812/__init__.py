@@ -13,9 +13,11 @@ section 4.3 is :mod:`profiler.propagation.diffraction_batch` (P.452-18
 section 4.2, the same model), called with the P.1812 profile (clutter
 heights added at the interior points).
 
-Not yet here: the location variability (P.1812-8 sections 4.8-4.10, a
-location percentage other than 50 % and σL); every result is for 50 % of
-locations, as the SG3 validation examples.  Not wired into any command.
+The location variability (section 4.7: σL, the height factor u(h)) is in
+:mod:`profiler.propagation.p1812.location`; :func:`p1812_batch` takes σL
+(after the height factor, chosen by the caller for the receiving end) and
+the location percentage.  The engine's ``--model p1812`` is
+:mod:`profiler.engine.losses`.
 
 References
 ----------
@@ -45,6 +47,7 @@ from .geometry import (
     smooth_surface_m,
     zone_sections_km,
 )
+from .location import height_factor, inverse_normal, location_sigma_db, location_term_db
 from .losses import (
     basic_losses,
     combined_losses,
@@ -57,12 +60,14 @@ from .losses import (
 
 __all__ = ["EARTH_RADIUS_KM", "ZONE_COASTAL", "ZONE_INLAND", "ZONE_SEA", "basic_losses", "beta0_percent",
            "combined_losses", "diffraction_losses", "ducting_blend", "ducting_db", "effective_heights",
-           "effective_radius_km", "inverse_normal_tail", "p1812_batch", "path_centre_latitude_deg",
+           "effective_radius_km", "height_factor", "inverse_normal", "inverse_normal_tail", "location_sigma_db",
+           "location_term_db", "p1812_batch", "path_centre_latitude_deg",
            "padded_profile", "path_geometry", "smooth_surface_m", "troposcatter_db", "zone_sections_km"]
 
 
 def p1812_batch(distance_km, height_m, clutter_m, zone, n_samples, *, f_ghz, time_percent, htg_m, hrg_m,
-                vertical, delta_n, n0, lat_t_deg, lon_t_deg, lat_r_deg, lon_r_deg, dct_km=500.0, dcr_km=500.0):
+                vertical, delta_n, n0, lat_t_deg, lon_t_deg, lat_r_deg, lon_r_deg, dct_km=500.0, dcr_km=500.0,
+                location_percent=50.0, location_sigma_db=0.0, informative=True):
     """ITU-R P.1812-8 for many terrain profiles at once: the named intermediate values.
 
     Parameters
@@ -94,12 +99,29 @@ def p1812_batch(distance_km, height_m, clutter_m, zone, n_samples, *, f_ghz, tim
     dct_km, dcr_km : float or ndarray, shape (L,)
         Distances of the transmitter and the receiver from the coast [km]
         (default 500, inland; 0 for a terminal at sea).
+    location_percent : float or ndarray, shape (L,)
+        Location percentage pL [%], 1 to 99 (default 50).
+    location_sigma_db : float or ndarray, shape (L,)
+        Location variability σL at the receiving end, after the height
+        factor u(h) [dB] (:mod:`profiler.propagation.p1812.location`;
+        default 0, as the SG3 examples).
+    informative : bool, default True
+        Also compute the diffraction loss at aβ when it does not change the
+        result (p >= 50 %, where Fi = 0); with False its values equal the
+        median ones (``ldb_db``, ``lbulla_db``, ``lbulls_db``, ``ldsph_db``
+        then belong to a_e).
 
     Returns
     -------
     dict of ndarray, shape (L,)
         Keyed by the column names of the SG3 validation examples, units in
-        the names ([km], [m], [mrad], [deg], [%], [dB]).
+        the names ([km], [m], [mrad], [deg], [%], [dB]): the inputs
+        (``f_ghz``, ``time_percent``, ``htg_m``, ``hrg_m``, ``polarization``
+        1 horizontal / 2 vertical, ``delta_n``, ``n0``, ``dct_km``, ``dcr_km``,
+        ``r2_m``, ``rn1_m`` the clutter heights next to the terminals) and the
+        intermediate values, plus
+        ``location_percent`` [%], ``location_sigma_db`` and
+        ``location_term_db`` [dB].
 
     References
     ----------
@@ -108,8 +130,14 @@ def p1812_batch(distance_km, height_m, clutter_m, zone, n_samples, *, f_ghz, tim
     f_ghz = np.asarray(f_ghz, dtype=float)
     ae = effective_radius_km(delta_n)
     geo = path_geometry(distance_km, height_m, n_samples, htg_m, hrg_m, f_ghz, ae)
-    out = {k: v for k, v in geo.items() if k not in ("ilt", "ilr")}
-    d, h, g, _, _, n, _ = padded_profile(distance_km, height_m, clutter_m, n_samples)
+    d, h, g, _, rows, n, _ = padded_profile(distance_km, height_m, clutter_m, n_samples)
+    shape = geo["d_km"].shape
+    r = np.where(np.isfinite(clutter_m), clutter_m, 0.0)
+    out = {name: np.broadcast_to(np.asarray(value, dtype=float), shape).copy() for name, value in (
+        ("f_ghz", f_ghz), ("time_percent", time_percent), ("htg_m", htg_m), ("hrg_m", hrg_m),
+        ("polarization", np.where(vertical, 2.0, 1.0)), ("delta_n", delta_n), ("n0", n0), ("dct_km", dct_km),
+        ("dcr_km", dcr_km), ("r2_m", r[rows, 1]), ("rn1_m", r[rows, n - 2]))}
+    out.update((k, v) for k, v in geo.items() if k not in ("ilt", "ilr"))
     out.update(zone_sections_km(np.where(np.isfinite(distance_km), distance_km, np.nan), zone, n))
     out["phi_path_centre_deg"] = path_centre_latitude_deg(lat_t_deg, lon_t_deg, lat_r_deg, lon_r_deg,
                                                              out["d_km"])
@@ -118,9 +146,12 @@ def p1812_batch(distance_km, height_m, clutter_m, zone, n_samples, *, f_ghz, tim
     out["htc_table5_m"], out["hrc_table5_m"] = out["hts_m"], out["hrs_m"]
     out.update(effective_heights(distance_km, height_m, n, geo))
     out.update(basic_losses(out, f_ghz, time_percent, out["beta0_percent"]))
-    out.update(diffraction_losses(d, h, g, n, out, f_ghz, time_percent, ae, vertical))
+    out.update(diffraction_losses(d, h, g, n, out, f_ghz, time_percent, ae, vertical, informative))
     out["lbs_db"] = troposcatter_db(out["d_km"], out["theta_mrad"], f_ghz, n0, time_percent)
     out["lba_db"] = ducting_db(out, f_ghz, time_percent, ae, dct_km, dcr_km)
     out.update(ducting_blend(out, time_percent))
-    out.update(combined_losses(out, f_ghz))
+    out["location_percent"] = np.broadcast_to(np.asarray(location_percent, dtype=float), out["d_km"].shape)
+    out["location_sigma_db"] = np.broadcast_to(np.asarray(location_sigma_db, dtype=float), out["d_km"].shape)
+    out["location_term_db"] = location_term_db(out["location_percent"], out["location_sigma_db"])
+    out.update(combined_losses(out, f_ghz, out["location_term_db"]))
     return out

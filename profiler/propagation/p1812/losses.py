@@ -84,7 +84,7 @@ def inverse_normal_tail(x):
     return t - xi
 
 
-def diffraction_losses(d_km, h_m, g_m, n_samples, out, f_ghz, time_percent, ae_km, vertical):
+def diffraction_losses(d_km, h_m, g_m, n_samples, out, f_ghz, time_percent, ae_km, vertical, informative=True):
     """Diffraction loss of P.1812-8 section 4.3 for p % of time, and the basic losses associated with it.
 
     Parameters
@@ -105,6 +105,10 @@ def diffraction_losses(d_km, h_m, g_m, n_samples, out, f_ghz, time_percent, ae_k
         Median effective Earth radius [km].
     vertical : bool or ndarray of bool, shape (L,)
         Vertical polarization.
+    informative : bool, default True
+        Run the pass at aβ even where it does not change Ldp (p >= 50 %,
+        Fi = 0); with False it is skipped there and its values are the
+        median pass's.
 
     Returns
     -------
@@ -122,8 +126,9 @@ def diffraction_losses(d_km, h_m, g_m, n_samples, out, f_ghz, time_percent, ae_k
        Lbd).
     """
     ld50 = _diffraction(d_km, h_m, g_m, n_samples, out, f_ghz, ae_km, vertical)
-    ldb = _diffraction(d_km, h_m, g_m, n_samples, out, f_ghz, 3.0 * EARTH_RADIUS_KM, vertical)
     p = np.asarray(time_percent, dtype=float)
+    needed = informative or bool(np.any(p < 50.0))
+    ldb = _diffraction(d_km, h_m, g_m, n_samples, out, f_ghz, 3.0 * EARTH_RADIUS_KM, vertical) if needed else ld50
     beta0 = out["beta0_percent"]
     above = p > beta0
     fi = np.where(above, inverse_normal_tail(np.where(above, p, 1.0) / 100.0)
@@ -279,8 +284,8 @@ def ducting_blend(out, time_percent):
     return {"fj": fj, "fk": fk, "lminb0p_db": lminb0p, "lminbap_db": lminbap, "lbda_db": lbda, "lbam_db": lbam}
 
 
-def combined_losses(out, f_ghz):
-    """Overall basic transmission loss at the median location, and the field strength for 1 kW e.r.p.
+def combined_losses(out, f_ghz, location_term_db=0.0):
+    """Overall basic transmission loss for p % time and pL % locations, and the field strength for 1 kW e.r.p.
 
     Parameters
     ----------
@@ -288,22 +293,24 @@ def combined_losses(out, f_ghz):
         ``lbs_db``, ``lbam_db``, ``lb0p_db`` [dB].
     f_ghz : float or ndarray, shape (L,)
         Frequency [GHz].
+    location_term_db : float or ndarray, shape (L,)
+        -I(pL / 100) σL of :func:`profiler.propagation.p1812.location.location_term_db`
+        [dB] (0: 50 % of locations).
 
     Returns
     -------
     dict of ndarray, shape (L,)
-        ``lbc_db`` (eq. 63) and ``lb_db`` (eq. 69 at 50 % of locations,
-        where the location term is zero) [dB], and ``e_dbuv_m``
+        ``lbc_db`` (eq. 63) and ``lb_db`` (eq. 69) [dB], and ``e_dbuv_m``
         (eq. 70, for 1 kW e.r.p.) [dBµV/m].
 
     References
     ----------
     .. [1] ITU-R P.1812-8 Annex 1 eq. (63) (combination with
-       troposcatter), eq. (69) (Lb, with the location term zero at 50 %)
-       and eq. (70) (field strength for 1 kW e.r.p.).
+       troposcatter), section 4.9 eq. (69) (Lb at pL % of locations) and
+       section 4.10 eq. (70) (field strength for 1 kW e.r.p.).
     """
     lbc = -5.0 * np.log10(10.0 ** (-0.2 * out["lbs_db"]) + 10.0 ** (-0.2 * out["lbam_db"]))   # eq. (63)
-    lb = np.maximum(out["lb0p_db"], lbc)                                                        # eq. (69)
+    lb = np.maximum(out["lb0p_db"], lbc + location_term_db)                                    # eq. (69)
     e = 199.36 + 20.0 * np.log10(np.asarray(f_ghz, dtype=float)) - lb                          # eq. (70)
     return {"lbc_db": lbc, "lb_db": lb, "e_dbuv_m": e}
 
