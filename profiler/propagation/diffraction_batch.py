@@ -321,6 +321,33 @@ def _numpy_reducer(p: _Paths, ae_km, bullington_h=None):
     return reduce
 
 
+def numpy_reduce(distance_km, height_m, n_samples, ae_km, bullington_height_m=None):
+    """The numpy ``reduce`` of :func:`diffraction_reductions` over padded profiles (one Bullington pass per call).
+
+    Parameters
+    ----------
+    distance_km, height_m : ndarray, shape (L, N)
+        Padded profiles: distances from A [km], terrain heights [m amsl].
+    n_samples : ndarray of int, shape (L,)
+        Samples per profile (a count), at least 3.
+    ae_km : float or ndarray, shape (L,)
+        Effective Earth radius [km].
+    bullington_height_m : ndarray, shape (L, N), optional
+        Heights of the Bullington pass over the actual profile [m amsl]
+        (default ``height_m``), as in :func:`diffraction_batch`.
+
+    Returns
+    -------
+    callable
+        ``reduce(actual, hts, hrs) -> dict``, see :func:`diffraction_reductions`.
+
+    References
+    ----------
+    .. [1] ITU-R P.452-18 section 4.2.1 and Attachment 2 section 5.1.6.
+    """
+    return _numpy_reducer(_paths(distance_km, height_m, n_samples, ae_km), ae_km, bullington_height_m)
+
+
 def _bullington_finish(stim, srim, v_los, d, hts, hrs, wavelength_m):
     """Bullington loss from the reductions of one pass: (Lbull [dB], v [-], trans_horizon), each (L,).
 

@@ -19,6 +19,13 @@ The location variability (section 4.7: σL, the height factor u(h)) is in
 the location percentage.  The engine's ``--model p1812`` is
 :mod:`profiler.engine.losses`.
 
+:func:`p1812_batch` is :func:`p1812_reductions` (everything that needs the
+profile samples, :mod:`profiler.propagation.p1812.reductions`, here with the
+numpy :class:`ProfileReducer`) followed by :func:`p1812_finish` (per-path
+formulas only).  ``profiler coverage`` runs the same two with the numba
+reducer of :mod:`profiler.propagation.p1812.prefix` over every prefix of its
+radials.
+
 References
 ----------
 .. [1] Recommendation ITU-R P.1812-8, "A path-specific propagation
@@ -39,12 +46,12 @@ from .geometry import (
     ZONE_INLAND,
     ZONE_SEA,
     beta0_percent,
-    effective_heights,
     effective_radius_km,
+    elevation_mrad_term,
+    horizon_geometry,
     padded_profile,
     path_centre_latitude_deg,
-    path_geometry,
-    smooth_surface_m,
+    roughness_term,
     zone_sections_km,
 )
 from .location import height_factor, inverse_normal, location_sigma_db, location_term_db
@@ -57,12 +64,14 @@ from .losses import (
     inverse_normal_tail,
     troposcatter_db,
 )
+from .reductions import ProfileReducer, p1812_reductions
 
-__all__ = ["EARTH_RADIUS_KM", "ZONE_COASTAL", "ZONE_INLAND", "ZONE_SEA", "basic_losses", "beta0_percent",
-           "combined_losses", "diffraction_losses", "ducting_blend", "ducting_db", "effective_heights",
-           "effective_radius_km", "height_factor", "inverse_normal", "inverse_normal_tail", "location_sigma_db",
-           "location_term_db", "p1812_batch", "path_centre_latitude_deg",
-           "padded_profile", "path_geometry", "smooth_surface_m", "troposcatter_db", "zone_sections_km"]
+__all__ = ["EARTH_RADIUS_KM", "ZONE_COASTAL", "ZONE_INLAND", "ZONE_SEA", "ProfileReducer", "basic_losses",
+           "beta0_percent", "combined_losses", "diffraction_losses", "ducting_blend", "ducting_db",
+           "effective_radius_km", "elevation_mrad_term", "height_factor", "horizon_geometry", "inverse_normal",
+           "inverse_normal_tail", "location_sigma_db", "location_term_db", "p1812_batch", "p1812_finish",
+           "p1812_reductions", "path_centre_latitude_deg", "padded_profile", "roughness_term", "troposcatter_db",
+           "zone_sections_km"]
 
 
 def p1812_batch(distance_km, height_m, clutter_m, zone, n_samples, *, f_ghz, time_percent, htg_m, hrg_m,
@@ -127,31 +136,61 @@ def p1812_batch(distance_km, height_m, clutter_m, zone, n_samples, *, f_ghz, tim
     ----------
     .. [1] ITU-R P.1812-8 Annex 1 sections 3-4 and Attachment 1.
     """
+    reducer = ProfileReducer(distance_km, height_m, clutter_m, zone, n_samples)
+    reduced = p1812_reductions(reducer, htg_m, hrg_m, delta_n, time_percent, informative)
+    return p1812_finish(reduced, f_ghz=f_ghz, time_percent=time_percent, vertical=vertical, n0=n0,
+                        lat_t_deg=lat_t_deg, lon_t_deg=lon_t_deg, lat_r_deg=lat_r_deg, lon_r_deg=lon_r_deg,
+                        dct_km=dct_km, dcr_km=dcr_km, location_percent=location_percent,
+                        location_sigma_db=location_sigma_db)
+
+
+def p1812_finish(reduced, *, f_ghz, time_percent, vertical, n0, lat_t_deg, lon_t_deg, lat_r_deg, lon_r_deg,
+                 dct_km=500.0, dcr_km=500.0, location_percent=50.0, location_sigma_db=0.0):
+    """The named values of :func:`p1812_batch` from :func:`p1812_reductions` (per-path formulas only).
+
+    Parameters
+    ----------
+    reduced : dict
+        Output of :func:`profiler.propagation.p1812.reductions.p1812_reductions`
+        (the numpy :class:`ProfileReducer` or the coverage prefix kernel).
+    f_ghz, time_percent, vertical, n0, lat_t_deg, lon_t_deg, lat_r_deg, lon_r_deg, dct_km, dcr_km
+        As :func:`p1812_batch`.
+    location_percent, location_sigma_db
+        As :func:`p1812_batch`.
+
+    Returns
+    -------
+    dict of ndarray, shape (L,)
+        The named values of :func:`p1812_batch`.
+
+    References
+    ----------
+    .. [1] ITU-R P.1812-8 Annex 1 section 3 (β0), sections 4.2-4.10,
+       eqs. (8)-(70).
+    """
+    r = reduced
     f_ghz = np.asarray(f_ghz, dtype=float)
-    ae = effective_radius_km(delta_n)
-    geo = path_geometry(distance_km, height_m, n_samples, htg_m, hrg_m, f_ghz, ae)
-    d, h, g, _, rows, n, _ = padded_profile(distance_km, height_m, clutter_m, n_samples)
+    geo, ae = r["geometry"], r["ae_km"]
     shape = geo["d_km"].shape
-    r = np.where(np.isfinite(clutter_m), clutter_m, 0.0)
     out = {name: np.broadcast_to(np.asarray(value, dtype=float), shape).copy() for name, value in (
-        ("f_ghz", f_ghz), ("time_percent", time_percent), ("htg_m", htg_m), ("hrg_m", hrg_m),
-        ("polarization", np.where(vertical, 2.0, 1.0)), ("delta_n", delta_n), ("n0", n0), ("dct_km", dct_km),
-        ("dcr_km", dcr_km), ("r2_m", r[rows, 1]), ("rn1_m", r[rows, n - 2]))}
-    out.update((k, v) for k, v in geo.items() if k not in ("ilt", "ilr"))
-    out.update(zone_sections_km(np.where(np.isfinite(distance_km), distance_km, np.nan), zone, n))
+        ("f_ghz", f_ghz), ("time_percent", time_percent), ("htg_m", r["htg_m"]), ("hrg_m", r["hrg_m"]),
+        ("polarization", np.where(vertical, 2.0, 1.0)), ("delta_n", r["delta_n"]), ("n0", n0), ("dct_km", dct_km),
+        ("dcr_km", dcr_km), ("r2_m", r["terminals"]["r2_m"]), ("rn1_m", r["terminals"]["rn1_m"]))}
+    out.update(geo)
+    out.update(r["zones"])
     out["phi_path_centre_deg"] = path_centre_latitude_deg(lat_t_deg, lon_t_deg, lat_r_deg, lon_r_deg,
                                                              out["d_km"])
     out["beta0_percent"] = beta0_percent(out["phi_path_centre_deg"], out["dtm_km"], out["dlm_km"])
     out["ae_km"] = ae * np.ones_like(out["d_km"])
     out["htc_table5_m"], out["hrc_table5_m"] = out["hts_m"], out["hrs_m"]
-    out.update(effective_heights(distance_km, height_m, n, geo))
+    out.update(r["heights"])
     out.update(basic_losses(out, f_ghz, time_percent, out["beta0_percent"]))
-    out.update(diffraction_losses(d, h, g, n, out, f_ghz, time_percent, ae, vertical, informative))
+    out.update(diffraction_losses(r["ld50"], r["ldb"], out, f_ghz, time_percent, ae, vertical))
     out["lbs_db"] = troposcatter_db(out["d_km"], out["theta_mrad"], f_ghz, n0, time_percent)
     out["lba_db"] = ducting_db(out, f_ghz, time_percent, ae, dct_km, dcr_km)
     out.update(ducting_blend(out, time_percent))
-    out["location_percent"] = np.broadcast_to(np.asarray(location_percent, dtype=float), out["d_km"].shape)
-    out["location_sigma_db"] = np.broadcast_to(np.asarray(location_sigma_db, dtype=float), out["d_km"].shape)
+    out["location_percent"] = np.broadcast_to(np.asarray(location_percent, dtype=float), shape)
+    out["location_sigma_db"] = np.broadcast_to(np.asarray(location_sigma_db, dtype=float), shape)
     out["location_term_db"] = location_term_db(out["location_percent"], out["location_sigma_db"])
     out.update(combined_losses(out, f_ghz, out["location_term_db"]))
     return out

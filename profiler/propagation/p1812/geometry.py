@@ -1,8 +1,11 @@
-"""ITU-R P.1812-8 path profile analysis: effective Earth radius, zones, β0, horizons, heights (per path).
+"""ITU-R P.1812-8 path profile analysis: effective Earth radius, zones, β0, horizons (per path).
 
 Padded arrays with one row per path, shape (L, N), as in
 :mod:`profiler.propagation.p1812`; practical units of the Recommendation
-(km, m, mrad, GHz).
+(km, m, mrad, GHz).  The elementwise terms of one profile sample
+(:func:`elevation_mrad_term`, :func:`roughness_term`) are the ones the numpy
+reductions of :mod:`profiler.propagation.p1812.reductions` and the numba
+prefix kernel of :mod:`profiler.propagation.p1812.prefix` both use.
 
 References
 ----------
@@ -19,10 +22,6 @@ ZONE_SEA, ZONE_COASTAL, ZONE_INLAND = 1, 3, 4
 
 EARTH_RADIUS_KM = 6371.0
 """Mean Earth radius of P.1812-8 [km]."""
-
-
-def _col(x):
-    return np.asarray(x, dtype=float).reshape(-1, 1) if np.ndim(x) else float(x)
 
 
 def effective_radius_km(delta_n):
@@ -160,41 +159,6 @@ def zone_sections_km(d_km, zone, n_samples):
             "dlm_km": _runs_max_km(cover, zone == ZONE_INLAND)}
 
 
-def smooth_surface_m(d_km, h_m, n_samples):
-    """Least-squares smooth surface of the terrain: heights at the terminals [m amsl].
-
-    Parameters
-    ----------
-    d_km : ndarray, shape (L, N)
-        Distances [km], padded.
-    h_m : ndarray, shape (L, N)
-        Terrain heights [m amsl], padded.
-    n_samples : ndarray of int, shape (L,)
-        Samples per path (a count).
-
-    Returns
-    -------
-    hst_m, hsr_m : ndarray, shape (L,)
-        Heights of the smooth surface at the transmitter and the receiver
-        [m amsl], eqs. (85), (86).
-
-    References
-    ----------
-    .. [1] ITU-R P.1812-8 Annex 1 Attachment 1 (smooth-Earth surface,
-       eqs. 85-86); ITU-R P.452-18 Attachment 2 eqs. (161)-(164).
-    """
-    n = np.asarray(n_samples, dtype=np.int64)
-    cols = np.arange(d_km.shape[1])
-    pair = (cols[None, 1:] < n[:, None])
-    d0, d1 = d_km[:, :-1], d_km[:, 1:]
-    h0, h1 = h_m[:, :-1], h_m[:, 1:]
-    seg = d1 - d0
-    v1 = np.sum(np.where(pair, seg * (h1 + h0), 0.0), axis=1)
-    v2 = np.sum(np.where(pair, seg * (h1 * (2 * d1 + d0) + h0 * (d1 + 2 * d0)), 0.0), axis=1)
-    d = d_km[np.arange(d_km.shape[0]), n - 1]
-    return (2 * v1 * d - v2) / d ** 2, (v2 - v1 * d) / d ** 2
-
-
 def padded_profile(distance_km, height_m, clutter_m, n_samples):
     """The pieces of padded profiles used by the model, with the padding zeroed.
 
@@ -232,28 +196,78 @@ def padded_profile(distance_km, height_m, clutter_m, n_samples):
     return d, h, g, interior, rows, n, d[rows, n - 1]
 
 
-def _elevation_mrad(dh_m, d_km, ae_km):
-    """Elevation angle of a point dh [m] higher at distance d [km] over the effective Earth [mrad]."""
-    return 1000.0 * np.arctan(dh_m / (1000.0 * d_km) - d_km / (2.0 * ae_km))
-
-
-def path_geometry(distance_km, height_m, n_samples, htg_m, hrg_m, f_ghz, ae_km):
-    """Horizon geometry of each path: horizon distances, elevation angles and the angular distance.
+def elevation_mrad_term(dh_m, d_km, ae_km):
+    """Elevation angle of a point ``dh`` higher at distance ``d`` over the effective Earth [mrad].
 
     Parameters
     ----------
-    distance_km : ndarray, shape (L, N)
-        Distances from the transmitter [km], padded.
-    height_m : ndarray, shape (L, N)
-        Terrain heights h_i [m amsl], padded (the horizons are those of
-        the terrain; the clutter enters the Bullington part of the
-        diffraction only).
-    n_samples : ndarray of int, shape (L,)
-        Samples per path (a count), at least 3.
-    htg_m, hrg_m : float or ndarray, shape (L,)
-        Antenna heights above ground [m].
-    f_ghz : float or ndarray, shape (L,)
-        Frequency [GHz].
+    dh_m : float or ndarray
+        Height of the point above the antenna [m].
+    d_km : float or ndarray
+        Distance of the point from the antenna [km], greater than 0.
+    ae_km : float or ndarray
+        Median effective Earth radius [km].
+
+    Returns
+    -------
+    theta_mrad : float or ndarray
+        1000 arctan(dh / (1000 d) - d / (2 a_e)) [mrad].
+
+    References
+    ----------
+    .. [1] ITU-R P.1812-8 Annex 1 Attachment 1 (elevation angles θi, θj of
+       the profile points, θtd, θrd of the other terminal).
+    """
+    return 1000.0 * np.arctan(dh_m / (1000.0 * d_km) - d_km / (2.0 * ae_km))
+
+
+def roughness_term(h_m, hst_m, slope_m_per_km, d_km):
+    """Height of a profile point above the smooth-Earth line through hst with the given slope [m].
+
+    Parameters
+    ----------
+    h_m : float or ndarray
+        Terrain height of the point [m amsl].
+    hst_m : float or ndarray
+        Smooth-surface height at the transmitter, limited to the ground (eq. 90a) [m amsl].
+    slope_m_per_km : float or ndarray
+        Slope m of the smooth-Earth surface, (hsr - hst) / d [m/km].
+    d_km : float or ndarray
+        Distance of the point from the transmitter [km].
+
+    Returns
+    -------
+    height_m : float or ndarray
+        h - (hst + m d) [m]; its maximum between the horizons is the
+        terrain roughness hm.
+
+    References
+    ----------
+    .. [1] ITU-R P.1812-8 Annex 1 Attachment 1 (terrain roughness hm).
+    """
+    return h_m - (hst_m + slope_m_per_km * d_km)
+
+
+def horizon_geometry(horizons, distance_at, d_km, hts_m, hrs_m, ae_km):
+    """Horizon distances, elevation angles and angular distance of each path from its horizon reductions.
+
+    Parameters
+    ----------
+    horizons : dict of ndarray, shape (L,)
+        The reductions over the interior samples (``horizons`` of a
+        reducer, :mod:`profiler.propagation.p1812.reductions`):
+        ``theta_t_max`` and ``theta_r_max`` (largest :func:`elevation_mrad_term`
+        from the transmitter and the receiver [mrad]) with their sample
+        indices ``theta_t_index``, ``theta_r_index``, and ``nu_index``
+        (sample of the largest diffraction parameter ν, the line-of-sight
+        case).
+    distance_at : callable
+        ``distance_at(index) -> d [km]``, shape (L,): the distance of a
+        sample index of every path.
+    d_km : ndarray, shape (L,)
+        Path lengths [km].
+    hts_m, hrs_m : ndarray, shape (L,)
+        Antenna heights [m amsl].
     ae_km : float or ndarray, shape (L,)
         Median effective Earth radius [km].
 
@@ -272,64 +286,15 @@ def path_geometry(distance_km, height_m, n_samples, htg_m, hrg_m, f_ghz, ae_km):
        test against θtd; diffraction parameter ν for the line-of-sight
        case).
     """
-    d, h, g, interior, rows, n, d_total = padded_profile(distance_km, height_m, np.zeros_like(height_m), n_samples)
-    ae = _col(ae_km)
-    hts = h[:, 0] + np.asarray(htg_m, dtype=float)
-    hrs = h[rows, n - 1] + np.asarray(hrg_m, dtype=float)
-    di = np.where(interior, d, 1.0)
-    dr = np.where(interior, d_total[:, None] - d, 1.0)
-    theta_i = np.where(interior, _elevation_mrad(g - hts[:, None], di, ae), -np.inf)
-    theta_rj = np.where(interior, _elevation_mrad(g - hrs[:, None], dr, ae), -np.inf)
     ae1 = np.asarray(ae_km, dtype=float)
-    theta_td = _elevation_mrad(hrs - hts, d_total, ae1)
-    theta_rd = _elevation_mrad(hts - hrs, d_total, ae1)
-    it, ir = np.argmax(theta_i, axis=1), np.argmax(theta_rj, axis=1)
-    theta_max = theta_i[rows, it]
-    trans = theta_max > theta_td
-    wavelength_m = 0.299792458 / np.asarray(f_ghz, dtype=float)
-    nu = np.where(interior, (g + 500.0 * di * dr / ae - (hts[:, None] * dr + hrs[:, None] * di) / d_total[:, None])
-                  * np.sqrt(0.002 * d_total[:, None] / (_col(wavelength_m) * di * dr)), -np.inf)
-    iv = np.argmax(nu, axis=1)
-    ilt, ilr = np.where(trans, it, iv), np.where(trans, ir, iv)
-    theta_t = np.where(trans, theta_max, theta_td)
-    theta_r = np.where(trans, theta_rj[rows, ir], theta_rd)
-    return {"d_km": d_total, "dlt_km": d[rows, ilt], "dlr_km": d_total - d[rows, ilr],
+    theta_td = elevation_mrad_term(hrs_m - hts_m, d_km, ae1)
+    theta_rd = elevation_mrad_term(hts_m - hrs_m, d_km, ae1)
+    trans = horizons["theta_t_max"] > theta_td
+    iv = horizons["nu_index"]
+    ilt, ilr = np.where(trans, horizons["theta_t_index"], iv), np.where(trans, horizons["theta_r_index"], iv)
+    theta_t = np.where(trans, horizons["theta_t_max"], theta_td)
+    theta_r = np.where(trans, horizons["theta_r_max"], theta_rd)
+    return {"d_km": d_km, "dlt_km": distance_at(ilt), "dlr_km": d_km - distance_at(ilr),
             "theta_t_mrad": theta_t, "theta_r_mrad": theta_r,
-            "theta_mrad": 1000.0 * d_total / ae1 + theta_t + theta_r,
-            "hts_m": hts, "hrs_m": hrs, "trans_horizon": trans, "ilt": ilt, "ilr": ilr}
-
-
-def effective_heights(distance_km, height_m, n_samples, geometry):
-    """Smooth-surface and effective antenna heights of the ducting/layer-reflection model, and hm.
-
-    Parameters
-    ----------
-    distance_km, height_m : ndarray, shape (L, N)
-        Distances [km] and terrain heights [m amsl], padded.
-    n_samples : ndarray of int, shape (L,)
-        Samples per path (a count).
-    geometry : dict
-        Output of :func:`path_geometry`.
-
-    Returns
-    -------
-    dict of ndarray, shape (L,)
-        ``hst_eq85_m``, ``hsr_eq86_m`` (smooth surface, eqs. 85-86),
-        ``hst_eq90a_m``, ``hsr_eq90b_m`` (limited to the ground, eq. 90),
-        ``hte_m``, ``hre_m`` (effective antenna heights) [m amsl or m], and
-        ``hm_m`` (terrain roughness between the horizons) [m].
-
-    References
-    ----------
-    .. [1] ITU-R P.1812-8 Annex 1 Attachment 1 (smooth-Earth surface,
-       eqs. 85-90; effective heights and terrain roughness hm).
-    """
-    d, h, _, _, rows, n, d_total = padded_profile(distance_km, height_m, height_m, n_samples)
-    hst, hsr = smooth_surface_m(d, h, n)
-    hst_g, hsr_g = np.minimum(hst, h[:, 0]), np.minimum(hsr, h[rows, n - 1])
-    slope = (hsr_g - hst_g) / d_total
-    cols = np.arange(d.shape[1])[None, :]
-    between = (cols >= geometry["ilt"][:, None]) & (cols <= geometry["ilr"][:, None])
-    hm = np.max(np.where(between, h - (hst_g[:, None] + slope[:, None] * d), -np.inf), axis=1)
-    return {"hst_eq85_m": hst, "hsr_eq86_m": hsr, "hst_eq90a_m": hst_g, "hsr_eq90b_m": hsr_g,
-            "hte_m": geometry["hts_m"] - hst_g, "hre_m": geometry["hrs_m"] - hsr_g, "hm_m": hm}
+            "theta_mrad": 1000.0 * d_km / ae1 + theta_t + theta_r,
+            "hts_m": hts_m, "hrs_m": hrs_m, "trans_horizon": trans, "ilt": ilt, "ilr": ilr}

@@ -84,19 +84,20 @@ def inverse_normal_tail(x):
     return t - xi
 
 
-def diffraction_losses(d_km, h_m, g_m, n_samples, out, f_ghz, time_percent, ae_km, vertical, informative=True):
+def diffraction_losses(ld50_reduced, ldb_reduced, out, f_ghz, time_percent, ae_km, vertical):
     """Diffraction loss of P.1812-8 section 4.3 for p % of time, and the basic losses associated with it.
 
     Parameters
     ----------
-    d_km, h_m, g_m : ndarray, shape (L, N)
-        Distances [km], terrain heights [m amsl] and terrain plus clutter
-        (at the interior points) [m amsl], padded with zeros.
-    n_samples : ndarray of int, shape (L,)
-        Samples per path (a count).
+    ld50_reduced, ldb_reduced : dict
+        The delta-Bullington reductions
+        (:func:`profiler.propagation.diffraction_batch.diffraction_reductions`)
+        at a_e and at aβ = 3 x 6371 km (None: not reduced, where p >= 50 %
+        makes Fi = 0; its values are then the median pass's), from
+        :func:`profiler.propagation.p1812.reductions.p1812_reductions`.
     out : dict
-        Path geometry and basic losses (``hts_m``, ``hrs_m``,
-        ``w_sea_fraction``, ``beta0_percent``, ``lbfs_db``, ``lb0p_db``).
+        Path geometry and basic losses (``w_sea_fraction``,
+        ``beta0_percent``, ``lbfs_db``, ``lb0p_db``).
     f_ghz : float or ndarray, shape (L,)
         Frequency [GHz].
     time_percent : float or ndarray, shape (L,)
@@ -105,10 +106,6 @@ def diffraction_losses(d_km, h_m, g_m, n_samples, out, f_ghz, time_percent, ae_k
         Median effective Earth radius [km].
     vertical : bool or ndarray of bool, shape (L,)
         Vertical polarization.
-    informative : bool, default True
-        Run the pass at aβ even where it does not change Ldp (p >= 50 %,
-        Fi = 0); with False it is skipped there and its values are the
-        median pass's.
 
     Returns
     -------
@@ -125,10 +122,13 @@ def diffraction_losses(d_km, h_m, g_m, n_samples, out, f_ghz, time_percent, ae_k
        and eqs. (39)-(43) (Ld50, Ldβ with aβ = 3 x 6371 km, Fi, Ldp, Lbd50,
        Lbd).
     """
-    ld50 = _diffraction(d_km, h_m, g_m, n_samples, out, f_ghz, ae_km, vertical)
+    from ..diffraction_batch import diffraction_finish
+
+    f_mhz, sea = np.asarray(f_ghz, dtype=float) * 1000.0, out["w_sea_fraction"]
+    ld50 = diffraction_finish(ld50_reduced, f_mhz, np.asarray(ae_km, dtype=float) * 1000.0, vertical, sea)
+    ldb = ld50 if ldb_reduced is None else diffraction_finish(ldb_reduced, f_mhz, 3.0 * EARTH_RADIUS_KM * 1000.0,
+                                                              vertical, sea)
     p = np.asarray(time_percent, dtype=float)
-    needed = informative or bool(np.any(p < 50.0))
-    ldb = _diffraction(d_km, h_m, g_m, n_samples, out, f_ghz, 3.0 * EARTH_RADIUS_KM, vertical) if needed else ld50
     beta0 = out["beta0_percent"]
     above = p > beta0
     fi = np.where(above, inverse_normal_tail(np.where(above, p, 1.0) / 100.0)
@@ -313,11 +313,3 @@ def combined_losses(out, f_ghz, location_term_db=0.0):
     lb = np.maximum(out["lb0p_db"], lbc + location_term_db)                                    # eq. (69)
     e = 199.36 + 20.0 * np.log10(np.asarray(f_ghz, dtype=float)) - lb                          # eq. (70)
     return {"lbc_db": lbc, "lb_db": lb, "e_dbuv_m": e}
-
-
-def _diffraction(d_km, h_m, g_m, n, out, f_ghz, ae_km, vertical):
-    """Delta-Bullington of P.1812-8 section 4.3 (= P.452-18 section 4.2): Bullington over g, smooth surface of h."""
-    from ..diffraction_batch import diffraction_batch
-
-    return diffraction_batch(d_km * 1000.0, h_m, n, out["hts_m"], out["hrs_m"], f_ghz * 1000.0, ae_km * 1000.0,
-                             vertical=vertical, sea_fraction=out["w_sea_fraction"], bullington_height_m=g_m)
