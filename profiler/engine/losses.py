@@ -175,7 +175,7 @@ def path_loss_batch(d, terrain, n, h_a, h_b, frequency_mhz, ae, radio, pol_a_deg
     """
     if radio.propagation.model == "p1812":
         return p1812_loss_batch(d, terrain, n, h_a, h_b, frequency_mhz, ae, radio, pol_a_deg, pol_b_deg, paths,
-                                informative)
+                                informative, None if reduced is None else reduced.get("p1812"))
     return terrain_loss_batch(d, terrain, n, h_a, h_b, frequency_mhz, ae, radio, pol_a_deg, pol_b_deg, reduced,
                               informative)
 
@@ -215,8 +215,32 @@ def node_location_sigma_db(propagation, frequency_mhz, node_height_m, node_clutt
     return np.where(node_at_sea, 0.0, sigma)
 
 
+def p1812_delta_n(propagation, effective_radius_m):
+    """ΔN of a P.1812-8 run [N-units/km]: the given ``--delta-n``, or the value that gives the run's k.
+
+    Parameters
+    ----------
+    propagation : profiler.engine.model.PropagationSettings
+        ``delta_n`` (None: from the effective Earth radius).
+    effective_radius_m : float or ndarray
+        Effective Earth radius of the run [m].
+
+    Returns
+    -------
+    float or ndarray
+        ΔN [N-units/km].
+
+    References
+    ----------
+    .. [1] ITU-R P.1812-8 Annex 1 section 3 (k50 = 157 / (157 - ΔN)).
+    """
+    if propagation.delta_n is not None:
+        return propagation.delta_n
+    return delta_n_from_k(np.asarray(effective_radius_m, dtype=float) / EARTH_RADIUS_M)
+
+
 def p1812_loss_batch(d, terrain, n, h_a, h_b, frequency_mhz, ae, radio, pol_a_deg, pol_b_deg, paths,
-                     informative=True):
+                     informative=True, reduced=None):
     """The ``loss_db`` block of ``--model p1812`` for one frequency, one value per link [dB].
 
     Site A is the transmitter of P.1812-8 and B the receiver (the loss is
@@ -225,9 +249,10 @@ def p1812_loss_batch(d, terrain, n, h_a, h_b, frequency_mhz, ae, radio, pol_a_de
 
     Parameters
     ----------
-    d, terrain : ndarray, shape (L, N)
-        Padded profiles (distance from A [m], terrain [m AMSL]).
-    n : ndarray of int, shape (L,)
+    d, terrain : ndarray, shape (L, N), or None
+        Padded profiles (distance from A [m], terrain [m AMSL]); None with
+        ``reduced``.
+    n : ndarray of int, shape (L,), or None
         Samples per link (a count), at least 3.
     h_a, h_b : ndarray, shape (L,)
         Antenna heights [m AMSL].
@@ -244,6 +269,10 @@ def p1812_loss_batch(d, terrain, n, h_a, h_b, frequency_mhz, ae, radio, pol_a_de
         (:func:`path_loss_batch`).
     informative : bool
         Also the diffraction pass at aβ where it does not change the result.
+    reduced : dict, optional
+        :func:`profiler.propagation.p1812.reductions.p1812_reductions` of
+        these links, already computed (``profiler coverage``'s kernel, with
+        ΔN of :func:`p1812_delta_n`): the profiles are not read again.
 
     Returns
     -------
@@ -255,36 +284,32 @@ def p1812_loss_batch(d, terrain, n, h_a, h_b, frequency_mhz, ae, radio, pol_a_de
     .. [1] ITU-R P.1812-8 Annex 1 sections 3-4, eqs. (8)-(70).
     .. [2] ITU-R P.1812-8 Annex 1 section 4.7 (σL and u(h)).
     """
-    from ..propagation.p1812 import ZONE_SEA as SEA
-    from ..propagation.p1812 import p1812_batch
+    from ..propagation.p1812 import ProfileReducer, p1812_finish, p1812_reductions
 
     if paths is None or paths.get("lat_a_deg") is None:
         raise ProfilerError("--model p1812 needs the latitude and longitude of both terminals; "
                             "use --model terrain for a profile without coordinates")
     prop = radio.propagation
-    d = np.asarray(d, dtype=float)
-    t = np.asarray(terrain, dtype=float)
-    n = np.asarray(n, dtype=np.int64)
-    rows = np.arange(d.shape[0])
-    clutter = paths.get("clutter_m")
-    clutter = np.zeros(d.shape) if clutter is None else np.where(np.isfinite(clutter), clutter, 0.0)
-    zone = paths.get("zone")
-    zone = np.full(d.shape, ZONE_INLAND) if zone is None else np.asarray(zone)
     h_a, h_b = np.asarray(h_a, dtype=float), np.asarray(h_b, dtype=float)
-    htg, hrg = h_a - t[:, 0], h_b - t[rows, n - 1]
-    ae_m = np.asarray(ae, dtype=float)
-    delta_n = prop.delta_n if prop.delta_n is not None else delta_n_from_k(ae_m / EARTH_RADIUS_M)
-    node_last = radio.gateway == "a"
-    node_col = n - 1 if node_last else np.zeros_like(n)
-    sigma = node_location_sigma_db(prop, frequency_mhz, hrg if node_last else htg, clutter[rows, node_col],
-                                   zone[rows, node_col] == SEA)
+    if reduced is None:
+        d, t, n = np.asarray(d, dtype=float), np.asarray(terrain, dtype=float), np.asarray(n, dtype=np.int64)
+        clutter = paths.get("clutter_m")
+        clutter = np.zeros(d.shape) if clutter is None else np.where(np.isfinite(clutter), clutter, 0.0)
+        zone = paths.get("zone")
+        zone = np.full(d.shape, ZONE_INLAND) if zone is None else np.asarray(zone)
+        reducer = ProfileReducer(d * 1e-3, t, clutter, zone, n)
+        reduced = p1812_reductions(reducer, h_a - reducer.h_first_m, h_b - reducer.h_last_m,
+                                   p1812_delta_n(prop, ae), prop.time_percent, informative)
+    ends = reduced["terminals"]
+    node = "r" if radio.gateway == "a" else "t"
+    sigma = node_location_sigma_db(prop, frequency_mhz, reduced["hrg_m" if node == "r" else "htg_m"],
+                                   ends[f"clutter_{node}_m"], ends[f"sea_{node}"])
     vertical = np.abs(np.cos(np.radians(pol_a_deg))) >= math.sqrt(0.5)
-    out = p1812_batch(d * 1e-3, t, clutter, zone, n, f_ghz=frequency_mhz * 1e-3, time_percent=prop.time_percent,
-                      htg_m=htg, hrg_m=hrg, vertical=vertical, delta_n=delta_n, n0=prop.n0,
-                      lat_t_deg=paths["lat_a_deg"], lon_t_deg=paths["lon_a_deg"], lat_r_deg=paths["lat_b_deg"],
-                      lon_r_deg=paths["lon_b_deg"], dct_km=prop.coast_distance_a_km,
-                      dcr_km=prop.coast_distance_b_km, location_percent=prop.location_percent,
-                      location_sigma_db=sigma, informative=informative)
+    out = p1812_finish(reduced, f_ghz=frequency_mhz * 1e-3, time_percent=prop.time_percent, vertical=vertical,
+                       n0=prop.n0, lat_t_deg=paths["lat_a_deg"], lon_t_deg=paths["lon_a_deg"],
+                       lat_r_deg=paths["lat_b_deg"], lon_r_deg=paths["lon_b_deg"], dct_km=prop.coast_distance_a_km,
+                       dcr_km=prop.coast_distance_b_km, location_percent=prop.location_percent,
+                       location_sigma_db=sigma)
     pol_loss = polarization.polarization_mismatch_db(pol_a_deg, pol_b_deg) + np.zeros_like(h_a)
     free, diff, loc, basic = out["lbfs_db"], out["ldp_db"], out["location_term_db"], out["lb_db"]
     return {"model": "p1812", "free_space": free, "diffraction": diff, "combination": basic - free - diff - loc,

@@ -50,7 +50,7 @@ _TERMS = ((geometry, ("bulge_term", "line_term", "fresnel_term", "clearance_rati
           (diffraction_engine, ("bulge_km_term", "slope_term", "obstacle_term", "v_unit_term")))
 
 
-def _compile_terms(module, names) -> dict:
+def compile_terms(module, names) -> dict:
     """``numba.njit`` copies of ``module``'s term functions, each calling the compiled copies of the others.
 
     ``names`` are in dependency order (a term after the terms it calls).  Not
@@ -65,33 +65,33 @@ def _compile_terms(module, names) -> dict:
     return space
 
 
-def _fingerprint() -> str:
+def fingerprint(terms=_TERMS) -> str:
     """Digest of the terms' code and the flags: part of the kernels' cache key.
 
     numba keys a cached function on its own bytecode and closure only, so an
     edited term (in geometry.py or diffraction_engine.py) would otherwise be served
-    stale from the cache.
+    stale from the cache.  ``terms``: ``(module, names)`` pairs, as :data:`_TERMS`.
     """
     digest = hashlib.sha256(repr(sorted(FASTMATH)).encode())
-    for module, names in _TERMS:
+    for module, names in terms:
         for name in names:
             code = getattr(module, name).__code__
             digest.update(code.co_code + repr(code.co_consts).encode() + repr(code.co_names).encode())
     return digest.hexdigest()
 
 
-_G, _D = (_compile_terms(module, names) for module, names in _TERMS)
+_G, _D = (compile_terms(module, names) for module, names in _TERMS)
 _ratio = _G["clearance_ratio_term"]
 _bulge_km, _slope, _obstacle, _v_unit = (_D[k] for k in ("bulge_km_term", "slope_term", "obstacle_term",
                                                           "v_unit_term"))
 
 
-def _kernels(fingerprint: str):
-    """The two compiled kernels (closures over ``fingerprint`` only, which keys their disk cache)."""
+def _kernels(key: str):
+    """The two compiled kernels (closures over ``key`` only, the terms' fingerprint, which keys their disk cache)."""
 
     @numba.njit(cache=True, parallel=True, fastmath=FASTMATH)
     def geometry_kernel(d_m, t_m, n, h_a, h_b, wavelength_m, ae_m, worst):   # pragma: no cover (compiled)
-        _key = fingerprint   # noqa: F841 (the cache key)
+        _key = key   # noqa: F841 (the cache key)
         for r in numba.prange(d_m.shape[0]):
             for j in range(2, n[r]):
                 best = np.inf
@@ -101,7 +101,7 @@ def _kernels(fingerprint: str):
 
     @numba.njit(cache=True, parallel=True, fastmath=FASTMATH)
     def bullington_kernel(d_km, h_m, n, hts, hrs, ae_km, actual, out):   # pragma: no cover (compiled)
-        _key = fingerprint   # noqa: F841 (the cache key)
+        _key = key   # noqa: F841 (the cache key)
         weight = 1.0 if actual else 0.0
         for r in numba.prange(d_km.shape[0]):
             for j in range(2, n[r]):
@@ -125,8 +125,8 @@ def _kernels(fingerprint: str):
     return geometry_kernel, bullington_kernel
 
 
-_geometry_kernel, _bullington_kernel = _kernels(_fingerprint())
-_LAUNCH = threading.Lock()
+_geometry_kernel, _bullington_kernel = _kernels(fingerprint())
+LAUNCH = threading.Lock()
 """One kernel launch at a time per process: numba's default (workqueue) threading layer aborts on concurrent
 launches from several threads (a Dask worker with more than one thread); each launch uses every core anyway."""
 
@@ -160,7 +160,7 @@ def worst_ratio_prefixes(distance_m, terrain_m, n, site_amsl_m, node_amsl_m, wav
     """
     shape = np.shape(distance_m)
     worst = np.full(shape, np.nan)
-    with _LAUNCH:
+    with LAUNCH:
         _geometry_kernel(np.ascontiguousarray(distance_m, dtype=float), np.ascontiguousarray(terrain_m, dtype=float),
                          np.asarray(n, dtype=np.int64), np.asarray(site_amsl_m, dtype=float),
                          np.ascontiguousarray(node_amsl_m, dtype=float), float(wavelength_m),
@@ -197,10 +197,54 @@ def bullington_prefixes(distance_km, height_m, n, hts_m, hrs_m, effective_radius
     .. [1] ITU-R P.452-18 eqs. (14), (16), (18), (165a)-(165d).
     """
     out = np.full((6,) + np.shape(distance_km), np.nan)
-    with _LAUNCH:
+    with LAUNCH:
         _bullington_kernel(np.ascontiguousarray(distance_km, dtype=float),
                            np.ascontiguousarray(height_m, dtype=float), np.asarray(n, dtype=np.int64),
                            np.ascontiguousarray(hts_m, dtype=float), np.ascontiguousarray(hrs_m, dtype=float),
                            float(effective_radius_km), bool(actual), out)
     keys = ("stim", "srim", "v_unit") + (("hobs", "alpha_obt", "alpha_obr") if actual else ())
     return {k: out[i] for i, k in enumerate(keys)}
+
+
+def prefix_reduce(distance_km, height_m, n, rr, jj, effective_radius_km):
+    """The ``reduce`` of ``diffraction_reductions`` for the links to samples ``jj`` of radials ``rr``.
+
+    Parameters
+    ----------
+    distance_km, height_m : ndarray, shape (R, N)
+        Radial profiles [km from the site], [m AMSL].
+    n : ndarray of int, shape (R,)
+        Number of samples per radial (a count).
+    rr, jj : ndarray of int, shape (L,)
+        Radial and node sample of every link (``2 <= jj < n[rr]``).
+    effective_radius_km : float
+        Effective Earth radius [km].
+
+    Returns
+    -------
+    callable
+        ``reduce(actual, hts, hrs) -> dict`` of arrays (L,), see
+        :func:`profiler.propagation.diffraction_batch.diffraction_reductions`:
+        :func:`bullington_prefixes` and, with ``actual``, the sums of
+        :func:`profiler.propagation.diffraction_batch.smooth_sum_terms` of every
+        prefix (cumulative sums along the radial).
+
+    References
+    ----------
+    .. [1] ITU-R P.452-18 eqs. (14), (16), (18), (161)-(162), (165a)-(165d).
+    """
+    d_km, t = np.asarray(distance_km, dtype=float), np.asarray(height_m, dtype=float)
+    v1_terms, v2_terms = diffraction_engine.smooth_sum_terms(np.diff(d_km, axis=1), d_km[:, :-1], d_km[:, 1:],
+                                                             t[:, :-1], t[:, 1:])
+    v1, v2 = np.cumsum(v1_terms, axis=1), np.cumsum(v2_terms, axis=1)   # eqs. (161)-(162) of every prefix
+
+    def reduce(actual, hts, hrs):
+        full_a, full_b = np.zeros(d_km.shape), np.zeros(d_km.shape)
+        full_a[rr, jj], full_b[rr, jj] = hts, hrs
+        red = bullington_prefixes(d_km, t, n, full_a, full_b, effective_radius_km, actual)
+        res = {k: v[rr, jj] for k, v in red.items()}
+        if actual:
+            res.update(v1=v1[rr, jj - 1], v2=v2[rr, jj - 1])
+        return res
+
+    return reduce

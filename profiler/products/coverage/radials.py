@@ -150,8 +150,9 @@ def radial_fields(distance_m, terrain_m, n, mast_m, node_mast_m, settings, overr
     overrides : dict, optional
         The site's radio values (``tx_power_dbm``, ``gain_dbi``, ...; NaN: the option).
     kernel : bool, optional
-        Use the numba kernel; default: when numba is installed.  With
-        ``--model p1812`` the reductions run in the numpy prefix batches.
+        Use the numba kernel; default: when numba is installed (both
+        models: :mod:`profiler.propagation.prefix_kernel` and, for
+        ``--model p1812``, :mod:`profiler.propagation.p1812.prefix`).
     coordinates : dict, optional
         ``lat_a_deg``, ``lon_a_deg`` (the site, floats) and ``lat_b_deg``,
         ``lon_b_deg`` (every sample, (R, N)) [deg]: needed by ``--model p1812``.
@@ -173,16 +174,13 @@ def radial_fields(distance_m, terrain_m, n, mast_m, node_mast_m, settings, overr
     def run(rr, jj, dd, tt, nn):
         h_a = t[rr, 0] + mast_m
         h_b = t[rr, jj] + node_mast_m
-        paths = None if coordinates is None else {
-            "lat_a_deg": np.full(rr.size, coordinates["lat_a_deg"]), "lon_a_deg": np.full(rr.size, coordinates["lon_a_deg"]),
-            "lat_b_deg": coordinates["lat_b_deg"][rr, jj], "lon_b_deg": coordinates["lon_b_deg"][rr, jj]}
-        res = link_fields(dd, tt, nn, h_a, h_b, settings, _overrides(overrides, rr.size), paths=paths)
+        res = link_fields(dd, tt, nn, h_a, h_b, settings, _overrides(overrides, rr.size),
+                          paths=_paths(coordinates, rr, jj))
         for band, key in _FIELDS.items():
             out[band][rr, jj] = res[key]
 
     if kernel is None:
         kernel = kernel_available()
-    kernel = kernel and not p1812
     rr, jj = np.nonzero((np.arange(d.shape[1])[None, :] >= 1) & (np.arange(d.shape[1])[None, :] < n[:, None]))
     # free space, or (numpy, no diffraction) a loss that depends on the two ends only
     straight = (jj == 1) | (fast and not kernel)
@@ -193,7 +191,7 @@ def radial_fields(distance_m, terrain_m, n, mast_m, node_mast_m, settings, overr
         tt = np.stack([t0, (t0 + t_end) / 2.0, t_end], axis=1)
         run(r, j, dd, tt, np.full(r.size, 3))
     if kernel:
-        _kernel_fields(out, d, t, n, mast_m, node_mast_m, settings, overrides, fast)
+        _kernel_fields(out, d, t, n, mast_m, node_mast_m, settings, overrides, fast, coordinates)
     elif fast:
         _fresnel_only(out, d, t, n, mast_m, node_mast_m, settings)
     else:
@@ -227,11 +225,27 @@ def _fresnel_only(out, d, t, n, mast_m, node_mast_m, settings) -> None:
             out["worst_fresnel_ratio"][r, j] = g.worst_ratio
 
 
-def _kernel_fields(out, d, t, n, mast_m, node_mast_m, settings, overrides, fast) -> None:
-    """Links to samples 2 .. n - 1 of every radial: the kernel's reductions, then the numpy finish (fills ``out``)."""
+def _paths(coordinates, rr, jj):
+    """The ``paths`` of :func:`profiler.engine.links.link_fields` for the links to samples ``jj`` of radials ``rr``."""
+    if coordinates is None:
+        return None
+    return {"lat_a_deg": np.full(rr.size, coordinates["lat_a_deg"]),
+            "lon_a_deg": np.full(rr.size, coordinates["lon_a_deg"]),
+            "lat_b_deg": coordinates["lat_b_deg"][rr, jj], "lon_b_deg": coordinates["lon_b_deg"][rr, jj]}
+
+
+def _kernel_fields(out, d, t, n, mast_m, node_mast_m, settings, overrides, fast, coordinates=None) -> None:
+    """Links to samples 2 .. n - 1 of every radial: the kernel's reductions, then the numpy finish (fills ``out``).
+
+    ``--model terrain``: the delta-Bullington reductions of
+    :mod:`profiler.propagation.prefix_kernel`; ``--model p1812``: those of
+    :class:`profiler.propagation.p1812.prefix.PrefixReducer` (horizons,
+    roughness and both delta-Bullington passes) through
+    :func:`profiler.propagation.p1812.reductions.p1812_reductions`.
+    """
     from ...engine.links import link_fields
     from ...propagation import prefix_kernel
-    from ...propagation.diffraction_batch import diffraction_reductions, smooth_sum_terms
+    from ...propagation.diffraction_batch import diffraction_reductions
     from ...propagation.free_space import wavelength_m
 
     lam = float(wavelength_m(settings.frequency_mhz))
@@ -248,23 +262,21 @@ def _kernel_fields(out, d, t, n, mast_m, node_mast_m, settings, overrides, fast)
                                         reduced={"length_m": d[rr, jj], "worst_ratio": worst[rr, jj]}))
         return
     d_km = d * 1e-3
-    seg = np.diff(d_km, axis=1)
-    v1_terms, v2_terms = smooth_sum_terms(seg, d_km[:, :-1], d_km[:, 1:], t[:, :-1], t[:, 1:])
-    v1, v2 = np.cumsum(v1_terms, axis=1), np.cumsum(v2_terms, axis=1)   # eqs. (161)-(162) of every prefix
+    prop = settings.radio.propagation
+    if prop.model == "p1812":
+        from ...engine.losses import p1812_delta_n
+        from ...propagation.p1812 import p1812_reductions
+        from ...propagation.p1812.prefix import PrefixReducer
 
-    def reduce(actual, hts, hrs):
-        full_a, full_b = np.zeros(d.shape), np.zeros(d.shape)
-        full_a[rr, jj], full_b[rr, jj] = hts, hrs
-        red = prefix_kernel.bullington_prefixes(d_km, t, n, full_a, full_b, ae * 1e-3, actual)
-        res = {k: v[rr, jj] for k, v in red.items()}
-        if actual:
-            res.update(v1=v1[rr, jj - 1], v2=v2[rr, jj - 1])
-        return res
-
-    reduced = diffraction_reductions(reduce, d_km[rr, jj], t[rr, 0], t[rr, jj], h_a, h_b)
+        reducer = PrefixReducer(d_km, t, n, rr, jj)
+        reduced = {"p1812": p1812_reductions(reducer, h_a - reducer.h_first_m, h_b - reducer.h_last_m,
+                                             p1812_delta_n(prop, ae), prop.time_percent, informative=False)}
+    else:
+        reduce = prefix_kernel.prefix_reduce(d_km, t, n, rr, jj, ae * 1e-3)
+        reduced = diffraction_reductions(reduce, d_km[rr, jj], t[rr, 0], t[rr, jj], h_a, h_b)
     reduced.update(length_m=d[rr, jj], worst_ratio=worst[rr, jj])
     _store(out, rr, jj, link_fields(None, None, None, h_a, h_b, settings, _overrides(overrides, rr.size),
-                                    reduced=reduced))
+                                    reduced=reduced, paths=_paths(coordinates, rr, jj)))
 
 
 def _store(out, rr, jj, res) -> None:

@@ -1,0 +1,148 @@
+"""ITU-R P.1812-8 reductions over every prefix of every radial (``profiler coverage`` only; imports numba).
+
+The P.1812 counterpart of :mod:`profiler.propagation.prefix_kernel`: in a
+coverage map every sample ``j`` of a radial is the node end of a link whose
+profile is the first ``j + 1`` samples.  :class:`PrefixReducer` gives
+:func:`profiler.propagation.p1812.reductions.p1812_reductions` the
+reductions of all those links at once:
+
+* the horizons (largest elevation angle from each end and where it is, and
+  where the line-of-sight ν is largest): one compiled loop over radial x
+  node sample ``j`` x interior sample ``i``;
+* the terrain roughness hm between the horizons: one compiled loop over the
+  samples between the two horizon indices of every link;
+* the two delta-Bullington passes (at a_e and at aβ):
+  :func:`profiler.propagation.prefix_kernel.prefix_reduce`.
+
+There is no physics in this module: every per-sample term is a function of
+:mod:`profiler.propagation.p1812.geometry` or
+:mod:`profiler.propagation.diffraction_batch` (the ones the numpy reducer
+uses), compiled by ``numba.njit``.  A coverage run has no clutter and no
+zones: every sample is inland (ω = 0, dtm = dlm = d, P.1812-8 Table 2) and
+the representative clutter heights are 0.
+
+References
+----------
+.. [1] ITU-R P.1812-8 Annex 1 Attachment 1 (horizon elevation angles,
+   terrain roughness hm), section 3 (ω, dtm, dlm).
+.. [2] ITU-R P.452-18 section 4.2.1, eq. (16) (ν), through
+   :mod:`profiler.propagation.diffraction_batch`.
+"""
+
+from __future__ import annotations
+
+import numba
+import numpy as np
+
+from .. import diffraction_batch as diffraction_engine
+from .. import prefix_kernel
+from . import geometry
+
+_TERMS = ((geometry, ("elevation_mrad_term", "roughness_term")),
+          (diffraction_engine, ("bulge_km_term", "obstacle_term", "v_unit_term")))
+_G, _D = (prefix_kernel.compile_terms(module, names) for module, names in _TERMS)
+_elevation, _roughness = _G["elevation_mrad_term"], _G["roughness_term"]
+_bulge_km, _v_unit = _D["bulge_km_term"], _D["v_unit_term"]
+
+
+def _kernels(key: str):
+    """The two compiled kernels (closures over ``key`` only, the terms' fingerprint, which keys their disk cache)."""
+    fastmath = prefix_kernel.FASTMATH
+
+    @numba.njit(cache=True, parallel=True, fastmath=fastmath)
+    def horizon_kernel(d_km, h_m, n, hts, hrs, ae_km, maxima, index):   # pragma: no cover (compiled)
+        _key = key   # noqa: F841 (the cache key)
+        for r in numba.prange(d_km.shape[0]):
+            for j in range(2, n[r]):
+                d, a, b = d_km[r, j], hts[r, j], hrs[r, j]
+                t_max = r_max = nu_max = -np.inf
+                it = ir = iv = 0
+                for i in range(1, j):
+                    di = d_km[r, i]
+                    dd = d - di
+                    h = h_m[r, i]
+                    theta = _elevation(h - a, di, ae_km)
+                    if theta > t_max:
+                        t_max, it = theta, i
+                    theta = _elevation(h - b, dd, ae_km)
+                    if theta > r_max:
+                        r_max, ir = theta, i
+                    nu = _v_unit(h + _bulge_km(di, dd, ae_km), a, b, di, dd, d)
+                    if nu > nu_max:
+                        nu_max, iv = nu, i
+                maxima[0, r, j], maxima[1, r, j] = t_max, r_max
+                index[0, r, j], index[1, r, j], index[2, r, j] = it, ir, iv
+
+    @numba.njit(cache=True, parallel=True, fastmath=fastmath)
+    def roughness_kernel(d_km, h_m, n, first, last, hst, slope, out):   # pragma: no cover (compiled)
+        _key = key   # noqa: F841 (the cache key)
+        for r in numba.prange(d_km.shape[0]):
+            for j in range(2, n[r]):
+                best = -np.inf
+                for i in range(first[r, j], last[r, j] + 1):
+                    best = max(best, _roughness(h_m[r, i], hst[r, j], slope[r, j], d_km[r, i]))
+                out[r, j] = best
+
+    return horizon_kernel, roughness_kernel
+
+
+_horizon_kernel, _roughness_kernel = _kernels(prefix_kernel.fingerprint(_TERMS))
+
+
+class PrefixReducer:
+    """The reductions of :func:`~profiler.propagation.p1812.reductions.p1812_reductions` for every prefix of radials.
+
+    Link ``l`` goes from the site (sample 0 of radial ``rr[l]``) to the
+    node at sample ``jj[l]``; its profile is samples ``0 .. jj[l]``.
+
+    Parameters
+    ----------
+    distance_km, height_m : ndarray, shape (R, N)
+        Radial profiles [km from the site], [m AMSL] (NaN padded beyond ``n``).
+    n : ndarray of int, shape (R,)
+        Samples per radial (a count).
+    rr, jj : ndarray of int, shape (L,)
+        Radial and node sample of every link (``2 <= jj < n[rr]``).
+    """
+
+    def __init__(self, distance_km, height_m, n, rr, jj):
+        self.d = np.ascontiguousarray(distance_km, dtype=float)
+        self.h = np.ascontiguousarray(height_m, dtype=float)
+        self.n, self.rr, self.jj = np.asarray(n, dtype=np.int64), np.asarray(rr), np.asarray(jj)
+        self.d_total_km = self.d[self.rr, self.jj]
+        self.h_first_m, self.h_last_m = self.h[self.rr, 0], self.h[self.rr, self.jj]
+
+    def _full(self, values, dtype=float):
+        full = np.zeros(self.d.shape, dtype=dtype)
+        full[self.rr, self.jj] = values
+        return full
+
+    def horizons(self, hts, hrs, ae_km):
+        maxima = np.full((2,) + self.d.shape, np.nan)
+        index = np.zeros((3,) + self.d.shape, dtype=np.int64)
+        with prefix_kernel.LAUNCH:
+            _horizon_kernel(self.d, self.h, self.n, self._full(hts), self._full(hrs), float(ae_km), maxima, index)
+        at = (self.rr, self.jj)
+        return {"theta_t_max": maxima[0][at], "theta_r_max": maxima[1][at], "theta_t_index": index[0][at],
+                "theta_r_index": index[1][at], "nu_index": index[2][at]}
+
+    def distance_at(self, index):
+        return self.d[self.rr, index]
+
+    def roughness(self, first, last, hst, slope):
+        out = np.full(self.d.shape, np.nan)
+        with prefix_kernel.LAUNCH:
+            _roughness_kernel(self.d, self.h, self.n, self._full(first, np.int64), self._full(last, np.int64),
+                              self._full(hst), self._full(slope), out)
+        return out[self.rr, self.jj]
+
+    def zones(self):
+        zero = np.zeros(self.d_total_km.shape)
+        return {"w_sea_fraction": zero, "dtm_km": self.d_total_km, "dlm_km": self.d_total_km}   # all inland
+
+    def terminals(self):
+        zero, land = np.zeros(self.d_total_km.shape), np.zeros(self.d_total_km.shape, dtype=bool)
+        return {"r2_m": zero, "rn1_m": zero, "clutter_t_m": zero, "clutter_r_m": zero, "sea_t": land, "sea_r": land}
+
+    def bullington(self, ae_km):
+        return prefix_kernel.prefix_reduce(self.d, self.h, self.n, self.rr, self.jj, float(ae_km))
