@@ -89,23 +89,34 @@ def _sample_points(run, pixels):
     return np.asarray(la), np.asarray(lo), j, lat[pixels], lon[pixels]
 
 
-def _link(point, step_m):
+def _link(point, step_m, model):
     import profiler
 
-    r = profiler.link(GATEWAY, point, dem=DEM, mast_a_m=10.0, mast_b_m=NODE_M, step_m=step_m).to_dict()
+    r = profiler.link(GATEWAY, point, dem=DEM, mast_a_m=10.0, mast_b_m=NODE_M, step_m=step_m,
+                      radio=_radio(model)).to_dict()
+    assert r["model"] == model
     dr = r["lora"]["uplink"]["recommended_dr"]
     return (r["loss_db"]["total"], r["worst"]["fresnel_ratio"], r["budget"]["rx_power_dbm"], r["budget"]["margin_db"],
             r["budget_downlink"]["margin_db"], np.nan if dr is None else dr)
 
 
-@pytest.fixture(scope="module")
-def fine():
-    """At the elevation data's own pixel size (the default resolution)."""
-    return coverage(GATEWAY, dem=DEM, mast_m=10.0, radius_km=2.5, node_mast_m=NODE_M, progress=False)
+def _radio(model):
+    from profiler.engine.model import PropagationSettings
+    from profiler.engine.radio import RadioSettings
+
+    return RadioSettings(propagation=PropagationSettings(model=model))
+
+
+@pytest.fixture(scope="module", params=["terrain", "p1812"])
+def fine(request):
+    """At the elevation data's own pixel size (the default resolution), with each propagation model."""
+    return coverage(GATEWAY, dem=DEM, mast_m=10.0, radius_km=2.5, node_mast_m=NODE_M, progress=False,
+                    radio=_radio(request.param)), request.param
 
 
 def test_values_equal_profiler_link_at_the_sample_and_near_it_at_the_pixel_centre(fine):
-    run = fine
+    run, model = fine
+    assert run.report["settings"]["model"] == model
     keys = ("path_loss_db", "worst_fresnel_ratio", "rx_level_dbm", "margin_db", "downlink_margin_db",
             "recommended_dr")
     finite = np.flatnonzero(np.isfinite(run.bands["margin_db"]).ravel())
@@ -118,10 +129,10 @@ def test_values_equal_profiler_link_at_the_sample_and_near_it_at_the_pixel_centr
         got = [float(run.bands[k][pixels[0][i], pixels[1][i]]) for k in keys]
         if j[i] >= 2:
             # at the radial sample itself the values are the link engine's, to rounding (float32 bands)
-            want = _link((la[i], lo[i]), step * (1 + 1e-9))
+            want = _link((la[i], lo[i]), step * (1 + 1e-9), model)
             np.testing.assert_allclose(got[:5], want[:5], atol=0.01, rtol=0)
             assert got[5] == want[5] or (np.isnan(got[5]) and np.isnan(want[5]))
-        centre = _link((lat_c[i], lon_c[i]), step)
+        centre = _link((lat_c[i], lon_c[i]), step, model)
         loss_diff.append(abs(got[0] - centre[0]))
         ratio_diff.append(abs(got[1] - centre[1]))
     # at the pixel centre only the sampling differs (up to half a step along, one pixel across the radial);
