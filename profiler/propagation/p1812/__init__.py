@@ -48,6 +48,7 @@ from .geometry import (
     beta0_percent,
     effective_radius_km,
     elevation_mrad_term,
+    elevation_tangent_term,
     horizon_geometry,
     padded_profile,
     path_centre_latitude_deg,
@@ -68,7 +69,8 @@ from .reductions import ProfileReducer, p1812_reductions
 
 __all__ = ["EARTH_RADIUS_KM", "ZONE_COASTAL", "ZONE_INLAND", "ZONE_SEA", "ProfileReducer", "basic_losses",
            "beta0_percent", "combined_losses", "diffraction_losses", "ducting_blend", "ducting_db",
-           "effective_radius_km", "elevation_mrad_term", "height_factor", "horizon_geometry", "inverse_normal",
+           "effective_radius_km", "elevation_mrad_term", "elevation_tangent_term",
+           "height_factor", "horizon_geometry", "inverse_normal",
            "inverse_normal_tail", "location_sigma_db", "location_term_db", "p1812_batch", "p1812_finish",
            "p1812_reductions", "path_centre_latitude_deg", "padded_profile", "roughness_term", "troposcatter_db",
            "zone_sections_km"]

@@ -196,8 +196,12 @@ def padded_profile(distance_km, height_m, clutter_m, n_samples):
     return d, h, g, interior, rows, n, d[rows, n - 1]
 
 
-def elevation_mrad_term(dh_m, d_km, ae_km):
-    """Elevation angle of a point ``dh`` higher at distance ``d`` over the effective Earth [mrad].
+def elevation_tangent_term(dh_m, d_km, ae_km):
+    """Tangent of the elevation angle of a point ``dh`` higher at distance ``d`` over the effective Earth [-].
+
+    The reductions take the largest tangent (the arctangent is increasing,
+    so the largest angle is the arctangent of the largest tangent, at the
+    same sample): :func:`elevation_mrad_term` of one value per path.
 
     Parameters
     ----------
@@ -210,6 +214,27 @@ def elevation_mrad_term(dh_m, d_km, ae_km):
 
     Returns
     -------
+    tangent : float or ndarray
+        dh / (1000 d) - d / (2 a_e) [-].
+
+    References
+    ----------
+    .. [1] ITU-R P.1812-8 Annex 1 Attachment 1 (elevation angles θi, θj of
+       the profile points, θtd, θrd of the other terminal).
+    """
+    return dh_m / (1000.0 * d_km) - d_km / (2.0 * ae_km)
+
+
+def elevation_mrad_term(dh_m, d_km, ae_km):
+    """Elevation angle of a point ``dh`` higher at distance ``d`` over the effective Earth [mrad].
+
+    Parameters
+    ----------
+    dh_m, d_km, ae_km : float or ndarray
+        As :func:`elevation_tangent_term`.
+
+    Returns
+    -------
     theta_mrad : float or ndarray
         1000 arctan(dh / (1000 d) - d / (2 a_e)) [mrad].
 
@@ -218,7 +243,7 @@ def elevation_mrad_term(dh_m, d_km, ae_km):
     .. [1] ITU-R P.1812-8 Annex 1 Attachment 1 (elevation angles θi, θj of
        the profile points, θtd, θrd of the other terminal).
     """
-    return 1000.0 * np.arctan(dh_m / (1000.0 * d_km) - d_km / (2.0 * ae_km))
+    return 1000.0 * np.arctan(elevation_tangent_term(dh_m, d_km, ae_km))
 
 
 def roughness_term(h_m, hst_m, slope_m_per_km, d_km):
@@ -256,8 +281,8 @@ def horizon_geometry(horizons, distance_at, d_km, hts_m, hrs_m, ae_km):
     horizons : dict of ndarray, shape (L,)
         The reductions over the interior samples (``horizons`` of a
         reducer, :mod:`profiler.propagation.p1812.reductions`):
-        ``theta_t_max`` and ``theta_r_max`` (largest :func:`elevation_mrad_term`
-        from the transmitter and the receiver [mrad]) with their sample
+        ``tan_t_max`` and ``tan_r_max`` (largest :func:`elevation_tangent_term`
+        from the transmitter and the receiver [-]) with their sample
         indices ``theta_t_index``, ``theta_r_index``, and ``nu_index``
         (sample of the largest diffraction parameter ν, the line-of-sight
         case).
@@ -289,11 +314,12 @@ def horizon_geometry(horizons, distance_at, d_km, hts_m, hrs_m, ae_km):
     ae1 = np.asarray(ae_km, dtype=float)
     theta_td = elevation_mrad_term(hrs_m - hts_m, d_km, ae1)
     theta_rd = elevation_mrad_term(hts_m - hrs_m, d_km, ae1)
-    trans = horizons["theta_t_max"] > theta_td
+    theta_max = 1000.0 * np.arctan(horizons["tan_t_max"])                          # θi of the horizon
+    trans = theta_max > theta_td
     iv = horizons["nu_index"]
     ilt, ilr = np.where(trans, horizons["theta_t_index"], iv), np.where(trans, horizons["theta_r_index"], iv)
-    theta_t = np.where(trans, horizons["theta_t_max"], theta_td)
-    theta_r = np.where(trans, horizons["theta_r_max"], theta_rd)
+    theta_t = np.where(trans, theta_max, theta_td)
+    theta_r = np.where(trans, 1000.0 * np.arctan(horizons["tan_r_max"]), theta_rd)
     return {"d_km": d_km, "dlt_km": distance_at(ilt), "dlr_km": d_km - distance_at(ilr),
             "theta_t_mrad": theta_t, "theta_r_mrad": theta_r,
             "theta_mrad": 1000.0 * d_km / ae1 + theta_t + theta_r,

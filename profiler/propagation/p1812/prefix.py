@@ -6,9 +6,11 @@ profile is the first ``j + 1`` samples.  :class:`PrefixReducer` gives
 :func:`profiler.propagation.p1812.reductions.p1812_reductions` the
 reductions of all those links at once:
 
-* the horizons (largest elevation angle from each end and where it is, and
-  where the line-of-sight ν is largest): one compiled loop over radial x
-  node sample ``j`` x interior sample ``i``;
+* the horizons (largest elevation-angle tangent from each end and where it
+  is, and where the line-of-sight ν is largest): one compiled loop over
+  radial x node sample ``j`` x interior sample ``i`` (seen from the site,
+  whose antenna is the same for every link of a radial, a running maximum
+  along the radial);
 * the terrain roughness hm between the horizons: one compiled loop over the
   samples between the two horizon indices of every link;
 * the two delta-Bullington passes (at a_e and at aβ):
@@ -38,10 +40,10 @@ from .. import diffraction_batch as diffraction_engine
 from .. import prefix_kernel
 from . import geometry
 
-_TERMS = ((geometry, ("elevation_mrad_term", "roughness_term")),
+_TERMS = ((geometry, ("elevation_tangent_term", "roughness_term")),
           (diffraction_engine, ("bulge_km_term", "obstacle_term", "v_unit_term")))
 _G, _D = (prefix_kernel.compile_terms(module, names) for module, names in _TERMS)
-_elevation, _roughness = _G["elevation_mrad_term"], _G["roughness_term"]
+_tangent, _roughness = _G["elevation_tangent_term"], _G["roughness_term"]
 _bulge_km, _v_unit = _D["bulge_km_term"], _D["v_unit_term"]
 
 
@@ -50,23 +52,26 @@ def _kernels(key: str):
     fastmath = prefix_kernel.FASTMATH
 
     @numba.njit(cache=True, parallel=True, fastmath=fastmath)
-    def horizon_kernel(d_km, h_m, n, hts, hrs, ae_km, maxima, index):   # pragma: no cover (compiled)
+    def horizon_kernel(d_km, h_m, n, site, hrs, ae_km, maxima, index):   # pragma: no cover (compiled)
         _key = key   # noqa: F841 (the cache key)
         for r in numba.prange(d_km.shape[0]):
+            a = site[r]
+            t_max = -np.inf   # seen from the site, a sample's elevation does not depend on the node: running max
+            it = 0
             for j in range(2, n[r]):
-                d, a, b = d_km[r, j], hts[r, j], hrs[r, j]
-                t_max = r_max = nu_max = -np.inf
-                it = ir = iv = 0
+                tangent = _tangent(h_m[r, j - 1] - a, d_km[r, j - 1], ae_km)
+                if tangent > t_max:
+                    t_max, it = tangent, j - 1
+                d, b = d_km[r, j], hrs[r, j]
+                r_max = nu_max = -np.inf
+                ir = iv = 0
                 for i in range(1, j):
                     di = d_km[r, i]
                     dd = d - di
                     h = h_m[r, i]
-                    theta = _elevation(h - a, di, ae_km)
-                    if theta > t_max:
-                        t_max, it = theta, i
-                    theta = _elevation(h - b, dd, ae_km)
-                    if theta > r_max:
-                        r_max, ir = theta, i
+                    tangent = _tangent(h - b, dd, ae_km)
+                    if tangent > r_max:
+                        r_max, ir = tangent, i
                     nu = _v_unit(h + _bulge_km(di, dd, ae_km), a, b, di, dd, d)
                     if nu > nu_max:
                         nu_max, iv = nu, i
@@ -118,12 +123,16 @@ class PrefixReducer:
         return full
 
     def horizons(self, hts, hrs, ae_km):
+        site = np.full(self.d.shape[0], np.nan)
+        site[self.rr] = hts
+        if not np.array_equal(site[self.rr], hts):
+            raise ValueError("the prefix kernel needs one site antenna height per radial")
         maxima = np.full((2,) + self.d.shape, np.nan)
         index = np.zeros((3,) + self.d.shape, dtype=np.int64)
         with prefix_kernel.LAUNCH:
-            _horizon_kernel(self.d, self.h, self.n, self._full(hts), self._full(hrs), float(ae_km), maxima, index)
+            _horizon_kernel(self.d, self.h, self.n, site, self._full(hrs), float(ae_km), maxima, index)
         at = (self.rr, self.jj)
-        return {"theta_t_max": maxima[0][at], "theta_r_max": maxima[1][at], "theta_t_index": index[0][at],
+        return {"tan_t_max": maxima[0][at], "tan_r_max": maxima[1][at], "theta_t_index": index[0][at],
                 "theta_r_index": index[1][at], "nu_index": index[2][at]}
 
     def distance_at(self, index):

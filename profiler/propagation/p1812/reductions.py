@@ -8,7 +8,7 @@ the samples of every path) into everything the per-path formulas of
 (numpy, padded profiles, what :func:`profiler.propagation.p1812.p1812_batch`
 uses) and :class:`profiler.propagation.p1812.prefix.PrefixReducer` (numba,
 every prefix of every coverage radial).  Both evaluate the same elementwise
-terms (:func:`profiler.propagation.p1812.geometry.elevation_mrad_term`,
+terms (:func:`profiler.propagation.p1812.geometry.elevation_tangent_term`,
 :func:`~profiler.propagation.p1812.geometry.roughness_term` and the
 delta-Bullington terms of :mod:`profiler.propagation.diffraction_batch`).
 
@@ -16,8 +16,8 @@ A reducer has ``d_total_km``, ``h_first_m``, ``h_last_m`` (arrays (L,):
 path length [km], ground height at the transmitter and the receiver
 [m amsl]) and the methods
 
-* ``horizons(hts, hrs, ae_km)``: ``theta_t_max``, ``theta_r_max`` [mrad]
-  (largest elevation angle of an interior point from each terminal) with
+* ``horizons(hts, hrs, ae_km)``: ``tan_t_max``, ``tan_r_max`` [-]
+  (largest elevation-angle tangent of an interior point from each terminal) with
   ``theta_t_index``, ``theta_r_index``, and ``nu_index`` (the interior point
   of the largest ν of the line-of-sight case);
 * ``distance_at(index)``: distance of a sample of every path [km];
@@ -49,7 +49,7 @@ from .geometry import (
     EARTH_RADIUS_KM,
     ZONE_SEA,
     effective_radius_km,
-    elevation_mrad_term,
+    elevation_tangent_term,
     horizon_geometry,
     padded_profile,
     roughness_term,
@@ -83,12 +83,12 @@ class ProfileReducer:
         di = np.where(self.interior, self.d, 1.0)
         dr = np.where(self.interior, self.d_total_km[:, None] - self.d, 1.0)
         # the horizons are those of the terrain; the clutter enters the Bullington part only
-        theta_i = np.where(self.interior, elevation_mrad_term(self.h - hts[:, None], di, ae), -np.inf)
-        theta_j = np.where(self.interior, elevation_mrad_term(self.h - hrs[:, None], dr, ae), -np.inf)
+        theta_i = np.where(self.interior, elevation_tangent_term(self.h - hts[:, None], di, ae), -np.inf)
+        theta_j = np.where(self.interior, elevation_tangent_term(self.h - hrs[:, None], dr, ae), -np.inf)
         nu = np.where(self.interior, v_unit_term(self.h + bulge_km_term(di, dr, ae), hts[:, None], hrs[:, None],
                                                  di, dr, self.d_total_km[:, None]), -np.inf)
         it, ir = np.argmax(theta_i, axis=1), np.argmax(theta_j, axis=1)
-        return {"theta_t_max": theta_i[self.rows, it], "theta_t_index": it, "theta_r_max": theta_j[self.rows, ir],
+        return {"tan_t_max": theta_i[self.rows, it], "theta_t_index": it, "tan_r_max": theta_j[self.rows, ir],
                 "theta_r_index": ir, "nu_index": np.argmax(nu, axis=1)}
 
     def distance_at(self, index):
