@@ -5,9 +5,12 @@ Measured in one run on the machine at hand (figures, never asserted):
 * line of sight only: sampling every radial and the exact cumulative-maximum
   test (:func:`profiler.products.coverage.radials.line_of_sight_radials`) put on the grid;
 * ``--diffraction none`` (line of sight, worst Fresnel ratio of every
-  prefix, free-space budget) and the full delta-Bullington model, each
-  in-process and on a local Dask cluster of ``--workers`` processes, with the
-  numba kernel and (unless ``--no-numpy``) with the numpy prefix batches;
+  prefix, free-space budget), the full delta-Bullington model
+  (``--model terrain``) and ITU-R P.1812-8 (``--model p1812``, 50 % time and
+  locations), each in-process (best of ``--repeat`` runs, the two models
+  alternating) and on a local Dask cluster of ``--workers`` processes, with
+  the numba kernels and (unless ``--no-numpy``) with the numpy prefix
+  batches; printed: the ratio p1812 / terrain of the times (target <= 1.3);
 * GDAL's ``gdal_viewshed`` on the same elevation data (when on the PATH):
   the tile is warped (bilinear, ``gdalwarp``) onto the coverage grid itself,
   so both maps have the same pixels; observer height = the mast, target
@@ -17,8 +20,8 @@ Measured in one run on the machine at hand (figures, never asserted):
   ``d^2 / (2 k R)`` with R = 6371 km).  Printed: the share of pixels where
   visible/invisible agree, and the time ratio.
 
-Usage: ``python benchmarks/bench_coverage.py [--radius-km 20] [--resolution-m 30] [--workers 2] [--no-numpy]
-[--no-workers]``
+Usage: ``python benchmarks/bench_coverage.py [--radius-km 20] [--resolution-m 30] [--workers 2] [--repeat 2]
+[--no-numpy] [--no-workers]``
 """
 
 from __future__ import annotations
@@ -38,6 +41,7 @@ sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
 
 from bench_profile import TILE_SOUTH, TILE_WEST, make_tile, tile_path  # noqa: E402
 
+from profiler.engine.model import PropagationSettings  # noqa: E402
 from profiler.engine.radio import RadioSettings  # noqa: E402
 from profiler.products.coverage.grid import Gateway, make_grid, pixel_polar, radial_lookup  # noqa: E402
 from profiler.products.coverage.map import coverage  # noqa: E402
@@ -112,11 +116,27 @@ def timed(label, func):
     return seconds, result
 
 
+def model_times(label, repeat, run):
+    """Best time of ``run(radio)`` per model over ``repeat`` alternating rounds; prints them and the ratio."""
+    models = {m: RadioSettings(propagation=PropagationSettings(model=m)) for m in ("terrain", "p1812")}
+    best, results = dict.fromkeys(models, float("inf")), {}
+    for _ in range(repeat):
+        for model, radio in models.items():
+            t0 = time.perf_counter()
+            results[model] = run(radio)
+            best[model] = min(best[model], time.perf_counter() - t0)
+    for model, seconds in best.items():
+        print(f"{f'--model {model}, {label}':<52} {seconds:7.2f} s", flush=True)
+    print(f"{f'  p1812 / terrain, {label}':<52} {best['p1812'] / best['terrain']:7.2f}   (target <= 1.3)")
+    return best, results
+
+
 def main(argv=None):
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--radius-km", type=float, default=20.0)
     ap.add_argument("--resolution-m", type=float, default=30.0)
     ap.add_argument("--workers", type=int, default=2)
+    ap.add_argument("--repeat", type=int, default=2, help="in-process runs of each model (the best counts)")
     ap.add_argument("--no-numpy", action="store_true", help="skip the runs without the kernel")
     ap.add_argument("--no-workers", action="store_true", help="skip the local Dask cluster runs")
     args = ap.parse_args(argv)
@@ -126,30 +146,32 @@ def main(argv=None):
     kw = dict(dem=[dem], mast_m=MAST_M, radius_km=args.radius_km, resolution_m=args.resolution_m,
               node_mast_m=NODE_M, progress=False)
     keep_freed_memory()   # as the command does (the numpy path needs it; the kernel does not)
-    coverage(SITE, **{**kw, "radius_km": 1.0})   # load (or compile) the kernel once, outside the timings
+    for model in ("terrain", "p1812"):   # load (or compile) the kernels once, outside the timings
+        coverage(SITE, radio=RadioSettings(propagation=PropagationSettings(model=model)), **{**kw, "radius_km": 1.0})
     t_los, (_, los_map, grid) = timed("line of sight only (sampling + cumulative max + grid)",
                                       lambda: los_only(dem, radius_m, args.resolution_m))
     pixels = int(np.isfinite(los_map).sum())
     print(f"grid {grid.width} x {grid.height}, {pixels:,} pixels within {args.radius_km:g} km at "
           f"{args.resolution_m:g} m, {radial_count(radius_m, args.resolution_m)} radials")
-    none = RadioSettings(diffraction_method="none")
+    none = RadioSettings(diffraction_method="none", propagation=PropagationSettings(model="terrain"))
     runs = [("kernel", True)] + ([] if args.no_numpy else [("numpy", False)])
     full = fast = None
     for name, kernel in runs:
         _, res_none = timed(f"--diffraction none, in-process, {name}",
                             lambda: coverage(SITE, radio=none, kernel=kernel, **kw))
         fast = fast or res_none
-        t, res = timed(f"delta-Bullington, in-process, {name}", lambda: coverage(SITE, kernel=kernel, **kw))
-        print(f"{'':<52} ({pixels / t:,.0f} pixels/s)")
-        full = full or res
+        best, res = model_times(f"in-process, {name}", args.repeat,
+                                lambda radio: coverage(SITE, radio=radio, kernel=kernel, **kw))
+        print(f"{'':<52} ({pixels / best['terrain']:,.0f} / {pixels / best['p1812']:,.0f} pixels/s)")
+        full = full or res["terrain"]
         if not args.no_workers:
             timed(f"--diffraction none, {args.workers} workers, {name}",
                   lambda: coverage(SITE, radio=none, kernel=kernel, workers=args.workers, **kw))
-            timed(f"delta-Bullington, {args.workers} workers, {name}",
-                  lambda: coverage(SITE, kernel=kernel, workers=args.workers, **kw))
+            model_times(f"{args.workers} workers, {name}", 1,
+                        lambda radio: coverage(SITE, radio=radio, kernel=kernel, workers=args.workers, **kw))
     ok = np.isfinite(los_map)
     for label, run in (("--diffraction none run (same radial step)", fast),
-                       ("delta-Bullington run (half the step)", full)):
+                       ("--model terrain run (half the step)", full)):
         agree = np.mean((run.bands["line_of_sight"] == 1)[ok] == (los_map == 1)[ok])
         print(f"line-of-sight map vs the {label}'s band: {agree:.4%} agree")
     vs = viewshed(dem, grid, los_map, radius_m)

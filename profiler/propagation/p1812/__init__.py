@@ -53,6 +53,7 @@ from .geometry import (
     padded_profile,
     path_centre_latitude_deg,
     roughness_term,
+    trans_horizon,
     zone_sections_km,
 )
 from .location import height_factor, inverse_normal, location_sigma_db, location_term_db
@@ -72,7 +73,7 @@ __all__ = ["EARTH_RADIUS_KM", "ZONE_COASTAL", "ZONE_INLAND", "ZONE_SEA", "Profil
            "effective_radius_km", "elevation_mrad_term", "elevation_tangent_term",
            "height_factor", "horizon_geometry", "inverse_normal",
            "inverse_normal_tail", "location_sigma_db", "location_term_db", "p1812_batch", "p1812_finish",
-           "p1812_reductions", "path_centre_latitude_deg", "padded_profile", "roughness_term", "troposcatter_db",
+           "p1812_reductions", "path_centre_latitude_deg", "padded_profile", "roughness_term", "trans_horizon", "troposcatter_db",
            "zone_sections_km"]
 
 

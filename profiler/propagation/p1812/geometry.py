@@ -273,6 +273,36 @@ def roughness_term(h_m, hst_m, slope_m_per_km, d_km):
     return h_m - (hst_m + slope_m_per_km * d_km)
 
 
+def trans_horizon(tan_t_max, d_km, hts_m, hrs_m, ae_km):
+    """Whether each path is trans-horizon: the transmitter's horizon above the receiver's direction.
+
+    Parameters
+    ----------
+    tan_t_max : ndarray, shape (L,)
+        Largest :func:`elevation_tangent_term` of an interior point seen
+        from the transmitter [-].
+    d_km : ndarray, shape (L,)
+        Path lengths [km].
+    hts_m, hrs_m : ndarray, shape (L,)
+        Antenna heights [m amsl].
+    ae_km : float or ndarray, shape (L,)
+        Median effective Earth radius [km].
+
+    Returns
+    -------
+    trans : ndarray of bool, shape (L,)
+        θmax > θtd, and θmax [mrad], θtd [mrad].
+
+    References
+    ----------
+    .. [1] ITU-R P.1812-8 Annex 1 Attachment 1 (the path is trans-horizon
+       when θmax > θtd).
+    """
+    theta_max = 1000.0 * np.arctan(tan_t_max)                                       # θi of the horizon
+    theta_td = elevation_mrad_term(hrs_m - hts_m, d_km, np.asarray(ae_km, dtype=float))
+    return theta_max > theta_td, theta_max, theta_td
+
+
 def horizon_geometry(horizons, distance_at, d_km, hts_m, hrs_m, ae_km):
     """Horizon distances, elevation angles and angular distance of each path from its horizon reductions.
 
@@ -284,8 +314,9 @@ def horizon_geometry(horizons, distance_at, d_km, hts_m, hrs_m, ae_km):
         ``tan_t_max`` and ``tan_r_max`` (largest :func:`elevation_tangent_term`
         from the transmitter and the receiver [-]) with their sample
         indices ``theta_t_index``, ``theta_r_index``, and ``nu_index``
-        (sample of the largest diffraction parameter ν, the line-of-sight
-        case).
+        (sample of the largest diffraction parameter ν).  ``tan_r_max`` and
+        ``theta_r_index`` are read for trans-horizon paths only,
+        ``nu_index`` for line-of-sight paths only (:func:`trans_horizon`).
     distance_at : callable
         ``distance_at(index) -> d [km]``, shape (L,): the distance of a
         sample index of every path.
@@ -312,10 +343,8 @@ def horizon_geometry(horizons, distance_at, d_km, hts_m, hrs_m, ae_km):
        case).
     """
     ae1 = np.asarray(ae_km, dtype=float)
-    theta_td = elevation_mrad_term(hrs_m - hts_m, d_km, ae1)
+    trans, theta_max, theta_td = trans_horizon(horizons["tan_t_max"], d_km, hts_m, hrs_m, ae1)
     theta_rd = elevation_mrad_term(hts_m - hrs_m, d_km, ae1)
-    theta_max = 1000.0 * np.arctan(horizons["tan_t_max"])                          # θi of the horizon
-    trans = theta_max > theta_td
     iv = horizons["nu_index"]
     ilt, ilr = np.where(trans, horizons["theta_t_index"], iv), np.where(trans, horizons["theta_r_index"], iv)
     theta_t = np.where(trans, theta_max, theta_td)

@@ -16,10 +16,12 @@ A reducer has ``d_total_km``, ``h_first_m``, ``h_last_m`` (arrays (L,):
 path length [km], ground height at the transmitter and the receiver
 [m amsl]) and the methods
 
-* ``horizons(hts, hrs, ae_km)``: ``tan_t_max``, ``tan_r_max`` [-]
-  (largest elevation-angle tangent of an interior point from each terminal) with
-  ``theta_t_index``, ``theta_r_index``, and ``nu_index`` (the interior point
-  of the largest ν of the line-of-sight case);
+* ``site_horizon(hts, ae_km)``: ``tan_t_max`` [-] (largest elevation-angle
+  tangent of an interior point from the transmitter) and ``theta_t_index``;
+* ``far_horizon(hts, hrs, ae_km, trans)``: for the trans-horizon paths
+  ``tan_r_max`` (the same from the receiver) and ``theta_r_index``, for the
+  others ``nu_index`` (the interior point of the largest ν); the values of
+  the other case are not read;
 * ``distance_at(index)``: distance of a sample of every path [km];
 * ``roughness(first, last, hst, slope)``: the largest
   :func:`~profiler.propagation.p1812.geometry.roughness_term` over the
@@ -53,8 +55,13 @@ from .geometry import (
     horizon_geometry,
     padded_profile,
     roughness_term,
+    trans_horizon,
     zone_sections_km,
 )
+
+
+def _col(x):
+    return np.asarray(x, dtype=float).reshape(-1, 1) if np.ndim(x) else x
 
 
 class ProfileReducer:
@@ -78,18 +85,22 @@ class ProfileReducer:
         self.h_first_m, self.h_last_m = self.h[:, 0], self.h[self.rows, self.n - 1]
         self._distance, self._zone, self._clutter = distance_km, zone, clutter
 
-    def horizons(self, hts, hrs, ae_km):
-        ae = np.asarray(ae_km, dtype=float).reshape(-1, 1) if np.ndim(ae_km) else ae_km
+    # the horizons are those of the terrain; the clutter enters the Bullington part only
+    def site_horizon(self, hts, ae_km):
+        di = np.where(self.interior, self.d, 1.0)
+        theta_i = np.where(self.interior, elevation_tangent_term(self.h - hts[:, None], di, _col(ae_km)), -np.inf)
+        it = np.argmax(theta_i, axis=1)
+        return {"tan_t_max": theta_i[self.rows, it], "theta_t_index": it}
+
+    def far_horizon(self, hts, hrs, ae_km, trans):
+        ae = _col(ae_km)
         di = np.where(self.interior, self.d, 1.0)
         dr = np.where(self.interior, self.d_total_km[:, None] - self.d, 1.0)
-        # the horizons are those of the terrain; the clutter enters the Bullington part only
-        theta_i = np.where(self.interior, elevation_tangent_term(self.h - hts[:, None], di, ae), -np.inf)
         theta_j = np.where(self.interior, elevation_tangent_term(self.h - hrs[:, None], dr, ae), -np.inf)
         nu = np.where(self.interior, v_unit_term(self.h + bulge_km_term(di, dr, ae), hts[:, None], hrs[:, None],
                                                  di, dr, self.d_total_km[:, None]), -np.inf)
-        it, ir = np.argmax(theta_i, axis=1), np.argmax(theta_j, axis=1)
-        return {"tan_t_max": theta_i[self.rows, it], "theta_t_index": it, "tan_r_max": theta_j[self.rows, ir],
-                "theta_r_index": ir, "nu_index": np.argmax(nu, axis=1)}
+        ir = np.argmax(theta_j, axis=1)
+        return {"tan_r_max": theta_j[self.rows, ir], "theta_r_index": ir, "nu_index": np.argmax(nu, axis=1)}
 
     def distance_at(self, index):
         return self.d[self.rows, index]
@@ -152,7 +163,10 @@ def p1812_reductions(reducer, htg_m, hrg_m, delta_n, time_percent, informative=T
     d, h_first, h_last = reducer.d_total_km, reducer.h_first_m, reducer.h_last_m
     htg, hrg = np.asarray(htg_m, dtype=float), np.asarray(hrg_m, dtype=float)
     hts, hrs = np.broadcast_to(h_first + htg, d.shape), np.broadcast_to(h_last + hrg, d.shape)
-    geo = horizon_geometry(reducer.horizons(hts, hrs, ae), reducer.distance_at, d, hts, hrs, ae)
+    horizons = reducer.site_horizon(hts, ae)
+    trans = trans_horizon(horizons["tan_t_max"], d, hts, hrs, ae)[0]
+    horizons.update(reducer.far_horizon(hts, hrs, ae, trans))
+    geo = horizon_geometry(horizons, reducer.distance_at, d, hts, hrs, ae)
     ld50 = diffraction_reductions(reducer.bullington(ae), d, h_first, h_last, hts, hrs)
     hst, hsr = ld50["hst"], ld50["hsr"]                                           # eqs. (85), (86)
     hst_g, hsr_g = np.minimum(hst, h_first), np.minimum(hsr, h_last)              # eq. (90)
