@@ -53,8 +53,25 @@ _TERMS = ((geometry, ("bulge_term", "line_term", "fresnel_term", "clearance_rati
 def compile_terms(module, names) -> dict:
     """``numba.njit`` copies of ``module``'s term functions, each calling the compiled copies of the others.
 
-    ``names`` are in dependency order (a term after the terms it calls).  Not
-    cached themselves: they are compiled into the (cached) kernels.
+    Not cached themselves: they are compiled into the (cached) kernels.
+
+    Parameters
+    ----------
+    module : module
+        The module holding the terms (plain arithmetic on floats).
+    names : tuple of str
+        The terms, in dependency order (a term after the terms it calls).
+
+    Returns
+    -------
+    dict
+        Name -> compiled term, plus ``np`` and ``math`` (the globals of the copies).
+
+    References
+    ----------
+    .. [1] numba documentation, user guide section "Compiling Python code
+       with @jit" (``njit``, ``fastmath``): functions called from a compiled
+       function must be compiled themselves.
     """
     space = {"np": np, "math": math}
     for name in names:
@@ -69,8 +86,25 @@ def fingerprint(terms=_TERMS) -> str:
     """Digest of the terms' code and the flags: part of the kernels' cache key.
 
     numba keys a cached function on its own bytecode and closure only, so an
-    edited term (in geometry.py or diffraction_engine.py) would otherwise be served
-    stale from the cache.  ``terms``: ``(module, names)`` pairs, as :data:`_TERMS`.
+    edited term (in geometry.py or diffraction_batch.py) would otherwise be
+    served stale from the cache.
+
+    Parameters
+    ----------
+    terms : tuple of (module, tuple of str)
+        The terms a set of kernels calls (default: this module's).
+
+    Returns
+    -------
+    str
+        SHA-256 hex digest of the fast-math flags and the terms' byte code,
+        constants and names.
+
+    References
+    ----------
+    .. [1] numba documentation, developer reference section "Notes on
+       caching": the cache does not see changes in the functions a cached
+       function calls.
     """
     digest = hashlib.sha256(repr(sorted(FASTMATH)).encode())
     for module, names in terms:

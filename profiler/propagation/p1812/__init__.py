@@ -156,15 +156,28 @@ def p1812_finish(reduced, *, f_ghz, time_percent, vertical, n0, lat_t_deg, lon_t
     reduced : dict
         Output of :func:`profiler.propagation.p1812.reductions.p1812_reductions`
         (the numpy :class:`ProfileReducer` or the coverage prefix kernel).
-    f_ghz, time_percent, vertical, n0, lat_t_deg, lon_t_deg, lat_r_deg, lon_r_deg, dct_km, dcr_km
-        As :func:`p1812_batch`.
-    location_percent, location_sigma_db
-        As :func:`p1812_batch`.
+    f_ghz : float or ndarray, shape (L,)
+        Frequency [GHz], 0.03 to 6.
+    time_percent : float or ndarray, shape (L,)
+        Time percentage p [%], 1 to 50.
+    vertical : bool or ndarray of bool, shape (L,)
+        Vertical polarization (else horizontal).
+    n0 : float or ndarray, shape (L,)
+        Sea-level surface refractivity N0 [N-units].
+    lat_t_deg, lon_t_deg, lat_r_deg, lon_r_deg : float or ndarray, shape (L,)
+        Terminal coordinates [deg].
+    dct_km, dcr_km : float or ndarray, shape (L,)
+        Distances of the transmitter and the receiver from the coast [km].
+    location_percent : float or ndarray, shape (L,)
+        Location percentage pL [%], 1 to 99.
+    location_sigma_db : float or ndarray, shape (L,)
+        Location variability σL at the receiving end, after u(h) [dB].
 
     Returns
     -------
     dict of ndarray, shape (L,)
-        The named values of :func:`p1812_batch`.
+        The named values of :func:`p1812_batch`, the unit in each name
+        ([km], [m], [mrad], [deg], [%], [dB]).
 
     References
     ----------

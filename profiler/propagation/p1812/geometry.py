@@ -230,8 +230,12 @@ def elevation_mrad_term(dh_m, d_km, ae_km):
 
     Parameters
     ----------
-    dh_m, d_km, ae_km : float or ndarray
-        As :func:`elevation_tangent_term`.
+    dh_m : float or ndarray
+        Height of the point above the antenna [m].
+    d_km : float or ndarray
+        Distance of the point from the antenna [km], greater than 0.
+    ae_km : float or ndarray
+        Median effective Earth radius [km].
 
     Returns
     -------

@@ -39,6 +39,7 @@ import numpy as np
 from .. import diffraction_batch as diffraction_engine
 from .. import prefix_kernel
 from . import geometry
+from .reductions import Reducer, documented
 
 _TERMS = ((geometry, ("elevation_tangent_term", "roughness_term")),
           (diffraction_engine, ("bulge_km_term", "obstacle_term", "v_unit_term")))
@@ -102,7 +103,8 @@ def _kernels(key: str):
 _site_kernel, _far_kernel, _roughness_kernel = _kernels(prefix_kernel.fingerprint(_TERMS))
 
 
-class PrefixReducer:
+@documented
+class PrefixReducer(Reducer):
     """The reductions of :func:`~profiler.propagation.p1812.reductions.p1812_reductions` for every prefix of radials.
 
     Link ``l`` goes from the site (sample 0 of radial ``rr[l]``) to the

@@ -12,27 +12,8 @@ terms (:func:`profiler.propagation.p1812.geometry.elevation_tangent_term`,
 :func:`~profiler.propagation.p1812.geometry.roughness_term` and the
 delta-Bullington terms of :mod:`profiler.propagation.diffraction_batch`).
 
-A reducer has ``d_total_km``, ``h_first_m``, ``h_last_m`` (arrays (L,):
-path length [km], ground height at the transmitter and the receiver
-[m amsl]) and the methods
-
-* ``site_horizon(hts, ae_km)``: ``tan_t_max`` [-] (largest elevation-angle
-  tangent of an interior point from the transmitter) and ``theta_t_index``;
-* ``far_horizon(hts, hrs, ae_km, trans)``: for the trans-horizon paths
-  ``tan_r_max`` (the same from the receiver) and ``theta_r_index``, for the
-  others ``nu_index`` (the interior point of the largest ν); the values of
-  the other case are not read;
-* ``distance_at(index)``: distance of a sample of every path [km];
-* ``roughness(first, last, hst, slope)``: the largest
-  :func:`~profiler.propagation.p1812.geometry.roughness_term` over the
-  samples ``first .. last`` [m] (-inf for an empty range);
-* ``zones()``: ``w_sea_fraction``, ``dtm_km``, ``dlm_km``;
-* ``terminals()``: ``r2_m``, ``rn1_m`` (clutter next to the terminals),
-  ``clutter_t_m``, ``clutter_r_m`` (at the terminals) [m] and ``sea_t``,
-  ``sea_r`` (the terminal's sample in the sea zone);
-* ``bullington(ae_km)``: the ``reduce`` callable of ``diffraction_reductions``
-  at that effective Earth radius (Bullington over terrain plus clutter,
-  smooth surface of the terrain).
+A reducer is a :class:`Reducer`: ``d_total_km``, ``h_first_m``,
+``h_last_m`` and the methods documented there.
 
 References
 ----------
@@ -60,12 +41,160 @@ from .geometry import (
 )
 
 
+class Reducer:
+    """What :func:`p1812_reductions` asks of a reducer: the reductions over the samples of L paths.
+
+    Attributes
+    ----------
+    d_total_km : ndarray, shape (L,)
+        Path lengths [km].
+    h_first_m, h_last_m : ndarray, shape (L,)
+        Ground heights at the transmitter and the receiver [m amsl].
+    """
+
+    def site_horizon(self, hts, ae_km):
+        """The transmitter's horizon: largest elevation-angle tangent of an interior point and where it is.
+
+        Parameters
+        ----------
+        hts : ndarray, shape (L,)
+            Transmitter antenna heights [m amsl].
+        ae_km : float
+            Median effective Earth radius [km].
+
+        Returns
+        -------
+        dict of ndarray, shape (L,)
+            ``tan_t_max`` (largest
+            :func:`~profiler.propagation.p1812.geometry.elevation_tangent_term`) [-]
+            and ``theta_t_index`` (its sample index).
+        """
+        raise NotImplementedError
+
+    def far_horizon(self, hts, hrs, ae_km, trans):
+        """The receiver's horizon of trans-horizon paths, or where ν is largest on line-of-sight paths.
+
+        Parameters
+        ----------
+        hts, hrs : ndarray, shape (L,)
+            Antenna heights [m amsl].
+        ae_km : float
+            Median effective Earth radius [km].
+        trans : ndarray of bool, shape (L,)
+            The trans-horizon paths (:func:`~profiler.propagation.p1812.geometry.trans_horizon`).
+
+        Returns
+        -------
+        dict of ndarray, shape (L,)
+            ``tan_r_max`` [-] and ``theta_r_index`` (index) read where
+            ``trans``, ``nu_index`` (index of the largest ν of P.452-18
+            eq. 16) read elsewhere.
+        """
+        raise NotImplementedError
+
+    def distance_at(self, index):
+        """Distance of one sample of every path from the transmitter [km].
+
+        Parameters
+        ----------
+        index : ndarray of int, shape (L,)
+            Sample index per path.
+
+        Returns
+        -------
+        ndarray, shape (L,)
+            Distance [km].
+        """
+        raise NotImplementedError
+
+    def roughness(self, first, last, hst, slope):
+        """Largest height above the smooth-Earth line over the samples ``first .. last`` of every path [m].
+
+        Parameters
+        ----------
+        first, last : ndarray of int, shape (L,)
+            First and last sample index per path (the horizons).
+        hst : ndarray, shape (L,)
+            Smooth-surface height at the transmitter, eq. (90a) [m amsl].
+        slope : ndarray, shape (L,)
+            Slope of the smooth-Earth surface [m/km].
+
+        Returns
+        -------
+        ndarray, shape (L,)
+            hm [m] (the largest
+            :func:`~profiler.propagation.p1812.geometry.roughness_term`;
+            -inf for an empty range).
+        """
+        raise NotImplementedError
+
+    def zones(self):
+        """Zone statistics of every path.
+
+        Returns
+        -------
+        dict of ndarray, shape (L,)
+            ``w_sea_fraction`` [-], ``dtm_km``, ``dlm_km`` [km]
+            (:func:`~profiler.propagation.p1812.geometry.zone_sections_km`).
+        """
+        raise NotImplementedError
+
+    def terminals(self):
+        """Clutter and zone at and next to the terminals.
+
+        Returns
+        -------
+        dict of ndarray, shape (L,)
+            ``r2_m``, ``rn1_m`` (clutter next to the transmitter and the
+            receiver), ``clutter_t_m``, ``clutter_r_m`` (at them) [m];
+            ``sea_t``, ``sea_r`` (bool: the terminal's sample is at sea).
+        """
+        raise NotImplementedError
+
+    def bullington(self, ae_km):
+        """One delta-Bullington reduction at an effective Earth radius.
+
+        Parameters
+        ----------
+        ae_km : float or ndarray, shape (L,)
+            Effective Earth radius [km].
+
+        Returns
+        -------
+        callable
+            ``reduce(actual, hts, hrs)`` of
+            :func:`profiler.propagation.diffraction_batch.diffraction_reductions`
+            (Bullington over terrain plus clutter, smooth surface of the terrain).
+        """
+        raise NotImplementedError
+
+
+def documented(reducer_class):
+    """Give the methods of a :class:`Reducer` subclass the docstrings of the protocol.
+
+    Parameters
+    ----------
+    reducer_class : type
+        A subclass of :class:`Reducer`.
+
+    Returns
+    -------
+    type
+        ``reducer_class``, its public methods without a docstring given :class:`Reducer`'s.
+    """
+    for name, method in vars(reducer_class).items():
+        if callable(method) and not name.startswith("_") and method.__doc__ is None and hasattr(Reducer, name):
+            method.__doc__ = getattr(Reducer, name).__doc__
+    return reducer_class
+
+
 def _col(x):
     return np.asarray(x, dtype=float).reshape(-1, 1) if np.ndim(x) else x
 
 
-class ProfileReducer:
-    """The reductions of :func:`p1812_reductions` over padded profiles (numpy; see the module docstring).
+@documented
+class ProfileReducer(Reducer):
+    """The reductions of :func:`p1812_reductions` over padded profiles (numpy; see :class:`Reducer`).
 
     Parameters
     ----------
@@ -129,8 +258,9 @@ def p1812_reductions(reducer, htg_m, hrg_m, delta_n, time_percent, informative=T
 
     Parameters
     ----------
-    reducer : ProfileReducer or profiler.propagation.p1812.prefix.PrefixReducer
-        The reductions over the samples (module docstring).
+    reducer : Reducer
+        The reductions over the samples: :class:`ProfileReducer` or
+        :class:`profiler.propagation.p1812.prefix.PrefixReducer`.
     htg_m, hrg_m : float or ndarray, shape (L,)
         Antenna heights above ground [m].
     delta_n : float or ndarray, shape (L,)
