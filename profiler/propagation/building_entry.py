@@ -43,6 +43,7 @@ from __future__ import annotations
 import numpy as np
 
 from ..errors import ProfilerError
+from ._names import name_index
 
 __all__ = ["BUILDING_TYPES", "TABLE_1", "FREQUENCY_GHZ", "building_types", "building_entry_loss_db",
            "building_entry_loss_distribution"]
@@ -58,7 +59,6 @@ TABLE_1 = {
 FREQUENCY_GHZ = (0.08, 100.0)
 #: Eq. (1): the constant term C [dB].
 _C_DB = -3.0
-_TYPE_INDEX = {name: i for i, name in enumerate(BUILDING_TYPES)}
 
 
 def building_types(building):
@@ -86,13 +86,7 @@ def building_types(building):
     .. [1] ITU-R P.2109-1 Annex 1 section 2.1 and Table 1 (the two building
        types).
     """
-    names = np.asarray(building, dtype=str)
-    unique, inverse = np.unique(names, return_inverse=True)
-    unknown = [str(u) for u in unique if str(u) not in _TYPE_INDEX]
-    if unknown:
-        raise ProfilerError(f"unknown building type {unknown[0]!r}; use one of {', '.join(BUILDING_TYPES)}")
-    index = np.array([_TYPE_INDEX[str(u)] for u in unique], dtype=int)
-    return index[inverse].reshape(names.shape)
+    return name_index(building, BUILDING_TYPES, "building type")
 
 
 def _loss_at_normal_db(frequency_ghz, elevation_deg, building, normal):

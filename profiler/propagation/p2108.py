@@ -52,7 +52,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from ..errors import ProfilerError
+from ._names import name_index
 from .diffraction_batch import j_knife_edge_db
 
 __all__ = [
@@ -80,9 +80,6 @@ STATISTICAL_MIN_DISTANCE_KM = 0.25
 #: Section 3.2: the shortest path on which the statistical loss may be applied at both ends [km].
 BOTH_ENDS_MIN_DISTANCE_KM = 1.0
 
-_CLASS_INDEX = {name: i for i, name in enumerate(CLUTTER_CLASSES)}
-
-
 def clutter_classes(clutter_class):
     """Check clutter class names and give their index in :data:`CLUTTER_CLASSES`.
 
@@ -108,13 +105,7 @@ def clutter_classes(clutter_class):
     ----------
     .. [1] ITU-R P.2108-1 Annex 1 section 3.1, Table 3 (the clutter types).
     """
-    names = np.asarray(clutter_class, dtype=str)
-    unique, inverse = np.unique(names, return_inverse=True)
-    unknown = [str(u) for u in unique if str(u) not in _CLASS_INDEX]
-    if unknown:
-        raise ProfilerError(f"unknown clutter class {unknown[0]!r}; use one of {', '.join(CLUTTER_CLASSES)}")
-    index = np.array([_CLASS_INDEX[str(u)] for u in unique], dtype=int)
-    return index[inverse].reshape(names.shape)
+    return name_index(clutter_class, CLUTTER_CLASSES, "clutter class")
 
 
 def representative_height_m(clutter_class):
@@ -212,7 +203,7 @@ def height_gain_correction_db(frequency_ghz, antenna_height_m, clutter_class, cl
         nu = k_nu * np.sqrt(np.maximum(h_dif * theta_clut_deg, 0.0))         # eq. (2c)
         diffraction = j_knife_edge_db(nu) - 6.03                             # eq. (2a)
         height_gain = -k_h2 * np.log10(h / r)                                # eq. (2b)
-    is_diffraction = np.isin(index, [_CLASS_INDEX[name] for name in DIFFRACTION_CLASSES])
+    is_diffraction = np.isin(index, [CLUTTER_CLASSES.index(name) for name in DIFFRACTION_CLASSES])
     correction = np.where(h >= r, 0.0, np.where(is_diffraction, diffraction, height_gain))
     low, high = HEIGHT_GAIN_FREQUENCY_GHZ
     valid = (f >= low) & (f <= high) & (h > 0.0) & (r > 0.0) & (ws > 0.0)
