@@ -43,6 +43,8 @@ PHYSICS_MODULES = [
     "profiler.propagation.p1812.geometry",
     "profiler.propagation.p1812.losses",
     "profiler.propagation.p1812.location",
+    "profiler.propagation.p2108",
+    "profiler.propagation.building_entry",
     "profiler.lora.bands",
     "profiler.lora.regional",
     "profiler.lora.modem",
@@ -61,7 +63,7 @@ PHYSICS_MODULES = [
 REFERENCED_MODULES = {
     "geometry", "free_space", "diffraction", "diffraction_batch", "spherical_earth",
     "polarization", "prefix_kernel", "regional", "modem", "lorawan",
-    "budget", "rf_exposure", "magnetic", "datum",
+    "budget", "rf_exposure", "magnetic", "datum", "p2108", "building_entry",
 }
 # ... and these functions of the other modules, which compute a physical
 # quantity among bookkeeping neighbours (module.qualified name).
@@ -84,7 +86,7 @@ REFERENCED_FUNCTIONS = {
 # section, annex or table), not just name it.
 EQUATION_MODULES = {
     "geometry", "free_space", "diffraction", "diffraction_batch", "spherical_earth",
-    "prefix_kernel", "budget", "regional",
+    "prefix_kernel", "budget", "regional", "p2108", "building_entry",
 }
 WHERE_IN_SOURCE = re.compile(
     r"\beqs?\.|\bsection|§|\btable|\bannex|\bappendix|\bsubsection",
