@@ -224,7 +224,7 @@ class LandCover:
 class ClutterSamples:
     """Land cover at sample points: code, clutter class and representative height.
 
-    Attributes
+    Parameters
     ----------
     code : numpy.ndarray of int32
         Land-cover class code [-]; :data:`NO_CLASS` where there is none.
@@ -243,8 +243,8 @@ class ClutterSamples:
 
         Returns
         -------
-        numpy.ndarray of object
-            One of :data:`CLUTTER_CLASSES` or None per sample.
+        numpy.ndarray of str or None
+            One of :data:`CLUTTER_CLASSES` or None per sample (names, no unit [-]).
         """
         names = np.array(CLUTTER_CLASSES + (None,), dtype=object)
         return names[self.class_index]      # -1 picks the trailing None
@@ -256,15 +256,15 @@ class ClassMapping:
 
     Parameters
     ----------
-    classes : Mapping[int, str]
-        Code -> one of :data:`CLUTTER_CLASSES`.
-    heights_m : Mapping[int, float]
+    classes : dict
+        Land-cover code [-] -> one of :data:`CLUTTER_CLASSES`.
+    heights_m : dict
         Code -> representative clutter height [m], for the codes whose height
         was given (the others take the model's default).
     source : str
         Where the mapping comes from (the file name), for messages.
-    void_codes : tuple of int, optional
-        Codes that mean "no data" (sampled as :data:`NO_CLASS`).
+    void_codes : tuple, optional
+        Land-cover codes [-] that mean "no data" (sampled as :data:`NO_CLASS`).
     """
 
     classes: dict
