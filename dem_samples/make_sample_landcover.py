@@ -1,8 +1,9 @@
 """Generate the synthetic land cover of the invented Vellmoor valley scenario.
 
-Same grid and extent as the synthetic terrain (``make_sample_dem.py``: 1
-arc-second pixels, 0.25 deg x 0.25 deg in open ocean), classes in the ESA
-WorldCover code table (``profiler.terrain.landcover.WORLDCOVER_CLASSES``):
+Same grid and extent as the synthetic terrain ``vellmoor_synthetic_1s.tif``
+(read from it, with its heights: 1 arc-second pixels, 0.25 deg x 0.25 deg in
+open ocean; run ``make_sample_dem.py`` first), classes in the ESA WorldCover
+code table (``profiler.terrain.landcover.WORLDCOVER_CLASSES``):
 
 * Vellmoor town (50 built-up) on the valley floor around the church and
   Vellmoor Grange, with the Osterby farmstead north of it and small hamlets
@@ -24,25 +25,14 @@ Run:  python dem_samples/make_sample_landcover.py   (writes dem_samples/vellmoor
 
 from __future__ import annotations
 
-import importlib.util
 from pathlib import Path
 
 import numpy as np
 import rasterio
-from rasterio.transform import from_origin
 
 HERE = Path(__file__).resolve().parent
-
-
-def _dem_script():
-    spec = importlib.util.spec_from_file_location("make_sample_dem", HERE / "make_sample_dem.py")
-    module = importlib.util.module_from_spec(spec)
-    spec.loader.exec_module(module)
-    return module
-
-
-DEM = _dem_script()
-WEST, NORTH, SIZE_DEG, RES_DEG = DEM.WEST, DEM.NORTH, DEM.SIZE_DEG, DEM.RES_DEG
+DEM = HERE / "vellmoor_synthetic_1s.tif"
+WEST, NORTH, SIZE_DEG = -20.000, -29.800, 0.25    # the DEM's upper-left corner and size [deg]
 
 TREES, SHRUBS, GRASS, CROPS, BUILT, BARE, WATER = 10, 20, 30, 40, 50, 60, 80
 NODATA = 0  # the WorldCover value for "no data"
@@ -67,10 +57,9 @@ def _ellipse(x, y, cx, cy, rx, ry):
     return ((x - cx) / rx) ** 2 + ((y - cy) / ry) ** 2 < 1.0
 
 
-def land_cover(lon: np.ndarray, lat: np.ndarray) -> np.ndarray:
-    """WorldCover class code (uint8) at lon/lat [deg]; painted in layers, later layers on top."""
-    x, y = (lon - WEST) / SIZE_DEG, (NORTH - lat) / SIZE_DEG
-    z = DEM.terrain_m(lon, lat)
+def land_cover(lon: np.ndarray, lat: np.ndarray, z: np.ndarray) -> np.ndarray:
+    """WorldCover class code (uint8) at lon/lat [deg] over terrain z [m]; painted in layers, later on top."""
+    x, y = _xy(lat, lon)
     # Fields: cropland parcels on the low ground (a patchwork: about two parcels in seven are
     # pasture), grassland elsewhere.
     pasture = np.random.default_rng(20261203).random((64, 64)) < 2.0 / 7.0   # one draw per parcel
@@ -97,14 +86,14 @@ def land_cover(lon: np.ndarray, lat: np.ndarray) -> np.ndarray:
 
 def main(out: Path | None = None) -> Path:
     out = out or HERE / "vellmoor_landcover.tif"
-    n = int(round(SIZE_DEG / RES_DEG))
-    cols = WEST + (np.arange(n) + 0.5) * RES_DEG
-    rows = NORTH - (np.arange(n) + 0.5) * RES_DEG
-    lon, lat = np.meshgrid(cols, rows)
-    code = land_cover(lon, lat)
-    profile = dict(driver="GTiff", width=n, height=n, count=1, dtype="uint8", crs="EPSG:4326",
-                   transform=from_origin(WEST, NORTH, RES_DEG, RES_DEG), nodata=NODATA,
-                   tiled=True, blockxsize=256, blockysize=256, compress="deflate", predictor=1)
+    with rasterio.open(DEM) as dem:
+        z = dem.read(1, masked=True).astype(float).filled(np.nan)   # the quarry void is painted over
+        grid = dict(width=dem.width, height=dem.height, crs=dem.crs, transform=dem.transform)
+    cols, rows = np.meshgrid(np.arange(grid["width"]) + 0.5, np.arange(grid["height"]) + 0.5)
+    lon, lat = grid["transform"] * (cols, rows)
+    code = land_cover(lon, lat, z)
+    profile = dict(driver="GTiff", count=1, dtype="uint8", nodata=NODATA, tiled=True, blockxsize=256,
+                   blockysize=256, compress="deflate", predictor=1, **grid)
     tmp = out.with_suffix(".tmp.tif")
     with rasterio.open(tmp, "w", **profile) as dst:
         dst.write(code, 1)

@@ -264,29 +264,21 @@ class ElevationModel:
         return values
 
     def sample_nearest(self, lon_deg, lat_deg):
-        """Value of the pixel holding each WGS84 point, never interpolated (class codes).
+        """Stored value of the pixel holding each point, never interpolated (class codes).
 
         Parameters
         ----------
         lon_deg, lat_deg : array_like
-            WGS84 longitude and latitude [deg]; broadcast together.
+            Points, WGS84 longitude and latitude [deg] (broadcast).
 
         Returns
         -------
         numpy.ndarray
-            The stored value of the pixel whose area holds the point (its
-            centre is the nearest in the raster's own CRS), band scale and
-            offset applied, as float [stored units]; NaN where that pixel is
-            void or no source covers the point.
-
-        Notes
-        -----
-        The same sources, mosaics, block cache and source order as
-        :meth:`sample` (a point void in one source is taken from the next
-        covering it).  A point on a pixel edge belongs to the pixel to its
-        right/below (the floor of its pixel coordinates, as GDAL's
-        ``rasterio.DatasetReader.index``); the far edges of a mosaic are
-        closed.
+            Value of the pixel whose area holds the point (the nearest centre
+            in the raster's CRS; on an edge the pixel right/below, as
+            ``rasterio``'s ``index``), band scale and offset applied, as float
+            [stored units]; NaN where void or not covered.  Sources, block
+            cache and fall-back order as :meth:`sample`.
         """
         values, _ = self._sample(lon_deg, lat_deg, want_used=False, nearest=True)
         return values

@@ -179,7 +179,7 @@ class LandCover:
         Parameters
         ----------
         lon_deg, lat_deg : array_like
-            WGS84 longitude and latitude [deg]; broadcast together.
+            WGS84 longitude and latitude of the points [deg], any shape (broadcast).
 
         Returns
         -------
