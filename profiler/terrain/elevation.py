@@ -306,20 +306,22 @@ class ElevationModel:
             covered[todo] = group.owner_pixels(fr, fc)[2] >= 0
         return covered.reshape(shape)
 
-    def sources_used(self, lon_deg, lat_deg):
+    def sources_used(self, lon_deg, lat_deg, nearest=False):
         """Sources that supplied at least one pixel to valid samples.
 
         Parameters
         ----------
         lon_deg, lat_deg : array_like
             WGS84 longitude and latitude [deg].
+        nearest : bool, optional
+            Samples of :meth:`sample_nearest` instead of :meth:`sample` (a flag).
 
         Returns
         -------
         list of SourceInfo
             In the order of :attr:`sources`.
         """
-        _, used = self._sample(lon_deg, lat_deg)
+        _, used = self._sample(lon_deg, lat_deg, nearest=nearest)
         return [self._tiles[i].info for i in sorted(used)]
 
     def pixel_size_m(self, lon_deg, lat_deg):

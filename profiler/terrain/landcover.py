@@ -208,6 +208,21 @@ class LandCover:
         """The rasters (list of :class:`profiler.terrain.source_info.SourceInfo`)."""
         return self.model.sources
 
+    def provenance(self, lon_deg, lat_deg) -> list:
+        """Report records ``{path, sha256, crs, resolution}`` of the rasters that gave a code at the points.
+
+        Parameters
+        ----------
+        lon_deg, lat_deg : array_like
+            WGS84 longitude and latitude of the points [deg].
+
+        Returns
+        -------
+        list of dict
+            As :meth:`profiler.terrain.elevation.ElevationModel.provenance`.
+        """
+        return self.model.provenance(self.model.sources_used(lon_deg, lat_deg, nearest=True))
+
     def close(self) -> None:
         """Close the rasters and drop the block cache."""
         self.model.close()

@@ -86,7 +86,10 @@ def test_tiles_in_a_folder_sample_as_the_whole_raster(write_dem):
     lon, lat = rng.uniform(-3.0, -2.0, 3000), rng.uniform(39.2, 40.0, 3000)
     with LandCover.open(whole.parent / "tiles") as lc:
         got = lc.codes(lon.reshape(60, 50), lat.reshape(60, 50))
+        west_only = lc.provenance([-2.9, -2.8], [39.5, 39.6])
     assert got.shape == (60, 50) and len(lc.sources) == 2
+    assert [r["path"] for r in west_only] == [str(whole.parent / "tiles" / "w.tif")]
+    assert len(west_only[0]["sha256"]) == 64
     np.testing.assert_array_equal(got.ravel(), _rasterio_codes(whole, lon, lat))
 
 
