@@ -254,3 +254,16 @@ def test_sample_raster_is_synthetic_small_and_on_the_dem_grid():
         assert set(np.unique(lc.read(1)).tolist()) <= set(WORLDCOVER_TABLE)
     assert SAMPLE.stat().st_size < 64 * 1024
 
+
+
+def test_sample_raster_is_what_its_script_writes(tmp_path):
+    import importlib.util
+
+    spec = importlib.util.spec_from_file_location("make_sample_landcover",
+                                                  ROOT / "dem_samples" / "make_sample_landcover.py")
+    script = importlib.util.module_from_spec(spec)
+    spec.loader.exec_module(script)
+    fresh = script.main(tmp_path / "again.tif")
+    with rasterio.open(fresh) as again, rasterio.open(SAMPLE) as kept:
+        np.testing.assert_array_equal(again.read(1), kept.read(1))
+        assert again.colormap(1) == kept.colormap(1) and again.tags() == kept.tags()
