@@ -108,7 +108,7 @@ WORLDCOVER_CLASSES = MappingProxyType({
     95: ("Mangroves", "trees"),
     100: ("Moss and lichen", "open"),
 })
-"""ESA WorldCover Map code -> (class name of the product user manual [1]_, clutter class).
+"""ESA WorldCover Map code -> (class name in the product user manual, clutter class).
 
 The clutter class of each code is this project's choice (no published
 mapping): vegetation below a few metres is ``open``, tree cover and mangroves
@@ -118,7 +118,7 @@ street; a village of detached houses may be better described as
 """
 
 WORLDCOVER_NO_DATA = 0
-"""The ESA WorldCover Map value for no data [1]_ (void, :data:`NO_CLASS`)."""
+"""The ESA WorldCover Map value for no data (void, :data:`NO_CLASS`)."""
 
 MAX_CLUTTER_HEIGHT_M = 100.0
 """Largest representative clutter height a class file may give [m]."""
