@@ -31,18 +31,20 @@ the buildings and trees around an antenna.
 
 References
 ----------
-.. [1] ESA WorldCover Product User Manual, version 2.0 (WorldCover 2021
-   v200; the class table of the Map layer is the same in the 2020 v100
-   manual): Map values 10 tree cover, 20 shrubland, 30 grassland,
-   40 cropland, 50 built-up, 60 bare / sparse vegetation, 70 snow and ice,
-   80 permanent water bodies, 90 herbaceous wetland, 95 mangroves, 100 moss
-   and lichen, 0 no data.  Data sets: Zanaga, D., Van De Kerchove, R., et
-   al., ESA WorldCover 10 m 2020 v100 (2021), doi:10.5281/zenodo.5571936,
+.. [1] ESA WorldCover Product User Manual (WorldCover consortium; v2.0 for
+   the 2021 v200 map, the Map class table unchanged from the 2020 v100
+   map), class table of the Map layer: 10 tree cover, 20 shrubland,
+   30 grassland, 40 cropland, 50 built-up, 60 bare / sparse vegetation,
+   70 snow and ice, 80 permanent water bodies, 90 herbaceous wetland,
+   95 mangroves, 100 moss and lichen, 0 no data (codes and names as quoted
+   from the manual by the product's distribution pages; the manual's PDF
+   itself was not read here).  Data sets: Zanaga, D., Van De Kerchove, R.,
+   et al., ESA WorldCover 10 m 2020 v100 (2021), doi:10.5281/zenodo.5571936,
    and ESA WorldCover 10 m 2021 v200 (2022).
 .. [2] Recommendation ITU-R P.1812-8 (09/2025), Annex 1 section 3.2.1
    (terrain and ground cover data: the representative clutter height R of
    each ground-cover category, added to the interior profile points).
-.. [3] Recommendation ITU-R P.2108-1 (09/2021), Annex 1 section 3.1,
+.. [3] Recommendation ITU-R P.2108-1, Annex 1 section 3.1,
    Table 3 (nominal representative clutter heights R for the height-gain
    terminal correction).
 .. [4] TOML v1.0.0, https://toml.io/en/v1.0.0 (read with the standard-library
