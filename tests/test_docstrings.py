@@ -32,6 +32,7 @@ PHYSICS_MODULES = [
     "profiler.terrain.sampling",
     "profiler.terrain.profile",
     "profiler.terrain.magnetic",
+    "profiler.terrain.landcover",
     "profiler.propagation.geometry",
     "profiler.propagation.free_space",
     "profiler.propagation.diffraction",
@@ -78,7 +79,7 @@ REFERENCED_FUNCTIONS = {
     "losses.node_location_sigma_db", "radio.radio_batch", "radio.radio_results",
     "model.delta_n_from_k", "model.k_from_delta_n",
     "location.location_sigma_db", "location.height_factor", "location.inverse_normal",
-    "location.location_term_db",
+    "location.location_term_db", "landcover.worldcover_mapping",
 }
 
 # Modules that transcribe ITU-R recommendations or the LoRaWAN regional
