@@ -186,8 +186,8 @@ def mast(site_a=None, site_b=None, *, dem=None, profile_csv=None, mast_a_m: floa
                         low_k_clearance_ratio=low_k_clearance_ratio, low_k_factor=low_k_factor,
                         min_margin_db=min_margin_db, radio=radio, max_mast_m=max_mast_m, mast_step_m=mast_step_m,
                         name_a=name_a, name_b=name_b,
-                        site_a=tuple(site_a) if profile_csv is None and site_a is not None else None,
-                        site_b=tuple(site_b) if profile_csv is None and site_b is not None else None)
+                        site_a=tuple(site_a) if site_a is not None else None,
+                        site_b=tuple(site_b) if site_b is not None else None)
     return dataclasses.replace(result, sheet=sheet_block(sheet_info, date or datetime.date.today()))
 
 

@@ -16,7 +16,7 @@ from pathlib import Path
 
 import pytest
 from click.testing import CliRunner
-from sample_sites import DEM, GATEWAY, PUMP
+from sample_sites import DEM, GATEWAY, MODEL_OPTIONS, PUMP
 
 import profiler
 from profiler.cli import main
@@ -164,6 +164,29 @@ def test_coverage_to_dict_is_the_command_json():
     margin = result.bands["margin_db"]
     assert margin.shape == (result.grid.height, result.grid.width) and margin.dtype == np.float32
     assert set(result.bands) == set(cli["bands"])
+
+
+def propagation_of(options) -> dict:
+    """``PropagationSettings`` keywords of command-line model options (``--time-percent 10`` -> 10.0)."""
+    pairs = dict(zip(options[::2], options[1::2]))
+    return {k[2:].replace("-", "_"): (v if k == "--model" else float(v)) for k, v in pairs.items()}
+
+
+@pytest.mark.parametrize("model", MODEL_OPTIONS)
+def test_propagation_settings_reach_link_and_network_as_the_options_do(model):
+    # RadioSettings(propagation=PropagationSettings(...)) is the API's spelling of the model options.
+    from profiler.engine.model import PropagationSettings
+    from profiler.engine.radio import RadioSettings
+
+    radio = RadioSettings(propagation=PropagationSettings(**propagation_of(MODEL_OPTIONS[model])))
+    result = profiler.link(GATEWAY, PUMP, dem=[DEM_PATH], radio=radio, date=DATE)
+    cli = cli_json("link", "--dem", DEM_PATH, "--site-a", "-29.9125,-19.955", "--site-b", "-29.9,-19.825",
+                   "--date", DATE, *MODEL_OPTIONS[model])
+    assert same_json(result) == cli and cli["model"] == MODEL_OPTIONS[model][1]
+    result = profiler.network(SITES, dem=[DEM_PATH], max_distance_km=20.0, progress=False, radio=radio)
+    cli = cli_json("network", "--dem", DEM_PATH, "--sites", SITES, "--max-distance-km", 20, "--no-progress",
+                   *MODEL_OPTIONS[model])
+    assert same_json(result) == cli and cli["settings"]["model"] == MODEL_OPTIONS[model][1]
 
 
 def test_renamed_keyword_warns_and_still_works():

@@ -32,6 +32,7 @@ PHYSICS_MODULES = [
     "profiler.terrain.sampling",
     "profiler.terrain.profile",
     "profiler.terrain.magnetic",
+    "profiler.terrain.landcover",
     "profiler.propagation.geometry",
     "profiler.propagation.free_space",
     "profiler.propagation.diffraction",
@@ -45,6 +46,8 @@ PHYSICS_MODULES = [
     "profiler.propagation.p1812.location",
     "profiler.propagation.p1812.reductions",
     "profiler.propagation.p1812.prefix",
+    "profiler.propagation.p2108",
+    "profiler.propagation.building_entry",
     "profiler.lora.bands",
     "profiler.lora.regional",
     "profiler.lora.modem",
@@ -63,7 +66,7 @@ PHYSICS_MODULES = [
 REFERENCED_MODULES = {
     "geometry", "free_space", "diffraction", "diffraction_batch", "spherical_earth",
     "polarization", "prefix_kernel", "regional", "modem", "lorawan",
-    "budget", "rf_exposure", "magnetic", "datum",
+    "budget", "rf_exposure", "magnetic", "datum", "p2108", "building_entry",
 }
 # ... and these functions of the other modules, which compute a physical
 # quantity among bookkeeping neighbours (module.qualified name).
@@ -78,7 +81,7 @@ REFERENCED_FUNCTIONS = {
     "losses.node_location_sigma_db", "losses.p1812_delta_n", "radio.radio_batch", "radio.radio_results",
     "model.delta_n_from_k", "model.k_from_delta_n",
     "location.location_sigma_db", "location.height_factor", "location.inverse_normal",
-    "location.location_term_db",
+    "location.location_term_db", "landcover.worldcover_mapping",
 }
 
 # Modules that transcribe ITU-R recommendations or the LoRaWAN regional
@@ -86,7 +89,7 @@ REFERENCED_FUNCTIONS = {
 # section, annex or table), not just name it.
 EQUATION_MODULES = {
     "geometry", "free_space", "diffraction", "diffraction_batch", "spherical_earth",
-    "prefix_kernel", "budget", "regional",
+    "prefix_kernel", "budget", "regional", "p2108", "building_entry",
 }
 WHERE_IN_SOURCE = re.compile(
     r"\beqs?\.|\bsection|§|\btable|\bannex|\bappendix|\bsubsection",

@@ -226,6 +226,8 @@ def analyze_link(profile: TerrainProfile, *, mast_a_m: float = 10.0, mast_b_m: f
                        paths=profile_paths(profile, site_a, site_b) if has_coordinates else None)
 
     warnings = _link_warnings(rr, slant, lam, profile, radio)
+    if profile.kind == "surveyed" and has_coordinates:
+        warnings += _profile_length_warning(total, site_a, site_b)
     if model_chosen is None and radio.propagation.model == "terrain":
         warnings.append("the terrain model was used: ITU-R P.1812-8 needs the coordinates of both ends; with "
                         "--profile give --site-a LAT,LON and --site-b LAT,LON for it")
@@ -255,6 +257,17 @@ def analyze_link(profile: TerrainProfile, *, mast_a_m: float = 10.0, mast_b_m: f
         warnings=warnings, model=radio.propagation.model, propagation=radio.propagation.to_dict(k),
         p1812=rr["p1812"],
     )
+
+
+def _profile_length_warning(length_m: float, site_a, site_b) -> list:
+    """A warning when a surveyed profile's length and the sites' geodesic distance differ by over 5 %."""
+    from ..terrain.geodesic import geodesic_inverse
+
+    apart_m = float(geodesic_inverse(site_a[0], site_a[1], site_b[0], site_b[1])[0])
+    if abs(length_m - apart_m) <= 0.05 * max(apart_m, length_m):
+        return []
+    return [f"the profile is {length_m / 1000:.3f} km long but the sites are {apart_m / 1000:.3f} km apart: the "
+            "losses use the profile's distances, the sites only give the direction and the path-centre latitude"]
 
 
 def _worst_block(g, profile) -> dict:

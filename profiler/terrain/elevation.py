@@ -46,6 +46,7 @@ from profiler.terrain.digests import FileDigests
 from profiler.terrain.mosaic import build_groups
 from profiler.terrain.source_info import SourceInfo
 from profiler.terrain.sources import (
+    DEM_ROLE,
     RASTER_SUFFIXES,
     describe_raster,
     expand_path,
@@ -86,6 +87,9 @@ class ElevationModel:
         Largest number of raster files kept open at once (a count).
     digests : profiler.terrain.digests.FileDigests, optional
         Provenance digests; default a new one.
+    role : profiler.terrain.sources.RasterRole, optional
+        What the rasters hold (elevation by default; class codes for a land
+        cover), for the messages.
 
     Attributes
     ----------
@@ -96,8 +100,9 @@ class ElevationModel:
     """
 
     def __init__(self, tiles, groups, cache_bytes=_DEFAULT_CACHE_BYTES,
-                 max_open=_DEFAULT_MAX_OPEN, digests=None):
+                 max_open=_DEFAULT_MAX_OPEN, digests=None, role=DEM_ROLE):
         self._tiles = tiles
+        self.role = role
         self.digests = digests if digests is not None else FileDigests()
         self._groups = groups
         self.sources = [t.info for t in tiles]
@@ -110,8 +115,8 @@ class ElevationModel:
 
     # ------------------------------------------------------------------ open
     @classmethod
-    def open(cls, paths, cache_bytes=_DEFAULT_CACHE_BYTES, digests=None):
-        """Open elevation rasters from files and/or folders.
+    def open(cls, paths, cache_bytes=_DEFAULT_CACHE_BYTES, digests=None, role=DEM_ROLE):
+        """Open elevation rasters (or, with ``role``, rasters of class codes) from files and/or folders.
 
         Parameters
         ----------
@@ -124,6 +129,11 @@ class ElevationModel:
         digests : profiler.terrain.digests.FileDigests, optional
             Provenance digests, possibly already started on the files (by a
             command, before its heavy imports); default a new one.
+        role : profiler.terrain.sources.RasterRole, optional
+            What the rasters hold: :data:`~profiler.terrain.sources.DEM_ROLE`
+            (default) or ``LAND_COVER_ROLE`` (class codes: band units ignored;
+            the messages name ``--land-cover``).  A raster of the other kind
+            found in a folder is left out (``RasterRole.skips``).
 
         Returns
         -------
@@ -139,20 +149,24 @@ class ElevationModel:
             paths = [paths]
         paths = list(paths)
         if not paths:
-            raise ProfilerError("no DEM given; pass --dem with a raster file or folder")
+            raise ProfilerError(f"no {role.label} given; pass {role.option} with a raster file or folder")
         files = []
         for entry in paths:
-            refuse_empty_path(entry, "--dem", "an elevation file or folder")
-            files.extend(expand_path(Path(entry)))
+            refuse_empty_path(entry, role.option, role.a("file or folder"))
+            in_folder = Path(entry).is_dir()
+            files.extend((gdal, file, in_folder) for gdal, file in expand_path(Path(entry), role))
 
-        model = cls([], [], cache_bytes=cache_bytes, digests=digests)
+        model = cls([], [], cache_bytes=cache_bytes, digests=digests, role=role)
         crs_cache = {}
         tiles = []
         try:
-            for gdal_path, file_path in files:
+            for gdal_path, file_path, in_folder in files:
                 ds = open_dataset(gdal_path, file_path)
+                if in_folder and role.skips(ds):
+                    ds.close()
+                    continue
                 try:
-                    tile = describe_raster(len(tiles), gdal_path, file_path, ds, crs_cache)
+                    tile = describe_raster(len(tiles), gdal_path, file_path, ds, crs_cache, role)
                 except BaseException:
                     ds.close()
                     raise
@@ -161,6 +175,9 @@ class ElevationModel:
         except BaseException:
             model.close()
             raise
+        if not tiles:
+            raise ProfilerError(f"no {role.noun} rasters found in {', '.join(map(str, paths))}; "
+                                f"check {role.option}")
         model._tiles = tiles
         model.sources = [t.info for t in tiles]
         model._groups = build_groups(tiles)
@@ -246,6 +263,26 @@ class ElevationModel:
         values, _ = self._sample(lon_deg, lat_deg, want_used=False)
         return values
 
+    def sample_nearest(self, lon_deg, lat_deg):
+        """Stored value of the pixel holding each point, never interpolated (class codes).
+
+        Parameters
+        ----------
+        lon_deg, lat_deg : array_like
+            Points, WGS84 longitude and latitude [deg] (broadcast).
+
+        Returns
+        -------
+        numpy.ndarray
+            Value of the pixel whose area holds the point (the nearest centre
+            in the raster's CRS; on an edge the pixel right/below, as
+            ``rasterio``'s ``index``), band scale and offset applied, as float
+            [stored units]; NaN where void or not covered.  Sources, block
+            cache and fall-back order as :meth:`sample`.
+        """
+        values, _ = self._sample(lon_deg, lat_deg, want_used=False, nearest=True)
+        return values
+
     def covers(self, lon_deg, lat_deg):
         """Whether any source's extent contains each point.
 
@@ -269,20 +306,22 @@ class ElevationModel:
             covered[todo] = group.owner_pixels(fr, fc)[2] >= 0
         return covered.reshape(shape)
 
-    def sources_used(self, lon_deg, lat_deg):
+    def sources_used(self, lon_deg, lat_deg, nearest=False):
         """Sources that supplied at least one pixel to valid samples.
 
         Parameters
         ----------
         lon_deg, lat_deg : array_like
             WGS84 longitude and latitude [deg].
+        nearest : bool, optional
+            Samples of :meth:`sample_nearest` instead of :meth:`sample` (a flag).
 
         Returns
         -------
         list of SourceInfo
             In the order of :attr:`sources`.
         """
-        _, used = self._sample(lon_deg, lat_deg)
+        _, used = self._sample(lon_deg, lat_deg, nearest=nearest)
         return [self._tiles[i].info for i in sorted(used)]
 
     def pixel_size_m(self, lon_deg, lat_deg):
@@ -395,19 +434,19 @@ class ElevationModel:
         return False
 
     # ------------------------------------------------------------ internals
-    def _sample(self, lon_deg, lat_deg, want_used=True):
+    def _sample(self, lon_deg, lat_deg, want_used=True, nearest=False):
         lon, lat, shape = _flat_points(lon_deg, lat_deg)
         out = np.full(lon.shape, np.nan)
         used = set()
+        sample_group = self._nearest_group if nearest else self._sample_group
         for number, group in enumerate(self._groups):
             if number == 0:
-                out, tiles_used = self._sample_group(group, lon, lat, want_used)
+                out, tiles_used = sample_group(group, lon, lat, want_used)
             else:
                 todo = np.flatnonzero(np.isnan(out))
                 if todo.size == 0:
                     break
-                out[todo], tiles_used = self._sample_group(group, lon[todo], lat[todo],
-                                                           want_used)
+                out[todo], tiles_used = sample_group(group, lon[todo], lat[todo], want_used)
             used.update(tiles_used)
         return out.reshape(shape), used
 
@@ -481,6 +520,17 @@ class ElevationModel:
             counts += np.bincount(owner_used[-1][ok], minlength=len(group.tiles))
         used = {group.tiles[k].index for k in np.flatnonzero(counts)}
         return result, used
+
+    def _nearest_group(self, group, lon, lat, want_used=False):
+        """The pixel holding each point in one mosaic (NaN where void or not covered)."""
+        result = np.full(lon.shape, np.nan)
+        rows, cols, owner = group.owner_pixels(*group.pixel_coords(lon, lat))
+        idx = np.flatnonzero(owner >= 0)
+        if idx.size:
+            key, local, _ = group.block_index(owner[idx], rows[idx], cols[idx])
+            result[idx] = self._gather(group, key, local[:, np.newaxis])[:, 0] * group.vertical_scale
+        used = {group.tiles[k].index for k in np.unique(owner[idx][np.isfinite(result[idx])])}
+        return result, (used if want_used else set())
 
     def _gather_clamped(self, group, i0, j0, i1, j1, own_r, own_c):
         """Four neighbours per sample, clamped at the mosaic edge; (4, n) values."""
@@ -574,7 +624,7 @@ class ElevationModel:
         except Exception as exc:  # GDAL raises various CPLE_* / RasterioIOError
             reason = root_cause(exc)
             raise ProfilerError(
-                f"cannot read elevation data from {tile.info.path} ({reason}); "
+                f"cannot read {self.role.noun} data from {tile.info.path} ({reason}); "
                 "the file may be truncated or corrupt") from exc
         block = raw  # kept in the raster's dtype; converted per sample in _gather
         if block.shape != (tile.chunk_h, tile.chunk_w):  # edge block: pad to full size

@@ -11,6 +11,7 @@ from __future__ import annotations
 
 import math
 import warnings
+from dataclasses import dataclass
 
 import numpy as np
 import pyproj
@@ -21,13 +22,86 @@ from profiler.terrain.mosaic import Tile
 from profiler.terrain.source_info import SourceInfo
 
 __all__ = ["RASTER_SUFFIXES", "metres_per_degree", "unit_scale_m", "root_cause", "expand_path",
-           "zip_members", "open_dataset", "linear_unit_m", "crs_entry", "describe_raster"]
+           "zip_members", "open_dataset", "linear_unit_m", "crs_entry", "describe_raster",
+           "RasterRole", "DEM_ROLE", "LAND_COVER_ROLE"]
 
 #: File name endings searched for when a folder is given.
 RASTER_SUFFIXES = (
     ".tif", ".tiff", ".hgt", ".vrt", ".img", ".asc", ".dem", ".bil", ".flt",
     ".zip",
 )
+
+
+
+@dataclass(frozen=True)
+class RasterRole:
+    """What a set of rasters holds: the option that names them, the words of the messages, the values.
+
+    Parameters
+    ----------
+    option : str
+        Command-line option naming the rasters (``--dem``).
+    label : str
+        Short name in messages (``DEM``).
+    noun : str
+        Adjective of the data in messages (``elevation``).
+    heights : bool
+        True: the values are heights (band or vertical-CRS units in metres or
+        feet); False: class codes (units ignored, values as stored).
+    """
+
+    option: str
+    label: str
+    noun: str
+    heights: bool
+
+    def a(self, thing: str) -> str:
+        """``an elevation <thing>`` / ``a land-cover <thing>``, for messages.
+
+        Parameters
+        ----------
+        thing : str
+            What the message asks for (``raster``, ``file or folder``).
+
+        Returns
+        -------
+        str
+            The phrase with its article.
+        """
+        return f"{'an' if self.noun[0] in 'aeiou' else 'a'} {self.noun} {thing}"
+
+    def skips(self, ds) -> bool:
+        """Whether a raster found in a folder is of the other kind and is left out.
+
+        Heights skip colour-indexed rasters (a palette marks a class map);
+        class codes skip rasters whose band unit is a length (heights).
+
+        Parameters
+        ----------
+        ds : rasterio.DatasetReader
+            The open dataset (metadata only).
+
+        Returns
+        -------
+        bool
+            True to leave the raster out of the folder's rasters.
+        """
+        from rasterio.enums import ColorInterp
+
+        if self.heights:
+            return ds.count >= 1 and ds.colorinterp[0] == ColorInterp.palette
+        unit = (ds.units or ("",))[0]
+        try:
+            return bool(unit) and unit_scale_m(unit, "") > 0.0
+        except ProfilerError:
+            return False
+
+
+DEM_ROLE = RasterRole("--dem", "DEM", "elevation", heights=True)
+"""Elevation rasters (``--dem``)."""
+
+LAND_COVER_ROLE = RasterRole("--land-cover", "land cover", "land-cover", heights=False)
+"""Land-cover rasters of class codes (``--land-cover``)."""
 
 #: WGS84 semi-major axis [m] and flattening [-] (NIMA TR8350.2, table 3.1).
 _WGS84_A_M = 6378137.0
@@ -127,7 +201,7 @@ def root_cause(exc):
     return reason
 
 
-def expand_path(path):
+def expand_path(path, role=DEM_ROLE):
     """List of (gdal_path, file_path) for a file, zip archive or folder.
 
     Parameters
@@ -135,6 +209,8 @@ def expand_path(path):
     path : pathlib.Path
         A raster file, a zip archive of rasters, or a folder searched
         recursively.
+    role : RasterRole, optional
+        What the rasters hold (for the messages); default elevation.
 
     Returns
     -------
@@ -147,7 +223,7 @@ def expand_path(path):
         If the path is missing or holds no raster.
     """
     if not path.exists():
-        raise ProfilerError(f"DEM not found: {path}; check --dem")
+        raise ProfilerError(f"{role.label} not found: {path}; check {role.option}")
     if path.is_dir():
         found = sorted(p for p in path.rglob("*")
                        if p.is_file() and p.name.lower().endswith(RASTER_SUFFIXES)
@@ -155,20 +231,20 @@ def expand_path(path):
         result = []
         for candidate in found:
             if candidate.suffix.lower() == ".zip":
-                result.extend(zip_members(candidate, required=False))
+                result.extend(zip_members(candidate, required=False, role=role))
             else:
                 result.append((str(candidate), str(candidate)))
         if not result:
             raise ProfilerError(
-                f"no elevation rasters ({', '.join(RASTER_SUFFIXES)}) found in folder "
-                f"{path}; check --dem")
+                f"no {role.noun} rasters ({', '.join(RASTER_SUFFIXES)}) found in folder "
+                f"{path}; check {role.option}")
         return result
     if path.suffix.lower() == ".zip":
-        return zip_members(path, required=True)
+        return zip_members(path, required=True, role=role)
     return [(str(path), str(path))]
 
 
-def zip_members(path, required):
+def zip_members(path, required, role=DEM_ROLE):
     """The rasters inside a zip archive as GDAL ``/vsizip/`` paths.
 
     Parameters
@@ -178,6 +254,8 @@ def zip_members(path, required):
     required : bool
         Refuse an unreadable archive or one without rasters (given
         directly) instead of skipping it (found in a folder).
+    role : RasterRole, optional
+        What the rasters hold (for the messages); default elevation.
 
     Returns
     -------
@@ -202,7 +280,7 @@ def zip_members(path, required):
                                 "check the file or unpack it") from exc
         return []
     if not names and required:
-        raise ProfilerError(f"no elevation raster inside zip archive {path}; check --dem")
+        raise ProfilerError(f"no {role.noun} raster inside zip archive {path}; check {role.option}")
     absolute = path.resolve().as_posix()
     return [(f"/vsizip/{absolute}/{name}", str(path)) for name in names]
 
@@ -296,7 +374,7 @@ def crs_entry(ds, crs_cache, path):
     return entry
 
 
-def describe_raster(index, gdal_path, file_path, ds, crs_cache):
+def describe_raster(index, gdal_path, file_path, ds, crs_cache, role=DEM_ROLE):
     """Build a Tile from dataset metadata (no pixel reads).
 
     Parameters
@@ -311,6 +389,9 @@ def describe_raster(index, gdal_path, file_path, ds, crs_cache):
         The open dataset.
     crs_cache : dict
         CRS entries by WKT (see :func:`crs_entry`).
+    role : RasterRole, optional
+        What the raster holds; class codes keep their stored values (vertical
+        scale 1, band unit ignored).  Default elevation.
 
     Returns
     -------
@@ -330,11 +411,11 @@ def describe_raster(index, gdal_path, file_path, ds, crs_cache):
     a geographic grid in metres).
     """
     if ds.count < 1:
-        raise ProfilerError(f"raster has no bands: {file_path}; give an elevation raster")
+        raise ProfilerError(f"raster has no bands: {file_path}; give {role.a('raster')}")
     transform = ds.transform
     if transform.is_identity:
         raise ProfilerError(f"raster has no georeferencing: {file_path}; "
-                            "give a georeferenced DEM (GeoTIFF, .hgt, ...)")
+                            f"give a georeferenced {role.label} (GeoTIFF, .hgt, ...)")
     entry = crs_entry(ds, crs_cache, file_path)
     if entry is None:
         left, bottom, right, top = ds.bounds
@@ -346,7 +427,9 @@ def describe_raster(index, gdal_path, file_path, ds, crs_cache):
         entry = crs_cache.setdefault(wkt, (wkt, pyproj.CRS.from_wkt(wkt), "EPSG:4326", None))
     key, pcrs, name, vertical_m = entry
     band_unit = (ds.units or ("",))[0]
-    if band_unit:
+    if not role.heights:
+        vertical_scale = 1.0
+    elif band_unit:
         vertical_scale = unit_scale_m(band_unit, file_path)
     elif vertical_m is not None:
         vertical_scale = vertical_m

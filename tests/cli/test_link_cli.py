@@ -1,6 +1,7 @@
 """End-to-end checks of `profiler link`: the JSON contract, bad input, and
 properties of the analysis over the bundled synthetic terrain."""
 
+import csv
 import json
 import math
 from pathlib import Path
@@ -11,6 +12,7 @@ from click.testing import CliRunner
 from hypothesis import given, settings
 from hypothesis import strategies as st
 from rasterio.transform import from_origin
+from reference_data import missing_reason, reference_folder
 
 from profiler.cli import main
 from profiler.products.link import analyze_link
@@ -31,6 +33,8 @@ TOP_KEYS = {"schema", "tool_version", "site_a", "site_b", "frequency_mhz", "band
             "declination_a_deg", "declination_b_deg", "azimuth_a_to_b_magnetic_deg",
             "azimuth_b_to_a_magnetic_deg", "magnetic_model", "compass_caution_a", "compass_caution_b"}
 SITE_KEYS = {"name", "lat_deg", "lon_deg", "ground_m", "mast_m", "antenna_amsl_m"}
+LOSS_KEYS = {"model", "free_space", "diffraction", "combination", "location", "basic_transmission", "extra",
+             "polarization", "total", "diffraction_method", "smooth_surface_height_a_m", "smooth_surface_height_b_m"}
 PROFILE_KEYS = {"distance_m", "lat_deg", "lon_deg", "terrain_m", "bulge_m", "los_m", "fresnel_radius_m", "clearance_m"}
 
 
@@ -64,9 +68,13 @@ def test_json_contract_on_sample_terrain():
     assert {"sources", "voids_filled"} <= set(r["dem"])
     src = r["dem"]["sources"][0]
     assert {"path", "sha256", "crs", "resolution"} <= set(src) and len(src["sha256"]) == 64
-    assert {"free_space", "diffraction", "extra", "polarization", "total", "diffraction_method", "knife_edge",
-            "bullington", "delta_bullington", "spherical_earth", "smooth_surface_height_a_m",
-            "smooth_surface_height_b_m"} <= set(r["loss_db"])
+    # The default model is ITU-R P.1812-8 (issue 19): link/4 names it and carries its settings and values.
+    assert r["model"] == "p1812" and r["loss_db"]["model"] == "p1812" and r["propagation"]["model"] == "p1812"
+    assert {"time_percent", "location_percent", "location_sigma_db", "area_width_m", "delta_n", "n0",
+            "coast_distance_a_km", "coast_distance_b_km"} <= set(r["propagation"])
+    assert LOSS_KEYS | {"delta_bullington"} <= set(r["loss_db"])
+    assert {"location_percent", "location_sigma_db", "location_term_db", "lb_db", "lbfs_db",
+            "e_dbuv_m"} <= set(r["p1812"])
     assert {"tx_power_dbm", "eirp_dbm", "rx_power_dbm", "sensitivity_dbm", "margin_db",
             "fade_margin_required_db", "closes", "sf"} <= set(r["budget"])
     assert {"bw_khz", "payload_bytes", "per_sf", "lowest_closing_sf"} <= set(r["lora"])
@@ -99,27 +107,81 @@ def test_worst_point_v_and_loss_are_consistent_with_p526():
     assert r["line_of_sight"] == (min(p["clearance_m"][1:-1]) > 0)
 
 
-def test_total_loss_is_the_sum_of_its_parts():
+def test_terrain_model_contract_on_sample_terrain():
+    r = run_json("--dem", SAMPLE, "--site-a", GW, "--site-b", PUMP, "--model", "terrain")
+    assert r["model"] == "terrain" and r["loss_db"]["model"] == "terrain" and r["p1812"] is None
+    assert LOSS_KEYS | {"knife_edge", "bullington", "delta_bullington", "spherical_earth"} <= set(r["loss_db"])
+
+
+def test_p1812_block_has_every_validation_column():
+    """The ``p1812`` block is named like the columns of the SG3 validation set (issue 19, JSON)."""
+    folder = reference_folder("p1812-validation")
+    if folder is None:
+        pytest.skip(missing_reason("p1812-validation"))
+    with open(folder / "expected.csv", newline="") as fh:
+        columns = next(csv.reader(fh))
+    wanted = (set(columns) - {"profile", "dataset"}) | {"location_percent", "location_sigma_db", "location_term_db"}
+    r = run_json("--dem", SAMPLE, "--site-a", GW, "--site-b", PUMP)
+    assert wanted <= set(r["p1812"]), sorted(wanted - set(r["p1812"]))
+
+
+@pytest.mark.parametrize("extra", [["--model", "terrain"], ["--model", "p1812"],
+                                   ["--model", "p1812", "--time-percent", "10", "--location-percent", "95"]])
+def test_total_loss_is_the_sum_of_its_parts(extra):
     r = run_json("--dem", SAMPLE, "--site-a", GW, "--site-b", PUMP, "--extra-loss-db", "7.5",
-                 "--polarization-b", "45")
+                 "--polarization-b", "45", *extra)
     loss = r["loss_db"]
+    assert loss["model"] == extra[1]
     assert loss["extra"] == 7.5
     # 45 degrees between polarizations: 20 log10(sqrt 2) = 3.01 dB (handbook).
     assert loss["polarization"] == pytest.approx(3.0103, abs=1e-3)
-    assert loss["total"] == pytest.approx(loss["free_space"] + loss["diffraction"] + 7.5 + loss["polarization"])
-    assert loss["diffraction"] == loss["delta_bullington"]
-    # ITU-R P.525-4: free-space loss 32.45 + 20 log f(MHz) + 20 log d(km) (constant 20 log10(4 pi 1e9 / c)),
-    # d the straight line between the antenna tips (hypot of ground distance and height difference).
-    dz = r["site_a"]["antenna_amsl_m"] - r["site_b"]["antenna_amsl_m"]
-    f, dk = r["frequency_mhz"], math.hypot(r["distance_m"], dz) / 1000
-    assert loss["free_space"] == pytest.approx(32.4478 + 20 * math.log10(f) + 20 * math.log10(dk), abs=1e-3)
+    parts = loss["free_space"] + loss["diffraction"] + loss["combination"] + loss["location"]
+    assert loss["basic_transmission"] == pytest.approx(parts, abs=1e-9)
+    assert loss["total"] == pytest.approx(parts + 7.5 + loss["polarization"], abs=1e-9)
+    if extra[1] == "terrain":
+        assert loss["combination"] == 0 and loss["location"] == 0
+        assert loss["diffraction"] == loss["delta_bullington"]
+        # ITU-R P.525-4: free-space loss 32.45 + 20 log f(MHz) + 20 log d(km) (constant 20 log10(4 pi 1e9 / c)),
+        # d the straight line between the antenna tips (hypot of ground distance and height difference).
+        dz = r["site_a"]["antenna_amsl_m"] - r["site_b"]["antenna_amsl_m"]
+        f, dk = r["frequency_mhz"], math.hypot(r["distance_m"], dz) / 1000
+        assert loss["free_space"] == pytest.approx(32.4478 + 20 * math.log10(f) + 20 * math.log10(dk), abs=1e-3)
+        return
+    p = r["p1812"]
+    # ITU-R P.1812-8 section 4.9: loss_db.total is Lb at the asked percentages (eq. 69) plus the extra and
+    # polarization losses; free space is Lbfs (eq. 8), diffraction Ldp (eq. 41).
+    assert loss["basic_transmission"] == p["lb_db"] and loss["free_space"] == p["lbfs_db"]
+    assert loss["diffraction"] == p["ldp_db"] and loss["location"] == p["location_term_db"]
+    # Eq. (41): Ldp = Ld50 + Fi (Ldbeta - Ld50), Fi = 0 at 50 % of time (eq. 40); delta_bullington is Ld50.
+    assert loss["delta_bullington"] == p["ld50_db"]
+    assert (p["fi"] == 0.0 and p["ldp_db"] == p["ld50_db"]) == (p["time_percent"] == 50)
+    assert p["time_percent"] == float(r["propagation"]["time_percent"])
+    # Location term of eq. (69): sigma_L Q^-1(1 - pL/100), with Q^-1 from scipy.special.ndtri (within the
+    # Recommendation's 0.00054 for I(x), Attachment 2); sigma_L = (0.024 f[GHz] + 0.52) wa^0.28 (section 4.7)
+    # times u(h) = 1 - (h - R) / 10 for the node's 2 m antenna over no clutter (R = 0): 0.8.
+    from scipy.special import ndtri
+    sigma = (0.024 * r["frequency_mhz"] / 1000 + 0.52) * 100 ** 0.28 * 0.8
+    assert p["location_sigma_db"] == pytest.approx(sigma, rel=1e-12)
+    pl = r["propagation"]["location_percent"]
+    assert loss["location"] == pytest.approx(sigma * ndtri(pl / 100), abs=0.00054 * sigma)
+    assert (loss["location"] == 0.0) == (pl == 50)
 
 
-@pytest.mark.parametrize("method,key", [("knife-edge", "knife_edge"), ("bullington", "bullington"), ("none", None)])
+@pytest.mark.parametrize("method,key", [("knife-edge", "knife_edge"), ("bullington", "bullington"),
+                                        ("delta-bullington", "delta_bullington"), ("none", None)])
 def test_diffraction_method_selects_the_part(method, key):
-    r = run_json("--dem", SAMPLE, "--site-a", GW, "--site-b", PUMP, "--diffraction", method)
+    r = run_json("--dem", SAMPLE, "--site-a", GW, "--site-b", PUMP, "--model", "terrain", "--diffraction", method)
     assert r["loss_db"]["diffraction_method"] == method
     assert r["loss_db"]["diffraction"] == (0.0 if key is None else r["loss_db"][key])
+
+
+@pytest.mark.parametrize("method", ["knife-edge", "bullington", "none"])
+def test_p1812_refuses_another_diffraction_method(method):
+    # P.1812-8 section 4.3 has its own delta-Bullington diffraction: another method is the terrain model's.
+    msg = one_line_error(run("link", "--dem", SAMPLE, "--site-a", GW, "--site-b", PUMP, "--diffraction", method))
+    assert f"--diffraction {method}" in msg and "--model terrain" in msg
+    res = run("link", "--dem", SAMPLE, "--site-a", GW, "--site-b", PUMP, "--model", "p1812", "--diffraction", method)
+    assert res.exit_code == 2 and one_line_error(res) == msg
 
 
 def test_negative_coordinates_both_spellings():
@@ -170,7 +232,8 @@ def test_slant_distance_and_free_space_use_the_antenna_tips():
     # antenna tips.  Reference: the Euclidean distance between the two tips in Earth-centred coordinates
     # from pyproj (WGS84 geocentric, EPSG:4978), heights taken as ellipsoidal.
     from pyproj import Transformer
-    r = run_json("--dem", SAMPLE, "--site-a", "-29.9,-19.9", "--site-b", "-29.9,-19.89998", "--step-m", "0.5")
+    r = run_json("--dem", SAMPLE, "--site-a", "-29.9,-19.9", "--site-b", "-29.9,-19.89998", "--step-m", "0.5",
+                 "--model", "terrain")
     a, b = r["site_a"]["antenna_amsl_m"], r["site_b"]["antenna_amsl_m"]
     to_ecef = Transformer.from_crs("EPSG:4979", "EPSG:4978", always_xy=True)
     pa = to_ecef.transform(-19.9, -29.9, a)
@@ -183,6 +246,25 @@ def test_slant_distance_and_free_space_use_the_antenna_tips():
     from scipy import constants
     lam = constants.c / (r["frequency_mhz"] * 1e6)
     assert r["loss_db"]["free_space"] == pytest.approx(20 * math.log10(4 * math.pi * chord / lam), abs=1e-6)
+
+
+@pytest.mark.parametrize("site_b,step", [("-29.9,-19.89998", "0.5"), (PUMP, None)])
+def test_p1812_free_space_uses_eq_8a(site_b, step):
+    # ITU-R P.1812-8 eq. (8): Lbfs = 92.4 + 20 log f[GHz] + 20 log dfs[km], with eq. (8a)
+    # dfs = sqrt(d^2 + ((hts - hrs) / 1000)^2), hts and hrs the antenna heights [m AMSL]: a flat-Earth slant
+    # distance, and a constant 0.05 dB below P.525-4's 32.4478 + 20 log 1000.  On the 2 m path the masts
+    # (10 m and 2 m) make dfs four times d.
+    r = run_json("--dem", SAMPLE, "--site-a", "-29.9,-19.9" if step else GW, "--site-b", site_b,
+                 *(["--step-m", step] if step else []))
+    assert r["model"] == "p1812"
+    d_km = r["distance_m"] / 1000
+    dfs = math.hypot(d_km, (r["site_a"]["antenna_amsl_m"] - r["site_b"]["antenna_amsl_m"]) / 1000)
+    f_ghz = r["frequency_mhz"] / 1000
+    expected = 92.4 + 20 * math.log10(f_ghz) + 20 * math.log10(dfs)
+    assert r["loss_db"]["free_space"] == pytest.approx(expected, abs=1e-9)
+    assert r["p1812"]["lbfs_db"] == r["loss_db"]["free_space"]
+    if step:
+        assert dfs > 4 * d_km
 
 
 def test_sites_centimetres_apart_are_refused_as_too_close():

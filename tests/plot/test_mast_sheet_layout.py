@@ -40,6 +40,7 @@ CASES = {
     "infeasible-margin": ["--site-b", f"{PUMP[0]},{PUMP[1]}", "--solve", "both", "--no-clearance",
                           "--min-margin-db", "40", "--max-mast-m", "30"],
     "both": ["--site-b", f"{PUMP[0]},{PUMP[1]}", "--solve", "both"],
+    "both-terrain": ["--site-b", f"{PUMP[0]},{PUMP[1]}", "--solve", "both", "--model", "terrain"],
 }
 LONG = ("Cairnfell Beacon upper hill-top gateway cabinet on the north ridge above the old quarry road, east of the "
         "Vellmoor reservoir dam, second mast of the valley telemetry network, beside the shepherds' hut")
@@ -229,11 +230,24 @@ def test_both_sheet_shows_the_cheapest_split(reports, figures):
 NEGATIVE_ZERO = re.compile(r"[-\u2212]0(\.0+)?(?![\d.]*[1-9])")
 
 
-@pytest.mark.parametrize("case", ["feasible", "both"])
+@pytest.mark.parametrize("case", ["feasible", "both-terrain"])
 def test_no_negative_zero_on_the_sheet(reports, figures, case):
     pm = reports[case]["per_extra_metre"]
     assert -0.005 < pm["margin_db_per_m"] < 0.0      # a tiny negative slope: "-0.00" before the fix
     text = sheet_text(figures(case))
+    assert "Each extra metre | margin 0.00 dB/m" in text
+    assert not NEGATIVE_ZERO.search(text), NEGATIVE_ZERO.search(text)
+
+
+def test_equal_raise_keeps_the_p1812_margin(reports, figures):
+    # Under the default ITU-R P.1812-8 the free-space distance is eq. (8a), dfs = sqrt(d^2 + ((hts - hrs)/1000)^2):
+    # raising both masts by the same metre keeps hts - hrs, and the path is in line of sight (no diffraction),
+    # so the margin does not move; the terrain model's spherical slant distance gives the tiny slope above.
+    r = reports["both"]
+    assert r["model"] == "p1812" and reports["both-terrain"]["model"] == "terrain"
+    pm = r["per_extra_metre"]
+    assert pm["diffraction_db_per_m"] == 0.0 and abs(pm["margin_db_per_m"]) < 1e-9
+    text = sheet_text(figures("both"))
     assert "Each extra metre | margin 0.00 dB/m" in text
     assert not NEGATIVE_ZERO.search(text), NEGATIVE_ZERO.search(text)
 
@@ -244,10 +258,11 @@ def test_fixed_never_gives_a_negative_zero():
     assert up_text(-1e-9) == "0.00" and up_text(1.001) == "1.01"
 
 
-def test_summary_has_no_negative_zero(reports):
+@pytest.mark.parametrize("case", ["both", "both-terrain"])      # both-terrain: a tiny negative slope
+def test_summary_has_no_negative_zero(reports, case):
     from profiler.cli.mast import mast_summary_text
 
-    text = mast_summary_text(reports["both"])
+    text = mast_summary_text(reports[case])
     assert "each metre    0.00 dB margin" in text and not NEGATIVE_ZERO.search(text)
 
 

@@ -10,6 +10,7 @@ import pytest
 from click.testing import CliRunner
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
+from sample_sites import MODEL_OPTIONS
 from scipy import constants
 from scipy.optimize import linprog
 
@@ -264,6 +265,24 @@ def test_sample_dem_solve_a_end_to_end(tmp_path):
     assert link(got - 0.1)["worst"]["fresnel_ratio"] < 0.6
     # Low-k criterion (0 F1 at k = 2/3) holds too.
     assert link(got, "--k", "2/3")["worst"]["fresnel_ratio"] >= 0.0
+
+
+@pytest.mark.parametrize("model", MODEL_OPTIONS)
+def test_mast_margin_equals_profiler_link(model):
+    # One engine (issue 19 item 5): the mast scan's row at the current heights and the row at the solved
+    # height give what `profiler link` gives for the same path and options, with either model.
+    opts = ["--dem", SAMPLE_DEM, "--site-a", GATEWAY, "--site-b", PUMP, "--gain-b-dbi", 0, *MODEL_OPTIONS[model]]
+    report = run_json("mast", *opts, "--solve", "a", "--min-margin-db", 5)
+    assert report["model"] == report["propagation"]["model"] == MODEL_OPTIONS[model][1]
+    rows = {"current": report["table"][0], "required": report["at_required"]}
+    assert rows["current"]["mast_a_m"] == 10.0 and rows["required"]["mast_a_m"] == report["required_mast_a_m"]
+    for row in rows.values():
+        one = run_json("link", *opts, "--mast-a", row["mast_a_m"], "--mast-b", row["mast_b_m"])
+        assert one["model"] == report["model"]
+        assert row["margin_db"] == pytest.approx(one["budget"]["margin_db"], abs=0.01)
+        assert row["diffraction_db"] == pytest.approx(one["loss_db"]["diffraction"], abs=0.01)
+        assert row["worst_ratio"] == pytest.approx(one["worst"]["fresnel_ratio"], abs=1e-6)
+        assert (row["sf"], row["dr"]) == (one["budget"]["sf"], one["budget"]["dr"])
 
 
 def test_sample_dem_solve_b_is_infeasible_and_still_writes_report(tmp_path):

@@ -8,6 +8,7 @@ import numpy as np
 import pytest
 from click.testing import CliRunner
 from geographiclib.geodesic import Geodesic
+from sample_sites import MODEL_OPTIONS
 
 from profiler.cli import main
 
@@ -46,12 +47,16 @@ def random_sites(tmp_path, n_nodes=25, seed=3, extra=""):
     return path
 
 
-def test_every_network_number_equals_profiler_link(tmp_path):
+@pytest.mark.parametrize("model", MODEL_OPTIONS)
+def test_every_network_number_equals_profiler_link(tmp_path, model):
     # One engine: each link of the table equals `profiler link --site-a GATEWAY --site-b NODE --gateway a`
-    # with the same masts and options, to 0.01 dB and 1 cm (the contract).
+    # with the same masts and options, to 0.01 dB and 1 cm (the contract), with either model.
     sites = random_sites(tmp_path)
-    opts = ["--band", "EU868", "--gain-a-dbi", "4", "--cable-loss-a-db", "1", "--fill-voids"]
+    opts = ["--band", "EU868", "--gain-a-dbi", "4", "--cable-loss-a-db", "1", "--fill-voids", *MODEL_OPTIONS[model]]
     report = net_json("--dem", SAMPLE, "--sites", sites, *opts)
+    settings = report["settings"]
+    assert settings["model"] == MODEL_OPTIONS[model][1]
+    assert (settings["time_percent"], settings["location_percent"]) == ((10, 95) if "95" in model else (50, 50))
     by_name = {s["name"]: s for s in report["sites"]}
     checked = 0
     for row in report["links"][::3]:
@@ -72,6 +77,7 @@ def test_every_network_number_equals_profiler_link(tmp_path):
         assert row["recommended_dr"] == one["lora"]["uplink"]["recommended_dr"]
         assert row["closes"] == one["budget"]["closes"]
         assert row["line_of_sight"] == one["line_of_sight"] and row["fresnel_clear"] == one["fresnel_clear"]
+        assert one["model"] == settings["model"]
         checked += 1
     assert checked >= 12
 
