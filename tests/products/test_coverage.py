@@ -94,20 +94,25 @@ def _link(point, step_m, model):
 
     r = profiler.link(GATEWAY, point, dem=DEM, mast_a_m=10.0, mast_b_m=NODE_M, step_m=step_m,
                       radio=_radio(model)).to_dict()
-    assert r["model"] == model
+    assert r["model"] == MODELS[model]["model"]
     dr = r["lora"]["uplink"]["recommended_dr"]
     return (r["loss_db"]["total"], r["worst"]["fresnel_ratio"], r["budget"]["rx_power_dbm"], r["budget"]["margin_db"],
             r["budget_downlink"]["margin_db"], np.nan if dr is None else dr)
 
 
-def _radio(model):
+# the cases of sample_sites.MODEL_OPTIONS, as PropagationSettings
+MODELS = {"terrain": {"model": "terrain"}, "p1812": {"model": "p1812"},
+          "p1812-10t-95l": {"model": "p1812", "time_percent": 10.0, "location_percent": 95.0}}
+
+
+def _radio(case):
     from profiler.engine.model import PropagationSettings
     from profiler.engine.radio import RadioSettings
 
-    return RadioSettings(propagation=PropagationSettings(model=model))
+    return RadioSettings(propagation=PropagationSettings(**MODELS[case]))
 
 
-@pytest.fixture(scope="module", params=["terrain", "p1812"])
+@pytest.fixture(scope="module", params=list(MODELS))
 def fine(request):
     """At the elevation data's own pixel size (the default resolution), with each propagation model."""
     return coverage(GATEWAY, dem=DEM, mast_m=10.0, radius_km=2.5, node_mast_m=NODE_M, progress=False,
@@ -116,7 +121,7 @@ def fine(request):
 
 def test_values_equal_profiler_link_at_the_sample_and_near_it_at_the_pixel_centre(fine):
     run, model = fine
-    assert run.report["settings"]["model"] == model
+    assert run.report["settings"]["model"] == MODELS[model]["model"]
     keys = ("path_loss_db", "worst_fresnel_ratio", "rx_level_dbm", "margin_db", "downlink_margin_db",
             "recommended_dr")
     finite = np.flatnonzero(np.isfinite(run.bands["margin_db"]).ravel())
