@@ -5,11 +5,12 @@ profiles (arrays of shape (radials, samples)): :func:`radial_count` and
 :func:`radial_step_m` choose the radials, :func:`sample_radials` samples the
 terrain along them with the link engine, :func:`line_of_sight_radials` is the
 exact cumulative-maximum line of sight, and :func:`radial_fields` gives the
-engine's results for a node at every sample (the numba kernel of
-:mod:`profiler.propagation.prefix_kernel` for the reductions over every prefix, or the
-numpy prefix batches).  No physics of its own: every number comes from
-:mod:`profiler.engine`, :mod:`profiler.propagation.diffraction_batch` and
-:func:`profiler.engine.links.link_fields`.
+engine's results for a node at every sample (the numba kernels of
+:mod:`profiler.propagation.prefix_kernel` and, with ``--model p1812``,
+:mod:`profiler.propagation.p1812.prefix` for the reductions over every
+prefix, or the numpy prefix batches).  No physics of its own: every number
+comes from :mod:`profiler.engine`, :mod:`profiler.propagation.diffraction_batch`,
+:mod:`profiler.propagation.p1812` and :func:`profiler.engine.links.link_fields`.
 
 References
 ----------
