@@ -245,10 +245,9 @@ def prefix_reduce(distance_km, height_m, n, rr, jj, effective_radius_km):
 
     Parameters
     ----------
-    distance_km, height_m : ndarray, shape (R, N)
-        Radial profiles [km from the site], [m AMSL].
-    n : ndarray of int, shape (R,)
-        Number of samples per radial (a count).
+    distance_km, height_m, n : ndarray
+        The radials [km from the site], [m AMSL] and their sample counts, as
+        :func:`bullington_prefixes`.
     rr, jj : ndarray of int, shape (L,)
         Radial and node sample of every link (``2 <= jj < n[rr]``).
     effective_radius_km : float

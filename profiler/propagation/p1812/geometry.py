@@ -230,12 +230,9 @@ def elevation_mrad_term(dh_m, d_km, ae_km):
 
     Parameters
     ----------
-    dh_m : float or ndarray
-        Height of the point above the antenna [m].
-    d_km : float or ndarray
-        Distance of the point from the antenna [km], greater than 0.
-    ae_km : float or ndarray
-        Median effective Earth radius [km].
+    dh_m, d_km, ae_km : float or ndarray
+        Height of the point above the antenna [m], its distance [km] and the
+        effective Earth radius [km], as :func:`elevation_tangent_term`.
 
     Returns
     -------
@@ -313,8 +310,8 @@ def horizon_geometry(horizons, distance_at, d_km, hts_m, hrs_m, ae_km):
     Parameters
     ----------
     horizons : dict of ndarray, shape (L,)
-        The reductions over the interior samples (``horizons`` of a
-        reducer, :mod:`profiler.propagation.p1812.reductions`):
+        The reductions over the interior samples (``site_horizon`` and
+        ``far_horizon`` of a :class:`profiler.propagation.p1812.reductions.Reducer`):
         ``tan_t_max`` and ``tan_r_max`` (largest :func:`elevation_tangent_term`
         from the transmitter and the receiver [-]) with their sample
         indices ``theta_t_index``, ``theta_r_index``, and ``nu_index``
@@ -324,12 +321,9 @@ def horizon_geometry(horizons, distance_at, d_km, hts_m, hrs_m, ae_km):
     distance_at : callable
         ``distance_at(index) -> d [km]``, shape (L,): the distance of a
         sample index of every path.
-    d_km : ndarray, shape (L,)
-        Path lengths [km].
-    hts_m, hrs_m : ndarray, shape (L,)
-        Antenna heights [m amsl].
-    ae_km : float or ndarray, shape (L,)
-        Median effective Earth radius [km].
+    d_km, hts_m, hrs_m, ae_km : ndarray, shape (L,)
+        Path lengths [km], antenna heights [m amsl] and the median effective
+        Earth radius [km], as :func:`trans_horizon`.
 
     Returns
     -------
