@@ -50,6 +50,7 @@ from .geometry import (
     elevation_mrad_term,
     elevation_tangent_term,
     horizon_geometry,
+    inland_zones_km,
     padded_profile,
     path_centre_latitude_deg,
     roughness_term,
@@ -71,7 +72,7 @@ from .reductions import ProfileReducer, p1812_reductions
 __all__ = ["EARTH_RADIUS_KM", "ZONE_COASTAL", "ZONE_INLAND", "ZONE_SEA", "ProfileReducer", "basic_losses",
            "beta0_percent", "combined_losses", "diffraction_losses", "ducting_blend", "ducting_db",
            "effective_radius_km", "elevation_mrad_term", "elevation_tangent_term",
-           "height_factor", "horizon_geometry", "inverse_normal",
+           "height_factor", "horizon_geometry", "inland_zones_km", "inverse_normal",
            "inverse_normal_tail", "location_sigma_db", "location_term_db", "p1812_batch", "p1812_finish",
            "p1812_reductions", "path_centre_latitude_deg", "padded_profile", "roughness_term", "trans_horizon", "troposcatter_db",
            "zone_sections_km"]

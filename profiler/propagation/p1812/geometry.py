@@ -159,6 +159,28 @@ def zone_sections_km(d_km, zone, n_samples):
             "dlm_km": _runs_max_km(cover, zone == ZONE_INLAND)}
 
 
+def inland_zones_km(d_km):
+    """The zone statistics of paths wholly inland: no sea, the longest land and inland sections the whole path.
+
+    Parameters
+    ----------
+    d_km : ndarray, shape (L,)
+        Path lengths [km].
+
+    Returns
+    -------
+    dict of ndarray, shape (L,)
+        ``w_sea_fraction`` = 0 [-], ``dtm_km`` = ``dlm_km`` = d [km]: what
+        :func:`zone_sections_km` gives for samples all in zone 4.
+
+    References
+    ----------
+    .. [1] ITU-R P.1812-8 Annex 1 section 3 (ω, dtm, dlm) and Table 2.
+    """
+    d = np.asarray(d_km, dtype=float)
+    return {"w_sea_fraction": np.zeros(d.shape), "dtm_km": d, "dlm_km": d}
+
+
 def padded_profile(distance_km, height_m, clutter_m, n_samples):
     """The pieces of padded profiles used by the model, with the padding zeroed.
 

@@ -164,8 +164,7 @@ class PrefixReducer(Reducer):
         return out[self.rr, self.jj]
 
     def zones(self):
-        zero = np.zeros(self.d_total_km.shape)
-        return {"w_sea_fraction": zero, "dtm_km": self.d_total_km, "dlm_km": self.d_total_km}   # all inland
+        return geometry.inland_zones_km(self.d_total_km)   # a coverage radial is inland
 
     def terminals(self):
         zero, land = np.zeros(self.d_total_km.shape), np.zeros(self.d_total_km.shape, dtype=bool)

@@ -30,10 +30,12 @@ import numpy as np
 from ..diffraction_batch import bulge_km_term, diffraction_reductions, numpy_reduce, v_unit_term
 from .geometry import (
     EARTH_RADIUS_KM,
+    ZONE_INLAND,
     ZONE_SEA,
     effective_radius_km,
     elevation_tangent_term,
     horizon_geometry,
+    inland_zones_km,
     padded_profile,
     roughness_term,
     trans_horizon,
@@ -241,6 +243,9 @@ class ProfileReducer(Reducer):
                       axis=1)
 
     def zones(self):
+        valid = np.arange(self.d.shape[1])[None, :] < self.n[:, None]
+        if np.all(np.where(valid, self._zone, ZONE_INLAND) == ZONE_INLAND):
+            return inland_zones_km(self.d_total_km)
         return zone_sections_km(np.where(np.isfinite(self._distance), self._distance, np.nan), self._zone, self.n)
 
     def terminals(self):
