@@ -314,16 +314,15 @@ def trans_horizon(tan_t_max, d_km, hts_m, hrs_m, ae_km):
     Returns
     -------
     trans : ndarray of bool, shape (L,)
-        θmax > θtd, and θmax [mrad], θtd [mrad].
+        θmax > θtd, θmax the elevation angle of the transmitter's horizon
+        (1000 arctan of ``tan_t_max``).
 
     References
     ----------
     .. [1] ITU-R P.1812-8 Annex 1 Attachment 1 (the path is trans-horizon
        when θmax > θtd).
     """
-    theta_max = 1000.0 * np.arctan(tan_t_max)                                       # θi of the horizon
-    theta_td = elevation_mrad_term(hrs_m - hts_m, d_km, np.asarray(ae_km, dtype=float))
-    return theta_max > theta_td, theta_max, theta_td
+    return 1000.0 * np.arctan(tan_t_max) > elevation_mrad_term(hrs_m - hts_m, d_km, ae_km)
 
 
 def horizon_geometry(horizons, distance_at, d_km, hts_m, hrs_m, ae_km):
@@ -332,8 +331,8 @@ def horizon_geometry(horizons, distance_at, d_km, hts_m, hrs_m, ae_km):
     Parameters
     ----------
     horizons : dict of ndarray, shape (L,)
-        The reductions over the interior samples (``site_horizon`` and
-        ``far_horizon`` of a :class:`profiler.propagation.p1812.reductions.Reducer`):
+        The reductions over the interior samples (``horizons`` of a
+        :class:`profiler.propagation.p1812.reductions.Reducer`):
         ``tan_t_max`` and ``tan_r_max`` (largest :func:`elevation_tangent_term`
         from the transmitter and the receiver [-]) with their sample
         indices ``theta_t_index``, ``theta_r_index``, and ``nu_index``
@@ -363,7 +362,9 @@ def horizon_geometry(horizons, distance_at, d_km, hts_m, hrs_m, ae_km):
        case).
     """
     ae1 = np.asarray(ae_km, dtype=float)
-    trans, theta_max, theta_td = trans_horizon(horizons["tan_t_max"], d_km, hts_m, hrs_m, ae1)
+    trans = trans_horizon(horizons["tan_t_max"], d_km, hts_m, hrs_m, ae1)
+    theta_max = 1000.0 * np.arctan(horizons["tan_t_max"])                          # θi of the horizon
+    theta_td = elevation_mrad_term(hrs_m - hts_m, d_km, ae1)
     theta_rd = elevation_mrad_term(hts_m - hrs_m, d_km, ae1)
     iv = horizons["nu_index"]
     ilt, ilr = np.where(trans, horizons["theta_t_index"], iv), np.where(trans, horizons["theta_r_index"], iv)

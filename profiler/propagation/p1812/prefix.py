@@ -6,11 +6,13 @@ profile is the first ``j + 1`` samples.  :class:`PrefixReducer` gives
 :func:`profiler.propagation.p1812.reductions.p1812_reductions` the
 reductions of all those links at once:
 
-* the horizons: seen from the site (whose antenna is the same for every
-  link of a radial) the largest elevation-angle tangent and where it is, a
-  running maximum along the radial; then per link one compiled loop over
-  its interior samples, for the largest tangent seen from the node where
-  the link is trans-horizon, else for where ν is largest;
+* the horizons, one compiled kernel: seen from the site (whose antenna is
+  the same for every link of a radial) the largest elevation-angle tangent
+  and where it is, a running maximum along the radial; then per link one
+  loop over its interior samples, for the largest tangent seen from the
+  node where the link is trans-horizon
+  (:func:`~profiler.propagation.p1812.geometry.trans_horizon`, compiled),
+  else for where ν is largest;
 * the terrain roughness hm between the horizons: one compiled loop over the
   samples between the two horizon indices of every link;
 * the two delta-Bullington passes (at a_e and at aβ):
@@ -41,51 +43,45 @@ from .. import prefix_kernel
 from . import geometry
 from .reductions import Reducer, documented
 
-_TERMS = ((geometry, ("elevation_tangent_term", "roughness_term")),
+_TERMS = ((geometry, ("elevation_tangent_term", "elevation_mrad_term", "trans_horizon", "roughness_term")),
           (diffraction_engine, ("bulge_km_term", "obstacle_term", "v_unit_term")))
 _G, _D = (prefix_kernel.compile_terms(module, names) for module, names in _TERMS)
-_tangent, _roughness = _G["elevation_tangent_term"], _G["roughness_term"]
+_tangent, _trans, _roughness = (_G[k] for k in ("elevation_tangent_term", "trans_horizon", "roughness_term"))
 _bulge_km, _v_unit = _D["bulge_km_term"], _D["v_unit_term"]
 
 
 def _kernels(key: str):
-    """The three compiled kernels (closures over ``key`` only, the terms' fingerprint, which keys their disk cache)."""
+    """The two compiled kernels (closures over ``key`` only, the terms' fingerprint, which keys their disk cache)."""
     fastmath = prefix_kernel.FASTMATH
 
     @numba.njit(cache=True, parallel=True, fastmath=fastmath)
-    def site_kernel(d_km, h_m, n, site, ae_km, tan_max, index):   # pragma: no cover (compiled)
-        _key = key   # noqa: F841 (the cache key)
-        for r in numba.prange(d_km.shape[0]):
-            best = -np.inf   # seen from the site, a sample's elevation does not depend on the node: running max
-            at = 0
-            for j in range(2, n[r]):
-                tangent = _tangent(h_m[r, j - 1] - site[r], d_km[r, j - 1], ae_km)
-                if tangent > best:
-                    best, at = tangent, j - 1
-                tan_max[r, j], index[r, j] = best, at
-
-    @numba.njit(cache=True, parallel=True, fastmath=fastmath)
-    def far_kernel(d_km, h_m, n, site, hrs, ae_km, trans, tan_max, index):   # pragma: no cover (compiled)
+    def horizon_kernel(d_km, h_m, n, site, hrs, ae_km, tangents, index):   # pragma: no cover (compiled)
         _key = key   # noqa: F841 (the cache key)
         for r in numba.prange(d_km.shape[0]):
             a = site[r]
+            t_max = -np.inf   # seen from the site, a sample's elevation does not depend on the node: running max
+            it = 0
             for j in range(2, n[r]):
+                tangent = _tangent(h_m[r, j - 1] - a, d_km[r, j - 1], ae_km)
+                if tangent > t_max:
+                    t_max, it = tangent, j - 1
                 d, b = d_km[r, j], hrs[r, j]
                 best = -np.inf
                 at = 0
-                if trans[r, j]:   # the receiver's horizon
+                if _trans(t_max, d, a, b, ae_km):   # the receiver's horizon
                     for i in range(1, j):
                         tangent = _tangent(h_m[r, i] - b, d - d_km[r, i], ae_km)
                         if tangent > best:
                             best, at = tangent, i
-                else:             # line of sight: where ν is largest
+                else:                               # line of sight: where ν is largest
                     for i in range(1, j):
                         di = d_km[r, i]
                         dd = d - di
                         nu = _v_unit(h_m[r, i] + _bulge_km(di, dd, ae_km), a, b, di, dd, d)
                         if nu > best:
                             best, at = nu, i
-                tan_max[r, j], index[r, j] = best, at
+                tangents[0, r, j], tangents[1, r, j] = t_max, best
+                index[0, r, j], index[1, r, j] = it, at
 
     @numba.njit(cache=True, parallel=True, fastmath=fastmath)
     def roughness_kernel(d_km, h_m, n, first, last, hst, slope, out):   # pragma: no cover (compiled)
@@ -97,10 +93,10 @@ def _kernels(key: str):
                     best = max(best, _roughness(h_m[r, i], hst[r, j], slope[r, j], d_km[r, i]))
                 out[r, j] = best
 
-    return site_kernel, far_kernel, roughness_kernel
+    return horizon_kernel, roughness_kernel
 
 
-_site_kernel, _far_kernel, _roughness_kernel = _kernels(prefix_kernel.fingerprint(_TERMS))
+_horizon_kernel, _roughness_kernel = _kernels(prefix_kernel.fingerprint(_TERMS))
 
 
 @documented
@@ -139,19 +135,14 @@ class PrefixReducer(Reducer):
             raise ValueError("the prefix kernel needs one site antenna height per radial")
         return site
 
-    def site_horizon(self, hts, ae_km):
-        tan_max, index = np.full(self.d.shape, np.nan), np.zeros(self.d.shape, dtype=np.int64)
+    def horizons(self, hts, hrs, ae_km):
+        tangents, index = np.full((2,) + self.d.shape, np.nan), np.zeros((2,) + self.d.shape, dtype=np.int64)
         with prefix_kernel.LAUNCH:
-            _site_kernel(self.d, self.h, self.n, self._site(hts), float(ae_km), tan_max, index)
-        return {"tan_t_max": tan_max[self.rr, self.jj], "theta_t_index": index[self.rr, self.jj]}
-
-    def far_horizon(self, hts, hrs, ae_km, trans):
-        best, index = np.full(self.d.shape, np.nan), np.zeros(self.d.shape, dtype=np.int64)
-        with prefix_kernel.LAUNCH:
-            _far_kernel(self.d, self.h, self.n, self._site(hts), self._full(hrs), float(ae_km),
-                        self._full(trans, bool), best, index)
+            _horizon_kernel(self.d, self.h, self.n, self._site(hts), self._full(hrs), float(ae_km), tangents, index)
         at = (self.rr, self.jj)
-        return {"tan_r_max": best[at], "theta_r_index": index[at], "nu_index": index[at]}
+        far, far_index = tangents[1][at], index[1][at]
+        return {"tan_t_max": tangents[0][at], "theta_t_index": index[0][at], "tan_r_max": far,
+                "theta_r_index": far_index, "nu_index": far_index}
 
     def distance_at(self, index):
         return self.d[self.rr, index]

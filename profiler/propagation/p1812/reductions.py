@@ -38,7 +38,6 @@ from .geometry import (
     inland_zones_km,
     padded_profile,
     roughness_term,
-    trans_horizon,
     zone_sections_km,
 )
 
@@ -54,27 +53,13 @@ class Reducer:
         Ground heights at the transmitter and the receiver [m amsl].
     """
 
-    def site_horizon(self, hts, ae_km):
-        """The transmitter's horizon: largest elevation-angle tangent of an interior point and where it is.
+    def horizons(self, hts, hrs, ae_km):
+        """The horizons: largest elevation-angle tangents from each terminal and where they are, and where ν is largest.
 
-        Parameters
-        ----------
-        hts : ndarray, shape (L,)
-            Transmitter antenna heights [m amsl].
-        ae_km : float
-            Median effective Earth radius [km].
-
-        Returns
-        -------
-        dict of ndarray, shape (L,)
-            ``tan_t_max`` (largest
-            :func:`~profiler.propagation.p1812.geometry.elevation_tangent_term`) [-]
-            and ``theta_t_index`` (its sample index).
-        """
-        raise NotImplementedError
-
-    def far_horizon(self, hts, hrs, ae_km, trans):
-        """The receiver's horizon of trans-horizon paths, or where ν is largest on line-of-sight paths.
+        The receiver's horizon is read on trans-horizon paths only and the
+        sample of the largest ν on the others
+        (:func:`~profiler.propagation.p1812.geometry.trans_horizon` of
+        ``tan_t_max``): a reducer may skip the one a path does not need.
 
         Parameters
         ----------
@@ -82,15 +67,15 @@ class Reducer:
             Antenna heights [m amsl].
         ae_km : float
             Median effective Earth radius [km].
-        trans : ndarray of bool, shape (L,)
-            The trans-horizon paths (:func:`~profiler.propagation.p1812.geometry.trans_horizon`).
 
         Returns
         -------
         dict of ndarray, shape (L,)
-            ``tan_r_max`` [-] and ``theta_r_index`` (index) read where
-            ``trans``, ``nu_index`` (index of the largest ν of P.452-18
-            eq. 16) read elsewhere.
+            ``tan_t_max``, ``tan_r_max`` (largest
+            :func:`~profiler.propagation.p1812.geometry.elevation_tangent_term`
+            of an interior point from the transmitter and the receiver) [-],
+            ``theta_t_index``, ``theta_r_index`` (their sample index) and
+            ``nu_index`` (index of the largest ν of P.452-18 eq. 16).
         """
         raise NotImplementedError
 
@@ -217,21 +202,18 @@ class ProfileReducer(Reducer):
         self._distance, self._zone, self._clutter = distance_km, zone, clutter
 
     # the horizons are those of the terrain; the clutter enters the Bullington part only
-    def site_horizon(self, hts, ae_km):
-        di = np.where(self.interior, self.d, 1.0)
-        theta_i = np.where(self.interior, elevation_tangent_term(self.h - hts[:, None], di, _col(ae_km)), -np.inf)
-        it = np.argmax(theta_i, axis=1)
-        return {"tan_t_max": theta_i[self.rows, it], "theta_t_index": it}
-
-    def far_horizon(self, hts, hrs, ae_km, trans):
+    def horizons(self, hts, hrs, ae_km):
         ae = _col(ae_km)
         di = np.where(self.interior, self.d, 1.0)
         dr = np.where(self.interior, self.d_total_km[:, None] - self.d, 1.0)
+        theta_i = np.where(self.interior, elevation_tangent_term(self.h - hts[:, None], di, ae), -np.inf)
+        it = np.argmax(theta_i, axis=1)
         theta_j = np.where(self.interior, elevation_tangent_term(self.h - hrs[:, None], dr, ae), -np.inf)
         nu = np.where(self.interior, v_unit_term(self.h + bulge_km_term(di, dr, ae), hts[:, None], hrs[:, None],
                                                  di, dr, self.d_total_km[:, None]), -np.inf)
         ir = np.argmax(theta_j, axis=1)
-        return {"tan_r_max": theta_j[self.rows, ir], "theta_r_index": ir, "nu_index": np.argmax(nu, axis=1)}
+        return {"tan_t_max": theta_i[self.rows, it], "theta_t_index": it, "tan_r_max": theta_j[self.rows, ir],
+                "theta_r_index": ir, "nu_index": np.argmax(nu, axis=1)}
 
     def distance_at(self, index):
         return self.d[self.rows, index]
@@ -298,10 +280,7 @@ def p1812_reductions(reducer, htg_m, hrg_m, delta_n, time_percent, informative=T
     d, h_first, h_last = reducer.d_total_km, reducer.h_first_m, reducer.h_last_m
     htg, hrg = np.asarray(htg_m, dtype=float), np.asarray(hrg_m, dtype=float)
     hts, hrs = np.broadcast_to(h_first + htg, d.shape), np.broadcast_to(h_last + hrg, d.shape)
-    horizons = reducer.site_horizon(hts, ae)
-    trans = trans_horizon(horizons["tan_t_max"], d, hts, hrs, ae)[0]
-    horizons.update(reducer.far_horizon(hts, hrs, ae, trans))
-    geo = horizon_geometry(horizons, reducer.distance_at, d, hts, hrs, ae)
+    geo = horizon_geometry(reducer.horizons(hts, hrs, ae), reducer.distance_at, d, hts, hrs, ae)
     ld50 = diffraction_reductions(reducer.bullington(ae), d, h_first, h_last, hts, hrs)
     hst, hsr = ld50["hst"], ld50["hsr"]                                           # eqs. (85), (86)
     hst_g, hsr_g = np.minimum(hst, h_first), np.minimum(hsr, h_last)              # eq. (90)
