@@ -144,6 +144,42 @@ def verdict(report: dict) -> str:
     return f"{geom}; {radio}"
 
 
+def model_line(report: dict) -> str:
+    """The run's propagation model and percentages on one line, read from a JSON report.
+
+    The wording of :meth:`profiler.engine.model.PropagationSettings.summary`:
+    ``"P.1812-8, 50 % time, 95 % locations"``, or for ``--model terrain``
+    ``"Terrain model (free space + delta-bullington diffraction), median"``
+    (the diffraction method named when the report holds it).  The settings
+    are the link and mast reports' ``propagation`` block (``model`` at the
+    top level as a fall-back) or the ``settings`` of the network, coverage
+    and siting reports.
+
+    Parameters
+    ----------
+    report : dict
+        A link, mast, network, coverage or siting JSON report.
+
+    Returns
+    -------
+    str
+        The line; empty when the report names no model.
+    """
+    from ..engine.model import PropagationSettings
+
+    st = report.get("propagation") or report.get("settings") or {}
+    model = st.get("model") or report.get("model")
+    if model not in ("p1812", "terrain"):
+        return ""
+    if model == "p1812":
+        return PropagationSettings(model="p1812", time_percent=float(st.get("time_percent", 50.0)),
+                                   location_percent=float(st.get("location_percent", 50.0))).summary()
+    method = ((report.get("loss_db") or {}).get("diffraction_method") or report.get("diffraction_method")
+              or st.get("diffraction_method") or st.get("diffraction"))
+    line = PropagationSettings(model="terrain").summary()
+    return line.replace("+ diffraction)", f"+ {method} diffraction)") if method else line
+
+
 def summary_text(report: dict) -> str:
     """Short human summary of the link."""
     a, b = report["site_a"], report["site_b"]

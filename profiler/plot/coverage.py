@@ -30,6 +30,7 @@ import numpy as np
 
 from . import basemap
 from .audit import contain
+from ..io.report import model_line
 from .sheet import (
     BADGE_BAD,
     BADGE_GOOD,
@@ -170,7 +171,8 @@ def _draw_header(ax, report, renderer) -> None:
 
     label = "COVERAGE WITH THE CANDIDATE SITES" if s.get("candidates") else "COVERAGE"
     draw_title_block(ax, renderer, f"Coverage map: {_title(report)}", f"  {MIDDOT}  ".join(parts),
-                     f"{share:.0%} of the area heard", badge_style, badge_label=label, fit_title=fit_title)
+                     f"{share:.0%} of the area heard", badge_style, badge_label=label, fit_title=fit_title,
+                     note=clean(model_line(report)))
 
 
 # --------------------------------------------------------------------------- map

@@ -24,6 +24,7 @@ import shlex
 
 from ..about import CAUTION, __version__
 from ..errors import ProfilerError
+from ..io.report import model_line
 from ..textsafe import figure_text
 from .report_layout import Measure, Table, draw_placed, paginate
 from .sheet import BADGE_GOOD, DASH, EN, check_dpi, inch_axes, k_text, metadata, new_sheet, num, paper_size_in, style
@@ -142,7 +143,7 @@ def _table_page(report, sheet, heading, placed, page, block_h):
     # the link's name in the heading when it fits; it is always in the title block below
     draw_title_block(head, renderer, f"{heading}: {_name(report)}", "Planning aid report",
                      f"page {page[0]} of {page[1]}", BADGE_GOOD, badge_label="PAGE",
-                     fit_title=lambda artist, room: artist.set_text(heading))
+                     fit_title=lambda artist, room: artist.set_text(heading), note=figure_text(model_line(report)))
     top, bottom = height_in - MARGIN_IN - HEADER_IN - HEADER_GAP_IN, MARGIN_IN + block_h + FOOT_GAP_IN
     draw_placed(inch_axes(fig, (MARGIN_IN, bottom, width_in - 2 * MARGIN_IN, top - bottom), width_in, height_in),
                 measure, placed)
