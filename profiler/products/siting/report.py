@@ -42,8 +42,8 @@ __all__ = ["SCHEMA", "SitingResult", "MarginMatrix", "margin_matrix", "site_cost
 
 SCHEMA = "profiler.siting/2"
 #: The ``settings`` keys copied from the network report the sites were chosen over: the propagation
-#: model and its percentages (``profiler.siting/2``).
-SETTINGS_KEYS = ("model", "time_percent", "location_percent")
+#: model, its percentages and the diffraction method (``profiler.siting/2``).
+SETTINGS_KEYS = ("model", "time_percent", "location_percent", "diffraction_method")
 
 #: Roles on the gateway-site axis; ``gateway`` sites are fixed open.
 SITE_ROLES = ("gateway", "candidate")
