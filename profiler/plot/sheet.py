@@ -6,7 +6,10 @@ Every sheet (link, network, later coverage and siting) is drawn the same way:
    the Agg canvas with the :func:`draw_frame` border; :func:`inch_axes`
    places invisible axes whose data coordinates are inches, for text;
 2. :func:`draw_title_block` draws the title, the subtitle and a boxed
-   verdict in the top band; :func:`draw_tables` ruled tables whose column
+   verdict in the top band, with the run's propagation model and
+   percentages right under the verdict (its ``note``, the line of
+   :func:`profiler.io.report.model_line`: "P.1812-8, 50 % time, 95 %
+   locations"); :func:`draw_tables` ruled tables whose column
    widths follow their contents; :func:`sheet_legend` a legend in the
    family's style;
 3. :func:`draw_footer` draws the provenance (elevation files with their
