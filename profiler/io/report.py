@@ -190,7 +190,7 @@ def model_line(report: dict) -> str:
 def summary_text(report: dict) -> str:
     """Short human summary of the link."""
     a, b = report["site_a"], report["site_b"]
-    w, loss = report["worst"], report["loss_db"]
+    w = report["worst"]
     lines = [f"Link {a['name']} -> {b['name']}"]
     if report["azimuth_a_to_b_deg"] is not None:
         lines.append(f"  distance      {report['distance_m'] / 1000:.3f} km, azimuth A->B "

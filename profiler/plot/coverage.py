@@ -28,9 +28,9 @@ from __future__ import annotations
 
 import numpy as np
 
+from ..io.report import model_line
 from . import basemap
 from .audit import contain
-from ..io.report import model_line
 from .sheet import (
     BADGE_BAD,
     BADGE_GOOD,

@@ -41,10 +41,10 @@ from __future__ import annotations
 import numpy as np
 
 from ..errors import ProfilerError
+from ..io.report import model_line
 from . import basemap
 from .audit import contain
 from .network_text import TextMeasure, wrap_label
-from ..io.report import model_line
 from .sheet import (
     BADGE_BAD,
     BADGE_GOOD,

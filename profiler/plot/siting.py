@@ -33,8 +33,8 @@ from __future__ import annotations
 
 import numpy as np
 
-from . import audit
 from ..io.report import model_line
+from . import audit
 from .sheet import (
     BADGE_BAD,
     BADGE_GOOD,
