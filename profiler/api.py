@@ -316,7 +316,7 @@ def siting(sites, *, dem, redundancy: int = 1, min_margin_db: float | None = Non
     Returns
     -------
     profiler.products.siting.report.SitingResult
-        ``result.to_dict()`` is the ``profiler.siting/1`` JSON report; ``result.network`` the
+        ``result.to_dict()`` is the ``profiler.siting/2`` JSON report; ``result.network`` the
         ``profiler.network/3`` report it was solved over.
     """
     from .products.siting.report import SitingResult, siting_from_network

@@ -27,6 +27,7 @@ text is cut.  The table, the title block and the notes come from
 
 from __future__ import annotations
 
+from ..io.report import model_line
 from ..products.mast.result import fixed, up_text
 from .mast_labels import place_off_lines
 from .sheet import (
@@ -246,7 +247,7 @@ def _header(ax, report, renderer, badge, badge_style):
         artist.set_linespacing(1.05)
 
     draw_title_block(ax, renderer, f"{a} {EN} {b}", sub, badge, badge_style, badge_label="RESULT",
-                     fit_title=fit_title)
+                     fit_title=fit_title, note=clean(model_line(report)))
 
 
 def _xlabel(report, renderer, width_in) -> str:
