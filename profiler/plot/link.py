@@ -38,6 +38,7 @@ from .sheet import (
     clean,
     dms,
     draw_title_block,
+    ends_located,
     figure_format,
     fraction,
     inch_axes,
@@ -137,7 +138,7 @@ def build_link_figure(report: dict, paper: str = "a4", dem_paths=None, *, date_t
                        measure=measure)
         extra = [*bearing_lines(report), exposure_line(report)]
         draw_notes(inch_axes(fig, boxes["footer"], width_in, height_in), renderer,
-                   provenance_lines(report, source_text(report.get("dem"), n_points), extra))
+                   provenance_lines(report, source_text(report.get("dem"), n_points, ends_located(report)), extra))
     return fig
 
 
@@ -211,7 +212,8 @@ def _draw_locator(ax, report: dict, dem_paths, renderer) -> None:
     ax.set_title("Locator", loc="left", fontsize=7.5, fontweight="bold", pad=3)
     prof = report["profile"]
     if prof.get("lat_deg") is None or prof.get("lon_deg") is None:
-        basemap.empty_panel(ax, "no map: surveyed profile", "the profile has no coordinates")
+        basemap.empty_panel(ax, "no map: surveyed profile", "only the ends have coordinates" if ends_located(report)
+                            else "the profile has no coordinates")
         return
     lat = arr(prof["lat_deg"])
     lon = np.degrees(np.unwrap(np.radians(arr(prof["lon_deg"]))))   # continuous across 180 deg

@@ -467,17 +467,21 @@ def _fit_badge(badge: str, width: float, room_h: float, measure) -> Fitted:
 
 
 # --------------------------------------------------------------------------- provenance footer
-def source_text(dem: dict | None, n_points: int | None = None) -> str:
+def source_text(dem: dict | None, n_points: int | None = None, ends_located: bool = False) -> str:
     """One line naming the elevation data: file, sha256 prefix, pixel size, CRS, voids filled.
 
     ``dem`` is the report's ``dem`` block; a surveyed profile (``kind ==
-    "surveyed"``) names its file and ``n_points``.
+    "surveyed"``) names its file and ``n_points`` (None: not stated) and
+    whether its ends have coordinates (``ends_located``: --site-a/--site-b
+    given) or none of its points do.
     """
     dem = dem or {}
     sources = dem.get("sources") or []
     if dem.get("kind") == "surveyed":
         names = ", ".join(clean(os.path.basename(str(s.get("path") or ""))) for s in sources) or DASH
-        return f"Terrain: surveyed profile {names} ({n_points} points, no coordinates)"
+        where = "only the ends have coordinates" if ends_located else "no coordinates"
+        count = "" if n_points is None else f"{n_points} points, "
+        return f"Terrain: surveyed profile {names} ({count}{where})"
     parts = []
     for source in sources[:3]:
         digest = clean(str(source.get("sha256") or ""))[:12]
@@ -556,3 +560,8 @@ def draw_stacked(ax, renderer, items, top: float, color: str = "0.1", gap: float
         audit.contain(t, ax, name="notes")
         y -= f.height_in + gap
     return used <= top + 1e-9
+
+
+def ends_located(report: dict) -> bool:
+    """Both sites of a link or mast report have a latitude and longitude (a surveyed profile may)."""
+    return all((report.get(key) or {}).get("lat_deg") is not None for key in ("site_a", "site_b"))
