@@ -71,8 +71,8 @@ def indoor_probability(median_margin_db, fade_margin_db, sigma_db, frequency_ghz
         Frequency [GHz].
     elevation_deg : ndarray, shape (L,)
         Elevation angle of the path at the facade [deg].
-    building : str or ndarray of str, shape (L,)
-        ``traditional`` or ``thermally-efficient``.
+    building : str or sequence of str
+        ``traditional`` or ``thermally-efficient`` per link.
     n_points : int, default 200
         Equally probable points of the building entry loss distribution (a count).
 
