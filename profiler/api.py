@@ -50,8 +50,8 @@ PARAMETERS = {
                  "        must be visible to every worker at the same path.",
     "progress": "progress : bool, optional\n        Progress bar on standard error (default: when it is a terminal).",
     "land_cover": "land_cover : str, Path or list of them, optional\n"
-                  "        Land-cover rasters of class codes (files or folders of tiles, any CRS): the clutter class and\n"
-                  "        height of the nearest pixel at every profile sample.  Not with ``profile_csv``.",
+                  "        Land-cover rasters of class codes (files or folders of tiles, any CRS): the clutter class\n"
+                  "        and height of the nearest pixel at every profile sample.  Not with ``profile_csv``.",
     "land_cover_classes": "land_cover_classes : str or Path, optional\n"
                           "        TOML file mapping each land-cover code to a clutter class and height (default: the\n"
                           "        built-in ESA WorldCover mapping).",
@@ -307,7 +307,7 @@ def network(sites, *, dem, pairs=None, max_distance_km: float = 50.0, k_factor="
     Returns
     -------
     profiler.products.network.NetworkResult
-        ``result.to_dict()`` is the ``profiler.network/4`` JSON report (``links``, ``nodes``, ``sites``,
+        ``result.to_dict()`` is the ``profiler.network/3`` JSON report (``links``, ``nodes``, ``sites``,
         ``summary`` as attributes too).
     """
     from .products.network import network as _network
@@ -358,7 +358,7 @@ def siting(sites, *, dem, redundancy: int = 1, min_margin_db: float | None = Non
     -------
     profiler.products.siting.report.SitingResult
         ``result.to_dict()`` is the ``profiler.siting/1`` JSON report; ``result.network`` the
-        ``profiler.network/4`` report it was solved over.
+        ``profiler.network/3`` report it was solved over.
     """
     from .products.siting.report import SitingResult, siting_from_network
 
