@@ -385,6 +385,4 @@ def _clutter_warnings(table, node, res, mapping) -> list:
     low = table.mast_m[np.unique(node)] < LOW_NODE_M
     if not low.any():
         return []
-    return [f"no land cover: the paths have no clutter, so {int(np.count_nonzero(low))} nodes with an antenna below "
-            f"{LOW_NODE_M:g} m above ground are likely optimistic; give --land-cover FILE for the clutter along "
-            "the paths"]
+    return [f"no land cover: {int(np.count_nonzero(low))} nodes below {LOW_NODE_M:g} m likely optimistic"]
