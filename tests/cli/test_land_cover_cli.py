@@ -34,9 +34,10 @@ def run(*args):
     return CliRunner().invoke(main, [str(a) for a in args], catch_exceptions=False)
 
 
-def link_json(*args):
-    res = run("link", *args, "--json", "-")
-    assert res.exit_code == 0, res.output
+def report_of(command, *args, exit_codes=(0,)) -> dict:
+    """The JSON report of a run of ``command`` (on standard output)."""
+    res = run(command, *args, "--json", "-")
+    assert res.exit_code in exit_codes, res.output
     return json.loads(res.stdout)
 
 
@@ -61,10 +62,10 @@ def profile_csv(report, path) -> Path:
 @pytest.mark.parametrize("model", MODEL_OPTIONS)
 def test_land_cover_run_is_exactly_the_same_path_as_a_profile(tmp_path, model):
     opts = MODEL_OPTIONS[model]
-    cover = link_json("--dem", DEM, "--land-cover", COVER, *PATH, *opts)
+    cover = report_of("link", "--dem", DEM, "--land-cover", COVER, *PATH, *opts)
     assert cover["schema"] == "profiler.link/5"
     assert any(h > 0 for h in cover["profile"]["clutter_height_m"])
-    surveyed = link_json("--profile", profile_csv(cover, tmp_path / "p.csv"), *PATH, *opts)
+    surveyed = report_of("link", "--profile", profile_csv(cover, tmp_path / "p.csv"), *PATH, *opts)
     assert surveyed["model"] == cover["model"] == opts[1]
     for key in ("free_space", "diffraction", "combination", "location", "basic_transmission", "total"):
         assert surveyed["loss_db"][key] == cover["loss_db"][key], key
@@ -73,7 +74,7 @@ def test_land_cover_run_is_exactly_the_same_path_as_a_profile(tmp_path, model):
 
 
 def test_clutter_class_is_the_raster_pixel_at_every_sample():
-    report = link_json("--dem", DEM, "--land-cover", COVER, *PATH)
+    report = report_of("link", "--dem", DEM, "--land-cover", COVER, *PATH)
     prof = report["profile"]
     with rasterio.open(COVER) as ds:      # GDAL's own sampling of the pixel holding each point (EPSG:4326)
         codes = [int(v[0]) for v in ds.sample(zip(prof["lon_deg"], prof["lat_deg"]))]
@@ -91,13 +92,13 @@ def test_clutter_class_is_the_raster_pixel_at_every_sample():
 
 def test_terrain_model_heights_and_a_class_file(tmp_path):
     # --model terrain takes the heights of ITU-R P.2108-1 Table 3; a TOML file overrides the height of its codes.
-    plain = link_json("--dem", DEM, "--land-cover", COVER, *PATH, "--model", "terrain")
+    plain = report_of("link", "--dem", DEM, "--land-cover", COVER, *PATH, "--model", "terrain")
     names = plain["profile"]["clutter_class"]
     assert plain["profile"]["clutter_height_m"] == [DEFAULT_HEIGHTS_M["terrain"][c] for c in names]
     toml = tmp_path / "classes.toml"
     toml.write_text("".join(f'[classes.{code}]\nclutter = "{cls}"\n' + ("height_m = 22.5\n" if code == 10 else "")
                             for code, (_, cls) in WORLDCOVER_CLASSES.items()))
-    custom = link_json("--dem", DEM, "--land-cover", COVER, "--land-cover-classes", toml, *PATH)
+    custom = report_of("link", "--dem", DEM, "--land-cover", COVER, "--land-cover-classes", toml, *PATH)
     heights = [22.5 if c == "trees" else DEFAULT_HEIGHTS_M["p1812"][c] for c in custom["profile"]["clutter_class"]]
     assert custom["profile"]["clutter_height_m"] == heights
     digest = hashlib.sha256(toml.read_bytes()).hexdigest()      # the standard library's SHA-256
@@ -106,16 +107,16 @@ def test_terrain_model_heights_and_a_class_file(tmp_path):
 
 def test_terrain_model_path_loss_does_not_change_with_the_land_cover():
     # Issue 20 item 2: with --model terrain the profile's clutter only feeds the terminal correction.
-    without = link_json("--dem", DEM, *PATH, "--model", "terrain")
-    with_cover = link_json("--dem", DEM, "--land-cover", COVER, *PATH, "--model", "terrain")
+    without = report_of("link", "--dem", DEM, *PATH, "--model", "terrain")
+    with_cover = report_of("link", "--dem", DEM, "--land-cover", COVER, *PATH, "--model", "terrain")
     assert with_cover["loss_db"]["total"] == without["loss_db"]["total"]
 
 
 def test_forest_on_the_gateway_pump_path_adds_p1812_loss():
     # The gateway-pump path crosses the forest of the sample land cover: R added at the interior points
     # (ITU-R P.1812-8 section 3.2) raises the obstacles, so the loss exceeds the bare-terrain loss.
-    without = link_json("--dem", DEM, *PATH, "--model", "p1812")
-    with_cover = link_json("--dem", DEM, "--land-cover", COVER, *PATH, "--model", "p1812")
+    without = report_of("link", "--dem", DEM, *PATH, "--model", "p1812")
+    with_cover = report_of("link", "--dem", DEM, "--land-cover", COVER, *PATH, "--model", "p1812")
     interior = with_cover["profile"]["clutter_class"][1:-1]
     assert "trees" in interior
     assert with_cover["loss_db"]["total"] > without["loss_db"]["total"] + 1.0
@@ -124,9 +125,9 @@ def test_forest_on_the_gateway_pump_path_adds_p1812_loss():
 def test_folders_as_dem_and_as_land_cover_pick_their_own_rasters():
     # dem_samples/ holds the elevation and the class raster: as --dem the colour-indexed class map is left
     # out, as --land-cover the raster with a length unit.
-    files = link_json("--dem", DEM, "--land-cover", COVER, *PATH)
+    files = report_of("link", "--dem", DEM, "--land-cover", COVER, *PATH)
     folder = str(ROOT / "dem_samples")
-    folders = link_json("--dem", folder, "--land-cover", folder, *PATH)
+    folders = report_of("link", "--dem", folder, "--land-cover", folder, *PATH)
     assert folders["profile"]["clutter_class"] == files["profile"]["clutter_class"]
     assert folders["loss_db"]["total"] == files["loss_db"]["total"]
     assert [s["path"] for s in folders["land_cover"]["sources"]] == [str(Path(folder) / "vellmoor_landcover.tif")]
@@ -141,7 +142,7 @@ def test_no_data_samples_have_no_clutter_and_a_warning(tmp_path):
         data = ds.read(1, window=window)
         with rasterio.open(cut, "w", **profile) as out:
             out.write(data, 1)
-    report = link_json("--dem", DEM, "--land-cover", cut, *PATH)
+    report = report_of("link", "--dem", DEM, "--land-cover", cut, *PATH)
     prof = report["profile"]
     none = [i for i, c in enumerate(prof["clutter_class"]) if c is None]
     assert none and none[-1] == len(prof["distance_m"]) - 1
@@ -152,13 +153,13 @@ def test_no_data_samples_have_no_clutter_and_a_warning(tmp_path):
 
 
 def test_low_node_without_land_cover_is_said_to_be_optimistic():
-    low = link_json("--dem", DEM, *PATH, "--mast-b", "2")
+    low = report_of("link", "--dem", DEM, *PATH, "--mast-b", "2")
     assert any("no land cover" in w and "likely optimistic" in w for w in low["warnings"])
-    high = link_json("--dem", DEM, *PATH, "--mast-b", "12")
+    high = report_of("link", "--dem", DEM, *PATH, "--mast-b", "12")
     assert not any("no land cover" in w for w in high["warnings"])
-    node_at_a = link_json("--dem", DEM, *PATH, "--mast-b", "2", "--mast-a", "12", "--gateway", "b")
+    node_at_a = report_of("link", "--dem", DEM, *PATH, "--mast-b", "2", "--mast-a", "12", "--gateway", "b")
     assert not any("no land cover" in w for w in node_at_a["warnings"])
-    covered = link_json("--dem", DEM, "--land-cover", COVER, *PATH, "--mast-b", "2")
+    covered = report_of("link", "--dem", DEM, "--land-cover", COVER, *PATH, "--mast-b", "2")
     assert not any("no land cover" in w for w in covered["warnings"])
 
 
@@ -175,7 +176,7 @@ def test_refusals_are_one_line(tmp_path):
     one_line_error(run("link", "--dem", DEM, "--land-cover", junk, *PATH))
     one_line_error(run("link", "--dem", DEM, "--land-cover", COVER, "--land-cover-classes", tmp_path / "no.toml",
                        *PATH))
-    report = link_json("--dem", DEM, "--land-cover", COVER, *PATH)
+    report = report_of("link", "--dem", DEM, "--land-cover", COVER, *PATH)
     survey = profile_csv(report, tmp_path / "p.csv")
     line = one_line_error(run("link", "--profile", survey, "--land-cover", COVER, *PATH))
     assert "--profile" in line and "--land-cover" in line and "clutter_height_m" in line
@@ -188,10 +189,8 @@ def test_refusals_are_one_line(tmp_path):
 def test_mast_with_land_cover_needs_more_than_without():
     # The forest on the path raises the mast the margin needs (P.1812-8 with R at the interior points).
     def required(*extra):
-        res = run("mast", "--dem", DEM, *PATH, "--solve", "b", "--no-clearance", "--min-margin-db", "10",
-                  *extra, "--json", "-")
-        assert res.exit_code in (0, 3), res.output
-        return json.loads(res.stdout)
+        return report_of("mast", "--dem", DEM, *PATH, "--solve", "b", "--no-clearance", "--min-margin-db", "10",
+                         *extra, exit_codes=(0, 3))
 
     bare, covered = required(), required("--land-cover", COVER)
     assert covered["feasible"] and bare["feasible"]
@@ -211,40 +210,37 @@ def sites_file(tmp_path) -> Path:
 @pytest.mark.parametrize("model", MODEL_OPTIONS)
 def test_network_equals_link_with_land_cover(tmp_path, model):
     opts = ["--dem", DEM, "--land-cover", COVER, *MODEL_OPTIONS[model]]
-    res = run("network", "--sites", sites_file(tmp_path), *opts, "--json", "-", "--no-progress")
-    assert res.exit_code == 0, res.output
-    report = json.loads(res.stdout)
+    report = report_of("network", "--sites", sites_file(tmp_path), *opts, "--no-progress")
     assert report["settings"]["land_cover"] == [COVER] and report["settings"]["land_cover_classes"] is None
     by_name = {s["name"]: s for s in report["sites"]}
     for row in report["links"]:
         g, n = by_name[row["gateway"]], by_name[row["node"]]
-        one = link_json("--site-a", f"{g['lat_deg']},{g['lon_deg']}", "--site-b", f"{n['lat_deg']},{n['lon_deg']}",
-                        "--mast-a", g["mast_m"], "--mast-b", n["mast_m"], *opts)
+        one = report_of("link", "--site-a", f"{g['lat_deg']},{g['lon_deg']}",
+                        "--site-b", f"{n['lat_deg']},{n['lon_deg']}", "--mast-a", g["mast_m"], "--mast-b", n["mast_m"],
+                        *opts)
         assert row["total_loss_db"] == pytest.approx(one["loss_db"]["total"], abs=0.01)
         assert row["margin_db"] == pytest.approx(one["budget"]["margin_db"], abs=0.01)
     assert not any("no land cover" in w for w in report["warnings"])
 
 
 def test_network_says_once_that_low_nodes_without_land_cover_are_optimistic(tmp_path):
-    res = run("network", "--sites", sites_file(tmp_path), "--dem", DEM, "--json", "-", "--no-progress")
-    report = json.loads(res.stdout)
+    report = report_of("network", "--sites", sites_file(tmp_path), "--dem", DEM, "--no-progress")
     said = [w for w in report["warnings"] if "no land cover" in w]
     assert len(said) == 1 and "3 nodes" in said[0]
     assert report["settings"]["land_cover"] is None
 
 
 def test_siting_takes_the_land_cover(tmp_path):
-    sites = sites_file(tmp_path)
-    res = run("siting", "--sites", sites, "--dem", DEM, "--land-cover", COVER, "--json", "-", "--no-progress")
-    assert res.exit_code == 0, res.output
-    assert json.loads(res.stdout)
+    siting = report_of("siting", "--sites", sites_file(tmp_path), "--dem", DEM, "--land-cover", COVER,
+                       "--no-progress")
+    assert siting["schema"] == "profiler.siting/1" and siting["summary"]["nodes_total"] == 3
 
 
 def test_api_keywords_match_the_command(tmp_path):
     import profiler
 
     api = profiler.link(GATEWAY, PUMP, dem=DEM, land_cover=COVER, date=datetime.date(2026, 3, 1))
-    cli = link_json("--dem", DEM, "--land-cover", COVER, *PATH, "--date", "2026-03-01")
+    cli = report_of("link", "--dem", DEM, "--land-cover", COVER, *PATH, "--date", "2026-03-01")
     assert api.to_dict()["profile"]["clutter_class"] == cli["profile"]["clutter_class"]
     assert api.to_dict()["loss_db"]["total"] == cli["loss_db"]["total"]
     net = profiler.network(sites_file(tmp_path), dem=DEM, land_cover=[COVER])
