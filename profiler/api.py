@@ -42,7 +42,7 @@ PARAMETERS = {
     "sheet_info": "sheet_info : profiler.io.sheetinfo.SheetInfo, optional\n"
                   "        Title-block fields (project, document, ...) for the report's ``sheet`` block.",
     "digests": "digests : profiler.terrain.digests.FileDigests, optional\n"
-               "        Provenance digests of the elevation files, possibly already started.",
+               "        Provenance digests of the elevation (and land-cover) files, possibly already started.",
     "workers": "workers : int, optional\n"
                "        Run the chunks of work on a local Dask cluster of this many worker processes.",
     "scheduler": "scheduler : str, optional\n"
@@ -113,7 +113,7 @@ def link(site_a=None, site_b=None, *, dem=None, profile_csv=None, mast_a_m: floa
     mapping = _class_mapping(land_cover, land_cover_classes, profile_csv)
     prof = load_profile(site_a, site_b, dem=dem, profile_csv=profile_csv, step_m=step_m,
                         fill_voids=fill_voids, name_a=name_a, name_b=name_b, digests=digests)
-    prof = _with_land_cover(prof, land_cover, mapping, radio)
+    prof = _with_land_cover(prof, land_cover, mapping, radio, digests)
     return analyze_link(prof, mast_a_m=mast_a_m, mast_b_m=mast_b_m, frequency_mhz=f_mhz, band=band_name,
                         k_factor=k, clearance_ratio=clearance_ratio, radio=radio,
                         name_a=name_a, name_b=name_b,
@@ -195,7 +195,7 @@ def mast(site_a=None, site_b=None, *, dem=None, profile_csv=None, mast_a_m: floa
     mapping = _class_mapping(land_cover, land_cover_classes, profile_csv)
     prof = load_profile(site_a, site_b, dem=dem, profile_csv=profile_csv, step_m=step_m,
                         fill_voids=fill_voids, name_a=name_a, name_b=name_b, digests=digests)
-    prof = _with_land_cover(prof, land_cover, mapping, radio)
+    prof = _with_land_cover(prof, land_cover, mapping, radio, digests)
     result = solve_mast(prof, frequency_mhz=f_mhz, band=band_name, solve=solve, mast_a_m=mast_a_m,
                         mast_b_m=mast_b_m, clearance_ratio=clearance_ratio, k_factor=k_factor,
                         low_k_clearance_ratio=low_k_clearance_ratio, low_k_factor=low_k_factor,
@@ -216,7 +216,7 @@ def _class_mapping(land_cover, land_cover_classes, profile_csv):
     return class_mapping_for(land_cover, land_cover_classes)
 
 
-def _with_land_cover(prof, land_cover, mapping, radio):
+def _with_land_cover(prof, land_cover, mapping, radio, digests=None):
     """The profile with the land cover's clutter at every sample, for the run's model (unchanged without)."""
     if mapping is None:
         return prof
@@ -224,7 +224,7 @@ def _with_land_cover(prof, land_cover, mapping, radio):
     from .terrain.profile import with_land_cover
 
     model = (radio or RadioSettings()).propagation.resolved(True).model
-    with LandCover.open(land_cover_paths(land_cover)) as cover:
+    with LandCover.open(land_cover_paths(land_cover), digests=digests) as cover:
         return with_land_cover(prof, cover, mapping, model)
 
 

@@ -59,7 +59,7 @@ def link_command(site_a, site_b, name_a, name_b, mast_a_m, mast_b_m, dem_paths, 
     from ..terrain.digests import FileDigests
 
     digests = FileDigests()
-    digests.start(dem_paths)   # hash the given files while the numerical libraries load
+    digests.start(dem_paths + radio_kw.get("land_cover_paths", ()))   # hashed while the libraries load
     from ..api import link
     from ..io.outputs import check_outputs, write_outputs
     from ..limits import quiet_numerics, require_finite

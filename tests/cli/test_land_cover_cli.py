@@ -184,6 +184,9 @@ def test_refusals_are_one_line(tmp_path):
     assert "clutter_height_m" in line
     line = one_line_error(run("link", "--dem", DEM, "--land-cover-classes", toml, *PATH))
     assert "--land-cover" in line
+    line = one_line_error(run("network", "--sites", sites_file(tmp_path), "--dem", DEM, "--land-cover", COVER,
+                              "--land-cover-classes", toml, "--no-progress"))
+    assert "land-cover code" in line and str(toml) in line
 
 
 def test_mast_with_land_cover_needs_more_than_without():
