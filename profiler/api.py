@@ -94,7 +94,7 @@ def link(site_a=None, site_b=None, *, dem=None, profile_csv=None, mast_a_m: floa
     Returns
     -------
     LinkResult
-        ``result.to_dict()`` is the ``profiler.link/4`` JSON report; ``result.profile`` holds the
+        ``result.to_dict()`` is the ``profiler.link/5`` JSON report; ``result.profile`` holds the
         per-sample arrays (``distance_m``, ``terrain_m``, ``bulge_m``, ``los_m``, ``fresnel_radius_m``,
         ``clearance_m``, ...).
     """

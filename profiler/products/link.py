@@ -2,7 +2,7 @@
 
 :func:`analyze_link` is the one Python call behind ``profiler link``.  It
 returns a :class:`LinkResult` whose :meth:`LinkResult.to_dict` is exactly the
-JSON report (schema ``profiler.link/4``).
+JSON report (schema ``profiler.link/5``).
 """
 
 from __future__ import annotations
@@ -27,7 +27,7 @@ from ..propagation import diffraction, geometry
 from ..propagation.free_space import NEAR_FIELD_RULE_OF_THUMB_M, NEAR_FIELD_WAVELENGTHS, wavelength_m
 from ..terrain.profile import TerrainProfile
 
-SCHEMA = "profiler.link/4"
+SCHEMA = "profiler.link/5"
 
 
 @dataclass(frozen=True)
@@ -235,8 +235,8 @@ def analyze_link(profile: TerrainProfile, *, mast_a_m: float = 10.0, mast_b_m: f
     date = date or _dt.date.today()
     ends = end_blocks(rr, radio.gateway, plan)
     return LinkResult(
-        site_a=_site(name_a, site_a, terrain[0], mast_a),
-        site_b=_site(name_b, site_b, terrain[-1], mast_b),
+        site_a={**_site(name_a, site_a, terrain[0], mast_a), **rr["terminals"]["a"]},
+        site_b={**_site(name_b, site_b, terrain[-1], mast_b), **rr["terminals"]["b"]},
         frequency_mhz=float(frequency_mhz), band=band, wavelength_m=lam, k_factor=k,
         effective_radius_m=ae, distance_m=total,
         azimuth_a_to_b_deg=profile.azimuth_a_to_b_deg, azimuth_b_to_a_deg=profile.azimuth_b_to_a_deg,
