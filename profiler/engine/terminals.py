@@ -78,7 +78,7 @@ def _end(radio, end, n_links, given, paths, n):
     r = np.full(n_links, np.nan if height is None else float(height))
     site_cls = given.get("clutter_index")
     if site_cls is not None:
-        site_cls = np.asarray(site_cls)
+        site_cls = np.asarray(site_cls).astype(np.int64)
         defaults = np.array([default_height_m(c, prop.model) for c in CLUTTER_CLASSES])
         site_r = np.asarray(given.get("clutter_height_m", np.full(n_links, np.nan)), dtype=float)
         site_r = np.where(np.isfinite(site_r), site_r, defaults[np.maximum(site_cls, 0)])
@@ -96,7 +96,8 @@ def _end(radio, end, n_links, given, paths, n):
     indoor = np.full(n_links, -1 if indoor_option is None else building_entry.BUILDING_TYPES.index(indoor_option))
     site_indoor = given.get("indoor_index")
     if site_indoor is not None:
-        indoor = np.where(np.asarray(site_indoor) >= 0, site_indoor, indoor)
+        site_indoor = np.asarray(site_indoor).astype(np.int64)
+        indoor = np.where(site_indoor >= 0, site_indoor, indoor)
     extra = np.full(n_links, float(getattr(radio, f"extra_loss_{end}_db")))
     site_extra = given.get("extra_loss_db")
     if site_extra is not None:
