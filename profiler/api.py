@@ -268,7 +268,7 @@ def network(sites, *, dem, pairs=None, max_distance_km: float = 50.0, k_factor="
     Returns
     -------
     profiler.products.network.NetworkResult
-        ``result.to_dict()`` is the ``profiler.network/4`` JSON report (``links``, ``nodes``, ``sites``,
+        ``result.to_dict()`` is the ``profiler.network/3`` JSON report (``links``, ``nodes``, ``sites``,
         ``summary`` as attributes too).
     """
     from .products.network import network as _network
@@ -317,7 +317,7 @@ def siting(sites, *, dem, redundancy: int = 1, min_margin_db: float | None = Non
     -------
     profiler.products.siting.report.SitingResult
         ``result.to_dict()`` is the ``profiler.siting/1`` JSON report; ``result.network`` the
-        ``profiler.network/4`` report it was solved over.
+        ``profiler.network/3`` report it was solved over.
     """
     from .products.siting.report import SitingResult, siting_from_network
 

@@ -100,7 +100,8 @@ LIMITS: dict[str, Limit] = {
     # terminal clutter: R above 0 and at most the land cover's highest (profiler.terrain.landcover.MAX_CLUTTER_HEIGHT_M)
     "--clutter-height-a-m": Limit(0.0, 100.0, "m", "clutter height at A", low_open=True),
     "--clutter-height-b-m": Limit(0.0, 100.0, "m", "clutter height at B", low_open=True),
-    "--terminal-clutter-m": Limit(0.0, 10_000.0, "m", "reach of a terminal's clutter along the path"),
+    "--terminal-clutter-m": Limit(0.0, 10_000.0, "m", "reach of a terminal's clutter along the path",
+                                  low_open=True),
     # propagation model (ITU-R P.1812-8 section 1: 1-50 % of time, 1-99 % of locations)
     "--time-percent": Limit(1.0, 50.0, "%", "time percentage"),
     "--location-percent": Limit(1.0, 99.0, "%", "location percentage"),

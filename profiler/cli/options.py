@@ -340,7 +340,7 @@ def propagation_settings(kw):
             and ctx.get_parameter_source("k_text") in (ParameterSource.COMMANDLINE, ParameterSource.ENVIRONMENT):
         raise ProfilerError("give either --k or --delta-n, not both: each sets the effective Earth radius "
                             "(k = 157 / (157 - delta-n))")
-    return PropagationSettings(**values)
+    return PropagationSettings(**values).validate()   # before any terrain is read
 
 
 def radio_settings(kw):

@@ -178,7 +178,12 @@ class PropagationSettings:
         return self
 
     def _check_terminals(self) -> None:
-        """Refuse an unknown clutter class or building type, and a clutter height without its class."""
+        """Refuse an unknown clutter class or building type, a clutter height without its class, and
+        ``--clutter-statistics`` with ``--model p1812``."""
+        if self.model == "p1812" and self.clutter_statistics:
+            raise ProfilerError("--clutter-statistics is for --model terrain (ITU-R P.2108-1 section 3.2); "
+                                "P.1812-8 carries the clutter in its profile: add --model terrain or leave "
+                                "--clutter-statistics out")
         from ..propagation.building_entry import BUILDING_TYPES
         from ..terrain.landcover import clutter_index
 
@@ -214,9 +219,7 @@ class PropagationSettings:
         if self.model is None:
             return replace(self, model="p1812" if has_coordinates else "terrain").resolved(has_coordinates)
         if self.model == "p1812" and self.clutter_statistics:
-            raise ProfilerError("--clutter-statistics is for --model terrain (ITU-R P.2108-1 section 3.2); "
-                                "P.1812-8 carries the clutter in its profile: add --model terrain or leave "
-                                "--clutter-statistics out")
+            self._check_terminals()
         if self.model == "p1812" and not has_coordinates:
             raise ProfilerError("--model p1812 needs the latitude and longitude of both terminals: with --profile "
                                 "add --site-a LAT,LON and --site-b LAT,LON, or use --model terrain")

@@ -8,7 +8,7 @@ chunks); the chunks run in-process, on a local Dask cluster
 Gateways (and candidate sites) are end A of every link, nodes end B.
 
 The report (:meth:`NetworkResult.to_dict`) is the JSON contract
-``profiler.network/4``.
+``profiler.network/3``.
 """
 
 from __future__ import annotations
@@ -28,7 +28,7 @@ from ..lora.bands import resolve_frequency_mhz
 from ..propagation import geometry
 from ..propagation.free_space import wavelength_m
 
-SCHEMA = "profiler.network/4"
+SCHEMA = "profiler.network/3"
 
 LINK_FLOAT_KEYS = ("distance_m", "azimuth_deg", "worst_fresnel_ratio", "worst_distance_m", "diffraction_db",
                    "total_loss_db", "margin_db", "downlink_margin_db", "max_margin_db")
@@ -127,7 +127,7 @@ def _chunk_job(idx, *, settings, sites_arrays, model=None):
 
 @dataclass(frozen=True)
 class NetworkResult:
-    """The network report; :meth:`to_dict` is the JSON contract ``profiler.network/4``."""
+    """The network report; :meth:`to_dict` is the JSON contract ``profiler.network/3``."""
 
     sites: list
     links: list

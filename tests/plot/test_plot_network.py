@@ -56,7 +56,7 @@ def _best(links, node, role_of, role):
 
 
 def network_report(sites=SITES, links=LINKS) -> dict:
-    """A profiler.network/4 report (the keys of the contract; numbers not read by the sheet left out):
+    """A profiler.network/3 report (the keys of the contract; numbers not read by the sheet left out):
     existing gateways and candidate sites counted apart, as docs/network.md defines them."""
     node_names = [name for name, _, role in sites if role == "node"]
     role_of = {name: role for name, _, role in sites}
@@ -73,7 +73,7 @@ def network_report(sites=SITES, links=LINKS) -> dict:
                       "best_candidate_margin_db": bcm, "best_candidate_recommended_dr": None})
     by_gw = sum(1 for nd in nodes if nd["gateways_heard"])
     return {
-        "schema": "profiler.network/4", "tool_version": "0.1.0", "band": "EU868", "frequency_mhz": 868.1,
+        "schema": "profiler.network/3", "tool_version": "0.1.0", "band": "EU868", "frequency_mhz": 868.1,
         "k_factor": 4.0 / 3.0, "fade_margin_db": FADE_DB,
         "sites": [{"name": n, "lat_deg": ll[0], "lon_deg": ll[1], "mast_m": 2.0, "role": r, "ground_m": 300.0}
                   for n, ll, r in sites],
@@ -116,7 +116,7 @@ def _svg_texts(path):
 # --------------------------------------------------------------------------- status
 def test_link_status_follows_the_contract_thresholds(report):
     """closes: margin >= fade margin; marginal: 0 <= margin < fade; fails: < 0; error: error set
-    (the profiler.network/4 contract and the map of docs/network.md), boundaries included."""
+    (the profiler.network/3 contract and the map of docs/network.md), boundaries included."""
     assert link_status(report["links"], FADE_DB) == EXPECTED
     assert link_status([{"margin_db": 9.999, "error": None}], FADE_DB) == ["marginal"]
     assert link_status([{"margin_db": -1e-9, "error": None}], FADE_DB) == ["fails"]

@@ -1,6 +1,6 @@
 """Gateway siting over a network report: margin matrix, ``profiler.siting/1`` report, CSV and GeoJSON.
 
-The network engine's report (``profiler.network/4``) gives ``sites[]``
+The network engine's report (``profiler.network/3``) gives ``sites[]``
 (``name, lat_deg, lon_deg, mast_m, role, ground_m``; role ``gateway`` =
 existing, always kept; ``candidate`` = may get a gateway; ``node`` = must be
 heard; an optional ``cost`` on candidates) and ``links[]`` (``gateway,
@@ -68,7 +68,7 @@ class MarginMatrix(NamedTuple):
 class SitingResult:
     """The answer of :func:`profiler.siting`: :meth:`to_dict` is the ``profiler.siting/1`` JSON report.
 
-    ``network`` is the ``profiler.network/4`` report the choice was made
+    ``network`` is the ``profiler.network/3`` report the choice was made
     over (every gateway and candidate site to every node); the sheet and the
     GeoJSON/KML exports draw the sites and links from it.  The headline
     values are read-only views of the report.
@@ -191,7 +191,7 @@ def siting_from_network(network_report: dict, *, min_margin_db: float, redundanc
     Parameters
     ----------
     network_report : dict
-        The network engine's report (``profiler.network/4``), links from
+        The network engine's report (``profiler.network/3``), links from
         every gateway and candidate site to the nodes.
     min_margin_db : float
         Least uplink margin for a node to count as heard [dB]; the command
