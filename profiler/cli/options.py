@@ -292,7 +292,7 @@ def model_option_list():
 def terminal_option_list():
     """The terminal options (clutter and indoor ends, :mod:`profiler.engine.terminals`), new on each call."""
     from ..propagation.building_entry import BUILDING_TYPES
-    from ..propagation.p2108 import CLUTTER_CLASSES   # the land cover's classes, without importing rasterio
+    from ..propagation.p2108 import CLUTTER_CLASSES  # the land cover's classes, without importing rasterio
 
     options = []
     for end in ("a", "b"):

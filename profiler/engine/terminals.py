@@ -124,7 +124,7 @@ def terminal_ends(radio, n_links, paths=None, overrides=None, n=None) -> dict:
         the class's default), ``indoor_index`` (-1: the option) and
         ``extra_loss_db`` [dB] (NaN: the option).
     n : ndarray of int, shape (L,), optional
-        Samples per link (the land cover's end sample of B is ``n - 1``).
+        Samples per link [-] (the land cover's end sample of B is ``n - 1``).
 
     Returns
     -------
@@ -175,7 +175,7 @@ def p1812_clutter(d, n, clutter_m, ends, terminal_clutter_m):
     d : ndarray, shape (L, N)
         Distance from A [m].
     n : ndarray of int, shape (L,)
-        Samples per link.
+        Samples per link [-].
     clutter_m : ndarray, shape (L, N)
         R of every sample without the overrides [m] (zeros without a land cover).
     ends : dict

@@ -16,11 +16,10 @@ import json
 import pytest
 from click.testing import CliRunner
 from sample_sites import DEM, GATEWAY, PUMP, TANK
+from test_model_options import MISSING_DEM, command_args, one_line_error
 
 from profiler.cli import main
 from profiler.products.sites import read_sites_csv
-
-from test_model_options import MISSING_DEM, command_args, one_line_error
 
 HEADER = "name,lat_deg,lon_deg,mast_m,role,clutter,clutter_height_m,indoor,extra_loss_db\n"
 
