@@ -129,3 +129,29 @@ def test_coverage_node_in_clutter_loses_margin(tmp_path):
 
     plain, urban = margins(), margins("--clutter-b", "urban")
     assert urban["summary"] != plain["summary"]
+
+
+def test_coverage_takes_the_gateway_rows_terminal_columns(tmp_path):
+    # A gateway row's extra_loss_db and indoor type are end A's: the path loss of every pixel rises by the
+    # extra loss plus ITU-R P.2109-1 at that pixel's elevation angle (> 0), the received level falls by the same
+    # (the margin is that of the recommended data rate, which may change).
+    import numpy as np
+
+    import profiler
+    from profiler.engine.model import PropagationSettings
+    from profiler.engine.radio import RadioSettings
+
+    def bands(row_tail):
+        path = tmp_path / "gw.csv"
+        path.write_text(HEADER + f"Cairnfell Beacon,{GATEWAY[0]},{GATEWAY[1]},10,gateway,{row_tail}\n")
+        result = profiler.coverage(sites=str(path), dem=str(DEM[0]), radius_km=1.0, resolution_m=200.0,
+                                   radio=RadioSettings(propagation=PropagationSettings(model="terrain")),
+                                   progress=False)
+        return result.bands
+
+    plain, inside = bands(",,,"), bands(",,traditional,4")
+    ok = np.isfinite(plain["path_loss_db"]) & np.isfinite(inside["path_loss_db"])
+    assert ok.sum() > 10
+    rise = inside["path_loss_db"][ok] - plain["path_loss_db"][ok]
+    assert np.all(rise > 4.0)
+    assert np.allclose(plain["rx_level_dbm"][ok] - inside["rx_level_dbm"][ok], rise, atol=1e-3)
