@@ -630,6 +630,8 @@ def radio_results(d, terrain, h_a, h_b, frequency_mhz, ae, radio: RadioSettings,
     .. [1] ITU-R P.525-4 Annex 1 section 2.2; ITU-R P.452-18 section 4.2;
        LoRa Alliance RP002-1.0.4 (as :func:`radio_batch`).
     """
+    from .terminals import terminal_report, terminal_warnings
+
     d2 = np.asarray(d, dtype=float)[None, :]
     rb = radio_batch(d2, np.asarray(terrain, dtype=float)[None, :], np.array([d2.shape[1]]),
                      np.array([float(h_a)]), np.array([float(h_b)]), frequency_mhz, ae, radio, plan, paths=paths)
@@ -646,12 +648,10 @@ def radio_results(d, terrain, h_a, h_b, frequency_mhz, ae, radio: RadioSettings,
     compliance = lorawan.compliance_block(plan, ends0, rb["dwell_ms"], rb["cap_notes"])
     if compliance["eirp_ok"] is False:
         warnings += [n for n in compliance["notes"] if "above the" in n]
-    warnings += _terminal_warnings(rb["terminals"][frequency_mhz], radio)
+    warnings += terminal_warnings(rb["terminals"][frequency_mhz], radio)
     named = rb["p1812"].get(frequency_mhz)
     p1812 = None if named is None else {k: (bool(v[0]) if v.dtype == bool else float(v[0]))
                                         for k, v in ((k, np.asarray(v)) for k, v in named.items())}
-    from .terminals import terminal_report
-
     return {"loss_db": loss, "p1812": p1812,
             "terminals": terminal_report(rb["terminals"][frequency_mhz]["ends"], 0, radio.propagation.model),
             "budget": _budget_block(rb, "uplink", 0, fade, frequency_mhz, source),
@@ -659,17 +659,3 @@ def radio_results(d, terrain, h_a, h_b, frequency_mhz, ae, radio: RadioSettings,
             "lora": lora, "compliance": compliance, "ends": ends0,
             "slant_distance_m": float(slant_distance_m(d2[0, -1], h_a, h_b)), "warnings": warnings}
 
-
-def _terminal_warnings(info, radio) -> list:
-    """What the terminal terms of a batch of one left out (section 3.2 out of range, no sample near an end)."""
-    warnings = []
-    for end in ("a", "b"):
-        if bool(np.asarray(info[f"skipped_{end}"])[0]):
-            warnings.append(f"ITU-R P.2108-1 section 3.2 left out at end {end.upper()}: it covers paths of 0.25 km "
-                            "or more, and both ends only from 1 km (the node's end is kept)")
-        source = int(info["ends"][end]["source"][0])
-        if radio.propagation.model == "p1812" and source in (1, 2) and int(np.asarray(info[f"near_{end}"])[0]) == 0:
-            warnings.append(f"no profile sample within --terminal-clutter-m {radio.propagation.terminal_clutter_m:g} "
-                            f"m of end {end.upper()}: its clutter class only sets the location variability; use a "
-                            "finer --step-m or a larger --terminal-clutter-m")
-    return warnings

@@ -362,3 +362,32 @@ def terminal_report(ends, i, model) -> dict:
                     "indoor": building_entry.BUILDING_TYPES[indoor] if indoor >= 0 else None,
                     "extra_loss_db": float(e["extra_loss_db"][i])}
     return out
+
+
+def terminal_warnings(info, radio) -> list:
+    """What the terminal terms of a batch of one left out, as the link report's warnings.
+
+    Parameters
+    ----------
+    info : dict
+        The ``terminals`` block of :func:`profiler.engine.losses.path_loss_batch` (one link).
+    radio : profiler.engine.radio.RadioSettings
+        The run's settings.
+
+    Returns
+    -------
+    list of str
+        Section 3.2 of ITU-R P.2108-1 left out at an end (path too short), and
+        a P.1812 override with no profile sample within ``--terminal-clutter-m``.
+    """
+    warnings = []
+    for end in ("a", "b"):
+        if bool(np.asarray(info[f"skipped_{end}"])[0]):
+            warnings.append(f"ITU-R P.2108-1 section 3.2 left out at end {end.upper()}: it covers paths of 0.25 km "
+                            "or more, and both ends only from 1 km (the node's end is kept)")
+        source = int(info["ends"][end]["source"][0])
+        if radio.propagation.model == "p1812" and source in (1, 2) and int(np.asarray(info[f"near_{end}"])[0]) == 0:
+            warnings.append(f"no profile sample within --terminal-clutter-m {radio.propagation.terminal_clutter_m:g} "
+                            f"m of end {end.upper()}: its clutter class only sets the location variability; use a "
+                            "finer --step-m or a larger --terminal-clutter-m")
+    return warnings

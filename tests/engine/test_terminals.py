@@ -162,3 +162,16 @@ def test_short_path_leaves_section_3_2_out_with_a_warning():
                           np.array([100.0, 100.0]), np.array([100.0, 2000.0]), ends, radio)
     assert out["clutter_b"][0] == 0 and out["skipped_b"][0]
     assert out["clutter_b"][1] == pytest.approx(float(p2108.terrestrial_clutter_loss_db(0.868, 2.0, 50.0)))
+
+
+def test_p1812_override_without_a_sample_near_the_end_says_so():
+    # --step-m 100: no interior sample within 50 m of B, so the class only reaches u(h) of sigma_L.
+    coarse = link("--model", "p1812", "--mast-b", "1.5", "--step-m", "100", "--clutter-b", "urban")
+    plain = link("--model", "p1812", "--mast-b", "1.5", "--step-m", "100")
+    assert coarse["loss_db"]["basic_transmission"] == pytest.approx(plain["loss_db"]["basic_transmission"])
+    said = [w for w in coarse["warnings"] if "--terminal-clutter-m" in w]
+    assert len(said) == 1 and "end B" in said[0]
+    near = link("--model", "p1812", "--mast-b", "1.5", "--step-m", "100", "--clutter-b", "urban",
+                "--terminal-clutter-m", "150")
+    assert not [w for w in near["warnings"] if "--terminal-clutter-m" in w]
+    assert near["loss_db"]["basic_transmission"] > plain["loss_db"]["basic_transmission"]
