@@ -19,7 +19,9 @@ coverage): :func:`profiler.engine.losses.path_loss_batch` calls
   dense-urban) gets the statistical clutter loss of section 3.2 at the
   location percentage instead (the path at the antenna's own height); an end
   in water, open land or trees keeps section 3.1 (section 3.2 is a model of
-  urban and suburban clutter).  Never both at one end.  Out of range:
+  urban and suburban clutter).  Never both at one end.  An antenna at
+  ground level (0 m) in clutter has no section 3.1 value (h > 0): its loss
+  is not a number, which a link refuses and a batch reports in that row.  Out of range:
   section 3.1 outside 0.03-3 GHz, or section 3.2 outside 0.5-67 GHz, is
   refused in one line; a link shorter than 0.25 km gets no section 3.2
   term (and a warning); one shorter than 1 km gets it at the node's end
@@ -85,9 +87,9 @@ def _end(radio, end, n_links, given, paths, n):
         r = np.where(site_cls >= 0, site_r, r)
         source = np.where(site_cls >= 0, 2, source)
         cls = np.where(site_cls >= 0, site_cls, cls)
-    land_cls = _end_column(paths.get("clutter_class"), n, end) if paths else None
-    land_r = _end_column(paths.get("clutter_m"), n, end) if paths else None
-    if land_cls is not None and n is not None:
+    land_cls = _end_column(paths.get("clutter_class"), n, end) if paths and n is not None else None
+    land_r = _end_column(paths.get("clutter_m"), n, end) if paths and n is not None else None
+    if land_cls is not None:
         use = (cls < 0) & (land_cls >= 0)
         cls = np.where(use, land_cls, cls)
         r = np.where(use, np.nan if land_r is None else land_r, r)
@@ -273,7 +275,7 @@ def terrain_clutter(frequency_mhz, h_a, h_b, ground_a, ground_b, length_m, ends,
         gain = inside & ~stats[end]
         _frequency_check(f_ghz, gain, p2108.HEIGHT_GAIN_FREQUENCY_GHZ, "ITU-R P.2108-1 section 3.1")
         _frequency_check(f_ghz, stats[end], p2108.STATISTICAL_FREQUENCY_GHZ, "ITU-R P.2108-1 section 3.2")
-        a_h = p2108.height_gain_correction_db(f_ghz, np.maximum(above, 1e-3), names[np.maximum(cls, 0)],
+        a_h = p2108.height_gain_correction_db(f_ghz, above, names[np.maximum(cls, 0)],
                                               np.where(np.isfinite(r), r, 1.0))
         out[f"h_{end}"] = np.where(gain, ground + np.where(np.isfinite(r), r, 0.0), h)
         out[f"clutter_{end}"] = np.where(gain, a_h, 0.0)

@@ -155,3 +155,10 @@ def test_coverage_takes_the_gateway_rows_terminal_columns(tmp_path):
     rise = inside["path_loss_db"][ok] - plain["path_loss_db"][ok]
     assert np.all(rise > 4.0)
     assert np.allclose(plain["rx_level_dbm"][ok] - inside["rx_level_dbm"][ok], rise, atol=1e-3)
+
+
+def test_antenna_at_ground_level_in_clutter_is_refused_in_one_line():
+    # P.2108-1 section 3.1 is defined for h > 0 (eq. 2b: log10(h / R)): no number, one line, no traceback.
+    res = run("link", "--dem", DEM[0], "--site-a", f"{GATEWAY[0]},{GATEWAY[1]}", "--site-b", f"{TANK[0]},{TANK[1]}",
+              "--mast-b", "0", "--model", "terrain", "--clutter-b", "open", "--json", "-")
+    assert "loss_db.total" in one_line_error(res)
