@@ -95,6 +95,13 @@ LIMITS: dict[str, Limit] = {
     "--app-payload-bytes": Limit(0, 255, "bytes", "application payload", integer=True),
     "--sea-fraction": Limit(0.0, 1.0, "", "fraction of the path over sea"),
     "--extra-loss-db": Limit(0.0, 300.0, "dB", "fixed extra loss"),
+    "--extra-loss-a-db": Limit(0.0, 300.0, "dB", "fixed extra loss at A"),
+    "--extra-loss-b-db": Limit(0.0, 300.0, "dB", "fixed extra loss at B"),
+    # terminal clutter: R above 0 and at most the land cover's highest (profiler.terrain.landcover.MAX_CLUTTER_HEIGHT_M)
+    "--clutter-height-a-m": Limit(0.0, 100.0, "m", "clutter height at A", low_open=True),
+    "--clutter-height-b-m": Limit(0.0, 100.0, "m", "clutter height at B", low_open=True),
+    "--terminal-clutter-m": Limit(0.0, 10_000.0, "m", "reach of a terminal's clutter along the path",
+                                  low_open=True),
     # propagation model (ITU-R P.1812-8 section 1: 1-50 % of time, 1-99 % of locations)
     "--time-percent": Limit(1.0, 50.0, "%", "time percentage"),
     "--location-percent": Limit(1.0, 99.0, "%", "location percentage"),

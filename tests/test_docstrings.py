@@ -57,6 +57,7 @@ PHYSICS_MODULES = [
     "profiler.engine.losses",
     "profiler.engine.model",
     "profiler.engine.probability",
+    "profiler.engine.terminals",
 ]
 
 # Modules of formulas and published rules (physical quantities, regional

@@ -238,8 +238,8 @@ def analyze_link(profile: TerrainProfile, *, mast_a_m: float = 10.0, mast_b_m: f
     date = date or _dt.date.today()
     ends = end_blocks(rr, radio.gateway, plan)
     return LinkResult(
-        site_a=_site(name_a, site_a, terrain[0], mast_a),
-        site_b=_site(name_b, site_b, terrain[-1], mast_b),
+        site_a={**_site(name_a, site_a, terrain[0], mast_a), **rr["terminals"]["a"]},
+        site_b={**_site(name_b, site_b, terrain[-1], mast_b), **rr["terminals"]["b"]},
         frequency_mhz=float(frequency_mhz), band=band, wavelength_m=lam, k_factor=k,
         effective_radius_m=ae, distance_m=total,
         azimuth_a_to_b_deg=profile.azimuth_a_to_b_deg, azimuth_b_to_a_deg=profile.azimuth_b_to_a_deg,
