@@ -65,7 +65,10 @@ def test_land_cover_run_is_exactly_the_same_path_as_a_profile(tmp_path, model):
     cover = report_of("link", "--dem", DEM, "--land-cover", COVER, *PATH, *opts)
     assert cover["schema"] == "profiler.link/5"
     assert any(h > 0 for h in cover["profile"]["clutter_height_m"])
-    surveyed = report_of("link", "--profile", profile_csv(cover, tmp_path / "p.csv"), *PATH, *opts)
+    # Under --model terrain the land cover's class at each end gives that terminal's P.2108 section 3.1
+    # correction (issue 20 item 2); a surveyed profile has heights only, so it names the end classes.
+    ends = end_class_options(cover) if opts[1] == "terrain" else []
+    surveyed = report_of("link", "--profile", profile_csv(cover, tmp_path / "p.csv"), *PATH, *opts, *ends)
     assert surveyed["model"] == cover["model"] == opts[1]
     for key in ("free_space", "diffraction", "combination", "location", "basic_transmission", "total"):
         assert surveyed["loss_db"][key] == cover["loss_db"][key], key
@@ -105,10 +108,23 @@ def test_terrain_model_heights_and_a_class_file(tmp_path):
     assert custom["land_cover"]["classes"] == {"source": "file", "path": str(toml), "sha256": digest}
 
 
+def end_class_options(report):
+    """--clutter-a/-b and their heights: the classes and R of a report's end samples (none: no option)."""
+    prof, out = report["profile"], []
+    for end, i in (("a", 0), ("b", -1)):
+        if prof["clutter_class"][i] is not None:
+            out += [f"--clutter-{end}", prof["clutter_class"][i], f"--clutter-height-{end}-m",
+                    repr(prof["clutter_height_m"][i])]
+    return out
+
+
 def test_terrain_model_path_loss_does_not_change_with_the_land_cover():
-    # Issue 20 item 2: with --model terrain the profile's clutter only feeds the terminal correction.
-    without = report_of("link", "--dem", DEM, *PATH, "--model", "terrain")
+    # Issue 20 item 2: with --model terrain the profile's clutter only feeds the terminal correction, so the
+    # run equals a run without land cover whose ends carry the land cover's classes.
     with_cover = report_of("link", "--dem", DEM, "--land-cover", COVER, *PATH, "--model", "terrain")
+    ends = end_class_options(with_cover)
+    assert ends
+    without = report_of("link", "--dem", DEM, *PATH, "--model", "terrain", *ends)
     assert with_cover["loss_db"]["total"] == without["loss_db"]["total"]
 
 
