@@ -410,7 +410,19 @@ def _loss_rows(report: dict) -> list[tuple]:
         rows = [("Diffraction method", clean(loss.get("diffraction_method") or DASH)),
                 ("Free-space loss", loss_db_text(loss.get("free_space"))),
                 ("Diffraction loss", loss_db_text(loss.get("diffraction")))]
-    return rows + [("Other losses", loss_db_text(other)), ("Total path loss", loss_db_text(loss.get("total")))]
+    return rows + _terminal_rows(loss) + [("Other losses", loss_db_text(other)),
+                                          ("Total path loss", loss_db_text(loss.get("total")))]
+
+
+#: The per-end loss_db terms of a terminal (issue 20), each on its own row when not zero.
+TERMINAL_ROWS = (("clutter", "Clutter at {end}"), ("building_entry", "Building entry at {end}"),
+                 ("extra", "Extra loss at {end}"))
+
+
+def _terminal_rows(loss: dict) -> list[tuple]:
+    """Rows for the terminal terms (clutter correction, building entry, fixed extra loss per end) that are not 0."""
+    return [(label.format(end=end.upper()), loss_db_text(loss[f"{key}_{end}"]))
+            for key, label in TERMINAL_ROWS for end in ("a", "b") if loss.get(f"{key}_{end}")]
 
 
 def _budget_rows(report: dict) -> list[tuple]:

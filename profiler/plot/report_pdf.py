@@ -207,7 +207,11 @@ LOSS_LABELS = {"model": "Model", "free_space": "Free space", "diffraction": "Dif
                "polarization": "Polarization", "total": "Total", "diffraction_method": "Diffraction method",
                "knife_edge": "Single knife edge", "bullington": "Bullington", "delta_bullington": "Delta-Bullington",
                "spherical_earth": "Spherical Earth", "smooth_surface_height_a": "Smooth-Earth height of A",
-               "smooth_surface_height_b": "Smooth-Earth height of B"}
+               "smooth_surface_height_b": "Smooth-Earth height of B",
+               "clutter_a": "Clutter at A (P.2108-1)", "clutter_b": "Clutter at B (P.2108-1)",
+               "building_entry_a": "Building entry at A (P.2109-1)",
+               "building_entry_b": "Building entry at B (P.2109-1)",
+               "extra_a": "Extra loss at A", "extra_b": "Extra loss at B"}
 
 
 #: ``loss_db`` keys the terrain model's table leaves out: always 0 or equal to free space + diffraction there.

@@ -267,3 +267,36 @@ def test_coverage_sheet_states_the_model(model):
         problems = layout_problems(fig)
         assert problems == [], "\n".join(str(p) for p in problems[:10])
         assert _model_texts(fig) == [_expected(model, settings)]
+
+
+@pytest.mark.parametrize("model", MODELS)
+@pytest.mark.parametrize("paper", ["a4", "letter"])
+def test_link_sheet_shows_every_terminal_term(tmp_path, model, paper):
+    # Issue 20: each terminal term (P.2108 clutter correction, P.2109 building entry, fixed extra loss per end)
+    # is on the sheet under its own name, equal to the JSON, and the rows add up to the total.
+    from click.testing import CliRunner
+
+    from profiler.cli import main
+    from profiler.plot.link import _budget_rows, build_link_figure
+
+    out = tmp_path / "r.json"
+    args = ["link", "--dem", "dem_samples", "--site-a", "-29.9125,-19.955", "--site-b", "-29.9,-19.825",
+            "--model", model, "--clutter-b", "urban", "--indoor-b", "traditional", "--indoor-a", "thermally-efficient",
+            "--extra-loss-a-db", "2", "--extra-loss-b-db", "3", "--json", str(out)]
+    assert CliRunner().invoke(main, args).exit_code == 0
+    report = json.loads(out.read_text())
+    loss = report["loss_db"]
+    rows = dict(_budget_rows(report))
+    terms = {"Building entry at A": "building_entry_a", "Building entry at B": "building_entry_b",
+             "Extra loss at A": "extra_a", "Extra loss at B": "extra_b",
+             **({"Clutter at B": "clutter_b"} if model == "terrain" else {})}
+    for label, key in terms.items():
+        assert loss[key] > 0 and rows[label] == _shown(loss[key]), label
+    ends = sum(loss[f"{k}_{e}"] for k in ("clutter", "building_entry", "extra") for e in "ab")
+    assert loss["basic_transmission"] + ends + loss["extra"] + loss["polarization"] == \
+        pytest.approx(loss["total"], abs=1e-9)
+    fig = build_link_figure(report, paper=paper, dpi=100)
+    drawn = [t.get_text() for t in drawn_texts(fig)]
+    assert all(label in drawn for label in terms)
+    problems = layout_problems(fig)
+    assert problems == [], "\n".join(str(p) for p in problems[:10])
