@@ -129,6 +129,24 @@ def cell_medians(cell, values) -> np.ndarray:
     return np.where(counts > 0, med, np.nan)
 
 
+def cell_summary(gateway, lat_deg, lon_deg, residual_db, distance_m, line_of_sight, clutter, cell_m: float) -> dict:
+    """One value per location cell of compared measurements (all arrays of one element per measurement).
+
+    Returns
+    -------
+    dict
+        ``cell`` (index per measurement), and per cell: ``residual_db``,
+        ``distance_m`` (medians), ``line_of_sight`` (the majority),
+        ``clutter`` and ``gateway`` (of the cell's first measurement).
+    """
+    gateway = list(gateway)
+    cell = location_cells(gateway, lat_deg, lon_deg, cell_m)
+    first = np.unique(cell, return_index=True)[1]
+    return {"cell": cell, "residual_db": cell_medians(cell, residual_db), "distance_m": cell_medians(cell, distance_m),
+            "line_of_sight": cell_medians(cell, np.asarray(line_of_sight, float)) > 0.5,
+            "clutter": [clutter[j] or None for j in first], "gateway": [gateway[j] for j in first]}
+
+
 def within_cell_sigma_db(cell, residual_db):
     """Location variability seen: the pooled standard deviation of residuals about their cell mean [dB].
 

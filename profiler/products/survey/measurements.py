@@ -185,7 +185,10 @@ def _number(text, column, where):
         raise ProfilerError(f"{where}: {column} {text!r} is not a number; write a decimal number such as "
                             "-112.5") from None
     low, high = NUMBER_COLUMNS[column]
-    if not (math.isfinite(value) and low <= value <= high):
+    if not math.isfinite(value):
+        raise ProfilerError(f"{where}: {column} {text!r} must be a finite number; leave rssi_dbm and snr_db "
+                            "empty for a missed uplink")
+    if not low <= value <= high:
         raise ProfilerError(f"{where}: {column} {text} is out of range; use {low:g} to {high:g}")
     if column in ("dr", "sf") and value != int(value):
         raise ProfilerError(f"{where}: {column} {text} must be a whole number")

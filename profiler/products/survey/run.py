@@ -131,16 +131,12 @@ def _records(meas, res, measured, predicted, residual):
 
 def _statistics(meas, res, residual, cell_m, fit, folds):
     """Cells, statistics, location sigma and the calibration of the compared rows."""
-    ok = np.isfinite(residual)
-    rows = np.flatnonzero(ok)
-    gw = [meas.gateway[i] for i in rows]
-    cell = cal.location_cells(gw, meas.lat_deg[rows], meas.lon_deg[rows], cell_m)
-    first = np.unique(cell, return_index=True)[1]
-    r_cell = cal.cell_medians(cell, residual[rows])
-    d_cell = cal.cell_medians(cell, res["distance_m"][rows])
-    los_cell = cal.cell_medians(cell, res["line_of_sight"][rows].astype(float)) > 0.5
-    clutter = [meas.clutter[rows[j]] or None for j in first]
-    gw_cell = [gw[j] for j in first]
+    rows = np.flatnonzero(np.isfinite(residual))
+    cells = cal.cell_summary([meas.gateway[i] for i in rows], meas.lat_deg[rows], meas.lon_deg[rows],
+                             residual[rows], res["distance_m"][rows], res["line_of_sight"][rows],
+                             [meas.clutter[i] for i in rows], cell_m)
+    cell, r_cell, d_cell = cells["cell"], cells["residual_db"], cells["distance_m"]
+    los_cell, clutter, gw_cell = cells["line_of_sight"], cells["clutter"], cells["gateway"]
     stats = {**cal.residual_stats(r_cell), "by_distance": cal.distance_band_stats(r_cell, d_cell),
              "by_line_of_sight": cal.grouped_stats(r_cell, [bool(x) for x in los_cell], "line_of_sight"),
              "by_clutter": cal.grouped_stats(r_cell, clutter, "clutter"),
