@@ -18,9 +18,10 @@ floor of a 3 dB noise-figure gateway (below the floor the RSSI shows the
 noise and the SNR is negative: RSSI + SNR is the received power, Semtech
 SX1276 datasheet section 5.5.5); an uplink below the SF12 sensitivity is
 written as missed (both cells empty).  ``profiler survey`` on this file
-should give back an offset near +4 dB.  Run from the repository root::
+should give back an offset near +4 dB; the script runs it and draws the
+sheet.  Run from the repository root::
 
-    python examples/make_survey.py          # writes examples/vellmoor_survey.csv
+    python examples/make_survey.py   # writes examples/vellmoor_survey.csv and examples/vellmoor_survey.png
 """
 
 from __future__ import annotations
@@ -68,7 +69,7 @@ def places(rng, lat0, lon0):
     return lat[keep], lon[keep]
 
 
-def main(out=HERE / "vellmoor_survey.csv"):
+def main(out=HERE / "vellmoor_survey.csv", figure=HERE / "vellmoor_survey.png"):
     rng = np.random.default_rng(SEED)
     sites = read_sites_csv(HERE / "sites.csv")
     g = sites.index_of(GATEWAY)
@@ -103,6 +104,21 @@ def main(out=HERE / "vellmoor_survey.csv"):
                             f"{TX_POWER_DBM:g}", NODE_MAST_M, clutter[i], f"2026-11-{10 + i // 15:02d}T{9 + j:02d}:{(i * 7) % 60:02d}:00Z"])
     print(f"{out}: {lat.size} places, {int(heard.sum())} uplinks heard, {int((~heard).sum())} missed; "
           f"mean bias drawn {OFFSET_DB + place_term.mean():.2f} dB")
+    draw(out, figure)
+
+
+def draw(measurements, figure):
+    """Run ``profiler survey`` on the sample and draw its sheet (the README picture)."""
+    from profiler import survey
+    from profiler.plot.survey import write_survey_figure
+
+    dem = [str(ROOT / "dem_samples")]
+    report = survey(HERE / "sites.csv", measurements, dem=dem, progress=False).to_dict()
+    write_survey_figure(report, figure, paper="a4", dpi=150, dem_paths=dem,
+                        sheet={"project": "Vellmoor valley test drive", "date": "2026-12-03"})
+    c = report["calibration"]
+    print(f"{figure}: fitted offset {c['offset_db']:+.2f} +/- {c['offset_se_db']:.2f} dB "
+          f"(put in {OFFSET_DB:+.1f} dB), RMSE {c['rmse_before_db']:.2f} -> {c['rmse_after_db']:.2f} dB")
 
 
 if __name__ == "__main__":

@@ -251,8 +251,12 @@ def _map(ax, report, dem_paths) -> None:
     ax.plot(lon[n:], lat[n:], ls="none", marker="^", ms=8, mfc=GATEWAY, mec="white", mew=0.8, zorder=5,
             label="gateway")
     basemap.finish_map(ax, ext)
-    ax.set_xticks([])
-    ax.set_yticks([])
+    from matplotlib.transforms import Bbox
+
+    to_axes = ax.transData + ax.transAxes.inverted()
+    keep_clear = [Bbox([[0.55, 0.8], [1.0, 1.0]])]        # the legend, upper right
+    basemap.place_furniture(ax, ext, to_axes.transform(np.column_stack([lon, lat])), keep_clear)
+    ax.tick_params(labelsize=5.8)
     ax.set_title("Residual map", fontsize=7.5, fontweight="bold", loc="left", pad=4)
     _legend(ax, "upper right")
     bar = ax.figure.colorbar(sc, ax=ax, fraction=0.04, pad=0.02)
