@@ -95,13 +95,14 @@ def main(out=HERE / "vellmoor_survey.csv", figure=HERE / "vellmoor_survey.png"):
     heard = received >= lora_sensitivity_batch_dbm(SF, BW_KHZ, NOISE_FIGURE_DB)
     with open(out, "w", newline="", encoding="utf-8") as fh:
         w = csv.writer(fh, lineterminator="\n")
-        w.writerow(["gateway", "node", "lat_deg", "lon_deg", "rssi_dbm", "snr_db", "sf", "bw_khz", "tx_power_dbm", "node_mast_m",
-                    "clutter", "time"])
+        w.writerow(["gateway", "node", "lat_deg", "lon_deg", "rssi_dbm", "snr_db", "sf", "bw_khz", "tx_power_dbm",
+                    "node_mast_m", "clutter", "time"])
         for i in range(lat.size):       # writing rows of a small sample file
             for j in range(UPLINKS_PER_PLACE):
                 cells = (f"{rssi[i, j]:.0f}", f"{snr[i, j]:.2f}") if heard[i, j] else ("", "")
+                time = f"2026-11-{10 + i // 15:02d}T{9 + j:02d}:{(i * 7) % 60:02d}:00Z"
                 w.writerow([GATEWAY, "test node", f"{lat[i]:.6f}", f"{lon[i]:.6f}", *cells, SF, f"{BW_KHZ:g}",
-                            f"{TX_POWER_DBM:g}", NODE_MAST_M, clutter[i], f"2026-11-{10 + i // 15:02d}T{9 + j:02d}:{(i * 7) % 60:02d}:00Z"])
+                            f"{TX_POWER_DBM:g}", NODE_MAST_M, clutter[i], time])
     print(f"{out}: {lat.size} places, {int(heard.sum())} uplinks heard, {int((~heard).sum())} missed; "
           f"mean bias drawn {OFFSET_DB + place_term.mean():.2f} dB")
     draw(out, figure)

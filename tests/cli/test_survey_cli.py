@@ -24,6 +24,7 @@ def run(*args):
 
 def test_every_output_and_the_summary(tmp_path):
     import csv
+
     import tomllib
 
     out = {k: tmp_path / f"s.{k}" for k in ("json", "csv", "geojson", "toml", "png")}
