@@ -76,3 +76,13 @@ def test_bad_options_are_refused_in_one_line(option, value):
 def test_calibration_out_must_be_toml(tmp_path):
     r = run(*BASE, "--calibration-out", tmp_path / "c.txt")
     assert r.returncode == 2 and ".toml" in r.stderr
+
+
+def test_the_model_options_reach_the_prediction(tmp_path):
+    r = run(*BASE, "--model", "terrain", "--json", tmp_path / "t.json")
+    p = run(*BASE, "--location-percent", "90", "--json", tmp_path / "p.json")
+    assert r.returncode == 0 and p.returncode == 0, r.stderr + p.stderr
+    t, q = json.loads((tmp_path / "t.json").read_text()), json.loads((tmp_path / "p.json").read_text())
+    assert t["settings"]["model"] == "terrain" and q["settings"]["location_percent"] == 90.0
+    # P.1812 at 90 % of locations predicts more loss than at the median: the offset fitted drops
+    assert q["calibration"]["offset_db"] < t["calibration"]["offset_db"] or q["calibration"]["offset_db"] < 3.4

@@ -163,3 +163,92 @@ def test_a_missing_column_is_refused(tmp_path, sites):
     path = _write(tmp_path, [["Cairnfell Beacon", -29.9, -19.8, -110]], header=HEADER[:4])
     with pytest.raises(ProfilerError, match="line 1: missing column snr_db"):
         survey(sites, path, dem=DEM, progress=False)
+
+
+def test_missed_uplinks_are_compared_with_the_prediction(tmp_path, sites):
+    """A missed uplink on a clear path is 'predicted to close'; a received one far below sensitivity the reverse."""
+    from profiler import survey
+
+    rows = [["Cairnfell Beacon", TANK[0], TANK[1], "", "", 1.5, ""],                 # missed, clear path
+            ["Cairnfell Beacon", TANK[0], TANK[1], -100, 5, 1.5, ""]]
+    rep = survey(sites, _write(tmp_path, rows), dem=DEM, progress=False).to_dict()
+    assert rep["heard"]["missed_predicted_to_close"] == 1
+    assert rep["heard"]["received_predicted_not_to_close"] == 0
+
+
+def test_the_row_data_rate_sets_the_sensitivity(tmp_path, sites):
+    """EU868 DR0 is SF12/125 kHz, DR5 SF7/125 kHz (LoRaWAN RP002-1.0.4 section 2.1.3): a path whose predicted
+    received power lies between the two sensitivities closes at DR0 and not at DR5."""
+    from profiler import survey
+    from profiler.lora.modem import lora_sensitivity_batch_dbm
+
+    rows = [["Cairnfell Beacon", PUMP[0], PUMP[1], "", "", 1.5, "", dr] for dr in (0, 5)]
+    rows.append(["Cairnfell Beacon", TANK[0], TANK[1], -100, 5, 1.5, "", ""])      # one received: something to compare
+    rep = survey(sites, _write(tmp_path, rows, header=HEADER + ["dr"]), dem=DEM, band="EU868",
+                 progress=False).to_dict()
+    loss = rep["measurements"][0]["predicted_loss_db"]
+    rx = 13.85 + 2.15 - loss + 2.15          # EU868: the node's default power capped to 16 dBm EIRP
+    s12, s7 = lora_sensitivity_batch_dbm(np.array([12, 7]), 125.0, 3.0)
+    closes = [rx >= s12, rx >= s7]
+    assert rep["heard"]["missed_predicted_to_close"] == sum(closes)
+    bad = _write(tmp_path, [["Cairnfell Beacon", PUMP[0], PUMP[1], "", "", 1.5, "", 9]],
+                 header=HEADER + ["dr"], name="bad.csv")
+    with pytest.raises(ProfilerError, match="line 2: dr 9 is not an uplink data rate of EU868"):
+        survey(sites, bad, dem=DEM, band="EU868", progress=False)
+
+
+def test_the_frequency_column_predicts_at_that_frequency(tmp_path, sites):
+    from profiler import network, survey
+
+    net_sites = tmp_path / "net.csv"
+    net_sites.write_text(SITES + f"tank,{TANK[0]},{TANK[1]},1.5,node\n", encoding="utf-8")
+    net = network(net_sites, dem=DEM, frequency_mhz=433.175, progress=False).to_dict()
+    net868 = network(net_sites, dem=DEM, progress=False).to_dict()
+    rows = [["Cairnfell Beacon", TANK[0], TANK[1], -100, 5, 1.5, "", 433.175],
+            ["Cairnfell Beacon", TANK[0], TANK[1], -100, 5, 1.5, "", ""]]
+    rep = survey(sites, _write(tmp_path, rows, header=HEADER + ["frequency_mhz"]), dem=DEM,
+                 progress=False).to_dict()
+    m = rep["measurements"]
+    assert m[0]["predicted_loss_db"] == pytest.approx(net["links"][0]["total_loss_db"], abs=1e-6)
+    assert m[1]["predicted_loss_db"] == pytest.approx(net868["links"][0]["total_loss_db"], abs=1e-6)
+    assert m[1]["predicted_loss_db"] > m[0]["predicted_loss_db"] + 1
+
+
+def test_measurements_from_records_checks_like_the_file():
+    from profiler.products.survey.measurements import measurements_from_records
+
+    m = measurements_from_records([{"gateway": "G", "lat_deg": -29.9, "lon_deg": -19.8, "rssi_dbm": None,
+                                    "snr_db": None, "clutter": "Trees"}], ["G"])
+    assert not m.heard[0] and m.clutter == ("trees",) and m.node_mast_m[0] == 1.5
+    with pytest.raises(ProfilerError, match="measurement 1: clutter 'forest' is not a clutter class"):
+        measurements_from_records([{"gateway": "G", "lat_deg": 0, "lon_deg": 0, "rssi_dbm": -90, "snr_db": 3,
+                                    "clutter": "forest"}], ["G"])
+
+
+@pytest.mark.parametrize("extra, value, message", [
+    ("time", "yesterday", "line 2: time 'yesterday' is not ISO 8601"),
+    ("indoor", "cellar", "line 2: indoor 'cellar' is not known"),
+    ("sf", "9", "line 2: give sf and bw_khz together"),
+    ("snr_db", "nan", "line 2: snr_db 'nan' must be a finite number"),
+])
+def test_other_malformed_values_are_refused_with_the_line(tmp_path, sites, extra, value, message):
+    from profiler import survey
+
+    header = ["gateway", "lat_deg", "lon_deg", "rssi_dbm", "snr_db"] + ([extra] if extra != "snr_db" else [])
+    row = ["Cairnfell Beacon", TANK[0], TANK[1], -100, 5 if extra != "snr_db" else value]
+    row += [value] if extra != "snr_db" else []
+    with pytest.raises(ProfilerError, match=message):
+        survey(sites, _write(tmp_path, [row], header=header), dem=DEM, progress=False)
+
+
+def test_not_utf8_and_empty_files_are_refused(tmp_path, sites):
+    from profiler import survey
+
+    bad = tmp_path / "latin1.csv"
+    bad.write_bytes("gateway,lat_deg,lon_deg,rssi_dbm,snr_db\nM\xfchle,1,2,3,4\n".encode("latin-1"))
+    with pytest.raises(ProfilerError, match="line 2: not UTF-8"):
+        survey(sites, bad, dem=DEM, progress=False)
+    empty = tmp_path / "empty.csv"
+    empty.write_text("gateway,lat_deg,lon_deg,rssi_dbm,snr_db\n", encoding="utf-8")
+    with pytest.raises(ProfilerError, match="has a header but no rows"):
+        survey(sites, empty, dem=DEM, progress=False)

@@ -5,7 +5,8 @@ One row per uplink a node sent: ``gateway`` (a gateway of the sites file),
 (both empty: a missed uplink, sent and not heard), and the optional
 ``node_mast_m`` (default 1.5 m), ``time`` (ISO 8601), ``dr`` or ``sf`` +
 ``bw_khz``, ``frequency_mhz``, ``tx_power_dbm``, ``node``, ``indoor``,
-``clutter``.  A malformed file is refused whole with the line number
+``clutter`` (one of the clutter classes of
+:data:`profiler.terrain.landcover.CLUTTER_CLASSES`).  A malformed file is refused whole with the line number
 (:class:`~profiler.errors.ProfilerError`), as the sites file is.
 
 References
@@ -29,6 +30,7 @@ import numpy as np
 
 from ...errors import ProfilerError, refuse_empty_path
 from ...limits import check_name
+from ...terrain.landcover import CLUTTER_CLASSES
 
 REQUIRED_COLUMNS = ("gateway", "lat_deg", "lon_deg", "rssi_dbm", "snr_db")
 TEXT_COLUMNS = ("node", "indoor", "clutter", "time")
@@ -212,6 +214,9 @@ def _check_row(rec, where, gateways) -> None:
         raise ProfilerError(f"{where}: give sf and bw_khz together (or dr)")
     if math.isfinite(rec["dr"]) and math.isfinite(rec["sf"]):
         raise ProfilerError(f"{where}: give either dr or sf and bw_khz, not both")
+    if rec["clutter"] and rec["clutter"].lower() not in CLUTTER_CLASSES:
+        raise ProfilerError(f"{where}: clutter {rec['clutter']!r} is not a clutter class; use one of "
+                            f"{', '.join(CLUTTER_CLASSES)} (or leave it empty)")
     if rec["indoor"].lower() not in INDOOR_VALUES:
         raise ProfilerError(f"{where}: indoor {rec['indoor']!r} is not known; use no, traditional or "
                             "thermally-efficient (or leave it empty)")

@@ -89,22 +89,26 @@ def _gateway_rows(table, meas):
     return np.array([lookup[g] for g in meas.gateway], dtype=np.int64)
 
 
-def _sensitivity_dbm(meas, radio, plan, nf_gw, engine_margin, predicted_rx):
-    """Predicted margin of each row at its own SF and bandwidth (``sf``/``bw_khz`` or ``dr``), else the run's."""
-    from ...lora.modem import lora_sensitivity_batch_dbm
-
+def _row_modulation(meas, plan):
+    """SF and bandwidth of each row from ``sf``/``bw_khz`` or ``dr`` (the plan's uplink table); NaN: the run's."""
     sf, bw = meas.sf.copy(), meas.bw_khz.copy()
     has_dr = np.isfinite(meas.dr)
-    if has_dr.any():
-        if plan is None:
-            raise ProfilerError(f"{meas.source}: the dr column needs a regional plan; give --band (or use sf and "
-                                "bw_khz)")
-        for i in np.flatnonzero(has_dr):     # per-row table look-up, parsing only
-            pair = plan.data_rates.get(int(meas.dr[i]))
-            if pair is None or int(meas.dr[i]) not in plan.uplink_drs:
-                raise ProfilerError(f"{meas.source} line {meas.line[i]}: dr {int(meas.dr[i])} is not an uplink "
-                                    f"data rate of {plan.name}; check the band")
-            sf[i], bw[i] = pair
+    if has_dr.any() and plan is None:
+        raise ProfilerError(f"{meas.source}: the dr column needs a regional plan; give --band (or use sf and "
+                            "bw_khz)")
+    for i in np.flatnonzero(has_dr):     # per-row table look-up, parsing only
+        dr = int(meas.dr[i])
+        if dr not in plan.uplink_drs or dr not in plan.data_rates:
+            raise ProfilerError(f"{meas.source} line {meas.line[i]}: dr {dr} is not an uplink data rate of "
+                                f"{plan.name}; check the band")
+        sf[i], bw[i] = plan.data_rates[dr]
+    return sf, bw
+
+
+def _predicted_margin_db(sf, bw, radio, nf_gw, engine_margin, predicted_rx):
+    """Predicted uplink margin of each row at its own SF and bandwidth, else the engine's (the run's budget)."""
+    from ...lora.modem import lora_sensitivity_batch_dbm
+
     own = np.isfinite(sf)
     margin = np.array(engine_margin, float)
     if own.any():
@@ -186,6 +190,7 @@ def survey(sites, measurements, *, dem, band: str | None = None, frequency_mhz: 
                                clearance_ratio=float(clearance_ratio), step_m=step_m, fill_voids=bool(fill_voids),
                                radio=radio)
     gw = _gateway_rows(table, meas)
+    sf, bw = _row_modulation(meas, plan)
     n = len(meas)
     node_over = {"tx_power_dbm": meas.tx_power_dbm, **{key: np.full(n, np.nan) for key in
                                                         ("gain_dbi", "cable_loss_db", "noise_figure_db",
@@ -227,7 +232,7 @@ def survey(sites, measurements, *, dem, band: str | None = None, frequency_mhz: 
     stats, sigma, calibration, by_clutter, n_cells = _statistics(meas, res, residual, cell_m, fit, folds)
     predicted_rx = (node["tx_power_dbm"] + node["gain_dbi"] - node["cable_loss_db"] - predicted + gwe["gain_dbi"]
                     - gwe["cable_loss_db"])
-    margin = _sensitivity_dbm(meas, radio, plan, gwe["noise_figure_db"], res["margin_db"], predicted_rx)
+    margin = _predicted_margin_db(sf, bw, radio, gwe["noise_figure_db"], res["margin_db"], predicted_rx)
     closes = np.isfinite(margin) & (margin >= 0.0) & ~failed
     heard = {"uplinks": n, "received": int(meas.heard.sum()), "missed": int((~meas.heard).sum()),
              "errors": int(failed.sum()),
