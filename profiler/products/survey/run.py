@@ -163,14 +163,38 @@ def _statistics(meas, res, residual, cell_m, fit, folds):
     return stats, sigma, calibration, by_clutter, int(r_cell.size)
 
 
+def _predict(settings, arrays, table, meas, chunk_links, workers, scheduler, progress):
+    """The engine's results per measurement (file order), the sites' ground heights and the DEM provenance."""
+    from ...engine.cluster import run_chunks
+    from ...terrain.elevation import ElevationModel
+
+    chunks = _chunks(arrays["frequency_mhz"], chunk_links)
+    with ElevationModel.open(list(settings.dem_paths)) as model:
+        model.start_digests(meas.lon_deg, meas.lat_deg)
+        local = workers is None and scheduler is None
+        job = functools.partial(_chunk_job, settings=settings, arrays=arrays, model=model if local else None)
+        parts = run_chunks(job, chunks, workers=workers, scheduler=scheduler, progress=progress,
+                           weights=[c.size for c in chunks])
+        ground = model.sample(table.lon_deg, table.lat_deg)
+        sources = model.provenance(model.sources_used(meas.lon_deg, meas.lat_deg))
+    order = np.concatenate(chunks)
+    n = len(meas)
+    res = {key: np.empty(n, dtype=parts[0][key].dtype) for key in parts[0] if key != "error"}
+    for key in res:
+        res[key][order] = np.concatenate([p[key] for p in parts])
+    errors = [None] * n
+    for i, e in zip(order.tolist(), [e for p in parts for e in p["error"]]):
+        errors[i] = e
+    res["error"] = errors
+    return res, ground, sources
+
+
 def survey(sites, measurements, *, dem, band: str | None = None, frequency_mhz: float | None = None,
            k_factor="4/3", clearance_ratio: float = 0.6, step_m: float | None = None, fill_voids: bool = False,
            radio: RadioSettings | None = None, cell_m: float = 50.0, fit: str = "offset", folds: int = 5,
            workers: int | None = None, scheduler: str | None = None, progress: bool | None = None,
            chunk_links: int = CHUNK_LINKS) -> SurveyResult:
     """Compare field measurements with the model and fit a calibration (see :func:`profiler.survey`)."""
-    from ...engine.cluster import run_chunks
-    from ...terrain.elevation import ElevationModel
     from ..sites import GATEWAY_ROLES, read_sites_csv, site_overrides
 
     check_values({"--cell-m": cell_m, "--folds": folds})
@@ -200,23 +224,8 @@ def survey(sites, measurements, *, dem, band: str | None = None, frequency_mhz: 
     arrays = {"lat_gw": table.lat_deg[gw], "lon_gw": table.lon_deg[gw], "mast_gw": table.mast_m[gw],
               "names_gw": [table.names[i] for i in gw], "lat": meas.lat_deg, "lon": meas.lon_deg,
               "mast": meas.node_mast_m, "line": meas.line, "frequency_mhz": freq, "overrides": overrides}
-    chunks = _chunks(freq, chunk_links)
-    with ElevationModel.open(list(dem_paths)) as model:
-        model.start_digests(meas.lon_deg, meas.lat_deg)
-        local = workers is None and scheduler is None
-        job = functools.partial(_chunk_job, settings=settings, arrays=arrays, model=model if local else None)
-        parts = run_chunks(job, chunks, workers=workers, scheduler=scheduler, progress=progress,
-                           weights=[c.size for c in chunks])
-        ground = model.sample(table.lon_deg, table.lat_deg)
-        sources = model.provenance(model.sources_used(meas.lon_deg, meas.lat_deg))
-    order = np.concatenate(chunks)
-    res = {key: np.empty(n, dtype=parts[0][key].dtype) for key in parts[0] if key != "error"}
-    for key in res:
-        res[key][order] = np.concatenate([p[key] for p in parts])
-    errors = [None] * n
-    for i, e in zip(order.tolist(), [e for p in parts for e in p["error"]]):
-        errors[i] = e
-    res["error"] = errors
+    res, ground, sources = _predict(settings, arrays, table, meas, chunk_links, workers, scheduler, progress)
+    errors = res["error"]
     ends, _ = resolve_ends(radio, plan, n, overrides)
     node, gwe = ends["node"], ends["gateway"]
     failed = np.array([e is not None for e in errors])
