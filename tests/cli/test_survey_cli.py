@@ -86,3 +86,13 @@ def test_the_model_options_reach_the_prediction(tmp_path):
     assert t["settings"]["model"] == "terrain" and q["settings"]["location_percent"] == 90.0
     # P.1812 at 90 % of locations predicts more loss than at the median: the offset fitted drops
     assert q["calibration"]["offset_db"] < t["calibration"]["offset_db"] or q["calibration"]["offset_db"] < 3.4
+
+
+def test_the_json_on_stdout_is_the_python_api_report():
+    from profiler import survey
+
+    r = run(*BASE, "--json", "-")
+    assert r.returncode == 0, r.stderr
+    api = survey(str(ROOT / "examples" / "sites.csv"), str(ROOT / "examples" / "vellmoor_survey.csv"),
+                 dem=[str(ROOT / "dem_samples")], progress=False).to_dict()
+    assert json.loads(r.stdout) == json.loads(json.dumps(api))
