@@ -102,7 +102,8 @@ def survey_summary_text(report: dict) -> str:
     slope = (f", slope {c['slope_db_per_decade']:+.2f} ± {c['slope_se_db_per_decade'] or 0:.2f} dB/decade"
              if c["fit"] == "slope" else "")
     lines = [f"Survey: {h['uplinks']} uplinks, {h['received']} received, {h['missed']} missed, "
-             f"{h['errors']} could not be predicted; {s['n']} location cells of {report['settings']['cell_m']:g} m",
+             f"{h['errors']} could not be predicted; {s['n']} location cell{'' if s['n'] == 1 else 's'} of "
+             f"{report['settings']['cell_m']:g} m",
              f"  residual      measured - predicted: mean {_db(s['mean_db'], True)}, median "
              f"{_db(s['median_db'], True)}, std {_db(s['std_db'])}, RMSE {_db(s['rmse_db'])}",
              f"  within        6 dB: {s['within_6db_share']:.0%}, 10 dB: {s['within_10db_share']:.0%}",

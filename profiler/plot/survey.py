@@ -152,7 +152,7 @@ def _title(report: dict) -> str:
 def _draw_header(ax, report, renderer) -> None:
     c, s = report["calibration"], report["statistics"]
     se = f" \u00b1 {c['offset_se_db']:.1f}" if c["offset_se_db"] is not None else ""
-    parts = ["Predicted against measured", f"{s['n']} location cells of {report['settings']['cell_m']:g} m",
+    parts = ["Predicted against measured", f"{s['n']} location cell{'' if s['n'] == 1 else 's'} of {report['settings']['cell_m']:g} m",
              num(report["settings"].get("frequency_mhz"), ".4f", " MHz"), f"model {clean(report['settings']['model'])}"]
     badge = f"offset {c['offset_db']:+.1f}{se} dB, RMSE {num(c['rmse_before_db'], '.1f')} \u2192 " \
             f"{num(c['rmse_after_db'], '.1f')} dB"
@@ -304,8 +304,9 @@ def _table_blocks(report) -> list:
         cal_rows.append(("Slope", f"{num(c['slope_db_per_decade'], '+.2f')}{se(c['slope_se_db_per_decade'])} "
                                   "dB/decade"))
     cal_rows += [("RMSE before / after", f"{num(c['rmse_before_db'], '.1f')} / {num(c['rmse_after_db'], '.1f')} dB"),
-                 ("Cross-validated RMSE", num(c["cross_validated_rmse_db"], ".1f", " dB") + f" "
-                  f"({report['settings']['folds']} folds by cell)"),
+                 ("Cross-validated RMSE", num(c["cross_validated_rmse_db"], ".1f", " dB") + (
+                     f" ({report['settings']['folds']} folds by cell)" if c["cross_validated_rmse_db"] is not None
+                     else " (too few location cells)")),
                  ("Location sigma seen", num(report["location_sigma_db"], ".1f", " dB")),
                  ("Uplinks", f"{h['uplinks']}: {h['received']} received, {h['missed']} missed, {h['errors']} "
                              "not predicted"),

@@ -80,3 +80,29 @@ def test_write_survey_figure_writes_the_file(tmp_path, reports):
     path = tmp_path / "s.svg"
     write_survey_figure(reports["offset"], path, dem_paths=DEM)
     assert path.read_text().count("Residual map") == 1
+
+
+def test_a_survey_of_one_place_is_drawn_without_problems(tmp_path):
+    """One location cell, a row outside the data, a missed uplink: no std, no sigma, no cross-validation."""
+    import sys
+
+    sys.path.insert(0, str(ROOT / "tests"))
+    from sample_sites import GATEWAY, PUMP, TANK
+
+    from profiler import survey
+    from profiler.plot.audit import layout_problems
+    from profiler.plot.survey import build_survey_figure
+
+    sites = tmp_path / "s.csv"
+    sites.write_text(f"name,lat_deg,lon_deg,mast_m,role\nG,{GATEWAY[0]},{GATEWAY[1]},10,gateway\n", encoding="utf-8")
+    meas = tmp_path / "m.csv"
+    meas.write_text(f"gateway,lat_deg,lon_deg,rssi_dbm,snr_db\nG,{TANK[0]},{TANK[1]},-100,5\nG,-31.5,-19.9,-100,5\n"
+                    f"G,{PUMP[0]},{PUMP[1]},,\n", encoding="utf-8")
+    rep = survey(sites, meas, dem=DEM, progress=False).to_dict()
+    assert rep["calibration"]["cross_validated_rmse_db"] is None and rep["location_sigma_db"] is None
+    fig = build_survey_figure(rep, "letter", DEM)
+    assert layout_problems(fig) == []
+    from matplotlib.text import Text
+
+    texts = {t.get_text() for t in fig.findobj(Text)}
+    assert "\u2014 (too few location cells)" in texts

@@ -203,7 +203,8 @@ def fit_correction(distance_m, residual_db, fit: str = "offset") -> dict:
     y = np.asarray(residual_db, float)
     n, p = x.shape
     if n < p:
-        raise ProfilerError(f"too few measurements to fit the {fit}: {n}")
+        raise ProfilerError(f"too few location cells to fit {'an offset and a slope' if p == 2 else 'an offset'}: "
+                            f"{n}; measure at more places (or use --fit offset)")
     coef, *_ = np.linalg.lstsq(x, y, rcond=None)
     se = [None] * p
     if n > p:
