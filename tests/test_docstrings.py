@@ -56,6 +56,7 @@ PHYSICS_MODULES = [
     "profiler.engine.radio",
     "profiler.engine.losses",
     "profiler.engine.model",
+    "profiler.engine.probability",
 ]
 
 # Modules of formulas and published rules (physical quantities, regional

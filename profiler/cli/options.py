@@ -160,8 +160,32 @@ def site_options(f):
     ])(f)
 
 
+def land_cover_option_list():
+    """``--land-cover`` (repeatable) and ``--land-cover-classes`` (new decorators on each call)."""
+    return [
+        click.option("--land-cover", "land_cover_paths", multiple=True, metavar="PATH",
+                     help="Land-cover raster of class codes (any CRS) or folder of tiles; repeatable: the clutter "
+                          "class and height of the nearest pixel at every profile sample."),
+        click.option("--land-cover-classes", "land_cover_classes", type=click.Path(dir_okay=False), default=None,
+                     metavar="FILE.toml",
+                     help="Land-cover code -> clutter class and height ([classes.50] clutter = \"urban\" "
+                          "height_m = 15; default: the built-in ESA WorldCover mapping)."),
+    ]
+
+
+def land_cover_options(f):
+    """The land-cover options (:func:`land_cover_option_list`) as one decorator."""
+    return _apply(land_cover_option_list())(f)
+
+
+def land_cover_kwargs(kw):
+    """``land_cover`` and ``land_cover_classes`` of the API from the parsed options (popping them from ``kw``)."""
+    return {"land_cover": list(kw.pop("land_cover_paths", ())) or None,
+            "land_cover_classes": kw.pop("land_cover_classes", None)}
+
+
 def terrain_options(f):
-    """Where the terrain comes from and how finely it is sampled."""
+    """Where the terrain comes from and how finely it is sampled, and the land cover."""
     return _apply([
         click.option("--dem", "dem_paths", multiple=True, metavar="PATH",
                      help="Elevation file (GeoTIFF, .hgt, VRT, ...) or folder of tiles; repeatable."),
@@ -170,6 +194,7 @@ def terrain_options(f):
         click.option("--step-m", type=POSITIVE, default=None,
                      help="Largest sample spacing [m] (default: the finest DEM pixel along the path)."),
         click.option("--fill-voids", is_flag=True, help="Interpolate across elevation voids instead of refusing."),
+        *land_cover_option_list(),
     ])(f)
 
 
@@ -370,6 +395,7 @@ def network_options(f):
                      help="Largest sample spacing [m] (default: the finest DEM pixel along each path)."),
         click.option("--fill-voids", is_flag=True,
                      help="Interpolate across elevation voids instead of failing the link."),
+        *land_cover_option_list(),
     ])(f)
 
 
@@ -386,7 +412,7 @@ def network_call_kwargs(kw):
             "max_distance_km": 50.0 if kw["max_distance_km"] is None else kw["max_distance_km"],
             "band": kw["band_name"], "frequency_mhz": kw["freq_mhz"], "k_factor": kw["k_text"],
             "clearance_ratio": kw["clearance_ratio"], "step_m": kw["step_m"], "fill_voids": kw["fill_voids"],
-            "radio": radio}
+            "radio": radio, **land_cover_kwargs(kw)}
 
 
 def cluster_options(f):
