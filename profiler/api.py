@@ -323,7 +323,7 @@ def survey(sites, measurements, *, dem, k_factor="4/3", frequency_mhz: float | N
            step_m: float | None = None, clearance_ratio: float = 0.6, fill_voids: bool = False,
            radio: RadioSettings | None = None, cell_m: float = 50.0, fit: str = "offset", folds: int = 5,
            workers: int | None = None, scheduler: str | None = None, progress: bool | None = None,
-           chunk_links: int = CHUNK_LINKS):
+           chunk_links: int = CHUNK_LINKS, land_cover=None, land_cover_classes=None):
     """Field measurements against the model, their statistics and a calibration (``profiler survey``).
 
     Every measurement is predicted with the engine of :func:`network` (its gateway end A, the node end B
@@ -346,7 +346,8 @@ def survey(sites, measurements, *, dem, k_factor="4/3", frequency_mhz: float | N
     radio : RadioSettings, optional
         Link-budget settings; the gateway is end A, the node end B (a row's ``tx_power_dbm`` wins).
     cell_m : float
-        Side of a location cell [m]; a cell's measurements count once (their median).
+        Side of a location cell [m]; a cell's measurements count once (their median). A row without a
+        ``clutter`` cell takes the land cover's class at the node (with ``land_cover``).
     fit : {"offset", "slope"}
         Calibration ``offset`` or ``offset + slope * log10(d / 1 km)``.
     folds : int
@@ -355,6 +356,8 @@ def survey(sites, measurements, *, dem, k_factor="4/3", frequency_mhz: float | N
     <<scheduler>>
     <<progress>>
     <<chunk_links>>
+    <<land_cover>>
+    <<land_cover_classes>>
 
     Returns
     -------
@@ -366,7 +369,7 @@ def survey(sites, measurements, *, dem, k_factor="4/3", frequency_mhz: float | N
     return _survey(sites, measurements, dem=dem, band=band, frequency_mhz=frequency_mhz, k_factor=k_factor,
                    clearance_ratio=clearance_ratio, step_m=step_m, fill_voids=fill_voids, radio=radio, cell_m=cell_m,
                    fit=fit, folds=folds, workers=workers, scheduler=scheduler, progress=progress,
-                   chunk_links=chunk_links)
+                   chunk_links=chunk_links, land_cover=land_cover, land_cover_classes=land_cover_classes)
 
 
 @shared_parameters

@@ -12,6 +12,8 @@ from .options import (
     cluster_options,
     frequency_options,
     k_option,
+    land_cover_kwargs,
+    land_cover_option_list,
     plot_options,
     radio_settings,
     sheet_options,
@@ -35,6 +37,7 @@ def survey_input_options(f):
                      help="Largest sample spacing [m] (default: the finest DEM pixel along each path)."),
         click.option("--fill-voids", is_flag=True,
                      help="Interpolate across elevation voids instead of failing the measurement."),
+        *land_cover_option_list(),
         click.option("--cell-m", type=POSITIVE, default=50.0, show_default=True,
                      help="Side of a location cell [m]: repeated measurements of one cell count once (median)."),
         click.option("--fit", type=click.Choice(["offset", "slope"]), default="offset", show_default=True,
@@ -90,12 +93,13 @@ def survey_command(json_path, csv_path, geojson_path, calibration_path, plot_pat
                              list(kw["dem_paths"]), sheet={**sheet_info.to_dict(), "date": date.isoformat()})
     check_outputs(outputs)
     radio = radio_settings(kw)
+    cover = land_cover_kwargs(kw)
     with quiet_numerics():
         result = survey(kw["sites_csv"], kw["measurements_csv"], dem=list(kw["dem_paths"]), band=kw["band_name"],
                         frequency_mhz=kw["freq_mhz"], k_factor=kw["k_text"], clearance_ratio=kw["clearance_ratio"],
                         step_m=kw["step_m"], fill_voids=kw["fill_voids"], radio=radio, cell_m=kw["cell_m"],
                         fit=kw["fit"], folds=kw["folds"], workers=workers, scheduler=scheduler,
-                        progress=False if no_progress else None)
+                        progress=False if no_progress else None, **cover)
         write_outputs(outputs, result.to_dict())
 
 

@@ -104,10 +104,11 @@ def _layout(width_in, height_in) -> dict:
     header = (margin, height_in - margin - header_h, width_in - 2 * margin, header_h)
     side_w = 3.7
     side_left = width_in - margin - side_w
-    footer = (margin, margin, side_left - 0.2 - margin, 0.5)
+    footer_h = 0.66
+    footer = (margin, margin, side_left - 0.2 - margin, footer_h)
     title_block = (side_left, margin, side_w, 1.45)
     top = header[1] - 0.2
-    bottom = margin + 0.5 + 0.45
+    bottom = margin + footer_h + 0.42
     left = margin + 0.55
     right = side_left - 0.3
     gap_x, gap_y = 0.95, 0.62

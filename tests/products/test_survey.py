@@ -252,3 +252,28 @@ def test_not_utf8_and_empty_files_are_refused(tmp_path, sites):
     empty.write_text("gateway,lat_deg,lon_deg,rssi_dbm,snr_db\n", encoding="utf-8")
     with pytest.raises(ProfilerError, match="has a header but no rows"):
         survey(sites, empty, dem=DEM, progress=False)
+
+
+def test_with_a_land_cover_the_prediction_equals_profiler_network_and_rows_take_its_class(tmp_path, sites):
+    from pathlib import Path
+
+    from profiler import network, survey
+
+    cover = [Path(DEM[0]).parent / "vellmoor_landcover.tif"]
+    net_sites = tmp_path / "net.csv"
+    net_sites.write_text(SITES + f"pump,{PUMP[0]},{PUMP[1]},1.5,node\ntank,{TANK[0]},{TANK[1]},1.5,node\n",
+                         encoding="utf-8")
+    net = network(net_sites, dem=DEM, land_cover=cover, progress=False).to_dict()
+    meas = _write(tmp_path, [["Cairnfell Beacon", PUMP[0], PUMP[1], -110, 5, 1.5, ""],
+                             ["Cairnfell Beacon", TANK[0], TANK[1], -100, 8, 1.5, "water"]])
+    rep = survey(sites, meas, dem=DEM, land_cover=cover, progress=False).to_dict()
+    for link, m in zip(net["links"], rep["measurements"]):
+        assert m["predicted_loss_db"] == pytest.approx(link["total_loss_db"], abs=1e-6)
+    from profiler.terrain.landcover import CLUTTER_CLASSES, LandCover, worldcover_mapping
+
+    with LandCover.open(cover) as lc:
+        idx = worldcover_mapping().clutter(lc.codes(np.array([PUMP[1]]), np.array([PUMP[0]])), "p1812").class_index
+    assert rep["measurements"][0]["clutter"] == CLUTTER_CLASSES[int(idx[0])]      # the land cover's class
+    assert rep["measurements"][1]["clutter"] == "water"                           # the row's own wins
+    assert rep["settings"]["land_cover"] == [str(cover[0])]
+    assert not any(w.startswith("no land cover") for w in rep["warnings"])

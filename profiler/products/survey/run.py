@@ -56,8 +56,8 @@ class SurveyResult:
                 "warnings": list(self.warnings), "caution": CAUTION}
 
 
-def _chunk_job(rows, *, settings, arrays, model=None):
-    """Predict one chunk of measurements; opens the elevation files by path on a worker."""
+def _chunk_job(rows, *, settings, arrays, model=None, land_cover_paths=(), mapping=None, land_cover=None):
+    """Predict one chunk of measurements; opens the elevation (and land-cover) files by path on a worker."""
     from ..network import compute_links
 
     a = arrays
@@ -66,11 +66,31 @@ def _chunk_job(rows, *, settings, arrays, model=None):
             a["lon_gw"][rows], a["mast_gw"][rows], a["lat"][rows], a["lon"][rows], a["mast"][rows], over,
             [a["names_gw"][i] for i in rows], [f"measurement on line {a['line'][i]}" for i in rows])
     if model is not None:
-        return compute_links(model, *args)
+        return compute_links(model, *args, land_cover=land_cover, mapping=mapping)
     from ...terrain.elevation import ElevationModel
 
-    with ElevationModel.open(list(settings.dem_paths)) as opened:
-        return compute_links(opened, *args)
+    with ElevationModel.open(list(settings.dem_paths)) as opened, _open_cover(land_cover_paths, mapping) as cover:
+        return compute_links(opened, *args, land_cover=cover, mapping=mapping)
+
+
+def _open_cover(paths, mapping):
+    """The land cover opened (a context manager), or a null context without one."""
+    from contextlib import nullcontext
+
+    from ...terrain.landcover import LandCover
+
+    return nullcontext() if mapping is None else LandCover.open(list(paths))
+
+
+def _clutter_names(meas, cover, mapping, model):
+    """Each row's clutter class: its ``clutter`` cell, else the land cover's class at the node ("" none)."""
+    from ...terrain.landcover import CLUTTER_CLASSES
+
+    names = list(meas.clutter)
+    if cover is None:
+        return names
+    index = mapping.clutter(cover.codes(meas.lon_deg, meas.lat_deg), model).class_index
+    return [c or (CLUTTER_CLASSES[i] if i >= 0 else "") for c, i in zip(names, index.tolist())]
 
 
 def _chunks(freq, chunk_links):
@@ -129,7 +149,7 @@ def _records(meas, res, measured, predicted, residual):
                     "predicted_loss_db": None if err else cal._num(predicted[i]),
                     "residual_db": None if err else cal._num(residual[i]),
                     "line_of_sight": None if err else bool(res["line_of_sight"][i]),
-                    "clutter": meas.clutter[i] or None, "error": err})
+                    "clutter": res["clutter"][i] or None, "error": err})
     return out
 
 
@@ -138,7 +158,7 @@ def _statistics(meas, res, residual, cell_m, fit, folds):
     rows = np.flatnonzero(np.isfinite(residual))
     cells = cal.cell_summary([meas.gateway[i] for i in rows], meas.lat_deg[rows], meas.lon_deg[rows],
                              residual[rows], res["distance_m"][rows], res["line_of_sight"][rows],
-                             [meas.clutter[i] for i in rows], cell_m)
+                             [res["clutter"][i] for i in rows], cell_m)
     cell, r_cell, d_cell = cells["cell"], cells["residual_db"], cells["distance_m"]
     los_cell, clutter, gw_cell = cells["line_of_sight"], cells["clutter"], cells["gateway"]
     stats = {**cal.residual_stats(r_cell), "by_distance": cal.distance_band_stats(r_cell, d_cell),
@@ -155,7 +175,7 @@ def _statistics(meas, res, residual, cell_m, fit, folds):
                    "slope_se_db_per_decade": o["slope_se_db_per_decade"], "cross_validated_rmse_db": cv,
                    "rmse_before_db": cal.residual_stats(r_cell)["rmse_db"],
                    "rmse_after_db": cal.residual_stats(after)["rmse_db"]}
-    names = np.array([meas.clutter[i] for i in rows], dtype=object)
+    names = np.array([res["clutter"][i] for i in rows], dtype=object)
     by_clutter = {name: {**terms, "n_cells": int(sum(c == name for c in clutter)),
                          "location_sigma_db": cal.within_cell_sigma_db(cell[names == name],
                                                                        residual[rows][names == name])}
@@ -163,20 +183,23 @@ def _statistics(meas, res, residual, cell_m, fit, folds):
     return stats, sigma, calibration, by_clutter, int(r_cell.size)
 
 
-def _predict(settings, arrays, table, meas, chunk_links, workers, scheduler, progress):
-    """The engine's results per measurement (file order), the sites' ground heights and the DEM provenance."""
+def _predict(settings, arrays, table, meas, cover_paths, mapping, run):
+    """The engine's results per measurement (file order, with each row's clutter class), the sites' ground
+    heights and the DEM provenance; ``run`` holds ``chunk_links``, ``workers``, ``scheduler``, ``progress``."""
     from ...engine.cluster import run_chunks
     from ...terrain.elevation import ElevationModel
 
-    chunks = _chunks(arrays["frequency_mhz"], chunk_links)
-    with ElevationModel.open(list(settings.dem_paths)) as model:
+    chunks = _chunks(arrays["frequency_mhz"], run["chunk_links"])
+    with ElevationModel.open(list(settings.dem_paths)) as model, _open_cover(cover_paths, mapping) as cover:
         model.start_digests(meas.lon_deg, meas.lat_deg)
-        local = workers is None and scheduler is None
-        job = functools.partial(_chunk_job, settings=settings, arrays=arrays, model=model if local else None)
-        parts = run_chunks(job, chunks, workers=workers, scheduler=scheduler, progress=progress,
+        local = run["workers"] is None and run["scheduler"] is None
+        job = functools.partial(_chunk_job, settings=settings, arrays=arrays, model=model if local else None,
+                                land_cover_paths=cover_paths, mapping=mapping, land_cover=cover if local else None)
+        parts = run_chunks(job, chunks, workers=run["workers"], scheduler=run["scheduler"], progress=run["progress"],
                            weights=[c.size for c in chunks])
         ground = model.sample(table.lon_deg, table.lat_deg)
         sources = model.provenance(model.sources_used(meas.lon_deg, meas.lat_deg))
+        clutter = _clutter_names(meas, cover, mapping, settings.radio.propagation.model)
     order = np.concatenate(chunks)
     n = len(meas)
     res = {key: np.empty(n, dtype=parts[0][key].dtype) for key in parts[0] if key != "error"}
@@ -186,16 +209,34 @@ def _predict(settings, arrays, table, meas, chunk_links, workers, scheduler, pro
     for i, e in zip(order.tolist(), [e for p in parts for e in p["error"]]):
         errors[i] = e
     res["error"] = errors
+    res["clutter"] = clutter
     return res, ground, sources
+
+
+def _clutter_warnings(meas, res, mapping, failed) -> list:
+    """As ``profiler network`` says it: samples without a land-cover class, or no land cover for low nodes."""
+    from ..link import LOW_NODE_M
+
+    if mapping is not None:
+        gaps = int(np.count_nonzero(np.asarray(res["samples_without_class"])[~failed]))
+        return [f"{gaps} of {len(meas)} paths have profile samples without a land-cover class (void or outside the "
+                "land cover): no clutter is assumed there"] if gaps else []
+    low = int(np.count_nonzero(meas.node_mast_m < LOW_NODE_M))
+    return [f"no land cover: {low} measurements with the node below {LOW_NODE_M:g} m; the predictions are likely "
+            "optimistic (give --land-cover)"] if low else []
 
 
 def survey(sites, measurements, *, dem, band: str | None = None, frequency_mhz: float | None = None,
            k_factor="4/3", clearance_ratio: float = 0.6, step_m: float | None = None, fill_voids: bool = False,
            radio: RadioSettings | None = None, cell_m: float = 50.0, fit: str = "offset", folds: int = 5,
            workers: int | None = None, scheduler: str | None = None, progress: bool | None = None,
-           chunk_links: int = CHUNK_LINKS) -> SurveyResult:
+           chunk_links: int = CHUNK_LINKS, land_cover=None, land_cover_classes=None) -> SurveyResult:
     """Compare field measurements with the model and fit a calibration (see :func:`profiler.survey`)."""
+    from ...terrain.landcover import class_mapping_for, land_cover_paths
     from ..sites import GATEWAY_ROLES, read_sites_csv, site_overrides
+
+    mapping = class_mapping_for(land_cover, land_cover_classes)
+    cover_paths = tuple(land_cover_paths(land_cover))
 
     check_values({"--cell-m": cell_m, "--folds": folds})
     if fit not in cal.FITS:
@@ -224,7 +265,9 @@ def survey(sites, measurements, *, dem, band: str | None = None, frequency_mhz: 
     arrays = {"lat_gw": table.lat_deg[gw], "lon_gw": table.lon_deg[gw], "mast_gw": table.mast_m[gw],
               "names_gw": [table.names[i] for i in gw], "lat": meas.lat_deg, "lon": meas.lon_deg,
               "mast": meas.node_mast_m, "line": meas.line, "frequency_mhz": freq, "overrides": overrides}
-    res, ground, sources = _predict(settings, arrays, table, meas, chunk_links, workers, scheduler, progress)
+    res, ground, sources = _predict(settings, arrays, table, meas, cover_paths, mapping,
+                                    {"chunk_links": chunk_links, "workers": workers, "scheduler": scheduler,
+                                     "progress": progress})
     errors = res["error"]
     ends, _ = resolve_ends(radio, plan, n, overrides)
     node, gwe = ends["node"], ends["gateway"]
@@ -250,6 +293,7 @@ def survey(sites, measurements, *, dem, band: str | None = None, frequency_mhz: 
     warnings = []
     if failed.any():
         warnings.append(f"{int(failed.sum())} of {n} measurements could not be predicted (see their error)")
+    warnings += _clutter_warnings(meas, res, mapping, failed)
     if sigma is None:
         warnings.append(f"no location cell of {cell_m:g} m holds two received uplinks: the location variability "
                         "seen cannot be measured")
@@ -260,7 +304,9 @@ def survey(sites, measurements, *, dem, band: str | None = None, frequency_mhz: 
     settings_out = {"band": band_name, "frequency_mhz": f_mhz, "k_factor": k, "cell_m": float(cell_m),
                     "cells": n_cells, "fit": fit, "folds": int(folds), "clearance_ratio": float(clearance_ratio),
                     "diffraction_method": radio.diffraction_method, "fade_margin_db": radio.fade_margin_db,
-                    "measurements_file": meas.source, **radio.propagation.to_dict(k)}
+                    "measurements_file": meas.source, **radio.propagation.to_dict(k),
+                    "land_cover": list(cover_paths) if mapping is not None else None,
+                    "land_cover_classes": None if land_cover_classes is None else str(land_cover_classes)}
     return SurveyResult(measurements=_records(meas, res, measured, predicted, residual), statistics=stats,
                         location_sigma_db=sigma, calibration=calibration, calibration_by_clutter=by_clutter,
                         heard=heard, sites=site_rows, settings=settings_out,
