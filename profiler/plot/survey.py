@@ -153,7 +153,8 @@ def _title(report: dict) -> str:
 def _draw_header(ax, report, renderer) -> None:
     c, s = report["calibration"], report["statistics"]
     se = f" \u00b1 {c['offset_se_db']:.1f}" if c["offset_se_db"] is not None else ""
-    parts = ["Predicted against measured", f"{s['n']} location cell{'' if s['n'] == 1 else 's'} of {report['settings']['cell_m']:g} m",
+    cells = f"{s['n']} location cell{'' if s['n'] == 1 else 's'} of {report['settings']['cell_m']:g} m"
+    parts = ["Predicted against measured", cells,
              num(report["settings"].get("frequency_mhz"), ".4f", " MHz"), f"model {clean(report['settings']['model'])}"]
     badge = f"offset {c['offset_db']:+.1f}{se} dB, RMSE {num(c['rmse_before_db'], '.1f')} \u2192 " \
             f"{num(c['rmse_after_db'], '.1f')} dB"
