@@ -1,6 +1,6 @@
 """The Python API: one call per command, each returning a result object whose ``to_dict()`` is the JSON report.
 
-:func:`link`, :func:`mast`, :func:`network`, :func:`coverage` and :func:`siting` take the sites as
+:func:`link`, :func:`mast`, :func:`network`, :func:`coverage`, :func:`siting` and :func:`survey` take the sites as
 ``(lat_deg, lon_deg)`` tuples (a site list as a CSV path) and the elevation data as ``dem``; every
 option is a keyword with the same name for the same quantity in every function (``mast_a_m``,
 ``k_factor``, ``clearance_ratio``, ``frequency_mhz``, ``band``, ``step_m``, ``fill_voids``, ``radio``,
@@ -316,6 +316,60 @@ def network(sites, *, dem, pairs=None, max_distance_km: float = 50.0, k_factor="
                     frequency_mhz=frequency_mhz, k_factor=k_factor, clearance_ratio=clearance_ratio, step_m=step_m,
                     fill_voids=fill_voids, radio=radio, workers=workers, scheduler=scheduler, progress=progress,
                     chunk_links=chunk_links, land_cover=land_cover, land_cover_classes=land_cover_classes)
+
+
+@shared_parameters
+def survey(sites, measurements, *, dem, k_factor="4/3", frequency_mhz: float | None = None, band: str | None = None,
+           step_m: float | None = None, clearance_ratio: float = 0.6, fill_voids: bool = False,
+           radio: RadioSettings | None = None, cell_m: float = 50.0, fit: str = "offset", folds: int = 5,
+           workers: int | None = None, scheduler: str | None = None, progress: bool | None = None,
+           chunk_links: int = CHUNK_LINKS, land_cover=None, land_cover_classes=None):
+    """Field measurements against the model, their statistics and a calibration (``profiler survey``).
+
+    Every measurement is predicted with the engine of :func:`network` (its gateway end A, the node end B
+    at the measured position); residual = measured - predicted path loss.
+
+    Parameters
+    ----------
+    sites : str, Path or profiler.products.sites.SiteTable
+        The site list, as for :func:`network`; the measurements name its gateways.
+    measurements : str, Path or profiler.products.survey.Measurements
+        The measurement CSV file (``gateway,lat_deg,lon_deg,rssi_dbm,snr_db`` and optional columns, see
+        :func:`profiler.products.survey.read_measurements_csv`) or a table already read.
+    <<dem>>
+    <<k_factor>>
+    <<frequency_mhz>>
+    <<band>>
+    <<step_m>>
+    <<clearance_ratio>>
+    <<fill_voids>>
+    radio : RadioSettings, optional
+        Link-budget settings; the gateway is end A, the node end B (a row's ``tx_power_dbm`` wins).
+    cell_m : float
+        Side of a location cell [m]; a cell's measurements count once (their median). A row without a
+        ``clutter`` cell takes the land cover's class at the node (with ``land_cover``).
+    fit : {"offset", "slope"}
+        Calibration ``offset`` or ``offset + slope * log10(d / 1 km)``.
+    folds : int
+        Cross-validation folds, by location cell.
+    <<workers>>
+    <<scheduler>>
+    <<progress>>
+    <<chunk_links>>
+    <<land_cover>>
+    <<land_cover_classes>>
+
+    Returns
+    -------
+    profiler.products.survey.SurveyResult
+        ``result.to_dict()`` is the ``profiler.survey/1`` JSON report.
+    """
+    from .products.survey import survey as _survey
+
+    return _survey(sites, measurements, dem=dem, band=band, frequency_mhz=frequency_mhz, k_factor=k_factor,
+                   clearance_ratio=clearance_ratio, step_m=step_m, fill_voids=fill_voids, radio=radio, cell_m=cell_m,
+                   fit=fit, folds=folds, workers=workers, scheduler=scheduler, progress=progress,
+                   chunk_links=chunk_links, land_cover=land_cover, land_cover_classes=land_cover_classes)
 
 
 @shared_parameters

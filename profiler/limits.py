@@ -119,6 +119,8 @@ LIMITS: dict[str, Limit] = {
     # network
     "--max-distance-km": Limit(0.0, 20_100.0, "km", "longest link considered", low_open=True),
     "--workers": Limit(1, 256, "", "worker processes", integer=True),
+    "--cell-m": Limit(1.0, 10_000.0, "m", "side of a survey location cell", low_open=False),
+    "--folds": Limit(2, 100, "", "cross-validation folds", integer=True),
     # coverage (the grid limit MAX_PIXELS of profiler.products.coverage.map bounds radius / resolution as well)
     "--mast-m": Limit(0.0, 1000.0, "m", "gateway antenna height above ground"),
     "--node-mast-m": Limit(0.0, 1000.0, "m", "node antenna height above ground"),
