@@ -12,7 +12,7 @@ The Python API mirrors the command line::
     result.to_dict()   # the JSON report
 
 or in one call: :func:`profiler.link` (and :func:`profiler.mast`, :func:`profiler.network`,
-:func:`profiler.coverage`, :func:`profiler.siting`: see :mod:`profiler.api`).
+:func:`profiler.coverage`, :func:`profiler.siting`, :func:`profiler.survey`: see :mod:`profiler.api`).
 """
 
 from ._deprecated import install as _install_deprecated
@@ -21,7 +21,7 @@ from .about import CAUTION, __version__  # noqa: F401 (the package's version, re
 _install_deprecated()
 
 #: The functions of :mod:`profiler.api`, one per command (and the profile step), as ``profiler.NAME``.
-API_FUNCTIONS = ("link", "mast", "network", "coverage", "siting", "load_profile")
+API_FUNCTIONS = ("link", "mast", "network", "coverage", "siting", "survey", "load_profile")
 
 
 def __getattr__(name):

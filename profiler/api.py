@@ -1,6 +1,6 @@
 """The Python API: one call per command, each returning a result object whose ``to_dict()`` is the JSON report.
 
-:func:`link`, :func:`mast`, :func:`network`, :func:`coverage` and :func:`siting` take the sites as
+:func:`link`, :func:`mast`, :func:`network`, :func:`coverage`, :func:`siting` and :func:`survey` take the sites as
 ``(lat_deg, lon_deg)`` tuples (a site list as a CSV path) and the elevation data as ``dem``; every
 option is a keyword with the same name for the same quantity in every function (``mast_a_m``,
 ``k_factor``, ``clearance_ratio``, ``frequency_mhz``, ``band``, ``step_m``, ``fill_voids``, ``radio``,
@@ -42,13 +42,19 @@ PARAMETERS = {
     "sheet_info": "sheet_info : profiler.io.sheetinfo.SheetInfo, optional\n"
                   "        Title-block fields (project, document, ...) for the report's ``sheet`` block.",
     "digests": "digests : profiler.terrain.digests.FileDigests, optional\n"
-               "        Provenance digests of the elevation files, possibly already started.",
+               "        Provenance digests of the elevation (and land-cover) files, possibly already started.",
     "workers": "workers : int, optional\n"
                "        Run the chunks of work on a local Dask cluster of this many worker processes.",
     "scheduler": "scheduler : str, optional\n"
                  "        Run them on the Dask cluster at this address (``tcp://HOST:PORT``); the elevation files\n"
                  "        must be visible to every worker at the same path.",
     "progress": "progress : bool, optional\n        Progress bar on standard error (default: when it is a terminal).",
+    "land_cover": "land_cover : str, Path or list of them, optional\n"
+                  "        Land-cover rasters of class codes (files or folders of tiles, any CRS): the clutter class\n"
+                  "        and height of the nearest pixel at every profile sample.  Not with ``profile_csv``.",
+    "land_cover_classes": "land_cover_classes : str or Path, optional\n"
+                          "        TOML file mapping each land-cover code to a clutter class and height (default: the\n"
+                          "        built-in ESA WorldCover mapping).",
     "chunk_links": "chunk_links : int\n"
                    "        Links per chunk: the unit of work of a worker and of the progress bar.",
 }
@@ -66,7 +72,8 @@ def link(site_a=None, site_b=None, *, dem=None, profile_csv=None, mast_a_m: floa
          mast_b_m: float = 2.0, name_a: str = "A", name_b: str = "B", k_factor="4/3",
          frequency_mhz: float | None = None, band: str | None = None, step_m: float | None = None,
          clearance_ratio: float = 0.6, fill_voids: bool = False,
-         radio: RadioSettings | None = None, date=None, sheet_info=None, digests=None) -> LinkResult:
+         radio: RadioSettings | None = None, date=None, sheet_info=None, digests=None, land_cover=None,
+         land_cover_classes=None) -> LinkResult:
     """Analyse the link A-B over elevation data or a surveyed profile (``profiler link``).
 
     Parameters
@@ -90,19 +97,23 @@ def link(site_a=None, site_b=None, *, dem=None, profile_csv=None, mast_a_m: floa
         Date of the sheet and of the magnetic declination (default today).
     <<sheet_info>>
     <<digests>>
+    <<land_cover>>
+    <<land_cover_classes>>
 
     Returns
     -------
     LinkResult
-        ``result.to_dict()`` is the ``profiler.link/4`` JSON report; ``result.profile`` holds the
+        ``result.to_dict()`` is the ``profiler.link/5`` JSON report; ``result.profile`` holds the
         per-sample arrays (``distance_m``, ``terrain_m``, ``bulge_m``, ``los_m``, ``fresnel_radius_m``,
-        ``clearance_m``, ...).
+        ``clearance_m``, with a land cover ``clutter_class`` and ``clutter_height_m``, ...).
     """
     check_names(name_a=name_a, name_b=name_b)
     f_mhz, band_name = resolve_frequency_mhz(frequency_mhz, band)
     k = parse_k_factor(k_factor)
+    mapping = _class_mapping(land_cover, land_cover_classes, profile_csv)
     prof = load_profile(site_a, site_b, dem=dem, profile_csv=profile_csv, step_m=step_m,
                         fill_voids=fill_voids, name_a=name_a, name_b=name_b, digests=digests)
+    prof = _with_land_cover(prof, land_cover, mapping, radio, digests)
     return analyze_link(prof, mast_a_m=mast_a_m, mast_b_m=mast_b_m, frequency_mhz=f_mhz, band=band_name,
                         k_factor=k, clearance_ratio=clearance_ratio, radio=radio,
                         name_a=name_a, name_b=name_b,
@@ -118,7 +129,7 @@ def mast(site_a=None, site_b=None, *, dem=None, profile_csv=None, mast_a_m: floa
          clearance_ratio: float | None = 0.6, fill_voids: bool = False, low_k_factor="2/3",
          low_k_clearance_ratio: float | None = 0.0, min_margin_db: float | None = None, solve: str = "b",
          max_mast_m: float = 60.0, mast_step_m: float = 1.0, radio: RadioSettings | None = None, date=None,
-         sheet_info=None, digests=None):
+         sheet_info=None, digests=None, land_cover=None, land_cover_classes=None):
     """The lowest mast that meets every given criterion on the link A-B (``profiler mast``).
 
     The criteria that are given must all hold: clearance >= ``clearance_ratio`` F1 at ``k_factor``,
@@ -164,6 +175,8 @@ def mast(site_a=None, site_b=None, *, dem=None, profile_csv=None, mast_a_m: floa
         Date of the sheet (default today).
     <<sheet_info>>
     <<digests>>
+    <<land_cover>>
+    <<land_cover_classes>>
 
     Returns
     -------
@@ -179,8 +192,10 @@ def mast(site_a=None, site_b=None, *, dem=None, profile_csv=None, mast_a_m: floa
 
     check_names(name_a=name_a, name_b=name_b)
     f_mhz, band_name = resolve_frequency_mhz(frequency_mhz, band)
+    mapping = _class_mapping(land_cover, land_cover_classes, profile_csv)
     prof = load_profile(site_a, site_b, dem=dem, profile_csv=profile_csv, step_m=step_m,
                         fill_voids=fill_voids, name_a=name_a, name_b=name_b, digests=digests)
+    prof = _with_land_cover(prof, land_cover, mapping, radio, digests)
     result = solve_mast(prof, frequency_mhz=f_mhz, band=band_name, solve=solve, mast_a_m=mast_a_m,
                         mast_b_m=mast_b_m, clearance_ratio=clearance_ratio, k_factor=k_factor,
                         low_k_clearance_ratio=low_k_clearance_ratio, low_k_factor=low_k_factor,
@@ -189,6 +204,28 @@ def mast(site_a=None, site_b=None, *, dem=None, profile_csv=None, mast_a_m: floa
                         site_a=tuple(site_a) if site_a is not None else None,
                         site_b=tuple(site_b) if site_b is not None else None)
     return dataclasses.replace(result, sheet=sheet_block(sheet_info, date or datetime.date.today()))
+
+
+def _class_mapping(land_cover, land_cover_classes, profile_csv):
+    """The class mapping of a link or mast run with a land cover (None without); refusals before any work."""
+    from .terrain.landcover import class_mapping_for, land_cover_paths
+
+    if profile_csv is not None and land_cover_paths(land_cover):
+        raise ProfilerError("give either --profile or --land-cover, not both: a surveyed profile gives its clutter "
+                            "in its clutter_height_m column")
+    return class_mapping_for(land_cover, land_cover_classes)
+
+
+def _with_land_cover(prof, land_cover, mapping, radio, digests=None):
+    """The profile with the land cover's clutter at every sample, for the run's model (unchanged without)."""
+    if mapping is None:
+        return prof
+    from .terrain.landcover import LandCover, land_cover_paths
+    from .terrain.profile import with_land_cover
+
+    model = (radio or RadioSettings()).propagation.resolved(True).model
+    with LandCover.open(land_cover_paths(land_cover), digests=digests) as cover:
+        return with_land_cover(prof, cover, mapping, model)
 
 
 @shared_parameters
@@ -235,7 +272,7 @@ def network(sites, *, dem, pairs=None, max_distance_km: float = 50.0, k_factor="
             frequency_mhz: float | None = None, band: str | None = None, step_m: float | None = None,
             clearance_ratio: float = 0.6, fill_voids: bool = False, radio: RadioSettings | None = None,
             workers: int | None = None, scheduler: str | None = None, progress: bool | None = None,
-            chunk_links: int = CHUNK_LINKS):
+            chunk_links: int = CHUNK_LINKS, land_cover=None, land_cover_classes=None):
     """Every gateway -> node link of a site list (``profiler network``).
 
     Gateways and candidate sites are end A of every link, nodes end B: the ``radio`` settings of end A
@@ -264,6 +301,8 @@ def network(sites, *, dem, pairs=None, max_distance_km: float = 50.0, k_factor="
     <<scheduler>>
     <<progress>>
     <<chunk_links>>
+    <<land_cover>>
+    <<land_cover_classes>>
 
     Returns
     -------
@@ -276,7 +315,61 @@ def network(sites, *, dem, pairs=None, max_distance_km: float = 50.0, k_factor="
     return _network(sites, dem=dem, pairs=pairs, max_distance_km=max_distance_km, band=band,
                     frequency_mhz=frequency_mhz, k_factor=k_factor, clearance_ratio=clearance_ratio, step_m=step_m,
                     fill_voids=fill_voids, radio=radio, workers=workers, scheduler=scheduler, progress=progress,
-                    chunk_links=chunk_links)
+                    chunk_links=chunk_links, land_cover=land_cover, land_cover_classes=land_cover_classes)
+
+
+@shared_parameters
+def survey(sites, measurements, *, dem, k_factor="4/3", frequency_mhz: float | None = None, band: str | None = None,
+           step_m: float | None = None, clearance_ratio: float = 0.6, fill_voids: bool = False,
+           radio: RadioSettings | None = None, cell_m: float = 50.0, fit: str = "offset", folds: int = 5,
+           workers: int | None = None, scheduler: str | None = None, progress: bool | None = None,
+           chunk_links: int = CHUNK_LINKS, land_cover=None, land_cover_classes=None):
+    """Field measurements against the model, their statistics and a calibration (``profiler survey``).
+
+    Every measurement is predicted with the engine of :func:`network` (its gateway end A, the node end B
+    at the measured position); residual = measured - predicted path loss.
+
+    Parameters
+    ----------
+    sites : str, Path or profiler.products.sites.SiteTable
+        The site list, as for :func:`network`; the measurements name its gateways.
+    measurements : str, Path or profiler.products.survey.Measurements
+        The measurement CSV file (``gateway,lat_deg,lon_deg,rssi_dbm,snr_db`` and optional columns, see
+        :func:`profiler.products.survey.read_measurements_csv`) or a table already read.
+    <<dem>>
+    <<k_factor>>
+    <<frequency_mhz>>
+    <<band>>
+    <<step_m>>
+    <<clearance_ratio>>
+    <<fill_voids>>
+    radio : RadioSettings, optional
+        Link-budget settings; the gateway is end A, the node end B (a row's ``tx_power_dbm`` wins).
+    cell_m : float
+        Side of a location cell [m]; a cell's measurements count once (their median). A row without a
+        ``clutter`` cell takes the land cover's class at the node (with ``land_cover``).
+    fit : {"offset", "slope"}
+        Calibration ``offset`` or ``offset + slope * log10(d / 1 km)``.
+    folds : int
+        Cross-validation folds, by location cell.
+    <<workers>>
+    <<scheduler>>
+    <<progress>>
+    <<chunk_links>>
+    <<land_cover>>
+    <<land_cover_classes>>
+
+    Returns
+    -------
+    profiler.products.survey.SurveyResult
+        ``result.to_dict()`` is the ``profiler.survey/1`` JSON report.
+    """
+    from .products.survey import survey as _survey
+
+    return _survey(sites, measurements, dem=dem, band=band, frequency_mhz=frequency_mhz, k_factor=k_factor,
+                   clearance_ratio=clearance_ratio, step_m=step_m, fill_voids=fill_voids, radio=radio, cell_m=cell_m,
+                   fit=fit, folds=folds, workers=workers, scheduler=scheduler, progress=progress,
+                   chunk_links=chunk_links, land_cover=land_cover, land_cover_classes=land_cover_classes)
 
 
 @shared_parameters
@@ -285,7 +378,7 @@ def siting(sites, *, dem, redundancy: int = 1, min_margin_db: float | None = Non
            frequency_mhz: float | None = None, band: str | None = None, step_m: float | None = None,
            clearance_ratio: float = 0.6, fill_voids: bool = False, radio: RadioSettings | None = None,
            workers: int | None = None, scheduler: str | None = None, progress: bool | None = None,
-           chunk_links: int = CHUNK_LINKS):
+           chunk_links: int = CHUNK_LINKS, land_cover=None, land_cover_classes=None):
     """The cheapest set of candidate gateway sites that hears every node (``profiler siting``).
 
     Runs :func:`network` from every ``gateway`` and ``candidate`` site to every node, then solves the
@@ -312,11 +405,13 @@ def siting(sites, *, dem, redundancy: int = 1, min_margin_db: float | None = Non
         ``step_m`` [m], ``k_factor`` and ``clearance_ratio`` [-]).
     workers, scheduler, progress, chunk_links
         Where and in which chunks the links run, as for :func:`network`.
+    land_cover, land_cover_classes
+        The land cover and its class mapping, as for :func:`network`.
 
     Returns
     -------
     profiler.products.siting.report.SitingResult
-        ``result.to_dict()`` is the ``profiler.siting/1`` JSON report; ``result.network`` the
+        ``result.to_dict()`` is the ``profiler.siting/2`` JSON report; ``result.network`` the
         ``profiler.network/3`` report it was solved over.
     """
     from .products.siting.report import SitingResult, siting_from_network
@@ -324,7 +419,7 @@ def siting(sites, *, dem, redundancy: int = 1, min_margin_db: float | None = Non
     net = network(sites, dem=dem, pairs=pairs, max_distance_km=max_distance_km, band=band,
                   frequency_mhz=frequency_mhz, k_factor=k_factor, clearance_ratio=clearance_ratio, step_m=step_m,
                   fill_voids=fill_voids, radio=radio, workers=workers, scheduler=scheduler, progress=progress,
-                  chunk_links=chunk_links).to_dict()
+                  chunk_links=chunk_links, land_cover=land_cover, land_cover_classes=land_cover_classes).to_dict()
     threshold = (radio or RadioSettings()).fade_margin_db if min_margin_db is None else float(min_margin_db)
     report = siting_from_network(net, min_margin_db=threshold, redundancy=redundancy, max_gateways=max_gateways,
                                  time_limit_s=time_limit_s)

@@ -95,6 +95,13 @@ LIMITS: dict[str, Limit] = {
     "--app-payload-bytes": Limit(0, 255, "bytes", "application payload", integer=True),
     "--sea-fraction": Limit(0.0, 1.0, "", "fraction of the path over sea"),
     "--extra-loss-db": Limit(0.0, 300.0, "dB", "fixed extra loss"),
+    "--extra-loss-a-db": Limit(0.0, 300.0, "dB", "fixed extra loss at A"),
+    "--extra-loss-b-db": Limit(0.0, 300.0, "dB", "fixed extra loss at B"),
+    # terminal clutter: R above 0 and at most the land cover's highest (profiler.terrain.landcover.MAX_CLUTTER_HEIGHT_M)
+    "--clutter-height-a-m": Limit(0.0, 100.0, "m", "clutter height at A", low_open=True),
+    "--clutter-height-b-m": Limit(0.0, 100.0, "m", "clutter height at B", low_open=True),
+    "--terminal-clutter-m": Limit(0.0, 10_000.0, "m", "reach of a terminal's clutter along the path",
+                                  low_open=True),
     # propagation model (ITU-R P.1812-8 section 1: 1-50 % of time, 1-99 % of locations)
     "--time-percent": Limit(1.0, 50.0, "%", "time percentage"),
     "--location-percent": Limit(1.0, 99.0, "%", "location percentage"),
@@ -112,6 +119,8 @@ LIMITS: dict[str, Limit] = {
     # network
     "--max-distance-km": Limit(0.0, 20_100.0, "km", "longest link considered", low_open=True),
     "--workers": Limit(1, 256, "", "worker processes", integer=True),
+    "--cell-m": Limit(1.0, 10_000.0, "m", "side of a survey location cell", low_open=False),
+    "--folds": Limit(2, 100, "", "cross-validation folds", integer=True),
     # coverage (the grid limit MAX_PIXELS of profiler.products.coverage.map bounds radius / resolution as well)
     "--mast-m": Limit(0.0, 1000.0, "m", "gateway antenna height above ground"),
     "--node-mast-m": Limit(0.0, 1000.0, "m", "node antenna height above ground"),

@@ -58,6 +58,8 @@ PHYSICS_MODULES = [
     "profiler.engine.radio",
     "profiler.engine.losses",
     "profiler.engine.model",
+    "profiler.engine.probability",
+    "profiler.engine.terminals",
 ]
 
 # Modules of formulas and published rules (physical quantities, regional

@@ -93,6 +93,7 @@ COMMANDS = {
     "network": "profiler.cli.network:network_command",
     "siting": "profiler.cli.siting:siting_command",
     "coverage": "profiler.cli.coverage:coverage_command",
+    "survey": "profiler.cli.survey:survey_command",
 }
 
 

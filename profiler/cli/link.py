@@ -8,6 +8,7 @@ from .options import (
     clearance_ratio_option,
     frequency_options,
     k_option,
+    land_cover_kwargs,
     plot_options,
     radio_options,
     radio_settings,
@@ -58,7 +59,7 @@ def link_command(site_a, site_b, name_a, name_b, mast_a_m, mast_b_m, dem_paths, 
     from ..terrain.digests import FileDigests
 
     digests = FileDigests()
-    digests.start(dem_paths)   # hash the given files while the numerical libraries load
+    digests.start(dem_paths + radio_kw.get("land_cover_paths", ()))   # hashed while the libraries load
     from ..api import link
     from ..io.outputs import check_outputs, write_outputs
     from ..limits import quiet_numerics, require_finite
@@ -67,12 +68,13 @@ def link_command(site_a, site_b, name_a, name_b, mast_a_m, mast_b_m, dem_paths, 
                            report_path=report_path, record=run_record())
     check_outputs(outputs)  # refuse bad outputs before any computation
     sheet_info, date = sheet_settings(radio_kw)
+    cover = land_cover_kwargs(radio_kw)
     radio = radio_settings(radio_kw)
     with quiet_numerics():
         result = link(site_a, site_b, dem=list(dem_paths), profile_csv=profile_csv, mast_a_m=mast_a_m,
                       mast_b_m=mast_b_m, name_a=name_a, name_b=name_b, k_factor=k_text, frequency_mhz=freq_mhz,
                       band=band_name, step_m=step_m, clearance_ratio=clearance_ratio, fill_voids=fill_voids,
-                      radio=radio, date=date, sheet_info=sheet_info, digests=digests)
+                      radio=radio, date=date, sheet_info=sheet_info, digests=digests, **cover)
         report = result.to_dict()
         require_finite(report, LINK_FINITE, "link analysis")
         write_outputs(outputs, report)

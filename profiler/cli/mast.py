@@ -12,6 +12,7 @@ from .options import (
     clearance_ratio_option,
     frequency_options,
     k_option,
+    land_cover_kwargs,
     plot_options,
     radio_options,
     radio_settings,
@@ -81,6 +82,7 @@ def mast_command(site_a, site_b, name_a, name_b, mast_a_m, mast_b_m, dem_paths, 
     outputs = mast_outputs(json_path, plot_path, paper, dpi, report_path=report_path, record=run_record())
     check_outputs(outputs)  # refuse bad outputs before any computation
     sheet_info, date = sheet_settings(radio_kw)
+    cover = land_cover_kwargs(radio_kw)
     radio = radio_settings(radio_kw)
     if no_clearance and min_margin_db is None:
         raise ProfilerError("--no-clearance leaves no criterion: give --min-margin-db too")
@@ -91,7 +93,7 @@ def mast_command(site_a, site_b, name_a, name_b, mast_a_m, mast_b_m, dem_paths, 
                       clearance_ratio=None if no_clearance else clearance_ratio, low_k_factor=low_k_text,
                       low_k_clearance_ratio=None if (no_clearance or no_low_k) else low_k_clearance,
                       min_margin_db=min_margin_db, solve=solve, max_mast_m=max_mast_m, mast_step_m=mast_step_m,
-                      radio=radio, date=date, sheet_info=sheet_info)
+                      radio=radio, date=date, sheet_info=sheet_info, **cover)
         report = result.to_dict()
         require_finite(report, MAST_FINITE + (MAST_FEASIBLE_FINITE if report["feasible"] else ()), "mast search")
         write_outputs(outputs, report)  # an infeasible search still writes its report, then exits 3

@@ -89,6 +89,7 @@ def network_summary_text(report: dict) -> str:
     """Short human summary: counts (existing gateways and candidate sites apart), then one line per node
     (best gateway, margin, data rate; with candidate sites, the candidates heard, the best and its margin)."""
     from ..about import CAUTION
+    from ..io.report import model_line
 
     s = report["summary"]
     cand = s["candidates"] > 0
@@ -98,6 +99,7 @@ def network_summary_text(report: dict) -> str:
     lines = [f"Network: {s['links']} links, {s['closing']} close with the {report['fade_margin_db']:g} dB fade margin, "
              f"{s['errors']} could not be computed",
              f"  frequency     {report['frequency_mhz']:.4f} MHz{band}, k = {report['k_factor']:.4g}",
+             f"  model         {model_line(report)}",
              f"  sites         {_count(s['gateways'], 'existing gateway')}, "
              f"{_count(s['candidates'], 'candidate site')}, "
              f"{_count(s['nodes_total'], 'node')}",

@@ -160,8 +160,32 @@ def site_options(f):
     ])(f)
 
 
+def land_cover_option_list():
+    """``--land-cover`` (repeatable) and ``--land-cover-classes`` (new decorators on each call)."""
+    return [
+        click.option("--land-cover", "land_cover_paths", multiple=True, metavar="PATH",
+                     help="Land-cover raster of class codes (any CRS) or folder of tiles; repeatable: the clutter "
+                          "class and height of the nearest pixel at every profile sample."),
+        click.option("--land-cover-classes", "land_cover_classes", type=click.Path(dir_okay=False), default=None,
+                     metavar="FILE.toml",
+                     help="Land-cover code -> clutter class and height ([classes.50] clutter = \"urban\" "
+                          "height_m = 15; default: the built-in ESA WorldCover mapping)."),
+    ]
+
+
+def land_cover_options(f):
+    """The land-cover options (:func:`land_cover_option_list`) as one decorator."""
+    return _apply(land_cover_option_list())(f)
+
+
+def land_cover_kwargs(kw):
+    """``land_cover`` and ``land_cover_classes`` of the API from the parsed options (popping them from ``kw``)."""
+    return {"land_cover": list(kw.pop("land_cover_paths", ())) or None,
+            "land_cover_classes": kw.pop("land_cover_classes", None)}
+
+
 def terrain_options(f):
-    """Where the terrain comes from and how finely it is sampled."""
+    """Where the terrain comes from and how finely it is sampled, and the land cover."""
     return _apply([
         click.option("--dem", "dem_paths", multiple=True, metavar="PATH",
                      help="Elevation file (GeoTIFF, .hgt, VRT, ...) or folder of tiles; repeatable."),
@@ -170,6 +194,7 @@ def terrain_options(f):
         click.option("--step-m", type=POSITIVE, default=None,
                      help="Largest sample spacing [m] (default: the finest DEM pixel along the path)."),
         click.option("--fill-voids", is_flag=True, help="Interpolate across elevation voids instead of refusing."),
+        *land_cover_option_list(),
     ])(f)
 
 
@@ -246,8 +271,14 @@ def _radio_option_list():
                      default="delta-bullington", show_default=True,
                      help="Diffraction model of --model terrain (ITU-R P.526-15); P.1812-8 uses delta-Bullington."),
         click.option("--extra-loss-db", type=NON_NEGATIVE, default=0.0, show_default=True,
-                     help="Fixed extra loss: foliage, building entry, ... [dB]."),
+                     help="Fixed extra loss of the path (both directions) [dB]."),
+        click.option("--extra-loss-a-db", type=NON_NEGATIVE, default=0.0, show_default=True,
+                     help="Fixed extra loss at A, what no model covers (meter pit, basement, metal cabinet) [dB]; "
+                          "a sites file's extra_loss_db wins for its site."),
+        click.option("--extra-loss-b-db", type=NON_NEGATIVE, default=0.0, show_default=True,
+                     help="Fixed extra loss at B [dB] (as --extra-loss-a-db)."),
         *model_option_list(),
+        *terminal_option_list(),
     ]
 
 
@@ -283,6 +314,37 @@ def model_option_list():
     ]
 
 
+def terminal_option_list():
+    """The terminal options (clutter and indoor ends, :mod:`profiler.engine.terminals`), new on each call."""
+    from ..propagation.building_entry import BUILDING_TYPES
+    from ..propagation.p2108 import CLUTTER_CLASSES  # the land cover's classes, without importing rasterio
+
+    options = []
+    for end in ("a", "b"):
+        end_up = end.upper()
+        options += [
+            click.option(f"--clutter-{end}", f"clutter_{end}", type=click.Choice(CLUTTER_CLASSES), default=None,
+                         help=f"Clutter class around {end_up} (overrides the land cover there): p1812 raises the "
+                              f"profile within --terminal-clutter-m of {end_up}; terrain adds ITU-R P.2108-1."),
+            click.option(f"--clutter-height-{end}-m", type=POSITIVE, default=None,
+                         help=f"Representative clutter height at {end_up} [m] (default: the class's default of "
+                              "the run's model; needs the class)."),
+            click.option(f"--indoor-{end}", f"indoor_{end}", type=click.Choice(BUILDING_TYPES), default=None,
+                         help=f"{end_up} is inside a building of this type: ITU-R P.2109-1 building entry loss "
+                              "at --location-percent and the path's elevation angle."),
+        ]
+    return options + [
+        click.option("--terminal-clutter-m", type=POSITIVE, default=50.0, show_default=True,
+                     help="p1812: how far from its end a terminal's clutter class sets the profile's clutter [m]."),
+        click.option("--clutter-statistics", is_flag=True,
+                     help="terrain: ITU-R P.2108-1 section 3.2 statistical clutter loss at a built-up end "
+                          "instead of the section 3.1 height-gain correction."),
+    ]
+
+
+TERMINAL_OPTION_NAMES = ("clutter_a", "clutter_b", "clutter_height_a_m", "clutter_height_b_m", "terminal_clutter_m",
+                         "clutter_statistics", "indoor_a", "indoor_b")
+
 MODEL_OPTION_NAMES = ("model", "time_percent", "location_percent", "location_sigma_db", "area_width_m", "delta_n",
                       "n0", "coast_distance_a_km", "coast_distance_b_km")
 
@@ -297,13 +359,13 @@ def propagation_settings(kw):
 
     from ..engine.model import PropagationSettings
 
-    values = {n: kw.pop(n) for n in MODEL_OPTION_NAMES if n in kw}
+    values = {n: kw.pop(n) for n in MODEL_OPTION_NAMES + TERMINAL_OPTION_NAMES if n in kw}
     ctx = click.get_current_context(silent=True)
     if values.get("delta_n") is not None and ctx is not None and "k_text" in ctx.params \
             and ctx.get_parameter_source("k_text") in (ParameterSource.COMMANDLINE, ParameterSource.ENVIRONMENT):
         raise ProfilerError("give either --k or --delta-n, not both: each sets the effective Earth radius "
                             "(k = 157 / (157 - delta-n))")
-    return PropagationSettings(**values)
+    return PropagationSettings(**values).validate()   # before any terrain is read
 
 
 def radio_settings(kw):
@@ -317,7 +379,8 @@ def radio_settings(kw):
     names = ("gateway", "tx_power_dbm", "tx_power_a_dbm", "tx_power_b_dbm", "cap_eirp", "gain_a_dbi", "gain_b_dbi",
              "cable_loss_a_db", "cable_loss_b_db", "fade_margin_db", "sensitivity_dbm", "bw_khz", "noise_figure_db",
              "noise_figure_a_db", "noise_figure_b_db", "sf", "payload_bytes", "app_payload_bytes", "dwell_time",
-             "polarization_a", "polarization_b", "sea_fraction", "diffraction_method", "extra_loss_db")
+             "polarization_a", "polarization_b", "sea_fraction", "diffraction_method", "extra_loss_db",
+             "extra_loss_a_db", "extra_loss_b_db")
     return RadioSettings(**{n: kw.pop(n) for n in names}, propagation=propagation_settings(kw))
 
 
@@ -370,6 +433,7 @@ def network_options(f):
                      help="Largest sample spacing [m] (default: the finest DEM pixel along each path)."),
         click.option("--fill-voids", is_flag=True,
                      help="Interpolate across elevation voids instead of failing the link."),
+        *land_cover_option_list(),
     ])(f)
 
 
@@ -386,7 +450,7 @@ def network_call_kwargs(kw):
             "max_distance_km": 50.0 if kw["max_distance_km"] is None else kw["max_distance_km"],
             "band": kw["band_name"], "frequency_mhz": kw["freq_mhz"], "k_factor": kw["k_text"],
             "clearance_ratio": kw["clearance_ratio"], "step_m": kw["step_m"], "fill_voids": kw["fill_voids"],
-            "radio": radio}
+            "radio": radio, **land_cover_kwargs(kw)}
 
 
 def cluster_options(f):

@@ -14,7 +14,10 @@ line-of-sight, diffraction, ducting and troposcatter, eqs. 9-63 and 69,
 adds beyond free space and diffraction; 0 for ``terrain``), ``location``
 (the location term of eq. 69; 0 for ``terrain``), ``basic_transmission``
 (their sum: the basic transmission loss), ``extra``, ``polarization``,
-``total`` (basic transmission + extra + polarization), ``diffraction_method``,
+``clutter_a``/``_b`` (the ITU-R P.2108-1 terminal term of ``terrain``; 0
+for ``p1812``, whose profile carries the clutter), ``building_entry_a``/``_b``
+(ITU-R P.2109-1), ``extra_a``/``_b`` (the fixed loss per end), ``total``
+(basic transmission + extra + polarization + the per-end terms), ``diffraction_method``,
 the informative diffraction values and the smooth-surface heights.
 """
 
@@ -148,8 +151,11 @@ def terrain_loss_batch(d, terrain, n, h_a, h_b, frequency_mhz, ae, radio, pol_a_
 
 
 def path_loss_batch(d, terrain, n, h_a, h_b, frequency_mhz, ae, radio, pol_a_deg, pol_b_deg, reduced=None,
-                    informative=True, paths=None):
+                    informative=True, paths=None, overrides=None):
     """The ``loss_db`` block for one frequency, one value per link, by the run's model [dB].
+
+    The terminals (clutter at each end, indoor ends, fixed per-end losses)
+    are :mod:`profiler.engine.terminals`, the same for both models.
 
     Parameters
     ----------
@@ -158,13 +164,20 @@ def path_loss_batch(d, terrain, n, h_a, h_b, frequency_mhz, ae, radio, pol_a_deg
     paths : dict, optional
         What ``--model p1812`` needs besides the profiles: ``lat_a_deg``,
         ``lon_a_deg``, ``lat_b_deg``, ``lon_b_deg`` (L,) [deg] and optionally
-        ``clutter_m`` (L, N) [m] and ``zone`` (L, N) (1 sea, 3 coastal land,
-        4 inland; default inland).
+        ``clutter_m`` (L, N) [m], ``clutter_class`` (L, N) [index into the
+        clutter classes, -1 none] and ``zone`` (L, N) (1 sea, 3 coastal
+        land, 4 inland; default inland).
+    overrides : dict, optional
+        A sites file's per-role terminal arrays (:func:`profiler.engine.terminals.terminal_ends`).
 
     Returns
     -------
     dict
-        The ``loss_db`` block (module docstring); with ``p1812`` also the key
+        The ``loss_db`` block (module docstring) with the per-end keys
+        ``clutter_a``, ``clutter_b``, ``building_entry_a``, ``building_entry_b``,
+        ``extra_a``, ``extra_b`` [dB] in ``total``; ``terminals`` (the ends of
+        :func:`profiler.engine.terminals.terminal_ends`, the elevation angles,
+        ``skipped_a``/``_b`` and ``near_a``/``_b``); with ``p1812`` also the key
         ``p1812``: the named values of :func:`profiler.propagation.p1812.p1812_batch`.
 
     References
@@ -172,12 +185,46 @@ def path_loss_batch(d, terrain, n, h_a, h_b, frequency_mhz, ae, radio, pol_a_deg
     .. [1] ITU-R P.525-4 and P.452-18 section 4.2 (``terrain``, see
        :func:`terrain_loss_batch`); ITU-R P.1812-8 Annex 1 sections 3-4
        (``p1812``, see :func:`p1812_loss_batch`).
+    .. [2] ITU-R P.2108-1 Annex 1 sections 3.1-3.2 and ITU-R P.2109-1
+       (:mod:`profiler.engine.terminals`).
     """
+    from .terminals import indoor_losses, terminal_ends, terrain_clutter
+
+    h_a, h_b = np.asarray(h_a, dtype=float), np.asarray(h_b, dtype=float)
+    ends = terminal_ends(radio, h_a.size, paths, overrides, n)
+    if reduced is not None:
+        length = np.asarray(reduced["length_m"], dtype=float)
+    else:
+        length = np.asarray(d, dtype=float)[np.arange(np.shape(d)[0]), np.asarray(n) - 1]
+    info = {"ends": ends, **indoor_losses(frequency_mhz, h_a, h_b, length, ae, ends,
+                                          radio.propagation.location_percent)}
+    zero = np.zeros_like(h_a)
     if radio.propagation.model == "p1812":
-        return p1812_loss_batch(d, terrain, n, h_a, h_b, frequency_mhz, ae, radio, pol_a_deg, pol_b_deg, paths,
-                                informative, None if reduced is None else reduced.get("p1812"))
-    return terrain_loss_batch(d, terrain, n, h_a, h_b, frequency_mhz, ae, radio, pol_a_deg, pol_b_deg, reduced,
-                              informative)
+        block = p1812_loss_batch(d, terrain, n, h_a, h_b, frequency_mhz, ae, radio, pol_a_deg, pol_b_deg, paths,
+                                 informative, ends, None if reduced is None else reduced.get("p1812"))
+        info.update(block.pop("near"), skipped_a=zero > 0, skipped_b=zero > 0)
+        clutter_a = clutter_b = zero
+    else:
+        if reduced is None and (ends["a"]["clutter_index"] >= 0).any() | (ends["b"]["clutter_index"] >= 0).any():
+            t = np.asarray(terrain, dtype=float)
+            tc = terrain_clutter(frequency_mhz, h_a, h_b, t[:, 0], t[np.arange(t.shape[0]), np.asarray(n) - 1],
+                                 length, ends, radio)
+        elif reduced is not None and any((ends[e]["clutter_index"] >= 0).any() for e in "ab"):
+            raise RuntimeError("terminal clutter needs the profiles, not only their reductions")
+        else:
+            tc = {"h_a": h_a, "h_b": h_b, "clutter_a": zero, "clutter_b": zero, "skipped_a": zero > 0,
+                  "skipped_b": zero > 0}
+        block = terrain_loss_batch(d, terrain, n, tc["h_a"], tc["h_b"], frequency_mhz, ae, radio, pol_a_deg,
+                                   pol_b_deg, reduced, informative)
+        info.update(skipped_a=tc["skipped_a"], skipped_b=tc["skipped_b"], near_a=zero, near_b=zero)
+        clutter_a, clutter_b = tc["clutter_a"], tc["clutter_b"]
+    terms = {"clutter_a": clutter_a + zero, "clutter_b": clutter_b + zero,
+             "building_entry_a": info["building_entry_a"] + zero, "building_entry_b": info["building_entry_b"] + zero,
+             "extra_a": ends["a"]["extra_loss_db"] + zero, "extra_b": ends["b"]["extra_loss_db"] + zero}
+    block.update(terms)
+    block["total"] = block["total"] + sum(terms.values())
+    block["terminals"] = info
+    return block
 
 
 def node_location_sigma_db(propagation, frequency_mhz, node_height_m, node_clutter_m, node_at_sea):
@@ -240,7 +287,7 @@ def p1812_delta_n(propagation, effective_radius_m):
 
 
 def p1812_loss_batch(d, terrain, n, h_a, h_b, frequency_mhz, ae, radio, pol_a_deg, pol_b_deg, paths,
-                     informative=True, reduced=None):
+                     informative=True, ends=None, reduced=None):
     """The ``loss_db`` block of ``--model p1812`` for one frequency, one value per link [dB].
 
     Site A is the transmitter of P.1812-8 and B the receiver (the loss is
@@ -269,15 +316,20 @@ def p1812_loss_batch(d, terrain, n, h_a, h_b, frequency_mhz, ae, radio, pol_a_de
         (:func:`path_loss_batch`).
     informative : bool
         Also the diffraction pass at aβ where it does not change the result.
+    ends : dict, optional
+        The terminals (:func:`profiler.engine.terminals.terminal_ends`): an
+        overridden end's R near that end (:func:`profiler.engine.terminals.p1812_clutter`).
     reduced : dict, optional
         :func:`profiler.propagation.p1812.reductions.p1812_reductions` of
         these links, already computed (``profiler coverage``'s kernel, with
-        ΔN of :func:`p1812_delta_n`): the profiles are not read again.
+        ΔN of :func:`p1812_delta_n`, no clutter): the profiles are not read again.
 
     Returns
     -------
     dict
-        The ``loss_db`` block and ``p1812`` (named values, arrays (L,)).
+        The ``loss_db`` block, ``p1812`` (named values, arrays (L,)) and
+        ``near`` (``near_a``, ``near_b``: the interior samples each end's
+        override set, counts (L,)).
 
     References
     ----------
@@ -291,19 +343,25 @@ def p1812_loss_batch(d, terrain, n, h_a, h_b, frequency_mhz, ae, radio, pol_a_de
                             "use --model terrain for a profile without coordinates")
     prop = radio.propagation
     h_a, h_b = np.asarray(h_a, dtype=float), np.asarray(h_b, dtype=float)
+    near = {"near_a": np.zeros(h_a.size, int), "near_b": np.zeros(h_a.size, int)}
     if reduced is None:
         d, t, n = np.asarray(d, dtype=float), np.asarray(terrain, dtype=float), np.asarray(n, dtype=np.int64)
         clutter = paths.get("clutter_m")
         clutter = np.zeros(d.shape) if clutter is None else np.where(np.isfinite(clutter), clutter, 0.0)
+        if ends is not None:
+            from .terminals import p1812_clutter
+
+            clutter, counts = p1812_clutter(d, n, clutter, ends, prop.terminal_clutter_m)
+            near = {"near_a": counts["a"], "near_b": counts["b"]}
         zone = paths.get("zone")
         zone = np.full(d.shape, ZONE_INLAND) if zone is None else np.asarray(zone)
         reducer = ProfileReducer(d * 1e-3, t, clutter, zone, n)
         reduced = p1812_reductions(reducer, h_a - reducer.h_first_m, h_b - reducer.h_last_m,
                                    p1812_delta_n(prop, ae), prop.time_percent, informative)
-    ends = reduced["terminals"]
+    at_ends = reduced["terminals"]
     node = "r" if radio.gateway == "a" else "t"
     sigma = node_location_sigma_db(prop, frequency_mhz, reduced["hrg_m" if node == "r" else "htg_m"],
-                                   ends[f"clutter_{node}_m"], ends[f"sea_{node}"])
+                                   at_ends[f"clutter_{node}_m"], at_ends[f"sea_{node}"])
     vertical = np.abs(np.cos(np.radians(pol_a_deg))) >= math.sqrt(0.5)
     out = p1812_finish(reduced, f_ghz=frequency_mhz * 1e-3, time_percent=prop.time_percent, vertical=vertical,
                        n0=prop.n0, lat_t_deg=paths["lat_a_deg"], lon_t_deg=paths["lon_a_deg"],
@@ -316,7 +374,8 @@ def p1812_loss_batch(d, terrain, n, h_a, h_b, frequency_mhz, ae, radio, pol_a_de
             "location": loc, "basic_transmission": basic, "extra": np.full_like(h_a, radio.extra_loss_db),
             "polarization": pol_loss, "total": basic + radio.extra_loss_db + pol_loss,
             "diffraction_method": "delta-bullington", "delta_bullington": out["ld50_db"],
-            "smooth_surface_height_a_m": out["hstd_m"], "smooth_surface_height_b_m": out["hsrd_m"], "p1812": out}
+            "smooth_surface_height_a_m": out["hstd_m"], "smooth_surface_height_b_m": out["hsrd_m"], "p1812": out,
+            "near": near}
 
 
 def profile_paths(profile, site_a, site_b) -> dict:

@@ -25,6 +25,14 @@ Defaults and their basis
 - ``coast_distance_a_km``/``_b_km`` 500: inland (P.1812-8 section 3.4:
   distances from the coast only matter within a few tens of km; 0 is a
   terminal at sea).
+- ``clutter_a``/``_b`` None: the land cover at that end, if any;
+  ``clutter_height_a_m``/``_b_m`` None: the class's default height of the
+  run's model (:func:`profiler.terrain.landcover.default_height_m`).
+- ``terminal_clutter_m`` 50: how far from its end a terminal's clutter
+  class reaches along the P.1812 profile (the clutter around a node's
+  building and street; common practice for a terminal's surroundings).
+- ``indoor_a``/``_b`` None: outdoors.  The terminal terms themselves are
+  :mod:`profiler.engine.terminals`.
 """
 
 from __future__ import annotations
@@ -108,6 +116,22 @@ class PropagationSettings:
         Sea-level surface refractivity N0 [N-units].
     coast_distance_a_km, coast_distance_b_km : float, default 500
         Distance of each terminal from the coast [km] (0: at sea).
+    clutter_a, clutter_b : str, optional
+        Clutter class around each terminal (``water``, ``open``,
+        ``suburban``, ``urban``, ``trees``, ``dense-urban``); None: the land
+        cover at that end, if any.
+    clutter_height_a_m, clutter_height_b_m : float, optional
+        Representative clutter height R of that end [m]; None: the class's
+        default for the run's model.  Needs the end's class.
+    terminal_clutter_m : float, default 50
+        Distance from an end within which its class sets R of the interior
+        P.1812 profile points [m].
+    clutter_statistics : bool, default False
+        ``--model terrain``: ITU-R P.2108-1 section 3.2 at a built-up end
+        instead of section 3.1.
+    indoor_a, indoor_b : str, optional
+        ``traditional`` or ``thermally-efficient``: the terminal is inside
+        such a building (ITU-R P.2109-1); None: outdoors.
     """
 
     model: str | None = None
@@ -119,6 +143,14 @@ class PropagationSettings:
     n0: float = N0_DEFAULT
     coast_distance_a_km: float = 500.0
     coast_distance_b_km: float = 500.0
+    clutter_a: str | None = None
+    clutter_b: str | None = None
+    clutter_height_a_m: float | None = None
+    clutter_height_b_m: float | None = None
+    terminal_clutter_m: float = 50.0
+    clutter_statistics: bool = False
+    indoor_a: str | None = None
+    indoor_b: str | None = None
 
     def validate(self) -> "PropagationSettings":
         """Check the settings against their ranges (:data:`profiler.limits.LIMITS`).
@@ -136,12 +168,35 @@ class PropagationSettings:
         if self.model is not None and self.model not in MODELS:
             raise ProfilerError(f"unknown --model {self.model!r}; use p1812 or terrain")
         for name in ("time_percent", "location_percent", "location_sigma_db", "area_width_m", "delta_n", "n0",
-                     "coast_distance_a_km", "coast_distance_b_km"):
+                     "coast_distance_a_km", "coast_distance_b_km", "clutter_height_a_m", "clutter_height_b_m",
+                     "terminal_clutter_m"):
             value = getattr(self, name)
             if value is not None and not math.isfinite(float(value)):
                 raise ProfilerError(f"--{name.replace('_', '-')} must be a finite number, got {value}")
         limits.check_fields(self)
+        self._check_terminals()
         return self
+
+    def _check_terminals(self) -> None:
+        """Refuse an unknown clutter class or building type, a clutter height without its class, and
+        ``--clutter-statistics`` with ``--model p1812``."""
+        if self.model == "p1812" and self.clutter_statistics:
+            raise ProfilerError("--clutter-statistics is for --model terrain (ITU-R P.2108-1 section 3.2); "
+                                "P.1812-8 carries the clutter in its profile: add --model terrain or leave "
+                                "--clutter-statistics out")
+        from ..propagation.building_entry import BUILDING_TYPES
+        from ..terrain.landcover import clutter_index
+
+        for end in ("a", "b"):
+            clutter = getattr(self, f"clutter_{end}")
+            if clutter is not None:
+                clutter_index(clutter, f"--clutter-{end}")
+            elif getattr(self, f"clutter_height_{end}_m") is not None:
+                raise ProfilerError(f"--clutter-height-{end}-m needs --clutter-{end} CLASS: the height is that of "
+                                    "the class around the terminal")
+            indoor = getattr(self, f"indoor_{end}")
+            if indoor is not None and indoor not in BUILDING_TYPES:
+                raise ProfilerError(f"unknown --indoor-{end} {indoor!r}; use {' or '.join(BUILDING_TYPES)}")
 
     def resolved(self, has_coordinates: bool) -> "PropagationSettings":
         """The settings with ``model`` chosen: None becomes p1812 with coordinates, terrain without.
@@ -162,7 +217,9 @@ class PropagationSettings:
             For ``model="p1812"`` without the terminals' coordinates.
         """
         if self.model is None:
-            return replace(self, model="p1812" if has_coordinates else "terrain")
+            return replace(self, model="p1812" if has_coordinates else "terrain").resolved(has_coordinates)
+        if self.model == "p1812" and self.clutter_statistics:
+            self._check_terminals()
         if self.model == "p1812" and not has_coordinates:
             raise ProfilerError("--model p1812 needs the latitude and longitude of both terminals: with --profile "
                                 "add --site-a LAT,LON and --site-b LAT,LON, or use --model terrain")

@@ -97,6 +97,10 @@ class RadioSettings:
         One of ``DIFFRACTION_METHODS``.
     extra_loss_db : float, default 0
         Fixed extra loss added to the path [dB].
+    extra_loss_a_db, extra_loss_b_db : float, default 0
+        Fixed extra loss at each end [dB]: what no model covers (a meter
+        pit, a basement, a metal cabinet); a sites file's ``extra_loss_db``
+        wins for its site.
     propagation : PropagationSettings
         The propagation model and its inputs (:mod:`profiler.engine.model`;
         default: P.1812-8 where the terminals have coordinates, medians).
@@ -126,6 +130,8 @@ class RadioSettings:
     sea_fraction: float = 0.0
     diffraction_method: str = "delta-bullington"
     extra_loss_db: float = 0.0
+    extra_loss_a_db: float = 0.0
+    extra_loss_b_db: float = 0.0
     propagation: PropagationSettings = PropagationSettings()
 
     def validate(self) -> "RadioSettings":
@@ -146,11 +152,13 @@ class RadioSettings:
             raise ProfilerError(f"--gateway must be a or b, got {self.gateway!r}")
         for name in ("tx_power_dbm", "tx_power_a_dbm", "tx_power_b_dbm", "gain_a_dbi", "gain_b_dbi",
                      "cable_loss_a_db", "cable_loss_b_db", "fade_margin_db", "noise_figure_db",
-                     "noise_figure_a_db", "noise_figure_b_db", "extra_loss_db", "sea_fraction", "sensitivity_dbm"):
+                     "noise_figure_a_db", "noise_figure_b_db", "extra_loss_db", "extra_loss_a_db", "extra_loss_b_db",
+                     "sea_fraction", "sensitivity_dbm"):
             value = getattr(self, name)
             if value is not None and not math.isfinite(float(value)):
                 raise ProfilerError(f"--{name.replace('_', '-')} must be a finite number, got {value}")
-        for name in ("cable_loss_a_db", "cable_loss_b_db", "extra_loss_db", "fade_margin_db"):
+        for name in ("cable_loss_a_db", "cable_loss_b_db", "extra_loss_db", "extra_loss_a_db", "extra_loss_b_db",
+                     "fade_margin_db"):
             if getattr(self, name) < 0:
                 raise ProfilerError(f"--{name.replace('_', '-')} must not be negative, got {getattr(self, name)}")
         node = "b" if self.gateway == "a" else "a"
@@ -431,7 +439,8 @@ def radio_batch(d, terrain, n, h_a, h_b, frequency_mhz, ae, radio: RadioSettings
     -------
     dict
         ``losses`` ({frequency: loss block of arrays}), ``p1812``
-        ({frequency: named P.1812-8 values}, with ``--model p1812``), ``ends``, ``cap_notes``,
+        ({frequency: named P.1812-8 values}, with ``--model p1812``), ``terminals``
+        ({frequency: the terminals of :func:`profiler.engine.losses.path_loss_batch`}), ``ends``, ``cap_notes``,
         ``uplink`` and ``downlink`` (rx power, the budget's margin, sf, bw,
         dr and sensitivity; with a plan also the per-DR arrays, the rules and
         the recommended index), ``rx2`` (with a plan), ``per_sf`` (uplink
@@ -458,12 +467,14 @@ def radio_batch(d, terrain, n, h_a, h_b, frequency_mhz, ae, radio: RadioSettings
     freqs = {frequency_mhz, f_down} | ({plan.rx2_frequency_mhz} if plan is not None and rx2 else set())
     pol_a = ends["gateway" if radio.gateway == "a" else "node"]["polarization_deg"]
     pol_b = ends["node" if radio.gateway == "a" else "gateway"]["polarization_deg"]
-    losses = {f: path_loss_batch(d, terrain, n, h_a, h_b, f, ae, radio, pol_a, pol_b, reduced, informative, paths)
-              for f in sorted(freqs)}
+    losses = {f: path_loss_batch(d, terrain, n, h_a, h_b, f, ae, radio, pol_a, pol_b, reduced, informative, paths,
+                                 overrides) for f in sorted(freqs)}
     named = {f: block.pop("p1812") for f, block in losses.items() if "p1812" in block}
+    terminals = {f: block.pop("terminals") for f, block in losses.items()}
     phy, app = lorawan.payload_sizes(radio.payload_bytes, radio.app_payload_bytes)
     gw, node = ends["gateway"], ends["node"]
-    out = {"losses": losses, "p1812": named, "ends": ends, "cap_notes": cap_notes, "phy_bytes": phy, "app_bytes": app,
+    out = {"losses": losses, "p1812": named, "terminals": terminals, "ends": ends, "cap_notes": cap_notes,
+           "phy_bytes": phy, "app_bytes": app,
            "dwell_ms": dwell, "downlink_frequency_mhz": f_down}
     sf_axis = np.asarray(lora_modem.LORA_SPREADING_FACTORS)
     up_rx = _rx_power(node, gw, losses[frequency_mhz]["total"])
@@ -608,7 +619,9 @@ def radio_results(d, terrain, h_a, h_b, frequency_mhz, ae, radio: RadioSettings,
     -------
     dict
         Keys ``p1812`` (the named P.1812-8 values at the uplink frequency,
-        floats; None with ``--model terrain``), ``loss_db`` (at the uplink frequency), ``budget`` (uplink,
+        floats; None with ``--model terrain``), ``terminals`` (per end "a",
+        "b": clutter class, R, its source, indoor type, extra loss;
+        :func:`profiler.engine.terminals.terminal_report`), ``loss_db`` (at the uplink frequency), ``budget`` (uplink,
         node -> gateway), ``budget_downlink``, ``lora`` (None with a given
         sensitivity), ``compliance``, ``slant_distance_m`` [m], ``warnings``.
 
@@ -617,6 +630,8 @@ def radio_results(d, terrain, h_a, h_b, frequency_mhz, ae, radio: RadioSettings,
     .. [1] ITU-R P.525-4 Annex 1 section 2.2; ITU-R P.452-18 section 4.2;
        LoRa Alliance RP002-1.0.4 (as :func:`radio_batch`).
     """
+    from .terminals import terminal_report, terminal_warnings
+
     d2 = np.asarray(d, dtype=float)[None, :]
     rb = radio_batch(d2, np.asarray(terrain, dtype=float)[None, :], np.array([d2.shape[1]]),
                      np.array([float(h_a)]), np.array([float(h_b)]), frequency_mhz, ae, radio, plan, paths=paths)
@@ -633,11 +648,14 @@ def radio_results(d, terrain, h_a, h_b, frequency_mhz, ae, radio: RadioSettings,
     compliance = lorawan.compliance_block(plan, ends0, rb["dwell_ms"], rb["cap_notes"])
     if compliance["eirp_ok"] is False:
         warnings += [n for n in compliance["notes"] if "above the" in n]
+    warnings += terminal_warnings(rb["terminals"][frequency_mhz], radio)
     named = rb["p1812"].get(frequency_mhz)
     p1812 = None if named is None else {k: (bool(v[0]) if v.dtype == bool else float(v[0]))
                                         for k, v in ((k, np.asarray(v)) for k, v in named.items())}
     return {"loss_db": loss, "p1812": p1812,
+            "terminals": terminal_report(rb["terminals"][frequency_mhz]["ends"], 0, radio.propagation.model),
             "budget": _budget_block(rb, "uplink", 0, fade, frequency_mhz, source),
             "budget_downlink": _budget_block(rb, "downlink", 0, fade, rb["downlink_frequency_mhz"], source),
             "lora": lora, "compliance": compliance, "ends": ends0,
             "slant_distance_m": float(slant_distance_m(d2[0, -1], h_a, h_b)), "warnings": warnings}
+

@@ -20,6 +20,7 @@ import zipfile
 import numpy as np
 
 from ..about import CAUTION
+from .report import model_line
 
 KML_NAMESPACE = "http://www.opengis.net/kml/2.2"
 
@@ -198,6 +199,7 @@ def coverage_summary_text(report: dict) -> str:
     lines = [f"Coverage: {', '.join(str(g['name']) for g in sites)}, radius {st['radius_km']:g} km at "
              f"{st['resolution_m']:.1f} m ({report['grid']['width']} x {report['grid']['height']} pixels, "
              f"{st['radials']} radials)",
+             f"  model         {model_line(report)}",
              f"  sites         {site_count_text(s)}"]
     lines += [f"  {'candidate' if g.get('role') == 'candidate' else 'gateway':<13} {g['name']}: "
               f"{g['lat_deg']:.6f}, {g['lon_deg']:.6f}, mast {g['mast_m']:g} m, "

@@ -36,7 +36,7 @@ from ..about import CAUTION
 from ..errors import ProfilerError
 from ..textsafe import json_text
 from .outputs import write_text
-from .report import inert_text, summary_rows, verdict
+from .report import inert_text, losses_text, summary_rows, verdict
 
 __all__ = ["geojson_dict", "geojson_text", "write_geojson", "kml_text", "write_kml",
            "split_at_antimeridian", "site_label", "KML_NAMESPACE"]
@@ -150,12 +150,12 @@ def _worst_lines(report: dict) -> list[str]:
 
 
 def _link_lines(report: dict, text=_text) -> list[str]:
-    loss, bud = report["loss_db"], report["budget"]
+    bud = report["budget"]
     return [
         f"Link {_link_name(report, text)}: {text(verdict(report))}",
         f"distance {num(report['distance_m'] / 1000.0, '.3f')} km, {num(report['frequency_mhz'], '.4f')} MHz, "
         f"k = {num(report.get('k_factor'), '.4g')}",
-        f"total loss {num(loss.get('total'), '.1f')} dB ({text(loss.get('diffraction_method'))}), "
+        f"losses {text(losses_text(report))}",
         f"received {num(bud.get('rx_power_dbm'), '.1f')} dBm, margin {num(bud.get('margin_db'), '+.1f')} dB "
         f"at SF{bud.get('sf')}",
         CAUTION,

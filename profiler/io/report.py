@@ -9,6 +9,7 @@ from __future__ import annotations
 import csv
 import io
 import json
+import math
 
 import numpy as np
 
@@ -52,13 +53,14 @@ def write_json(report: dict, path) -> None:
 
 
 def format_cell(x, digits=3):
-    """A number for a CSV cell: fixed decimals, ``true``/``false``, empty for None."""
+    """A number for a CSV cell: fixed decimals (a value that rounds to zero is 0, never -0), ``true``/``false``,
+    empty for None."""
     if x is None:
         return ""
     if isinstance(x, bool):
         return "true" if x else "false"
     if isinstance(x, float):
-        return f"{x:.{digits}f}"
+        return f"{round(x, digits) + 0.0:.{digits}f}" if math.isfinite(x) else f"{x:.{digits}f}"
     return str(x)
 
 
@@ -99,6 +101,7 @@ def csv_text(report: dict) -> str:
 def summary_rows(report: dict) -> list[tuple[str, object]]:
     """Headline results as ``(name_with_unit, value)`` pairs."""
     a, b, loss, bud = report["site_a"], report["site_b"], report["loss_db"], report["budget"]
+    prop = report.get("propagation") or {}
     return [
         ("site_a_name", a["name"]), ("site_b_name", b["name"]),
         ("distance_m", report["distance_m"]), ("frequency_mhz", report["frequency_mhz"]),
@@ -107,8 +110,12 @@ def summary_rows(report: dict) -> list[tuple[str, object]]:
         ("worst_distance_m", report["worst"]["distance_m"]),
         ("worst_clearance_m", report["worst"]["clearance_m"]),
         ("worst_fresnel_ratio", report["worst"]["fresnel_ratio"]),
+        ("model", report.get("model")),
+        ("time_percent", prop.get("time_percent")), ("location_percent", prop.get("location_percent")),
         ("free_space_loss_db", loss["free_space"]), ("diffraction_loss_db", loss["diffraction"]),
         ("diffraction_method", loss["diffraction_method"]),
+        ("combination_loss_db", loss.get("combination")), ("location_loss_db", loss.get("location")),
+        ("basic_transmission_loss_db", loss.get("basic_transmission")),
         ("extra_loss_db", loss["extra"]), ("polarization_loss_db", loss["polarization"]),
         ("total_loss_db", loss["total"]), ("rx_power_dbm", bud["rx_power_dbm"]),
         ("margin_db", bud["margin_db"]), ("sf", bud["sf"]), ("dr", bud.get("dr")), ("closes", bud["closes"]),
@@ -144,10 +151,46 @@ def verdict(report: dict) -> str:
     return f"{geom}; {radio}"
 
 
+def model_line(report: dict) -> str:
+    """The run's propagation model and percentages on one line, read from a JSON report.
+
+    The wording of :meth:`profiler.engine.model.PropagationSettings.summary`:
+    ``"P.1812-8, 50 % time, 95 % locations"``, or for ``--model terrain``
+    ``"Terrain model (free space + delta-bullington diffraction), median"``
+    (the diffraction method named when the report holds it).  The settings
+    are the link and mast reports' ``propagation`` block (``model`` at the
+    top level as a fall-back) or the ``settings`` of the network, coverage
+    and siting reports.
+
+    Parameters
+    ----------
+    report : dict
+        A link, mast, network, coverage or siting JSON report.
+
+    Returns
+    -------
+    str
+        The line; empty when the report names no model.
+    """
+    from ..engine.model import PropagationSettings
+
+    st = report.get("propagation") or report.get("settings") or {}
+    model = st.get("model") or report.get("model")
+    if model not in ("p1812", "terrain"):
+        return ""
+    if model == "p1812":
+        return PropagationSettings(model="p1812", time_percent=float(st.get("time_percent", 50.0)),
+                                   location_percent=float(st.get("location_percent", 50.0))).summary()
+    method = ((report.get("loss_db") or {}).get("diffraction_method") or report.get("diffraction_method")
+              or st.get("diffraction_method") or st.get("diffraction"))
+    line = PropagationSettings(model="terrain").summary()
+    return line.replace("+ diffraction)", f"+ {method} diffraction)") if method else line
+
+
 def summary_text(report: dict) -> str:
     """Short human summary of the link."""
     a, b = report["site_a"], report["site_b"]
-    w, loss = report["worst"], report["loss_db"]
+    w = report["worst"]
     lines = [f"Link {a['name']} -> {b['name']}"]
     if report["azimuth_a_to_b_deg"] is not None:
         lines.append(f"  distance      {report['distance_m'] / 1000:.3f} km, azimuth A->B "
@@ -164,14 +207,38 @@ def summary_text(report: dict) -> str:
     pct = 100.0 * w["fresnel_ratio"] if w["fresnel_ratio"] is not None else float("nan")
     lines.append(f"  worst point   {w['distance_m'] / 1000:.3f} km from A: clearance {w['clearance_m']:+.1f} m "
                  f"= {pct:.0f} % of F1 (required {100 * report['clearance_ratio_required']:.0f} %), v = {w['v']:.2f}")
-    lines.append(f"  losses        free space {loss['free_space']:.1f} dB + diffraction {loss['diffraction']:.1f} dB "
-                 f"({loss['diffraction_method']}) + extra {loss['extra']:.1f} dB + polarization "
-                 f"{loss['polarization']:.1f} dB = {loss['total']:.1f} dB")
+    lines.append(f"  losses        {losses_text(report)}")
     lines += budget_lines(report)
     for msg in report["warnings"]:
         lines.append(f"  warning       {msg}")
     lines.append(f"  {CAUTION}")
     return "\n".join(lines) + "\n"
+
+
+def _db(value) -> str:
+    """A loss term to 0.1 dB; one that rounds to zero is 0.0, never -0.0."""
+    return f"{round(float(value), 1) + 0.0:.1f} dB"
+
+
+def losses_text(report: dict) -> str:
+    """The loss terms of a link report adding up to ``loss_db.total``, the model and percentages first.
+
+    P.1812-8: ``"P.1812-8 (50 % time, 50 % locations): free space 113.2 dB
+    + diffraction 8.9 dB + combination 0.0 dB + location 0.0 dB = basic
+    122.1 dB; + extra 0.0 dB + polarization 0.0 dB = 122.1 dB"``; the
+    terrain model: ``"terrain model: free space ... + diffraction ...
+    (method) + extra ... + polarization ... = total"``.
+    """
+    loss = report["loss_db"]
+    tail = f"extra {_db(loss['extra'])} + polarization {_db(loss['polarization'])} = {_db(loss['total'])}"
+    if loss.get("model") == "p1812":
+        prop = report.get("propagation") or {}
+        return (f"P.1812-8 ({prop.get('time_percent', 50.0):g} % time, {prop.get('location_percent', 50.0):g} % "
+                f"locations): free space {_db(loss['free_space'])} + diffraction {_db(loss['diffraction'])} + "
+                f"combination {_db(loss['combination'])} + location {_db(loss['location'])} = basic "
+                f"{_db(loss['basic_transmission'])}; + {tail}")
+    return (f"terrain model: free space {_db(loss['free_space'])} + diffraction {_db(loss['diffraction'])} "
+            f"({loss['diffraction_method']}) + {tail}")
 
 
 def rate_text(sf, bw_khz, dr=None) -> str:

@@ -28,6 +28,7 @@ from __future__ import annotations
 
 import numpy as np
 
+from ..io.report import model_line
 from . import basemap
 from .audit import contain
 from .sheet import (
@@ -170,7 +171,8 @@ def _draw_header(ax, report, renderer) -> None:
 
     label = "COVERAGE WITH THE CANDIDATE SITES" if s.get("candidates") else "COVERAGE"
     draw_title_block(ax, renderer, f"Coverage map: {_title(report)}", f"  {MIDDOT}  ".join(parts),
-                     f"{share:.0%} of the area heard", badge_style, badge_label=label, fit_title=fit_title)
+                     f"{share:.0%} of the area heard", badge_style, badge_label=label, fit_title=fit_title,
+                     note=clean(model_line(report)))
 
 
 # --------------------------------------------------------------------------- map

@@ -23,7 +23,7 @@ import math
 
 import numpy as np
 
-from ..io.report import verdict
+from ..io.report import model_line, verdict
 from . import audit, basemap
 from .link_tables import bearing_lines, declination_text, exposure_line, radio_block
 from .profile_panel import draw_profile, end_label
@@ -38,6 +38,7 @@ from .sheet import (
     clean,
     dms,
     draw_title_block,
+    ends_located,
     figure_format,
     fraction,
     inch_axes,
@@ -137,7 +138,7 @@ def build_link_figure(report: dict, paper: str = "a4", dem_paths=None, *, date_t
                        measure=measure)
         extra = [*bearing_lines(report), exposure_line(report)]
         draw_notes(inch_axes(fig, boxes["footer"], width_in, height_in), renderer,
-                   provenance_lines(report, source_text(report.get("dem"), n_points), extra))
+                   provenance_lines(report, source_text(report.get("dem"), n_points, ends_located(report)), extra))
     return fig
 
 
@@ -202,7 +203,7 @@ def _draw_header(ax, report: dict, renderer) -> None:
     parts = ["Point-to-point radio path profile", num(km(report.get("distance_m")), ".3f", " km"), freq,
              f"k = {k_text(report.get('k_factor'))}"]
     draw_title_block(ax, renderer, f"{name_a} {EN} {name_b}", f"  {MIDDOT}  ".join(parts), clean(verdict(report)),
-                     _verdict_style(report))
+                     _verdict_style(report), note=clean(model_line(report)))
 
 
 # --------------------------------------------------------------------------- locator panel
@@ -211,7 +212,8 @@ def _draw_locator(ax, report: dict, dem_paths, renderer) -> None:
     ax.set_title("Locator", loc="left", fontsize=7.5, fontweight="bold", pad=3)
     prof = report["profile"]
     if prof.get("lat_deg") is None or prof.get("lon_deg") is None:
-        basemap.empty_panel(ax, "no map: surveyed profile", "the profile has no coordinates")
+        basemap.empty_panel(ax, "no map: surveyed profile", "only the ends have coordinates" if ends_located(report)
+                            else "the profile has no coordinates")
         return
     lat = arr(prof["lat_deg"])
     lon = np.degrees(np.unwrap(np.radians(arr(prof["lon_deg"]))))   # continuous across 180 deg
@@ -386,21 +388,53 @@ def _rate(bud: dict) -> str:
     return rate if bud.get("dr") is None else f"DR{bud['dr']} {rate}"
 
 
+def loss_db_text(value) -> str:
+    """A loss term as the sheet shows it: 0.1 dB, a term that rounds to zero shown as 0.0 (never −0.0)."""
+    return num(None if value is None else round(float(value), 1) + 0.0, ".1f", " dB")
+
+
+def _loss_rows(report: dict) -> list[tuple]:
+    """The path-loss rows: with P.1812-8 its basic transmission loss in parts (free space, eq. 8; diffraction at
+    the time percentage; the combination's share; the location term), then the other losses and the total;
+    with the terrain model the diffraction method, free space, diffraction, other losses and the total."""
+    loss = report["loss_db"]
+    other = (loss.get("extra") or 0.0) + (loss.get("polarization") or 0.0)
+    if loss.get("model") == "p1812":
+        prop = report.get("propagation") or {}
+        rows = [("Free-space loss (eq. 8)", loss_db_text(loss.get("free_space"))),
+                (f"Diffraction ({prop.get('time_percent', 50.0):g} % time)", loss_db_text(loss.get("diffraction"))),
+                ("Combination term", loss_db_text(loss.get("combination"))),
+                (f"Location term ({prop.get('location_percent', 50.0):g} %)", loss_db_text(loss.get("location"))),
+                ("Basic transmission loss", loss_db_text(loss.get("basic_transmission")))]
+    else:
+        rows = [("Diffraction method", clean(loss.get("diffraction_method") or DASH)),
+                ("Free-space loss", loss_db_text(loss.get("free_space"))),
+                ("Diffraction loss", loss_db_text(loss.get("diffraction")))]
+    return rows + _terminal_rows(loss) + [("Other losses", loss_db_text(other)),
+                                          ("Total path loss", loss_db_text(loss.get("total")))]
+
+
+#: The per-end loss_db terms of a terminal (issue 20), each on its own row when not zero.
+TERMINAL_ROWS = (("clutter", "Clutter at {end}"), ("building_entry", "Building entry at {end}"),
+                 ("extra", "Extra loss at {end}"))
+
+
+def _terminal_rows(loss: dict) -> list[tuple]:
+    """Rows for the terminal terms (clutter correction, building entry, fixed extra loss per end) that are not 0."""
+    return [(label.format(end=end.upper()), loss_db_text(loss[f"{key}_{end}"]))
+            for key, label in TERMINAL_ROWS for end in ("a", "b") if loss.get(f"{key}_{end}")]
+
+
 def _budget_rows(report: dict) -> list[tuple]:
-    loss, up = report["loss_db"], report["budget"]
+    up = report["budget"]
     down = report.get("budget_downlink") or up
     comp = report.get("compliance") or {}
-    other = (loss.get("extra") or 0.0) + (loss.get("polarization") or 0.0)
     if comp.get("max_eirp_dbm") is None:
         limit = "not checked (no plan)"
     else:
         limit = f"{num(comp['max_eirp_dbm'], 'g', ' dBm')}: " + ("met" if comp.get("eirp_ok") else "EXCEEDED")
     return [
-        ("Diffraction method", clean(loss.get("diffraction_method") or DASH)),
-        ("Free-space loss", num(loss.get("free_space"), ".1f", " dB")),
-        ("Diffraction loss", num(loss.get("diffraction"), ".1f", " dB")),
-        ("Other losses", num(other, ".1f", " dB")),
-        ("Total path loss", num(loss.get("total"), ".1f", " dB")),
+        *_loss_rows(report),
         ("EIRP limit", limit),
         ("Margin up / down", f"{num(up.get('margin_db'), '+.1f')} / {num(down.get('margin_db'), '+.1f', ' dB')}"),
         *([("Data rate up", f"{_rate(up)} kHz"), ("Data rate down", f"{_rate(down)} kHz")]

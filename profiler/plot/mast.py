@@ -27,6 +27,7 @@ text is cut.  The table, the title block and the notes come from
 
 from __future__ import annotations
 
+from ..io.report import model_line
 from ..products.mast.result import fixed, up_text
 from .mast_labels import place_off_lines
 from .sheet import (
@@ -37,6 +38,7 @@ from .sheet import (
     MIDDOT,
     clean,
     draw_title_block,
+    ends_located,
     fraction,
     inch_axes,
     k_text,
@@ -138,9 +140,7 @@ def build_mast_figure(report: dict, paper: str = "a4", *, sheet_no: int = 1, she
         table_bottom, rows = margin + box_h + 0.15, result_rows(report)
         draw_tables(inch_axes(fig, (right, table_bottom, block_w, top + 0.3 - table_bottom), width_in, height_in),
                     renderer, [("Result", None, rows)], max_row_h=0.2, wrap_rows=[label for label, _ in rows])
-        source = source_text(report.get("dem"))
-        if (report.get("dem") or {}).get("kind") == "surveyed":   # the mast report holds no profile samples
-            source = source.split(" (", 1)[0] + " (no coordinates)"
+        source = source_text(report.get("dem"), None, ends_located(report))   # no profile samples in the report
         notes = inch_axes(fig, (margin, margin, left_w, 0.8), width_in, height_in)
         draw_notes(notes, renderer, provenance_lines(report, source))
         _contain_texts(notes, "the notes")
@@ -246,7 +246,7 @@ def _header(ax, report, renderer, badge, badge_style):
         artist.set_linespacing(1.05)
 
     draw_title_block(ax, renderer, f"{a} {EN} {b}", sub, badge, badge_style, badge_label="RESULT",
-                     fit_title=fit_title)
+                     fit_title=fit_title, note=clean(model_line(report)))
 
 
 def _xlabel(report, renderer, width_in) -> str:

@@ -41,6 +41,7 @@ from __future__ import annotations
 import numpy as np
 
 from ..errors import ProfilerError
+from ..io.report import model_line
 from . import basemap
 from .audit import contain
 from .network_text import TextMeasure, wrap_label
@@ -294,7 +295,7 @@ def _draw_header(ax, report: dict, renderer) -> None:
     badge = f"{covered} of {total} nodes covered by gateways"
     badge_style = BADGE_GOOD if total and covered == total else (BADGE_WARN if covered else BADGE_BAD)
     draw_title_block(ax, renderer, _title(report), f"  {MIDDOT}  ".join(parts), badge, badge_style,
-                     badge_label="COVERAGE")
+                     badge_label="COVERAGE", note=clean(model_line(report)))
 
 
 # --------------------------------------------------------------------------- map

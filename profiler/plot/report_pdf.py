@@ -24,6 +24,7 @@ import shlex
 
 from ..about import CAUTION, __version__
 from ..errors import ProfilerError
+from ..io.report import model_line
 from ..textsafe import figure_text
 from .report_layout import Measure, Table, draw_placed, paginate
 from .sheet import BADGE_GOOD, DASH, EN, check_dpi, inch_axes, k_text, metadata, new_sheet, num, paper_size_in, style
@@ -142,7 +143,7 @@ def _table_page(report, sheet, heading, placed, page, block_h):
     # the link's name in the heading when it fits; it is always in the title block below
     draw_title_block(head, renderer, f"{heading}: {_name(report)}", "Planning aid report",
                      f"page {page[0]} of {page[1]}", BADGE_GOOD, badge_label="PAGE",
-                     fit_title=lambda artist, room: artist.set_text(heading))
+                     fit_title=lambda artist, room: artist.set_text(heading), note=figure_text(model_line(report)))
     top, bottom = height_in - MARGIN_IN - HEADER_IN - HEADER_GAP_IN, MARGIN_IN + block_h + FOOT_GAP_IN
     draw_placed(inch_axes(fig, (MARGIN_IN, bottom, width_in - 2 * MARGIN_IN, top - bottom), width_in, height_in),
                 measure, placed)
@@ -199,21 +200,50 @@ def _budget_table(report) -> Table:
     return Table("Budget", ("", "Uplink (node \u2192 gateway)", "Downlink (gateway \u2192 node)"), tuple(rows))
 
 
-LOSS_LABELS = {"free_space": "Free space", "diffraction": "Diffraction (used)", "extra": "Extra",
+LOSS_LABELS = {"model": "Model", "free_space": "Free space", "diffraction": "Diffraction (used)",
+               "combination": "Combination (P.1812-8 line of sight, ducting and troposcatter beyond free space "
+                              "and diffraction)",
+               "location": "Location term", "basic_transmission": "Basic transmission loss", "extra": "Extra",
                "polarization": "Polarization", "total": "Total", "diffraction_method": "Diffraction method",
                "knife_edge": "Single knife edge", "bullington": "Bullington", "delta_bullington": "Delta-Bullington",
                "spherical_earth": "Spherical Earth", "smooth_surface_height_a": "Smooth-Earth height of A",
-               "smooth_surface_height_b": "Smooth-Earth height of B"}
+               "smooth_surface_height_b": "Smooth-Earth height of B",
+               "clutter_a": "Clutter at A (P.2108-1)", "clutter_b": "Clutter at B (P.2108-1)",
+               "building_entry_a": "Building entry at A (P.2109-1)",
+               "building_entry_b": "Building entry at B (P.2109-1)",
+               "extra_a": "Extra loss at A", "extra_b": "Extra loss at B"}
+
+
+#: ``loss_db`` keys the terrain model's table leaves out: always 0 or equal to free space + diffraction there.
+P1812_ONLY = ("combination", "location", "basic_transmission")
 
 
 def _loss_table(report) -> Table:
-    """The ``loss_db`` block: each term with its unit (``_m`` keys are heights in metres)."""
+    """The ``loss_db`` block: each term with its unit (``_m`` keys are heights in metres), the model as
+    :func:`profiler.io.report.model_line` says it; with P.1812-8 the diffraction at the time percentage and
+    the location term at the location percentage; with the terrain model without the P.1812-8 parts."""
+    loss = report.get("loss_db") or {}
+    p1812 = loss.get("model") == "p1812"
+    prop = report.get("propagation") or {}
+    labels = dict(LOSS_LABELS)
+    if p1812:
+        labels["free_space"] = "Free space (eq. 8)"
+        labels["diffraction"] = f"Diffraction ({prop.get('time_percent', 50.0):g} % time)"
+        labels["location"] = f"Location term ({prop.get('location_percent', 50.0):g} % locations)"
     rows = []
-    for key, value in (report.get("loss_db") or {}).items():
+    for key, value in loss.items():
+        if not p1812 and key in P1812_ONLY:
+            continue
         base, unit = (key[:-2], " m") if key.endswith("_m") else (key, " dB")
-        label = LOSS_LABELS.get(base, base.replace("_", " ").capitalize())
-        rows.append((label, figure_text(value) if isinstance(value, str) else num(value, ".2f", unit)))
+        value = (model_line(report) or value) if key == "model" else value
+        rows.append((labels.get(base, base.replace("_", " ").capitalize()),
+                     figure_text(value) if isinstance(value, str) else num(_no_negative_zero(value), ".2f", unit)))
     return Table("Path loss", None, tuple(rows))
+
+
+def _no_negative_zero(value):
+    """``value`` rounded to 0.01 with −0.00 made 0.00 (a term that rounds to zero); None stays None."""
+    return value if value is None or isinstance(value, bool) else round(float(value), 2) + 0.0
 
 
 def _duty(duty, freq) -> str:

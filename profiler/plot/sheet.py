@@ -6,7 +6,10 @@ Every sheet (link, network, later coverage and siting) is drawn the same way:
    the Agg canvas with the :func:`draw_frame` border; :func:`inch_axes`
    places invisible axes whose data coordinates are inches, for text;
 2. :func:`draw_title_block` draws the title, the subtitle and a boxed
-   verdict in the top band; :func:`draw_tables` ruled tables whose column
+   verdict in the top band, with the run's propagation model and
+   percentages right under the verdict (its ``note``, the line of
+   :func:`profiler.io.report.model_line`: "P.1812-8, 50 % time, 95 %
+   locations"); :func:`draw_tables` ruled tables whose column
    widths follow their contents; :func:`sheet_legend` a legend in the
    family's style;
 3. :func:`draw_footer` draws the provenance (elevation files with their
@@ -370,7 +373,7 @@ BADGE_PAD = 0.45          # badge box padding [fraction of its font size]
 
 
 def draw_title_block(ax, renderer, title: str, subtitle: str, badge: str, badge_style: dict,
-                     badge_label: str = "VERDICT", fit_title=None) -> bool:
+                     badge_label: str = "VERDICT", fit_title=None, note: str = "") -> bool:
     """Title (15 pt bold), subtitle and a boxed badge at the right, ruled underneath; nothing cut.
 
     Parameters
@@ -393,6 +396,11 @@ def draw_title_block(ax, renderer, title: str, subtitle: str, badge: str, badge_
         ``fit_title(text_artist, room_in)``: the caller's own fitting of the
         title to ``room_in`` [in] wide, called only when the title is wider
         than that on one line at 15 pt (default: wrap and shrink as above).
+    note : str, optional
+        A line right under the badge (the run's propagation model and
+        percentages, :func:`profiler.io.report.model_line`): 6.5 pt, wrapped
+        onto two lines and shrunk down to 5 pt only when the badge's column
+        (at most 4.6 in) is too narrow for it; the badge shrinks to leave it room.
 
     Returns
     -------
@@ -403,10 +411,12 @@ def draw_title_block(ax, renderer, title: str, subtitle: str, badge: str, badge_
     width, height = ax.get_xlim()[1], ax.get_ylim()[1]
     measure = Measure(renderer)
     label_h = text_height_in(1, 6.5, 1.0)
-    badge_fit = _fit_badge(badge, width, height - label_h - 0.04, measure)
+    note_fit = fit_text(note, min(4.6, 0.45 * width), measure, 6.5, max_lines=2, linespacing=1.1) if note else None
+    note_h = note_fit.height_in + 0.03 if note_fit else 0.0
+    badge_fit = _fit_badge(badge, width, height - label_h - 0.04 - note_h, measure)
     pad_in = BADGE_PAD * badge_fit.fontsize / 72.0
     badge_w, badge_h = badge_fit.width_in + 2 * pad_in, badge_fit.height_in + 2 * pad_in
-    y0 = max(0.0, 0.5 * (height - badge_h - 0.04 - label_h))
+    y0 = max(0.0, 0.5 * (height - badge_h - 0.04 - label_h - note_h)) + note_h
     box = put_text(ax, width - pad_in, y0 + pad_in, badge_fit.text, ha="right", va="bottom",
                    fontsize=badge_fit.fontsize, fontweight="bold", linespacing=1.2, multialignment="center",
                    bbox=dict(boxstyle=f"square,pad={BADGE_PAD}", **badge_style), gid="title-badge")
@@ -414,7 +424,14 @@ def draw_title_block(ax, renderer, title: str, subtitle: str, badge: str, badge_
     label = put_text(ax, width - pad_in, y0 + badge_h + 0.04, badge_label, ha="right", va="bottom",
                      fontsize=6.5, color="0.3", fontweight="bold")
     audit.contain(label, ax, name="title band")
-    room = width - badge_w - 0.3
+    column_w = badge_w
+    if note_fit:
+        line = put_text(ax, width - pad_in, y0 - 0.03, note_fit.text, ha="right", va="top",
+                        fontsize=note_fit.fontsize, color="0.2", linespacing=1.1, multialignment="right",
+                        gid="title-model")
+        audit.contain(line, ax, (width - 4.6 - 0.02, 0.0, width + 0.02, y0), name="model line")
+        column_w = max(badge_w, note_fit.width_in + pad_in)
+    room = width - column_w - 0.3
     sub_fit = fit_text(subtitle, room, measure, 8.5, max_lines=2, max_height_in=0.26, linespacing=1.15)
     sub = put_text(ax, 0.0, 0.04, sub_fit.text, ha="left", va="bottom", fontsize=sub_fit.fontsize, color="0.2",
                    linespacing=1.15)
@@ -429,7 +446,7 @@ def draw_title_block(ax, renderer, title: str, subtitle: str, badge: str, badge_
         title_ok = fit(head, room, renderer, max_height_in=title_room_h, measure=measure)
     audit.contain(head, ax, (0.0, 0.04 + sub_fit.height_in, room, height), name="title")
     ax.plot([0.0, width], [-0.08, -0.08], color="0.15", lw=0.9, clip_on=False)
-    return bool(badge_fit.fits and sub_fit.fits and title_ok)
+    return bool(badge_fit.fits and sub_fit.fits and title_ok and (note_fit is None or note_fit.fits))
 
 
 def _fit_badge(badge: str, width: float, room_h: float, measure) -> Fitted:
@@ -450,17 +467,21 @@ def _fit_badge(badge: str, width: float, room_h: float, measure) -> Fitted:
 
 
 # --------------------------------------------------------------------------- provenance footer
-def source_text(dem: dict | None, n_points: int | None = None) -> str:
+def source_text(dem: dict | None, n_points: int | None = None, ends_located: bool = False) -> str:
     """One line naming the elevation data: file, sha256 prefix, pixel size, CRS, voids filled.
 
     ``dem`` is the report's ``dem`` block; a surveyed profile (``kind ==
-    "surveyed"``) names its file and ``n_points``.
+    "surveyed"``) names its file and ``n_points`` (None: not stated) and
+    whether its ends have coordinates (``ends_located``: --site-a/--site-b
+    given) or none of its points do.
     """
     dem = dem or {}
     sources = dem.get("sources") or []
     if dem.get("kind") == "surveyed":
         names = ", ".join(clean(os.path.basename(str(s.get("path") or ""))) for s in sources) or DASH
-        return f"Terrain: surveyed profile {names} ({n_points} points, no coordinates)"
+        where = "only the ends have coordinates" if ends_located else "no coordinates"
+        count = "" if n_points is None else f"{n_points} points, "
+        return f"Terrain: surveyed profile {names} ({count}{where})"
     parts = []
     for source in sources[:3]:
         digest = clean(str(source.get("sha256") or ""))[:12]
@@ -539,3 +560,8 @@ def draw_stacked(ax, renderer, items, top: float, color: str = "0.1", gap: float
         audit.contain(t, ax, name="notes")
         y -= f.height_in + gap
     return used <= top + 1e-9
+
+
+def ends_located(report: dict) -> bool:
+    """Both sites of a link or mast report have a latitude and longitude (a surveyed profile may)."""
+    return all((report.get(key) or {}).get("lat_deg") is not None for key in ("site_a", "site_b"))

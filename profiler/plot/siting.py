@@ -1,7 +1,7 @@
 """The gateway siting sheet: the chosen sites, the links they serve, the proof and the greedy comparison.
 
 :func:`write_siting_figure` draws one landscape sheet from the
-``profiler.siting/1`` report and the ``profiler.network/3`` report it was
+``profiler.siting/2`` report and the ``profiler.network/3`` report it was
 solved over:
 
 * the map (the network map's relief, markers, north arrow, scale bar and
@@ -16,7 +16,7 @@ solved over:
   for, the counts of ``summary``), then the chosen sites with their cost,
   the greedy choice and the unreachable nodes with their reason;
 * the title block (lower right) and the notes naming the
-  ``profiler.siting/1`` report, the elevation data, the warnings and the
+  ``profiler.siting/2`` report, the elevation data, the warnings and the
   caution.
 
 Every count on the sheet is read from the siting report, so the sheet and
@@ -33,6 +33,7 @@ from __future__ import annotations
 
 import numpy as np
 
+from ..io.report import model_line
 from . import audit
 from .sheet import (
     BADGE_BAD,
@@ -75,7 +76,7 @@ def write_siting_figure(siting: dict, network: dict, path, paper: str = "a4", dp
     Parameters
     ----------
     siting : dict
-        The ``profiler.siting/1`` report.
+        The ``profiler.siting/2`` report.
     network : dict
         The ``profiler.network/3`` report it was solved over (site positions, links).
     path : str or os.PathLike
@@ -198,7 +199,8 @@ def _draw_header(ax, siting: dict, network: dict, renderer) -> None:
     while len(parts) > 1 and text_width_in(renderer, f"  {MIDDOT}  ".join(parts), 8.5) > room:
         parts.pop()
     draw_title_block(ax, renderer, f"Gateway siting: {_title(siting)}", f"  {MIDDOT}  ".join(parts), badge,
-                     badge_style, badge_label="NODES HEARD")
+                     badge_style, badge_label="NODES HEARD",
+                     note=clean(model_line(siting if siting.get("settings") else network)))
 
 
 def _radio_text(siting: dict, network: dict) -> str:

@@ -2,7 +2,7 @@
 
 :func:`analyze_link` is the one Python call behind ``profiler link``.  It
 returns a :class:`LinkResult` whose :meth:`LinkResult.to_dict` is exactly the
-JSON report (schema ``profiler.link/4``).
+JSON report (schema ``profiler.link/5``).
 """
 
 from __future__ import annotations
@@ -27,7 +27,7 @@ from ..propagation import diffraction, geometry
 from ..propagation.free_space import NEAR_FIELD_RULE_OF_THUMB_M, NEAR_FIELD_WAVELENGTHS, wavelength_m
 from ..terrain.profile import TerrainProfile
 
-SCHEMA = "profiler.link/4"
+SCHEMA = "profiler.link/5"
 
 
 @dataclass(frozen=True)
@@ -71,12 +71,13 @@ class LinkResult:
     model: str = "terrain"
     propagation: dict = field(default_factory=dict)
     p1812: dict | None = None
+    land_cover: dict | None = None
     tool_version: str = __version__
     schema: str = SCHEMA
 
     def to_dict(self) -> dict:
         """The JSON report as plain Python types (lists, floats, None)."""
-        profile = {k: _float_list(v) for k, v in self.profile.items()}
+        profile = {k: list(v) if k == "clutter_class" else _float_list(v) for k, v in self.profile.items()}
         return {
             "schema": self.schema,
             "tool_version": self.tool_version,
@@ -111,6 +112,7 @@ class LinkResult:
             "radio_ends": json_clean(self.radio_ends),
             "rf_exposure": json_clean(self.rf_exposure),
             "dem": json_clean(self.dem),
+            "land_cover": json_clean(self.land_cover),
             "sheet": dict(self.sheet),
             "warnings": list(self.warnings),
         }
@@ -223,9 +225,10 @@ def analyze_link(profile: TerrainProfile, *, mast_a_m: float = 10.0, mast_b_m: f
     slant = float(radio_slant(total, h_a, h_b))
     check_separation(slant, lam)
     rr = radio_results(d, terrain, h_a, h_b, frequency_mhz, ae, radio, plan,
-                       paths=profile_paths(profile, site_a, site_b) if has_coordinates else None)
+                       paths=link_paths(profile, site_a, site_b) if has_coordinates else None)
 
-    warnings = _link_warnings(rr, slant, lam, profile, radio)
+    warnings = _link_warnings(rr, slant, lam, profile, radio) + clutter_warnings(
+        profile, mast_b if radio.gateway == "a" else mast_a)
     if profile.kind == "surveyed" and has_coordinates:
         warnings += _profile_length_warning(total, site_a, site_b)
     if model_chosen is None and radio.propagation.model == "terrain":
@@ -235,8 +238,8 @@ def analyze_link(profile: TerrainProfile, *, mast_a_m: float = 10.0, mast_b_m: f
     date = date or _dt.date.today()
     ends = end_blocks(rr, radio.gateway, plan)
     return LinkResult(
-        site_a=_site(name_a, site_a, terrain[0], mast_a),
-        site_b=_site(name_b, site_b, terrain[-1], mast_b),
+        site_a={**_site(name_a, site_a, terrain[0], mast_a), **rr["terminals"]["a"]},
+        site_b={**_site(name_b, site_b, terrain[-1], mast_b), **rr["terminals"]["b"]},
         frequency_mhz=float(frequency_mhz), band=band, wavelength_m=lam, k_factor=k,
         effective_radius_m=ae, distance_m=total,
         azimuth_a_to_b_deg=profile.azimuth_a_to_b_deg, azimuth_b_to_a_deg=profile.azimuth_b_to_a_deg,
@@ -244,6 +247,7 @@ def analyze_link(profile: TerrainProfile, *, mast_a_m: float = 10.0, mast_b_m: f
         profile={"distance_m": d, "lat_deg": profile.lat_deg, "lon_deg": profile.lon_deg,
                  "terrain_m": terrain, "bulge_m": bulge, "los_m": los,
                  "fresnel_radius_m": f1, "clearance_m": clearance,
+                 **({} if profile.clutter_class is None else {"clutter_class": _class_names(profile.clutter_class)}),
                  **({} if profile.clutter_height_m is None else {"clutter_height_m": profile.clutter_height_m})},
         worst=worst, line_of_sight=line_of_sight, fresnel_clear=fresnel_clear,
         clearance_ratio_required=float(clearance_ratio),
@@ -255,8 +259,44 @@ def analyze_link(profile: TerrainProfile, *, mast_a_m: float = 10.0, mast_b_m: f
         dem={"kind": profile.kind, "sources": list(profile.sources), "voids_filled": int(profile.voids_filled),
              "void_stretches_m": [list(map(float, x)) for x in profile.void_stretches_m]},
         warnings=warnings, model=radio.propagation.model, propagation=radio.propagation.to_dict(k),
-        p1812=rr["p1812"],
+        p1812=rr["p1812"], land_cover=profile.land_cover,
     )
+
+
+#: Antenna height above ground below which a node is likely inside the clutter around it [m] (common
+#: practice; ITU-R P.2108-1 Table 3 gives representative clutter heights of 10 m and more).
+LOW_NODE_M = 10.0
+
+
+def link_paths(profile, site_a, site_b) -> dict:
+    """The ``paths`` of the engine for one profile: :func:`profiler.engine.losses.profile_paths` and ``clutter_class``.
+
+    ``clutter_class`` (shape (1, N), index into
+    :data:`profiler.terrain.landcover.CLUTTER_CLASSES`, -1 none) is there
+    when the profile came with a land cover, else None.
+    """
+    paths = profile_paths(profile, site_a, site_b)
+    paths["clutter_class"] = None if profile.clutter_class is None else np.asarray(profile.clutter_class)[None, :]
+    return paths
+
+
+def clutter_warnings(profile, node_mast_m: float) -> list:
+    """Warnings on the clutter of a profile: samples without a land-cover class, or no clutter at all for a low node."""
+    if profile.land_cover is not None and profile.land_cover["samples_without_class"]:
+        return [f"{profile.land_cover['samples_without_class']} of {len(profile.distance_m)} profile samples have "
+                "no land-cover class (void or outside the land cover): no clutter is assumed there"]
+    if profile.clutter_height_m is None and node_mast_m < LOW_NODE_M:
+        return [f"no land cover: the path has no clutter, so a node antenna {node_mast_m:g} m above ground (below "
+                f"{LOW_NODE_M:g} m) is likely optimistic; give --land-cover FILE for the clutter along the path"]
+    return []
+
+
+def _class_names(clutter_class) -> list:
+    """Clutter class names per sample, None where there is no class."""
+    from ..terrain.landcover import CLUTTER_CLASSES
+
+    names = list(CLUTTER_CLASSES) + [None]
+    return [names[i] for i in np.asarray(clutter_class, dtype=int).tolist()]   # -1 picks the trailing None
 
 
 def _profile_length_warning(length_m: float, site_a, site_b) -> list:

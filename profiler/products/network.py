@@ -35,7 +35,7 @@ LINK_FLOAT_KEYS = ("distance_m", "azimuth_deg", "worst_fresnel_ratio", "worst_di
 
 
 def compute_links(model, settings: NetworkSettings, lat_gw, lon_gw, mast_gw, lat_node, lon_node, mast_node,
-                  overrides=None, names_gw=None, names_node=None) -> dict:
+                  overrides=None, names_gw=None, names_node=None, *, land_cover=None, mapping=None) -> dict:
     """Results of a batch of gateway -> node links, one array element per link.
 
     Parameters
@@ -50,13 +50,21 @@ def compute_links(model, settings: NetworkSettings, lat_gw, lon_gw, mast_gw, lat
         Per-link radio values per role, see :func:`profiler.engine.radio.resolve_ends`.
     names_gw, names_node : sequence of str, optional
         Site names for error messages.
+    land_cover : profiler.terrain.landcover.LandCover, optional
+        Open land cover: the clutter class and height R of the pixel at every
+        profile sample, end points included (the engine's ``paths``
+        ``clutter_m`` and ``clutter_class``); with ``mapping``.
+    mapping : profiler.terrain.landcover.ClassMapping, optional
+        Land-cover code -> clutter class and height.
 
     Returns
     -------
     dict of ndarray
         The per-link fields of the ``links[]`` table (NaN where not computed)
         plus ``error`` (list of str or None), ``recommended_dr`` (-1: none),
-        ``closes``, ``downlink_closes``, ``line_of_sight``, ``fresnel_clear``.
+        ``closes``, ``downlink_closes``, ``line_of_sight``, ``fresnel_clear``,
+        ``samples_without_class`` (profile samples of the link with no
+        land-cover class).
     """
     from ..terrain.sampling import sample_links
 
@@ -66,6 +74,7 @@ def compute_links(model, settings: NetworkSettings, lat_gw, lon_gw, mast_gw, lat
     errors = list(s.error)
     out = {k: np.full(n_links, np.nan) for k in LINK_FLOAT_KEYS}
     out.update(voids_filled=np.asarray(s.voids_filled), recommended_dr=np.full(n_links, -1),
+               samples_without_class=np.zeros(n_links, dtype=np.int64),
                closes=np.zeros(n_links, bool),
                downlink_closes=np.zeros(n_links, bool), line_of_sight=np.zeros(n_links, bool),
                fresnel_clear=np.zeros(n_links, bool))
@@ -90,12 +99,25 @@ def compute_links(model, settings: NetworkSettings, lat_gw, lon_gw, mast_gw, lat
         if rows.size:
             paths = {"lat_a_deg": np.asarray(lat_gw, float)[rows], "lon_a_deg": np.asarray(lon_gw, float)[rows],
                      "lat_b_deg": np.asarray(lat_node, float)[rows], "lon_b_deg": np.asarray(lon_node, float)[rows]}
+            if land_cover is not None:
+                _clutter_paths(paths, out, rows, s, n, d.shape[1], land_cover, mapping, settings.radio)
             _fill_results(out, rows, s, d, terrain, n, h_a, h_b, lam, ae, settings, overrides, paths)
     bad = ~np.isfinite(out["margin_db"]) & np.array([e is None for e in errors])
     for i in np.flatnonzero(bad):  # a non-finite result is refused per link, never shown as a number
         errors[i] = "the link budget is not a finite number; check the masts, powers and elevation data"
     out["error"] = errors
     return out
+
+
+def _clutter_paths(paths, out, rows, s, n, width, land_cover, mapping, radio):
+    """Put the land cover's clutter at every sample of the links ``rows`` into ``paths`` (R = 0 where no class)."""
+    lat, lon = s.lat_deg[rows, :width], s.lon_deg[rows, :width]
+    samples = mapping.clutter(land_cover.codes(lon, lat), radio.propagation.model)
+    none = samples.class_index < 0
+    paths["clutter_m"] = np.where(none, 0.0, samples.height_m)
+    paths["clutter_class"] = samples.class_index
+    inside = np.arange(width)[None, :] < n[:, None]
+    out["samples_without_class"][rows] = np.count_nonzero(none & inside, axis=1)
 
 
 def _fill_results(out, rows, s, d, terrain, n, h_a, h_b, lam, ae, settings, overrides, paths):
@@ -109,8 +131,8 @@ def _fill_results(out, rows, s, d, terrain, n, h_a, h_b, lam, ae, settings, over
         out[key][rows] = res[key]
 
 
-def _chunk_job(idx, *, settings, sites_arrays, model=None):
-    """Compute one chunk of links; opens the elevation files by path when no model is given (a worker)."""
+def _chunk_job(idx, *, settings, sites_arrays, model=None, land_cover_paths=(), mapping=None, land_cover=None):
+    """Compute one chunk of links; opens the elevation (and land-cover) files by path when not given (a worker)."""
     gw, node = idx
     a = sites_arrays
     overrides = {role: {k: v[sel] for k, v in a["overrides"].items()}
@@ -118,11 +140,16 @@ def _chunk_job(idx, *, settings, sites_arrays, model=None):
     args = (settings, a["lat"][gw], a["lon"][gw], a["mast"][gw], a["lat"][node], a["lon"][node], a["mast"][node],
             overrides, [a["names"][i] for i in gw], [a["names"][i] for i in node])
     if model is not None:
-        return compute_links(model, *args)
-    from ..terrain.elevation import ElevationModel
+        return compute_links(model, *args, land_cover=land_cover, mapping=mapping)
+    from contextlib import ExitStack
 
-    with ElevationModel.open(list(settings.dem_paths)) as opened:
-        return compute_links(opened, *args)
+    from ..terrain.elevation import ElevationModel
+    from ..terrain.landcover import LandCover
+
+    with ExitStack() as stack:
+        opened = stack.enter_context(ElevationModel.open(list(settings.dem_paths)))
+        cover = stack.enter_context(LandCover.open(list(land_cover_paths))) if mapping is not None else None
+        return compute_links(opened, *args, land_cover=cover, mapping=mapping)
 
 
 @dataclass(frozen=True)
@@ -239,7 +266,7 @@ def network(sites, *, dem, pairs=None, max_distance_km: float = 50.0, band: str 
             frequency_mhz: float | None = None, k_factor="4/3", clearance_ratio: float = 0.6,
             step_m: float | None = None, fill_voids: bool = False, radio: RadioSettings | None = None,
             workers: int | None = None, scheduler: str | None = None, progress: bool | None = None,
-            chunk_links: int = CHUNK_LINKS) -> NetworkResult:
+            chunk_links: int = CHUNK_LINKS, land_cover=None, land_cover_classes=None) -> NetworkResult:
     """Analyse every gateway -> node link of a site list.
 
     Parameters
@@ -263,6 +290,12 @@ def network(sites, *, dem, pairs=None, max_distance_km: float = 50.0, band: str 
         Progress bar on standard error (default: when it is a terminal).
     chunk_links : int
         Links per chunk.
+    land_cover : str, Path or list of them, optional
+        Land-cover rasters of class codes: the clutter of every profile
+        sample (:func:`compute_links`).
+    land_cover_classes : str or Path, optional
+        Their ``--land-cover-classes`` TOML mapping (default the built-in
+        ESA WorldCover mapping).
 
     Returns
     -------
@@ -270,8 +303,11 @@ def network(sites, *, dem, pairs=None, max_distance_km: float = 50.0, band: str 
     """
     from ..engine.cluster import chunked, run_chunks
     from ..terrain.elevation import ElevationModel
+    from ..terrain.landcover import class_mapping_for, land_cover_paths
     from .sites import candidate_pairs, read_pairs_csv, read_sites_csv, site_overrides
 
+    mapping = class_mapping_for(land_cover, land_cover_classes)
+    cover_paths = tuple(land_cover_paths(land_cover))
     table = sites if hasattr(sites, "names") else read_sites_csv(sites)
     radio = (radio or RadioSettings()).validate().with_model(True)
     if radio.gateway != "a":
@@ -295,11 +331,12 @@ def network(sites, *, dem, pairs=None, max_distance_km: float = 50.0, band: str 
     sites_arrays = {"lat": table.lat_deg, "lon": table.lon_deg, "mast": table.mast_m, "names": list(table.names),
                     "overrides": site_overrides(table, np.arange(len(table)))}
     chunks = [(gw[sl], node[sl]) for sl in chunked(gw.size, chunk_links)]
-    with ElevationModel.open(list(dem_paths)) as model:
+    with ElevationModel.open(list(dem_paths)) as model, _open_cover(cover_paths, mapping) as cover:
         model.start_digests(table.lon_deg, table.lat_deg)
         local = workers is None and scheduler is None
         job = functools.partial(_chunk_job, settings=settings, sites_arrays=sites_arrays,
-                                model=model if local else None)
+                                model=model if local else None, land_cover_paths=cover_paths, mapping=mapping,
+                                land_cover=cover if local else None)
         parts = run_chunks(job, chunks, workers=workers, scheduler=scheduler, progress=progress,
                            weights=[c[0].size for c in chunks])
         ground = model.sample(table.lon_deg, table.lat_deg)
@@ -315,11 +352,37 @@ def network(sites, *, dem, pairs=None, max_distance_km: float = 50.0, band: str 
     warnings = []
     if summary["errors"]:
         warnings.append(f"{summary['errors']} of {summary['links']} links could not be computed (see their error)")
+    warnings += _clutter_warnings(table, node, res, mapping)
     settings_out = {"clearance_ratio": settings.clearance_ratio, "diffraction_method": radio.diffraction_method,
                     "max_distance_km": None if pairs is not None else float(max_distance_km),
-                    "pairs": pairs is not None, **radio.propagation.to_dict(k)}
+                    "pairs": pairs is not None, **radio.propagation.to_dict(k),
+                    "land_cover": list(cover_paths) if mapping is not None else None,
+                    "land_cover_classes": None if land_cover_classes is None else str(land_cover_classes)}
     return NetworkResult(sites=site_rows, links=_link_records(table, gw, node, res), nodes=nodes, summary=summary,
                          band=band_name, frequency_mhz=f_mhz, k_factor=k, fade_margin_db=radio.fade_margin_db,
                          dem={"kind": "dem", "sources": sources, "voids_filled": int(np.sum(res["voids_filled"]))},
                          warnings=warnings,
                          settings=settings_out)
+
+
+def _open_cover(paths, mapping):
+    """The land cover opened for the run (a context manager), or a null context without one."""
+    from contextlib import nullcontext
+
+    from ..terrain.landcover import LandCover
+
+    return nullcontext() if mapping is None else LandCover.open(list(paths))
+
+
+def _clutter_warnings(table, node, res, mapping) -> list:
+    """Said once: links with samples without a land-cover class, or no land cover while a node is below 10 m."""
+    from .link import LOW_NODE_M
+
+    if mapping is not None:
+        gaps = int(np.count_nonzero(res["samples_without_class"]))
+        return [f"{gaps} of {node.size} links have profile samples without a land-cover class (void or outside "
+                "the land cover): no clutter is assumed there"] if gaps else []
+    low = table.mast_m[np.unique(node)] < LOW_NODE_M
+    if not low.any():
+        return []
+    return [f"no land cover: {int(np.count_nonzero(low))} nodes below {LOW_NODE_M:g} m likely optimistic"]

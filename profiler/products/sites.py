@@ -31,7 +31,7 @@ from ..errors import ProfilerError, refuse_empty_path
 from ..limits import check_name
 
 __all__ = ["SiteTable", "read_sites_csv", "sites_from_records", "read_pairs_csv", "pairs_from_names",
-           "candidate_pairs", "ROLES", "GATEWAY_ROLES", "REQUIRED_COLUMNS", "OVERRIDE_COLUMNS",
+           "candidate_pairs", "ROLES", "GATEWAY_ROLES", "REQUIRED_COLUMNS", "OVERRIDE_COLUMNS", "TERMINAL_COLUMNS",
            "MAX_MAST_M"]
 
 ROLES = ("gateway", "node", "candidate")
@@ -43,6 +43,9 @@ REQUIRED_COLUMNS = ("name", "lat_deg", "lon_deg", "mast_m", "role")
 
 OVERRIDE_COLUMNS = ("tx_power_dbm", "gain_dbi", "cable_loss_db", "noise_figure_db")
 """Optional numeric per-site columns; an empty cell means "use the command option"."""
+
+TERMINAL_COLUMNS = ("clutter", "clutter_height_m", "indoor", "extra_loss_db")
+"""Optional per-site terminal columns (:mod:`profiler.engine.terminals`); an empty cell means "use the option"."""
 
 MAX_MAST_M = 1000.0
 """Highest accepted antenna height above ground [m]."""
@@ -76,6 +79,17 @@ class SiteTable:
         gateways and nodes.
     source : str
         Where the table came from (file path), for messages.
+    clutter : tuple of (str or None)
+        Clutter class around the site (``water``, ``open``, ``suburban``,
+        ``urban``, ``trees``, ``dense-urban``); None where empty.
+    clutter_height_m : ndarray of float
+        Representative clutter height of that class at the site [m]; NaN
+        where empty (the class's default for the run's model).
+    indoor : tuple of (str or None)
+        ``traditional`` or ``thermally-efficient`` for a site inside a
+        building; None where empty.
+    extra_loss_db : ndarray of float
+        Fixed extra loss at the site [dB]; NaN where empty.
     """
 
     names: tuple
@@ -90,6 +104,19 @@ class SiteTable:
     polarization: tuple
     cost: np.ndarray
     source: str = "sites"
+    clutter: tuple | None = None
+    clutter_height_m: np.ndarray | None = None
+    indoor: tuple | None = None
+    extra_loss_db: np.ndarray | None = None
+
+    def __post_init__(self):
+        n = len(self.names)
+        empty = np.full(n, np.nan)
+        empty.setflags(write=False)
+        for name, value in (("clutter", (None,) * n), ("clutter_height_m", empty), ("indoor", (None,) * n),
+                            ("extra_loss_db", empty)):
+            if getattr(self, name) is None:
+                object.__setattr__(self, name, value)
 
     def __len__(self) -> int:
         return len(self.names)
@@ -122,7 +149,9 @@ class SiteTable:
         return [{"name": self.names[i], "lat_deg": float(self.lat_deg[i]), "lon_deg": float(self.lon_deg[i]),
                  "mast_m": float(self.mast_m[i]), "role": str(self.role[i]),
                  **{col: cell(getattr(self, col), i) for col in OVERRIDE_COLUMNS},
-                 "polarization": self.polarization[i], "cost": cell(self.cost, i)}
+                 "polarization": self.polarization[i], "cost": cell(self.cost, i),
+                 "clutter": self.clutter[i], "clutter_height_m": cell(self.clutter_height_m, i),
+                 "indoor": self.indoor[i], "extra_loss_db": cell(self.extra_loss_db, i)}
                 for i in range(len(self))]
 
 
@@ -216,7 +245,8 @@ def _build_table(header, rows, where, source) -> SiteTable:
                             f"the file needs a {_SITES_HINT}")
     if not rows:
         raise ProfilerError(f"{source} has a header but no sites; add one row per site")
-    cols = _cells_by_column(header, rows, REQUIRED_COLUMNS + OVERRIDE_COLUMNS + ("polarization", "cost"), where)
+    cols = _cells_by_column(header, rows, REQUIRED_COLUMNS + OVERRIDE_COLUMNS + TERMINAL_COLUMNS
+                            + ("polarization", "cost"), where)
     lines = [line for line, _ in rows]
     names = cols["name"]
     seen: dict[str, int] = {}
@@ -245,11 +275,43 @@ def _build_table(header, rows, where, source) -> SiteTable:
     cost = _numbers(cols["cost"], column="cost", required=False, low=0.0, low_open=True, default=1.0, **num)
     cost[role != "candidate"] = np.nan
     polarization = tuple(_polarization(text, lines[k], where) for k, text in enumerate(cols["polarization"]))
-    for array in (lat, lon, mast, cost, *overrides.values()):
+    terminals = _terminal_columns(cols, lines, where, num)
+    for array in (lat, lon, mast, cost, *overrides.values(), terminals["clutter_height_m"],
+                  terminals["extra_loss_db"]):
         array.setflags(write=False)
     role.setflags(write=False)
     return SiteTable(names=tuple(names), lat_deg=lat, lon_deg=lon, mast_m=mast, role=role,
-                     polarization=polarization, cost=cost, source=source, **overrides)
+                     polarization=polarization, cost=cost, source=source, **overrides, **terminals)
+
+
+def _terminal_columns(cols, lines, where, num) -> dict:
+    """The ``clutter``, ``clutter_height_m``, ``indoor`` and ``extra_loss_db`` columns, checked."""
+    from ..limits import LIMITS
+    from ..propagation.building_entry import BUILDING_TYPES
+    from ..propagation.p2108 import CLUTTER_CLASSES
+
+    def names(column, valid):
+        out = []
+        for k, text in enumerate(cols[column]):
+            value = text.lower() or None
+            if value is not None and value not in valid:
+                raise ProfilerError(f"{where(lines[k])}: {column} {text!r} is not known; use {', '.join(valid)} "
+                                    "or leave the cell empty")
+            out.append(value)
+        return tuple(out)
+
+    clutter = names("clutter", CLUTTER_CLASSES)
+    height_limit, loss_limit = LIMITS["--clutter-height-a-m"], LIMITS["--extra-loss-a-db"]
+    height = _numbers(cols["clutter_height_m"], column="clutter_height_m", required=False, low=height_limit.low,
+                      high=height_limit.high, low_open=True, **num)
+    for k in np.flatnonzero(np.isfinite(height)):
+        if clutter[k] is None:
+            raise ProfilerError(f"{where(lines[k])}: clutter_height_m needs the clutter class in the same row; "
+                                "fill in clutter or empty clutter_height_m")
+    extra = _numbers(cols["extra_loss_db"], column="extra_loss_db", required=False, low=loss_limit.low,
+                     high=loss_limit.high, **num)
+    return {"clutter": clutter, "clutter_height_m": height, "indoor": names("indoor", BUILDING_TYPES),
+            "extra_loss_db": extra}
 
 
 def _check_lat_lon(lat, lon, cols, lines, where) -> None:
@@ -289,8 +351,11 @@ def read_sites_csv(path) -> SiteTable:
         CSV file, UTF-8 with or without a byte-order mark, comma separated,
         with a header row holding at least ``name,lat_deg,lon_deg,mast_m,role``
         (any order, any case).  Optional columns: ``tx_power_dbm``,
-        ``gain_dbi``, ``cable_loss_db``, ``noise_figure_db``, ``polarization``
-        (per-site overrides; an empty cell uses the command option) and
+        ``gain_dbi``, ``cable_loss_db``, ``noise_figure_db``, ``polarization``,
+        ``clutter`` (a clutter class), ``clutter_height_m`` (its height,
+        needs ``clutter``), ``indoor`` (``traditional`` or
+        ``thermally-efficient``), ``extra_loss_db`` (per-site overrides; an
+        empty cell uses the command option) and
         ``cost`` (candidate sites only; default 1, must be > 0).  Other
         columns are ignored; blank lines are skipped.
 
@@ -305,8 +370,10 @@ def read_sites_csv(path) -> SiteTable:
         For a missing file, non-UTF-8 text, an empty file, a missing column,
         an empty or duplicate name, an unknown role, a value that is not a
         number or is out of range (lat -90..90, lon -180..180 [deg], mast
-        0..1000 [m], losses and noise figure >= 0 [dB], cost > 0) or an
-        unknown polarization.  The message names the file and the line.
+        0..1000 [m], losses and noise figure >= 0 [dB], cost > 0, clutter
+        height above 0 and at most 100 [m], extra loss 0..300 [dB]), an
+        unknown polarization, clutter class or building type, or a clutter
+        height without its class.  The message names the file and the line.
     """
     header, rows = _read_rows(path, "sites", "--sites", _SITES_HINT)
     p = Path(path)
@@ -456,6 +523,13 @@ def site_overrides(sites, idx):
     from ..propagation.polarization import polarization_angle_deg
 
     pol = np.array([math.nan if p is None else polarization_angle_deg(p) for p in sites.polarization])
+    from ..propagation.building_entry import BUILDING_TYPES
+    from ..propagation.p2108 import CLUTTER_CLASSES
+
+    clutter = np.array([-1 if c is None else CLUTTER_CLASSES.index(c) for c in sites.clutter])
+    indoor = np.array([-1 if c is None else BUILDING_TYPES.index(c) for c in sites.indoor])
     return {"tx_power_dbm": sites.tx_power_dbm[idx], "gain_dbi": sites.gain_dbi[idx],
             "cable_loss_db": sites.cable_loss_db[idx], "noise_figure_db": sites.noise_figure_db[idx],
-            "polarization_deg": pol[idx]}
+            "polarization_deg": pol[idx], "clutter_index": clutter[idx],
+            "clutter_height_m": sites.clutter_height_m[idx], "indoor_index": indoor[idx],
+            "extra_loss_db": sites.extra_loss_db[idx]}

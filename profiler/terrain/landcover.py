@@ -66,7 +66,8 @@ from profiler.terrain.sources import LAND_COVER_ROLE
 
 __all__ = ["NO_CLASS", "CLUTTER_CLASSES", "MODELS", "DEFAULT_HEIGHTS_M", "WORLDCOVER_CLASSES",
            "MAX_CLUTTER_HEIGHT_M", "LandCover", "ClassMapping", "ClutterSamples",
-           "worldcover_mapping", "read_class_mapping", "clutter_index", "default_height_m"]
+           "worldcover_mapping", "read_class_mapping", "clutter_index", "default_height_m",
+           "mapping_provenance", "land_cover_paths", "class_mapping_for", "BUILT_IN_SOURCE"]
 
 NO_CLASS = -1
 """Code returned where the land cover is void or absent (no real class code is negative)."""
@@ -126,6 +127,9 @@ MAX_CLUTTER_HEIGHT_M = 100.0
 """Largest representative clutter height a class file may give [m]."""
 
 _BUILT_IN = "the built-in ESA WorldCover mapping"
+
+BUILT_IN_SOURCE = "built-in ESA WorldCover"
+"""The ``source`` of the built-in mapping in a report's ``land_cover.classes`` record."""
 
 
 class LandCover:
@@ -473,3 +477,72 @@ def _clutter_height(value, where: str) -> float:
         raise ProfilerError(f"{where}: height_m = {value!r} is not a clutter height; give a number "
                             f"of metres from 0 to {MAX_CLUTTER_HEIGHT_M:g}")
     return float(value)
+
+
+def mapping_provenance(mapping: ClassMapping) -> dict:
+    """The report record of where a class mapping comes from.
+
+    Parameters
+    ----------
+    mapping : ClassMapping
+        The built-in mapping (:func:`worldcover_mapping`) or one read by
+        :func:`read_class_mapping`.
+
+    Returns
+    -------
+    dict
+        ``{"source": "built-in ESA WorldCover", "path": None, "sha256": None}``
+        for the built-in mapping, ``{"source": "file", "path": PATH, "sha256":
+        HEX}`` for a ``--land-cover-classes`` file (the digest of its bytes).
+    """
+    if mapping.source == _BUILT_IN:
+        return {"source": BUILT_IN_SOURCE, "path": None, "sha256": None}
+    from .digests import file_sha256
+
+    return {"source": "file", "path": mapping.source, "sha256": file_sha256(mapping.source)}
+
+
+def land_cover_paths(land_cover) -> list:
+    """The ``land_cover`` argument of the API as a list of paths (empty: no land cover).
+
+    Parameters
+    ----------
+    land_cover : str, os.PathLike, sequence of them, or None
+        ``--land-cover`` files or folders.
+
+    Returns
+    -------
+    list of str
+    """
+    if land_cover is None:
+        return []
+    if isinstance(land_cover, (str, Path)) or not hasattr(land_cover, "__iter__"):
+        return [str(land_cover)]
+    return [str(p) for p in land_cover]
+
+
+def class_mapping_for(land_cover, land_cover_classes) -> ClassMapping | None:
+    """The class mapping of a run: None without a land cover, else the TOML file's or the built-in one.
+
+    Parameters
+    ----------
+    land_cover : str, os.PathLike, sequence of them, or None
+        ``--land-cover`` files or folders.
+    land_cover_classes : str or os.PathLike or None
+        ``--land-cover-classes`` TOML file (None: :func:`worldcover_mapping`).
+
+    Returns
+    -------
+    ClassMapping or None
+
+    Raises
+    ------
+    ProfilerError
+        ``land_cover_classes`` without ``land_cover``; the TOML file's
+        refusals (:func:`read_class_mapping`).
+    """
+    if not land_cover_paths(land_cover):
+        if land_cover_classes is not None:
+            raise ProfilerError("--land-cover-classes needs a land cover: give --land-cover FILE_OR_FOLDER too")
+        return None
+    return worldcover_mapping() if land_cover_classes is None else read_class_mapping(land_cover_classes)

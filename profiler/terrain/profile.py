@@ -9,7 +9,7 @@ coordinates and provenance when they are known.
 from __future__ import annotations
 
 import csv
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from pathlib import Path
 
 import numpy as np
@@ -53,6 +53,15 @@ class TerrainProfile:
     zone : ndarray of int or None
         Radio-meteorological zone code of each sample [-] (1 sea, 3 coastal land,
         4 inland; P.1812-8 section 3.3); None: inland.
+    clutter_class : ndarray of int8 or None
+        Clutter class of each sample from a land cover [-] (index into
+        :data:`profiler.terrain.landcover.CLUTTER_CLASSES`, -1 none); None:
+        no land cover (a surveyed profile's clutter has no class).
+    land_cover : dict or None
+        Provenance of the land cover (:func:`with_land_cover`): ``sources``
+        (``{path, sha256, crs, resolution}`` per raster that gave a class),
+        ``classes`` (:func:`profiler.terrain.landcover.mapping_provenance`),
+        ``samples_without_class``; None without a land cover.
     """
 
     distance_m: np.ndarray
@@ -67,6 +76,8 @@ class TerrainProfile:
     void_stretches_m: list = field(default_factory=list)
     clutter_height_m: np.ndarray | None = None
     zone: np.ndarray | None = None
+    clutter_class: np.ndarray | None = None
+    land_cover: dict | None = None
 
     @property
     def length_m(self) -> float:
@@ -130,6 +141,57 @@ def profile_from_dem(model, lat_a_deg: float, lon_a_deg: float, lat_b_deg: float
                           azimuth_b_to_a_deg=float(batch.azimuth_b_to_a_deg[0]),
                           sources=sources, voids_filled=int(batch.voids_filled[0]), kind="dem",
                           void_stretches_m=list(batch.void_stretches_m[0]))
+
+
+def with_land_cover(profile: TerrainProfile, land_cover, mapping, model: str) -> TerrainProfile:
+    """The profile with the clutter of a land cover at every sample, end points included.
+
+    Each sample takes the class code of the land-cover pixel holding it
+    (nearest pixel, never interpolated: the same sample positions as the
+    terrain), its clutter class and its representative clutter height R
+    from ``mapping`` for ``model``.  A sample with no class (void pixel,
+    outside the land cover, or a void code of the mapping) has no clutter:
+    class -1 and R = 0.
+
+    Parameters
+    ----------
+    profile : TerrainProfile
+        A profile with sample coordinates (from elevation data).
+    land_cover : profiler.terrain.landcover.LandCover
+        The open land cover.
+    mapping : profiler.terrain.landcover.ClassMapping
+        Code -> clutter class and height.
+    model : str
+        ``p1812`` or ``terrain``: whose default heights R the mapping falls back on.
+
+    Returns
+    -------
+    TerrainProfile
+        A copy with ``clutter_class`` [-], ``clutter_height_m`` [m] and ``land_cover`` (provenance).
+
+    Raises
+    ------
+    ProfilerError
+        The profile has no coordinates; a code that occurs is not in the
+        mapping (its code and the file name).
+
+    References
+    ----------
+    .. [1] ITU-R P.1812-8 Annex 1 section 3.2 (representative clutter height
+       R of each sample; the model adds it at the interior points only).
+    """
+    from .landcover import mapping_provenance
+
+    if profile.lat_deg is None or profile.lon_deg is None:
+        raise ProfilerError("--land-cover needs the coordinates of the profile samples: give --dem with --site-a "
+                            "and --site-b (a --profile gives its clutter in its clutter_height_m column)")
+    lon, lat = np.asarray(profile.lon_deg, dtype=float), np.asarray(profile.lat_deg, dtype=float)
+    samples = mapping.clutter(land_cover.codes(lon, lat), model)
+    none = samples.class_index < 0
+    record = {"sources": land_cover.provenance(lon, lat), "classes": mapping_provenance(mapping),
+              "samples_without_class": int(np.count_nonzero(none))}
+    return replace(profile, clutter_class=samples.class_index.copy(),
+                   clutter_height_m=np.where(none, 0.0, samples.height_m), land_cover=record)
 
 
 ZONE_NAMES = {"sea": 1, "coastal": 3, "inland": 4}

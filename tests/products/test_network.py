@@ -202,7 +202,7 @@ def test_siting_command_on_the_sample_scenario(tmp_path):
               "--csv", tmp_path / "siting.csv", "--geojson", tmp_path / "siting.geojson")
     assert res.exit_code == 0, res.output
     rep = json.loads(out.read_text())
-    assert rep["schema"] == "profiler.siting/1" and rep["proven_optimal"] is True
+    assert rep["schema"] == "profiler.siting/2" and rep["proven_optimal"] is True
     assert rep["objective"] <= rep["greedy"]["objective"]
     net = net_json("--dem", SAMPLE, "--sites", sites)
     chosen = set(rep["chosen"])

@@ -165,6 +165,7 @@ def radial_fields(distance_m, terrain_m, n, mast_m, node_mast_m, settings, overr
         (NaN where not computed; ``recommended_dr`` NaN where none closes).
     """
     from ...engine.links import link_fields
+    from ...engine.terminals import any_terminal
 
     d, t = np.asarray(distance_m, float), np.asarray(terrain_m, float)
     n = np.asarray(n)
@@ -182,6 +183,9 @@ def radial_fields(distance_m, terrain_m, n, mast_m, node_mast_m, settings, overr
 
     if kernel is None:
         kernel = kernel_available()
+    # the kernel reduces profiles without clutter: a terminal in clutter (a class at an end, either model) runs
+    # the numpy prefix batches
+    kernel = kernel and not any_terminal(settings.radio, overrides=_overrides(overrides, 1))
     rr, jj = np.nonzero((np.arange(d.shape[1])[None, :] >= 1) & (np.arange(d.shape[1])[None, :] < n[:, None]))
     # free space, or (numpy, no diffraction) a loss that depends on the two ends only
     straight = (jj == 1) | (fast and not kernel)

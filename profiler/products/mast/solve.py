@@ -54,13 +54,13 @@ import math
 import numpy as np
 
 from ... import limits
-from ...engine.losses import profile_paths
 from ...engine.radio import RadioSettings
 from ...errors import ProfilerError
 from ...keywords import renamed_keyword
 from ...lora.regional import plan as regional_plan
 from ...propagation import geometry
 from ...terrain.profile import TerrainProfile
+from ..link import link_paths
 from .clearance import SOLVE_ENDS, clearance_criteria, clearance_target_m, required_height_m, round_up_mm
 from .result import SCHEMA, MastResult, feasible_binding, infeasible_outcome, per_extra_metre
 from .search import (
@@ -194,7 +194,7 @@ def solve_mast(profile: TerrainProfile, *, frequency_mhz: float, solve: str = "b
     plan = regional_plan(band) if band is not None else None
     k, k_low = radio.propagation.k_factor(geometry.parse_k_factor(k_factor)), geometry.parse_k_factor(low_k_factor)
     limits.check_values({"--k": k, "--low-k": k_low})
-    paths = profile_paths(profile, site_a, site_b) if has_coordinates else None
+    paths = link_paths(profile, site_a, site_b) if has_coordinates else None
     pb = MastProblem(profile, solve, m_a0, m_b0, frequency_mhz, k, k_low, radio, plan, max_mast_m, paths)
 
     criteria, clearance_req = clearance_criteria(pb, ratio, ratio_low)

@@ -1,4 +1,4 @@
-"""Gateway siting over a network report: margin matrix, ``profiler.siting/1`` report, CSV and GeoJSON.
+"""Gateway siting over a network report: margin matrix, ``profiler.siting/2`` report, CSV and GeoJSON.
 
 The network engine's report (``profiler.network/3``) gives ``sites[]``
 (``name, lat_deg, lon_deg, mast_m, role, ground_m``; role ``gateway`` =
@@ -40,7 +40,10 @@ from .setcover import hearing_matrix, solve_siting
 __all__ = ["SCHEMA", "SitingResult", "MarginMatrix", "margin_matrix", "site_costs", "siting_from_network",
            "siting_report", "siting_csv_text", "siting_geojson_dict", "siting_geojson_text", "siting_kml_text"]
 
-SCHEMA = "profiler.siting/1"
+SCHEMA = "profiler.siting/2"
+#: The ``settings`` keys copied from the network report the sites were chosen over: the propagation
+#: model, its percentages and the diffraction method (``profiler.siting/2``).
+SETTINGS_KEYS = ("model", "time_percent", "location_percent", "diffraction_method")
 
 #: Roles on the gateway-site axis; ``gateway`` sites are fixed open.
 SITE_ROLES = ("gateway", "candidate")
@@ -66,7 +69,7 @@ class MarginMatrix(NamedTuple):
 
 @dataclass(frozen=True)
 class SitingResult:
-    """The answer of :func:`profiler.siting`: :meth:`to_dict` is the ``profiler.siting/1`` JSON report.
+    """The answer of :func:`profiler.siting`: :meth:`to_dict` is the ``profiler.siting/2`` JSON report.
 
     ``network`` is the ``profiler.network/3`` report the choice was made
     over (every gateway and candidate site to every node); the sheet and the
@@ -78,7 +81,7 @@ class SitingResult:
     network: dict
 
     def to_dict(self) -> dict:
-        """The ``profiler.siting/1`` report (a plain dict, no NaN)."""
+        """The ``profiler.siting/2`` report (a plain dict, no NaN)."""
         return self.report
 
     chosen = property(lambda self: list(self.report["chosen"]),
@@ -186,7 +189,7 @@ def site_costs(network_report: dict, matrix: MarginMatrix, costs: dict | None = 
 def siting_from_network(network_report: dict, *, min_margin_db: float, redundancy: int = 1,
                         max_gateways: int | None = None, time_limit_s: float = 60.0,
                         costs: dict | None = None) -> dict:
-    """Solve the siting problem over a network report and return the ``profiler.siting/1`` report.
+    """Solve the siting problem over a network report and return the ``profiler.siting/2`` report.
 
     Parameters
     ----------
@@ -300,13 +303,14 @@ def _node_rows(links, matrix, hears, solution, is_open) -> list[dict]:
 
 def siting_report(network_report: dict, matrix: MarginMatrix, hears, solution, *, cost, min_margin_db: float,
                   redundancy: int, max_gateways: int | None, time_limit_s: float) -> dict:
-    """The ``profiler.siting/1`` JSON report (a plain dict, no NaN).
+    """The ``profiler.siting/2`` JSON report (a plain dict, no NaN).
 
     Parameters
     ----------
     network_report : dict
         The network report the matrices came from (``dem``, ``warnings``,
-        ``band`` and ``frequency_mhz`` are carried over).
+        ``band`` and ``frequency_mhz`` are carried over, and its ``settings``
+        keys :data:`SETTINGS_KEYS` become the report's ``settings``).
     matrix : MarginMatrix
     hears : ndarray of bool
         The hearing matrix the solution was computed on.
@@ -361,6 +365,7 @@ def siting_report(network_report: dict, matrix: MarginMatrix, hears, solution, *
         "redundancy": int(redundancy), "min_margin_db": float(min_margin_db),
         "max_gateways": None if max_gateways is None else int(max_gateways), "time_limit_s": float(time_limit_s),
         "band": network_report.get("band"), "frequency_mhz": network_report.get("frequency_mhz"),
+        "settings": {key: (network_report.get("settings") or {}).get(key) for key in SETTINGS_KEYS},
         "dem": network_report.get("dem"), "warnings": warnings, "caution": CAUTION,
     }
 
