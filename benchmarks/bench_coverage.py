@@ -117,7 +117,7 @@ def timed(label, func):
 
 
 def model_times(label, repeat, run):
-    """Best wall and CPU time of ``run(radio)`` per model over ``repeat`` alternating rounds; prints them and the ratios.
+    """Best wall and CPU time of ``run(radio)`` per model over ``repeat`` alternating rounds; prints them and ratios.
 
     The CPU time (every thread of this process) moves less than the wall
     time when other jobs share the cores.

@@ -74,8 +74,8 @@ __all__ = ["EARTH_RADIUS_KM", "ZONE_COASTAL", "ZONE_INLAND", "ZONE_SEA", "Profil
            "effective_radius_km", "elevation_mrad_term", "elevation_tangent_term",
            "height_factor", "horizon_geometry", "inland_zones_km", "inverse_normal",
            "inverse_normal_tail", "location_sigma_db", "location_term_db", "p1812_batch", "p1812_finish",
-           "p1812_reductions", "path_centre_latitude_deg", "padded_profile", "roughness_term", "trans_horizon", "troposcatter_db",
-           "zone_sections_km"]
+           "p1812_reductions", "path_centre_latitude_deg", "padded_profile", "roughness_term", "trans_horizon",
+           "troposcatter_db", "zone_sections_km"]
 
 
 def p1812_batch(distance_km, height_m, clutter_m, zone, n_samples, *, f_ghz, time_percent, htg_m, hrg_m,
