@@ -211,7 +211,8 @@ LOSS_LABELS = {"model": "Model", "free_space": "Free space", "diffraction": "Dif
                "clutter_a": "Clutter at A (P.2108-1)", "clutter_b": "Clutter at B (P.2108-1)",
                "building_entry_a": "Building entry at A (P.2109-1)",
                "building_entry_b": "Building entry at B (P.2109-1)",
-               "extra_a": "Extra loss at A", "extra_b": "Extra loss at B"}
+               "extra_a": "Extra loss at A", "extra_b": "Extra loss at B",
+               "calibration": "Calibration (profiler survey)"}
 
 
 #: ``loss_db`` keys the terrain model's table leaves out: always 0 or equal to free space + diffraction there.
