@@ -262,7 +262,15 @@ class PropagationSettings:
         return f"P.1812-8, {self.time_percent:g} % time, {self.location_percent:g} % locations"
 
     def calibration_dict(self):
-        """The reports' ``calibration`` settings (:meth:`profiler.engine.calibration.Calibration.to_dict`), or None."""
+        """The reports' ``calibration`` settings.
+
+        Returns
+        -------
+        dict or None
+            :meth:`profiler.engine.calibration.Calibration.to_dict` (``path``,
+            ``sha256``, ``offset_db``, ``slope_db_per_decade``,
+            ``location_sigma_db``, ``clutter``), or None without a calibration.
+        """
         return None if self.calibration is None else self.calibration.to_dict()
 
     def to_dict(self, k_factor: float) -> dict:

@@ -24,7 +24,7 @@ import math
 
 import numpy as np
 
-from ...engine.calibration import calibration_correction_db, read_calibration  # noqa: F401 - used here and re-exported
+from ...engine.calibration import calibration_correction_db
 from ...errors import ProfilerError
 
 FITS = ("offset", "slope")
