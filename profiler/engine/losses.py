@@ -177,7 +177,8 @@ def path_loss_batch(d, terrain, n, h_a, h_b, frequency_mhz, ae, radio, pol_a_deg
     dict
         The ``loss_db`` block (module docstring) with the per-end keys
         ``clutter_a``, ``clutter_b``, ``building_entry_a``, ``building_entry_b``,
-        ``extra_a``, ``extra_b`` and ``calibration`` (:func:`calibration_term_db`) [dB] in ``total``; ``terminals`` (the ends of
+        ``extra_a``, ``extra_b`` and ``calibration`` (:func:`calibration_term_db`) [dB] in
+        ``total``; ``terminals`` (the ends of
         :func:`profiler.engine.terminals.terminal_ends`, the elevation angles,
         ``skipped_a``/``_b`` and ``near_a``/``_b``); with ``p1812`` also the key
         ``p1812``: the named values of :func:`profiler.propagation.p1812.p1812_batch`.

@@ -233,7 +233,7 @@ def _loss_table(report) -> Table:
         labels["location"] = f"Location term ({prop.get('location_percent', 50.0):g} % locations)"
     rows = []
     for key, value in loss.items():
-        if not p1812 and key in P1812_ONLY:
+        if (not p1812 and key in P1812_ONLY) or (key == "calibration" and not report.get("calibration")):
             continue
         base, unit = (key[:-2], " m") if key.endswith("_m") else (key, " dB")
         value = (model_line(report) or value) if key == "model" else value

@@ -248,3 +248,27 @@ def test_the_api_takes_a_read_calibration_and_the_correction_function_takes_it_t
         from profiler.engine.model import PropagationSettings
 
         PropagationSettings(calibration={"offset_db": 1.0}).validate()
+
+
+def test_a_survey_refuses_a_calibrated_model(tmp_path, cal_file):
+    """The survey fits the calibration against the uncalibrated model; a calibrated one would be misstated."""
+    from profiler import survey
+    from profiler.engine.model import PropagationSettings
+    from profiler.engine.radio import RadioSettings
+
+    sites = tmp_path / "sites.csv"
+    sites.write_text(f"name,lat_deg,lon_deg,mast_m,role\nCairnfell Beacon,{GATEWAY[0]},{GATEWAY[1]},10,gateway\n",
+                     encoding="utf-8")
+    meas = _write_rows(tmp_path / "m.csv", [["Cairnfell Beacon", PUMP[0], PUMP[1], "-100", "5", 1.5]])
+    radio = RadioSettings(propagation=PropagationSettings(calibration=load_calibration(cal_file)))
+    with pytest.raises(ProfilerError, match="uncalibrated model"):
+        survey(sites, meas, dem=DEM, radio=radio, progress=False)
+
+
+def test_the_pdf_loss_table_has_no_calibration_row_without_a_calibration():
+    from profiler import link
+    from profiler.plot.report_pdf import _loss_table
+
+    report = link(GATEWAY, PUMP, dem=DEM).to_dict()
+    assert report["loss_db"]["calibration"] == 0.0
+    assert not [row for row in _loss_table(report).rows if row[0].startswith("Calibration")]
