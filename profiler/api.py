@@ -55,6 +55,10 @@ PARAMETERS = {
     "land_cover_classes": "land_cover_classes : str or Path, optional\n"
                           "        TOML file mapping each land-cover code to a clutter class and height (default: the\n"
                           "        built-in ESA WorldCover mapping).",
+    "calibration": "calibration : str, Path or profiler.engine.calibration.Calibration, optional\n"
+                   "        A ``profiler survey --calibration-out`` TOML file: its correction offset + slope *\n"
+                   "        log10(d / 1 km) [dB] is the loss term ``loss_db.calibration`` (the node end's clutter\n"
+                   "        class table where the file has one); the report names the file and its SHA-256.",
     "chunk_links": "chunk_links : int\n"
                    "        Links per chunk: the unit of work of a worker and of the progress bar.",
 }
@@ -73,7 +77,7 @@ def link(site_a=None, site_b=None, *, dem=None, profile_csv=None, mast_a_m: floa
          frequency_mhz: float | None = None, band: str | None = None, step_m: float | None = None,
          clearance_ratio: float = 0.6, fill_voids: bool = False,
          radio: RadioSettings | None = None, date=None, sheet_info=None, digests=None, land_cover=None,
-         land_cover_classes=None) -> LinkResult:
+         land_cover_classes=None, calibration=None) -> LinkResult:
     """Analyse the link A-B over elevation data or a surveyed profile (``profiler link``).
 
     Parameters
@@ -99,15 +103,17 @@ def link(site_a=None, site_b=None, *, dem=None, profile_csv=None, mast_a_m: floa
     <<digests>>
     <<land_cover>>
     <<land_cover_classes>>
+    <<calibration>>
 
     Returns
     -------
     LinkResult
-        ``result.to_dict()`` is the ``profiler.link/5`` JSON report; ``result.profile`` holds the
+        ``result.to_dict()`` is the ``profiler.link/6`` JSON report; ``result.profile`` holds the
         per-sample arrays (``distance_m``, ``terrain_m``, ``bulge_m``, ``los_m``, ``fresnel_radius_m``,
         ``clearance_m``, with a land cover ``clutter_class`` and ``clutter_height_m``, ...).
     """
     check_names(name_a=name_a, name_b=name_b)
+    radio = calibrated(radio, calibration)
     f_mhz, band_name = resolve_frequency_mhz(frequency_mhz, band)
     k = parse_k_factor(k_factor)
     mapping = _class_mapping(land_cover, land_cover_classes, profile_csv)
@@ -129,7 +135,7 @@ def mast(site_a=None, site_b=None, *, dem=None, profile_csv=None, mast_a_m: floa
          clearance_ratio: float | None = 0.6, fill_voids: bool = False, low_k_factor="2/3",
          low_k_clearance_ratio: float | None = 0.0, min_margin_db: float | None = None, solve: str = "b",
          max_mast_m: float = 60.0, mast_step_m: float = 1.0, radio: RadioSettings | None = None, date=None,
-         sheet_info=None, digests=None, land_cover=None, land_cover_classes=None):
+         sheet_info=None, digests=None, land_cover=None, land_cover_classes=None, calibration=None):
     """The lowest mast that meets every given criterion on the link A-B (``profiler mast``).
 
     The criteria that are given must all hold: clearance >= ``clearance_ratio`` F1 at ``k_factor``,
@@ -177,11 +183,12 @@ def mast(site_a=None, site_b=None, *, dem=None, profile_csv=None, mast_a_m: floa
     <<digests>>
     <<land_cover>>
     <<land_cover_classes>>
+    <<calibration>>
 
     Returns
     -------
     profiler.products.mast.result.MastResult
-        ``result.to_dict()`` is the ``profiler.mast/3`` JSON report; ``result.feasible`` is False (with
+        ``result.to_dict()`` is the ``profiler.mast/4`` JSON report; ``result.feasible`` is False (with
         ``result.message``) when no height up to ``max_mast_m`` meets every criterion.
     """
     import dataclasses
@@ -191,6 +198,7 @@ def mast(site_a=None, site_b=None, *, dem=None, profile_csv=None, mast_a_m: floa
     from .products.mast.solve import solve_mast
 
     check_names(name_a=name_a, name_b=name_b)
+    radio = calibrated(radio, calibration)
     f_mhz, band_name = resolve_frequency_mhz(frequency_mhz, band)
     mapping = _class_mapping(land_cover, land_cover_classes, profile_csv)
     prof = load_profile(site_a, site_b, dem=dem, profile_csv=profile_csv, step_m=step_m,
@@ -272,7 +280,7 @@ def network(sites, *, dem, pairs=None, max_distance_km: float = 50.0, k_factor="
             frequency_mhz: float | None = None, band: str | None = None, step_m: float | None = None,
             clearance_ratio: float = 0.6, fill_voids: bool = False, radio: RadioSettings | None = None,
             workers: int | None = None, scheduler: str | None = None, progress: bool | None = None,
-            chunk_links: int = CHUNK_LINKS, land_cover=None, land_cover_classes=None):
+            chunk_links: int = CHUNK_LINKS, land_cover=None, land_cover_classes=None, calibration=None):
     """Every gateway -> node link of a site list (``profiler network``).
 
     Gateways and candidate sites are end A of every link, nodes end B: the ``radio`` settings of end A
@@ -303,15 +311,17 @@ def network(sites, *, dem, pairs=None, max_distance_km: float = 50.0, k_factor="
     <<chunk_links>>
     <<land_cover>>
     <<land_cover_classes>>
+    <<calibration>>
 
     Returns
     -------
     profiler.products.network.NetworkResult
-        ``result.to_dict()`` is the ``profiler.network/3`` JSON report (``links``, ``nodes``, ``sites``,
+        ``result.to_dict()`` is the ``profiler.network/5`` JSON report (``links``, ``nodes``, ``sites``,
         ``summary`` as attributes too).
     """
     from .products.network import network as _network
 
+    radio = calibrated(radio, calibration)
     return _network(sites, dem=dem, pairs=pairs, max_distance_km=max_distance_km, band=band,
                     frequency_mhz=frequency_mhz, k_factor=k_factor, clearance_ratio=clearance_ratio, step_m=step_m,
                     fill_voids=fill_voids, radio=radio, workers=workers, scheduler=scheduler, progress=progress,
@@ -378,7 +388,7 @@ def siting(sites, *, dem, redundancy: int = 1, min_margin_db: float | None = Non
            frequency_mhz: float | None = None, band: str | None = None, step_m: float | None = None,
            clearance_ratio: float = 0.6, fill_voids: bool = False, radio: RadioSettings | None = None,
            workers: int | None = None, scheduler: str | None = None, progress: bool | None = None,
-           chunk_links: int = CHUNK_LINKS, land_cover=None, land_cover_classes=None):
+           chunk_links: int = CHUNK_LINKS, land_cover=None, land_cover_classes=None, calibration=None):
     """The cheapest set of candidate gateway sites that hears every node (``profiler siting``).
 
     Runs :func:`network` from every ``gateway`` and ``candidate`` site to every node, then solves the
@@ -407,19 +417,21 @@ def siting(sites, *, dem, redundancy: int = 1, min_margin_db: float | None = Non
         Where and in which chunks the links run, as for :func:`network`.
     land_cover, land_cover_classes
         The land cover and its class mapping, as for :func:`network`.
+    <<calibration>>
 
     Returns
     -------
     profiler.products.siting.report.SitingResult
-        ``result.to_dict()`` is the ``profiler.siting/2`` JSON report; ``result.network`` the
-        ``profiler.network/3`` report it was solved over.
+        ``result.to_dict()`` is the ``profiler.siting/4`` JSON report; ``result.network`` the
+        ``profiler.network/5`` report it was solved over.
     """
     from .products.siting.report import SitingResult, siting_from_network
 
     net = network(sites, dem=dem, pairs=pairs, max_distance_km=max_distance_km, band=band,
                   frequency_mhz=frequency_mhz, k_factor=k_factor, clearance_ratio=clearance_ratio, step_m=step_m,
                   fill_voids=fill_voids, radio=radio, workers=workers, scheduler=scheduler, progress=progress,
-                  chunk_links=chunk_links, land_cover=land_cover, land_cover_classes=land_cover_classes).to_dict()
+                  chunk_links=chunk_links, land_cover=land_cover, land_cover_classes=land_cover_classes,
+                  calibration=calibration).to_dict()
     threshold = (radio or RadioSettings()).fade_margin_db if min_margin_db is None else float(min_margin_db)
     report = siting_from_network(net, min_margin_db=threshold, redundancy=redundancy, max_gateways=max_gateways,
                                  time_limit_s=time_limit_s)
@@ -432,7 +444,8 @@ def coverage(site=None, *, dem, mast_m: float | None = None, radius_km: float, n
              frequency_mhz: float | None = None, band: str | None = None, clearance_ratio: float = 0.6,
              fill_voids: bool = False, radio: RadioSettings | None = None, workers: int | None = None,
              scheduler: str | None = None, progress: bool | None = None, kernel: bool | None = None, date=None,
-             sheet_info=None, out=None, plot=None, kmz=None, json=None, paper: str = "a4", dpi: int = 200):
+             sheet_info=None, out=None, plot=None, kmz=None, json=None, paper: str = "a4", dpi: int = 200,
+             calibration=None):
     """Margin and data rate at every pixel within a radius of a gateway site (``profiler coverage``).
 
     The computation (:func:`profiler.products.coverage.map.coverage`) writes no file; the files asked
@@ -479,17 +492,19 @@ def coverage(site=None, *, dem, mast_m: float | None = None, radius_km: float, n
         Paper size of the map sheet.
     dpi : int
         Resolution of a PNG map sheet [dots per inch].
+    <<calibration>>
 
     Returns
     -------
     profiler.products.coverage.map.CoverageResult
-        ``result.to_dict()`` is the ``profiler.coverage/3`` JSON report; ``result.bands`` maps each band
+        ``result.to_dict()`` is the ``profiler.coverage/5`` JSON report; ``result.bands`` maps each band
         name to a float32 array on ``result.grid`` (NaN: nodata).
     """
     from .io.outputs import check_outputs, write_outputs
     from .products.coverage.map import coverage as _coverage
 
     check_names(name=name)
+    radio = calibrated(radio, calibration)
     check_outputs(coverage_outputs(out, plot, kmz, json, paper=paper, dpi=dpi, dem_paths=dem))
     result = _coverage(site, dem=dem, mast_m=mast_m, name=name, sites=sites, radius_km=radius_km,
                        resolution_m=resolution_m, node_mast_m=node_mast_m, band=band, frequency_mhz=frequency_mhz,
@@ -530,6 +545,21 @@ def coverage_outputs(out=None, plot=None, kmz=None, json=None, *, paper="a4", dp
         outputs.append(Output("summary", None if str(json) == "-" else "-",
                               lambda report, path: coverage_summary_text(report), "terminal"))
     return outputs
+
+
+def calibrated(radio: RadioSettings | None, calibration) -> RadioSettings | None:
+    """``radio`` with ``calibration`` (a file path or a read :class:`profiler.engine.calibration.Calibration`) set.
+
+    None leaves ``radio`` as it is (its own ``propagation.calibration``, if any, stays).
+    """
+    if calibration is None:
+        return radio
+    from dataclasses import replace
+
+    from .engine.calibration import as_calibration
+
+    radio = radio or RadioSettings()
+    return replace(radio, propagation=replace(radio.propagation, calibration=as_calibration(calibration)))
 
 
 def check_names(**names) -> None:

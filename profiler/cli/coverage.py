@@ -10,6 +10,7 @@ from .options import (
     SITE_NAME,
     LatLon,
     batch_radio_options,
+    calibration_option,
     clearance_ratio_option,
     cluster_options,
     frequency_options,
@@ -40,6 +41,7 @@ from .options import (
 @frequency_options
 @clearance_ratio_option()
 @batch_radio_options
+@calibration_option
 @click.option("--out", "out_path", default=None, type=click.Path(dir_okay=False), metavar="COVERAGE.tif",
               help="Write the bands as a float32 GeoTIFF (give at least one of --out, --plot, --kmz, --json).")
 @click.option("--kmz", "kmz_path", default=None, type=click.Path(dir_okay=False), metavar="OVERLAY.kmz",

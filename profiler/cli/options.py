@@ -214,7 +214,17 @@ def radio_options(f):
         click.option("--gateway", type=click.Choice(["a", "b"]), default="a", show_default=True,
                      help="Which end is the gateway; the other end is the node."),
         *_radio_option_list(),
+        calibration_option,
     ])(f)
+
+
+def calibration_option(f):
+    """``--calibration FILE.toml``: a survey's fitted correction as the loss term ``loss_db.calibration``."""
+    return click.option("--calibration", "calibration_path", default=None, type=click.Path(dir_okay=False),
+                        metavar="FILE.toml",
+                        help="Apply the correction offset + slope * log10(d / 1 km) [dB] of profiler survey "
+                             "--calibration-out as a loss term (the node end's clutter class table where the file "
+                             "has one); the reports name the file and its SHA-256.")(f)
 
 
 def batch_radio_options(f):
@@ -360,6 +370,11 @@ def propagation_settings(kw):
     from ..engine.model import PropagationSettings
 
     values = {n: kw.pop(n) for n in MODEL_OPTION_NAMES + TERMINAL_OPTION_NAMES if n in kw}
+    if kw.get("calibration_path") is not None:
+        from ..engine.calibration import load_calibration
+
+        values["calibration"] = load_calibration(kw.pop("calibration_path"))
+    kw.pop("calibration_path", None)
     ctx = click.get_current_context(silent=True)
     if values.get("delta_n") is not None and ctx is not None and "k_text" in ctx.params \
             and ctx.get_parameter_source("k_text") in (ParameterSource.COMMANDLINE, ParameterSource.ENVIRONMENT):
@@ -419,7 +434,7 @@ def clearance_ratio_option(help_text="Required clearance as a fraction of the fi
 
 def network_options(f):
     """Site list, pairs, elevation data and every link option of a batch command (network, siting)."""
-    f = batch_radio_options(clearance_ratio_option()(frequency_options(k_option(f))))
+    f = calibration_option(batch_radio_options(clearance_ratio_option()(frequency_options(k_option(f)))))
     return _apply([
         click.option("--dem", "dem_paths", multiple=True, metavar="PATH",
                      help="Elevation file (GeoTIFF, .hgt, VRT, ...) or folder of tiles; repeatable."),

@@ -16,8 +16,10 @@ adds beyond free space and diffraction; 0 for ``terrain``), ``location``
 (their sum: the basic transmission loss), ``extra``, ``polarization``,
 ``clutter_a``/``_b`` (the ITU-R P.2108-1 terminal term of ``terrain``; 0
 for ``p1812``, whose profile carries the clutter), ``building_entry_a``/``_b``
-(ITU-R P.2109-1), ``extra_a``/``_b`` (the fixed loss per end), ``total``
-(basic transmission + extra + polarization + the per-end terms), ``diffraction_method``,
+(ITU-R P.2109-1), ``extra_a``/``_b`` (the fixed loss per end),
+``calibration`` (a survey's fitted correction, ``--calibration``:
+:mod:`profiler.engine.calibration`; 0 without), ``total`` (basic
+transmission + extra + polarization + the per-end terms + calibration), ``diffraction_method``,
 the informative diffraction values and the smooth-surface heights.
 """
 
@@ -175,7 +177,8 @@ def path_loss_batch(d, terrain, n, h_a, h_b, frequency_mhz, ae, radio, pol_a_deg
     dict
         The ``loss_db`` block (module docstring) with the per-end keys
         ``clutter_a``, ``clutter_b``, ``building_entry_a``, ``building_entry_b``,
-        ``extra_a``, ``extra_b`` [dB] in ``total``; ``terminals`` (the ends of
+        ``extra_a``, ``extra_b`` and ``calibration`` (:func:`calibration_term_db`) [dB] in
+        ``total``; ``terminals`` (the ends of
         :func:`profiler.engine.terminals.terminal_ends`, the elevation angles,
         ``skipped_a``/``_b`` and ``near_a``/``_b``); with ``p1812`` also the key
         ``p1812``: the named values of :func:`profiler.propagation.p1812.p1812_batch`.
@@ -221,10 +224,42 @@ def path_loss_batch(d, terrain, n, h_a, h_b, frequency_mhz, ae, radio, pol_a_deg
     terms = {"clutter_a": clutter_a + zero, "clutter_b": clutter_b + zero,
              "building_entry_a": info["building_entry_a"] + zero, "building_entry_b": info["building_entry_b"] + zero,
              "extra_a": ends["a"]["extra_loss_db"] + zero, "extra_b": ends["b"]["extra_loss_db"] + zero}
+    terms["calibration"] = calibration_term_db(radio, length, ends) + zero
     block.update(terms)
     block["total"] = block["total"] + sum(terms.values())
     block["terminals"] = info
     return block
+
+
+def calibration_term_db(radio, length_m, ends):
+    """``loss_db.calibration``: the run's ``--calibration`` at each path's length, per the node end's class [dB].
+
+    Parameters
+    ----------
+    radio : RadioSettings
+        ``propagation.calibration`` (None: the term is 0) and which end is the node.
+    length_m : ndarray, shape (L,)
+        Ground length of each path [m].
+    ends : dict
+        The terminals (:func:`profiler.engine.terminals.terminal_ends`): the
+        node end's ``clutter_index`` (the sites file's or option's class, else
+        the land cover's at the node sample; -1 none) picks the file's
+        ``[clutter.NAME]`` table where it has one, else the overall terms.
+
+    Returns
+    -------
+    ndarray, shape (L,)
+        ``offset + slope * log10(d / 1 km)`` [dB].
+    """
+    calibration = radio.propagation.calibration
+    length_m = np.asarray(length_m, dtype=float)
+    if calibration is None:
+        return np.zeros_like(length_m)
+    from ..terrain.landcover import CLUTTER_CLASSES
+    from .calibration import calibration_correction_db
+
+    names = np.array([None, *CLUTTER_CLASSES], dtype=object)[np.asarray(ends[radio.node]["clutter_index"]) + 1]
+    return calibration_correction_db(calibration, length_m, names)
 
 
 def node_location_sigma_db(propagation, frequency_mhz, node_height_m, node_clutter_m, node_at_sea):

@@ -132,6 +132,9 @@ class PropagationSettings:
     indoor_a, indoor_b : str, optional
         ``traditional`` or ``thermally-efficient``: the terminal is inside
         such a building (ITU-R P.2109-1); None: outdoors.
+    calibration : profiler.engine.calibration.Calibration, optional
+        A survey's fitted correction (``--calibration FILE.toml``), added
+        as ``loss_db.calibration``; None: no calibration.
     """
 
     model: str | None = None
@@ -151,6 +154,7 @@ class PropagationSettings:
     clutter_statistics: bool = False
     indoor_a: str | None = None
     indoor_b: str | None = None
+    calibration: object | None = None
 
     def validate(self) -> "PropagationSettings":
         """Check the settings against their ranges (:data:`profiler.limits.LIMITS`).
@@ -175,6 +179,11 @@ class PropagationSettings:
                 raise ProfilerError(f"--{name.replace('_', '-')} must be a finite number, got {value}")
         limits.check_fields(self)
         self._check_terminals()
+        from .calibration import Calibration
+
+        if self.calibration is not None and not isinstance(self.calibration, Calibration):
+            raise ProfilerError("calibration must be read with profiler.engine.calibration.load_calibration "
+                                "(or give the file's path to the API's calibration=)")
         return self
 
     def _check_terminals(self) -> None:
@@ -251,6 +260,18 @@ class PropagationSettings:
         if self.model == "terrain":
             return "Terrain model (free space + diffraction), median"
         return f"P.1812-8, {self.time_percent:g} % time, {self.location_percent:g} % locations"
+
+    def calibration_dict(self):
+        """The reports' ``calibration`` settings.
+
+        Returns
+        -------
+        dict or None
+            :meth:`profiler.engine.calibration.Calibration.to_dict` (``path``,
+            ``sha256``, ``offset_db``, ``slope_db_per_decade``,
+            ``location_sigma_db``, ``clutter``), or None without a calibration.
+        """
+        return None if self.calibration is None else self.calibration.to_dict()
 
     def to_dict(self, k_factor: float) -> dict:
         """The ``settings`` entries of the reports (model, percentages, σL, wa, ΔN, N0, coasts).

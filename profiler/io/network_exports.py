@@ -1,4 +1,4 @@
-"""Exports of a network report (``profiler.network/3``): CSV, GeoJSON and KML.
+"""Exports of a network report (``profiler.network/5``): CSV, GeoJSON and KML.
 
 Every writer takes the JSON report dictionary and returns text; the caller
 writes it with :func:`profiler.io.outputs.write_text` (atomic).  The safety

@@ -179,12 +179,27 @@ def model_line(report: dict) -> str:
     if model not in ("p1812", "terrain"):
         return ""
     if model == "p1812":
-        return PropagationSettings(model="p1812", time_percent=float(st.get("time_percent", 50.0)),
+        line = PropagationSettings(model="p1812", time_percent=float(st.get("time_percent", 50.0)),
                                    location_percent=float(st.get("location_percent", 50.0))).summary()
-    method = ((report.get("loss_db") or {}).get("diffraction_method") or report.get("diffraction_method")
-              or st.get("diffraction_method") or st.get("diffraction"))
-    line = PropagationSettings(model="terrain").summary()
-    return line.replace("+ diffraction)", f"+ {method} diffraction)") if method else line
+    else:
+        method = ((report.get("loss_db") or {}).get("diffraction_method") or report.get("diffraction_method")
+                  or st.get("diffraction_method") or st.get("diffraction"))
+        line = PropagationSettings(model="terrain").summary()
+        line = line.replace("+ diffraction)", f"+ {method} diffraction)") if method else line
+    return line + calibration_note(report)
+
+
+def calibration_note(report: dict) -> str:
+    """``"; calibrated (sha256 1a2b3c4d5e6f)"`` when the report's run applied a ``--calibration``, else "".
+
+    The digest's first 12 hexadecimal digits (the report holds all 64);
+    the calibration is the link and mast reports' ``calibration`` block or
+    the ``settings.calibration`` of the network, coverage and siting reports.
+    """
+    cal = report.get("calibration") or (report.get("settings") or {}).get("calibration")
+    if not cal:
+        return ""
+    return f"; calibrated (sha256 {str(cal.get('sha256', ''))[:12]})"
 
 
 def summary_text(report: dict) -> str:
@@ -208,6 +223,11 @@ def summary_text(report: dict) -> str:
     lines.append(f"  worst point   {w['distance_m'] / 1000:.3f} km from A: clearance {w['clearance_m']:+.1f} m "
                  f"= {pct:.0f} % of F1 (required {100 * report['clearance_ratio_required']:.0f} %), v = {w['v']:.2f}")
     lines.append(f"  losses        {losses_text(report)}")
+    cal = report.get("calibration")
+    if cal:
+        table = f", [clutter.{cal['clutter']}] table" if cal.get("clutter") else ""
+        lines.append(f"  calibration   {cal['path']} (sha256 {cal['sha256']}): {cal['offset_db']:+.2f} dB "
+                     f"{cal['slope_db_per_decade']:+.2f} dB/decade{table}")
     lines += budget_lines(report)
     for msg in report["warnings"]:
         lines.append(f"  warning       {msg}")
@@ -230,7 +250,9 @@ def losses_text(report: dict) -> str:
     (method) + extra ... + polarization ... = total"``.
     """
     loss = report["loss_db"]
-    tail = f"extra {_db(loss['extra'])} + polarization {_db(loss['polarization'])} = {_db(loss['total'])}"
+    cal = f" + calibration {_db(loss['calibration'])}" if report.get("calibration") else ""
+    tail = (f"extra {_db(loss['extra'])} + polarization {_db(loss['polarization'])}{cal} = "
+            f"{_db(loss['total'])}")
     if loss.get("model") == "p1812":
         prop = report.get("propagation") or {}
         return (f"P.1812-8 ({prop.get('time_percent', 50.0):g} % time, {prop.get('location_percent', 50.0):g} % "

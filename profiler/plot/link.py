@@ -410,7 +410,8 @@ def _loss_rows(report: dict) -> list[tuple]:
         rows = [("Diffraction method", clean(loss.get("diffraction_method") or DASH)),
                 ("Free-space loss", loss_db_text(loss.get("free_space"))),
                 ("Diffraction loss", loss_db_text(loss.get("diffraction")))]
-    return rows + _terminal_rows(loss) + [("Other losses", loss_db_text(other)),
+    calibration = [("Calibration", loss_db_text(loss.get("calibration")))] if report.get("calibration") else []
+    return rows + _terminal_rows(loss) + [("Other losses", loss_db_text(other)), *calibration,
                                           ("Total path loss", loss_db_text(loss.get("total")))]
 
 

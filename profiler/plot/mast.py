@@ -1,6 +1,6 @@
 """The mast sheet: link margin and worst clearance ratio against mast height, in the sheet family's style.
 
-Drawn from the ``profiler.mast/3`` report (``MastResult.to_dict()``): two
+Drawn from the ``profiler.mast/4`` report (``MastResult.to_dict()``): two
 panels sharing the height axis (margin above, clearance ratios below), the
 required margin and clearance as dotted lines, the chosen height marked
 with its label above the panel, the recommended data rate written beside

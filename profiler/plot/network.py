@@ -1,7 +1,7 @@
 """The network map sheet: gateways, candidate sites, nodes and their links by status over a hillshade.
 
 :func:`write_network_figure` draws one landscape sheet from the
-``profiler.network/3`` report: the map (sites by role with different marker
+``profiler.network/5`` report: the map (sites by role with different marker
 shapes and colours, links by status with different line styles as well as
 colours, a north arrow, a scale bar and degree ticks), the legend, a summary
 table, the radio settings, the nodes not covered, and the title block,
@@ -136,7 +136,7 @@ def write_network_figure(report: dict, path, paper: str = "a4", dpi: float = 200
     Parameters
     ----------
     report : dict
-        The ``profiler.network/3`` report.
+        The ``profiler.network/5`` report.
     path : str or os.PathLike
         ``.png``, ``.pdf`` or ``.svg``; written atomically.
     paper : {"a4", "letter"}

@@ -211,7 +211,8 @@ LOSS_LABELS = {"model": "Model", "free_space": "Free space", "diffraction": "Dif
                "clutter_a": "Clutter at A (P.2108-1)", "clutter_b": "Clutter at B (P.2108-1)",
                "building_entry_a": "Building entry at A (P.2109-1)",
                "building_entry_b": "Building entry at B (P.2109-1)",
-               "extra_a": "Extra loss at A", "extra_b": "Extra loss at B"}
+               "extra_a": "Extra loss at A", "extra_b": "Extra loss at B",
+               "calibration": "Calibration (profiler survey)"}
 
 
 #: ``loss_db`` keys the terrain model's table leaves out: always 0 or equal to free space + diffraction there.
@@ -232,7 +233,7 @@ def _loss_table(report) -> Table:
         labels["location"] = f"Location term ({prop.get('location_percent', 50.0):g} % locations)"
     rows = []
     for key, value in loss.items():
-        if not p1812 and key in P1812_ONLY:
+        if (not p1812 and key in P1812_ONLY) or (key == "calibration" and not report.get("calibration")):
             continue
         base, unit = (key[:-2], " m") if key.endswith("_m") else (key, " dB")
         value = (model_line(report) or value) if key == "model" else value

@@ -1,7 +1,7 @@
 """The gateway siting sheet: the chosen sites, the links they serve, the proof and the greedy comparison.
 
 :func:`write_siting_figure` draws one landscape sheet from the
-``profiler.siting/2`` report and the ``profiler.network/3`` report it was
+``profiler.siting/4`` report and the ``profiler.network/5`` report it was
 solved over:
 
 * the map (the network map's relief, markers, north arrow, scale bar and
@@ -16,7 +16,7 @@ solved over:
   for, the counts of ``summary``), then the chosen sites with their cost,
   the greedy choice and the unreachable nodes with their reason;
 * the title block (lower right) and the notes naming the
-  ``profiler.siting/2`` report, the elevation data, the warnings and the
+  ``profiler.siting/4`` report, the elevation data, the warnings and the
   caution.
 
 Every count on the sheet is read from the siting report, so the sheet and
@@ -76,9 +76,9 @@ def write_siting_figure(siting: dict, network: dict, path, paper: str = "a4", dp
     Parameters
     ----------
     siting : dict
-        The ``profiler.siting/2`` report.
+        The ``profiler.siting/4`` report.
     network : dict
-        The ``profiler.network/3`` report it was solved over (site positions, links).
+        The ``profiler.network/5`` report it was solved over (site positions, links).
     path : str or os.PathLike
         ``.png``, ``.pdf`` or ``.svg``; written atomically.
     paper : {"a4", "letter"}

@@ -25,8 +25,9 @@ from __future__ import annotations
 
 import numpy as np
 
+from ..engine.calibration import calibration_correction_db
 from ..errors import ProfilerError
-from ..products.survey.calibration import calibration_correction_db, cell_summary
+from ..products.survey.calibration import cell_summary
 from . import basemap
 from .audit import contain
 from .sheet import (

@@ -2,7 +2,7 @@
 
 :func:`analyze_link` is the one Python call behind ``profiler link``.  It
 returns a :class:`LinkResult` whose :meth:`LinkResult.to_dict` is exactly the
-JSON report (schema ``profiler.link/5``).
+JSON report (schema ``profiler.link/6``).
 """
 
 from __future__ import annotations
@@ -27,7 +27,7 @@ from ..propagation import diffraction, geometry
 from ..propagation.free_space import NEAR_FIELD_RULE_OF_THUMB_M, NEAR_FIELD_WAVELENGTHS, wavelength_m
 from ..terrain.profile import TerrainProfile
 
-SCHEMA = "profiler.link/5"
+SCHEMA = "profiler.link/6"
 
 
 @dataclass(frozen=True)
@@ -72,6 +72,7 @@ class LinkResult:
     propagation: dict = field(default_factory=dict)
     p1812: dict | None = None
     land_cover: dict | None = None
+    calibration: dict | None = None
     tool_version: str = __version__
     schema: str = SCHEMA
 
@@ -104,6 +105,7 @@ class LinkResult:
             "fresnel_clear": bool(self.fresnel_clear),
             "clearance_ratio_required": json_number(self.clearance_ratio_required),
             "loss_db": json_clean(self.loss_db),
+            "calibration": json_clean(self.calibration),
             "p1812": json_clean(self.p1812),
             "budget": json_clean(self.budget),
             "budget_downlink": json_clean(self.budget_downlink),
@@ -260,7 +262,21 @@ def analyze_link(profile: TerrainProfile, *, mast_a_m: float = 10.0, mast_b_m: f
              "void_stretches_m": [list(map(float, x)) for x in profile.void_stretches_m]},
         warnings=warnings, model=radio.propagation.model, propagation=radio.propagation.to_dict(k),
         p1812=rr["p1812"], land_cover=profile.land_cover,
+        calibration=calibration_block(radio, rr["terminals"][radio.node].get("clutter")),
     )
+
+
+def calibration_block(radio, node_clutter):
+    """The report's ``calibration``: ``{path, sha256, offset_db, slope_db_per_decade, clutter}`` or None.
+
+    ``clutter`` is the class whose ``[clutter.NAME]`` table was taken for
+    the node end's class ``node_clutter`` (None: the file's overall terms),
+    ``offset_db`` and ``slope_db_per_decade`` the terms applied.
+    """
+    cal = radio.propagation.calibration
+    if cal is None:
+        return None
+    return {"path": cal.path, "sha256": cal.sha256, **cal.applied(node_clutter)}
 
 
 #: Antenna height above ground below which a node is likely inside the clutter around it [m] (common

@@ -8,7 +8,7 @@ chunks); the chunks run in-process, on a local Dask cluster
 Gateways (and candidate sites) are end A of every link, nodes end B.
 
 The report (:meth:`NetworkResult.to_dict`) is the JSON contract
-``profiler.network/3``.
+``profiler.network/5``.
 """
 
 from __future__ import annotations
@@ -28,7 +28,7 @@ from ..lora.bands import resolve_frequency_mhz
 from ..propagation import geometry
 from ..propagation.free_space import wavelength_m
 
-SCHEMA = "profiler.network/3"
+SCHEMA = "profiler.network/5"
 
 LINK_FLOAT_KEYS = ("distance_m", "azimuth_deg", "worst_fresnel_ratio", "worst_distance_m", "diffraction_db",
                    "total_loss_db", "margin_db", "downlink_margin_db", "max_margin_db")
@@ -154,7 +154,7 @@ def _chunk_job(idx, *, settings, sites_arrays, model=None, land_cover_paths=(), 
 
 @dataclass(frozen=True)
 class NetworkResult:
-    """The network report; :meth:`to_dict` is the JSON contract ``profiler.network/3``."""
+    """The network report; :meth:`to_dict` is the JSON contract ``profiler.network/5``."""
 
     sites: list
     links: list
@@ -356,6 +356,7 @@ def network(sites, *, dem, pairs=None, max_distance_km: float = 50.0, band: str 
     settings_out = {"clearance_ratio": settings.clearance_ratio, "diffraction_method": radio.diffraction_method,
                     "max_distance_km": None if pairs is not None else float(max_distance_km),
                     "pairs": pairs is not None, **radio.propagation.to_dict(k),
+                    "calibration": radio.propagation.calibration_dict(),
                     "land_cover": list(cover_paths) if mapping is not None else None,
                     "land_cover_classes": None if land_cover_classes is None else str(land_cover_classes)}
     return NetworkResult(sites=site_rows, links=_link_records(table, gw, node, res), nodes=nodes, summary=summary,

@@ -63,7 +63,7 @@ def profile_csv(report, path) -> Path:
 def test_land_cover_run_is_exactly_the_same_path_as_a_profile(tmp_path, model):
     opts = MODEL_OPTIONS[model]
     cover = report_of("link", "--dem", DEM, "--land-cover", COVER, *PATH, *opts)
-    assert cover["schema"] == "profiler.link/5"
+    assert cover["schema"] == "profiler.link/6"
     assert any(h > 0 for h in cover["profile"]["clutter_height_m"])
     # Under --model terrain the land cover's class at each end gives that terminal's P.2108 section 3.1
     # correction (issue 20 item 2); a surveyed profile has heights only, so it names the end classes.
@@ -252,7 +252,7 @@ def test_network_says_once_that_low_nodes_without_land_cover_are_optimistic(tmp_
 def test_siting_takes_the_land_cover(tmp_path):
     siting = report_of("siting", "--sites", sites_file(tmp_path), "--dem", DEM, "--land-cover", COVER,
                        "--no-progress")
-    assert siting["schema"] == "profiler.siting/2" and siting["summary"]["nodes_total"] == 3
+    assert siting["schema"] == "profiler.siting/4" and siting["summary"]["nodes_total"] == 3
 
 
 def test_api_keywords_match_the_command(tmp_path):

@@ -61,7 +61,7 @@ def test_json_contract_on_sample_terrain():
     r = run_json("--dem", SAMPLE, "--site-a", GW, "--site-b", PUMP, "--name-a", "Cairnfell Beacon",
                  "--name-b", "Osterby Farm pump")
     assert TOP_KEYS <= set(r)
-    assert r["schema"] == "profiler.link/5"
+    assert r["schema"] == "profiler.link/6"
     assert SITE_KEYS <= set(r["site_a"]) and SITE_KEYS <= set(r["site_b"])
     assert PROFILE_KEYS <= set(r["profile"])
     assert {"distance_m", "clearance_m", "fresnel_ratio", "v"} <= set(r["worst"])

@@ -117,7 +117,7 @@ def test_every_case_through_the_command_line(row, profile_files):
     # (lb_db, the result, included), within 0.01 dB for losses and 1e-3 for geometry (tolerance()).
     report = run_link(case_arguments(row, profile_files[row["profile"]]))
     block = report["p1812"]
-    assert report["model"] == "p1812" and report["schema"] == "profiler.link/5"
+    assert report["model"] == "p1812" and report["schema"] == "profiler.link/6"
     assert block["f_ghz"] == pytest.approx(float(row["f_ghz"]), rel=1e-12)          # the frequency reproduced
     missing = [c for c in GEOMETRY + LOSSES + ["lbd_db"] if c not in block]
     assert not missing, missing

@@ -243,9 +243,9 @@ def test_siting_report_settings_and_sheet(networks, model):
 
     net = networks[model]
     rep = siting_from_network(net, min_margin_db=net["fade_margin_db"], redundancy=1)
-    assert rep["schema"] == "profiler.siting/2"
+    assert rep["schema"] == "profiler.siting/4"
     assert rep["settings"] == {key: net["settings"][key] for key in ("model", "time_percent", "location_percent",
-                                                                     "diffraction_method")}
+                                                                     "diffraction_method", "calibration")}
     for paper in PAPERS:
         fig = build_siting_figure(rep, net, paper=paper, dem_paths=DEM, sheet={"date": "2026-03-15"})
         problems = layout_problems(fig)

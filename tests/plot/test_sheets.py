@@ -174,7 +174,7 @@ def test_mast_sheet_and_report_share_the_title_block(tmp_path):
                  "profiler ", "Horizontal: WGS84", "chosen"):
         assert text in svg, text
     report = json.loads((tmp_path / "m.json").read_text())
-    assert report["schema"] == "profiler.mast/3" and report["sheet"]["checked_by"] == "B. Checker"
+    assert report["schema"] == "profiler.mast/4" and report["sheet"]["checked_by"] == "B. Checker"
     pages = _pdf_pages(tmp_path / "m.pdf")
     assert len(pages) >= 3 and "Vellmoor masts" in pages[2] and "Mast table" in pages[1]
 

@@ -247,7 +247,7 @@ def test_sample_dem_solve_a_end_to_end(tmp_path):
     assert result.exit_code == 0, result.stderr
     assert "Cairnfell Beacon" in result.stdout and "each metre" in result.stdout
     report = json.loads(out.read_text())
-    assert report["schema"] == "profiler.mast/3"
+    assert report["schema"] == "profiler.mast/4"
     for key in ("feasible", "required_mast_a_m", "required_mast_b_m", "binding", "table"):
         assert key in report
     assert set(report["binding"]) >= {"criterion", "distance_m", "terrain_m"}

@@ -17,6 +17,7 @@ import math
 import numpy as np
 import pytest
 
+from profiler.engine.calibration import read_calibration
 from profiler.errors import ProfilerError
 from profiler.products.survey import calibration as cal
 from profiler.products.survey.measurements import measured_loss_db, received_power_dbm
@@ -134,11 +135,11 @@ def test_read_calibration_round_trip(tmp_path):
                                                          "location_sigma_db": None}}}
     path = tmp_path / "cal.toml"
     path.write_text(calibration_toml_text(report), encoding="utf-8")
-    got = cal.read_calibration(path)
+    got = read_calibration(path)
     assert got == {"offset_db": 3.5, "slope_db_per_decade": 0.0, "location_sigma_db": 2.25,
                    "clutter": {"dense-urban": {"offset_db": 7.0, "slope_db_per_decade": 0.0,
                                                "location_sigma_db": None}}}
     bad = tmp_path / "bad.toml"
     bad.write_text("slope_db_per_decade = 1\n", encoding="utf-8")
     with pytest.raises(ProfilerError, match="offset_db is missing"):
-        cal.read_calibration(bad)
+        read_calibration(bad)

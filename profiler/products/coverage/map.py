@@ -67,7 +67,7 @@ from .radials import (
     sample_radials,
 )
 
-SCHEMA = "profiler.coverage/3"
+SCHEMA = "profiler.coverage/5"
 RADIALS_PER_CHUNK = 32
 """Radials per task (one sector)."""
 def _sector_job(chunk, *, settings, n_radials, radius_m, step_m, node_mast_m, kernel=None, model=None):
@@ -114,7 +114,7 @@ def sample_coordinates(gw, azimuth_deg, distance_m) -> dict:
 # --------------------------------------------------------------------------- the run
 @dataclass(frozen=True)
 class CoverageResult:
-    """Bands on the grid (float32, NaN = nodata) and the ``profiler.coverage/3`` summary."""
+    """Bands on the grid (float32, NaN = nodata) and the ``profiler.coverage/5`` summary."""
 
     bands: dict
     grid: CoverageGrid
@@ -259,7 +259,8 @@ def coverage(site=None, *, dem, mast_m=None, name="site", sites=None, radius_km:
                        "band": settings.band, "frequency_mhz": settings.frequency_mhz, "k_factor": settings.k_factor,
                        "clearance_ratio": settings.clearance_ratio, "fade_margin_db": settings.radio.fade_margin_db,
                        "diffraction": settings.radio.diffraction_method, "fill_voids": settings.fill_voids, **sweep,
-                       **settings.radio.propagation.to_dict(settings.k_factor)}
+                       **settings.radio.propagation.to_dict(settings.k_factor),
+                       "calibration": settings.radio.propagation.calibration_dict()}
     report = _report(gateways, sites is not None, settings_record, grid, bands, inside_any, sources, heard_by_gateways,
                      _radio_ends(gateways, settings), _sheet_block(date, sheet_info))
     return CoverageResult(bands=bands, grid=grid, report=report)
@@ -348,7 +349,7 @@ def _sheet_block(date, sheet_info) -> dict:
 
 def _report(gateways, composite_run, settings_record, grid, bands, inside_any, sources, heard_by_gateways, radio,
             sheet) -> dict:
-    """The ``profiler.coverage/3`` summary."""
+    """The ``profiler.coverage/5`` summary."""
     from ...lora.regional import plan as regional_plan
 
     band_name = settings_record["band"]

@@ -1,4 +1,4 @@
-"""The mast solver's result: the ``profiler.mast/3`` report and its verdict parts.
+"""The mast solver's result: the ``profiler.mast/4`` report and its verdict parts.
 
 :class:`MastResult` is everything :func:`profiler.products.mast.solve.solve_mast` found
 (``to_dict()`` is the JSON report); :func:`feasible_binding` and
@@ -23,12 +23,12 @@ from .clearance import round_up_mm
 
 __all__ = ["SCHEMA", "MastResult", "feasible_binding", "infeasible_outcome", "up_text", "fixed", "per_extra_metre"]
 
-SCHEMA = "profiler.mast/3"
+SCHEMA = "profiler.mast/4"
 
 
 @dataclass(frozen=True)
 class MastResult:
-    """Everything the mast solver found; ``to_dict()`` is the JSON report (``profiler.mast/3``)."""
+    """Everything the mast solver found; ``to_dict()`` is the JSON report (``profiler.mast/4``)."""
 
     site_a: dict
     site_b: dict
@@ -59,6 +59,7 @@ class MastResult:
     warnings: list = field(default_factory=list)
     model: str = "terrain"
     propagation: dict = field(default_factory=dict)
+    calibration: dict | None = None
     sheet: dict = field(default_factory=dict)
     tool_version: str = __version__
     schema: str = SCHEMA
@@ -79,6 +80,7 @@ class MastResult:
             "diffraction_method": self.diffraction_method,
             "model": self.model,
             "propagation": json_clean(self.propagation),
+            "calibration": self.calibration,
             "feasible": self.feasible,
             "required_mast_a_m": self.required_mast_a_m,
             "required_mast_b_m": self.required_mast_b_m,

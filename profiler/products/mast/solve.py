@@ -246,6 +246,7 @@ def solve_mast(profile: TerrainProfile, *, frequency_mhz: float, solve: str = "b
         notes=notes,
         dem={"kind": profile.kind, "sources": list(profile.sources), "voids_filled": int(profile.voids_filled)},
         warnings=warnings, model=radio.propagation.model, propagation=radio.propagation.to_dict(k),
+        calibration=radio.propagation.calibration_dict(),
     )
 
 

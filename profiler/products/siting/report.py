@@ -1,6 +1,6 @@
-"""Gateway siting over a network report: margin matrix, ``profiler.siting/2`` report, CSV and GeoJSON.
+"""Gateway siting over a network report: margin matrix, ``profiler.siting/4`` report, CSV and GeoJSON.
 
-The network engine's report (``profiler.network/3``) gives ``sites[]``
+The network engine's report (``profiler.network/5``) gives ``sites[]``
 (``name, lat_deg, lon_deg, mast_m, role, ground_m``; role ``gateway`` =
 existing, always kept; ``candidate`` = may get a gateway; ``node`` = must be
 heard; an optional ``cost`` on candidates) and ``links[]`` (``gateway,
@@ -40,10 +40,10 @@ from .setcover import hearing_matrix, solve_siting
 __all__ = ["SCHEMA", "SitingResult", "MarginMatrix", "margin_matrix", "site_costs", "siting_from_network",
            "siting_report", "siting_csv_text", "siting_geojson_dict", "siting_geojson_text", "siting_kml_text"]
 
-SCHEMA = "profiler.siting/2"
+SCHEMA = "profiler.siting/4"
 #: The ``settings`` keys copied from the network report the sites were chosen over: the propagation
-#: model, its percentages and the diffraction method (``profiler.siting/2``).
-SETTINGS_KEYS = ("model", "time_percent", "location_percent", "diffraction_method")
+#: model, its percentages, the diffraction method and the calibration applied (``profiler.siting/4``).
+SETTINGS_KEYS = ("model", "time_percent", "location_percent", "diffraction_method", "calibration")
 
 #: Roles on the gateway-site axis; ``gateway`` sites are fixed open.
 SITE_ROLES = ("gateway", "candidate")
@@ -69,9 +69,9 @@ class MarginMatrix(NamedTuple):
 
 @dataclass(frozen=True)
 class SitingResult:
-    """The answer of :func:`profiler.siting`: :meth:`to_dict` is the ``profiler.siting/2`` JSON report.
+    """The answer of :func:`profiler.siting`: :meth:`to_dict` is the ``profiler.siting/4`` JSON report.
 
-    ``network`` is the ``profiler.network/3`` report the choice was made
+    ``network`` is the ``profiler.network/5`` report the choice was made
     over (every gateway and candidate site to every node); the sheet and the
     GeoJSON/KML exports draw the sites and links from it.  The headline
     values are read-only views of the report.
@@ -81,7 +81,7 @@ class SitingResult:
     network: dict
 
     def to_dict(self) -> dict:
-        """The ``profiler.siting/2`` report (a plain dict, no NaN)."""
+        """The ``profiler.siting/4`` report (a plain dict, no NaN)."""
         return self.report
 
     chosen = property(lambda self: list(self.report["chosen"]),
@@ -189,12 +189,12 @@ def site_costs(network_report: dict, matrix: MarginMatrix, costs: dict | None = 
 def siting_from_network(network_report: dict, *, min_margin_db: float, redundancy: int = 1,
                         max_gateways: int | None = None, time_limit_s: float = 60.0,
                         costs: dict | None = None) -> dict:
-    """Solve the siting problem over a network report and return the ``profiler.siting/2`` report.
+    """Solve the siting problem over a network report and return the ``profiler.siting/4`` report.
 
     Parameters
     ----------
     network_report : dict
-        The network engine's report (``profiler.network/3``), links from
+        The network engine's report (``profiler.network/5``), links from
         every gateway and candidate site to the nodes.
     min_margin_db : float
         Least uplink margin for a node to count as heard [dB]; the command
@@ -303,7 +303,7 @@ def _node_rows(links, matrix, hears, solution, is_open) -> list[dict]:
 
 def siting_report(network_report: dict, matrix: MarginMatrix, hears, solution, *, cost, min_margin_db: float,
                   redundancy: int, max_gateways: int | None, time_limit_s: float) -> dict:
-    """The ``profiler.siting/2`` JSON report (a plain dict, no NaN).
+    """The ``profiler.siting/4`` JSON report (a plain dict, no NaN).
 
     Parameters
     ----------

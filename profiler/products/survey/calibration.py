@@ -24,6 +24,7 @@ import math
 
 import numpy as np
 
+from ...engine.calibration import calibration_correction_db
 from ...errors import ProfilerError
 
 FITS = ("offset", "slope")
@@ -216,40 +217,6 @@ def fit_correction(distance_m, residual_db, fit: str = "offset") -> dict:
             "slope_se_db_per_decade": se[1] if p == 2 else None}
 
 
-def calibration_correction_db(calibration: dict, distance_m, clutter=None) -> np.ndarray:
-    """The loss term a calibration adds at each distance and clutter class [dB].
-
-    Parameters
-    ----------
-    calibration : dict
-        ``offset_db``, ``slope_db_per_decade`` and optionally ``clutter``
-        (class name -> a dict with the same keys), as read from the
-        ``--calibration-out`` TOML file.
-    distance_m : array_like
-        Path length [m], > 0.
-    clutter : sequence of str, optional
-        Clutter class of each path; a class with its own table uses it, any
-        other (or None) the overall terms.
-
-    Returns
-    -------
-    ndarray
-        ``offset + slope * log10(d / 1 km)`` per path [dB] (NaN where d <= 0).
-    """
-    d = np.asarray(distance_m, float)
-    logd = np.log10(np.where(d > 0, d, np.nan) / 1000.0)
-    offset = np.full(d.shape, float(calibration["offset_db"]))
-    slope = np.full(d.shape, float(calibration.get("slope_db_per_decade") or 0.0))
-    tables = calibration.get("clutter") or {}
-    if clutter is not None and tables:
-        names = np.asarray(["" if c is None else str(c) for c in clutter], dtype=object).reshape(d.shape)
-        for name, terms in tables.items():   # a few classes: one vector operation each
-            sel = names == name
-            offset[sel] = float(terms["offset_db"])
-            slope[sel] = float(terms.get("slope_db_per_decade") or 0.0)
-    return offset + slope * logd
-
-
 def fit_calibration(distance_m, residual_db, clutter, fit: str, min_points: int = 3) -> dict:
     """The overall fit and one per clutter class with at least ``min_points`` points.
 
@@ -310,58 +277,3 @@ def cross_validate(distance_m, residual_db, clutter, cell, fit: str, folds: int)
         cal = fit_calibration(d[train], r[train], [names[i] for i in np.flatnonzero(train)], fit)
         after[test] = r[test] - calibration_correction_db(cal, d[test], [names[i] for i in np.flatnonzero(test)])
     return _num(np.sqrt(np.mean(after ** 2)))
-
-
-def read_calibration(path) -> dict:
-    """Read a ``--calibration-out`` TOML file into the form :func:`calibration_correction_db` takes.
-
-    Parameters
-    ----------
-    path : str or os.PathLike
-        The file: ``offset_db``, ``slope_db_per_decade``, optional
-        ``location_sigma_db`` and ``[clutter.NAME]`` tables with the same keys.
-
-    Returns
-    -------
-    dict
-        ``offset_db``, ``slope_db_per_decade``, ``location_sigma_db`` (None
-        when absent) and ``clutter`` (name -> terms).
-
-    Raises
-    ------
-    ProfilerError
-        One line for a missing file, bad TOML or a missing or non-numeric key.
-    """
-    from pathlib import Path
-
-    try:
-        import tomllib
-    except ModuleNotFoundError:  # pragma: no cover - Python 3.10
-        import tomli as tomllib
-
-    p = Path(path)
-    try:
-        data = tomllib.loads(p.read_text(encoding="utf-8"))
-    except FileNotFoundError:
-        raise ProfilerError(f"calibration file not found: {p}; check --calibration") from None
-    except (OSError, UnicodeDecodeError, tomllib.TOMLDecodeError) as exc:
-        raise ProfilerError(f"calibration file {p}: {exc}; write it with profiler survey --calibration-out") from None
-
-    def terms(table, where):
-        out = {}
-        for key in ("offset_db", "slope_db_per_decade", "location_sigma_db"):
-            value = table.get(key, 0.0 if key == "slope_db_per_decade" else None)
-            if value is None and key == "offset_db":
-                raise ProfilerError(f"calibration file {p}: {where}offset_db is missing")
-            if value is not None and (isinstance(value, bool) or not isinstance(value, (int, float))
-                                      or not math.isfinite(value)):
-                raise ProfilerError(f"calibration file {p}: {where}{key} must be a number")
-            out[key] = None if value is None else float(value)
-        return out
-
-    out = terms(data, "")
-    clutter = data.get("clutter", {})
-    if not isinstance(clutter, dict):
-        raise ProfilerError(f"calibration file {p}: clutter must be tables [clutter.NAME]")
-    out["clutter"] = {str(k): terms(v if isinstance(v, dict) else {}, f"[clutter.{k}] ") for k, v in clutter.items()}
-    return out

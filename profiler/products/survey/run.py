@@ -247,6 +247,9 @@ def survey(sites, measurements, *, dem, band: str | None = None, frequency_mhz: 
     radio = (radio or RadioSettings()).validate().with_model(True)
     if radio.gateway != "a":
         raise ProfilerError("in a survey the gateway is end A of every path; leave RadioSettings(gateway=...) at 'a'")
+    if radio.propagation.calibration is not None:
+        raise ProfilerError("a survey compares the measurements with the uncalibrated model and fits the calibration "
+                            "itself: leave the calibration out of its radio settings")
     f_mhz, band_name = resolve_frequency_mhz(frequency_mhz, band)
     plan = regional_plan(band_name) if band_name is not None else None
     k = radio.propagation.k_factor(geometry.parse_k_factor(k_factor))
