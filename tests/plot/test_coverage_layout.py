@@ -111,7 +111,7 @@ def test_title_block_with_the_sheet_block(tmp_path):
                                   "--organisation", "Vellmoor water board", "--date", "2026-03-15", "--no-progress"])
     assert r.exit_code == 0, r.output
     report = json.loads(out.read_text())
-    assert report["schema"] == "profiler.coverage/3"
+    assert report["schema"] == "profiler.coverage/4"
     assert report["sheet"] == {"project": "Vellmoor valley LoRaWAN", "document": "VV-RF-002", "revision": "B",
                                "prepared_by": "A. Planner", "checked_by": "B. Reviewer",
                                "organisation": "Vellmoor water board", "notes": "Gateway on the pump house roof.",

@@ -242,7 +242,7 @@ def test_cli_writes_every_output_and_summary(tmp_path):
     assert r.exit_code == 0, r.output
     assert "Coverage:" in r.output and "Planning aid only" in r.output
     report = json.loads(files["json"].read_text())
-    assert report["schema"] == "profiler.coverage/3"
+    assert report["schema"] == "profiler.coverage/4"
     assert report["grid"]["width"] > 0 and len(report["grid"]["transform"]) == 6
     assert report["dem"]["sources"][0]["sha256"]
     s = report["summary"]
