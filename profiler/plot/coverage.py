@@ -54,7 +54,8 @@ from .sheet import (
 from .tables import draw_tables
 from .titleblock import draw_notes, draw_title_box, provenance_lines, title_block_rows
 
-__all__ = ["build_coverage_figure", "build_coverage_sheets", "write_coverage_figure", "site_rows", "MIN_TABLE_PT"]
+__all__ = ["build_coverage_figure", "build_coverage_sheets", "write_coverage_figure", "site_rows", "MIN_TABLE_PT",
+           "draw_coverage_map"]
 
 #: Smallest type of the site table [pt].
 MIN_TABLE_PT = 5.5
@@ -206,6 +207,11 @@ def _draw_header(ax, report, renderer) -> None:
 
 
 # --------------------------------------------------------------------------- map
+def draw_coverage_map(ax, result, dem_paths, renderer, map_kind: str = "margin") -> None:
+    """The sheet's map (classes or probability over the hillshade, rings, sites, furniture) in any axes."""
+    _draw_map(ax, result, result.report, dem_paths, renderer, map_kind)
+
+
 def _draw_map(ax, result, report, dem_paths, renderer, map_kind="margin") -> None:
     from ..io.coverage import class_rgba, geographic_classes
 
