@@ -44,8 +44,9 @@ def build(bare, covered, dem_paths):
             ax = fig.add_axes((0.04 + 0.49 * i, 0.2, 0.44, 0.68))
             draw_coverage_map(ax, result, dem_paths, renderer)
             s = result.report["summary"]
-            ax.set_title(f"Cairnfell Beacon, {what}\nheard with the fade margin: {s['covered']['area_km2']:.1f} km\u00b2"
-                         f" ({s['covered']['share']:.0%}), mean probability {s['mean_probability_heard']:.2f}",
+            ax.set_title(f"Cairnfell Beacon, {what}\nheard with the fade margin: "
+                         f"{s['covered']['area_km2']:.1f} km\u00b2 ({s['covered']['share']:.0%}), "
+                         f"mean probability {s['mean_probability_heard']:.2f}",
                          fontsize=9, fontweight="bold", loc="left")
         fade = bare.report["settings"]["fade_margin_db"]
         handles = [Patch(fc=c, alpha=a, ec="0.3", lw=0.5, label=t)
@@ -64,9 +65,9 @@ def main(out=HERE / "vellmoor_coverage_land_cover.png"):
     covered = coverage(SITE, land_cover=[str(LAND_COVER)], **kw)
     for label, r in (("without", bare), ("with", covered)):
         s = r.report["summary"]
-        print(f"{label} land cover: heard {s['covered']['area_km2']:.2f} km2, at {s['heard_at_location_percent']['location_percent']:g} % "
-              f"of locations {s['heard_at_location_percent']['area_km2']:.2f} km2, mean probability "
-              f"{s['mean_probability_heard']:.3f}")
+        heard = s["heard_at_location_percent"]
+        print(f"{label} land cover: heard {s['covered']['area_km2']:.2f} km2, at {heard['location_percent']:g} % "
+              f"of locations {heard['area_km2']:.2f} km2, mean probability {s['mean_probability_heard']:.3f}")
     fig = build(bare, covered, [str(DEM)])
     fig.savefig(out, dpi=110)
     print(f"{out} ({out.stat().st_size // 1024} kB, {time.perf_counter() - t0:.1f} s)")

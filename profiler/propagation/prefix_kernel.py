@@ -259,7 +259,7 @@ def prefix_reduce(distance_km, height_m, n, rr, jj, effective_radius_km, bulling
     effective_radius_km : float
         Effective Earth radius [km].
     bullington_height_m : ndarray, shape (R, N), optional
-        Heights of the Bullington pass (see :func:`bullington_prefixes`).
+        Heights of the Bullington pass [m AMSL] (see :func:`bullington_prefixes`).
 
     Returns
     -------

@@ -57,6 +57,9 @@ def test_land_cover_gives_a_smaller_heard_area(pair):
     assert table[TREES]["clutter"] == "trees"
     assert table[TREES]["pixels"] == int(np.sum(trees & np.isfinite(covered.bands["margin_db"])))
     assert "land_cover_classes" not in bare.report["summary"]
+    # without a land cover a node at 1.5 m is likely optimistic, and the report says so
+    assert any(w.startswith("no land cover") for w in bare.report["warnings"])
+    assert not any(w.startswith("no land cover") for w in covered.report["warnings"])
 
 
 def test_bands_and_geotiff_names(pair, tmp_path):

@@ -157,7 +157,8 @@ class CoverageResult:
         return self.report
 
 
-def _area_summary(bands, resolution_m, fade_margin_db, dr_values, heard_by_gateways=None, location_percent=50.0) -> dict:
+def _area_summary(bands, resolution_m, fade_margin_db, dr_values, heard_by_gateways=None,
+                  location_percent=50.0) -> dict:
     """Area computed, and area and share covered per recommended DR and in total [km^2].
 
     ``heard_by_gateways`` (bool, the grid's shape) marks the pixels the existing gateways alone hear
@@ -317,10 +318,28 @@ def coverage(site=None, *, dem, mast_m=None, name="site", sites=None, radius_km:
                        "land_cover_classes": None if land_cover_classes is None else str(land_cover_classes)}
     report = _report(gateways, sites is not None, settings_record, grid, bands, inside_any, sources, heard_by_gateways,
                      _radio_ends(gateways, settings), _sheet_block(date, sheet_info))
+    report["warnings"] += _clutter_warnings(bands, land, float(node_mast_m))
     if land is not None:
         report["summary"]["land_cover_classes"] = _land_cover_table(bands, land[1], settings.radio.propagation.model,
                                                                     res)
     return CoverageResult(bands=bands, grid=grid, report=report)
+
+
+def _clutter_warnings(bands, land, node_mast_m) -> list:
+    """No land cover and nodes below 10 m (likely optimistic), or computed pixels without a land-cover class."""
+    from ..link import LOW_NODE_M
+
+    if land is None:
+        if node_mast_m < LOW_NODE_M:
+            return [f"no land cover: the paths have no clutter, so nodes {node_mast_m:g} m above ground (below "
+                    f"{LOW_NODE_M:g} m) are likely optimistic; give --land-cover FILE"]
+        return []
+    computed = np.isfinite(bands["margin_db"])
+    missing = int(np.sum(computed & ~np.isfinite(bands["clutter_class"])))
+    if missing:
+        return [f"{missing} of {int(computed.sum())} pixels have no land-cover class (void or outside the land "
+                "cover): no clutter is assumed there"]
+    return []
 
 
 def _land_cover_table(bands, mapping, model, resolution_m) -> list:

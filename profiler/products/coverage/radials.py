@@ -240,7 +240,8 @@ def _probability(out, settings) -> dict:
 
     prop = settings.radio.propagation
     fade = settings.radio.fade_margin_db
-    location, bel, elevation = out.pop("location_term_db"), out.pop("building_entry_loss_db"), out.pop("elevation_b_deg")
+    location, bel = out.pop("location_term_db"), out.pop("building_entry_loss_db")
+    elevation = out.pop("elevation_b_deg")
     median = out["margin_db"] + location
     sigma = out["location_sigma_db"]
     if prop.indoor_b is None:
