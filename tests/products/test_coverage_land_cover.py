@@ -196,3 +196,12 @@ def test_cli_land_cover_and_probability_map(tmp_path):
     bad = CliRunner().invoke(main, ["coverage", "--dem", str(DEM[0]), "--site", f"{GATEWAY[0]},{GATEWAY[1]}",
                                     "--mast-m", "10", "--radius-km", "2", "--map", "heat", "--json", "-"])
     assert bad.exit_code == 2 and "heat" in bad.output
+
+
+def test_dask_workers_open_the_land_cover_and_give_identical_arrays():
+    kw = dict(dem=DEM, mast_m=10.0, radius_km=7.0, resolution_m=300.0, progress=False, land_cover=LAND_COVER)
+    local = coverage(GATEWAY, **kw)
+    remote = coverage(GATEWAY, workers=2, **kw)
+    assert list(remote.bands) == list(local.bands)
+    for name in local.bands:
+        assert np.array_equal(remote.bands[name], local.bands[name], equal_nan=True), name
