@@ -245,14 +245,16 @@ def land_runs(tmp_path_factory):
                    f'"{LONG}",{GATEWAY[0]},{GATEWAY[1]},10,gateway\n'
                    f'"{MEDIUM}",{CANDIDATE[0]},{CANDIDATE[1]},6,candidate\n', encoding="utf-8")
     single = {name: coverage(GATEWAY, dem=DEM, mast_m=10.0, name=name, radius_km=7.0, resolution_m=250.0,
-                             progress=False, land_cover=LAND_COVER) for name in (SHORT, MEDIUM, LONG)}
-    return {**{("single", k): v for k, v in zip(("short", "medium", "long"), single.values())},
+                             progress=False, land_cover=LAND_COVER) for name in (SHORT, LONG)}
+    return {**{("single", k): v for k, v in zip(("short", "long"), single.values())},
             ("sites", "long"): coverage(dem=DEM, sites=csv, radius_km=7.0, resolution_m=250.0, progress=False,
                                         land_cover=LAND_COVER)}
 
 
-LAND_CASES = [(paper, kind, *key) for paper in ("a4", "letter") for kind in ("margin", "probability")
-              for key in (("single", "short"), ("single", "medium"), ("single", "long"), ("sites", "long"))]
+LAND_CASES = [(paper, kind, *key) for paper in ("a4", "letter") for kind, key in (
+    ("probability", ("single", "short")), ("probability", ("single", "long")), ("margin", ("sites", "long")),
+    ("probability", ("sites", "long")))]
+"""The sheet with a land cover: both maps, short and 200-character names (the 80-character one as the candidate)."""
 
 
 @pytest.mark.parametrize("case", LAND_CASES, ids=["-".join(c) for c in LAND_CASES])
