@@ -445,7 +445,8 @@ def coverage(site=None, *, dem, mast_m: float | None = None, radius_km: float, n
              fill_voids: bool = False, radio: RadioSettings | None = None, workers: int | None = None,
              scheduler: str | None = None, progress: bool | None = None, kernel: bool | None = None, date=None,
              sheet_info=None, out=None, plot=None, kmz=None, json=None, paper: str = "a4", dpi: int = 200,
-             calibration=None):
+             calibration=None, land_cover=None, land_cover_classes=None,
+             map_kind: str = "margin"):
     """Margin and data rate at every pixel within a radius of a gateway site (``profiler coverage``).
 
     The computation (:func:`profiler.products.coverage.map.coverage`) writes no file; the files asked
@@ -493,6 +494,10 @@ def coverage(site=None, *, dem, mast_m: float | None = None, radius_km: float, n
     dpi : int
         Resolution of a PNG map sheet [dots per inch].
     <<calibration>>
+    <<land_cover>>
+    <<land_cover_classes>>
+    map_kind : {"margin", "probability"}
+        What the sheet's map shows (``--map``): the margin classes or the probability of being heard.
 
     Returns
     -------
@@ -510,14 +515,17 @@ def coverage(site=None, *, dem, mast_m: float | None = None, radius_km: float, n
                        resolution_m=resolution_m, node_mast_m=node_mast_m, band=band, frequency_mhz=frequency_mhz,
                        k_factor=k_factor, clearance_ratio=clearance_ratio, fill_voids=fill_voids, radio=radio,
                        workers=workers, scheduler=scheduler, progress=progress, kernel=kernel, date=date,
-                       sheet_info=sheet_info)
-    write_outputs(coverage_outputs(out, plot, kmz, json, paper=paper, dpi=dpi, dem_paths=dem, result=result),
-                  result.to_dict())
+                       sheet_info=sheet_info, land_cover=land_cover, land_cover_classes=land_cover_classes)
+    write_outputs(coverage_outputs(out, plot, kmz, json, paper=paper, dpi=dpi, dem_paths=dem, result=result,
+                                   map_kind=map_kind), result.to_dict())
     return result
 
 def coverage_outputs(out=None, plot=None, kmz=None, json=None, *, paper="a4", dpi=200, dem_paths=(), result=None,
-                     summary=False):
-    """The outputs of a coverage run for :func:`profiler.io.outputs.write_outputs` (the API and the command)."""
+                     summary=False, map_kind="margin"):
+    """The outputs of a coverage run for :func:`profiler.io.outputs.write_outputs` (the API and the command).
+
+    ``map_kind``: ``margin`` (the margin classes) or ``probability`` (of being heard) on the sheet's map.
+    """
     from .io.coverage import coverage_kmz_bytes, coverage_summary_text, write_geotiff
     from .io.outputs import Output
 
@@ -534,7 +542,7 @@ def coverage_outputs(out=None, plot=None, kmz=None, json=None, *, paper="a4", dp
     def render_plot(report, path, files=None):
         from .plot import write_coverage_figure
         write_coverage_figure(result, path, paper=paper, dpi=dpi, dem_paths=list(dem_paths or ()), report=report,
-                              date_text=(report.get("sheet") or {}).get("date"), files=files)
+                              date_text=(report.get("sheet") or {}).get("date"), files=files, map_kind=map_kind)
 
     outputs = [Output("--out", out, render_tif, "raw", suffixes=(".tif", ".tiff"), stdout=False),
                Output("--json", json, render_json, "json"),

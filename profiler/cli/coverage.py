@@ -15,6 +15,8 @@ from .options import (
     cluster_options,
     frequency_options,
     k_option,
+    land_cover_kwargs,
+    land_cover_options,
     plot_options,
     radio_settings,
     sheet_options,
@@ -37,6 +39,7 @@ from .options import (
 @click.option("--node-mast-m", type=NON_NEGATIVE, default=1.5, show_default=True,
               help="Node antenna height above ground at every pixel [m].")
 @click.option("--fill-voids", is_flag=True, help="Interpolate across elevation voids instead of leaving nodata.")
+@land_cover_options
 @k_option
 @frequency_options
 @clearance_ratio_option()
@@ -47,17 +50,21 @@ from .options import (
 @click.option("--kmz", "kmz_path", default=None, type=click.Path(dir_okay=False), metavar="OVERLAY.kmz",
               help="Write a KML 2.2 ground overlay of the margin classes with the site placemark.")
 @click.option("--json", "json_path", default=None, metavar="FILE", help="Write the JSON summary ('-' for stdout).")
+@click.option("--map", "map_kind", type=click.Choice(["margin", "probability"]), default="margin", show_default=True,
+              help="What the sheet's map shows: the margin classes or the probability of being heard (0-1).")
 @plot_options(continued=True)
 @sheet_options
 @cluster_options
 def coverage_command(dem_paths, site, mast_m, name, sites_csv, radius_km, resolution_m, node_mast_m, fill_voids,
-                     k_text, freq_mhz, band_name, clearance_ratio, out_path, kmz_path, json_path, plot_path, paper,
-                     dpi, workers, scheduler, no_progress, **kw):
+                     k_text, freq_mhz, band_name, clearance_ratio, out_path, kmz_path, json_path, map_kind, plot_path,
+                     paper, dpi, workers, scheduler, no_progress, **kw):
     """Where a node at --node-mast-m is heard from a site, at which data rate: every pixel within --radius-km.
 
     The site is the gateway (end A); every pixel centre is a node. Bands:
     terrain_m, worst_fresnel_ratio, path_loss_db, rx_level_dbm, margin_db,
-    downlink_margin_db, recommended_dr, line_of_sight (+ best_gateway and
+    downlink_margin_db, recommended_dr, line_of_sight, location_sigma_db,
+    probability_heard (+ clutter_class and clutter_height_m with
+    --land-cover, building_entry_loss_db with --indoor-b, best_gateway and
     gateways_heard with --sites).
 
     \b
@@ -65,6 +72,8 @@ def coverage_command(dem_paths, site, mast_m, name, sites_csv, radius_km, resolu
       profiler coverage --dem dem_samples --site -29.9125,-19.955 --mast-m 10 --radius-km 10 --out cov.tif
       profiler coverage --dem dem_samples --site -29.9125,-19.955 --mast-m 10 --radius-km 4 --plot cov.png \\
           --project "Vellmoor valley LoRaWAN" --document VV-RF-002
+      profiler coverage --dem dem_samples --land-cover dem_samples/vellmoor_landcover.tif \\
+          --site -29.9125,-19.955 --mast-m 10 --radius-km 4 --map probability --plot cov.png
     """
     from . import collect_garbage
 
@@ -81,6 +90,7 @@ def coverage_command(dem_paths, site, mast_m, name, sites_csv, radius_km, resolu
     if not dem_paths:
         raise ProfilerError("no elevation data: give --dem FILE_OR_FOLDER")
     sheet_info, date = sheet_settings(kw)
+    cover = land_cover_kwargs(kw)
     radio = radio_settings(kw)
     check_outputs(coverage_outputs(out_path, plot_path, kmz_path, json_path, paper=paper, dpi=dpi))
     from ..products.coverage.radials import keep_freed_memory
@@ -91,7 +101,7 @@ def coverage_command(dem_paths, site, mast_m, name, sites_csv, radius_km, resolu
                           resolution_m=resolution_m, node_mast_m=node_mast_m, band=band_name, frequency_mhz=freq_mhz,
                           k_factor=k_text, clearance_ratio=clearance_ratio, fill_voids=fill_voids, radio=radio,
                           workers=workers, scheduler=scheduler, progress=False if no_progress else None,
-                          date=date, sheet_info=sheet_info)
+                          date=date, sheet_info=sheet_info, **cover)
         outputs = coverage_outputs(out_path, plot_path, kmz_path, json_path, paper=paper, dpi=dpi,
-                                   dem_paths=dem_paths, result=result, summary=True)
+                                   dem_paths=dem_paths, result=result, summary=True, map_kind=map_kind)
         write_outputs(outputs, result.to_dict())

@@ -70,7 +70,9 @@ def link_fields(d, terrain, n, h_a, h_b, settings: NetworkSettings, overrides=No
         ``fresnel_clear``, ``diffraction_db``, ``total_loss_db``,
         ``rx_level_dbm`` (uplink, at the gateway), ``margin_db``,
         ``downlink_margin_db``, ``closes``, ``downlink_closes``,
-        ``recommended_dr`` (-1: none), ``max_margin_db``.
+        ``recommended_dr`` (-1: none), ``max_margin_db``; and ``loss_db``, the
+        loss block of :func:`profiler.engine.losses.path_loss_batch` at the uplink frequency (its terms,
+        ``terminals`` and ``p1812``: the named values, None with ``terrain``).
     """
     radio = settings.radio
     lam = float(wavelength_m(settings.frequency_mhz)) if wavelength is None else wavelength
@@ -93,7 +95,9 @@ def link_fields(d, terrain, n, h_a, h_b, settings: NetworkSettings, overrides=No
     out = {"worst_fresnel_ratio": worst, "worst_distance_m": worst_d,
            "line_of_sight": los, "fresnel_clear": clear, "diffraction_db": loss["diffraction"],
            "total_loss_db": loss["total"], "rx_level_dbm": up["rx_power_dbm"], "margin_db": margin_up,
-           "downlink_margin_db": margin_down, "closes": margin_up >= fade, "downlink_closes": margin_down >= fade}
+           "downlink_margin_db": margin_down, "closes": margin_up >= fade, "downlink_closes": margin_down >= fade,
+           "loss_db": {**loss, "terminals": rb["terminals"][settings.frequency_mhz],
+                       "p1812": rb["p1812"].get(settings.frequency_mhz)}}
     if "recommended" in up:
         out["recommended_dr"] = np.where(up["recommended"] >= 0, up["dr"], -1)
         allowed = up["rules"]["allowed"]

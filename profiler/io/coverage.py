@@ -212,6 +212,11 @@ def coverage_summary_text(report: dict) -> str:
                      f"({(s['covered_by_gateways']['share'] or 0):.1%}) with the {fade} (existing gateways alone)")
     lines += [
               f"  line of sight {s['line_of_sight']['area_km2']:.2f} km2 ({(s['line_of_sight']['share'] or 0):.1%})"]
+    heard = s.get("heard_at_location_percent")
+    if heard is not None:
+        lines += [f"  probability   heard at {heard['location_percent']:g} % of locations over {heard['area_km2']:.2f} "
+                  f"km2 ({(heard['share'] or 0):.1%}); mean over the area "
+                  + ("n/a" if s.get("mean_probability_heard") is None else f"{s['mean_probability_heard']:.2f}")]
     for row in s["covered_by_dr"]:
         if row["pixels"]:
             lines.append(f"  DR{row['dr']:<11} {row['area_km2']:.2f} km2 ({row['share']:.1%})")

@@ -54,7 +54,8 @@ from .sheet import (
 from .tables import draw_tables
 from .titleblock import draw_notes, draw_title_box, provenance_lines, title_block_rows
 
-__all__ = ["build_coverage_figure", "build_coverage_sheets", "write_coverage_figure", "site_rows", "MIN_TABLE_PT"]
+__all__ = ["build_coverage_figure", "build_coverage_sheets", "write_coverage_figure", "site_rows", "MIN_TABLE_PT",
+           "draw_coverage_map"]
 
 #: Smallest type of the site table [pt].
 MIN_TABLE_PT = 5.5
@@ -67,9 +68,21 @@ ROLE_LABEL = {"gateway": "Existing gateway", "candidate": "Candidate site"}
 #: The edge of the line-of-sight area: a dark plum line with a white halo (not a colour of the classes).
 LOS_STYLE = {"colors": "#5b1a4a", "linewidths": 1.1}
 
+#: The probability map's colour scale: matplotlib's ``cividis`` (sequential, even in lightness, readable with
+#: red-green colour-vision deficiencies), translucent over the relief.
+PROBABILITY_CMAP = "cividis"
+PROBABILITY_ALPHA = 0.62
+
+#: Width of the land-cover inset's column between the map and the side column [in].
+INSET_W_IN = 1.75
+
+#: Colours of the clutter classes in the land-cover inset (own choice: steps in lightness, water blue, trees green).
+CLUTTER_COLOURS = {"water": "#4a7fb5", "open": "#eee3b8", "suburban": "#c9a27e", "urban": "#8c6d62",
+                   "trees": "#4f8a4b", "dense-urban": "#4b3b36"}
+
 
 def write_coverage_figure(result, path, paper: str = "a4", dpi: float = 200, dem_paths=None, *, report=None,
-                          date_text: str | None = None, files=None) -> None:
+                          date_text: str | None = None, files=None, map_kind: str = "margin") -> None:
     """Draw the coverage map sheet and write it to ``path`` (PNG, PDF or SVG by extension).
 
     Parameters
@@ -89,9 +102,12 @@ def write_coverage_figure(result, path, paper: str = "a4", dpi: float = 200, dem
         Date printed on the sheet (default the report's ``sheet.date``, else today).
     files : profiler.io.outputs.ExtraFiles, optional
         The run's transaction, for the continuation sheets of a PNG or SVG (:func:`~profiler.plot.sheet.write_sheet`).
+    map_kind : {"margin", "probability"}
+        The map shows the margin classes or the probability of being heard (``--map``).
     """
     report = report or result.report
-    write_sheet(path, paper, dpi, lambda: build_coverage_sheets(result, report, paper, dem_paths, date_text),
+    write_sheet(path, paper, dpi, lambda: build_coverage_sheets(result, report, paper, dem_paths, date_text,
+                                                                map_kind=map_kind),
                 f"Coverage map: {_title(report)}", report, files)
 
 
@@ -106,14 +122,21 @@ def _title(report) -> str:
     return names[0] if len(names) == 1 else site_count_text(report["summary"])
 
 
-def build_coverage_figure(result, report=None, paper: str = "a4", dem_paths=None, date_text=None, dpi=100.0):
+def build_coverage_figure(result, report=None, paper: str = "a4", dem_paths=None, date_text=None, dpi=100.0,
+                          map_kind: str = "margin"):
     """Build the sheet as a :class:`matplotlib.figure.Figure`; the map axes has the label ``coverage-map``
     (the first of :func:`build_coverage_sheets`)."""
-    return build_coverage_sheets(result, report, paper, dem_paths, date_text, dpi)[0]
+    return build_coverage_sheets(result, report, paper, dem_paths, date_text, dpi, map_kind)[0]
 
 
-def build_coverage_sheets(result, report=None, paper: str = "a4", dem_paths=None, date_text=None, dpi=100.0):
-    """The sheet and its continuation sheets (the sites the table has no room for) as a list of Figures."""
+def build_coverage_sheets(result, report=None, paper: str = "a4", dem_paths=None, date_text=None, dpi=100.0,
+                          map_kind: str = "margin"):
+    """The sheet and its continuation sheets (the sites the table has no room for) as a list of Figures.
+
+    ``map_kind`` ``probability``: the map shows ``probability_heard`` on :data:`PROBABILITY_CMAP` with a
+    colour bar in the legend.  With a land cover (the report's ``summary.land_cover_classes``) a
+    land-cover inset (axes label ``coverage-land-cover``) sits under the legend.
+    """
     from .continuation import continuation_figures, plan
 
     report = report or result.report
@@ -126,14 +149,22 @@ def build_coverage_sheets(result, report=None, paper: str = "a4", dem_paths=None
         block_h, notes_h = 1.5, 0.66
         map_bottom, map_top, map_left = margin + notes_h + 0.42, header[1] - 0.28, margin + 0.42
         _draw_header(inch_axes(fig, header, width_in, height_in), report, renderer)
-        ax = fig.add_axes(fraction((map_left, map_bottom, side_left - 0.3 - map_left, map_top - map_bottom),
+        inset = bool(report["summary"].get("land_cover_classes"))
+        map_right = side_left - 0.3 - (INSET_W_IN if inset else 0.0)
+        ax = fig.add_axes(fraction((map_left, map_bottom, map_right - map_left, map_top - map_bottom),
                                    width_in, height_in), label="coverage-map")
-        _draw_map(ax, result, report, dem_paths, renderer)
+        _draw_map(ax, result, report, dem_paths, renderer, map_kind)
         roles = {s.get("role") or "gateway" for s in _sites(report)}
         legend_h = 0.3 + 0.145 * (6 + len(roles))
         legend_bottom = map_top - legend_h
-        _draw_legend(inch_axes(fig, (side_left, legend_bottom, side_w, legend_h), width_in, height_in), result,
-                     report, roles)
+        legend_ax = inch_axes(fig, (side_left, legend_bottom, side_w, legend_h), width_in, height_in)
+        if map_kind == "probability":
+            _draw_probability_legend(legend_ax, report, roles)
+        else:
+            _draw_legend(legend_ax, result, report, roles)
+        if inset:
+            _draw_land_cover_inset(fig, (map_right + 0.15, map_bottom, INSET_W_IN - 0.2, map_top - map_bottom),
+                                   width_in, height_in, result, report, renderer)
         below = legend_bottom - 0.12 - (margin + block_h + 0.15)
         sites_ax = inch_axes(fig, (side_left, margin + block_h + 0.15, side_w, below), width_in, height_in)
         sites_ax.set_label("coverage-sites")
@@ -176,7 +207,12 @@ def _draw_header(ax, report, renderer) -> None:
 
 
 # --------------------------------------------------------------------------- map
-def _draw_map(ax, result, report, dem_paths, renderer) -> None:
+def draw_coverage_map(ax, result, dem_paths, renderer, map_kind: str = "margin") -> None:
+    """The sheet's map (classes or probability over the hillshade, rings, sites, furniture) in any axes."""
+    _draw_map(ax, result, result.report, dem_paths, renderer, map_kind)
+
+
+def _draw_map(ax, result, report, dem_paths, renderer, map_kind="margin") -> None:
     from ..io.coverage import class_rgba, geographic_classes
 
     sites = _sites(report)
@@ -193,9 +229,15 @@ def _draw_map(ax, result, report, dem_paths, renderer) -> None:
                              margin_frac=0.04, min_margin_m=300.0)
     basemap.prepare_map(ax, ext)
     caption = basemap.hillshade(ax, dem_paths, ext, pixels=420) if dem_paths else "no elevation model given"
-    cls, box = geographic_classes(result, max_pixels=900)
-    ax.imshow(class_rgba(cls), extent=box, origin="upper", interpolation="nearest", zorder=2, aspect="auto",
-              gid="coverage-classes")
+    if map_kind == "probability":
+        prob, box = geographic_classes(result, max_pixels=900, band="probability_heard")
+        ax.imshow(np.ma.masked_invalid(prob), extent=box, origin="upper", interpolation="nearest", zorder=2,
+                  aspect="auto", cmap=PROBABILITY_CMAP, vmin=0.0, vmax=1.0, alpha=PROBABILITY_ALPHA,
+                  gid="coverage-probability")
+    else:
+        cls, box = geographic_classes(result, max_pixels=900)
+        ax.imshow(class_rgba(cls), extent=box, origin="upper", interpolation="nearest", zorder=2, aspect="auto",
+                  gid="coverage-classes")
     _draw_los_edge(ax, result)
     for frac, lo, la in rings:
         ax.plot(lo, la, color="black", lw=0.9 if frac == 1.0 else 0.5, ls="-" if frac == 1.0 else (0, (4, 3)),
@@ -305,6 +347,70 @@ def _draw_legend(ax, result, report, roles) -> None:
              fontsize=7.5, fontweight="bold")
     sheet_legend(ax, handles, loc="upper left", bbox_to_anchor=(0.0, 1.0 - 0.24 / ax.get_ylim()[1]), ncol=1,
                  handlelength=2.2, labelspacing=0.38, fontsize=6.8)
+
+
+def _draw_probability_legend(ax, report, roles) -> None:
+    """The colour bar of ``probability_heard`` (0 to 1), the line-of-sight edge and the site markers."""
+    from matplotlib.lines import Line2D
+
+    st = report["settings"]
+    top, width = ax.get_ylim()[1], ax.get_xlim()[1]
+    put_text(ax, 0.0, top, "Probability of being heard (uplink, fade margin kept)", ha="left", va="top",
+             fontsize=7.5, fontweight="bold")
+    contain(put_text(ax, 0.0, top - 0.17, f"over locations; fade margin {st['fade_margin_db']:g} dB", ha="left",
+                     va="top", fontsize=6.5, color="0.25"), ax)
+    bar_x, bar_w, bar_top = 0.1, min(2.6, width - 0.3), top - 0.38
+    ramp = np.linspace(0.0, 1.0, 256)[None, :]
+    ax.imshow(ramp, extent=(bar_x, bar_x + bar_w, bar_top - 0.16, bar_top), cmap=PROBABILITY_CMAP, vmin=0.0,
+              vmax=1.0, alpha=PROBABILITY_ALPHA, aspect="auto", zorder=1, gid="probability-colour-bar")
+    for value in (0.0, 0.25, 0.5, 0.75, 1.0):
+        x = bar_x + value * bar_w
+        ax.plot([x, x], [bar_top - 0.16, bar_top - 0.2], color="0.2", lw=0.6)
+        contain(put_text(ax, x, bar_top - 0.21, f"{value:g}", ha="center", va="top", fontsize=6.5), ax)
+    ax.set_xlim(0.0, width)
+    ax.set_ylim(0.0, top)
+    handles = [Line2D([], [], color=LOS_STYLE["colors"], lw=LOS_STYLE["linewidths"], path_effects=basemap.halo(2.6),
+                      label=f"Edge of line of sight (node at {st['node_mast_m']:g} m)")]
+    handles += [Line2D([], [], ls="none", label=ROLE_LABEL[key], **SITE_STYLE[key]) for key in SITE_STYLE
+                if key in roles]
+    sheet_legend(ax, handles, loc="upper left", bbox_to_anchor=(0.0, 1.0 - 0.78 / top), ncol=1,
+                 handlelength=2.2, labelspacing=0.38, fontsize=6.8)
+
+
+def _draw_land_cover_inset(fig, box, width_in, height_in, result, report, renderer) -> None:
+    """A small map of the clutter classes over the area (the ``clutter_class`` band) and its legend under it:
+    each land-cover code with its clutter class, R and share of the computed area
+    (``summary.land_cover_classes``), wrapped to the column (6.2 pt)."""
+    from matplotlib.colors import to_rgb
+    from matplotlib.patches import Rectangle
+
+    from ..io.coverage import geographic_classes
+
+    left, bottom, w, h = box
+    table = report["summary"]["land_cover_classes"]
+    codes, (west, east, south, north) = geographic_classes(result, max_pixels=300, band="clutter_class")
+    rgba = np.zeros(codes.shape + (4,))
+    for row in table:
+        rgba[codes == row["code"]] = (*to_rgb(CLUTTER_COLOURS[row["clutter"]]), 1.0)
+    img = fig.add_axes(fraction((left, bottom + h - 0.42 - w, w, w), width_in, height_in),
+                       label="coverage-land-cover")
+    img.imshow(rgba, extent=(west, east, south, north), origin="upper", interpolation="nearest", aspect="auto")
+    img.set_xticks([])
+    img.set_yticks([])
+    for spine in img.spines.values():
+        spine.set_linewidth(0.6)
+    ax = inch_axes(fig, box, width_in, height_in)
+    contain(put_text(ax, 0.0, h, "Land cover", ha="left", va="top", fontsize=7.5, fontweight="bold"), ax)
+    contain(put_text(ax, 0.0, h - 0.17, "clutter class, R, share", ha="left", va="top", fontsize=6.2,
+                     color="0.25"), ax)
+    size, line_h = 6.2, 6.2 * 1.25 / 72.0
+    y = h - 0.42 - w - 0.1
+    for row in table:
+        lines = _wrapped(f"{row['code']} {row['clutter']}, R {row['clutter_height_m']:g} m, "
+                         f"{(row['share'] or 0):.0%}", w - 0.2, renderer, size)
+        ax.add_patch(Rectangle((0.0, y - 0.1), 0.12, 0.1, fc=CLUTTER_COLOURS[row["clutter"]], ec="0.3", lw=0.4))
+        contain(put_text(ax, 0.18, y, "\n".join(lines), ha="left", va="top", fontsize=size, linespacing=1.05), ax)
+        y -= len(lines) * line_h + 0.05
 
 
 # --------------------------------------------------------------------------- tables
@@ -449,6 +555,10 @@ def _blocks(report) -> list:
     if s.get("candidates"):
         rows.append(("Heard by the gateways alone", area(s["covered_by_gateways"])))
     rows.append(("Line of sight", area(s["line_of_sight"])))
+    heard = s.get("heard_at_location_percent")
+    if heard is not None:
+        rows.append((f"Heard at {heard['location_percent']:g} % of locations", area(heard)))
+        rows.append(("Mean probability heard", num(s.get("mean_probability_heard"), ".2f")))
     rows += [(f"DR{r['dr']}", area(r)) for r in s["covered_by_dr"] if r["pixels"]]
     rows.append(("Radials / step", f"{st['radials']} / {st['radial_step_m']:.1f} m"))
     return [("Area", None, rows)]

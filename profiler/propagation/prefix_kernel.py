@@ -134,7 +134,7 @@ def _kernels(key: str):
                 worst[r, j] = best
 
     @numba.njit(cache=True, parallel=True, fastmath=FASTMATH)
-    def bullington_kernel(d_km, h_m, n, hts, hrs, ae_km, actual, out):   # pragma: no cover (compiled)
+    def bullington_kernel(d_km, h_m, g_m, n, hts, hrs, ae_km, actual, out):   # pragma: no cover (compiled)
         _key = key   # noqa: F841 (the cache key)
         weight = 1.0 if actual else 0.0
         for r in numba.prange(d_km.shape[0]):
@@ -144,7 +144,7 @@ def _kernels(key: str):
                 for i in range(1, j):
                     di = d_km[r, i]
                     dd = d - di
-                    hc = weight * h_m[r, i] + _bulge_km(di, dd, ae_km)
+                    hc = weight * g_m[r, i] + _bulge_km(di, dd, ae_km)
                     stim = max(stim, _slope(hc, a, di))
                     srim = max(srim, _slope(hc, b, dd))
                     v_max = max(v_max, _v_unit(hc, a, b, di, dd, d))
@@ -202,7 +202,8 @@ def worst_ratio_prefixes(distance_m, terrain_m, n, site_amsl_m, node_amsl_m, wav
     return worst
 
 
-def bullington_prefixes(distance_km, height_m, n, hts_m, hrs_m, effective_radius_km, actual):
+def bullington_prefixes(distance_km, height_m, n, hts_m, hrs_m, effective_radius_km, actual,
+                        bullington_height_m=None):
     """One Bullington pass over every prefix of every radial: the reductions of ``diffraction_reductions``.
 
     Parameters
@@ -217,6 +218,10 @@ def bullington_prefixes(distance_km, height_m, n, hts_m, hrs_m, effective_radius
         Effective Earth radius [km].
     actual : bool
         Terrain + bulge (the actual profile) or the bulge alone (the smooth profile).
+    bullington_height_m : ndarray, shape (R, N), optional
+        Heights of the Bullington pass over the actual profile [m AMSL]
+        (default ``height_m``; P.1812-8: g = h + R at the interior points);
+        the obstacle heights (eqs. 165a-d) stay those of ``height_m``.
 
     Returns
     -------
@@ -231,16 +236,17 @@ def bullington_prefixes(distance_km, height_m, n, hts_m, hrs_m, effective_radius
     .. [1] ITU-R P.452-18 eqs. (14), (16), (18), (165a)-(165d).
     """
     out = np.full((6,) + np.shape(distance_km), np.nan)
+    h = np.ascontiguousarray(height_m, dtype=float)
+    g = h if bullington_height_m is None else np.ascontiguousarray(bullington_height_m, dtype=float)
     with LAUNCH:
-        _bullington_kernel(np.ascontiguousarray(distance_km, dtype=float),
-                           np.ascontiguousarray(height_m, dtype=float), np.asarray(n, dtype=np.int64),
+        _bullington_kernel(np.ascontiguousarray(distance_km, dtype=float), h, g, np.asarray(n, dtype=np.int64),
                            np.ascontiguousarray(hts_m, dtype=float), np.ascontiguousarray(hrs_m, dtype=float),
                            float(effective_radius_km), bool(actual), out)
     keys = ("stim", "srim", "v_unit") + (("hobs", "alpha_obt", "alpha_obr") if actual else ())
     return {k: out[i] for i, k in enumerate(keys)}
 
 
-def prefix_reduce(distance_km, height_m, n, rr, jj, effective_radius_km):
+def prefix_reduce(distance_km, height_m, n, rr, jj, effective_radius_km, bullington_height_m=None):
     """The ``reduce`` of ``diffraction_reductions`` for the links to samples ``jj`` of radials ``rr``.
 
     Parameters
@@ -252,6 +258,8 @@ def prefix_reduce(distance_km, height_m, n, rr, jj, effective_radius_km):
         Radial and node sample of every link (``2 <= jj < n[rr]``).
     effective_radius_km : float
         Effective Earth radius [km].
+    bullington_height_m : ndarray, shape (R, N), optional
+        Heights of the Bullington pass [m AMSL] (see :func:`bullington_prefixes`).
 
     Returns
     -------
@@ -274,7 +282,7 @@ def prefix_reduce(distance_km, height_m, n, rr, jj, effective_radius_km):
     def reduce(actual, hts, hrs):
         full_a, full_b = np.zeros(d_km.shape), np.zeros(d_km.shape)
         full_a[rr, jj], full_b[rr, jj] = hts, hrs
-        red = bullington_prefixes(d_km, t, n, full_a, full_b, effective_radius_km, actual)
+        red = bullington_prefixes(d_km, t, n, full_a, full_b, effective_radius_km, actual, bullington_height_m)
         res = {k: v[rr, jj] for k, v in red.items()}
         if actual:
             res.update(v1=v1[rr, jj - 1], v2=v2[rr, jj - 1])

@@ -230,3 +230,60 @@ def test_header_names_the_site_when_it_fits(figures, paper):
     assert f"Coverage map: {SHORT}" in heads
     long_heads = [t.get_text() for ax in figures[(paper, "single", "long")].axes for t in ax.texts]
     assert "Coverage map: 1 gateway" in long_heads
+
+
+# --------------------------------------------------------------------------- land cover and the probability map
+LAND_COVER = DEM[0].parent / "vellmoor_landcover.tif"
+
+
+@pytest.fixture(scope="module")
+def land_runs(tmp_path_factory):
+    """A run with the sample land cover reaching the forest (7 km), single site and with a candidate."""
+    folder = tmp_path_factory.mktemp("coverage-land-cover")
+    csv = folder / "sites.csv"
+    csv.write_text("name,lat_deg,lon_deg,mast_m,role\n"
+                   f'"{LONG}",{GATEWAY[0]},{GATEWAY[1]},10,gateway\n'
+                   f'"{MEDIUM}",{CANDIDATE[0]},{CANDIDATE[1]},6,candidate\n', encoding="utf-8")
+    single = {name: coverage(GATEWAY, dem=DEM, mast_m=10.0, name=name, radius_km=7.0, resolution_m=250.0,
+                             progress=False, land_cover=LAND_COVER) for name in (SHORT, LONG)}
+    return {**{("single", k): v for k, v in zip(("short", "long"), single.values())},
+            ("sites", "long"): coverage(dem=DEM, sites=csv, radius_km=7.0, resolution_m=250.0, progress=False,
+                                        land_cover=LAND_COVER)}
+
+
+LAND_CASES = [(paper, kind, *key) for paper in ("a4", "letter") for kind, key in (
+    ("probability", ("single", "short")), ("probability", ("single", "long")), ("margin", ("sites", "long")),
+    ("probability", ("sites", "long")))]
+"""The sheet with a land cover: both maps, short and 200-character names (the 80-character one as the candidate)."""
+
+
+@pytest.mark.parametrize("case", LAND_CASES, ids=["-".join(c) for c in LAND_CASES])
+def test_layout_audit_clean_with_land_cover_and_the_probability_map(land_runs, case):
+    paper, kind, *key = case
+    result = land_runs[tuple(key)]
+    fig = build_coverage_figure(result, paper=paper, dem_paths=DEM, date_text="2026-03-15", map_kind=kind)
+    assert [str(p) for p in layout_problems(fig)] == []
+    inset = _axes(fig, "coverage-land-cover")
+    assert inset.get_images()
+    drawn = " ".join(t.get_text() for t in drawn_texts(fig))
+    for row in result.report["summary"]["land_cover_classes"]:   # the inset's legend = the JSON's table
+        assert f"{row['code']} {row['clutter']}, R {row['clutter_height_m']:g} m, {row['share']:.0%}" in \
+            " ".join(drawn.split())
+    mean = result.report["summary"]["mean_probability_heard"]
+    assert f"{mean:.2f}" in drawn
+    gids = {im.get_gid() for im in _axes(fig, "coverage-map").get_images()}
+    assert ("coverage-probability" in gids) == (kind == "probability")
+    assert ("coverage-classes" in gids) == (kind == "margin")
+
+
+def test_probability_map_shows_the_band(land_runs):
+    from profiler.io.coverage import geographic_classes
+
+    result = land_runs[("single", "short")]
+    fig = build_coverage_figure(result, dem_paths=DEM, map_kind="probability")
+    image = next(im for im in _axes(fig, "coverage-map").get_images() if im.get_gid() == "coverage-probability")
+    want, _ = geographic_classes(result, max_pixels=900, band="probability_heard")
+    got = np.ma.filled(np.asarray(image.get_array(), dtype=float), np.nan)
+    np.testing.assert_array_equal(np.isnan(got), np.isnan(want))
+    np.testing.assert_allclose(got[np.isfinite(got)], want[np.isfinite(want)])
+    assert image.norm.vmin == 0.0 and image.norm.vmax == 1.0

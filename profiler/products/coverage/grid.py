@@ -17,8 +17,17 @@ import numpy as np
 from ...errors import ProfilerError
 
 BANDS = ("terrain_m", "worst_fresnel_ratio", "path_loss_db", "rx_level_dbm", "margin_db", "downlink_margin_db",
-         "recommended_dr", "line_of_sight")
+         "recommended_dr", "line_of_sight", "location_sigma_db", "probability_heard")
+LAND_COVER_BANDS = ("clutter_class", "clutter_height_m")
+"""Bands of a run with a land cover: the land-cover code and R at the pixel's sample."""
+INDOOR_BANDS = ("building_entry_loss_db",)
+"""Band of a run with an indoor node (``--indoor-b``)."""
 COMPOSITE_BANDS = BANDS + ("best_gateway", "gateways_heard")
+
+
+def band_names(parts) -> list:
+    """The bands a run's radial results hold, in the GeoTIFF's order (:data:`BANDS`, land cover, indoor)."""
+    return [b for b in BANDS + LAND_COVER_BANDS + INDOOR_BANDS if b in parts]
 MAX_PIXELS = 40_000_000
 """Largest grid accepted (pixels)."""
 
@@ -130,7 +139,7 @@ def to_grid(parts, lookup, n_radials, n_full):
     n = np.concatenate([p["n"] for p in parts])
     valid = inside & (j < n[k])
     bands = {}
-    for name in BANDS:
+    for name in band_names(parts[0]):
         table = np.concatenate([p[name] for p in parts])
         grid = np.full(k.shape, np.nan, dtype=np.float32)
         grid[valid] = table[k[valid], j[valid]]
@@ -145,7 +154,7 @@ def composite(per_gateway: list, fade_margin_db: float) -> dict:
     best = np.argmax(score, axis=0)
     has = np.isfinite(score).any(axis=0)
     out = {}
-    for name in BANDS:
+    for name in band_names(per_gateway[0]):
         stack = np.stack([b[name] for b in per_gateway])
         out[name] = np.take_along_axis(stack, best[None], axis=0)[0]
     out["best_gateway"] = np.where(has, best, np.nan).astype(np.float32)

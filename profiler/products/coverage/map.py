@@ -70,29 +70,62 @@ from .radials import (
 SCHEMA = "profiler.coverage/5"
 RADIALS_PER_CHUNK = 32
 """Radials per task (one sector)."""
-def _sector_job(chunk, *, settings, n_radials, radius_m, step_m, node_mast_m, kernel=None, model=None):
+def _sector_job(chunk, *, settings, n_radials, radius_m, step_m, node_mast_m, kernel=None, model=None,
+                cover=None, land=None):
     """One task ``(gateway, radial indices)``: sample a sector and run the engine on every sample.
 
-    Opens the elevation files by path when no model is given (on a worker).
+    Opens the elevation (and land-cover) files by path when no model is given (on a worker).  ``land``:
+    ``(paths, mapping)`` of the land cover, ``cover`` the opened :class:`profiler.terrain.landcover.LandCover`.
     """
     if model is None:
         from ...terrain.elevation import ElevationModel
+        from ...terrain.landcover import LandCover
 
         keep_freed_memory()   # a worker process of ours: tune its allocator (never a caller's process)
         with ElevationModel.open(list(settings.dem_paths)) as opened:
-            return _sector_job(chunk, settings=settings, n_radials=n_radials, radius_m=radius_m, step_m=step_m,
-                               node_mast_m=node_mast_m, kernel=kernel, model=opened)
+            if land is None:
+                return _sector_job(chunk, settings=settings, n_radials=n_radials, radius_m=radius_m, step_m=step_m,
+                                   node_mast_m=node_mast_m, kernel=kernel, model=opened)
+            with LandCover.open(land[0]) as opened_cover:
+                return _sector_job(chunk, settings=settings, n_radials=n_radials, radius_m=radius_m, step_m=step_m,
+                                   node_mast_m=node_mast_m, kernel=kernel, model=opened, cover=opened_cover,
+                                   land=land)
     gw, indices = chunk
     az = np.asarray(indices) * (360.0 / n_radials)
     d, t, n = sample_radials(model, gw, az, radius_m, step_m, settings.fill_voids)
     ae = float(geometry.effective_radius_m(settings.k_factor))
-    coordinates = sample_coordinates(gw, az, d) if settings.radio.propagation.model == "p1812" else None
-    out = radial_fields(d, t, n, gw.mast_m, node_mast_m, settings, gw.overrides, kernel, coordinates)
+    p1812 = settings.radio.propagation.model == "p1812"
+    coordinates = sample_coordinates(gw, az, d) if p1812 or land is not None else None
+    clutter, codes = (None, None) if land is None else radial_clutter(cover, land[1], coordinates,
+                                                                      settings.radio.propagation.model)
+    out = radial_fields(d, t, n, gw.mast_m, node_mast_m, settings, gw.overrides, kernel,
+                        coordinates if p1812 else None, clutter)
     out["terrain_m"] = np.where(np.isfinite(d), t, np.nan)
     los = line_of_sight_radials(d, t, n, t[:, 0] + gw.mast_m, node_mast_m, ae)
     out["line_of_sight"] = np.where(np.isfinite(out["margin_db"]), los.astype(float), np.nan)
+    if clutter is not None:
+        out["clutter_class"] = np.where(codes >= 0, codes, np.nan)
+        out["clutter_height_m"] = clutter["clutter_m"]
     out["n"] = n
     return {k: (v.astype(np.float32) if k != "n" else v) for k, v in out.items()}
+
+
+def radial_clutter(cover, mapping, coordinates, model: str):
+    """The land cover at every radial sample (the class of the nearest pixel): the ``clutter`` of radial_fields.
+
+    Returns ``({"clutter_m", "clutter_class"}, codes)``: R [m] (NaN none) and the class index (-1 none), and the
+    land-cover codes (-1 none), each (R, N).
+    """
+    from ...terrain.landcover import NO_CLASS
+
+    lat, lon = coordinates["lat_b_deg"], coordinates["lon_b_deg"]
+    ok = np.isfinite(lat) & np.isfinite(lon)
+    codes = np.full(lat.shape, NO_CLASS, dtype=np.int32)
+    codes[ok] = cover.codes(lon[ok], lat[ok])
+    samples = mapping.clutter(codes, model)
+    cls = samples.class_index.astype(np.int64)
+    return ({"clutter_m": np.where(cls >= 0, samples.height_m, np.nan), "clutter_class": cls},
+            np.where(cls >= 0, samples.code, -1))
 
 
 def sample_coordinates(gw, azimuth_deg, distance_m) -> dict:
@@ -124,11 +157,14 @@ class CoverageResult:
         return self.report
 
 
-def _area_summary(bands, resolution_m, fade_margin_db, dr_values, heard_by_gateways=None) -> dict:
+def _area_summary(bands, resolution_m, fade_margin_db, dr_values, heard_by_gateways=None,
+                  location_percent=50.0) -> dict:
     """Area computed, and area and share covered per recommended DR and in total [km^2].
 
     ``heard_by_gateways`` (bool, the grid's shape) marks the pixels the existing gateways alone hear
-    with the fade margin (default: the covered pixels, i.e. no candidate sites).
+    with the fade margin (default: the covered pixels, i.e. no candidate sites).  ``heard_at_location_percent``:
+    the pixels whose ``probability_heard`` reaches the run's location percentage; ``mean_probability_heard``
+    the mean of that band over the computed pixels [-].
     """
     px_km2 = resolution_m * resolution_m * 1e-6
     margin = bands["margin_db"]
@@ -143,10 +179,15 @@ def _area_summary(bands, resolution_m, fade_margin_db, dr_values, heard_by_gatew
     per_dr = [{"dr": int(v), **entry(np.sum(dr == v))} for v in dr_values]
     los = bands["line_of_sight"]
     by_gateways = closes if heard_by_gateways is None else heard_by_gateways & np.isfinite(margin)
+    prob = np.where(np.isfinite(margin), bands["probability_heard"], np.nan)
+    # a probability within float32 rounding of the percentage counts as reaching it
+    heard = np.isfinite(prob) & (prob >= location_percent / 100.0 - 1e-6)
     return {"pixels_computed": computed, "area_computed_km2": round(computed * px_km2, 4),
             "covered": entry(int(closes.sum())), "covered_by_gateways": entry(int(by_gateways.sum())),
             "covered_by_dr": per_dr,
-            "line_of_sight": entry(int(np.sum(los == 1.0)))}
+            "line_of_sight": entry(int(np.sum(los == 1.0))),
+            "heard_at_location_percent": {"location_percent": float(location_percent), **entry(int(heard.sum()))},
+            "mean_probability_heard": round(float(np.nanmean(prob)), 6) if np.isfinite(prob).any() else None}
 
 
 def _gateways(site, mast_m, name, sites):
@@ -188,7 +229,7 @@ def _check_numbers(radius_km, resolution_m, node_mast_m):
 def coverage(site=None, *, dem, mast_m=None, name="site", sites=None, radius_km: float, resolution_m=None,
              node_mast_m: float = 1.5, band=None, frequency_mhz=None, k_factor="4/3", clearance_ratio: float = 0.6,
              fill_voids: bool = False, radio=None, workers=None, scheduler=None, progress=None,
-             kernel=None, date=None, sheet_info=None) -> CoverageResult:
+             kernel=None, date=None, sheet_info=None, land_cover=None, land_cover_classes=None) -> CoverageResult:
     """Coverage of one site (or the composite of a site list's gateways) within a radius.
 
     Parameters
@@ -219,18 +260,30 @@ def coverage(site=None, *, dem, mast_m=None, name="site", sites=None, radius_km:
         Date of the sheet (default today).
     sheet_info : profiler.io.sheetinfo.SheetInfo, optional
         Title-block fields (project, document, ...) for the report's ``sheet`` block.
+    land_cover : str, Path or list of them, optional
+        Land-cover rasters of class codes (``--land-cover``), sampled at the
+        nearest pixel at every radial sample: the clutter of every path and
+        of every node's end (bands ``clutter_class``, ``clutter_height_m``).
+    land_cover_classes : str or Path, optional
+        Code -> clutter class TOML file (default: the built-in ESA WorldCover mapping).
 
     Returns
     -------
     CoverageResult
     """
+    import contextlib
+
     from ...terrain.elevation import ElevationModel
+    from ...terrain.landcover import LandCover, class_mapping_for, land_cover_paths
 
     _check_numbers(radius_km, resolution_m, node_mast_m)
     gateways = _gateways(site, mast_m, name, sites)
     settings = _settings(dem, band, frequency_mhz, k_factor, clearance_ratio, fill_voids, radio)
+    mapping = class_mapping_for(land_cover, land_cover_classes)
+    land = None if mapping is None else (land_cover_paths(land_cover), mapping)
     radius_m = float(radius_km) * 1000.0
-    with ElevationModel.open(list(settings.dem_paths)) as model:
+    with ElevationModel.open(list(settings.dem_paths)) as model, \
+            (contextlib.nullcontext() if land is None else LandCover.open(land[0])) as cover:
         lon_g = np.array([g.lon_deg for g in gateways])
         lat_g = np.array([g.lat_deg for g in gateways])
         outside = ~np.asarray(model.covers(lon_g, lat_g))
@@ -244,7 +297,8 @@ def coverage(site=None, *, dem, mast_m=None, name="site", sites=None, radius_km:
         with ThreadPoolExecutor(1) as pool:   # pyproj releases the GIL: the pixel positions overlap the sweep
             positions = pool.submit(grid.lon_lat)
             per_gateway, inside_any, sweep = _sweep(model, settings, gateways, grid, radius_m, res,
-                                                    float(node_mast_m), workers, scheduler, progress, kernel)
+                                                    float(node_mast_m), workers, scheduler, progress, kernel,
+                                                    cover, land)
             lon, lat = positions.result()
         outside_data = ~np.asarray(model.covers(lon, lat))
         sources = model.provenance(model.sources_used(lon_g, lat_g))
@@ -260,10 +314,47 @@ def coverage(site=None, *, dem, mast_m=None, name="site", sites=None, radius_km:
                        "clearance_ratio": settings.clearance_ratio, "fade_margin_db": settings.radio.fade_margin_db,
                        "diffraction": settings.radio.diffraction_method, "fill_voids": settings.fill_voids, **sweep,
                        **settings.radio.propagation.to_dict(settings.k_factor),
-                       "calibration": settings.radio.propagation.calibration_dict()}
+                       "calibration": settings.radio.propagation.calibration_dict(),
+                       "land_cover": None if land is None else list(land[0]),
+                       "land_cover_classes": None if land_cover_classes is None else str(land_cover_classes)}
     report = _report(gateways, sites is not None, settings_record, grid, bands, inside_any, sources, heard_by_gateways,
                      _radio_ends(gateways, settings), _sheet_block(date, sheet_info))
+    report["warnings"] += _clutter_warnings(bands, land, float(node_mast_m))
+    if land is not None:
+        report["summary"]["land_cover_classes"] = _land_cover_table(bands, land[1], settings.radio.propagation.model,
+                                                                    res)
     return CoverageResult(bands=bands, grid=grid, report=report)
+
+
+def _clutter_warnings(bands, land, node_mast_m) -> list:
+    """No land cover and nodes below 10 m (likely optimistic), or computed pixels without a land-cover class."""
+    from ..link import LOW_NODE_M
+
+    if land is None:
+        if node_mast_m < LOW_NODE_M:
+            return [f"no land cover: the paths have no clutter, so nodes {node_mast_m:g} m above ground (below "
+                    f"{LOW_NODE_M:g} m) are likely optimistic; give --land-cover FILE"]
+        return []
+    computed = np.isfinite(bands["margin_db"])
+    missing = int(np.sum(computed & ~np.isfinite(bands["clutter_class"])))
+    if missing:
+        return [f"{missing} of {int(computed.sum())} pixels have no land-cover class (void or outside the land "
+                "cover): no clutter is assumed there"]
+    return []
+
+
+def _land_cover_table(bands, mapping, model, resolution_m) -> list:
+    """The land-cover codes at the computed pixels: code, clutter class, R [m], area [km^2] and share of each."""
+    codes = bands["clutter_class"][np.isfinite(bands["margin_db"])]
+    codes = codes[np.isfinite(codes)].astype(np.int64)
+    if codes.size == 0:
+        return []
+    values, counts = np.unique(codes, return_counts=True)
+    samples = mapping.clutter(values.astype(np.int32), model)
+    total = int(np.isfinite(bands["margin_db"]).sum())
+    return [{"code": int(v), "clutter": str(name), "clutter_height_m": float(h), "pixels": int(c),
+             "area_km2": round(float(c) * resolution_m * resolution_m * 1e-6, 4), "share": round(float(c) / total, 6)}
+            for v, name, h, c in zip(values, samples.class_names(), samples.height_m, counts)]
 
 
 def _settings(dem, band, frequency_mhz, k_factor, clearance_ratio, fill_voids, radio):
@@ -286,7 +377,8 @@ def _settings(dem, band, frequency_mhz, k_factor, clearance_ratio, fill_voids, r
                            step_m=None, fill_voids=bool(fill_voids), radio=radio)
 
 
-def _sweep(model, settings, gateways, grid, radius_m, res, node_mast_m, workers, scheduler, progress, kernel=None):
+def _sweep(model, settings, gateways, grid, radius_m, res, node_mast_m, workers, scheduler, progress, kernel=None,
+           cover=None, land=None):
     """Every gateway's radial sectors through the engine (the tasks), then onto the grid."""
     from ...engine.cluster import chunked, run_chunks
 
@@ -298,7 +390,8 @@ def _sweep(model, settings, gateways, grid, radius_m, res, node_mast_m, workers,
     chunks = [(g, np.arange(n_radials)[sl]) for g in gateways for sl in sectors]
     local = workers is None and scheduler is None
     job = functools.partial(_sector_job, settings=settings, n_radials=n_radials, radius_m=radius_m, step_m=step_m,
-                            node_mast_m=node_mast_m, kernel=kernel, model=model if local else None)
+                            node_mast_m=node_mast_m, kernel=kernel, model=model if local else None,
+                            cover=cover if local else None, land=land)
     parts = run_chunks(job, chunks, workers=workers, scheduler=scheduler, progress=progress, desc="radials",
                        weights=[c[1].size for c in chunks])
     per_gateway = []
@@ -361,7 +454,8 @@ def _report(gateways, composite_run, settings_record, grid, bands, inside_any, s
                         "outside the elevation data, or behind it or a void along the radial")
     records = [_gateway_record(g, {k: float(v[i]) for k, v in radio.items()}) for i, g in enumerate(gateways)]
     summary = _area_summary(bands, settings_record["resolution_m"], settings_record["fade_margin_db"],
-                            sorted(plan.data_rates) if plan is not None else [], heard_by_gateways)
+                            sorted(plan.data_rates) if plan is not None else [], heard_by_gateways,
+                            settings_record["location_percent"])
     summary = {"gateways": sum(g.role == "gateway" for g in gateways),
                "candidates": sum(g.role == "candidate" for g in gateways), **summary}
     return {"schema": SCHEMA, "tool_version": __version__,

@@ -33,6 +33,8 @@ BLOCK_ELEMENTS = 100_000
 _FIELDS = {"worst_fresnel_ratio": "worst_fresnel_ratio", "path_loss_db": "total_loss_db",
            "rx_level_dbm": "rx_level_dbm", "margin_db": "margin_db", "downlink_margin_db": "downlink_margin_db",
            "recommended_dr": "recommended_dr"}
+_EXTRA = ("location_sigma_db", "location_term_db", "building_entry_loss_db", "elevation_b_deg")
+"""Per-link values of the loss block that :func:`_probability` needs (the last three are not bands)."""
 
 
 def radial_count(radius_m: float, resolution_m: float) -> int:
@@ -129,14 +131,18 @@ def kernel_available() -> bool:
 
 
 def radial_fields(distance_m, terrain_m, n, mast_m, node_mast_m, settings, overrides=None, kernel=None,
-                  coordinates=None) -> dict:
+                  coordinates=None, clutter=None) -> dict:
     """Engine results for a node at every sample of every radial (every prefix of a radial is one link).
 
     The reductions over each link's samples run in the compiled kernel of
     :mod:`profiler.propagation.prefix_kernel` (numba), or without numba (or with
     ``kernel=False``) through the numpy engine in prefix batches of row
     blocks; the per-link formulas after them are the same numpy functions
-    either way (:func:`profiler.engine.links.link_fields`).
+    either way (:func:`profiler.engine.links.link_fields`).  The kernel
+    also takes a land cover under ``--model p1812`` (R on the interior
+    points of each prefix); a terminal option or sites cell in clutter, or a
+    land cover under ``--model terrain`` (the P.2108-1 section 3.1 correction
+    raises the antenna per pixel), runs the numpy prefix batches.
 
     Parameters
     ----------
@@ -157,35 +163,36 @@ def radial_fields(distance_m, terrain_m, n, mast_m, node_mast_m, settings, overr
     coordinates : dict, optional
         ``lat_a_deg``, ``lon_a_deg`` (the site, floats) and ``lat_b_deg``,
         ``lon_b_deg`` (every sample, (R, N)) [deg]: needed by ``--model p1812``.
+    clutter : dict, optional
+        A land cover at every sample: ``clutter_m`` (R, N) [m, NaN none] and
+        ``clutter_class`` (R, N) [index into the clutter classes, -1 none].
 
     Returns
     -------
     dict of ndarray, shape (R, N)
         The bands of :data:`BANDS` except ``terrain_m`` and ``line_of_sight``
-        (NaN where not computed; ``recommended_dr`` NaN where none closes).
+        (NaN where not computed; ``recommended_dr`` NaN where none closes),
+        plus ``building_entry_loss_db`` with an indoor node.
     """
     from ...engine.links import link_fields
     from ...engine.terminals import any_terminal
 
     d, t = np.asarray(distance_m, float), np.asarray(terrain_m, float)
     n = np.asarray(n)
-    out = {k: np.full(d.shape, np.nan) for k in _FIELDS}
+    out = {k: np.full(d.shape, np.nan) for k in (*_FIELDS, *_EXTRA)}
     p1812 = settings.radio.propagation.model == "p1812"
     fast = settings.radio.diffraction_method == "none" and not p1812
 
-    def run(rr, jj, dd, tt, nn):
+    def run(rr, jj, dd, tt, nn, cc=None):
         h_a = t[rr, 0] + mast_m
         h_b = t[rr, jj] + node_mast_m
-        res = link_fields(dd, tt, nn, h_a, h_b, settings, _overrides(overrides, rr.size),
-                          paths=_paths(coordinates, rr, jj))
-        for band, key in _FIELDS.items():
-            out[band][rr, jj] = res[key]
+        _store(out, rr, jj, link_fields(dd, tt, nn, h_a, h_b, settings, _overrides(overrides, rr.size),
+                                        paths=_paths(coordinates, rr, jj, cc)), settings, node_mast_m)
 
     if kernel is None:
         kernel = kernel_available()
-    # the kernel reduces profiles without clutter: a terminal in clutter (a class at an end, either model) runs
-    # the numpy prefix batches
     kernel = kernel and not any_terminal(settings.radio, overrides=_overrides(overrides, 1))
+    kernel = kernel and (clutter is None or p1812)
     rr, jj = np.nonzero((np.arange(d.shape[1])[None, :] >= 1) & (np.arange(d.shape[1])[None, :] < n[:, None]))
     # free space, or (numpy, no diffraction) a loss that depends on the two ends only
     straight = (jj == 1) | (fast and not kernel)
@@ -194,9 +201,9 @@ def radial_fields(distance_m, terrain_m, n, mast_m, node_mast_m, settings, overr
         d_end, t0, t_end = d[r, j], t[r, 0], t[r, j]
         dd = np.stack([np.zeros_like(d_end), d_end / 2.0, d_end], axis=1)
         tt = np.stack([t0, (t0 + t_end) / 2.0, t_end], axis=1)
-        run(r, j, dd, tt, np.full(r.size, 3))
+        run(r, j, dd, tt, np.full(r.size, 3), _straight_clutter(clutter, r, j))
     if kernel:
-        _kernel_fields(out, d, t, n, mast_m, node_mast_m, settings, overrides, fast, coordinates)
+        _kernel_fields(out, d, t, n, mast_m, node_mast_m, settings, overrides, fast, coordinates, clutter)
     elif fast:
         _fresnel_only(out, d, t, n, mast_m, node_mast_m, settings)
     else:
@@ -204,11 +211,48 @@ def radial_fields(distance_m, terrain_m, n, mast_m, node_mast_m, settings, overr
             mask = (jj >= j0) & (jj < j1)
             if mask.any():
                 r, j = rr[mask], jj[mask]
-                run(r, j, d[r, :j1], t[r, :j1], j + 1)
+                cc = None if clutter is None else {k: v[r, :j1] for k, v in clutter.items()}
+                run(r, j, d[r, :j1], t[r, :j1], j + 1, cc)
     first = n >= 2
     for band in out:
         out[band][first, 0] = out[band][first, 1]
     out["recommended_dr"] = np.where(out["recommended_dr"] >= 0, out["recommended_dr"], np.nan)
+    return _probability(out, settings)
+
+
+def _straight_clutter(clutter, r, j):
+    """The land cover of the three-sample links to sample 1: the two ends' values, no clutter at the midpoint."""
+    if clutter is None:
+        return None
+    c, k = clutter["clutter_m"], clutter["clutter_class"]
+    return {"clutter_m": np.stack([c[r, 0], np.zeros(r.size), c[r, j]], axis=1),
+            "clutter_class": np.stack([k[r, 0], np.full(r.size, -1), k[r, j]], axis=1)}
+
+
+def _probability(out, settings) -> dict:
+    """``probability_heard`` from the margins, the location term, σL and the building entry loss (fills ``out``).
+
+    The margin at 50 % of locations is the run's margin plus the location
+    term (and, indoors, plus the building entry loss, whose distribution
+    :func:`profiler.engine.probability.indoor_probability` integrates over).
+    """
+    from ...engine.probability import indoor_probability, outdoor_probability
+
+    prop = settings.radio.propagation
+    fade = settings.radio.fade_margin_db
+    location, bel = out.pop("location_term_db"), out.pop("building_entry_loss_db")
+    elevation = out.pop("elevation_b_deg")
+    median = out["margin_db"] + location
+    sigma = out["location_sigma_db"]
+    if prop.indoor_b is None:
+        out["probability_heard"] = outdoor_probability(median, fade, sigma)
+        return out
+    ok = np.isfinite(median) & np.isfinite(elevation)
+    p = np.full(median.shape, np.nan)
+    p[ok] = indoor_probability(median[ok] + bel[ok], fade, sigma[ok], settings.frequency_mhz * 1e-3, elevation[ok],
+                               prop.indoor_b)
+    out["probability_heard"] = p
+    out["building_entry_loss_db"] = bel
     return out
 
 
@@ -230,23 +274,29 @@ def _fresnel_only(out, d, t, n, mast_m, node_mast_m, settings) -> None:
             out["worst_fresnel_ratio"][r, j] = g.worst_ratio
 
 
-def _paths(coordinates, rr, jj):
-    """The ``paths`` of :func:`profiler.engine.links.link_fields` for the links to samples ``jj`` of radials ``rr``."""
-    if coordinates is None:
-        return None
-    return {"lat_a_deg": np.full(rr.size, coordinates["lat_a_deg"]),
-            "lon_a_deg": np.full(rr.size, coordinates["lon_a_deg"]),
-            "lat_b_deg": coordinates["lat_b_deg"][rr, jj], "lon_b_deg": coordinates["lon_b_deg"][rr, jj]}
+def _paths(coordinates, rr, jj, clutter=None):
+    """The ``paths`` of :func:`profiler.engine.links.link_fields` for the links to samples ``jj`` of radials ``rr``.
+
+    ``clutter``: the links' own (L, N') land-cover columns, when there are any.
+    """
+    paths = {} if clutter is None else dict(clutter)
+    if coordinates is not None:
+        paths.update(lat_a_deg=np.full(rr.size, coordinates["lat_a_deg"]),
+                     lon_a_deg=np.full(rr.size, coordinates["lon_a_deg"]),
+                     lat_b_deg=coordinates["lat_b_deg"][rr, jj], lon_b_deg=coordinates["lon_b_deg"][rr, jj])
+    return paths or None
 
 
-def _kernel_fields(out, d, t, n, mast_m, node_mast_m, settings, overrides, fast, coordinates=None) -> None:
+def _kernel_fields(out, d, t, n, mast_m, node_mast_m, settings, overrides, fast, coordinates=None,
+                   clutter=None) -> None:
     """Links to samples 2 .. n - 1 of every radial: the kernel's reductions, then the numpy finish (fills ``out``).
 
     ``--model terrain``: the delta-Bullington reductions of
     :mod:`profiler.propagation.prefix_kernel`; ``--model p1812``: those of
     :class:`profiler.propagation.p1812.prefix.PrefixReducer` (horizons,
     roughness and both delta-Bullington passes) through
-    :func:`profiler.propagation.p1812.reductions.p1812_reductions`.
+    :func:`profiler.propagation.p1812.reductions.p1812_reductions`, with the
+    land cover's R (``clutter``) on the interior points of every prefix.
     """
     from ...engine.links import link_fields
     from ...propagation import prefix_kernel
@@ -264,7 +314,8 @@ def _kernel_fields(out, d, t, n, mast_m, node_mast_m, settings, overrides, fast,
     h_a, h_b = site[rr], node[rr, jj]
     if fast:   # no diffraction: the budget needs the length and the worst ratio only
         _store(out, rr, jj, link_fields(None, None, None, h_a, h_b, settings, _overrides(overrides, rr.size),
-                                        reduced={"length_m": d[rr, jj], "worst_ratio": worst[rr, jj]}))
+                                        reduced={"length_m": d[rr, jj], "worst_ratio": worst[rr, jj]}),
+               settings, node_mast_m)
         return
     d_km = d * 1e-3
     prop = settings.radio.propagation
@@ -273,7 +324,7 @@ def _kernel_fields(out, d, t, n, mast_m, node_mast_m, settings, overrides, fast,
         from ...propagation.p1812 import p1812_reductions
         from ...propagation.p1812.prefix import PrefixReducer
 
-        reducer = PrefixReducer(d_km, t, n, rr, jj)
+        reducer = PrefixReducer(d_km, t, n, rr, jj, None if clutter is None else clutter["clutter_m"])
         reduced = {"p1812": p1812_reductions(reducer, h_a - reducer.h_first_m, h_b - reducer.h_last_m,
                                              p1812_delta_n(prop, ae), prop.time_percent, informative=False)}
     else:
@@ -281,12 +332,33 @@ def _kernel_fields(out, d, t, n, mast_m, node_mast_m, settings, overrides, fast,
         reduced = diffraction_reductions(reduce, d_km[rr, jj], t[rr, 0], t[rr, jj], h_a, h_b)
     reduced.update(length_m=d[rr, jj], worst_ratio=worst[rr, jj])
     _store(out, rr, jj, link_fields(None, None, None, h_a, h_b, settings, _overrides(overrides, rr.size),
-                                    reduced=reduced, paths=_paths(coordinates, rr, jj)))
+                                    reduced=reduced, paths=_paths(coordinates, rr, jj)), settings, node_mast_m)
 
 
-def _store(out, rr, jj, res) -> None:
+def _store(out, rr, jj, res, settings, node_mast_m) -> None:
+    """One batch of links into the radial arrays: the bands, and what the probability needs from the loss block.
+
+    σL at the node: P.1812-8's own (``--model p1812``), else the same
+    section 4.7 value (or ``--location-sigma-db``) with u(h) of the node's
+    antenna height and R (:func:`profiler.engine.losses.node_location_sigma_db`).
+    """
+    from ...engine.losses import node_location_sigma_db
+
     for band, key in _FIELDS.items():
         out[band][rr, jj] = res[key]
+    loss = res["loss_db"]
+    ends = loss["terminals"]["ends"]["b"]
+    if loss["p1812"] is not None:
+        sigma = loss["p1812"]["location_sigma_db"]
+    else:
+        r_node = ends["clutter_height_m"]
+        sigma = node_location_sigma_db(settings.radio.propagation, settings.frequency_mhz,
+                                       np.full(rr.size, float(node_mast_m)), np.where(np.isfinite(r_node), r_node, 0.0),
+                                       np.zeros(rr.size, dtype=bool))
+    out["location_sigma_db"][rr, jj] = sigma
+    out["location_term_db"][rr, jj] = loss["location"]
+    out["building_entry_loss_db"][rr, jj] = loss["building_entry_b"]
+    out["elevation_b_deg"][rr, jj] = loss["terminals"]["elevation_angle_b_deg"]
 
 
 # --------------------------------------------------------------------------- radials

@@ -21,9 +21,15 @@ reductions of all those links at once:
 There is no physics in this module: every per-sample term is a function of
 :mod:`profiler.propagation.p1812.geometry` or
 :mod:`profiler.propagation.diffraction_batch` (the ones the numpy reducer
-uses), compiled by ``numba.njit``.  A coverage run has no clutter and no
-zones: every sample is inland (ω = 0, dtm = dlm = d, P.1812-8 Table 2) and
-the representative clutter heights are 0.
+uses), compiled by ``numba.njit``.  A coverage run has no zones: every
+sample is inland (ω = 0, dtm = dlm = d, P.1812-8 Table 2).  With a land
+cover the representative clutter height R of every sample is added to the
+interior points of each link for the delta-Bullington pass over the actual
+profile (g = h + R, P.1812-8 section 3.2); the horizons, the roughness and
+the smooth surface are those of the terrain, as in
+:class:`~profiler.propagation.p1812.reductions.ProfileReducer`.  A link's
+interior points are samples ``1 .. j - 1``, so its node sample ``j`` never
+carries clutter into its own path.
 
 References
 ----------
@@ -114,11 +120,14 @@ class PrefixReducer(Reducer):
         Samples per radial (a count).
     rr, jj : ndarray of int, shape (L,)
         Radial and node sample of every link (``2 <= jj < n[rr]``).
+    clutter_m : ndarray, shape (R, N), optional
+        Representative clutter height R of every sample [m] (NaN: 0; default none).
     """
 
-    def __init__(self, distance_km, height_m, n, rr, jj):
+    def __init__(self, distance_km, height_m, n, rr, jj, clutter_m=None):
         self.d = np.ascontiguousarray(distance_km, dtype=float)
         self.h = np.ascontiguousarray(height_m, dtype=float)
+        self.r = None if clutter_m is None else np.where(np.isfinite(clutter_m), clutter_m, 0.0)
         self.n, self.rr, self.jj = np.asarray(n, dtype=np.int64), np.asarray(rr), np.asarray(jj)
         self.d_total_km = self.d[self.rr, self.jj]
         self.h_first_m, self.h_last_m = self.h[self.rr, 0], self.h[self.rr, self.jj]
@@ -159,7 +168,13 @@ class PrefixReducer(Reducer):
 
     def terminals(self):
         zero, land = np.zeros(self.d_total_km.shape), np.zeros(self.d_total_km.shape, dtype=bool)
-        return {"r2_m": zero, "rn1_m": zero, "clutter_t_m": zero, "clutter_r_m": zero, "sea_t": land, "sea_r": land}
+        if self.r is None:
+            return {"r2_m": zero, "rn1_m": zero, "clutter_t_m": zero, "clutter_r_m": zero, "sea_t": land,
+                    "sea_r": land}
+        r, rr, jj = self.r, self.rr, self.jj
+        return {"r2_m": r[rr, 1], "rn1_m": r[rr, jj - 1], "clutter_t_m": r[rr, 0], "clutter_r_m": r[rr, jj],
+                "sea_t": land, "sea_r": land}
 
     def bullington(self, ae_km):
-        return prefix_kernel.prefix_reduce(self.d, self.h, self.n, self.rr, self.jj, float(ae_km))
+        g = None if self.r is None else self.h + self.r   # interior points only: the kernel reads i = 1 .. j - 1
+        return prefix_kernel.prefix_reduce(self.d, self.h, self.n, self.rr, self.jj, float(ae_km), g)
