@@ -189,7 +189,7 @@ def test_cli_land_cover_and_probability_map(tmp_path):
                                     "--plot", str(png), "--no-progress"])
     assert res.exit_code == 0, res.output
     report = json.loads(out_json.read_text())
-    assert report["schema"] == "profiler.coverage/4"
+    assert report["schema"] == "profiler.coverage/5"
     assert report["settings"]["land_cover"] == [str(LAND_COVER)]
     assert {"heard_at_location_percent", "mean_probability_heard", "land_cover_classes"} <= set(report["summary"])
     assert png.stat().st_size > 10_000
