@@ -1,17 +1,19 @@
-"""Gateway siting over a network report: margin matrix, ``profiler.siting/2`` report, CSV and GeoJSON.
+"""Gateway siting over a network report: margin matrix, ``profiler.siting/3`` report, CSV and GeoJSON.
 
-The network engine's report (``profiler.network/3``) gives ``sites[]``
+The network engine's report (``profiler.network/4``) gives ``sites[]``
 (``name, lat_deg, lon_deg, mast_m, role, ground_m``; role ``gateway`` =
 existing, always kept; ``candidate`` = may get a gateway; ``node`` = must be
 heard; an optional ``cost`` on candidates) and ``links[]`` (``gateway,
 node, margin_db`` (uplink, node -> gateway, at ``recommended_dr``),
 ``recommended_dr`` (null: no allowed data rate closes), ``error``,
 ``line_of_sight``, ``fresnel_clear``, ``worst_fresnel_ratio``,
-``worst_distance_m`` (from the gateway), ``diffraction_db``, ...).
+``worst_distance_m`` (from the gateway), ``diffraction_db``,
+``probability_heard``, ...).
 
 A node is heard by a site when their link has no error, an allowed data
-rate closes (``recommended_dr`` not null) and ``margin_db >=
-min_margin_db``.  :func:`siting_from_network` builds the matrices, solves
+rate closes (``recommended_dr`` not null) and ``probability_heard >=
+min_probability`` (and ``margin_db >= min_margin_db`` when that is given;
+:func:`hearing_rule`).  :func:`siting_from_network` builds the matrices, solves
 with :func:`profiler.products.siting.setcover.solve_siting` and returns the JSON report.
 
 References
@@ -37,12 +39,13 @@ from ...io.exports import geojson_position, geojson_positions, split_at_antimeri
 from ...io.report import format_cell, inert_text
 from .setcover import hearing_matrix, solve_siting
 
-__all__ = ["SCHEMA", "SitingResult", "MarginMatrix", "margin_matrix", "site_costs", "siting_from_network",
+__all__ = ["SCHEMA", "SitingResult", "MarginMatrix", "margin_matrix", "hearing_rule", "site_costs",
+           "siting_from_network",
            "siting_report", "siting_csv_text", "siting_geojson_dict", "siting_geojson_text", "siting_kml_text"]
 
-SCHEMA = "profiler.siting/2"
+SCHEMA = "profiler.siting/3"
 #: The ``settings`` keys copied from the network report the sites were chosen over: the propagation
-#: model, its percentages and the diffraction method (``profiler.siting/2``).
+#: model, its percentages and the diffraction method (``profiler.siting/3``).
 SETTINGS_KEYS = ("model", "time_percent", "location_percent", "diffraction_method")
 
 #: Roles on the gateway-site axis; ``gateway`` sites are fixed open.
@@ -56,7 +59,9 @@ class MarginMatrix(NamedTuple):
     of ``sites[]``; ``node_names``: the nodes; ``margin_db``: uplink margin
     [dB], NaN where there is no link, it failed or has no margin;
     ``allowed``: no error, finite margin and a recommended data rate;
-    ``link_index``: the row of ``links[]`` behind each cell (-1: no link).
+    ``link_index``: the row of ``links[]`` behind each cell (-1: no link);
+    ``probability``: the cell's link ``probability_heard`` [-] (NaN none),
+    or None when the links carry none (a report before ``profiler.network/4``).
     """
 
     site_names: list
@@ -65,13 +70,14 @@ class MarginMatrix(NamedTuple):
     allowed: np.ndarray
     link_index: np.ndarray
     site_roles: list
+    probability: np.ndarray | None = None
 
 
 @dataclass(frozen=True)
 class SitingResult:
-    """The answer of :func:`profiler.siting`: :meth:`to_dict` is the ``profiler.siting/2`` JSON report.
+    """The answer of :func:`profiler.siting`: :meth:`to_dict` is the ``profiler.siting/3`` JSON report.
 
-    ``network`` is the ``profiler.network/3`` report the choice was made
+    ``network`` is the ``profiler.network/4`` report the choice was made
     over (every gateway and candidate site to every node); the sheet and the
     GeoJSON/KML exports draw the sites and links from it.  The headline
     values are read-only views of the report.
@@ -81,7 +87,7 @@ class SitingResult:
     network: dict
 
     def to_dict(self) -> dict:
-        """The ``profiler.siting/2`` report (a plain dict, no NaN)."""
+        """The ``profiler.siting/3`` report (a plain dict, no NaN)."""
         return self.report
 
     chosen = property(lambda self: list(self.report["chosen"]),
@@ -156,7 +162,40 @@ def margin_matrix(network_report: dict) -> MarginMatrix:
     margin_db[gi[keep], ni[keep]] = margin[keep]
     allowed[gi[keep], ni[keep]] = ok[keep]
     link_index[gi[keep], ni[keep]] = keep
-    return MarginMatrix(site_names, node_names, margin_db, allowed, link_index, site_roles)
+    probability = None
+    if links and "probability_heard" in links[0]:
+        p = np.array([np.nan if lk.get("probability_heard") is None else lk["probability_heard"] for lk in links],
+                     dtype=float)
+        probability = np.full((m, n), np.nan)
+        probability[gi[keep], ni[keep]] = p[keep]
+    return MarginMatrix(site_names, node_names, margin_db, allowed, link_index, site_roles, probability)
+
+
+def hearing_rule(network_report: dict, matrix: MarginMatrix, min_margin_db, min_probability):
+    """The rule a site hears a node by: ``(hears, min_margin_db, min_probability)``.
+
+    With the links' ``probability_heard``: an allowed data rate closes and
+    the probability reaches ``min_probability`` (default the network's
+    ``settings.min_probability``, else the location percentage / 100); the
+    margin rule only when ``min_margin_db`` is given.  Without it (an older
+    report): the margin rule, ``min_margin_db`` defaulting to the fade margin.
+    """
+    from ...limits import check
+
+    settings = network_report.get("settings") or {}
+    if matrix.probability is None:
+        margin = float(network_report.get("fade_margin_db", 0.0) if min_margin_db is None else min_margin_db)
+        return hearing_matrix(matrix.margin_db, matrix.allowed, margin), margin, None
+    if min_probability is None:
+        min_probability = settings.get("min_probability")
+    if min_probability is None:
+        min_probability = float(settings.get("location_percent", 50.0)) / 100.0
+    p_min = float(check("--min-probability", min_probability))
+    with np.errstate(invalid="ignore"):
+        hears = matrix.allowed & (matrix.probability >= p_min)
+    if min_margin_db is not None:
+        hears &= hearing_matrix(matrix.margin_db, matrix.allowed, min_margin_db)
+    return hears, None if min_margin_db is None else float(min_margin_db), p_min
 
 
 def site_costs(network_report: dict, matrix: MarginMatrix, costs: dict | None = None) -> np.ndarray:
@@ -186,32 +225,34 @@ def site_costs(network_report: dict, matrix: MarginMatrix, costs: dict | None = 
     return out
 
 
-def siting_from_network(network_report: dict, *, min_margin_db: float, redundancy: int = 1,
+def siting_from_network(network_report: dict, *, min_margin_db: float | None = None, redundancy: int = 1,
                         max_gateways: int | None = None, time_limit_s: float = 60.0,
-                        costs: dict | None = None) -> dict:
-    """Solve the siting problem over a network report and return the ``profiler.siting/2`` report.
+                        costs: dict | None = None, min_probability: float | None = None) -> dict:
+    """Solve the siting problem over a network report and return the ``profiler.siting/3`` report.
 
     Parameters
     ----------
     network_report : dict
-        The network engine's report (``profiler.network/3``), links from
+        The network engine's report (``profiler.network/4``), links from
         every gateway and candidate site to the nodes.
-    min_margin_db : float
-        Least uplink margin for a node to count as heard [dB]; the command
-        passes ``--min-margin-db`` or, by default, the fade margin.
+    min_margin_db : float, optional
+        Least uplink margin for a node to count as heard [dB] (``--min-margin-db``);
+        :func:`hearing_rule` says when it applies.
+    min_probability : float, optional
+        Least ``probability_heard`` [-] (:func:`hearing_rule`).
     redundancy, max_gateways, time_limit_s
         As in :func:`profiler.products.siting.setcover.solve_siting`.
     costs : dict, optional
         ``site name -> cost`` overriding the sites' ``cost`` fields.
     """
     matrix = margin_matrix(network_report)
-    hears = hearing_matrix(matrix.margin_db, matrix.allowed, min_margin_db)
+    hears, min_margin_db, min_probability = hearing_rule(network_report, matrix, min_margin_db, min_probability)
     cost = site_costs(network_report, matrix, costs)
     fixed = np.array([role == "gateway" for role in matrix.site_roles], dtype=bool)
     solution = solve_siting(hears, cost=cost, fixed=fixed, redundancy=redundancy, max_gateways=max_gateways,
                             margin_db=np.where(hears, matrix.margin_db, np.nan), time_limit_s=time_limit_s)
     return siting_report(network_report, matrix, hears, solution, cost=cost, min_margin_db=min_margin_db,
-                         redundancy=redundancy, max_gateways=max_gateways, time_limit_s=time_limit_s)
+                         min_probability=min_probability, redundancy=redundancy, max_gateways=max_gateways, time_limit_s=time_limit_s)
 
 
 # --------------------------------------------------------------------------- report
@@ -245,7 +286,7 @@ def _obstruction_text(link: dict) -> str:
     return f"path clear; free-space loss{span} limits the budget{loss}"
 
 
-def _unreachable_reason(k, links, matrix, hears, min_margin_db, redundancy) -> tuple[str, object]:
+def _unreachable_reason(k, links, matrix, hears, need, redundancy) -> tuple[str, object]:
     """Reason for node ``k`` and the best margin over all sites."""
     names = matrix.site_names
     heard = np.flatnonzero(hears[:, k])
@@ -263,7 +304,8 @@ def _unreachable_reason(k, links, matrix, hears, min_margin_db, redundancy) -> t
         # margin is not negative, so only then is "no allowed data rate closes" true.
         dr = ", no allowed data rate closes" if link.get("recommended_dr") is None and margin[j] < 0 else ""
         label = "next best" if heard.size else "best"
-        parts.append(f"{label} margin {margin[j]:.1f} dB from {names[j]} (needs {min_margin_db:.1f} dB{dr})")
+        heard_p = "" if matrix.probability is None else f", P(heard) {matrix.probability[j, k]:.2f}"
+        parts.append(f"{label} margin {margin[j]:.1f} dB{heard_p} from {names[j]} (needs {need}{dr})")
         parts.append(_obstruction_text(link))
     else:
         failed = matrix.link_index[:, k][matrix.link_index[:, k] >= 0]
@@ -301,9 +343,10 @@ def _node_rows(links, matrix, hears, solution, is_open) -> list[dict]:
     return rows
 
 
-def siting_report(network_report: dict, matrix: MarginMatrix, hears, solution, *, cost, min_margin_db: float,
-                  redundancy: int, max_gateways: int | None, time_limit_s: float) -> dict:
-    """The ``profiler.siting/2`` JSON report (a plain dict, no NaN).
+def siting_report(network_report: dict, matrix: MarginMatrix, hears, solution, *, cost, min_margin_db,
+                  redundancy: int, max_gateways: int | None, time_limit_s: float,
+                  min_probability: float | None = None) -> dict:
+    """The ``profiler.siting/3`` JSON report (a plain dict, no NaN).
 
     Parameters
     ----------
@@ -317,8 +360,8 @@ def siting_report(network_report: dict, matrix: MarginMatrix, hears, solution, *
     solution : profiler.siting.SitingSolution
     cost : ndarray
         Cost of each gateway site (0 for existing gateways).
-    min_margin_db, redundancy, max_gateways, time_limit_s
-        The settings used (recorded in the report).
+    min_margin_db, min_probability, redundancy, max_gateways, time_limit_s
+        The settings used (recorded in the report; None: that rule not applied).
     """
     _, links = _sites_and_links(network_report)
     names = matrix.site_names
@@ -327,7 +370,8 @@ def siting_report(network_report: dict, matrix: MarginMatrix, hears, solution, *
     heard_counts = hears.sum(axis=1)
     unreachable = []
     for k in solution.unreachable:                              # one per unreachable node (output)
-        reason, best = _unreachable_reason(int(k), links, matrix, hears, float(min_margin_db), redundancy)
+        reason, best = _unreachable_reason(int(k), links, matrix, hears, need_text(min_margin_db, min_probability),
+                                           redundancy)
         unreachable.append({"name": matrix.node_names[k], "best_margin_db": _round(best), "reason": reason})
     nodes = _node_rows(links, matrix, hears, solution, is_open)
     min_cost = solution.mode == "min_cost"
@@ -362,12 +406,21 @@ def siting_report(network_report: dict, matrix: MarginMatrix, hears, solution, *
             "candidates_opened": int((is_open & (cost > 0)).sum()),
             "cost_total": float(cost[is_open].sum()), "redundancy": int(redundancy),
         },
-        "redundancy": int(redundancy), "min_margin_db": float(min_margin_db),
+        "redundancy": int(redundancy), "min_margin_db": None if min_margin_db is None else float(min_margin_db),
+        "min_probability": None if min_probability is None else float(min_probability),
         "max_gateways": None if max_gateways is None else int(max_gateways), "time_limit_s": float(time_limit_s),
         "band": network_report.get("band"), "frequency_mhz": network_report.get("frequency_mhz"),
         "settings": {key: (network_report.get("settings") or {}).get(key) for key in SETTINGS_KEYS},
         "dem": network_report.get("dem"), "warnings": warnings, "caution": CAUTION,
     }
+
+
+def need_text(min_margin_db, min_probability) -> str:
+    """The hearing rule in words: "P(heard) >= 0.95", "7.0 dB" or both."""
+    parts = [] if min_probability is None else [f"P(heard) >= {min_probability:.2f}"]
+    if min_margin_db is not None:
+        parts.append(f"{min_margin_db:.1f} dB")
+    return " and ".join(parts)
 
 
 # --------------------------------------------------------------------------- CSV
@@ -405,7 +458,7 @@ def siting_csv_text(report: dict) -> str:
                *[(key, s[key]) for key in ("nodes_total", "nodes_heard", "nodes_unreachable", "sites_chosen",
                                            "cost_total")],
                ("redundancy", report["redundancy"]), ("min_margin_db", report["min_margin_db"]),
-               ("max_gateways", report["max_gateways"]), ("time_limit_s", report["time_limit_s"]),
+               ("min_probability", report.get("min_probability")), ("max_gateways", report["max_gateways"]), ("time_limit_s", report["time_limit_s"]),
                ("caution", CAUTION)]
     w.writerows([["# " + key, _cell(value)] for key, value in summary])
     return buf.getvalue()
