@@ -150,7 +150,7 @@ def test_siting_to_dict_is_the_command_json():
     result = profiler.siting(SITES, dem=[DEM_PATH], redundancy=2, progress=False)
     cli = cli_json("siting", "--dem", DEM_PATH, "--sites", SITES, "--redundancy", 2, "--no-progress")
     assert same_json(result) == cli
-    assert result.network["schema"] == "profiler.network/3" and cli["schema"] == "profiler.siting/2"
+    assert result.network["schema"] == "profiler.network/4" and cli["schema"] == "profiler.siting/3"
 
 
 def test_coverage_to_dict_is_the_command_json():

@@ -252,7 +252,7 @@ def test_network_says_once_that_low_nodes_without_land_cover_are_optimistic(tmp_
 def test_siting_takes_the_land_cover(tmp_path):
     siting = report_of("siting", "--sites", sites_file(tmp_path), "--dem", DEM, "--land-cover", COVER,
                        "--no-progress")
-    assert siting["schema"] == "profiler.siting/2" and siting["summary"]["nodes_total"] == 3
+    assert siting["schema"] == "profiler.siting/3" and siting["summary"]["nodes_total"] == 3
 
 
 def test_api_keywords_match_the_command(tmp_path):

@@ -243,7 +243,7 @@ def test_siting_report_settings_and_sheet(networks, model):
 
     net = networks[model]
     rep = siting_from_network(net, min_margin_db=net["fade_margin_db"], redundancy=1)
-    assert rep["schema"] == "profiler.siting/2"
+    assert rep["schema"] == "profiler.siting/3"
     assert rep["settings"] == {key: net["settings"][key] for key in ("model", "time_percent", "location_percent",
                                                                      "diffraction_method")}
     for paper in PAPERS:

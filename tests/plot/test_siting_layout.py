@@ -1,7 +1,7 @@
 """The siting sheet: its layout audited from matplotlib's own text extents, its counts equal to the JSON's.
 
 Check values: the layout from the renderer (``profiler.plot.audit.layout_problems``: every text inside the
-frame and its box, none overlapping, none ellipsized); the counts from the ``profiler.siting/2`` report drawn
+frame and its box, none overlapping, none ellipsized); the counts from the ``profiler.siting/3`` report drawn
 (summary, chosen[], unreachable[], nodes[].heard_by) and the links from the GeoJSON export beside it.
 """
 
@@ -107,7 +107,7 @@ def test_siting_sheet_counts_equal_the_json(sheets, case):
     assert f"Chosen sites ({len(rep['chosen'])}), total cost {s['cost_total']:g}" in texts
     assert f"Unreachable nodes ({len(rep['unreachable'])})" in texts
     assert any(t.startswith("Gateway siting: ") for t in texts) and "Network map" not in joined
-    assert "report profiler.siting/2" in joined and "profiler.network/" not in joined
+    assert "report profiler.siting/3" in joined and "profiler.network/" not in joined
     assert "covered" not in joined.lower()
     for word in ("optimal", "greedy", "redundancy"):
         assert word in joined.lower(), word
@@ -174,10 +174,9 @@ def test_api_siting_returns_a_result_like_network(networks):
     res = profiler.siting(str(SITES), dem=DEM, redundancy=3, progress=False)
     assert not isinstance(res, dict)
     rep = res.to_dict()
-    assert rep["schema"] == "profiler.siting/2"
-    assert rep == siting_from_network(networks["short"], min_margin_db=networks["short"]["fade_margin_db"],
-                                      redundancy=3)
-    assert res.network["schema"] == "profiler.network/3"
+    assert rep["schema"] == "profiler.siting/3"
+    assert rep == siting_from_network(networks["short"], redundancy=3)
+    assert res.network["schema"] == "profiler.network/4"
     assert (res.chosen, res.objective, res.proven_optimal, res.gap) == (rep["chosen"], rep["objective"],
                                                                         rep["proven_optimal"], rep["gap"])
     assert res.greedy == rep["greedy"] and res.unreachable == rep["unreachable"] and res.summary == rep["summary"]

@@ -94,7 +94,7 @@ def test_distances_and_azimuths_against_geographiclib(tmp_path):
 
 def test_contract_nodes_and_summary(tmp_path):
     report = net_json("--dem", SAMPLE, "--sites", random_sites(tmp_path, 12), "--fill-voids")
-    assert report["schema"] == "profiler.network/3"
+    assert report["schema"] == "profiler.network/4"
     assert {"sites", "links", "nodes", "summary", "band", "frequency_mhz", "k_factor", "dem", "warnings",
             "caution"} <= set(report)
     assert LINK_KEYS <= set(report["links"][0])
@@ -202,7 +202,7 @@ def test_siting_command_on_the_sample_scenario(tmp_path):
               "--csv", tmp_path / "siting.csv", "--geojson", tmp_path / "siting.geojson")
     assert res.exit_code == 0, res.output
     rep = json.loads(out.read_text())
-    assert rep["schema"] == "profiler.siting/2" and rep["proven_optimal"] is True
+    assert rep["schema"] == "profiler.siting/3" and rep["proven_optimal"] is True
     assert rep["objective"] <= rep["greedy"]["objective"]
     net = net_json("--dem", SAMPLE, "--sites", sites)
     chosen = set(rep["chosen"])
@@ -248,7 +248,7 @@ def test_existing_gateways_and_candidates_are_counted_apart(tmp_path):
               "--csv", out["csv"], "--plot", tmp_path / "net.png", "--dpi", 50, "--links", "all")
     assert res.exit_code == 0, res.output
     report = json.loads(out["json"].read_text())
-    assert report["schema"] == "profiler.network/3"
+    assert report["schema"] == "profiler.network/4"
     role = {s["name"]: s["role"] for s in report["sites"]}
     fade = report["fade_margin_db"]
     for node in report["nodes"]:
