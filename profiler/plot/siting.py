@@ -319,7 +319,7 @@ def _solution_rows(siting: dict, served) -> list[tuple[str, str]]:
             ("Optimal", proof),
             ("Greedy", f"objective {greedy.get('objective', 0):g} ({'same' if same else 'other'} sites)"),
             ("Redundancy", f"{r} chosen site{'s' if r > 1 else ''} per node asked"),
-            ("Heard when", _rule_text(siting))]
+            ("Heard when", _rule_text(siting).removeprefix("heard: "))]
     if siting.get("max_gateways") is not None:
         rows.append(("At most", f"{siting['max_gateways']} sites"))
     rows += [("Sites chosen", f"{s.get('sites_chosen', 0)} of {len(siting.get('sites') or [])}, "
