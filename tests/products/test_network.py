@@ -242,8 +242,9 @@ def test_network_outputs_are_all_or_nothing_and_text_safe(tmp_path):
 def test_existing_gateways_and_candidates_are_counted_apart(tmp_path):
     # The sample scenario (2 existing gateways, 4 candidate sites, 40 nodes, the water meters indoors with
     # a meter-pit loss): the two gateways hear 35 nodes, the candidates add the other 5.  A node is heard
-    # when its link's probability_heard reaches settings.min_probability (the location percentage / 100).  Every per-node field is recounted here from links[] and the
-    # sites' roles (independent of the aggregation code); the CSV carries the JSON's link values.
+    # when its link's probability_heard reaches settings.min_probability (the location percentage / 100).
+    # Every per-node field is recounted here from links[] and the sites' roles (independent of the
+    # aggregation code); the CSV carries the JSON's link values.
     out = {k: tmp_path / f"net.{k}" for k in ("json", "csv")}
     res = run("network", "--dem", SAMPLE, "--sites", EXAMPLE_SITES, "--no-progress", "--json", out["json"],
               "--csv", out["csv"], "--plot", tmp_path / "net.png", "--dpi", 50, "--links", "all")

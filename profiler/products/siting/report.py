@@ -252,7 +252,8 @@ def siting_from_network(network_report: dict, *, min_margin_db: float | None = N
     solution = solve_siting(hears, cost=cost, fixed=fixed, redundancy=redundancy, max_gateways=max_gateways,
                             margin_db=np.where(hears, matrix.margin_db, np.nan), time_limit_s=time_limit_s)
     return siting_report(network_report, matrix, hears, solution, cost=cost, min_margin_db=min_margin_db,
-                         min_probability=min_probability, redundancy=redundancy, max_gateways=max_gateways, time_limit_s=time_limit_s)
+                         min_probability=min_probability, redundancy=redundancy, max_gateways=max_gateways,
+                         time_limit_s=time_limit_s)
 
 
 # --------------------------------------------------------------------------- report
@@ -458,7 +459,8 @@ def siting_csv_text(report: dict) -> str:
                *[(key, s[key]) for key in ("nodes_total", "nodes_heard", "nodes_unreachable", "sites_chosen",
                                            "cost_total")],
                ("redundancy", report["redundancy"]), ("min_margin_db", report["min_margin_db"]),
-               ("min_probability", report.get("min_probability")), ("max_gateways", report["max_gateways"]), ("time_limit_s", report["time_limit_s"]),
+               ("min_probability", report.get("min_probability")), ("max_gateways", report["max_gateways"]),
+               ("time_limit_s", report["time_limit_s"]),
                ("caution", CAUTION)]
     w.writerows([["# " + key, _cell(value)] for key, value in summary])
     return buf.getvalue()
