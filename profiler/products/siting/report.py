@@ -37,7 +37,7 @@ from ...about import CAUTION, __version__
 from ...errors import ProfilerError
 from ...io.exports import geojson_position, geojson_positions, split_at_antimeridian, wrap_longitude
 from ...io.report import format_cell, inert_text
-from .setcover import hearing_matrix, solve_siting
+from .setcover import hearing_rule, solve_siting
 
 __all__ = ["SCHEMA", "SitingResult", "MarginMatrix", "margin_matrix", "hearing_rule", "site_costs",
            "siting_from_network",
@@ -169,33 +169,6 @@ def margin_matrix(network_report: dict) -> MarginMatrix:
         probability = np.full((m, n), np.nan)
         probability[gi[keep], ni[keep]] = p[keep]
     return MarginMatrix(site_names, node_names, margin_db, allowed, link_index, site_roles, probability)
-
-
-def hearing_rule(network_report: dict, matrix: MarginMatrix, min_margin_db, min_probability):
-    """The rule a site hears a node by: ``(hears, min_margin_db, min_probability)``.
-
-    With the links' ``probability_heard``: an allowed data rate closes and
-    the probability reaches ``min_probability`` (default the network's
-    ``settings.min_probability``, else the location percentage / 100); the
-    margin rule only when ``min_margin_db`` is given.  Without it (an older
-    report): the margin rule, ``min_margin_db`` defaulting to the fade margin.
-    """
-    from ...limits import check
-
-    settings = network_report.get("settings") or {}
-    if matrix.probability is None:
-        margin = float(network_report.get("fade_margin_db", 0.0) if min_margin_db is None else min_margin_db)
-        return hearing_matrix(matrix.margin_db, matrix.allowed, margin), margin, None
-    if min_probability is None:
-        min_probability = settings.get("min_probability")
-    if min_probability is None:
-        min_probability = float(settings.get("location_percent", 50.0)) / 100.0
-    p_min = float(check("--min-probability", min_probability))
-    with np.errstate(invalid="ignore"):
-        hears = matrix.allowed & (matrix.probability >= p_min)
-    if min_margin_db is not None:
-        hears &= hearing_matrix(matrix.margin_db, matrix.allowed, min_margin_db)
-    return hears, None if min_margin_db is None else float(min_margin_db), p_min
 
 
 def site_costs(network_report: dict, matrix: MarginMatrix, costs: dict | None = None) -> np.ndarray:
