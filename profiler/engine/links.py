@@ -34,7 +34,7 @@ class NetworkSettings:
 
 
 def link_fields(d, terrain, n, h_a, h_b, settings: NetworkSettings, overrides=None, *, wavelength=None,
-                effective_radius=None, reduced=None, paths=None) -> dict:
+                effective_radius=None, reduced=None, paths=None, node_height_m=None) -> dict:
     """Geometry, losses and both budgets of a batch of sampled links (the engine, no sampling).
 
     Parameters
@@ -62,6 +62,10 @@ def link_fields(d, terrain, n, h_a, h_b, settings: NetworkSettings, overrides=No
     paths : dict, optional
         Terminal coordinates (and clutter/zone columns) of the links, which
         ``--model p1812`` needs (:func:`profiler.engine.losses.path_loss_batch`).
+    node_height_m : float or ndarray, optional
+        The node antenna's height above its ground [m], for σL under
+        ``--model terrain`` (:func:`probability_heard`; default: from the
+        profiles, or with ``reduced`` and no profiles u(h) = 1).
 
     Returns
     -------
@@ -96,7 +100,8 @@ def link_fields(d, terrain, n, h_a, h_b, settings: NetworkSettings, overrides=No
            "line_of_sight": los, "fresnel_clear": clear, "diffraction_db": loss["diffraction"],
            "total_loss_db": loss["total"], "rx_level_dbm": up["rx_power_dbm"], "margin_db": margin_up,
            "downlink_margin_db": margin_down, "closes": margin_up >= fade, "downlink_closes": margin_down >= fade,
-           **probability_heard(margin_up, rb, settings, _node_height_m(terrain, n, h_a, h_b, radio))}
+           **probability_heard(margin_up, rb, settings,
+                              _node_height_m(terrain, n, h_a, h_b, radio) if node_height_m is None else node_height_m)}
     if "recommended" in up:
         out["recommended_dr"] = np.where(up["recommended"] >= 0, up["dr"], -1)
         allowed = up["rules"]["allowed"]
@@ -144,7 +149,7 @@ def probability_heard(margin_db, rb, settings: NetworkSettings, node_height_m=No
     node_height_m : ndarray, shape (L,), optional
         Node antenna height above ground [m]; ``--model terrain`` needs it for
         σL (P.1812-8 section 4.7 with u(h) of that height and the node's R;
-        without it, u(h) = 1: the antenna taken above its clutter).
+        without it, u(h) = 1: the antenna taken at its clutter height).
 
     Returns
     -------
@@ -170,7 +175,7 @@ def probability_heard(margin_db, rb, settings: NetworkSettings, node_height_m=No
     else:
         r_node = np.asarray(ends["clutter_height_m"], dtype=float) + np.zeros_like(margin)
         r_node = np.where(np.isfinite(r_node), r_node, 0.0)
-        height = r_node + 1.0 if node_height_m is None else np.asarray(node_height_m, dtype=float)
+        height = r_node if node_height_m is None else np.asarray(node_height_m, dtype=float) + np.zeros_like(margin)
         sigma = node_location_sigma_db(radio.propagation, f_mhz, height, r_node,
                                        np.zeros(margin.shape, dtype=bool))
     median = margin + loss["location"] + loss[f"building_entry_{node}"]

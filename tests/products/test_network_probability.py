@@ -121,3 +121,20 @@ def test_siting_hears_by_the_probability(tmp_path, report):
     rep = json.loads(res.stdout)
     assert rep["schema"] == "profiler.siting/3" and rep["min_probability"] == pytest.approx(0.9)
     assert rep["summary"]["nodes_heard"] == sum(p >= 0.9 for p in probability.values())
+
+
+def test_terrain_model_uses_the_p1812_sigma_of_the_node(tmp_path):
+    # ITU-R P.1812-8 Annex 1 eq. (64): σL = (0.024 f + 0.52) wa^0.28 [dB] (f in GHz, wa = 100 m), times
+    # u(h) of section 4.7 (h = 2 m above ground, R = 0: u = 1 - 2/10).  With --model terrain the loss is
+    # the median (no location term), so P(heard) = Φ((margin - fade) / σL) outdoors.
+    opts = ("--band", "EU868", "--fill-voids", "--model", "terrain")
+    res = run("network", "--dem", SAMPLE, "--sites", _sites(tmp_path), *opts, "--json", "-", "--no-progress")
+    assert res.exit_code == 0, res.output
+    rep = json.loads(res.stdout)
+    f_ghz = rep["frequency_mhz"] * 1e-3
+    sigma = (0.024 * f_ghz + 0.52) * 100.0 ** 0.28 * (1.0 - 2.0 / 10.0)
+    for link in rep["links"]:
+        assert link["location_sigma_db"] == pytest.approx(sigma, rel=1e-9)
+        if link["node"] != "pump indoors":
+            expected = NormalDist().cdf((link["margin_db"] - rep["fade_margin_db"]) / sigma)
+            assert link["probability_heard"] == pytest.approx(expected, abs=1e-9)
