@@ -138,3 +138,16 @@ def test_terrain_model_uses_the_p1812_sigma_of_the_node(tmp_path):
         if link["node"] != "pump indoors":
             expected = NormalDist().cdf((link["margin_db"] - rep["fade_margin_db"]) / sigma)
             assert link["probability_heard"] == pytest.approx(expected, abs=1e-9)
+
+
+def test_a_clear_terrain_path_with_clutter_diffraction_is_not_called_free_space_limited():
+    # Defect: the siting reason said "path clear; free-space loss ... limits the budget, diffraction 37.3 dB"
+    # for a pump whose terrain path is clear but whose land-cover clutter diffracts it.
+    from profiler.products.siting.report import _obstruction_text
+
+    text = _obstruction_text({"line_of_sight": True, "fresnel_clear": True, "worst_fresnel_ratio": 0.9,
+                              "diffraction_db": 37.3, "distance_m": 6210.0})
+    assert "free-space loss" not in text and "clutter" in text and "37.3 dB" in text
+    clear = _obstruction_text({"line_of_sight": True, "fresnel_clear": True, "diffraction_db": 0.0,
+                               "distance_m": 6210.0})
+    assert "free-space loss over 6.21 km" in clear

@@ -182,6 +182,13 @@ def hearing_rule(network_report: dict, matrix, min_margin_db, min_probability):
     return hears, None if min_margin_db is None else float(min_margin_db), p_min
 
 
+def need_text(min_margin_db, min_probability) -> str:
+    """The hearing rule in words: "P(heard) >= 0.95", "7.0 dB" or both."""
+    parts = [] if min_probability is None else [f"P(heard) >= {min_probability:.2f}"]
+    if min_margin_db is not None:
+        parts.append(f"{min_margin_db:.1f} dB")
+    return " and ".join(parts)
+
 # --------------------------------------------------------------------------- input checks
 def _check_inputs(hears, cost, fixed, redundancy, max_gateways, margin_db, time_limit_s):
     """Validated arrays: hears (bool), cost (float, 0 on fixed), fixed mask, margins or None."""
