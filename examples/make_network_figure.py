@@ -1,8 +1,10 @@
 """Draw the example network map of the invented Vellmoor valley scenario from a real run.
 
-``profiler network`` over ``examples/vellmoor_network.csv`` (two gateways,
-four candidate sites, forty nodes) on the synthetic terrain in
-``dem_samples/``, drawn as ``profiler network --plot`` draws it by default
+``profiler network --land-cover dem_samples/vellmoor_landcover.tif`` over
+``examples/vellmoor_network.csv`` (two gateways, four candidate sites, forty
+nodes: the water meters indoors with a meter-pit loss, the soil probes in
+orchard trees) on the synthetic terrain and land cover in ``dem_samples/``,
+drawn as ``profiler network --plot`` draws it by default
 (``--links best``: per node its best link from an existing gateway and its
 best from a candidate site).  Run from the repository root::
 
@@ -28,7 +30,8 @@ DEM = ROOT / "dem_samples"
 
 def main(out=HERE / "vellmoor_network.png"):
     t0 = time.perf_counter()
-    report = network(HERE / "vellmoor_network.csv", dem=[str(DEM)], progress=False).to_dict()
+    report = network(HERE / "vellmoor_network.csv", dem=[str(DEM)], progress=False,
+                     land_cover=[str(DEM / "vellmoor_landcover.tif")]).to_dict()
     write_network_figure(report, out, paper="a4", dpi=150, dem_paths=[str(DEM)], date_text="2026-12-02",
                          links="best")
     print(f"{out} ({out.stat().st_size // 1024} kB, {time.perf_counter() - t0:.1f} s)")

@@ -47,11 +47,14 @@ profiler link --dem dem_samples --site-a "$GW" --site-b -29.85,-19.78 \
   --name-a "Cairnfell Beacon" --name-b "Millbrook Tank" --tx-power-a-dbm 14 --gain-a-dbi 6 --cable-loss-a-db 2 \
   --cap-eirp
 
-# 10. The whole network: 2 gateways, 4 candidate sites, 40 nodes; table, map and GIS layers.
+# 10. The whole network: 2 gateways, 4 candidate sites, 40 nodes (water meters indoors, soil probes in
+#     orchard trees) over the land cover; a node is heard with P >= the location percentage.
 profiler network --dem dem_samples --sites examples/vellmoor_network.csv --fill-voids \
+  --land-cover dem_samples/vellmoor_landcover.tif \
   --json out/network.json --csv out/network.csv --geojson out/network.geojson --kml out/network.kml \
   --plot out/network.png
 
-# 11. Where to put the gateways: every node heard twice, at the lowest cost, proven optimal.
+# 11. Where to put the gateways: every node that can be heard twice, at the lowest cost, proven optimal.
 profiler siting --dem dem_samples --sites examples/siting_sites.csv --redundancy 2 \
+  --land-cover dem_samples/vellmoor_landcover.tif \
   --json out/siting.json --csv out/siting.csv --plot out/siting.png

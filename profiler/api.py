@@ -280,7 +280,8 @@ def network(sites, *, dem, pairs=None, max_distance_km: float = 50.0, k_factor="
             frequency_mhz: float | None = None, band: str | None = None, step_m: float | None = None,
             clearance_ratio: float = 0.6, fill_voids: bool = False, radio: RadioSettings | None = None,
             workers: int | None = None, scheduler: str | None = None, progress: bool | None = None,
-            chunk_links: int = CHUNK_LINKS, land_cover=None, land_cover_classes=None, calibration=None):
+            chunk_links: int = CHUNK_LINKS, land_cover=None, land_cover_classes=None, calibration=None,
+            min_probability: float | None = None):
     """Every gateway -> node link of a site list (``profiler network``).
 
     Gateways and candidate sites are end A of every link, nodes end B: the ``radio`` settings of end A
@@ -312,6 +313,9 @@ def network(sites, *, dem, pairs=None, max_distance_km: float = 50.0, k_factor="
     <<land_cover>>
     <<land_cover_classes>>
     <<calibration>>
+    min_probability : float, optional
+        Least probability over locations that a node's uplink keeps the fade margin (``probability_heard``
+        of its link, 0 to 1) for the node to count as heard (default: the location percentage / 100).
 
     Returns
     -------
@@ -325,7 +329,8 @@ def network(sites, *, dem, pairs=None, max_distance_km: float = 50.0, k_factor="
     return _network(sites, dem=dem, pairs=pairs, max_distance_km=max_distance_km, band=band,
                     frequency_mhz=frequency_mhz, k_factor=k_factor, clearance_ratio=clearance_ratio, step_m=step_m,
                     fill_voids=fill_voids, radio=radio, workers=workers, scheduler=scheduler, progress=progress,
-                    chunk_links=chunk_links, land_cover=land_cover, land_cover_classes=land_cover_classes)
+                    chunk_links=chunk_links, land_cover=land_cover, land_cover_classes=land_cover_classes,
+                    min_probability=min_probability)
 
 
 @shared_parameters
@@ -388,13 +393,15 @@ def siting(sites, *, dem, redundancy: int = 1, min_margin_db: float | None = Non
            frequency_mhz: float | None = None, band: str | None = None, step_m: float | None = None,
            clearance_ratio: float = 0.6, fill_voids: bool = False, radio: RadioSettings | None = None,
            workers: int | None = None, scheduler: str | None = None, progress: bool | None = None,
-           chunk_links: int = CHUNK_LINKS, land_cover=None, land_cover_classes=None, calibration=None):
+           chunk_links: int = CHUNK_LINKS, land_cover=None, land_cover_classes=None, calibration=None,
+           min_probability: float | None = None):
     """The cheapest set of candidate gateway sites that hears every node (``profiler siting``).
 
     Runs :func:`network` from every ``gateway`` and ``candidate`` site to every node, then solves the
     set multicover (or, with ``max_gateways``, maximum coverage) programme of
-    :mod:`profiler.products.siting.setcover`.  A node is heard by a site when the best uplink margin
-    over the plan's allowed data rates reaches ``min_margin_db``.
+    :mod:`profiler.products.siting.setcover`.  A node is heard by a site when an allowed data rate
+    closes their link and its ``probability_heard`` reaches ``min_probability`` (and, when
+    ``min_margin_db`` is given, the best uplink margin over the allowed data rates reaches it).
 
     Parameters
     ----------
@@ -405,7 +412,8 @@ def siting(sites, *, dem, redundancy: int = 1, min_margin_db: float | None = Non
     redundancy : int
         Gateways that must hear each node.
     min_margin_db : float, optional
-        Least uplink margin for a node to count as heard [dB] (default: the fade margin of ``radio``).
+        Least uplink margin for a node to count as heard [dB] (default: no margin rule besides the
+        probability).
     max_gateways : int, optional
         Choose at most this many sites (existing gateways included) hearing the most nodes.
     time_limit_s : float
@@ -418,6 +426,8 @@ def siting(sites, *, dem, redundancy: int = 1, min_margin_db: float | None = Non
     land_cover, land_cover_classes
         The land cover and its class mapping, as for :func:`network`.
     <<calibration>>
+    min_probability : float, optional
+        Least ``probability_heard`` [-] for a node to count as heard, as for :func:`network`.
 
     Returns
     -------
@@ -431,9 +441,8 @@ def siting(sites, *, dem, redundancy: int = 1, min_margin_db: float | None = Non
                   frequency_mhz=frequency_mhz, k_factor=k_factor, clearance_ratio=clearance_ratio, step_m=step_m,
                   fill_voids=fill_voids, radio=radio, workers=workers, scheduler=scheduler, progress=progress,
                   chunk_links=chunk_links, land_cover=land_cover, land_cover_classes=land_cover_classes,
-                  calibration=calibration).to_dict()
-    threshold = (radio or RadioSettings()).fade_margin_db if min_margin_db is None else float(min_margin_db)
-    report = siting_from_network(net, min_margin_db=threshold, redundancy=redundancy, max_gateways=max_gateways,
+                  calibration=calibration, min_probability=min_probability).to_dict()
+    report = siting_from_network(net, min_margin_db=min_margin_db, redundancy=redundancy, max_gateways=max_gateways,
                                  time_limit_s=time_limit_s)
     return SitingResult(report, net)
 

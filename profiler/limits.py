@@ -118,6 +118,7 @@ LIMITS: dict[str, Limit] = {
     "--mast-step-m": Limit(0.01, 100.0, "m", "height step of the mast search"),
     # network
     "--max-distance-km": Limit(0.0, 20_100.0, "km", "longest link considered", low_open=True),
+    "--min-probability": Limit(0.0, 1.0, "", "least probability of being heard"),
     "--workers": Limit(1, 256, "", "worker processes", integer=True),
     "--cell-m": Limit(1.0, 10_000.0, "m", "side of a survey location cell", low_open=False),
     "--folds": Limit(2, 100, "", "cross-validation folds", integer=True),

@@ -105,6 +105,7 @@ def network_summary_text(report: dict) -> str:
              f"{_count(s['nodes_total'], 'node')}",
              f"  nodes         {s['nodes_covered_by_gateways']} of {s['nodes_total']} heard by the existing gateways "
              f"({s['nodes_covered_twice']} by two or more){with_cand}",
+             f"  heard         when P(uplink keeps the fade margin) >= {report['settings']['min_probability']:.2f}",
              "  node                              heard  best gateway                     margin [dB]  DR"
              + ("   cand.  best candidate                   margin [dB]" if cand else "")]
     for n in report["nodes"]:

@@ -449,6 +449,9 @@ def network_options(f):
         click.option("--fill-voids", is_flag=True,
                      help="Interpolate across elevation voids instead of failing the link."),
         *land_cover_option_list(),
+        click.option("--min-probability", type=NUMBER, default=None,
+                     help="Least probability over locations that a node's uplink keeps the fade margin for the node "
+                          "to count as heard, 0 to 1 (default: --location-percent / 100)."),
     ])(f)
 
 
@@ -465,7 +468,7 @@ def network_call_kwargs(kw):
             "max_distance_km": 50.0 if kw["max_distance_km"] is None else kw["max_distance_km"],
             "band": kw["band_name"], "frequency_mhz": kw["freq_mhz"], "k_factor": kw["k_text"],
             "clearance_ratio": kw["clearance_ratio"], "step_m": kw["step_m"], "fill_voids": kw["fill_voids"],
-            "radio": radio, **land_cover_kwargs(kw)}
+            "radio": radio, "min_probability": kw["min_probability"], **land_cover_kwargs(kw)}
 
 
 def cluster_options(f):

@@ -21,7 +21,8 @@ from .options import (
 @click.option("--redundancy", type=INTEGER, default=1, show_default=True,
               help="Gateways that must hear each node.")
 @click.option("--min-margin-db", type=NUMBER, default=None,
-              help="Least uplink margin for a node to count as heard [dB] (default: --fade-margin-db).")
+              help="Also require this uplink margin for a node to count as heard [dB] (default: only "
+                   "--min-probability).")
 @click.option("--max-gateways", type=INTEGER, default=None,
               help="Choose at most K sites (existing gateways included) hearing the most nodes.")
 @click.option("--time-limit-s", type=NUMBER, default=60.0, show_default=True,

@@ -62,7 +62,7 @@ LINK_COLUMNS = (
     ("worst_fresnel_ratio", 4), ("worst_distance_m", 2),
     ("diffraction_db", 2), ("total_loss_db", 2), ("margin_db", 2), ("downlink_margin_db", 2),
     ("max_margin_db", 2), ("recommended_dr", "int"), ("closes", "bool"), ("downlink_closes", "bool"),
-    ("error", "text"),
+    ("location_sigma_db", 2), ("probability_heard", 4), ("error", "text"),
 )
 """CSV columns of a link: the keys of ``links[]`` (units in the names) and their format
 (decimal places, or text / bool / int)."""

@@ -291,11 +291,20 @@ def _draw_header(ax, report: dict, renderer) -> None:
     band = report.get("band")
     freq = num(report.get("frequency_mhz"), ".4f", " MHz") + (f" ({clean(band)})" if band else "")
     parts = ["Network map", f"{summary.get('links', 0)} links", freq, f"k = {k_text(report.get('k_factor'))}",
-             f"fade margin {num(report.get('fade_margin_db'), '.1f', ' dB')}"]
+             f"fade margin {num(report.get('fade_margin_db'), '.1f', ' dB')}", heard_rule(report)]
     badge = f"{covered} of {total} nodes covered by gateways"
     badge_style = BADGE_GOOD if total and covered == total else (BADGE_WARN if covered else BADGE_BAD)
-    draw_title_block(ax, renderer, _title(report), f"  {MIDDOT}  ".join(parts), badge, badge_style,
-                     badge_label="COVERAGE", note=clean(model_line(report)))
+    draw_title_block(ax, renderer, _title(report), f"  {MIDDOT}  ".join(p for p in parts if p), badge,
+                     badge_style, badge_label="COVERAGE", note=clean(model_line(report)))
+
+
+def heard_rule(report: dict) -> str:
+    """``"heard: P ≥ 0.95"``: the rule a node is heard by (``settings.min_probability``); empty without it."""
+    p = (report.get("settings") or {}).get("min_probability")
+    return "" if p is None else f"heard: P ≥ {p:.2f}"
+
+
+
 
 
 # --------------------------------------------------------------------------- map

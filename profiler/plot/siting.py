@@ -190,8 +190,7 @@ def _draw_header(ax, siting: dict, network: dict, renderer) -> None:
     total, heard = s.get("nodes_total") or 0, s.get("nodes_heard") or 0
     mode = "least total cost" if siting.get("mode") == "min_cost" else \
         f"most nodes with at most {siting.get('max_gateways')} sites"
-    parts = [mode, f"redundancy {r}", f"least margin {num(siting.get('min_margin_db'), '.1f', ' dB')}",
-             _radio_text(siting, network)]
+    parts = [mode, f"redundancy {r}", _rule_text(siting), _radio_text(siting, network)]
     badge = f"{heard} of {total} nodes heard {_times(r)}"
     badge_style = BADGE_GOOD if total and heard == total else (BADGE_WARN if heard else BADGE_BAD)
     # The subtitle must fit beside the badge uncut: the radio settings give way first (the notes have them).
@@ -201,6 +200,14 @@ def _draw_header(ax, siting: dict, network: dict, renderer) -> None:
     draw_title_block(ax, renderer, f"Gateway siting: {_title(siting)}", f"  {MIDDOT}  ".join(parts), badge,
                      badge_style, badge_label="NODES HEARD",
                      note=clean(model_line(siting if siting.get("settings") else network)))
+
+
+def _rule_text(siting: dict) -> str:
+    """``"heard: P ≥ 0.95"`` (and ``", margin ≥ 7.0 dB"``), or ``"least margin 10.0 dB"`` (older reports)."""
+    p, margin = siting.get("min_probability"), siting.get("min_margin_db")
+    if p is None:
+        return f"least margin {num(margin, '.1f', ' dB')}"
+    return f"heard: P ≥ {p:.2f}" + ("" if margin is None else f", margin ≥ {num(margin, '.1f', ' dB')}")
 
 
 def _radio_text(siting: dict, network: dict) -> str:
@@ -213,7 +220,8 @@ def _note_lines(siting: dict, network: dict) -> list[str]:
     n_links = len(network.get("links") or [])
     extra = [f"Solved over the {n_links} links computed by the network engine, from every gateway and "
              f"candidate site to every node at {_radio_text(siting, network)}; a site hears a node when an allowed "
-             f"data rate closes the uplink with at least {num(siting.get('min_margin_db'), '.1f', ' dB')} of margin. "
+             f"data rate closes the uplink ({_rule_text(siting)}; P: the probability over locations that the "
+             "uplink keeps the fade margin). "
              "Links drawn as straight lines."]
     return provenance_lines(siting, source_text(siting.get("dem")), extra)
 
@@ -311,7 +319,7 @@ def _solution_rows(siting: dict, served) -> list[tuple[str, str]]:
             ("Optimal", proof),
             ("Greedy", f"objective {greedy.get('objective', 0):g} ({'same' if same else 'other'} sites)"),
             ("Redundancy", f"{r} chosen site{'s' if r > 1 else ''} per node asked"),
-            ("Least margin", f"{num(siting.get('min_margin_db'), '.1f', ' dB')} uplink")]
+            ("Heard when", _rule_text(siting).removeprefix("heard: "))]
     if siting.get("max_gateways") is not None:
         rows.append(("At most", f"{siting['max_gateways']} sites"))
     rows += [("Sites chosen", f"{s.get('sites_chosen', 0)} of {len(siting.get('sites') or [])}, "

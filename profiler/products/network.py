@@ -8,7 +8,10 @@ chunks); the chunks run in-process, on a local Dask cluster
 Gateways (and candidate sites) are end A of every link, nodes end B.
 
 The report (:meth:`NetworkResult.to_dict`) is the JSON contract
-``profiler.network/5``.
+``profiler.network/5``.  A node is heard by a site when the probability
+over locations that their uplink keeps the fade margin
+(``probability_heard``, :func:`profiler.engine.links.probability_heard`)
+reaches ``min_probability`` (default: the location percentage / 100).
 """
 
 from __future__ import annotations
@@ -31,7 +34,8 @@ from ..propagation.free_space import wavelength_m
 SCHEMA = "profiler.network/5"
 
 LINK_FLOAT_KEYS = ("distance_m", "azimuth_deg", "worst_fresnel_ratio", "worst_distance_m", "diffraction_db",
-                   "total_loss_db", "margin_db", "downlink_margin_db", "max_margin_db")
+                   "total_loss_db", "margin_db", "downlink_margin_db", "max_margin_db", "location_sigma_db",
+                   "probability_heard")
 
 
 def compute_links(model, settings: NetworkSettings, lat_gw, lon_gw, mast_gw, lat_node, lon_node, mast_node,
@@ -127,7 +131,7 @@ def _fill_results(out, rows, s, d, terrain, n, h_a, h_b, lam, ae, settings, over
     out["azimuth_deg"][rows] = s.azimuth_a_to_b_deg[rows]
     for key in ("worst_fresnel_ratio", "worst_distance_m", "line_of_sight", "fresnel_clear", "diffraction_db",
                 "total_loss_db", "margin_db", "downlink_margin_db", "closes", "downlink_closes", "recommended_dr",
-                "max_margin_db"):
+                "max_margin_db", "location_sigma_db", "probability_heard"):
         out[key][rows] = res[key]
 
 
@@ -215,14 +219,20 @@ def _best_link(k, margin, usable, n_nodes) -> np.ndarray:
 def _best_fields(sites, gw, res, b, prefix) -> dict:
     """A node's best link from one kind of site: site name, margin and recommended DR (None: no link)."""
     if b < 0:
-        return {prefix: None, f"{prefix}_margin_db": None, f"{prefix}_recommended_dr": None}
+        return {prefix: None, f"{prefix}_margin_db": None, f"{prefix}_recommended_dr": None,
+                f"{prefix}_probability_heard": None}
     dr = int(res["recommended_dr"][b])
     return {prefix: sites.names[gw[b]], f"{prefix}_margin_db": _num(res["margin_db"][b]),
-            f"{prefix}_recommended_dr": dr if dr >= 0 else None}
+            f"{prefix}_recommended_dr": dr if dr >= 0 else None,
+            f"{prefix}_probability_heard": _num(res["probability_heard"][b])}
 
 
-def node_summary(sites, gw, node, res):
+def node_summary(sites, gw, node, res, min_probability: float = 0.5):
     """nodes[] rows and the counts of the summary, vectorized over links.
+
+    A node is heard by a site when their link's ``probability_heard``
+    reaches ``min_probability`` [-]; ``closing`` still counts the links
+    whose margin at the run's location percentage keeps the fade margin.
 
     Existing gateways (role ``gateway``) and candidate sites (role
     ``candidate``) are counted apart: a node's ``gateways_heard`` and
@@ -237,10 +247,12 @@ def node_summary(sites, gw, node, res):
     k = pos[node]
     ok = np.array([e is None for e in res["error"]], dtype=bool)
     closing = ok & res["closes"]
+    with np.errstate(invalid="ignore"):
+        heard = ok & (res["probability_heard"] >= min_probability)
     from_gateway = sites.role[gw] == "gateway"
     from_candidate = sites.role[gw] == "candidate"
-    heard_gw = np.bincount(k[closing & from_gateway], minlength=node_rows.size)
-    heard_cand = np.bincount(k[closing & from_candidate], minlength=node_rows.size)
+    heard_gw = np.bincount(k[heard & from_gateway], minlength=node_rows.size)
+    heard_cand = np.bincount(k[heard & from_candidate], minlength=node_rows.size)
     best_gw = _best_link(k, res["margin_db"], ok & from_gateway, node_rows.size)
     best_cand = _best_link(k, res["margin_db"], ok & from_candidate, node_rows.size)
     nodes = []
@@ -249,10 +261,12 @@ def node_summary(sites, gw, node, res):
         nodes.append({"name": sites.names[site], "gateways_heard": int(heard_gw[j]),
                       "best_gateway": gw_fields["best_gateway"], "best_margin_db": gw_fields["best_gateway_margin_db"],
                       "recommended_dr": gw_fields["best_gateway_recommended_dr"],
+                      "probability_heard": gw_fields["best_gateway_probability_heard"],
                       "candidates_heard": int(heard_cand[j]),
                       **_best_fields(sites, gw, res, int(best_cand[j]), "best_candidate")})
     heard_all = heard_gw + heard_cand
-    summary = {"links": int(gw.size), "closing": int(np.sum(closing)), "errors": int(np.sum(~ok)),
+    summary = {"links": int(gw.size), "closing": int(np.sum(closing)), "heard": int(np.sum(heard)),
+               "errors": int(np.sum(~ok)),
                "gateways": int(sites.indices("gateway").size), "candidates": int(sites.indices("candidate").size),
                "nodes_total": int(node_rows.size),
                "nodes_covered": int(np.sum(heard_gw >= 1)), "nodes_covered_twice": int(np.sum(heard_gw >= 2)),
@@ -266,7 +280,8 @@ def network(sites, *, dem, pairs=None, max_distance_km: float = 50.0, band: str 
             frequency_mhz: float | None = None, k_factor="4/3", clearance_ratio: float = 0.6,
             step_m: float | None = None, fill_voids: bool = False, radio: RadioSettings | None = None,
             workers: int | None = None, scheduler: str | None = None, progress: bool | None = None,
-            chunk_links: int = CHUNK_LINKS, land_cover=None, land_cover_classes=None) -> NetworkResult:
+            chunk_links: int = CHUNK_LINKS, land_cover=None, land_cover_classes=None,
+            min_probability: float | None = None) -> NetworkResult:
     """Analyse every gateway -> node link of a site list.
 
     Parameters
@@ -296,6 +311,9 @@ def network(sites, *, dem, pairs=None, max_distance_km: float = 50.0, band: str 
     land_cover_classes : str or Path, optional
         Their ``--land-cover-classes`` TOML mapping (default the built-in
         ESA WorldCover mapping).
+    min_probability : float, optional
+        Least ``probability_heard`` [-] (0 to 1) for a node to count as
+        heard by a site (default: the location percentage / 100).
 
     Returns
     -------
@@ -313,6 +331,7 @@ def network(sites, *, dem, pairs=None, max_distance_km: float = 50.0, band: str 
     if radio.gateway != "a":
         raise ProfilerError("in a network the gateway is always end A of every link; leave RadioSettings(gateway=...) "
                             "at 'a' (the sites file role column says which site is a gateway)")
+    p_min = min_probability_for(min_probability, radio)
     f_mhz, band_name = resolve_frequency_mhz(frequency_mhz, band)
     k = radio.propagation.k_factor(geometry.parse_k_factor(k_factor))
     if pairs is None:
@@ -345,7 +364,7 @@ def network(sites, *, dem, pairs=None, max_distance_km: float = 50.0, band: str 
     res["error"] = [e for p in parts for e in p["error"]]
     if all(e is not None for e in res["error"]):
         raise ProfilerError(f"no link could be computed; the first failed with: {res['error'][0]}")
-    nodes, summary = node_summary(table, gw, node, res)
+    nodes, summary = node_summary(table, gw, node, res, p_min)
     site_rows = [{"name": r["name"], "lat_deg": r["lat_deg"], "lon_deg": r["lon_deg"], "mast_m": r["mast_m"],
                   "role": r["role"], "ground_m": _num(ground[i]), "cost": r["cost"]}
                  for i, r in enumerate(table.to_records())]
@@ -356,7 +375,7 @@ def network(sites, *, dem, pairs=None, max_distance_km: float = 50.0, band: str 
     settings_out = {"clearance_ratio": settings.clearance_ratio, "diffraction_method": radio.diffraction_method,
                     "max_distance_km": None if pairs is not None else float(max_distance_km),
                     "pairs": pairs is not None, **radio.propagation.to_dict(k),
-                    "calibration": radio.propagation.calibration_dict(),
+                    "calibration": radio.propagation.calibration_dict(), "min_probability": p_min,
                     "land_cover": list(cover_paths) if mapping is not None else None,
                     "land_cover_classes": None if land_cover_classes is None else str(land_cover_classes)}
     return NetworkResult(sites=site_rows, links=_link_records(table, gw, node, res), nodes=nodes, summary=summary,
@@ -364,6 +383,15 @@ def network(sites, *, dem, pairs=None, max_distance_km: float = 50.0, band: str 
                          dem={"kind": "dem", "sources": sources, "voids_filled": int(np.sum(res["voids_filled"]))},
                          warnings=warnings,
                          settings=settings_out)
+
+
+def min_probability_for(min_probability, radio) -> float:
+    """The least probability of being heard [-]: the given one (checked, 0 to 1) or the location percentage / 100."""
+    from ..limits import check
+
+    if min_probability is None:
+        return float(radio.propagation.location_percent) / 100.0
+    return float(check("--min-probability", min_probability))
 
 
 def _open_cover(paths, mapping):

@@ -1,6 +1,6 @@
 """Layout audit of the network map sheet over a matrix of cases, and its counts against the JSON.
 
-The report is the real ``profiler.network/3`` JSON of the bundled Vellmoor scenario
+The report is the real ``profiler.network/4`` JSON of the bundled Vellmoor scenario
 (``examples/vellmoor_network.csv``: 2 existing gateways, 4 candidate sites, 40 nodes) on the
 bundled synthetic terrain.  Each sheet (A4 and letter; the sites' own names, 80- and
 200-character names; ``links="best"`` and ``"all"``) is checked against matplotlib's own

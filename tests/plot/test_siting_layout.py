@@ -175,8 +175,7 @@ def test_api_siting_returns_a_result_like_network(networks):
     assert not isinstance(res, dict)
     rep = res.to_dict()
     assert rep["schema"] == "profiler.siting/4"
-    assert rep == siting_from_network(networks["short"], min_margin_db=networks["short"]["fade_margin_db"],
-                                      redundancy=3)
+    assert rep == siting_from_network(networks["short"], redundancy=3)
     assert res.network["schema"] == "profiler.network/5"
     assert (res.chosen, res.objective, res.proven_optimal, res.gap) == (rep["chosen"], rep["objective"],
                                                                         rep["proven_optimal"], rep["gap"])

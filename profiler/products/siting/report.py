@@ -7,11 +7,13 @@ heard; an optional ``cost`` on candidates) and ``links[]`` (``gateway,
 node, margin_db`` (uplink, node -> gateway, at ``recommended_dr``),
 ``recommended_dr`` (null: no allowed data rate closes), ``error``,
 ``line_of_sight``, ``fresnel_clear``, ``worst_fresnel_ratio``,
-``worst_distance_m`` (from the gateway), ``diffraction_db``, ...).
+``worst_distance_m`` (from the gateway), ``diffraction_db``,
+``probability_heard``, ...).
 
 A node is heard by a site when their link has no error, an allowed data
-rate closes (``recommended_dr`` not null) and ``margin_db >=
-min_margin_db``.  :func:`siting_from_network` builds the matrices, solves
+rate closes (``recommended_dr`` not null) and ``probability_heard >=
+min_probability`` (and ``margin_db >= min_margin_db`` when that is given;
+:func:`hearing_rule`).  :func:`siting_from_network` builds the matrices, solves
 with :func:`profiler.products.siting.setcover.solve_siting` and returns the JSON report.
 
 References
@@ -35,9 +37,10 @@ from ...about import CAUTION, __version__
 from ...errors import ProfilerError
 from ...io.exports import geojson_position, geojson_positions, split_at_antimeridian, wrap_longitude
 from ...io.report import format_cell, inert_text
-from .setcover import hearing_matrix, solve_siting
+from .setcover import hearing_rule, need_text, solve_siting
 
-__all__ = ["SCHEMA", "SitingResult", "MarginMatrix", "margin_matrix", "site_costs", "siting_from_network",
+__all__ = ["SCHEMA", "SitingResult", "MarginMatrix", "margin_matrix", "hearing_rule", "site_costs",
+           "siting_from_network",
            "siting_report", "siting_csv_text", "siting_geojson_dict", "siting_geojson_text", "siting_kml_text"]
 
 SCHEMA = "profiler.siting/4"
@@ -56,7 +59,9 @@ class MarginMatrix(NamedTuple):
     of ``sites[]``; ``node_names``: the nodes; ``margin_db``: uplink margin
     [dB], NaN where there is no link, it failed or has no margin;
     ``allowed``: no error, finite margin and a recommended data rate;
-    ``link_index``: the row of ``links[]`` behind each cell (-1: no link).
+    ``link_index``: the row of ``links[]`` behind each cell (-1: no link);
+    ``probability``: the cell's link ``probability_heard`` [-] (NaN none),
+    or None when the links carry none (a report before ``profiler.network/4``).
     """
 
     site_names: list
@@ -65,6 +70,7 @@ class MarginMatrix(NamedTuple):
     allowed: np.ndarray
     link_index: np.ndarray
     site_roles: list
+    probability: np.ndarray | None = None
 
 
 @dataclass(frozen=True)
@@ -156,7 +162,13 @@ def margin_matrix(network_report: dict) -> MarginMatrix:
     margin_db[gi[keep], ni[keep]] = margin[keep]
     allowed[gi[keep], ni[keep]] = ok[keep]
     link_index[gi[keep], ni[keep]] = keep
-    return MarginMatrix(site_names, node_names, margin_db, allowed, link_index, site_roles)
+    probability = None
+    if links and "probability_heard" in links[0]:
+        p = np.array([np.nan if lk.get("probability_heard") is None else lk["probability_heard"] for lk in links],
+                     dtype=float)
+        probability = np.full((m, n), np.nan)
+        probability[gi[keep], ni[keep]] = p[keep]
+    return MarginMatrix(site_names, node_names, margin_db, allowed, link_index, site_roles, probability)
 
 
 def site_costs(network_report: dict, matrix: MarginMatrix, costs: dict | None = None) -> np.ndarray:
@@ -186,9 +198,9 @@ def site_costs(network_report: dict, matrix: MarginMatrix, costs: dict | None = 
     return out
 
 
-def siting_from_network(network_report: dict, *, min_margin_db: float, redundancy: int = 1,
+def siting_from_network(network_report: dict, *, min_margin_db: float | None = None, redundancy: int = 1,
                         max_gateways: int | None = None, time_limit_s: float = 60.0,
-                        costs: dict | None = None) -> dict:
+                        costs: dict | None = None, min_probability: float | None = None) -> dict:
     """Solve the siting problem over a network report and return the ``profiler.siting/4`` report.
 
     Parameters
@@ -196,22 +208,25 @@ def siting_from_network(network_report: dict, *, min_margin_db: float, redundanc
     network_report : dict
         The network engine's report (``profiler.network/5``), links from
         every gateway and candidate site to the nodes.
-    min_margin_db : float
-        Least uplink margin for a node to count as heard [dB]; the command
-        passes ``--min-margin-db`` or, by default, the fade margin.
+    min_margin_db : float, optional
+        Least uplink margin for a node to count as heard [dB] (``--min-margin-db``);
+        :func:`hearing_rule` says when it applies.
+    min_probability : float, optional
+        Least ``probability_heard`` [-] (:func:`hearing_rule`).
     redundancy, max_gateways, time_limit_s
         As in :func:`profiler.products.siting.setcover.solve_siting`.
     costs : dict, optional
         ``site name -> cost`` overriding the sites' ``cost`` fields.
     """
     matrix = margin_matrix(network_report)
-    hears = hearing_matrix(matrix.margin_db, matrix.allowed, min_margin_db)
+    hears, min_margin_db, min_probability = hearing_rule(network_report, matrix, min_margin_db, min_probability)
     cost = site_costs(network_report, matrix, costs)
     fixed = np.array([role == "gateway" for role in matrix.site_roles], dtype=bool)
     solution = solve_siting(hears, cost=cost, fixed=fixed, redundancy=redundancy, max_gateways=max_gateways,
                             margin_db=np.where(hears, matrix.margin_db, np.nan), time_limit_s=time_limit_s)
     return siting_report(network_report, matrix, hears, solution, cost=cost, min_margin_db=min_margin_db,
-                         redundancy=redundancy, max_gateways=max_gateways, time_limit_s=time_limit_s)
+                         min_probability=min_probability, redundancy=redundancy, max_gateways=max_gateways,
+                         time_limit_s=time_limit_s)
 
 
 # --------------------------------------------------------------------------- report
@@ -240,12 +255,20 @@ def _obstruction_text(link: dict) -> str:
     if link.get("fresnel_clear") is False:
         pct = f" ({100.0 * ratio:.0f} % of F1 clear)" if ratio is not None else ""
         return f"Fresnel zone obstructed{where}{pct}{loss}"
+    if diff is not None and diff >= CLUTTER_DIFFRACTION_DB:   # the terrain is clear: the clutter diffracts
+        return f"terrain clear of the first Fresnel zone; diffraction {diff:.1f} dB over the clutter along the path"
     distance = link.get("distance_m")
     span = f" over {distance / 1000.0:.2f} km" if distance is not None else ""
     return f"path clear; free-space loss{span} limits the budget{loss}"
 
 
-def _unreachable_reason(k, links, matrix, hears, min_margin_db, redundancy) -> tuple[str, object]:
+#: Diffraction loss [dB] above which a path whose terrain clears the first Fresnel zone is said to be limited
+#: by the clutter it crosses (the land cover's R on the profile): over clear terrain the diffraction
+#: models give well under this (about 0 dB at 60 % of F1 clear, ITU-R P.526-15 Figure 3 knife edge).
+CLUTTER_DIFFRACTION_DB = 6.0
+
+
+def _unreachable_reason(k, links, matrix, hears, need, redundancy) -> tuple[str, object]:
     """Reason for node ``k`` and the best margin over all sites."""
     names = matrix.site_names
     heard = np.flatnonzero(hears[:, k])
@@ -263,7 +286,8 @@ def _unreachable_reason(k, links, matrix, hears, min_margin_db, redundancy) -> t
         # margin is not negative, so only then is "no allowed data rate closes" true.
         dr = ", no allowed data rate closes" if link.get("recommended_dr") is None and margin[j] < 0 else ""
         label = "next best" if heard.size else "best"
-        parts.append(f"{label} margin {margin[j]:.1f} dB from {names[j]} (needs {min_margin_db:.1f} dB{dr})")
+        heard_p = "" if matrix.probability is None else f", P(heard) {matrix.probability[j, k]:.2f}"
+        parts.append(f"{label} margin {margin[j]:.1f} dB{heard_p} from {names[j]} (needs {need}{dr})")
         parts.append(_obstruction_text(link))
     else:
         failed = matrix.link_index[:, k][matrix.link_index[:, k] >= 0]
@@ -301,8 +325,9 @@ def _node_rows(links, matrix, hears, solution, is_open) -> list[dict]:
     return rows
 
 
-def siting_report(network_report: dict, matrix: MarginMatrix, hears, solution, *, cost, min_margin_db: float,
-                  redundancy: int, max_gateways: int | None, time_limit_s: float) -> dict:
+def siting_report(network_report: dict, matrix: MarginMatrix, hears, solution, *, cost, min_margin_db,
+                  redundancy: int, max_gateways: int | None, time_limit_s: float,
+                  min_probability: float | None = None) -> dict:
     """The ``profiler.siting/4`` JSON report (a plain dict, no NaN).
 
     Parameters
@@ -317,8 +342,8 @@ def siting_report(network_report: dict, matrix: MarginMatrix, hears, solution, *
     solution : profiler.siting.SitingSolution
     cost : ndarray
         Cost of each gateway site (0 for existing gateways).
-    min_margin_db, redundancy, max_gateways, time_limit_s
-        The settings used (recorded in the report).
+    min_margin_db, min_probability, redundancy, max_gateways, time_limit_s
+        The settings used (recorded in the report; None: that rule not applied).
     """
     _, links = _sites_and_links(network_report)
     names = matrix.site_names
@@ -327,7 +352,8 @@ def siting_report(network_report: dict, matrix: MarginMatrix, hears, solution, *
     heard_counts = hears.sum(axis=1)
     unreachable = []
     for k in solution.unreachable:                              # one per unreachable node (output)
-        reason, best = _unreachable_reason(int(k), links, matrix, hears, float(min_margin_db), redundancy)
+        reason, best = _unreachable_reason(int(k), links, matrix, hears, need_text(min_margin_db, min_probability),
+                                           redundancy)
         unreachable.append({"name": matrix.node_names[k], "best_margin_db": _round(best), "reason": reason})
     nodes = _node_rows(links, matrix, hears, solution, is_open)
     min_cost = solution.mode == "min_cost"
@@ -362,12 +388,14 @@ def siting_report(network_report: dict, matrix: MarginMatrix, hears, solution, *
             "candidates_opened": int((is_open & (cost > 0)).sum()),
             "cost_total": float(cost[is_open].sum()), "redundancy": int(redundancy),
         },
-        "redundancy": int(redundancy), "min_margin_db": float(min_margin_db),
+        "redundancy": int(redundancy), "min_margin_db": None if min_margin_db is None else float(min_margin_db),
+        "min_probability": None if min_probability is None else float(min_probability),
         "max_gateways": None if max_gateways is None else int(max_gateways), "time_limit_s": float(time_limit_s),
         "band": network_report.get("band"), "frequency_mhz": network_report.get("frequency_mhz"),
         "settings": {key: (network_report.get("settings") or {}).get(key) for key in SETTINGS_KEYS},
         "dem": network_report.get("dem"), "warnings": warnings, "caution": CAUTION,
     }
+
 
 
 # --------------------------------------------------------------------------- CSV
@@ -405,7 +433,8 @@ def siting_csv_text(report: dict) -> str:
                *[(key, s[key]) for key in ("nodes_total", "nodes_heard", "nodes_unreachable", "sites_chosen",
                                            "cost_total")],
                ("redundancy", report["redundancy"]), ("min_margin_db", report["min_margin_db"]),
-               ("max_gateways", report["max_gateways"]), ("time_limit_s", report["time_limit_s"]),
+               ("min_probability", report.get("min_probability")), ("max_gateways", report["max_gateways"]),
+               ("time_limit_s", report["time_limit_s"]),
                ("caution", CAUTION)]
     w.writerows([["# " + key, _cell(value)] for key, value in summary])
     return buf.getvalue()

@@ -155,6 +155,40 @@ def hearing_matrix(margin_db, allowed, min_margin_db: float) -> np.ndarray:
         return ok & (margin >= float(min_margin_db))
 
 
+def hearing_rule(network_report: dict, matrix, min_margin_db, min_probability):
+    """The rule a site hears a node by: ``(hears, min_margin_db, min_probability)``.
+
+    With the links' ``probability_heard``: an allowed data rate closes and
+    the probability reaches ``min_probability`` (default the network's
+    ``settings.min_probability``, else the location percentage / 100); the
+    margin rule only when ``min_margin_db`` is given.  Without it (an older
+    report): the margin rule, ``min_margin_db`` defaulting to the fade margin.
+    """
+    from ...limits import check
+
+    settings = network_report.get("settings") or {}
+    if matrix.probability is None:
+        margin = float(network_report.get("fade_margin_db", 0.0) if min_margin_db is None else min_margin_db)
+        return hearing_matrix(matrix.margin_db, matrix.allowed, margin), margin, None
+    if min_probability is None:
+        min_probability = settings.get("min_probability")
+    if min_probability is None:
+        min_probability = float(settings.get("location_percent", 50.0)) / 100.0
+    p_min = float(check("--min-probability", min_probability))
+    with np.errstate(invalid="ignore"):
+        hears = matrix.allowed & (matrix.probability >= p_min)
+    if min_margin_db is not None:
+        hears &= hearing_matrix(matrix.margin_db, matrix.allowed, min_margin_db)
+    return hears, None if min_margin_db is None else float(min_margin_db), p_min
+
+
+def need_text(min_margin_db, min_probability) -> str:
+    """The hearing rule in words: "P(heard) >= 0.95", "7.0 dB" or both."""
+    parts = [] if min_probability is None else [f"P(heard) >= {min_probability:.2f}"]
+    if min_margin_db is not None:
+        parts.append(f"{min_margin_db:.1f} dB")
+    return " and ".join(parts)
+
 # --------------------------------------------------------------------------- input checks
 def _check_inputs(hears, cost, fixed, redundancy, max_gateways, margin_db, time_limit_s):
     """Validated arrays: hears (bool), cost (float, 0 on fixed), fixed mask, margins or None."""
