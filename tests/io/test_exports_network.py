@@ -72,7 +72,7 @@ def report():
              dict(name="Millbrook Tank", gateways_heard=0, best_gateway="Cairnfell Beacon", best_margin_db=4.25,
                   recommended_dr=0, **none),
              dict(name=EVIL_B, gateways_heard=0, best_gateway=None, best_margin_db=None, recommended_dr=None, **none)]
-    return {"schema": "profiler.network/4", "tool_version": "0.1.0", "band": "EU868", "frequency_mhz": 868.1,
+    return {"schema": "profiler.network/5", "tool_version": "0.1.0", "band": "EU868", "frequency_mhz": 868.1,
             "k_factor": 4 / 3, "fade_margin_db": 10.0, "sites": sites, "links": links, "nodes": nodes,
             "summary": dict(links=4, closing=1, errors=1, gateways=1, candidates=1, nodes_total=3, nodes_covered=1,
                             nodes_covered_twice=0, nodes_covered_by_gateways=1, nodes_covered_with_candidates=1,
@@ -113,7 +113,7 @@ def test_csv_one_row_per_link_with_the_link_fields(report):
     for row in rows:                                                             # OWASP CSV-injection rule
         assert not any(str(v).startswith(FORMULA_START) for v in row.values() if not _is_number(v))
     comments = dict(r for r in csv.reader(io.StringIO(summary)) if r)
-    assert comments["# schema"] == "profiler.network/4" and comments["# summary_closing"] == "1"
+    assert comments["# schema"] == "profiler.network/5" and comments["# summary_closing"] == "1"
     assert comments["# summary_nodes_covered_by_gateways"] == "1"
     assert comments["# caution"] == CAUTION and comments["# warning"].startswith("'+")
 

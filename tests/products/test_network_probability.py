@@ -119,7 +119,7 @@ def test_siting_hears_by_the_probability(tmp_path, report):
     res = run("siting", "--dem", SAMPLE, "--sites", _sites(tmp_path), *OPTS, "--json", "-", "--no-progress")
     assert res.exit_code == 0, res.output
     rep = json.loads(res.stdout)
-    assert rep["schema"] == "profiler.siting/3" and rep["min_probability"] == pytest.approx(0.9)
+    assert rep["schema"] == "profiler.siting/4" and rep["min_probability"] == pytest.approx(0.9)
     assert rep["summary"]["nodes_heard"] == sum(p >= 0.9 for p in probability.values())
 
 
