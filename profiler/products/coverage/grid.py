@@ -29,7 +29,9 @@ def band_names(parts) -> list:
     """The bands a run's radial results hold, in the GeoTIFF's order (:data:`BANDS`, land cover, indoor)."""
     return [b for b in BANDS + LAND_COVER_BANDS + INDOOR_BANDS if b in parts]
 MAX_PIXELS = 40_000_000
-"""Largest grid accepted (pixels)."""
+"""Largest grid held in memory (pixels); a larger one streams to the GeoTIFF tile by tile (see ``max_memory_mb``)."""
+MAX_STREAM_PIXELS = 4_000_000_000
+"""Largest grid accepted at all (pixels): 4e9 float32 values per band, a BigTIFF."""
 
 
 @dataclass(frozen=True)
@@ -68,6 +70,18 @@ class CoverageGrid:
         y = f + e * (np.arange(self.height) + 0.5)
         return np.meshgrid(x, y)
 
+    def window(self, row0: int, row1: int, col0: int, col1: int) -> "CoverageGrid":
+        """The rows ``row0:row1`` and columns ``col0:col1`` as a grid of their own (same CRS, shifted origin)."""
+        a, b, c, d, e, f = self.transform
+        return CoverageGrid(proj4=self.proj4, crs_wkt=self.crs_wkt,
+                            transform=(a, b, c + a * col0, d, e, f + e * row0), width=col1 - col0,
+                            height=row1 - row0, resolution_m=self.resolution_m)
+
+    def tiles(self, tile_px: int) -> list:
+        """Windows ``(row0, row1, col0, col1)`` of at most ``tile_px`` square covering the grid, row by row."""
+        return [(r, min(r + tile_px, self.height), c, min(c + tile_px, self.width))
+                for r in range(0, self.height, tile_px) for c in range(0, self.width, tile_px)]
+
     def lon_lat(self):
         """Pixel-centre WGS84 longitude and latitude [deg], each (height, width)."""
         from pyproj import Transformer
@@ -101,8 +115,8 @@ def make_grid(gateways, radius_m: float, resolution_m: float) -> CoverageGrid:
     i0, i1 = math.floor((min(x) - reach) / resolution_m), math.ceil((max(x) + reach) / resolution_m)
     j0, j1 = math.floor((min(y) - reach) / resolution_m), math.ceil((max(y) + reach) / resolution_m)
     width, height = i1 - i0 + 1, j1 - j0 + 1
-    if width * height > MAX_PIXELS:
-        raise ProfilerError(f"the grid would have {width * height:,} pixels (more than {MAX_PIXELS:,}); give a "
+    if width * height > MAX_STREAM_PIXELS:
+        raise ProfilerError(f"the grid would have {width * height:,} pixels (more than {MAX_STREAM_PIXELS:,}); give a "
                             "coarser --resolution-m or a smaller --radius-km")
     transform = (resolution_m, 0.0, (i0 - 0.5) * resolution_m, 0.0, -resolution_m, (j1 + 0.5) * resolution_m)
     return CoverageGrid(proj4=proj4, crs_wkt=CRS.from_proj4(proj4).to_wkt(), transform=transform, width=width,
@@ -145,6 +159,53 @@ def to_grid(parts, lookup, n_radials, n_full):
         grid[valid] = table[k[valid], j[valid]]
         bands[name] = grid
     return bands
+
+
+class RadialStore:
+    """One gateway's radial results on disk: float32 ``(radial, sample, band)``, written sector by sector.
+
+    The streamed run (:func:`profiler.products.coverage.map.coverage` over ``max_memory_mb``) keeps the radial
+    tables here instead of in memory; :meth:`to_grid` reads back only the radial prefixes a tile needs (one read
+    per radial), and gives the tile's bands exactly as :func:`to_grid` gives the whole grid's.
+    """
+
+    def __init__(self, path, names, n_radials: int, n_full: int):
+        self.path, self.names, self.n_full = str(path), list(names), int(n_full)
+        self.n = np.zeros(n_radials, dtype=np.int64)
+        self._file = open(self.path, "w+b")
+        self._file.truncate(n_radials * n_full * len(self.names) * 4)
+
+    def write(self, first_radial: int, part: dict) -> None:
+        """Store a sector's results (its ``n`` and every band, each (R, n_full)) from radial ``first_radial``."""
+        table = np.stack([np.asarray(part[b], dtype=np.float32) for b in self.names], axis=-1)
+        self.n[first_radial:first_radial + table.shape[0]] = part["n"]
+        self._file.seek(first_radial * self.n_full * len(self.names) * 4)
+        self._file.write(np.ascontiguousarray(table).tobytes())
+
+    def to_grid(self, lookup) -> dict:
+        """The bands of a tile from its ``(radial, sample, inside)`` lookup (NaN outside)."""
+        import os
+
+        self._file.flush()
+        k, j, inside = (np.ravel(a) for a in lookup)
+        valid = np.flatnonzero(inside & (j < self.n[k]))
+        out = np.full((k.size, len(self.names)), np.nan, dtype=np.float32)
+        order = valid[np.argsort(k[valid], kind="stable")]
+        radials, starts = np.unique(k[order], return_index=True)
+        row_bytes = len(self.names) * 4
+        for r, pixels in zip(radials, np.split(order, starts[1:])):   # one read per radial, not per pixel
+            count = int(j[pixels].max()) + 1
+            data = os.pread(self._file.fileno(), count * row_bytes, int(r) * self.n_full * row_bytes)
+            out[pixels] = np.frombuffer(data, dtype=np.float32).reshape(count, -1)[j[pixels]]
+        shape = np.shape(lookup[0])
+        return {b: out[:, i].reshape(shape) for i, b in enumerate(self.names)}
+
+    def close(self) -> None:
+        import os
+
+        self._file.close()
+        if os.path.exists(self.path):
+            os.unlink(self.path)
 
 
 def composite(per_gateway: list, fade_margin_db: float) -> dict:
