@@ -162,3 +162,30 @@ def test_a_failed_stream_leaves_nothing(tmp_path, monkeypatch):
         coverage(GATEWAY, dem=DEM, mast_m=10.0, radius_km=2.0, resolution_m=RES_M, out=tmp_path / "c.tif",
                  json=tmp_path / "c.json", max_memory_mb=TINY_MB, progress=False)
     assert list(tmp_path.iterdir()) == []
+
+
+def test_running_composite_equals_the_stacked_composite():
+    """Gateways added window by window give :func:`composite` of the whole-grid stacks (ties, NaN, voids)."""
+    from profiler.products.coverage.grid import Gateway, RunningComposite, composite
+
+    rng = np.random.default_rng(7)
+    shape, windows = (40, 50), [(0, 40, 0, 50), (5, 30, 10, 45), (20, 40, 0, 20), (0, 12, 30, 50)]
+    per_gateway, running = [], RunningComposite(shape, 10.0)
+    for i, (r0, r1, c0, c1) in enumerate(windows):
+        full = {n: np.full(shape, np.nan, dtype=np.float32) for n in BANDS}
+        for n in BANDS:
+            values = np.round(rng.normal(10.0, 8.0, (r1 - r0, c1 - c0))).astype(np.float32)   # ties
+            values[rng.random(values.shape) < 0.2] = np.nan
+            full[n][r0:r1, c0:c1] = values
+        per_gateway.append(full)
+        running.add(i, Gateway(f"g{i}", 0.0, 0.0, 10.0, role="gateway" if i % 2 else "candidate"),
+                    {n: v[r0:r1, c0:c1] for n, v in full.items()}, (r0, r1, c0, c1))
+    expected = composite(per_gateway, 10.0)
+    bands, heard = running.result(True)
+    assert list(bands) == list(expected)
+    for name in expected:
+        assert np.array_equal(bands[name], expected[name], equal_nan=True), name
+    by_gateways = np.zeros(shape, dtype=bool)
+    for i, b in enumerate(per_gateway):
+        by_gateways |= bool(i % 2) & np.isfinite(b["margin_db"]) & (b["margin_db"] >= 10.0)
+    assert np.array_equal(heard, by_gateways)

@@ -77,6 +77,17 @@ class CoverageGrid:
                             transform=(a, b, c + a * col0, d, e, f + e * row0), width=col1 - col0,
                             height=row1 - row0, resolution_m=self.resolution_m)
 
+    def circle_window(self, gw: "Gateway", radius_m: float) -> tuple:
+        """Window ``(row0, row1, col0, col1)`` holding every pixel within ``radius_m`` of ``gw`` (1 % + 2 px spare)."""
+        from pyproj import Transformer
+
+        x, y = Transformer.from_crs("EPSG:4326", self.proj4, always_xy=True).transform(gw.lon_deg, gw.lat_deg)
+        a, _, c, _, e, f = self.transform
+        reach = radius_m * 1.01 + 2 * self.resolution_m   # aeqd off its centre: distances within 1 %
+        col0, col1 = math.floor((x - reach - c) / a), math.ceil((x + reach - c) / a)
+        row0, row1 = math.floor((y + reach - f) / e), math.ceil((y - reach - f) / e)
+        return (max(row0, 0), min(max(row1, 0), self.height), max(col0, 0), min(max(col1, 0), self.width))
+
     def tiles(self, tile_px: int) -> list:
         """Windows ``(row0, row1, col0, col1)`` of at most ``tile_px`` square covering the grid, row by row."""
         return [(r, min(r + tile_px, self.height), c, min(c + tile_px, self.width))
@@ -206,6 +217,55 @@ class RadialStore:
         self._file.close()
         if os.path.exists(self.path):
             os.unlink(self.path)
+
+
+def overlap(a: tuple, b: tuple):
+    """The intersection of two windows ``(row0, row1, col0, col1)``, None when empty."""
+    w = (max(a[0], b[0]), min(a[1], b[1]), max(a[2], b[2]), min(a[3], b[3]))
+    return w if w[0] < w[1] and w[2] < w[3] else None
+
+
+class RunningComposite:
+    """The composite of gateways added one at a time in index order, each over its window only.
+
+    Equal to :func:`composite` of all of them on the whole grid (the first highest margin wins; where no
+    margin is finite the bands are gateway 0's), at a cost of the windows' pixels instead of N x the grid's:
+    a composite of N sites costs about N single maps.  Also the pixels existing gateways hear.
+    """
+
+    def __init__(self, shape, fade_margin_db: float):
+        self.shape, self.fade_margin_db, self.bands = tuple(shape), float(fade_margin_db), None
+        self.score = np.full(shape, -np.inf, dtype=np.float32)
+        self.best = np.zeros(shape, dtype=np.int32)
+        self.heard = np.zeros(shape, dtype=np.int32)
+        self.heard_by_gateways = np.zeros(shape, dtype=bool)
+
+    def add(self, index: int, gw: "Gateway", bands: dict, window=None) -> None:
+        """Gateway ``index``'s bands over ``window`` ``(row0, row1, col0, col1)`` (default the whole shape)."""
+        sl = np.s_[:, :] if window is None else np.s_[window[0]:window[1], window[2]:window[3]]
+        if self.bands is None:
+            self.bands = {n: np.full(self.shape, np.nan, dtype=np.float32) for n in band_names(bands)}
+        margin = bands["margin_db"]
+        ok = np.isfinite(margin)
+        score = np.where(ok, margin, -np.inf).astype(np.float32)
+        take = np.ones(margin.shape, dtype=bool) if index == 0 else score > self.score[sl]
+        for name, values in self.bands.items():
+            values[sl][take] = bands[name][take]
+        self.score[sl][take] = score[take]
+        self.best[sl][take] = index
+        hears = ok & (margin >= self.fade_margin_db)
+        self.heard[sl] += hears
+        if gw.role == "gateway":
+            self.heard_by_gateways[sl] |= hears
+
+    def result(self, composite_run: bool):
+        """``(bands, heard_by_gateways)``; with ``composite_run`` also ``best_gateway`` and ``gateways_heard``."""
+        bands = dict(self.bands)
+        if composite_run:
+            has = np.isfinite(self.score)
+            bands["best_gateway"] = np.where(has, self.best, np.nan).astype(np.float32)
+            bands["gateways_heard"] = np.where(has, self.heard, np.nan).astype(np.float32)
+        return bands, self.heard_by_gateways
 
 
 def composite(per_gateway: list, fade_margin_db: float) -> dict:

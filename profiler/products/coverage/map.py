@@ -57,7 +57,16 @@ import numpy as np
 from ...about import CAUTION, __version__
 from ...errors import ProfilerError
 from ...propagation import geometry
-from .grid import CoverageGrid, Gateway, composite, make_grid, pixel_polar, radial_lookup, to_grid
+from .grid import (
+    CoverageGrid,
+    Gateway,
+    RunningComposite,
+    make_grid,
+    overlap,
+    pixel_polar,
+    radial_lookup,
+    to_grid,
+)
 from .radials import (
     keep_freed_memory,
     line_of_sight_radials,
@@ -411,6 +420,7 @@ def _write_tiles(model, settings, gateways, grid, stores, sweep, radius_m, compo
     while tile < 1024 and (2 * tile) ** 2 * per_pixel <= budget / 2:
         tile *= 2
     geotiff = StreamedGeoTIFF(grid, _temp_file(folder, ".tif"), block_px=min(tile, 256))
+    windows = [grid.circle_window(g, radius_m) for g in gateways]
     counts = {}
     try:
         for r0, r1, c0, c1 in grid.tiles(tile):
@@ -418,12 +428,20 @@ def _write_tiles(model, settings, gateways, grid, stores, sweep, radius_m, compo
             lon, lat = sub.lon_lat()
             outside = ~np.asarray(model.covers(lon, lat))
             inside_any = np.zeros(outside.shape, dtype=bool)
-            per_gateway = []
-            for g, store in zip(gateways, stores):
-                lookup = radial_lookup(*pixel_polar(sub, g), sweep["radials"], sweep["radial_step_m"], radius_m)
-                inside_any |= lookup[2]
-                per_gateway.append(store.to_grid(lookup))
-            bands, heard = _combine(gateways, per_gateway, composite_run, settings, outside)
+            running = RunningComposite(outside.shape, settings.radio.fade_margin_db)
+            for i, (g, store, gw_window) in enumerate(zip(gateways, stores, windows)):
+                w = overlap(gw_window, (r0, r1, c0, c1))
+                if w is None:
+                    continue   # the tile is off this gateway's circle
+                lookup = radial_lookup(*pixel_polar(grid.window(*w), g), sweep["radials"], sweep["radial_step_m"],
+                                       radius_m)
+                local = (w[0] - r0, w[1] - r0, w[2] - c0, w[3] - c0)
+                inside_any[local[0]:local[1], local[2]:local[3]] |= lookup[2]
+                running.add(i, g, store.to_grid(lookup), local)
+            if running.bands is None:   # no gateway reaches the tile: every band NaN
+                running.add(0, gateways[0], {n: np.full(outside.shape, np.nan, dtype=np.float32)
+                                             for n in stores[0].names})
+            bands, heard = _combine(running, composite_run, outside)
             geotiff.write(bands, (r0, r1, c0, c1))
             counts = _add_counts(counts, _tile_counts(bands, inside_any, heard, settings, land))
         _no_pixel(counts)
@@ -444,24 +462,22 @@ def _in_memory(model, settings, gateways, grid, radius_m, res, node_mast_m, work
     """The whole grid in memory: ``(bands, counts, sweep record, None)``."""
     with ThreadPoolExecutor(1) as pool:   # pyproj releases the GIL: the pixel positions overlap the sweep
         positions = pool.submit(grid.lon_lat)
-        per_gateway, inside_any, sweep = _sweep(model, settings, gateways, grid, radius_m, res, node_mast_m, workers,
-                                                scheduler, progress, kernel, cover, land)
+        running, inside_any, sweep = _sweep(model, settings, gateways, grid, radius_m, res, node_mast_m, workers,
+                                            scheduler, progress, kernel, cover, land)
         lon, lat = positions.result()
     outside_data = ~np.asarray(model.covers(lon, lat))
-    bands, heard_by_gateways = _combine(gateways, per_gateway, composite_run, settings, outside_data)
+    bands, heard_by_gateways = _combine(running, composite_run, outside_data)
     counts = _tile_counts(bands, inside_any, heard_by_gateways, settings, land)
     _no_pixel(counts)
     return bands, counts, sweep, None
 
 
-def _combine(gateways, per_gateway, composite_run, settings, outside_data):
+def _combine(running, composite_run, outside_data):
     """Bands of the run (the one gateway's, or the composite) and the pixels existing gateways hear, off-data NaN."""
-    fade = settings.radio.fade_margin_db
-    bands = composite(per_gateway, fade) if composite_run else per_gateway[0]
-    heard_by_gateways = _heard_by_gateways(gateways, per_gateway, fade) & ~outside_data
+    bands, heard_by_gateways = running.result(composite_run)
     for values in bands.values():   # a pixel centre off the data is nodata, whatever its nearest radial sample
         values[outside_data] = np.nan
-    return bands, heard_by_gateways
+    return bands, heard_by_gateways & ~outside_data
 
 
 def _tile_counts(bands, inside_any, heard_by_gateways, settings, land) -> dict:
@@ -566,22 +582,17 @@ def _sweep(model, settings, gateways, grid, radius_m, res, node_mast_m, workers,
                             cover=cover if local else None, land=land)
     parts = run_chunks(job, chunks, workers=workers, scheduler=scheduler, progress=progress, desc="radials",
                        weights=[c[1].size for c in chunks])
-    per_gateway = []
+    running = RunningComposite((grid.height, grid.width), settings.radio.fade_margin_db)
     inside_any = np.zeros((grid.height, grid.width), dtype=bool)
-    for i, g in enumerate(gateways):
-        lookup = radial_lookup(*pixel_polar(grid, g), n_radials, spacing, radius_m)
-        inside_any |= lookup[2]
-        per_gateway.append(to_grid(parts[i * len(sectors):(i + 1) * len(sectors)], lookup, n_radials, n_full))
-    return per_gateway, inside_any, {"radials": n_radials, "radial_step_m": spacing}
-
-
-def _heard_by_gateways(gateways, per_gateway, fade_margin_db) -> np.ndarray:
-    """Pixels that at least one existing gateway (not a candidate site) hears with the fade margin."""
-    heard = np.zeros(per_gateway[0]["margin_db"].shape, dtype=bool)
-    for g, b in zip(gateways, per_gateway):
-        if g.role == "gateway":
-            heard |= np.isfinite(b["margin_db"]) & (b["margin_db"] >= fade_margin_db)
-    return heard
+    for i, g in enumerate(gateways):   # each gateway over the window of its circle only
+        w = grid.circle_window(g, radius_m)
+        if overlap(w, (0, grid.height, 0, grid.width)) is None:
+            continue
+        lookup = radial_lookup(*pixel_polar(grid.window(*w), g), n_radials, spacing, radius_m)
+        inside_any[w[0]:w[1], w[2]:w[3]] |= lookup[2]
+        running.add(i, g, to_grid(parts[i * len(sectors):(i + 1) * len(sectors)], lookup, n_radials, n_full), w)
+        parts[i * len(sectors):(i + 1) * len(sectors)] = [None] * len(sectors)   # free the gateway's tables
+    return running, inside_any, {"radials": n_radials, "radial_step_m": spacing}
 
 
 def _radio_ends(gateways, settings) -> dict:
