@@ -176,7 +176,7 @@ class RadialStore:
     """One gateway's radial results on disk: float32 ``(radial, sample, band)``, written sector by sector.
 
     The streamed run (:func:`profiler.products.coverage.map.coverage` over ``max_memory_mb``) keeps the radial
-    tables here instead of in memory; :meth:`to_grid` reads back only the radial prefixes a tile needs (one read
+    tables here instead of in memory; :meth:`to_grid` reads back only the stretch of each radial a tile needs (one read
     per radial), and gives the tile's bands exactly as :func:`to_grid` gives the whole grid's.
     """
 
@@ -205,9 +205,10 @@ class RadialStore:
         radials, starts = np.unique(k[order], return_index=True)
         row_bytes = len(self.names) * 4
         for r, pixels in zip(radials, np.split(order, starts[1:])):   # one read per radial, not per pixel
-            count = int(j[pixels].max()) + 1
-            data = os.pread(self._file.fileno(), count * row_bytes, int(r) * self.n_full * row_bytes)
-            out[pixels] = np.frombuffer(data, dtype=np.float32).reshape(count, -1)[j[pixels]]
+            first = int(j[pixels].min())
+            count = int(j[pixels].max()) + 1 - first
+            data = os.pread(self._file.fileno(), count * row_bytes, (int(r) * self.n_full + first) * row_bytes)
+            out[pixels] = np.frombuffer(data, dtype=np.float32).reshape(count, -1)[j[pixels] - first]
         shape = np.shape(lookup[0])
         return {b: out[:, i].reshape(shape) for i, b in enumerate(self.names)}
 
@@ -282,3 +283,48 @@ def composite(per_gateway: list, fade_margin_db: float) -> dict:
     heard = np.sum(np.where(np.isfinite(margin), margin >= fade_margin_db, False), axis=0)
     out["gateways_heard"] = np.where(has, heard, np.nan).astype(np.float32)
     return out
+
+
+def combine_bands(running, composite_run, outside_data):
+    """Bands of the run (the one gateway's, or the composite) and the pixels existing gateways hear, off-data NaN."""
+    bands, heard_by_gateways = running.result(composite_run)
+    for values in bands.values():   # a pixel centre off the data is nodata, whatever its nearest radial sample
+        values[outside_data] = np.nan
+    return bands, heard_by_gateways & ~outside_data
+
+
+def tile_counts(bands, inside_any, heard_by_gateways, settings, land) -> dict:
+    """Pixel counts (and the probability sum) of one tile, summed over tiles into the summary."""
+    from ...lora.regional import plan as regional_plan
+
+    plan = regional_plan(settings.band) if settings.band is not None else None
+    fade, location_percent = settings.radio.fade_margin_db, settings.radio.propagation.location_percent
+    margin = bands["margin_db"]
+    ok = np.isfinite(margin)
+    closes = ok & (margin >= fade)
+    prob = np.where(ok, bands["probability_heard"], np.nan)
+    # a probability within float32 rounding of the percentage counts as reaching it
+    heard = np.isfinite(prob) & (prob >= location_percent / 100.0 - 1e-6)
+    counts = {"computed": int(ok.sum()), "covered": int(closes.sum()),
+              "by_gateways": int((heard_by_gateways & ok).sum()),
+              "line_of_sight": int(np.sum(bands["line_of_sight"] == 1.0)), "heard": int(heard.sum()),
+              "prob_sum": float(np.sum(prob[np.isfinite(prob)], dtype=np.float64)),
+              "prob_n": int(np.isfinite(prob).sum()), "missing": int(np.sum(inside_any & ~ok)),
+              "inside": int(inside_any.sum()),
+              "dr": {int(v): int(np.sum(bands["recommended_dr"] == v))
+                     for v in (sorted(plan.data_rates) if plan is not None else [])}}
+    if land is not None:
+        codes = bands["clutter_class"][ok]
+        counts["no_class"] = int(np.sum(~np.isfinite(codes)))
+        values, n = np.unique(codes[np.isfinite(codes)].astype(np.int64), return_counts=True)
+        counts["codes"] = dict(zip(values.tolist(), n.tolist()))
+    return counts
+
+
+def add_counts(total: dict, counts: dict) -> dict:
+    """Sum of two tiles' counts (nested dicts key by key)."""
+    if not total:
+        return counts
+    return {k: add_counts(v, counts.get(k, {})) if isinstance(v, dict) and k != "codes" else
+            ({c: v.get(c, 0) + counts[k].get(c, 0) for c in set(v) | set(counts[k])} if k == "codes" else
+             v + counts[k]) for k, v in total.items()}

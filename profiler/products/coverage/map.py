@@ -61,10 +61,13 @@ from .grid import (
     CoverageGrid,
     Gateway,
     RunningComposite,
+    add_counts,
+    combine_bands,
     make_grid,
     overlap,
     pixel_polar,
     radial_lookup,
+    tile_counts,
     to_grid,
 )
 from .radials import (
@@ -441,9 +444,9 @@ def _write_tiles(model, settings, gateways, grid, stores, sweep, radius_m, compo
             if running.bands is None:   # no gateway reaches the tile: every band NaN
                 running.add(0, gateways[0], {n: np.full(outside.shape, np.nan, dtype=np.float32)
                                              for n in stores[0].names})
-            bands, heard = _combine(running, composite_run, outside)
+            bands, heard = combine_bands(running, composite_run, outside)
             geotiff.write(bands, (r0, r1, c0, c1))
-            counts = _add_counts(counts, _tile_counts(bands, inside_any, heard, settings, land))
+            counts = add_counts(counts, tile_counts(bands, inside_any, heard, settings, land))
         _no_pixel(counts)
         return list(bands), counts, geotiff.close(SCHEMA)
     except BaseException:
@@ -466,55 +469,10 @@ def _in_memory(model, settings, gateways, grid, radius_m, res, node_mast_m, work
                                             scheduler, progress, kernel, cover, land)
         lon, lat = positions.result()
     outside_data = ~np.asarray(model.covers(lon, lat))
-    bands, heard_by_gateways = _combine(running, composite_run, outside_data)
-    counts = _tile_counts(bands, inside_any, heard_by_gateways, settings, land)
+    bands, heard_by_gateways = combine_bands(running, composite_run, outside_data)
+    counts = tile_counts(bands, inside_any, heard_by_gateways, settings, land)
     _no_pixel(counts)
     return bands, counts, sweep, None
-
-
-def _combine(running, composite_run, outside_data):
-    """Bands of the run (the one gateway's, or the composite) and the pixels existing gateways hear, off-data NaN."""
-    bands, heard_by_gateways = running.result(composite_run)
-    for values in bands.values():   # a pixel centre off the data is nodata, whatever its nearest radial sample
-        values[outside_data] = np.nan
-    return bands, heard_by_gateways & ~outside_data
-
-
-def _tile_counts(bands, inside_any, heard_by_gateways, settings, land) -> dict:
-    """Pixel counts (and the probability sum) of one tile, summed over tiles into the summary."""
-    from ...lora.regional import plan as regional_plan
-
-    plan = regional_plan(settings.band) if settings.band is not None else None
-    fade, location_percent = settings.radio.fade_margin_db, settings.radio.propagation.location_percent
-    margin = bands["margin_db"]
-    ok = np.isfinite(margin)
-    closes = ok & (margin >= fade)
-    prob = np.where(ok, bands["probability_heard"], np.nan)
-    # a probability within float32 rounding of the percentage counts as reaching it
-    heard = np.isfinite(prob) & (prob >= location_percent / 100.0 - 1e-6)
-    counts = {"computed": int(ok.sum()), "covered": int(closes.sum()),
-              "by_gateways": int((heard_by_gateways & ok).sum()),
-              "line_of_sight": int(np.sum(bands["line_of_sight"] == 1.0)), "heard": int(heard.sum()),
-              "prob_sum": float(np.sum(prob[np.isfinite(prob)], dtype=np.float64)),
-              "prob_n": int(np.isfinite(prob).sum()), "missing": int(np.sum(inside_any & ~ok)),
-              "inside": int(inside_any.sum()),
-              "dr": {int(v): int(np.sum(bands["recommended_dr"] == v))
-                     for v in (sorted(plan.data_rates) if plan is not None else [])}}
-    if land is not None:
-        codes = bands["clutter_class"][ok]
-        counts["no_class"] = int(np.sum(~np.isfinite(codes)))
-        values, n = np.unique(codes[np.isfinite(codes)].astype(np.int64), return_counts=True)
-        counts["codes"] = dict(zip(values.tolist(), n.tolist()))
-    return counts
-
-
-def _add_counts(total: dict, counts: dict) -> dict:
-    """Sum of two tiles' counts (nested dicts key by key)."""
-    if not total:
-        return counts
-    return {k: _add_counts(v, counts.get(k, {})) if isinstance(v, dict) and k != "codes" else
-            ({c: v.get(c, 0) + counts[k].get(c, 0) for c in set(v) | set(counts[k])} if k == "codes" else
-             v + counts[k]) for k, v in total.items()}
 
 
 def _clutter_warnings(counts, land, node_mast_m) -> list:
