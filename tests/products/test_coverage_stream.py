@@ -189,3 +189,23 @@ def test_running_composite_equals_the_stacked_composite():
     for i, b in enumerate(per_gateway):
         by_gateways |= bool(i % 2) & np.isfinite(b["margin_db"]) & (b["margin_db"] >= 10.0)
     assert np.array_equal(heard, by_gateways)
+
+
+@pytest.mark.parametrize("budget", ["0", "-5", "nan", "1e9"])
+def test_a_bad_budget_is_one_line_exit_2_nothing_written(tmp_path, budget):
+    from click.testing import CliRunner
+
+    from profiler.cli import main
+
+    res = CliRunner().invoke(main, ["coverage", "--dem", str(DEM[0]), "--site", f"{GATEWAY[0]},{GATEWAY[1]}",
+                                    "--mast-m", "10", "--radius-km", "2", "--max-memory-mb", budget,
+                                    "--out", str(tmp_path / "c.tif")])
+    assert res.exit_code == 2 and "--max-memory-mb" in res.output and "Traceback" not in res.output
+    assert list(tmp_path.iterdir()) == []
+
+
+def test_the_api_checks_the_budget_too():
+    from profiler.errors import ProfilerError
+
+    with pytest.raises(ProfilerError, match="^--max-memory-mb -1"):
+        coverage(GATEWAY, dem=DEM, mast_m=10.0, radius_km=2.0, max_memory_mb=-1.0, progress=False)

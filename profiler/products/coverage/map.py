@@ -298,6 +298,10 @@ def coverage(site=None, *, dem, mast_m=None, name="site", sites=None, radius_km:
     from ...terrain.landcover import LandCover, class_mapping_for, land_cover_paths
 
     _check_numbers(radius_km, resolution_m, node_mast_m)
+    if max_memory_mb is not None:
+        from ...limits import check
+
+        max_memory_mb = check("--max-memory-mb", max_memory_mb)
     gateways = _gateways(site, mast_m, name, sites)
     settings = _settings(dem, band, frequency_mhz, k_factor, clearance_ratio, fill_voids, radio)
     mapping = class_mapping_for(land_cover, land_cover_classes)
