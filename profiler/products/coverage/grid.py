@@ -241,17 +241,24 @@ class RunningComposite:
         self.heard = np.zeros(shape, dtype=np.int32)
         self.heard_by_gateways = np.zeros(shape, dtype=bool)
 
-    def add(self, index: int, gw: "Gateway", bands: dict, window=None) -> None:
-        """Gateway ``index``'s bands over ``window`` ``(row0, row1, col0, col1)`` (default the whole shape)."""
+    def add(self, index: int, gw: "Gateway", bands: dict, window=None, adopt: bool = False) -> None:
+        """Gateway ``index``'s bands over ``window`` ``(row0, row1, col0, col1)`` (default the whole shape).
+
+        ``adopt``: gateway 0's float32 arrays over the whole shape become the composite's own, without a copy
+        (the caller hands them over; a single-site map then holds its bands once).
+        """
         sl = np.s_[:, :] if window is None else np.s_[window[0]:window[1], window[2]:window[3]]
-        if self.bands is None:
-            self.bands = {n: np.full(self.shape, np.nan, dtype=np.float32) for n in band_names(bands)}
         margin = bands["margin_db"]
         ok = np.isfinite(margin)
         score = np.where(ok, margin, -np.inf).astype(np.float32)
         take = np.ones(margin.shape, dtype=bool) if index == 0 else score > self.score[sl]
+        if adopt and self.bands is None and index == 0 and margin.shape == self.shape:
+            self.bands = {n: np.asarray(bands[n], dtype=np.float32) for n in band_names(bands)}
+        elif self.bands is None:
+            self.bands = {n: np.full(self.shape, np.nan, dtype=np.float32) for n in band_names(bands)}
         for name, values in self.bands.items():
-            values[sl][take] = bands[name][take]
+            if values is not bands[name]:
+                values[sl][take] = bands[name][take]
         self.score[sl][take] = score[take]
         self.best[sl][take] = index
         hears = ok & (margin >= self.fade_margin_db)

@@ -444,7 +444,7 @@ def _write_tiles(model, settings, gateways, grid, stores, sweep, radius_m, compo
                                        radius_m)
                 local = (w[0] - r0, w[1] - r0, w[2] - c0, w[3] - c0)
                 inside_any[local[0]:local[1], local[2]:local[3]] |= lookup[2]
-                running.add(i, g, store.to_grid(lookup), local)
+                running.add(i, g, store.to_grid(lookup), local, adopt=True)
             if running.bands is None:   # no gateway reaches the tile: every band NaN
                 running.add(0, gateways[0], {n: np.full(outside.shape, np.nan, dtype=np.float32)
                                              for n in stores[0].names})
@@ -552,7 +552,8 @@ def _sweep(model, settings, gateways, grid, radius_m, res, node_mast_m, workers,
             continue
         lookup = radial_lookup(*pixel_polar(grid.window(*w), g), n_radials, spacing, radius_m)
         inside_any[w[0]:w[1], w[2]:w[3]] |= lookup[2]
-        running.add(i, g, to_grid(parts[i * len(sectors):(i + 1) * len(sectors)], lookup, n_radials, n_full), w)
+        running.add(i, g, to_grid(parts[i * len(sectors):(i + 1) * len(sectors)], lookup, n_radials, n_full), w,
+                    adopt=True)
         parts[i * len(sectors):(i + 1) * len(sectors)] = [None] * len(sectors)   # free the gateway's tables
     return running, inside_any, {"radials": n_radials, "radial_step_m": spacing}
 
