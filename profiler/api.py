@@ -455,7 +455,7 @@ def coverage(site=None, *, dem, mast_m: float | None = None, radius_km: float, n
              scheduler: str | None = None, progress: bool | None = None, kernel: bool | None = None, date=None,
              sheet_info=None, out=None, plot=None, kmz=None, json=None, paper: str = "a4", dpi: int = 200,
              calibration=None, land_cover=None, land_cover_classes=None,
-             map_kind: str = "margin"):
+             map_kind: str = "margin", max_memory_mb: float | None = None):
     """Margin and data rate at every pixel within a radius of a gateway site (``profiler coverage``).
 
     The computation (:func:`profiler.products.coverage.map.coverage`) writes no file; the files asked
@@ -507,12 +507,16 @@ def coverage(site=None, *, dem, mast_m: float | None = None, radius_km: float, n
     <<land_cover_classes>>
     map_kind : {"margin", "probability"}
         What the sheet's map shows (``--map``): the margin classes or the probability of being heard.
+    max_memory_mb : float, optional
+        Memory budget [MB] (``--max-memory-mb``): a larger run (or any grid over 40 million pixels)
+        streams, the GeoTIFF written tile by tile, the sheet and overlay drawn from a decimated read of it.
 
     Returns
     -------
     profiler.products.coverage.map.CoverageResult
         ``result.to_dict()`` is the ``profiler.coverage/5`` JSON report; ``result.bands`` maps each band
-        name to a float32 array on ``result.grid`` (NaN: nodata).
+        name to a float32 array on ``result.grid`` (NaN: nodata), or is None for a streamed run (read the
+        bands from ``out``).
     """
     from .io.outputs import check_outputs, write_outputs
     from .products.coverage.map import coverage as _coverage
@@ -524,10 +528,21 @@ def coverage(site=None, *, dem, mast_m: float | None = None, radius_km: float, n
                        resolution_m=resolution_m, node_mast_m=node_mast_m, band=band, frequency_mhz=frequency_mhz,
                        k_factor=k_factor, clearance_ratio=clearance_ratio, fill_voids=fill_voids, radio=radio,
                        workers=workers, scheduler=scheduler, progress=progress, kernel=kernel, date=date,
-                       sheet_info=sheet_info, land_cover=land_cover, land_cover_classes=land_cover_classes)
-    write_outputs(coverage_outputs(out, plot, kmz, json, paper=paper, dpi=dpi, dem_paths=dem, result=result,
-                                   map_kind=map_kind), result.to_dict())
+                       sheet_info=sheet_info, land_cover=land_cover, land_cover_classes=land_cover_classes,
+                       max_memory_mb=max_memory_mb, stream_dir=stream_folder(out))
+    try:
+        write_outputs(coverage_outputs(out, plot, kmz, json, paper=paper, dpi=dpi, dem_paths=dem, result=result,
+                                       map_kind=map_kind), result.to_dict())
+    finally:
+        result.discard()   # a streamed run's temporary GeoTIFF, unless --out took it
     return result
+
+
+def stream_folder(out):
+    """The folder of a streamed coverage's temporary files: the GeoTIFF's own (an atomic rename), else None."""
+    from pathlib import Path
+
+    return None if out is None else str(Path(out).resolve().parent)
 
 def coverage_outputs(out=None, plot=None, kmz=None, json=None, *, paper="a4", dpi=200, dem_paths=(), result=None,
                      summary=False, map_kind="margin"):
@@ -535,8 +550,12 @@ def coverage_outputs(out=None, plot=None, kmz=None, json=None, *, paper="a4", dp
 
     ``map_kind``: ``margin`` (the margin classes) or ``probability`` (of being heard) on the sheet's map.
     """
-    from .io.coverage import coverage_kmz_bytes, coverage_summary_text, write_geotiff
+    from .io.coverage import coverage_kmz_bytes, coverage_summary_text, decimated_view, write_geotiff
     from .io.outputs import Output
+
+    view = result
+    if result is not None and result.bands is None and (plot is not None or kmz is not None):
+        view = decimated_view(result)   # before --out moves the streamed GeoTIFF into place
 
     def render_tif(report, path):
         write_geotiff(result, path)
@@ -546,11 +565,11 @@ def coverage_outputs(out=None, plot=None, kmz=None, json=None, *, paper="a4", dp
         return json_text(report)
 
     def render_kmz(report, path):
-        return coverage_kmz_bytes(result, report)
+        return coverage_kmz_bytes(view, report)
 
     def render_plot(report, path, files=None):
         from .plot import write_coverage_figure
-        write_coverage_figure(result, path, paper=paper, dpi=dpi, dem_paths=list(dem_paths or ()), report=report,
+        write_coverage_figure(view, path, paper=paper, dpi=dpi, dem_paths=list(dem_paths or ()), report=report,
                               date_text=(report.get("sheet") or {}).get("date"), files=files, map_kind=map_kind)
 
     outputs = [Output("--out", out, render_tif, "raw", suffixes=(".tif", ".tiff"), stdout=False),

@@ -122,7 +122,8 @@ LIMITS: dict[str, Limit] = {
     "--workers": Limit(1, 256, "", "worker processes", integer=True),
     "--cell-m": Limit(1.0, 10_000.0, "m", "side of a survey location cell", low_open=False),
     "--folds": Limit(2, 100, "", "cross-validation folds", integer=True),
-    # coverage (the grid limit MAX_PIXELS of profiler.products.coverage.map bounds radius / resolution as well)
+    # coverage (grids over MAX_PIXELS of profiler.products.coverage.grid stream; MAX_STREAM_PIXELS bounds them)
+    "--max-memory-mb": Limit(0.0, 1_048_576.0, "MB", "memory budget of a coverage map", low_open=True),
     "--mast-m": Limit(0.0, 1000.0, "m", "gateway antenna height above ground"),
     "--node-mast-m": Limit(0.0, 1000.0, "m", "node antenna height above ground"),
     "--radius-km": Limit(0.0, 200.0, "km", "coverage radius", low_open=True),

@@ -52,12 +52,15 @@ from .options import (
 @click.option("--json", "json_path", default=None, metavar="FILE", help="Write the JSON summary ('-' for stdout).")
 @click.option("--map", "map_kind", type=click.Choice(["margin", "probability"]), default="margin", show_default=True,
               help="What the sheet's map shows: the margin classes or the probability of being heard (0-1).")
+@click.option("--max-memory-mb", type=POSITIVE, default=None, metavar="MB",
+              help="Memory budget of the map [MB]: a larger run streams, writing the GeoTIFF tile by tile "
+                   "(grids over 40 million pixels always stream, within 2048 MB).")
 @plot_options(continued=True)
 @sheet_options
 @cluster_options
 def coverage_command(dem_paths, site, mast_m, name, sites_csv, radius_km, resolution_m, node_mast_m, fill_voids,
-                     k_text, freq_mhz, band_name, clearance_ratio, out_path, kmz_path, json_path, map_kind, plot_path,
-                     paper, dpi, workers, scheduler, no_progress, **kw):
+                     k_text, freq_mhz, band_name, clearance_ratio, out_path, kmz_path, json_path, map_kind,
+                     max_memory_mb, plot_path, paper, dpi, workers, scheduler, no_progress, **kw):
     """Where a node at --node-mast-m is heard from a site, at which data rate: every pixel within --radius-km.
 
     The site is the gateway (end A); every pixel centre is a node. Bands:
@@ -78,7 +81,7 @@ def coverage_command(dem_paths, site, mast_m, name, sites_csv, radius_km, resolu
     from . import collect_garbage
 
     collect_garbage()   # long runs and Dask: the collector on as usual
-    from ..api import coverage_outputs
+    from ..api import coverage_outputs, stream_folder
     from ..errors import ProfilerError
     from ..io.outputs import check_outputs, write_outputs
     from ..limits import quiet_numerics
@@ -101,7 +104,11 @@ def coverage_command(dem_paths, site, mast_m, name, sites_csv, radius_km, resolu
                           resolution_m=resolution_m, node_mast_m=node_mast_m, band=band_name, frequency_mhz=freq_mhz,
                           k_factor=k_text, clearance_ratio=clearance_ratio, fill_voids=fill_voids, radio=radio,
                           workers=workers, scheduler=scheduler, progress=False if no_progress else None,
-                          date=date, sheet_info=sheet_info, **cover)
-        outputs = coverage_outputs(out_path, plot_path, kmz_path, json_path, paper=paper, dpi=dpi,
-                                   dem_paths=dem_paths, result=result, summary=True, map_kind=map_kind)
-        write_outputs(outputs, result.to_dict())
+                          date=date, sheet_info=sheet_info, max_memory_mb=max_memory_mb,
+                          stream_dir=stream_folder(out_path), **cover)
+        try:
+            outputs = coverage_outputs(out_path, plot_path, kmz_path, json_path, paper=paper, dpi=dpi,
+                                       dem_paths=dem_paths, result=result, summary=True, map_kind=map_kind)
+            write_outputs(outputs, result.to_dict())
+        finally:
+            result.discard()   # a streamed run's temporary GeoTIFF, unless --out took it

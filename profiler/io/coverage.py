@@ -82,23 +82,98 @@ def class_rgba(cls) -> np.ndarray:
     return rgba
 
 
-def write_geotiff(result, path) -> None:
-    """Write the bands as a tiled, DEFLATE-compressed float32 GeoTIFF with band descriptions [2]_."""
+def geotiff_profile(grid, count: int, block_px: int = 256) -> dict:
+    """The GTiff creation profile of the bands: tiled, DEFLATE, floating-point predictor, NaN nodata [2]_."""
     import rasterio
     from rasterio.transform import Affine
 
-    grid = result.grid
+    return {"driver": "GTiff", "width": grid.width, "height": grid.height, "count": count,
+            "dtype": "float32", "crs": rasterio.crs.CRS.from_wkt(grid.crs_wkt),
+            "transform": Affine(*grid.transform), "nodata": float("nan"), "tiled": True, "blockxsize": block_px,
+            "blockysize": block_px, "compress": "deflate", "predictor": 3, "BIGTIFF": "IF_SAFER",
+            "num_threads": "all_cpus"}   # GDAL compresses the tiles on every core (lossless, same file)
+
+
+def write_geotiff(result, path) -> None:
+    """Write the bands as a tiled, DEFLATE-compressed float32 GeoTIFF with band descriptions [2]_.
+
+    A streamed result (``result.geotiff_path``) has written its GeoTIFF already: it is moved to ``path``.
+    """
+    import rasterio
+
+    if getattr(result, "geotiff_path", None):
+        import shutil
+
+        shutil.move(result.geotiff_path, path)   # a rename within the output's folder
+        return
     names = list(result.bands)
-    profile = {"driver": "GTiff", "width": grid.width, "height": grid.height, "count": len(names),
-               "dtype": "float32", "crs": rasterio.crs.CRS.from_wkt(grid.crs_wkt),
-               "transform": Affine(*grid.transform), "nodata": float("nan"), "tiled": True, "blockxsize": 256,
-               "blockysize": 256, "compress": "deflate", "predictor": 3, "BIGTIFF": "IF_SAFER",
-               "num_threads": "all_cpus"}   # GDAL compresses the tiles on every core (lossless, same file)
-    with rasterio.open(path, "w", **profile) as ds:
+    with rasterio.open(path, "w", **geotiff_profile(result.grid, len(names))) as ds:
         for i, name in enumerate(names, start=1):
             ds.write(result.bands[name].astype(np.float32), i)
             ds.set_band_description(i, name)
         ds.update_tags(schema=result.report["schema"], caution=CAUTION)
+
+
+class StreamedGeoTIFF:
+    """The GeoTIFF of a streamed run, written window by window to a temporary ``path`` (each block once)."""
+
+    def __init__(self, grid, path, block_px: int = 256):
+        self.grid, self.path, self.block_px, self._ds, self._names = grid, str(path), int(block_px), None, None
+
+    def write(self, bands: dict, window) -> None:
+        """Write a tile's bands at ``window`` ``(row0, row1, col0, col1)``."""
+        import rasterio
+        from rasterio.windows import Window
+
+        if self._ds is None:
+            self._names = list(bands)
+            self._ds = rasterio.open(self.path, "w", **geotiff_profile(self.grid, len(self._names), self.block_px))
+        r0, r1, c0, c1 = window
+        for i, name in enumerate(self._names, start=1):
+            self._ds.write(bands[name].astype(np.float32), i, window=Window(c0, r0, c1 - c0, r1 - r0))
+
+    def close(self, schema: str) -> str:
+        """Band descriptions and tags, then close; the path of the finished file."""
+        for i, name in enumerate(self._names, start=1):
+            self._ds.set_band_description(i, name)
+        self._ds.update_tags(schema=schema, caution=CAUTION)
+        self._ds.close()
+        return self.path
+
+    def abort(self) -> None:
+        """Close and remove the unfinished file."""
+        import os
+
+        if self._ds is not None and not self._ds.closed:
+            self._ds.close()
+        if os.path.exists(self.path):
+            os.unlink(self.path)
+
+
+def decimated_view(result, max_side: int = 2048):
+    """A streamed result with its bands read back from its GeoTIFF at most ``max_side`` pixels a side.
+
+    GDAL's nearest-neighbour decimated read; the grid is the same extent in fewer, larger pixels.  For the
+    sheet and the overlay of a map too large for memory (the report, and so every number, is unchanged).
+    """
+    import dataclasses
+
+    import rasterio
+    from rasterio.enums import Resampling
+
+    grid = result.grid
+    with rasterio.open(result.geotiff_path) as ds:
+        step = max(grid.width, grid.height) / max_side
+        shape = (max(1, math.ceil(grid.height / step)), max(1, math.ceil(grid.width / step))) if step > 1 \
+            else (grid.height, grid.width)
+        data = ds.read(out_shape=(ds.count,) + shape, resampling=Resampling.nearest)
+        names = list(ds.descriptions)
+    a, b, c, d, e, f = grid.transform
+    sx, sy = grid.width / shape[1], grid.height / shape[0]
+    coarse = dataclasses.replace(grid, transform=(a * sx, b, c, d, e * sy, f), width=shape[1], height=shape[0],
+                                 resolution_m=grid.resolution_m * max(sx, sy))
+    return dataclasses.replace(result, bands={n: data[i] for i, n in enumerate(names)}, grid=coarse,
+                               geotiff_path=None)
 
 
 def geographic_classes(result, max_pixels: int = 2048, band=None):

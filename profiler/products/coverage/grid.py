@@ -29,7 +29,9 @@ def band_names(parts) -> list:
     """The bands a run's radial results hold, in the GeoTIFF's order (:data:`BANDS`, land cover, indoor)."""
     return [b for b in BANDS + LAND_COVER_BANDS + INDOOR_BANDS if b in parts]
 MAX_PIXELS = 40_000_000
-"""Largest grid accepted (pixels)."""
+"""Largest grid held in memory (pixels); a larger one streams to the GeoTIFF tile by tile (see ``max_memory_mb``)."""
+MAX_STREAM_PIXELS = 4_000_000_000
+"""Largest grid accepted at all (pixels): 4e9 float32 values per band, a BigTIFF."""
 
 
 @dataclass(frozen=True)
@@ -68,6 +70,29 @@ class CoverageGrid:
         y = f + e * (np.arange(self.height) + 0.5)
         return np.meshgrid(x, y)
 
+    def window(self, row0: int, row1: int, col0: int, col1: int) -> "CoverageGrid":
+        """The rows ``row0:row1`` and columns ``col0:col1`` as a grid of their own (same CRS, shifted origin)."""
+        a, b, c, d, e, f = self.transform
+        return CoverageGrid(proj4=self.proj4, crs_wkt=self.crs_wkt,
+                            transform=(a, b, c + a * col0, d, e, f + e * row0), width=col1 - col0,
+                            height=row1 - row0, resolution_m=self.resolution_m)
+
+    def circle_window(self, gw: "Gateway", radius_m: float) -> tuple:
+        """Window ``(row0, row1, col0, col1)`` holding every pixel within ``radius_m`` of ``gw`` (1 % + 2 px spare)."""
+        from pyproj import Transformer
+
+        x, y = Transformer.from_crs("EPSG:4326", self.proj4, always_xy=True).transform(gw.lon_deg, gw.lat_deg)
+        a, _, c, _, e, f = self.transform
+        reach = radius_m * 1.01 + 2 * self.resolution_m   # aeqd off its centre: distances within 1 %
+        col0, col1 = math.floor((x - reach - c) / a), math.ceil((x + reach - c) / a)
+        row0, row1 = math.floor((y + reach - f) / e), math.ceil((y - reach - f) / e)
+        return (max(row0, 0), min(max(row1, 0), self.height), max(col0, 0), min(max(col1, 0), self.width))
+
+    def tiles(self, tile_px: int) -> list:
+        """Windows ``(row0, row1, col0, col1)`` of at most ``tile_px`` square covering the grid, row by row."""
+        return [(r, min(r + tile_px, self.height), c, min(c + tile_px, self.width))
+                for r in range(0, self.height, tile_px) for c in range(0, self.width, tile_px)]
+
     def lon_lat(self):
         """Pixel-centre WGS84 longitude and latitude [deg], each (height, width)."""
         from pyproj import Transformer
@@ -101,8 +126,8 @@ def make_grid(gateways, radius_m: float, resolution_m: float) -> CoverageGrid:
     i0, i1 = math.floor((min(x) - reach) / resolution_m), math.ceil((max(x) + reach) / resolution_m)
     j0, j1 = math.floor((min(y) - reach) / resolution_m), math.ceil((max(y) + reach) / resolution_m)
     width, height = i1 - i0 + 1, j1 - j0 + 1
-    if width * height > MAX_PIXELS:
-        raise ProfilerError(f"the grid would have {width * height:,} pixels (more than {MAX_PIXELS:,}); give a "
+    if width * height > MAX_STREAM_PIXELS:
+        raise ProfilerError(f"the grid would have {width * height:,} pixels (more than {MAX_STREAM_PIXELS:,}); give a "
                             "coarser --resolution-m or a smaller --radius-km")
     transform = (resolution_m, 0.0, (i0 - 0.5) * resolution_m, 0.0, -resolution_m, (j1 + 0.5) * resolution_m)
     return CoverageGrid(proj4=proj4, crs_wkt=CRS.from_proj4(proj4).to_wkt(), transform=transform, width=width,
@@ -147,6 +172,110 @@ def to_grid(parts, lookup, n_radials, n_full):
     return bands
 
 
+class RadialStore:
+    """One gateway's radial results on disk: float32 ``(radial, sample, band)``, written sector by sector.
+
+    The streamed run (:func:`profiler.products.coverage.map.coverage` over ``max_memory_mb``) keeps the radial
+    tables here instead of in memory; :meth:`to_grid` reads back only the stretch of each radial a tile needs (one read
+    per radial), and gives the tile's bands exactly as :func:`to_grid` gives the whole grid's.
+    """
+
+    def __init__(self, path, names, n_radials: int, n_full: int):
+        self.path, self.names, self.n_full = str(path), list(names), int(n_full)
+        self.n = np.zeros(n_radials, dtype=np.int64)
+        self._file = open(self.path, "w+b")
+        self._file.truncate(n_radials * n_full * len(self.names) * 4)
+
+    def write(self, first_radial: int, part: dict) -> None:
+        """Store a sector's results (its ``n`` and every band, each (R, n_full)) from radial ``first_radial``."""
+        table = np.stack([np.asarray(part[b], dtype=np.float32) for b in self.names], axis=-1)
+        self.n[first_radial:first_radial + table.shape[0]] = part["n"]
+        self._file.seek(first_radial * self.n_full * len(self.names) * 4)
+        self._file.write(np.ascontiguousarray(table).tobytes())
+
+    def to_grid(self, lookup) -> dict:
+        """The bands of a tile from its ``(radial, sample, inside)`` lookup (NaN outside)."""
+        import os
+
+        self._file.flush()
+        k, j, inside = (np.ravel(a) for a in lookup)
+        valid = np.flatnonzero(inside & (j < self.n[k]))
+        out = np.full((k.size, len(self.names)), np.nan, dtype=np.float32)
+        order = valid[np.argsort(k[valid], kind="stable")]
+        radials, starts = np.unique(k[order], return_index=True)
+        row_bytes = len(self.names) * 4
+        for r, pixels in zip(radials, np.split(order, starts[1:])):   # one read per radial, not per pixel
+            first = int(j[pixels].min())
+            count = int(j[pixels].max()) + 1 - first
+            data = os.pread(self._file.fileno(), count * row_bytes, (int(r) * self.n_full + first) * row_bytes)
+            out[pixels] = np.frombuffer(data, dtype=np.float32).reshape(count, -1)[j[pixels] - first]
+        shape = np.shape(lookup[0])
+        return {b: out[:, i].reshape(shape) for i, b in enumerate(self.names)}
+
+    def close(self) -> None:
+        import os
+
+        self._file.close()
+        if os.path.exists(self.path):
+            os.unlink(self.path)
+
+
+def overlap(a: tuple, b: tuple):
+    """The intersection of two windows ``(row0, row1, col0, col1)``, None when empty."""
+    w = (max(a[0], b[0]), min(a[1], b[1]), max(a[2], b[2]), min(a[3], b[3]))
+    return w if w[0] < w[1] and w[2] < w[3] else None
+
+
+class RunningComposite:
+    """The composite of gateways added one at a time in index order, each over its window only.
+
+    Equal to :func:`composite` of all of them on the whole grid (the first highest margin wins; where no
+    margin is finite the bands are gateway 0's), at a cost of the windows' pixels instead of N x the grid's:
+    a composite of N sites costs about N single maps.  Also the pixels existing gateways hear.
+    """
+
+    def __init__(self, shape, fade_margin_db: float):
+        self.shape, self.fade_margin_db, self.bands = tuple(shape), float(fade_margin_db), None
+        self.score = np.full(shape, -np.inf, dtype=np.float32)
+        self.best = np.zeros(shape, dtype=np.int32)
+        self.heard = np.zeros(shape, dtype=np.int32)
+        self.heard_by_gateways = np.zeros(shape, dtype=bool)
+
+    def add(self, index: int, gw: "Gateway", bands: dict, window=None, adopt: bool = False) -> None:
+        """Gateway ``index``'s bands over ``window`` ``(row0, row1, col0, col1)`` (default the whole shape).
+
+        ``adopt``: gateway 0's float32 arrays over the whole shape become the composite's own, without a copy
+        (the caller hands them over; a single-site map then holds its bands once).
+        """
+        sl = np.s_[:, :] if window is None else np.s_[window[0]:window[1], window[2]:window[3]]
+        margin = bands["margin_db"]
+        ok = np.isfinite(margin)
+        score = np.where(ok, margin, -np.inf).astype(np.float32)
+        take = np.ones(margin.shape, dtype=bool) if index == 0 else score > self.score[sl]
+        if adopt and self.bands is None and index == 0 and margin.shape == self.shape:
+            self.bands = {n: np.asarray(bands[n], dtype=np.float32) for n in band_names(bands)}
+        elif self.bands is None:
+            self.bands = {n: np.full(self.shape, np.nan, dtype=np.float32) for n in band_names(bands)}
+        for name, values in self.bands.items():
+            if values is not bands[name]:
+                values[sl][take] = bands[name][take]
+        self.score[sl][take] = score[take]
+        self.best[sl][take] = index
+        hears = ok & (margin >= self.fade_margin_db)
+        self.heard[sl] += hears
+        if gw.role == "gateway":
+            self.heard_by_gateways[sl] |= hears
+
+    def result(self, composite_run: bool):
+        """``(bands, heard_by_gateways)``; with ``composite_run`` also ``best_gateway`` and ``gateways_heard``."""
+        bands = dict(self.bands)
+        if composite_run:
+            has = np.isfinite(self.score)
+            bands["best_gateway"] = np.where(has, self.best, np.nan).astype(np.float32)
+            bands["gateways_heard"] = np.where(has, self.heard, np.nan).astype(np.float32)
+        return bands, self.heard_by_gateways
+
+
 def composite(per_gateway: list, fade_margin_db: float) -> dict:
     """Bands of the best gateway (highest uplink margin) per pixel plus ``best_gateway`` and ``gateways_heard``."""
     margin = np.stack([b["margin_db"] for b in per_gateway])
@@ -161,3 +290,48 @@ def composite(per_gateway: list, fade_margin_db: float) -> dict:
     heard = np.sum(np.where(np.isfinite(margin), margin >= fade_margin_db, False), axis=0)
     out["gateways_heard"] = np.where(has, heard, np.nan).astype(np.float32)
     return out
+
+
+def combine_bands(running, composite_run, outside_data):
+    """Bands of the run (the one gateway's, or the composite) and the pixels existing gateways hear, off-data NaN."""
+    bands, heard_by_gateways = running.result(composite_run)
+    for values in bands.values():   # a pixel centre off the data is nodata, whatever its nearest radial sample
+        values[outside_data] = np.nan
+    return bands, heard_by_gateways & ~outside_data
+
+
+def tile_counts(bands, inside_any, heard_by_gateways, settings, land) -> dict:
+    """Pixel counts (and the probability sum) of one tile, summed over tiles into the summary."""
+    from ...lora.regional import plan as regional_plan
+
+    plan = regional_plan(settings.band) if settings.band is not None else None
+    fade, location_percent = settings.radio.fade_margin_db, settings.radio.propagation.location_percent
+    margin = bands["margin_db"]
+    ok = np.isfinite(margin)
+    closes = ok & (margin >= fade)
+    prob = np.where(ok, bands["probability_heard"], np.nan)
+    # a probability within float32 rounding of the percentage counts as reaching it
+    heard = np.isfinite(prob) & (prob >= location_percent / 100.0 - 1e-6)
+    counts = {"computed": int(ok.sum()), "covered": int(closes.sum()),
+              "by_gateways": int((heard_by_gateways & ok).sum()),
+              "line_of_sight": int(np.sum(bands["line_of_sight"] == 1.0)), "heard": int(heard.sum()),
+              "prob_sum": float(np.sum(prob[np.isfinite(prob)], dtype=np.float64)),
+              "prob_n": int(np.isfinite(prob).sum()), "missing": int(np.sum(inside_any & ~ok)),
+              "inside": int(inside_any.sum()),
+              "dr": {int(v): int(np.sum(bands["recommended_dr"] == v))
+                     for v in (sorted(plan.data_rates) if plan is not None else [])}}
+    if land is not None:
+        codes = bands["clutter_class"][ok]
+        counts["no_class"] = int(np.sum(~np.isfinite(codes)))
+        values, n = np.unique(codes[np.isfinite(codes)].astype(np.int64), return_counts=True)
+        counts["codes"] = dict(zip(values.tolist(), n.tolist()))
+    return counts
+
+
+def add_counts(total: dict, counts: dict) -> dict:
+    """Sum of two tiles' counts (nested dicts key by key)."""
+    if not total:
+        return counts
+    return {k: add_counts(v, counts.get(k, {})) if isinstance(v, dict) and k != "codes" else
+            ({c: v.get(c, 0) + counts[k].get(c, 0) for c in set(v) | set(counts[k])} if k == "codes" else
+             v + counts[k]) for k, v in total.items()}

@@ -57,7 +57,19 @@ import numpy as np
 from ...about import CAUTION, __version__
 from ...errors import ProfilerError
 from ...propagation import geometry
-from .grid import CoverageGrid, Gateway, composite, make_grid, pixel_polar, radial_lookup, to_grid
+from .grid import (
+    CoverageGrid,
+    Gateway,
+    RunningComposite,
+    add_counts,
+    combine_bands,
+    make_grid,
+    overlap,
+    pixel_polar,
+    radial_lookup,
+    tile_counts,
+    to_grid,
+)
 from .radials import (
     keep_freed_memory,
     line_of_sight_radials,
@@ -149,45 +161,44 @@ def sample_coordinates(gw, azimuth_deg, distance_m) -> dict:
 class CoverageResult:
     """Bands on the grid (float32, NaN = nodata) and the ``profiler.coverage/5`` summary."""
 
-    bands: dict
+    bands: dict | None
     grid: CoverageGrid
     report: dict
+    geotiff_path: str | None = None
+    """A streamed run (bands None): the temporary GeoTIFF holding the bands, moved into place by
+    :func:`profiler.io.coverage.write_geotiff` (call :meth:`discard` when no GeoTIFF is written)."""
+
+    def discard(self) -> None:
+        """Remove a streamed run's temporary GeoTIFF if it is still there."""
+        import os
+
+        if self.geotiff_path and os.path.exists(self.geotiff_path):
+            os.unlink(self.geotiff_path)
 
     def to_dict(self) -> dict:
         return self.report
 
 
-def _area_summary(bands, resolution_m, fade_margin_db, dr_values, heard_by_gateways=None,
-                  location_percent=50.0) -> dict:
-    """Area computed, and area and share covered per recommended DR and in total [km^2].
+def _area_summary(counts, resolution_m, location_percent=50.0) -> dict:
+    """Area computed, and area and share covered per recommended DR and in total [km^2], from the pixel counts.
 
-    ``heard_by_gateways`` (bool, the grid's shape) marks the pixels the existing gateways alone hear
-    with the fade margin (default: the covered pixels, i.e. no candidate sites).  ``heard_at_location_percent``:
-    the pixels whose ``probability_heard`` reaches the run's location percentage; ``mean_probability_heard``
-    the mean of that band over the computed pixels [-].
+    ``covered_by_gateways``: the pixels the existing gateways alone hear with the fade margin (no candidate
+    sites: the covered pixels).  ``heard_at_location_percent``: the pixels whose ``probability_heard`` reaches the
+    run's location percentage; ``mean_probability_heard`` the mean of that band over the computed pixels [-].
     """
     px_km2 = resolution_m * resolution_m * 1e-6
-    margin = bands["margin_db"]
-    computed = int(np.isfinite(margin).sum())
-    dr = bands["recommended_dr"]
-    closes = np.isfinite(margin) & (margin >= fade_margin_db)
+    computed = counts["computed"]
 
     def entry(count):
         return {"pixels": int(count), "area_km2": round(float(count) * px_km2, 4),
                 "share": round(float(count) / computed, 6) if computed else None}
 
-    per_dr = [{"dr": int(v), **entry(np.sum(dr == v))} for v in dr_values]
-    los = bands["line_of_sight"]
-    by_gateways = closes if heard_by_gateways is None else heard_by_gateways & np.isfinite(margin)
-    prob = np.where(np.isfinite(margin), bands["probability_heard"], np.nan)
-    # a probability within float32 rounding of the percentage counts as reaching it
-    heard = np.isfinite(prob) & (prob >= location_percent / 100.0 - 1e-6)
     return {"pixels_computed": computed, "area_computed_km2": round(computed * px_km2, 4),
-            "covered": entry(int(closes.sum())), "covered_by_gateways": entry(int(by_gateways.sum())),
-            "covered_by_dr": per_dr,
-            "line_of_sight": entry(int(np.sum(los == 1.0))),
-            "heard_at_location_percent": {"location_percent": float(location_percent), **entry(int(heard.sum()))},
-            "mean_probability_heard": round(float(np.nanmean(prob)), 6) if np.isfinite(prob).any() else None}
+            "covered": entry(counts["covered"]), "covered_by_gateways": entry(counts["by_gateways"]),
+            "covered_by_dr": [{"dr": v, **entry(n)} for v, n in sorted(counts["dr"].items())],
+            "line_of_sight": entry(counts["line_of_sight"]),
+            "heard_at_location_percent": {"location_percent": float(location_percent), **entry(counts["heard"])},
+            "mean_probability_heard": round(counts["prob_sum"] / counts["prob_n"], 6) if counts["prob_n"] else None}
 
 
 def _gateways(site, mast_m, name, sites):
@@ -229,7 +240,8 @@ def _check_numbers(radius_km, resolution_m, node_mast_m):
 def coverage(site=None, *, dem, mast_m=None, name="site", sites=None, radius_km: float, resolution_m=None,
              node_mast_m: float = 1.5, band=None, frequency_mhz=None, k_factor="4/3", clearance_ratio: float = 0.6,
              fill_voids: bool = False, radio=None, workers=None, scheduler=None, progress=None,
-             kernel=None, date=None, sheet_info=None, land_cover=None, land_cover_classes=None) -> CoverageResult:
+             kernel=None, date=None, sheet_info=None, land_cover=None, land_cover_classes=None, max_memory_mb=None,
+             stream_dir=None) -> CoverageResult:
     """Coverage of one site (or the composite of a site list's gateways) within a radius.
 
     Parameters
@@ -266,6 +278,15 @@ def coverage(site=None, *, dem, mast_m=None, name="site", sites=None, radius_km:
         of every node's end (bands ``clutter_class``, ``clutter_height_m``).
     land_cover_classes : str or Path, optional
         Code -> clutter class TOML file (default: the built-in ESA WorldCover mapping).
+    max_memory_mb : float, optional
+        Memory budget of the grid and radial tables [MB] (``--max-memory-mb``).  A run whose estimate
+        (:func:`memory_estimate_bytes`) exceeds it, or any grid over :data:`grid.MAX_PIXELS` (then with a
+        2048 MB budget), streams: the radial sectors go to temporary files on disk (:class:`grid.RadialStore`),
+        the bands are written to a temporary GeoTIFF tile by tile and the summary is summed per tile; the
+        result then has ``bands=None`` and ``geotiff_path``.
+    stream_dir : str or Path, optional
+        Folder of a streamed run's temporary files (default the system's); the output's folder makes the
+        final rename atomic.
 
     Returns
     -------
@@ -277,6 +298,10 @@ def coverage(site=None, *, dem, mast_m=None, name="site", sites=None, radius_km:
     from ...terrain.landcover import LandCover, class_mapping_for, land_cover_paths
 
     _check_numbers(radius_km, resolution_m, node_mast_m)
+    if max_memory_mb is not None:
+        from ...limits import check
+
+        max_memory_mb = check("--max-memory-mb", max_memory_mb)
     gateways = _gateways(site, mast_m, name, sites)
     settings = _settings(dem, band, frequency_mhz, k_factor, clearance_ratio, fill_voids, radio)
     mapping = class_mapping_for(land_cover, land_cover_classes)
@@ -294,21 +319,12 @@ def coverage(site=None, *, dem, mast_m=None, name="site", sites=None, radius_km:
         model.start_digests(lon_g, lat_g)   # provenance hashes run while the radials are swept
         res = float(resolution_m) if resolution_m is not None else float(model.pixel_size_m(lon_g[:1], lat_g[:1]))
         grid = make_grid(gateways, radius_m, res)
-        with ThreadPoolExecutor(1) as pool:   # pyproj releases the GIL: the pixel positions overlap the sweep
-            positions = pool.submit(grid.lon_lat)
-            per_gateway, inside_any, sweep = _sweep(model, settings, gateways, grid, radius_m, res,
-                                                    float(node_mast_m), workers, scheduler, progress, kernel,
-                                                    cover, land)
-            lon, lat = positions.result()
-        outside_data = ~np.asarray(model.covers(lon, lat))
+        run = functools.partial(_stream if _streams(grid, gateways, radius_m, res, settings, max_memory_mb)
+                                else _in_memory, model, settings, gateways, grid, radius_m, res, float(node_mast_m),
+                                workers, scheduler, progress, kernel, cover, land, composite_run=sites is not None,
+                                max_memory_mb=max_memory_mb, stream_dir=stream_dir)
+        bands, counts, sweep, geotiff_path = run()
         sources = model.provenance(model.sources_used(lon_g, lat_g))
-    bands = per_gateway[0] if sites is None else composite(per_gateway, settings.radio.fade_margin_db)
-    heard_by_gateways = _heard_by_gateways(gateways, per_gateway, settings.radio.fade_margin_db) & ~outside_data
-    for values in bands.values():   # a pixel centre off the data is nodata, whatever its nearest radial sample
-        values[outside_data] = np.nan
-    if not np.isfinite(bands["margin_db"]).any():
-        raise ProfilerError("no pixel could be computed: the radius lies outside the elevation data or in a void; "
-                            "check --dem, --site and --fill-voids")
     settings_record = {"radius_km": float(radius_km), "resolution_m": res, "node_mast_m": float(node_mast_m),
                        "band": settings.band, "frequency_mhz": settings.frequency_mhz, "k_factor": settings.k_factor,
                        "clearance_ratio": settings.clearance_ratio, "fade_margin_db": settings.radio.fade_margin_db,
@@ -317,16 +333,153 @@ def coverage(site=None, *, dem, mast_m=None, name="site", sites=None, radius_km:
                        "calibration": settings.radio.propagation.calibration_dict(),
                        "land_cover": None if land is None else list(land[0]),
                        "land_cover_classes": None if land_cover_classes is None else str(land_cover_classes)}
-    report = _report(gateways, sites is not None, settings_record, grid, bands, inside_any, sources, heard_by_gateways,
+    report = _report(gateways, sites is not None, settings_record, grid, bands, counts, sources,
                      _radio_ends(gateways, settings), _sheet_block(date, sheet_info))
-    report["warnings"] += _clutter_warnings(bands, land, float(node_mast_m))
+    report["warnings"] += _clutter_warnings(counts, land, float(node_mast_m))
     if land is not None:
-        report["summary"]["land_cover_classes"] = _land_cover_table(bands, land[1], settings.radio.propagation.model,
+        report["summary"]["land_cover_classes"] = _land_cover_table(counts, land[1], settings.radio.propagation.model,
                                                                     res)
-    return CoverageResult(bands=bands, grid=grid, report=report)
+    return CoverageResult(bands=None if geotiff_path else bands, grid=grid, report=report, geotiff_path=geotiff_path)
 
 
-def _clutter_warnings(bands, land, node_mast_m) -> list:
+DEFAULT_STREAM_MB = 2048.0
+"""Memory budget of a run streamed because its grid exceeds :data:`grid.MAX_PIXELS` [MB]."""
+STREAM_BYTES_PER_BAND_PIXEL = 4
+"""float32 bands."""
+
+
+def memory_estimate_bytes(grid, n_gateways, n_radials, n_full, n_bands=16) -> int:
+    """Bytes an in-memory run holds: every gateway's radial tables and bands, plus the lookups (about 64 B/pixel)."""
+    pixels = grid.width * grid.height
+    return int(n_gateways * (n_radials * n_full + pixels) * n_bands * STREAM_BYTES_PER_BAND_PIXEL + 64 * pixels)
+
+
+def _streams(grid, gateways, radius_m, res, settings, max_memory_mb) -> bool:
+    from .grid import MAX_PIXELS
+
+    if grid.width * grid.height > MAX_PIXELS:
+        return True
+    if max_memory_mb is None:
+        return False
+    n_full = max(math.ceil(radius_m / radial_step_m(res, settings.radio.diffraction_method)) + 1, 3)
+    return memory_estimate_bytes(grid, len(gateways), radial_count(radius_m, res), n_full) > max_memory_mb * 2**20
+
+
+def _stream(model, settings, gateways, grid, radius_m, res, node_mast_m, workers, scheduler, progress, kernel,
+            cover, land, composite_run, max_memory_mb, stream_dir):
+    """A run over its memory budget: each gateway's sectors to disk in batches, then the GeoTIFF tile by tile.
+
+    Holds at most about half the budget in sector results (at least one sector) and half in a tile of
+    every gateway's bands (at least 16 x 16 pixels); the rest is the engine's work on one sector.
+    """
+    import tempfile
+
+    from ...engine.cluster import chunked, run_chunks
+    from .grid import RadialStore, band_names
+
+    budget = (DEFAULT_STREAM_MB if max_memory_mb is None else float(max_memory_mb)) * 2**20
+    n_radials = radial_count(radius_m, res)
+    n_full = max(math.ceil(radius_m / radial_step_m(res, settings.radio.diffraction_method)) + 1, 3)
+    sectors = chunked(n_radials, RADIALS_PER_CHUNK)
+    local = workers is None and scheduler is None
+    job = functools.partial(_sector_job, settings=settings, n_radials=n_radials, radius_m=radius_m,
+                            step_m=radial_step_m(res, settings.radio.diffraction_method), node_mast_m=node_mast_m,
+                            kernel=kernel, model=model if local else None, cover=cover if local else None, land=land)
+    per_batch = max(1, int(budget / 2 // (RADIALS_PER_CHUNK * n_full * 16 * STREAM_BYTES_PER_BAND_PIXEL)))
+    folder = str(stream_dir) if stream_dir is not None else tempfile.gettempdir()
+    stores = []
+    try:
+        for i, g in enumerate(gateways):
+            for b0 in range(0, len(sectors), per_batch):
+                batch = sectors[b0:b0 + per_batch]
+                parts = run_chunks(job, [(g, np.arange(n_radials)[sl]) for sl in batch], workers=workers,
+                                   scheduler=scheduler, progress=progress, desc="radials",
+                                   weights=[sl.stop - sl.start for sl in batch])
+                for sl, part in zip(batch, parts):
+                    if len(stores) == i:
+                        stores.append(RadialStore(_temp_file(folder, ".f32"), band_names(part), n_radials, n_full))
+                    stores[-1].write(sl.start, part)
+                del parts
+        sweep = {"radials": n_radials, "radial_step_m": radius_m / (n_full - 1)}
+        names, counts, path = _write_tiles(model, settings, gateways, grid, stores, sweep, radius_m, composite_run,
+                                           land, budget, folder)
+        return names, counts, sweep, path
+    finally:
+        for store in stores:
+            store.close()
+
+
+def _temp_file(folder, suffix) -> str:
+    import os
+    import tempfile
+
+    fd, path = tempfile.mkstemp(prefix=".coverage-stream.", suffix=suffix, dir=folder)
+    os.close(fd)
+    return path
+
+
+def _write_tiles(model, settings, gateways, grid, stores, sweep, radius_m, composite_run, land, budget, folder):
+    """Every tile: each gateway's bands from its store, combined, written to a temporary GeoTIFF and counted."""
+    from ...io.coverage import StreamedGeoTIFF
+
+    per_pixel = len(gateways) * (len(stores[0].names) * 4 + 48) + 256   # bands, lookups, polar, positions [B]
+    tile = 16
+    while tile < 1024 and (2 * tile) ** 2 * per_pixel <= budget / 2:
+        tile *= 2
+    geotiff = StreamedGeoTIFF(grid, _temp_file(folder, ".tif"), block_px=min(tile, 256))
+    windows = [grid.circle_window(g, radius_m) for g in gateways]
+    counts = {}
+    try:
+        for r0, r1, c0, c1 in grid.tiles(tile):
+            sub = grid.window(r0, r1, c0, c1)
+            lon, lat = sub.lon_lat()
+            outside = ~np.asarray(model.covers(lon, lat))
+            inside_any = np.zeros(outside.shape, dtype=bool)
+            running = RunningComposite(outside.shape, settings.radio.fade_margin_db)
+            for i, (g, store, gw_window) in enumerate(zip(gateways, stores, windows)):
+                w = overlap(gw_window, (r0, r1, c0, c1))
+                if w is None:
+                    continue   # the tile is off this gateway's circle
+                lookup = radial_lookup(*pixel_polar(grid.window(*w), g), sweep["radials"], sweep["radial_step_m"],
+                                       radius_m)
+                local = (w[0] - r0, w[1] - r0, w[2] - c0, w[3] - c0)
+                inside_any[local[0]:local[1], local[2]:local[3]] |= lookup[2]
+                running.add(i, g, store.to_grid(lookup), local, adopt=True)
+            if running.bands is None:   # no gateway reaches the tile: every band NaN
+                running.add(0, gateways[0], {n: np.full(outside.shape, np.nan, dtype=np.float32)
+                                             for n in stores[0].names})
+            bands, heard = combine_bands(running, composite_run, outside)
+            geotiff.write(bands, (r0, r1, c0, c1))
+            counts = add_counts(counts, tile_counts(bands, inside_any, heard, settings, land))
+        _no_pixel(counts)
+        return list(bands), counts, geotiff.close(SCHEMA)
+    except BaseException:
+        geotiff.abort()
+        raise
+
+
+def _no_pixel(counts) -> None:
+    if not counts["computed"]:
+        raise ProfilerError("no pixel could be computed: the radius lies outside the elevation data or in a void; "
+                            "check --dem, --site and --fill-voids")
+
+
+def _in_memory(model, settings, gateways, grid, radius_m, res, node_mast_m, workers, scheduler, progress, kernel,
+               cover, land, composite_run, **_):
+    """The whole grid in memory: ``(bands, counts, sweep record, None)``."""
+    with ThreadPoolExecutor(1) as pool:   # pyproj releases the GIL: the pixel positions overlap the sweep
+        positions = pool.submit(grid.lon_lat)
+        running, inside_any, sweep = _sweep(model, settings, gateways, grid, radius_m, res, node_mast_m, workers,
+                                            scheduler, progress, kernel, cover, land)
+        lon, lat = positions.result()
+    outside_data = ~np.asarray(model.covers(lon, lat))
+    bands, heard_by_gateways = combine_bands(running, composite_run, outside_data)
+    counts = tile_counts(bands, inside_any, heard_by_gateways, settings, land)
+    _no_pixel(counts)
+    return bands, counts, sweep, None
+
+
+def _clutter_warnings(counts, land, node_mast_m) -> list:
     """No land cover and nodes below 10 m (likely optimistic), or computed pixels without a land-cover class."""
     from ..link import LOW_NODE_M
 
@@ -335,26 +488,23 @@ def _clutter_warnings(bands, land, node_mast_m) -> list:
             return [f"no land cover: the paths have no clutter, so nodes {node_mast_m:g} m above ground (below "
                     f"{LOW_NODE_M:g} m) are likely optimistic; give --land-cover FILE"]
         return []
-    computed = np.isfinite(bands["margin_db"])
-    missing = int(np.sum(computed & ~np.isfinite(bands["clutter_class"])))
-    if missing:
-        return [f"{missing} of {int(computed.sum())} pixels have no land-cover class (void or outside the land "
-                "cover): no clutter is assumed there"]
+    if counts["no_class"]:
+        return [f"{counts['no_class']} of {counts['computed']} pixels have no land-cover class (void or outside the "
+                "land cover): no clutter is assumed there"]
     return []
 
 
-def _land_cover_table(bands, mapping, model, resolution_m) -> list:
+def _land_cover_table(counts, mapping, model, resolution_m) -> list:
     """The land-cover codes at the computed pixels: code, clutter class, R [m], area [km^2] and share of each."""
-    codes = bands["clutter_class"][np.isfinite(bands["margin_db"])]
-    codes = codes[np.isfinite(codes)].astype(np.int64)
-    if codes.size == 0:
+    if not counts["codes"]:
         return []
-    values, counts = np.unique(codes, return_counts=True)
+    values = np.array(sorted(counts["codes"]), dtype=np.int64)
     samples = mapping.clutter(values.astype(np.int32), model)
-    total = int(np.isfinite(bands["margin_db"]).sum())
-    return [{"code": int(v), "clutter": str(name), "clutter_height_m": float(h), "pixels": int(c),
-             "area_km2": round(float(c) * resolution_m * resolution_m * 1e-6, 4), "share": round(float(c) / total, 6)}
-            for v, name, h, c in zip(values, samples.class_names(), samples.height_m, counts)]
+    total = counts["computed"]
+    return [{"code": int(v), "clutter": str(name), "clutter_height_m": float(h), "pixels": int(counts["codes"][v]),
+             "area_km2": round(float(counts["codes"][v]) * resolution_m * resolution_m * 1e-6, 4),
+             "share": round(float(counts["codes"][v]) / total, 6)}
+            for v, name, h in zip(values.tolist(), samples.class_names(), samples.height_m)]
 
 
 def _settings(dem, band, frequency_mhz, k_factor, clearance_ratio, fill_voids, radio):
@@ -394,22 +544,18 @@ def _sweep(model, settings, gateways, grid, radius_m, res, node_mast_m, workers,
                             cover=cover if local else None, land=land)
     parts = run_chunks(job, chunks, workers=workers, scheduler=scheduler, progress=progress, desc="radials",
                        weights=[c[1].size for c in chunks])
-    per_gateway = []
+    running = RunningComposite((grid.height, grid.width), settings.radio.fade_margin_db)
     inside_any = np.zeros((grid.height, grid.width), dtype=bool)
-    for i, g in enumerate(gateways):
-        lookup = radial_lookup(*pixel_polar(grid, g), n_radials, spacing, radius_m)
-        inside_any |= lookup[2]
-        per_gateway.append(to_grid(parts[i * len(sectors):(i + 1) * len(sectors)], lookup, n_radials, n_full))
-    return per_gateway, inside_any, {"radials": n_radials, "radial_step_m": spacing}
-
-
-def _heard_by_gateways(gateways, per_gateway, fade_margin_db) -> np.ndarray:
-    """Pixels that at least one existing gateway (not a candidate site) hears with the fade margin."""
-    heard = np.zeros(per_gateway[0]["margin_db"].shape, dtype=bool)
-    for g, b in zip(gateways, per_gateway):
-        if g.role == "gateway":
-            heard |= np.isfinite(b["margin_db"]) & (b["margin_db"] >= fade_margin_db)
-    return heard
+    for i, g in enumerate(gateways):   # each gateway over the window of its circle only
+        w = grid.circle_window(g, radius_m)
+        if overlap(w, (0, grid.height, 0, grid.width)) is None:
+            continue
+        lookup = radial_lookup(*pixel_polar(grid.window(*w), g), n_radials, spacing, radius_m)
+        inside_any[w[0]:w[1], w[2]:w[3]] |= lookup[2]
+        running.add(i, g, to_grid(parts[i * len(sectors):(i + 1) * len(sectors)], lookup, n_radials, n_full), w,
+                    adopt=True)
+        parts[i * len(sectors):(i + 1) * len(sectors)] = [None] * len(sectors)   # free the gateway's tables
+    return running, inside_any, {"radials": n_radials, "radial_step_m": spacing}
 
 
 def _radio_ends(gateways, settings) -> dict:
@@ -440,22 +586,14 @@ def _sheet_block(date, sheet_info) -> dict:
     return {**(sheet_info or SheetInfo()).to_dict(), "date": (date or datetime.date.today()).isoformat()}
 
 
-def _report(gateways, composite_run, settings_record, grid, bands, inside_any, sources, heard_by_gateways, radio,
-            sheet) -> dict:
-    """The ``profiler.coverage/5`` summary."""
-    from ...lora.regional import plan as regional_plan
-
-    band_name = settings_record["band"]
-    plan = regional_plan(band_name) if band_name is not None else None
+def _report(gateways, composite_run, settings_record, grid, bands, counts, sources, radio, sheet) -> dict:
+    """The ``profiler.coverage/5`` summary (``bands``: the band names, in order)."""
     warnings = []
-    missing = int(np.sum(inside_any & ~np.isfinite(bands["margin_db"])))
-    if missing:
-        warnings.append(f"{missing / max(int(inside_any.sum()), 1):.1%} of the area within the radius has no value: "
-                        "outside the elevation data, or behind it or a void along the radial")
+    if counts["missing"]:
+        warnings.append(f"{counts['missing'] / max(counts['inside'], 1):.1%} of the area within the radius has no "
+                        "value: outside the elevation data, or behind it or a void along the radial")
     records = [_gateway_record(g, {k: float(v[i]) for k, v in radio.items()}) for i, g in enumerate(gateways)]
-    summary = _area_summary(bands, settings_record["resolution_m"], settings_record["fade_margin_db"],
-                            sorted(plan.data_rates) if plan is not None else [], heard_by_gateways,
-                            settings_record["location_percent"])
+    summary = _area_summary(counts, settings_record["resolution_m"], settings_record["location_percent"])
     summary = {"gateways": sum(g.role == "gateway" for g in gateways),
                "candidates": sum(g.role == "candidate" for g in gateways), **summary}
     return {"schema": SCHEMA, "tool_version": __version__,
