@@ -1,6 +1,6 @@
 """The hull query of the P.1812 receiver horizon against the O(n^2) loop it replaces.
 
-:func:`profiler.propagation.p1812.prefix._kernels` keeps two horizon
+:func:`profiler.propagation.p1812.prefix._horizon_kernels` keeps two horizon
 kernels: ``horizon_kernel`` (tangent to the upper convex hull of the earlier
 samples, O(log n) per link) and ``horizon_kernel_reference`` (every interior
 sample, O(n) per link).  The reference is a maximum by definition

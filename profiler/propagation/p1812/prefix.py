@@ -57,8 +57,8 @@ _tangent, _trans, _roughness = (_G[k] for k in ("elevation_tangent_term", "trans
 _bulge_km, _v_unit = _D["bulge_km_term"], _D["v_unit_term"]
 
 
-def _kernels(key: str):
-    """The compiled kernels (closures over ``key`` only, the terms' fingerprint, which keys their disk cache).
+def _horizon_kernels(key: str):
+    """The compiled horizon kernels (closures over ``key`` only, the terms' fingerprint, which keys their disk cache).
 
     ``horizon_kernel`` finds the receiver's horizon of a trans-horizon link
     by a tangent query on an upper convex hull; ``horizon_kernel_reference``
@@ -159,6 +159,13 @@ def _kernels(key: str):
                 tangents[0, r, j], tangents[1, r, j] = t_max, best
                 index[0, r, j], index[1, r, j] = it, at
 
+    return horizon_kernel, horizon_kernel_reference
+
+
+def _kernels(key: str):
+    """The compiled roughness kernel (a closure over ``key`` only, the terms' fingerprint: its disk cache key)."""
+    fastmath = prefix_kernel.FASTMATH
+
     @numba.njit(cache=True, parallel=True, fastmath=fastmath)
     def roughness_kernel(d_km, h_m, n, first, last, hst, slope, out):   # pragma: no cover (compiled)
         _key = key   # noqa: F841 (the cache key)
@@ -169,10 +176,11 @@ def _kernels(key: str):
                     best = max(best, _roughness(h_m[r, i], hst[r, j], slope[r, j], d_km[r, i]))
                 out[r, j] = best
 
-    return horizon_kernel, horizon_kernel_reference, roughness_kernel
+    return roughness_kernel
 
 
-_horizon_kernel, _horizon_kernel_reference, _roughness_kernel = _kernels(prefix_kernel.fingerprint(_TERMS))
+_horizon_kernel, _horizon_kernel_reference = _horizon_kernels(prefix_kernel.fingerprint(_TERMS))
+_roughness_kernel = _kernels(prefix_kernel.fingerprint(_TERMS))
 
 
 @documented
