@@ -101,15 +101,65 @@ def test_upper_hull_push_keeps_the_upper_hull():
             assert np.all(cross < 0.0)
 
 
+@pytest.mark.parametrize("model", ["terrain", "p1812"])
+@pytest.mark.parametrize("kind", ["rough", "spiky", "flat"])
+def test_link_fields_equal_with_the_reference_kernels(monkeypatch, model, kind):
+    """Every field of every prefix (losses, ratios) with the hull kernels and with the loops: 1e-6 dB, 1e-9."""
+    from profiler.products.coverage.map import _settings
+    from profiler.products.coverage.radials import radial_fields
+    from profiler.propagation import prefix_kernel
+
+    d_km, t, n = _radials(kind, 7)
+    d = d_km * 1e3
+    coordinates = {"lat_a_deg": -29.9, "lon_a_deg": -19.95, "lat_b_deg": -29.9 + d / 111_195.0,
+                   "lon_b_deg": np.full(d.shape, -19.95)}
+    st = _settings(DEM, "EU868", None, "4/3", 0.6, False,
+                   RadioSettings(diffraction_method="delta-bullington", propagation=PropagationSettings(model=model)))
+    got = radial_fields(d, t, n, 10.0, 1.5, st, None, kernel=True, coordinates=coordinates)
+    monkeypatch.setattr(prefix, "_horizon_kernel", prefix._horizon_kernel_reference)
+    monkeypatch.setattr(prefix_kernel, "_bullington_hull_kernel", prefix_kernel._bullington_kernel)
+    ref = radial_fields(d, t, n, 10.0, 1.5, st, None, kernel=True, coordinates=coordinates)
+    for key in ref:
+        ok = np.isfinite(ref[key])
+        assert np.array_equal(ok, np.isfinite(got[key])) and ok.sum() > 300, key
+        np.testing.assert_allclose(got[key][ok], ref[key][ok], rtol=0, atol=1e-9 if "ratio" in key else 1e-6,
+                                   err_msg=key)
+
+
 @pytest.mark.parametrize("seed", [1, 3])
 def test_coverage_losses_equal_with_the_reference_kernel(monkeypatch, seed):
-    """--model p1812: the whole coverage with the hull kernel and with the loop, to 1e-6 dB (float32 bands)."""
+    """--model p1812 on the sample terrain: the bands with the hull kernels and the loops (float32: 1e-6 relative)."""
+    from profiler.propagation import prefix_kernel
+
     kw = dict(dem=DEM, mast_m=10.0 * seed, radius_km=1.5, resolution_m=90.0, progress=False,
               radio=RadioSettings(propagation=PropagationSettings(model="p1812")))
     fast = coverage(GATEWAY, kernel=True, **kw)
     monkeypatch.setattr(prefix, "_horizon_kernel", prefix._horizon_kernel_reference)
+    monkeypatch.setattr(prefix_kernel, "_bullington_hull_kernel", prefix_kernel._bullington_kernel)
     slow = coverage(GATEWAY, kernel=True, **kw)
     for name, values in slow.bands.items():
         ok = np.isfinite(values)
         assert np.array_equal(ok, np.isfinite(fast.bands[name])), name
-        assert np.array_equal(fast.bands[name][ok], values[ok]), name
+        np.testing.assert_allclose(fast.bands[name][ok], values[ok], rtol=1e-6, atol=1e-6, err_msg=name)
+
+
+@pytest.mark.parametrize("kind", ["rough", "flat", "rising", "falling", "spiky", "ties"])
+@pytest.mark.parametrize("actual", [True, False])
+def test_hull_bullington_pass_equals_the_loop(kind, actual):
+    """stim, srim, ν and the obstacle maxima of every prefix: hull queries and pruned ν against the loop (1e-9)."""
+    from profiler.propagation import prefix_kernel
+
+    d, h, n = _radials(kind, 5)
+    rng = np.random.default_rng(6)
+    hts = h[:, :1] + rng.uniform(-30.0, 30.0, d.shape)   # the smooth pass's heights change with the link
+    hrs = h + rng.uniform(-30.0, 30.0, d.shape)
+    g = h + rng.uniform(0.0, 20.0, d.shape)   # a clutter height on the Bullington pass (P.1812)
+    runs = []
+    for kernel in (prefix_kernel._bullington_kernel, prefix_kernel._bullington_hull_kernel):
+        out = np.full((6,) + d.shape, np.nan)
+        kernel(d, h, g, n, hts, hrs, AE_KM, actual, out)
+        runs.append(out)
+    ref, got = runs
+    ok = np.isfinite(ref) | np.isinf(ref)
+    assert np.array_equal(ok, np.isfinite(got) | np.isinf(got)) and ok[0].sum() > 300
+    np.testing.assert_allclose(got[ok], ref[ok], rtol=1e-9, atol=1e-9)
