@@ -13,7 +13,8 @@ Measured in one run on the machine at hand (figures, never asserted):
   batches; printed: the ratio p1812 / terrain of the times (target <= 1.3);
 * the P.1812 horizon kernel alone on the same radials: the receiver's
   horizon by a tangent query on the upper convex hull against the loop over
-  every interior sample it replaced (both kept; same results checked);
+  every interior sample it replaced, and one Bullington pass (hull
+  queries and pruned ν against the loop; both kept; same results checked);
 * GDAL's ``gdal_viewshed`` on the same elevation data (when on the PATH):
   the tile is warped (bilinear, ``gdalwarp``) onto the coverage grid itself,
   so both maps have the same pixels; observer height = the mast, target
@@ -102,6 +103,25 @@ def horizon_stage(dem, radius_m, res_m, repeat):
     ok = np.isfinite(t_ref[1])
     print(f"  largest tangent difference {np.max(np.abs(t_hull[:, ok] - t_ref[:, ok])):.1e}, same horizon sample on "
           f"{np.mean(i_hull[1][ok] == i_ref[1][ok]):.4%} of {ok.sum():,} links")
+    bullington_stage(d_km, t, n, site, hrs, ae_km, repeat)
+
+
+def bullington_stage(d_km, t, n, site, hrs, ae_km, repeat):
+    """One Bullington pass over the actual profile of every prefix: hull queries and pruned ν against the loop."""
+    from profiler.propagation import prefix_kernel
+
+    hts = np.ascontiguousarray(np.broadcast_to(site[:, None], t.shape))
+    out = {}
+    for name in ("_bullington_kernel", "_bullington_hull_kernel"):
+        red = np.full((6,) + t.shape, np.nan)
+        kernel = getattr(prefix_kernel, name)
+        kernel(d_km[:1], t[:1], t[:1], n[:1], hts[:1], hrs[:1], ae_km, True, red[:, :1].copy())   # load it
+        seconds = min(timed_once(lambda: kernel(d_km, t, t, n, hts, hrs, ae_km, True, red)) for _ in range(repeat))
+        out[name] = red
+        print(f"{f'Bullington pass alone, {name.strip(chr(95))}':<52} {seconds:7.2f} s", flush=True)
+    ref, got = out["_bullington_kernel"], out["_bullington_hull_kernel"]
+    ok = np.isfinite(ref)
+    print(f"  largest relative difference {np.max(np.abs(got[ok] - ref[ok]) / np.maximum(1.0, np.abs(ref[ok]))):.1e}")
 
 
 def timed_once(func):

@@ -11,7 +11,8 @@ first ``j`` points is the hull of the first ``j - 1`` plus point ``j - 1``
 The slopes of the coverage reductions become such slopes after a
 transformation of the heights that is the same for every node ``j``:
 subtracting the parabola ``c x_i^2`` (``c = 500 / a_e`` [m/km^2]) from the
-heights, see :func:`profiler.propagation.p1812.prefix._horizon_kernels`.
+heights, see :func:`profiler.propagation.p1812.prefix._horizon_kernels` and
+:func:`profiler.propagation.prefix_kernel._hull_kernels`.
 
 References
 ----------

@@ -5,10 +5,15 @@ whose profile is the first ``j + 1`` samples.  The only work of such a link
 that grows with its length is a handful of reductions over its interior
 samples ``0 < i < j``: the worst clearance / F1 ratio
 (:func:`profiler.engine.geometry.geometry_batch`), and the maxima of one Bullington
-pass (:func:`profiler.propagation.diffraction_batch.diffraction_reductions`).  The two kernels
-here loop radial x node index ``j`` x interior sample ``i`` with running
-maxima/minima, so a radial costs O(n^2) arithmetic and O(n) memory instead
-of the (n, n) numpy temporaries of the prefix batch.
+pass (:func:`profiler.propagation.diffraction_batch.diffraction_reductions`).  The geometry
+kernel loops radial x node index ``j`` x interior sample ``i`` with a
+running minimum (O(n^2) arithmetic per radial, O(n) memory instead of the
+(n, n) numpy temporaries of the prefix batch).  The Bullington pass takes
+its slopes and obstacle maxima as tangent queries on upper convex hulls
+kept along the radial (O(log n) per link) and its largest ν over the
+blocks of samples that a hull bound does not rule out
+(:func:`_hull_kernels`); its loop over every interior sample
+(``_bullington_kernel``) is kept as the reference of the tests.
 
 There is no physics in this module: every per-sample term is a function of
 `profiler.propagation.geometry` or `profiler.propagation.diffraction_batch` (the ones the numpy
