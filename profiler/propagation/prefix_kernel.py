@@ -122,9 +122,13 @@ def fingerprint(terms=_TERMS) -> str:
 
 _G, _D, _H = (compile_terms(module, names) for module, names in _TERMS)
 _push = _H["upper_hull_push"]
-_ratio = _G["clearance_ratio_term"]
+_ratio, _bulge, _line = _G["clearance_ratio_term"], _G["bulge_term"], _G["line_term"]
 _bulge_km, _slope, _obstacle, _v_unit = (_D[k] for k in ("bulge_km_term", "slope_term", "obstacle_term",
                                                           "v_unit_term"))
+
+
+BLOCK = 64
+"""Samples per block of the ν and clearance-ratio bounds in :func:`_hull_kernels`, :func:`_ratio_hull_kernels`."""
 
 
 def _kernels(key: str):
@@ -164,10 +168,6 @@ def _kernels(key: str):
                 out[3, r, j], out[4, r, j], out[5, r, j] = hobs, aobt, aobr
 
     return geometry_kernel, bullington_kernel
-
-
-BLOCK = 64
-"""Samples per block of the ν bound in :func:`_hull_kernels` (a count)."""
 
 
 def _hull_kernels(key: str):
@@ -286,7 +286,77 @@ def _hull_kernels(key: str):
     return bullington_hull_kernel
 
 
+def _ratio_hull_kernels(key: str):
+    """The worst clearance / F1 ratio of every prefix over the blocks a hull bound keeps (closure over ``key``).
+
+    With ``y_i = t_i - d_i^2 / (2 a_e)`` [m], the height of sample ``i``
+    above the antennas' line, ``N_i = t_i + d_i (d - d_i) / (2 a_e) - L_i =
+    y_i + (d / (2 a_e) - (b - a) / d) d_i - a``, is linear in ``(d_i, y_i)``
+    and the ratio is ``-N_i sqrt(d / (λ d_i (d - d_i)))`` (P.526-15 eq. (2),
+    :func:`profiler.propagation.geometry.clearance_ratio_term`).  Over a
+    block of ``BLOCK`` samples ``N`` is at most its maximum on the block's
+    upper hull and the square root lies between its values at the block's
+    ends and at ``d / 2``: blocks whose lower bound of the ratio is above the
+    worst ratio found are skipped (the block of the last samples is always
+    scanned).  Not a tangent, so no O(log n) bound: the pruning is what saves.
+    """
+
+    @numba.njit(cache=True, fastmath=FASTMATH)
+    def height(i, x, t, d, a, b, ae_m):   # pragma: no cover (compiled)
+        return t[i] + _bulge(x[i], d - x[i], ae_m) - _line(x[i], d, a, b)
+
+    @numba.njit(cache=True, fastmath=FASTMATH)
+    def block_top(vertex, m, x, t, d, a, b, ae_m):   # pragma: no cover (compiled)
+        lo, hi = 0, m - 1
+        while lo < hi:
+            mid = (lo + hi) // 2
+            if height(vertex[mid + 1], x, t, d, a, b, ae_m) > height(vertex[mid], x, t, d, a, b, ae_m):
+                lo = mid + 1
+            else:
+                hi = mid
+        return height(vertex[lo], x, t, d, a, b, ae_m)
+
+    @numba.njit(cache=True, parallel=True, fastmath=FASTMATH)
+    def geometry_hull_kernel(d_m, t_m, n, h_a, h_b, wavelength_m, ae_m, worst):   # pragma: no cover (compiled)
+        _key = key   # noqa: F841 (the cache key)
+        for r in numba.prange(d_m.shape[0]):
+            x, t, a = d_m[r], t_m[r], h_a[r]
+            y = t - x * x / (2.0 * ae_m)   # the heights less the parabola: the same for every node
+            size = max(n[r], 1)
+            blocks, count = np.empty(size, np.int64), np.zeros(size // BLOCK + 1, np.int64)
+            bound = np.empty(size // BLOCK + 1)
+            for j in range(2, n[r]):
+                k = (j - 2) // BLOCK
+                count[k] = _push(x, y, blocks[1 + k * BLOCK:], count[k], j - 1)
+                d, b = x[j], h_b[r, j]
+                full = (j - 1) // BLOCK
+                best = np.inf
+                for i in range(1 + full * BLOCK, j):
+                    best = min(best, _ratio(x[i], d, t[i], a, b, wavelength_m, ae_m))
+                for k in range(full):
+                    s = 1 + k * BLOCK
+                    top = block_top(blocks[s:], count[k], x, t, d, a, b, ae_m)
+                    xs, xe = x[s], x[s + BLOCK - 1]
+                    xm = min(max(0.5 * d, xs), xe)
+                    w = max(math.sqrt(d / (wavelength_m * xs * (d - xs))),
+                            math.sqrt(d / (wavelength_m * xe * (d - xe))))
+                    if top < 0.0:
+                        w = math.sqrt(d / (wavelength_m * xm * (d - xm)))
+                    bound[k] = -top * w   # no ratio of the block is below it
+                for _ in range(full):
+                    k = np.argmin(bound[:full])
+                    if bound[k] > best + 1e-9 * (1.0 + abs(best)):
+                        break
+                    bound[k] = np.inf
+                    for i in range(1 + k * BLOCK, 1 + (k + 1) * BLOCK):
+                        best = min(best, _ratio(x[i], d, t[i], a, b, wavelength_m, ae_m))
+                worst[r, j] = best
+
+    return geometry_hull_kernel
+
+
 _geometry_kernel, _bullington_kernel = _kernels(fingerprint())
+_geometry_hull_kernel = _ratio_hull_kernels(fingerprint())
 _bullington_hull_kernel = _hull_kernels(fingerprint())
 LAUNCH = threading.Lock()
 """One kernel launch at a time per process: numba's default (workqueue) threading layer aborts on concurrent
@@ -323,10 +393,10 @@ def worst_ratio_prefixes(distance_m, terrain_m, n, site_amsl_m, node_amsl_m, wav
     shape = np.shape(distance_m)
     worst = np.full(shape, np.nan)
     with LAUNCH:
-        _geometry_kernel(np.ascontiguousarray(distance_m, dtype=float), np.ascontiguousarray(terrain_m, dtype=float),
-                         np.asarray(n, dtype=np.int64), np.asarray(site_amsl_m, dtype=float),
-                         np.ascontiguousarray(node_amsl_m, dtype=float), float(wavelength_m),
-                         float(effective_radius_m), worst)
+        _geometry_hull_kernel(np.ascontiguousarray(distance_m, dtype=float),
+                              np.ascontiguousarray(terrain_m, dtype=float), np.asarray(n, dtype=np.int64),
+                              np.asarray(site_amsl_m, dtype=float), np.ascontiguousarray(node_amsl_m, dtype=float),
+                              float(wavelength_m), float(effective_radius_m), worst)
     return worst
 
 

@@ -118,6 +118,7 @@ def test_link_fields_equal_with_the_reference_kernels(monkeypatch, model, kind):
     got = radial_fields(d, t, n, 10.0, 1.5, st, None, kernel=True, coordinates=coordinates)
     monkeypatch.setattr(prefix, "_horizon_kernel", prefix._horizon_kernel_reference)
     monkeypatch.setattr(prefix_kernel, "_bullington_hull_kernel", prefix_kernel._bullington_kernel)
+    monkeypatch.setattr(prefix_kernel, "_geometry_hull_kernel", prefix_kernel._geometry_kernel)
     ref = radial_fields(d, t, n, 10.0, 1.5, st, None, kernel=True, coordinates=coordinates)
     for key in ref:
         ok = np.isfinite(ref[key])
@@ -136,6 +137,7 @@ def test_coverage_losses_equal_with_the_reference_kernel(monkeypatch, seed):
     fast = coverage(GATEWAY, kernel=True, **kw)
     monkeypatch.setattr(prefix, "_horizon_kernel", prefix._horizon_kernel_reference)
     monkeypatch.setattr(prefix_kernel, "_bullington_hull_kernel", prefix_kernel._bullington_kernel)
+    monkeypatch.setattr(prefix_kernel, "_geometry_hull_kernel", prefix_kernel._geometry_kernel)
     slow = coverage(GATEWAY, kernel=True, **kw)
     for name, values in slow.bands.items():
         ok = np.isfinite(values)
@@ -162,4 +164,27 @@ def test_hull_bullington_pass_equals_the_loop(kind, actual):
     ref, got = runs
     ok = np.isfinite(ref) | np.isinf(ref)
     assert np.array_equal(ok, np.isfinite(got) | np.isinf(got)) and ok[0].sum() > 300
+    np.testing.assert_allclose(got[ok], ref[ok], rtol=1e-9, atol=1e-9)
+
+
+@pytest.mark.parametrize("kind", ["rough", "flat", "rising", "falling", "spiky", "ties"])
+def test_pruned_clearance_ratio_equals_the_loop(kind):
+    """The worst clearance / F1 ratio of every prefix: blocks pruned by their hull bound against the loop (1e-9)."""
+    from profiler.propagation import prefix_kernel
+
+    d_km, t, n = _radials(kind, 8)
+    d = np.concatenate([d_km * 1e3, d_km * 1e3 + d_km[:, -1:] * 1e3 + 30.0], axis=1)   # 320 samples: 4 blocks
+    t = np.concatenate([t, t[:, ::-1] + 5.0], axis=1)
+    n = np.where(n == 160, 320, n)
+    rng = np.random.default_rng(9)
+    node = t + rng.uniform(0.5, 40.0, t.shape)
+    site = t[:, 0] + 10.0
+    runs = []
+    for kernel in (prefix_kernel._geometry_kernel, prefix_kernel._geometry_hull_kernel):
+        worst = np.full(d.shape, np.nan)
+        kernel(d, t, n, site, node, 0.345, AE_KM * 1e3, worst)
+        runs.append(worst)
+    ref, got = runs
+    ok = np.isfinite(ref)
+    assert np.array_equal(ok, np.isfinite(got)) and ok.sum() > 600
     np.testing.assert_allclose(got[ok], ref[ok], rtol=1e-9, atol=1e-9)
