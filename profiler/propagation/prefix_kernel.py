@@ -5,10 +5,10 @@ whose profile is the first ``j + 1`` samples.  The only work of such a link
 that grows with its length is a handful of reductions over its interior
 samples ``0 < i < j``: the worst clearance / F1 ratio
 (:func:`profiler.engine.geometry.geometry_batch`), and the maxima of one Bullington
-pass (:func:`profiler.propagation.diffraction_batch.diffraction_reductions`).  The geometry
-kernel loops radial x node index ``j`` x interior sample ``i`` with a
-running minimum (O(n^2) arithmetic per radial, O(n) memory instead of the
-(n, n) numpy temporaries of the prefix batch).  The Bullington pass takes
+pass (:func:`profiler.propagation.diffraction_batch.diffraction_reductions`).  The worst
+ratio scans, per node ``j``, only the blocks of interior samples that a
+hull bound does not rule out (:func:`_ratio_hull_kernels`; O(n) memory
+instead of the (n, n) numpy temporaries of the prefix batch).  The Bullington pass takes
 its slopes and obstacle maxima as tangent queries on upper convex hulls
 kept along the radial (O(log n) per link) and its largest ν over the
 blocks of samples that a hull bound does not rule out
