@@ -11,6 +11,10 @@ Measured in one run on the machine at hand (figures, never asserted):
   alternating) and on a local Dask cluster of ``--workers`` processes, with
   the numba kernels and (unless ``--no-numpy``) with the numpy prefix
   batches; printed: the ratio p1812 / terrain of the times (target <= 1.3);
+* the P.1812 horizon kernel alone on the same radials: the receiver's
+  horizon by a tangent query on the upper convex hull against the loop over
+  every interior sample it replaced, and one Bullington pass (hull
+  queries and pruned ν against the loop; both kept; same results checked);
 * GDAL's ``gdal_viewshed`` on the same elevation data (when on the PATH):
   the tile is warped (bilinear, ``gdalwarp``) onto the coverage grid itself,
   so both maps have the same pixels; observer height = the mast, target
@@ -67,6 +71,64 @@ def los_only(dem, radius_m, res_m):
     out = np.full(k.shape, np.nan, dtype=np.float32)
     out[ok] = los[k[ok], j[ok]]
     return time.perf_counter() - t0, out, grid
+
+
+def horizon_stage(dem, radius_m, res_m, repeat):
+    """The P.1812 horizon kernel alone on the benchmark's radials (half-pixel steps): hull query against the loop.
+
+    Prints the best of ``repeat`` runs of ``_horizon_kernel`` (receiver
+    horizon by a tangent query on the upper convex hull) and of
+    ``_horizon_kernel_reference`` (every interior sample), the largest
+    difference of their tangents and the share of links whose horizon
+    sample is the same.
+    """
+    from profiler.propagation.p1812 import prefix
+
+    gw = Gateway("bench", SITE[0], SITE[1], MAST_M)
+    n_rad = radial_count(radius_m, res_m)
+    with ElevationModel.open([dem]) as model:
+        d, t, n = sample_radials(model, gw, np.arange(n_rad) * 360.0 / n_rad, radius_m, res_m / 2.0, False)
+    d_km, ae_km = np.ascontiguousarray(d * 1e-3), float(geometry.effective_radius_m(4 / 3)) * 1e-3
+    site, hrs = t[:, 0] + MAST_M, np.ascontiguousarray(t + NODE_M)
+    out = {}
+    for name in ("_horizon_kernel_reference", "_horizon_kernel"):
+        tangents, index = np.full((2,) + d.shape, np.nan), np.zeros((2,) + d.shape, dtype=np.int64)
+        getattr(prefix, name)(d_km[:1], t[:1], n[:1], site[:1], hrs[:1], ae_km, tangents[:, :1].copy(),
+                              index[:, :1].copy())   # load (or compile) it outside the timing
+        seconds = min(timed_once(lambda: getattr(prefix, name)(d_km, t, n, site, hrs, ae_km, tangents, index))
+                      for _ in range(repeat))
+        out[name] = (seconds, tangents, index)
+        print(f"{f'P.1812 horizons alone, {name.strip(chr(95))}':<52} {seconds:7.2f} s", flush=True)
+    (_, t_ref, i_ref), (_, t_hull, i_hull) = out["_horizon_kernel_reference"], out["_horizon_kernel"]
+    ok = np.isfinite(t_ref[1])
+    print(f"  largest tangent difference {np.max(np.abs(t_hull[:, ok] - t_ref[:, ok])):.1e}, same horizon sample on "
+          f"{np.mean(i_hull[1][ok] == i_ref[1][ok]):.4%} of {ok.sum():,} links")
+    bullington_stage(d_km, t, n, site, hrs, ae_km, repeat)
+
+
+def bullington_stage(d_km, t, n, site, hrs, ae_km, repeat):
+    """One Bullington pass over the actual profile of every prefix: hull queries and pruned ν against the loop."""
+    from profiler.propagation import prefix_kernel
+
+    hts = np.ascontiguousarray(np.broadcast_to(site[:, None], t.shape))
+    out = {}
+    for name in ("_bullington_kernel", "_bullington_hull_kernel"):
+        red = np.full((6,) + t.shape, np.nan)
+        kernel = getattr(prefix_kernel, name)
+        kernel(d_km[:1], t[:1], t[:1], n[:1], hts[:1], hrs[:1], ae_km, True, red[:, :1].copy())   # load it
+        seconds = min(timed_once(lambda: kernel(d_km, t, t, n, hts, hrs, ae_km, True, red)) for _ in range(repeat))
+        out[name] = red
+        print(f"{f'Bullington pass alone, {name.strip(chr(95))}':<52} {seconds:7.2f} s", flush=True)
+    ref, got = out["_bullington_kernel"], out["_bullington_hull_kernel"]
+    ok = np.isfinite(ref)
+    print(f"  largest relative difference {np.max(np.abs(got[ok] - ref[ok]) / np.maximum(1.0, np.abs(ref[ok]))):.1e}")
+
+
+def timed_once(func):
+    """Wall time of one call [s]."""
+    t0 = time.perf_counter()
+    func()
+    return time.perf_counter() - t0
 
 
 def viewshed(dem, grid, los_map, radius_m, k_factor=4 / 3):
@@ -157,6 +219,7 @@ def main(argv=None):
     t_los, (_, los_map, grid) = timed("line of sight only (sampling + cumulative max + grid)",
                                       lambda: los_only(dem, radius_m, args.resolution_m))
     pixels = int(np.isfinite(los_map).sum())
+    horizon_stage(dem, radius_m, args.resolution_m, args.repeat)
     print(f"grid {grid.width} x {grid.height}, {pixels:,} pixels within {args.radius_km:g} km at "
           f"{args.resolution_m:g} m, {radial_count(radius_m, args.resolution_m)} radials")
     none = RadioSettings(diffraction_method="none", propagation=PropagationSettings(model="terrain"))

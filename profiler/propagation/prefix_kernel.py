@@ -5,10 +5,15 @@ whose profile is the first ``j + 1`` samples.  The only work of such a link
 that grows with its length is a handful of reductions over its interior
 samples ``0 < i < j``: the worst clearance / F1 ratio
 (:func:`profiler.engine.geometry.geometry_batch`), and the maxima of one Bullington
-pass (:func:`profiler.propagation.diffraction_batch.diffraction_reductions`).  The two kernels
-here loop radial x node index ``j`` x interior sample ``i`` with running
-maxima/minima, so a radial costs O(n^2) arithmetic and O(n) memory instead
-of the (n, n) numpy temporaries of the prefix batch.
+pass (:func:`profiler.propagation.diffraction_batch.diffraction_reductions`).  The worst
+ratio scans, per node ``j``, only the blocks of interior samples that a
+hull bound does not rule out (:func:`_ratio_hull_kernels`; O(n) memory
+instead of the (n, n) numpy temporaries of the prefix batch).  The Bullington pass takes
+its slopes and obstacle maxima as tangent queries on upper convex hulls
+kept along the radial (O(log n) per link) and its largest ν over the
+blocks of samples that a hull bound does not rule out
+(:func:`_hull_kernels`); its loop over every interior sample
+(``_bullington_kernel``) is kept as the reference of the tests.
 
 There is no physics in this module: every per-sample term is a function of
 `profiler.propagation.geometry` or `profiler.propagation.diffraction_batch` (the ones the numpy
@@ -39,7 +44,7 @@ import numba
 import numpy as np
 
 from . import diffraction_batch as diffraction_engine
-from . import geometry
+from . import geometry, hull
 
 FASTMATH = {"nsz", "arcp", "contract", "afn", "reassoc"}
 """LLVM fast-math flags of the kernels: reassociation and reciprocals let the inner loops vectorize (about 2x);
@@ -47,7 +52,8 @@ no ``nnan``/``ninf`` (the running maxima start at -inf).  Results differ from th
 
 
 _TERMS = ((geometry, ("bulge_term", "line_term", "fresnel_term", "clearance_ratio_term")),
-          (diffraction_engine, ("bulge_km_term", "slope_term", "obstacle_term", "v_unit_term")))
+          (diffraction_engine, ("bulge_km_term", "slope_term", "obstacle_term", "v_unit_term")),
+          (hull, ("upper_hull_push",)))
 
 
 def compile_terms(module, names) -> dict:
@@ -114,10 +120,15 @@ def fingerprint(terms=_TERMS) -> str:
     return digest.hexdigest()
 
 
-_G, _D = (compile_terms(module, names) for module, names in _TERMS)
-_ratio = _G["clearance_ratio_term"]
+_G, _D, _H = (compile_terms(module, names) for module, names in _TERMS)
+_push = _H["upper_hull_push"]
+_ratio, _bulge, _line = _G["clearance_ratio_term"], _G["bulge_term"], _G["line_term"]
 _bulge_km, _slope, _obstacle, _v_unit = (_D[k] for k in ("bulge_km_term", "slope_term", "obstacle_term",
                                                           "v_unit_term"))
+
+
+BLOCK = 64
+"""Samples per block of the ν and clearance-ratio bounds in :func:`_hull_kernels`, :func:`_ratio_hull_kernels`."""
 
 
 def _kernels(key: str):
@@ -159,7 +170,194 @@ def _kernels(key: str):
     return geometry_kernel, bullington_kernel
 
 
+def _hull_kernels(key: str):
+    """The Bullington pass of every prefix by hull queries (closures over ``key``, the cache key).
+
+    With ``c = 500 / a_e`` [m/km^2], ``y_i = w g_i - c d_i^2`` (``w`` 1 on
+    the actual profile, 0 on the smooth one) and ``hc_i = y_i + c d d_i``
+    (P.452-18 eq. (14), P.1812-8 eq. (13)), the slopes of the link ending at
+    ``d`` with antennas ``a`` (site) and ``b`` (node) are
+
+        stim_i = (y_i - a) / d_i + c d                      (eq. 14 / 13),
+        srim_i = (y_i - Y) / (d - d_i) - c d,  Y = b - c d^2   (eq. 18 / 17),
+
+    slopes from a point left of every sample, resp. right of every sample,
+    to the points ``(d_i, y_i)``, which do not depend on the link: their
+    maxima are tangents to the upper hull of those points, kept along the
+    radial (:func:`profiler.propagation.hull.upper_hull_push`).  The obstacle
+    height ``o_i = h_i - a - (b - a) d_i / d`` (eq. 165d) is a linear
+    function of ``(d_i, h_i)``, and ``o_i / d_i = (h_i - a) / d_i - (b - a) / d``,
+    ``o_i / (d - d_i) = (h_i - b) / (d - d_i) + (b - a) / d`` (eqs. 165a-c) are
+    tangents from the two ends: three queries on the upper hull of
+    ``(d_i, h_i)``.  Along a hull's vertices each of these rises then falls:
+    a binary search on the terms themselves finds the maximum.
+
+    ν (eq. 16) is ``N_i sqrt(0.002 d / (d_i (d - d_i)))`` with
+    ``N_i = y_i + (c d - (b - a) / d) d_i - a`` linear in ``(d_i, y_i)``: no
+    tangent.  Over a block of ``BLOCK`` samples, ``N`` is at most its
+    maximum on the block's own upper hull and the square root lies between
+    its values at the block's ends and at ``d / 2``; blocks whose bound is
+    below the best ν found are skipped (the block of the last samples is
+    always scanned).
+    """
+
+    @numba.njit(cache=True, fastmath=FASTMATH)
+    def term(kind, i, x, wg, h, d, a, b, ae_km):   # pragma: no cover (compiled)
+        di = x[i]
+        dd = d - di
+        if kind == 0:   # the terms of the loop in bullington_kernel, as they are written there
+            return _slope(wg[i] + _bulge_km(di, dd, ae_km), a, di)
+        if kind == 1:
+            return _slope(wg[i] + _bulge_km(di, dd, ae_km), b, dd)
+        if kind == 5:
+            return _obstacle(wg[i] + _bulge_km(di, dd, ae_km), a, b, di, dd, d)
+        ob = _obstacle(h[i], a, b, di, dd, d)
+        if kind == 2:
+            return ob
+        if kind == 3:
+            return ob / di
+        return ob / dd
+
+    @numba.njit(cache=True, fastmath=FASTMATH)
+    def search(kind, vertex, m, x, wg, h, d, a, b, ae_km):   # pragma: no cover (compiled)
+        lo, hi = 0, m - 1
+        while lo < hi:
+            mid = (lo + hi) // 2
+            if term(kind, vertex[mid + 1], x, wg, h, d, a, b, ae_km) > term(kind, vertex[mid], x, wg, h, d, a, b,
+                                                                               ae_km):
+                lo = mid + 1
+            else:
+                hi = mid
+        return term(kind, vertex[lo], x, wg, h, d, a, b, ae_km)
+
+    @numba.njit(cache=True, fastmath=FASTMATH)
+    def nu_max(x, wg, j, d, a, b, ae_km, blocks, count):   # pragma: no cover (compiled)
+        full = (j - 1) // BLOCK   # blocks of samples 1 + k BLOCK .. all before j
+        best = -np.inf
+        for i in range(1 + full * BLOCK, j):
+            best = max(best, _v_unit(wg[i] + _bulge_km(x[i], d - x[i], ae_km), a, b, x[i], d - x[i], d))
+        bound = np.empty(max(full, 1))
+        for k in range(full):
+            s = 1 + k * BLOCK
+            top = search(5, blocks[s:], count[k], x, wg, wg, d, a, b, ae_km)
+            xs, xe = x[s], x[s + BLOCK - 1]
+            w_max = max(math.sqrt(0.002 * d / (xs * (d - xs))), math.sqrt(0.002 * d / (xe * (d - xe))))
+            xm = min(max(0.5 * d, xs), xe)
+            w_min = math.sqrt(0.002 * d / (xm * (d - xm)))
+            bound[k] = top * (w_max if top >= 0.0 else w_min)
+        for _ in range(full):
+            k = np.argmax(bound[:full])
+            if bound[k] < best - 1e-9 * (1.0 + abs(best)):
+                break
+            bound[k] = -np.inf
+            for i in range(1 + k * BLOCK, 1 + (k + 1) * BLOCK):
+                best = max(best, _v_unit(wg[i] + _bulge_km(x[i], d - x[i], ae_km), a, b, x[i], d - x[i], d))
+        return best
+
+    @numba.njit(cache=True, parallel=True, fastmath=FASTMATH)
+    def bullington_hull_kernel(d_km, h_m, g_m, n, hts, hrs, ae_km, actual, out):   # pragma: no cover (compiled)
+        _key = key   # noqa: F841 (the cache key)
+        weight = 1.0 if actual else 0.0
+        c = 500.0 / ae_km
+        for r in numba.prange(d_km.shape[0]):
+            x, h = d_km[r], h_m[r]
+            wg = weight * g_m[r]
+            y = wg - c * x * x   # the heights less the parabola: the same for every node
+            size = max(n[r], 1)
+            hy, hh, blocks = np.empty(size, np.int64), np.empty(size, np.int64), np.empty(size, np.int64)
+            count = np.zeros(size // BLOCK + 1, np.int64)
+            my = mh = 0
+            for j in range(2, n[r]):
+                i = j - 1
+                my = _push(x, y, hy, my, i)
+                mh = _push(x, h, hh, mh, i)
+                k = (i - 1) // BLOCK
+                count[k] = _push(x, y, blocks[1 + k * BLOCK:], count[k], i)
+                d, a, b = x[j], hts[r, j], hrs[r, j]
+                out[0, r, j] = search(0, hy, my, x, wg, h, d, a, b, ae_km)
+                out[1, r, j] = search(1, hy, my, x, wg, h, d, a, b, ae_km)
+                out[2, r, j] = nu_max(x, wg, j, d, a, b, ae_km, blocks, count)
+                if actual:
+                    for kind in range(2, 5):
+                        out[kind + 1, r, j] = search(kind, hh, mh, x, wg, h, d, a, b, ae_km)
+                else:
+                    out[3, r, j] = out[4, r, j] = out[5, r, j] = -np.inf
+
+    return bullington_hull_kernel
+
+
+def _ratio_hull_kernels(key: str):
+    """The worst clearance / F1 ratio of every prefix over the blocks a hull bound keeps (closure over ``key``).
+
+    With ``y_i = t_i - d_i^2 / (2 a_e)`` [m], the height of sample ``i``
+    above the antennas' line, ``N_i = t_i + d_i (d - d_i) / (2 a_e) - L_i =
+    y_i + (d / (2 a_e) - (b - a) / d) d_i - a``, is linear in ``(d_i, y_i)``
+    and the ratio is ``-N_i sqrt(d / (λ d_i (d - d_i)))`` (P.526-15 eq. (2),
+    :func:`profiler.propagation.geometry.clearance_ratio_term`).  Over a
+    block of ``BLOCK`` samples ``N`` is at most its maximum on the block's
+    upper hull and the square root lies between its values at the block's
+    ends and at ``d / 2``: blocks whose lower bound of the ratio is above the
+    worst ratio found are skipped (the block of the last samples is always
+    scanned).  Not a tangent, so no O(log n) bound: the pruning is what saves.
+    """
+
+    @numba.njit(cache=True, fastmath=FASTMATH)
+    def height(i, x, t, d, a, b, ae_m):   # pragma: no cover (compiled)
+        return t[i] + _bulge(x[i], d - x[i], ae_m) - _line(x[i], d, a, b)
+
+    @numba.njit(cache=True, fastmath=FASTMATH)
+    def block_top(vertex, m, x, t, d, a, b, ae_m):   # pragma: no cover (compiled)
+        lo, hi = 0, m - 1
+        while lo < hi:
+            mid = (lo + hi) // 2
+            if height(vertex[mid + 1], x, t, d, a, b, ae_m) > height(vertex[mid], x, t, d, a, b, ae_m):
+                lo = mid + 1
+            else:
+                hi = mid
+        return height(vertex[lo], x, t, d, a, b, ae_m)
+
+    @numba.njit(cache=True, parallel=True, fastmath=FASTMATH)
+    def geometry_hull_kernel(d_m, t_m, n, h_a, h_b, wavelength_m, ae_m, worst):   # pragma: no cover (compiled)
+        _key = key   # noqa: F841 (the cache key)
+        for r in numba.prange(d_m.shape[0]):
+            x, t, a = d_m[r], t_m[r], h_a[r]
+            y = t - x * x / (2.0 * ae_m)   # the heights less the parabola: the same for every node
+            size = max(n[r], 1)
+            blocks, count = np.empty(size, np.int64), np.zeros(size // BLOCK + 1, np.int64)
+            bound = np.empty(size // BLOCK + 1)
+            for j in range(2, n[r]):
+                k = (j - 2) // BLOCK
+                count[k] = _push(x, y, blocks[1 + k * BLOCK:], count[k], j - 1)
+                d, b = x[j], h_b[r, j]
+                full = (j - 1) // BLOCK
+                best = np.inf
+                for i in range(1 + full * BLOCK, j):
+                    best = min(best, _ratio(x[i], d, t[i], a, b, wavelength_m, ae_m))
+                for k in range(full):
+                    s = 1 + k * BLOCK
+                    top = block_top(blocks[s:], count[k], x, t, d, a, b, ae_m)
+                    xs, xe = x[s], x[s + BLOCK - 1]
+                    xm = min(max(0.5 * d, xs), xe)
+                    w = max(math.sqrt(d / (wavelength_m * xs * (d - xs))),
+                            math.sqrt(d / (wavelength_m * xe * (d - xe))))
+                    if top < 0.0:
+                        w = math.sqrt(d / (wavelength_m * xm * (d - xm)))
+                    bound[k] = -top * w   # no ratio of the block is below it
+                for _ in range(full):
+                    k = np.argmin(bound[:full])
+                    if bound[k] > best + 1e-9 * (1.0 + abs(best)):
+                        break
+                    bound[k] = np.inf
+                    for i in range(1 + k * BLOCK, 1 + (k + 1) * BLOCK):
+                        best = min(best, _ratio(x[i], d, t[i], a, b, wavelength_m, ae_m))
+                worst[r, j] = best
+
+    return geometry_hull_kernel
+
+
 _geometry_kernel, _bullington_kernel = _kernels(fingerprint())
+_geometry_hull_kernel = _ratio_hull_kernels(fingerprint())
+_bullington_hull_kernel = _hull_kernels(fingerprint())
 LAUNCH = threading.Lock()
 """One kernel launch at a time per process: numba's default (workqueue) threading layer aborts on concurrent
 launches from several threads (a Dask worker with more than one thread); each launch uses every core anyway."""
@@ -195,10 +393,10 @@ def worst_ratio_prefixes(distance_m, terrain_m, n, site_amsl_m, node_amsl_m, wav
     shape = np.shape(distance_m)
     worst = np.full(shape, np.nan)
     with LAUNCH:
-        _geometry_kernel(np.ascontiguousarray(distance_m, dtype=float), np.ascontiguousarray(terrain_m, dtype=float),
-                         np.asarray(n, dtype=np.int64), np.asarray(site_amsl_m, dtype=float),
-                         np.ascontiguousarray(node_amsl_m, dtype=float), float(wavelength_m),
-                         float(effective_radius_m), worst)
+        _geometry_hull_kernel(np.ascontiguousarray(distance_m, dtype=float),
+                              np.ascontiguousarray(terrain_m, dtype=float), np.asarray(n, dtype=np.int64),
+                              np.asarray(site_amsl_m, dtype=float), np.ascontiguousarray(node_amsl_m, dtype=float),
+                              float(wavelength_m), float(effective_radius_m), worst)
     return worst
 
 
@@ -234,12 +432,18 @@ def bullington_prefixes(distance_km, height_m, n, hts_m, hrs_m, effective_radius
     References
     ----------
     .. [1] ITU-R P.452-18 eqs. (14), (16), (18), (165a)-(165d).
+
+    Notes
+    -----
+    Hull queries and a pruned ν (:func:`_hull_kernels`); the loop over every
+    interior sample, ``_bullington_kernel``, is the reference of
+    ``tests/propagation/test_hull.py``.
     """
     out = np.full((6,) + np.shape(distance_km), np.nan)
     h = np.ascontiguousarray(height_m, dtype=float)
     g = h if bullington_height_m is None else np.ascontiguousarray(bullington_height_m, dtype=float)
     with LAUNCH:
-        _bullington_kernel(np.ascontiguousarray(distance_km, dtype=float), h, g, np.asarray(n, dtype=np.int64),
+        _bullington_hull_kernel(np.ascontiguousarray(distance_km, dtype=float), h, g, np.asarray(n, dtype=np.int64),
                            np.ascontiguousarray(hts_m, dtype=float), np.ascontiguousarray(hrs_m, dtype=float),
                            float(effective_radius_km), bool(actual), out)
     keys = ("stim", "srim", "v_unit") + (("hobs", "alpha_obt", "alpha_obr") if actual else ())

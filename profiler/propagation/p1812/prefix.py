@@ -45,23 +45,64 @@ import numba
 import numpy as np
 
 from .. import diffraction_batch as diffraction_engine
-from .. import prefix_kernel
+from .. import hull, prefix_kernel
 from . import geometry
 from .reductions import Reducer, documented
 
 _TERMS = ((geometry, ("elevation_tangent_term", "elevation_mrad_term", "trans_horizon", "roughness_term")),
-          (diffraction_engine, ("bulge_km_term", "obstacle_term", "v_unit_term")))
-_G, _D = (prefix_kernel.compile_terms(module, names) for module, names in _TERMS)
+          (diffraction_engine, ("bulge_km_term", "obstacle_term", "v_unit_term")), (hull, ("upper_hull_push",)))
+_G, _D, _H = (prefix_kernel.compile_terms(module, names) for module, names in _TERMS)
+_push = _H["upper_hull_push"]
 _tangent, _trans, _roughness = (_G[k] for k in ("elevation_tangent_term", "trans_horizon", "roughness_term"))
 _bulge_km, _v_unit = _D["bulge_km_term"], _D["v_unit_term"]
 
 
-def _kernels(key: str):
-    """The two compiled kernels (closures over ``key`` only, the terms' fingerprint, which keys their disk cache)."""
+def _horizon_kernels(key: str):
+    """The compiled horizon kernels (closures over ``key`` only, the terms' fingerprint, which keys their disk cache).
+
+    ``horizon_kernel`` finds the receiver's horizon of a trans-horizon link
+    by a tangent query on an upper convex hull; ``horizon_kernel_reference``
+    loops over every interior sample (O(n^2) per radial; kept for the tests).
+    With ``s = d - d_i`` [km], ``c = 500 / a_e`` [m/km^2] and ``h_r`` the
+    node antenna [m AMSL], the receiver tangent of sample ``i``
+    (P.1812-8 Attachment 1 eq. (7) for θr, :func:`elevation_tangent_term`) is
+
+        1000 tan = (h_i - h_r) / s - c s = (h_i - h_r - c s^2) / s,
+
+    and with ``s^2 = d^2 - 2 d d_i + d_i^2``,
+
+        h_i - h_r - c s^2 = (y_i - Y) - 2 c d s,
+        y_i = h_i - c d_i^2,   Y = h_r - c d^2,
+
+    so ``1000 tan = (y_i - Y) / (d - d_i) - 2 c d``: an increasing function
+    of the slope ``(y_i - Y) / (d - d_i)`` from the point ``(d, Y)`` (right of
+    every interior point) back to the points ``(d_i, y_i)``, whose ordinates
+    do not depend on the node ``j``.  Its maximum over ``0 < i < j`` is at a
+    vertex of their upper hull, where the tangent rises then falls along the
+    vertices: a binary search on the tangents themselves (the first vertex
+    not followed by a strictly larger one: the first of tied samples, as the
+    loop's strict ``>``).  The same parabola makes the Bullington slope from
+    the node (P.452-18 eq. (18), P.1812-8 eq. (17)) a hull query
+    (``srim = (y_i - Y) / (d - d_i) - c d``), but that pass also takes the
+    largest ν (eq. (16)), which is no tangent, so it keeps its loop.
+    """
     fastmath = prefix_kernel.FASTMATH
 
+    @numba.njit(cache=True, fastmath=fastmath)
+    def nu_argmax(d_km, h_m, j, a, b, ae_km):   # pragma: no cover (compiled)
+        d = d_km[j]
+        best = -np.inf
+        at = 0
+        for i in range(1, j):   # line of sight: where ν is largest
+            di = d_km[i]
+            dd = d - di
+            nu = _v_unit(h_m[i] + _bulge_km(di, dd, ae_km), a, b, di, dd, d)
+            if nu > best:
+                best, at = nu, i
+        return best, at
+
     @numba.njit(cache=True, parallel=True, fastmath=fastmath)
-    def horizon_kernel(d_km, h_m, n, site, hrs, ae_km, tangents, index):   # pragma: no cover (compiled)
+    def horizon_kernel_reference(d_km, h_m, n, site, hrs, ae_km, tangents, index):   # pragma: no cover (compiled)
         _key = key   # noqa: F841 (the cache key)
         for r in numba.prange(d_km.shape[0]):
             a = site[r]
@@ -79,15 +120,51 @@ def _kernels(key: str):
                         tangent = _tangent(h_m[r, i] - b, d - d_km[r, i], ae_km)
                         if tangent > best:
                             best, at = tangent, i
-                else:                               # line of sight: where ν is largest
-                    for i in range(1, j):
-                        di = d_km[r, i]
-                        dd = d - di
-                        nu = _v_unit(h_m[r, i] + _bulge_km(di, dd, ae_km), a, b, di, dd, d)
-                        if nu > best:
-                            best, at = nu, i
+                else:
+                    best, at = nu_argmax(d_km[r], h_m[r], j, a, b, ae_km)
                 tangents[0, r, j], tangents[1, r, j] = t_max, best
                 index[0, r, j], index[1, r, j] = it, at
+
+    @numba.njit(cache=True, parallel=True, fastmath=fastmath)
+    def horizon_kernel(d_km, h_m, n, site, hrs, ae_km, tangents, index):   # pragma: no cover (compiled)
+        _key = key   # noqa: F841 (the cache key)
+        c = 500.0 / ae_km
+        for r in numba.prange(d_km.shape[0]):
+            a = site[r]
+            x = d_km[r]
+            y = h_m[r] - c * x * x   # the heights less the parabola: the same for every node
+            vertex = np.empty(max(n[r], 1), dtype=np.int64)
+            m = 0
+            t_max = -np.inf
+            it = 0
+            for j in range(2, n[r]):
+                tangent = _tangent(h_m[r, j - 1] - a, x[j - 1], ae_km)
+                if tangent > t_max:
+                    t_max, it = tangent, j - 1
+                m = _push(x, y, vertex, m, j - 1)
+                d, b = x[j], hrs[r, j]
+                if _trans(t_max, d, a, b, ae_km):   # the receiver's horizon: tangent to the hull
+                    lo, hi = 0, m - 1
+                    while lo < hi:
+                        mid = (lo + hi) // 2
+                        if (_tangent(h_m[r, vertex[mid + 1]] - b, d - x[vertex[mid + 1]], ae_km)
+                                > _tangent(h_m[r, vertex[mid]] - b, d - x[vertex[mid]], ae_km)):
+                            lo = mid + 1
+                        else:
+                            hi = mid
+                    at = vertex[lo]
+                    best = _tangent(h_m[r, at] - b, d - x[at], ae_km)
+                else:
+                    best, at = nu_argmax(x, h_m[r], j, a, b, ae_km)
+                tangents[0, r, j], tangents[1, r, j] = t_max, best
+                index[0, r, j], index[1, r, j] = it, at
+
+    return horizon_kernel, horizon_kernel_reference
+
+
+def _kernels(key: str):
+    """The compiled roughness kernel (a closure over ``key`` only, the terms' fingerprint: its disk cache key)."""
+    fastmath = prefix_kernel.FASTMATH
 
     @numba.njit(cache=True, parallel=True, fastmath=fastmath)
     def roughness_kernel(d_km, h_m, n, first, last, hst, slope, out):   # pragma: no cover (compiled)
@@ -99,10 +176,11 @@ def _kernels(key: str):
                     best = max(best, _roughness(h_m[r, i], hst[r, j], slope[r, j], d_km[r, i]))
                 out[r, j] = best
 
-    return horizon_kernel, roughness_kernel
+    return roughness_kernel
 
 
-_horizon_kernel, _roughness_kernel = _kernels(prefix_kernel.fingerprint(_TERMS))
+_horizon_kernel, _horizon_kernel_reference = _horizon_kernels(prefix_kernel.fingerprint(_TERMS))
+_roughness_kernel = _kernels(prefix_kernel.fingerprint(_TERMS))
 
 
 @documented
