@@ -224,6 +224,7 @@ def test_composite_function():
     np.testing.assert_array_equal(out["gateways_heard"], [[1.0, np.nan, 1.0]])
 
 
+@pytest.mark.slow   # a Dask cluster or a memory trace of a whole map: in the slow run (.ci/run)
 def test_dask_local_cluster_gives_identical_arrays(run):
     remote = coverage(GATEWAY, dem=DEM, mast_m=10.0, name="Cairnfell Beacon", radius_km=RADIUS_KM,
                       resolution_m=RES_M, node_mast_m=NODE_M, workers=2, progress=False)

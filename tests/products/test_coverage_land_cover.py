@@ -198,6 +198,7 @@ def test_cli_land_cover_and_probability_map(tmp_path):
     assert bad.exit_code == 2 and "heat" in bad.output
 
 
+@pytest.mark.slow   # a Dask cluster or a memory trace of a whole map: in the slow run (.ci/run)
 def test_dask_workers_open_the_land_cover_and_give_identical_arrays():
     kw = dict(dem=DEM, mast_m=10.0, radius_km=7.0, resolution_m=300.0, progress=False, land_cover=LAND_COVER)
     local = coverage(GATEWAY, **kw)

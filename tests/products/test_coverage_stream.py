@@ -66,6 +66,7 @@ def test_streamed_composite_combines_per_tile(tmp_path):
     _same_files(tmp_path, COMPOSITE_BANDS)
 
 
+@pytest.mark.slow   # a Dask cluster or a memory trace of a whole map: in the slow run (.ci/run)
 def test_streamed_dask_run_is_identical(tmp_path):
     coverage(GATEWAY, dem=DEM, mast_m=10.0, radius_km=RADIUS_KM, resolution_m=RES_M, out=tmp_path / "memory.tif",
              json=tmp_path / "memory.json", progress=False)
@@ -94,6 +95,7 @@ def _peak_mb(func):
         tracemalloc.stop()
 
 
+@pytest.mark.slow   # a Dask cluster or a memory trace of a whole map: in the slow run (.ci/run)
 def test_peak_memory_stays_within_the_budget_plus_one_sector(tmp_path):
     """Peak traced memory of a streamed run <= budget + the engine's work on one sector + 4 MB.
 
