@@ -287,12 +287,26 @@ class PropagationSettings:
             ``model``, ``time_percent`` [%], ``location_percent`` [%],
             ``location_sigma_db`` [dB] (None: computed per link),
             ``area_width_m`` [m], ``delta_n`` [N-units/km], ``n0``
-            [N-units], ``coast_distance_a_km``, ``coast_distance_b_km`` [km].
+            [N-units], ``coast_distance_a_km``, ``coast_distance_b_km`` [km],
+            and the terminal options: ``clutter_a``, ``clutter_b`` (class or
+            None), ``clutter_height_a_m``, ``clutter_height_b_m`` [m] (None:
+            the class's default), ``terminal_clutter_m`` [m],
+            ``clutter_statistics``, ``indoor_a``, ``indoor_b`` (building type
+            or None: outdoors).
         """
+        def height(value):
+            return None if value is None else float(value)
+
         return {"model": self.model, "time_percent": float(self.time_percent),
                 "location_percent": float(self.location_percent),
                 "location_sigma_db": None if self.location_sigma_db is None else float(self.location_sigma_db),
                 "area_width_m": float(self.area_width_m),
                 "delta_n": float(self.delta_n if self.delta_n is not None else delta_n_from_k(k_factor)),
                 "n0": float(self.n0), "coast_distance_a_km": float(self.coast_distance_a_km),
-                "coast_distance_b_km": float(self.coast_distance_b_km)}
+                "coast_distance_b_km": float(self.coast_distance_b_km),
+                "clutter_a": self.clutter_a, "clutter_b": self.clutter_b,
+                "clutter_height_a_m": height(self.clutter_height_a_m),
+                "clutter_height_b_m": height(self.clutter_height_b_m),
+                "terminal_clutter_m": float(self.terminal_clutter_m),
+                "clutter_statistics": bool(self.clutter_statistics), "indoor_a": self.indoor_a,
+                "indoor_b": self.indoor_b}

@@ -191,7 +191,7 @@ def _draw_header(ax, report, renderer) -> None:
 
     st, s = report["settings"], report["summary"]
     share = s["covered"]["share"] or 0.0
-    parts = [f"radius {st['radius_km']:g} km at {st['resolution_m']:.0f} m", f"node mast {st['node_mast_m']:g} m",
+    parts = [f"radius {st['radius_km']:g} km at {st['resolution_m']:.0f} m", node_text(st),
              num(st["frequency_mhz"], ".4f", " MHz") + (f" ({clean(st['band'])})" if st.get("band") else ""),
              f"k = {k_text(st['k_factor'])}", f"diffraction {clean(st['diffraction'])}"]
     badge_style = BADGE_GOOD if share >= 0.9 else (BADGE_WARN if share >= 0.5 else BADGE_BAD)
@@ -562,3 +562,17 @@ def _blocks(report) -> list:
     rows += [(f"DR{r['dr']}", area(r)) for r in s["covered_by_dr"] if r["pixels"]]
     rows.append(("Radials / step", f"{st['radials']} / {st['radial_step_m']:.1f} m"))
     return [("Area", None, rows)]
+
+
+def node_text(settings: dict) -> str:
+    """The node of a coverage map: its mast, and where it is when the options say (indoors, in a clutter class).
+
+    Reads the report's ``settings`` (``node_mast_m``, ``indoor_b``, ``clutter_b``, ``clutter_height_b_m``).
+    """
+    text = f"node mast {settings['node_mast_m']:g} m"
+    if settings.get("clutter_b"):
+        height = settings.get("clutter_height_b_m")
+        text += f" in {clean(settings['clutter_b'])}" + ("" if height is None else f" (R {height:g} m)")
+    if settings.get("indoor_b"):
+        text += f", indoors ({clean(settings['indoor_b'])})"
+    return text

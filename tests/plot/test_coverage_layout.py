@@ -287,3 +287,29 @@ def test_probability_map_shows_the_band(land_runs):
     np.testing.assert_array_equal(np.isnan(got), np.isnan(want))
     np.testing.assert_allclose(got[np.isfinite(got)], want[np.isfinite(want)])
     assert image.norm.vmin == 0.0 and image.norm.vmax == 1.0
+
+
+def test_subtitle_says_where_the_node_is():
+    # Issue 20: the sheet states the node's clutter and building when the options set them (the report's
+    # settings), so an indoor probability map is never read as an outdoor one.
+    from profiler.plot.coverage import node_text
+
+    assert node_text({"node_mast_m": 1.5}) == "node mast 1.5 m"
+    assert node_text({"node_mast_m": 1.5, "clutter_b": "urban", "clutter_height_b_m": None,
+                      "indoor_b": "traditional"}) == "node mast 1.5 m in urban, indoors (traditional)"
+    assert node_text({"node_mast_m": 2, "clutter_b": "trees", "clutter_height_b_m": 5.0}) == \
+        "node mast 2 m in trees (R 5 m)"
+
+
+def test_settings_record_the_terminal_options():
+    from click.testing import CliRunner
+
+    from profiler.cli import main
+
+    res = CliRunner().invoke(main, ["coverage", "--dem", "dem_samples", "--site", "-29.9125,-19.955", "--mast-m", "10",
+                                    "--radius-km", "1", "--indoor-b", "thermally-efficient", "--clutter-b", "suburban",
+                                    "--json", "-", "--no-progress"])
+    assert res.exit_code == 0, res.output
+    st = json.loads(res.stdout)["settings"]
+    assert (st["indoor_b"], st["clutter_b"], st["indoor_a"], st["clutter_statistics"]) == \
+        ("thermally-efficient", "suburban", None, False)
