@@ -112,14 +112,10 @@ def link(site_a=None, site_b=None, *, dem=None, profile_csv=None, mast_a_m: floa
         per-sample arrays (``distance_m``, ``terrain_m``, ``bulge_m``, ``los_m``, ``fresnel_radius_m``,
         ``clearance_m``, with a land cover ``clutter_class`` and ``clutter_height_m``, ...).
     """
-    check_names(name_a=name_a, name_b=name_b)
-    radio = calibrated(radio, calibration)
-    f_mhz, band_name = resolve_frequency_mhz(frequency_mhz, band)
     k = parse_k_factor(k_factor)
-    mapping = _class_mapping(land_cover, land_cover_classes, profile_csv)
-    prof = load_profile(site_a, site_b, dem=dem, profile_csv=profile_csv, step_m=step_m,
-                        fill_voids=fill_voids, name_a=name_a, name_b=name_b, digests=digests)
-    prof = _with_land_cover(prof, land_cover, mapping, radio, digests)
+    radio, f_mhz, band_name, prof = _path_run(site_a, site_b, dem, profile_csv, step_m, fill_voids, name_a, name_b,
+                                              frequency_mhz, band, radio, calibration, land_cover,
+                                              land_cover_classes, digests)
     return analyze_link(prof, mast_a_m=mast_a_m, mast_b_m=mast_b_m, frequency_mhz=f_mhz, band=band_name,
                         k_factor=k, clearance_ratio=clearance_ratio, radio=radio,
                         name_a=name_a, name_b=name_b,
@@ -197,13 +193,9 @@ def mast(site_a=None, site_b=None, *, dem=None, profile_csv=None, mast_a_m: floa
     from .products.link import sheet_block
     from .products.mast.solve import solve_mast
 
-    check_names(name_a=name_a, name_b=name_b)
-    radio = calibrated(radio, calibration)
-    f_mhz, band_name = resolve_frequency_mhz(frequency_mhz, band)
-    mapping = _class_mapping(land_cover, land_cover_classes, profile_csv)
-    prof = load_profile(site_a, site_b, dem=dem, profile_csv=profile_csv, step_m=step_m,
-                        fill_voids=fill_voids, name_a=name_a, name_b=name_b, digests=digests)
-    prof = _with_land_cover(prof, land_cover, mapping, radio, digests)
+    radio, f_mhz, band_name, prof = _path_run(site_a, site_b, dem, profile_csv, step_m, fill_voids, name_a, name_b,
+                                              frequency_mhz, band, radio, calibration, land_cover,
+                                              land_cover_classes, digests)
     result = solve_mast(prof, frequency_mhz=f_mhz, band=band_name, solve=solve, mast_a_m=mast_a_m,
                         mast_b_m=mast_b_m, clearance_ratio=clearance_ratio, k_factor=k_factor,
                         low_k_clearance_ratio=low_k_clearance_ratio, low_k_factor=low_k_factor,
@@ -212,6 +204,22 @@ def mast(site_a=None, site_b=None, *, dem=None, profile_csv=None, mast_a_m: floa
                         site_a=tuple(site_a) if site_a is not None else None,
                         site_b=tuple(site_b) if site_b is not None else None)
     return dataclasses.replace(result, sheet=sheet_block(sheet_info, date or datetime.date.today()))
+
+
+def _path_run(site_a, site_b, dem, profile_csv, step_m, fill_voids, name_a, name_b, frequency_mhz, band, radio,
+              calibration, land_cover, land_cover_classes, digests):
+    """What a one-path command (link, mast) starts from: ``(radio, f_mhz, band_name, profile)``.
+
+    Names checked, the calibration applied to ``radio``, the frequency resolved, the land-cover mapping
+    refused early when it cannot apply, the profile loaded and its clutter sampled.
+    """
+    check_names(name_a=name_a, name_b=name_b)
+    radio = calibrated(radio, calibration)
+    f_mhz, band_name = resolve_frequency_mhz(frequency_mhz, band)
+    mapping = _class_mapping(land_cover, land_cover_classes, profile_csv)
+    prof = load_profile(site_a, site_b, dem=dem, profile_csv=profile_csv, step_m=step_m,
+                        fill_voids=fill_voids, name_a=name_a, name_b=name_b, digests=digests)
+    return radio, f_mhz, band_name, _with_land_cover(prof, land_cover, mapping, radio, digests)
 
 
 def _class_mapping(land_cover, land_cover_classes, profile_csv):
