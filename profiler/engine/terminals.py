@@ -326,10 +326,12 @@ def indoor_losses(frequency_mhz, h_a, h_b, length_m, ae, ends, location_percent)
     types = np.array(building_entry.BUILDING_TYPES)
     for end in ("a", "b"):
         idx = ends[end]["indoor_index"]
-        _frequency_check(f_ghz, idx >= 0, building_entry.FREQUENCY_GHZ, "ITU-R P.2109-1")
-        loss = building_entry.building_entry_loss_db(f_ghz, out[f"elevation_angle_{end}_deg"], location_percent,
-                                                     types[np.maximum(idx, 0)])
-        out[f"building_entry_{end}"] = np.where(idx >= 0, loss, 0.0)
+        indoor = idx >= 0
+        _frequency_check(f_ghz, indoor, building_entry.FREQUENCY_GHZ, "ITU-R P.2109-1")
+        out[f"building_entry_{end}"] = np.zeros(np.shape(idx))   # outdoors: no loss (and nothing to compute)
+        if indoor.any():
+            out[f"building_entry_{end}"][indoor] = building_entry.building_entry_loss_db(
+                f_ghz, out[f"elevation_angle_{end}_deg"][indoor], location_percent, types[idx[indoor]])
     return out
 
 

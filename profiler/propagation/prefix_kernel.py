@@ -127,7 +127,7 @@ _bulge_km, _slope, _obstacle, _v_unit = (_D[k] for k in ("bulge_km_term", "slope
                                                           "v_unit_term"))
 
 
-BLOCK = 64
+BLOCK = 16
 """Samples per block of the ν and clearance-ratio bounds in :func:`_hull_kernels`, :func:`_ratio_hull_kernels`."""
 
 
@@ -135,8 +135,8 @@ def _kernels(key: str):
     """The two compiled kernels (closures over ``key`` only, the terms' fingerprint, which keys their disk cache)."""
 
     @numba.njit(cache=True, parallel=True, fastmath=FASTMATH)
-    def geometry_kernel(d_m, t_m, n, h_a, h_b, wavelength_m, ae_m, worst):   # pragma: no cover (compiled)
-        _key = key   # noqa: F841 (the cache key)
+    def geometry_kernel(d_m, t_m, n, h_a, h_b, wavelength_m, ae_m, need, worst):   # pragma: no cover (compiled)
+        _key = key   # noqa: F841 (the cache key); every link, needed or not (the arguments of the hull kernel)
         for r in numba.prange(d_m.shape[0]):
             for j in range(2, n[r]):
                 best = np.inf
@@ -145,8 +145,8 @@ def _kernels(key: str):
                 worst[r, j] = best
 
     @numba.njit(cache=True, parallel=True, fastmath=FASTMATH)
-    def bullington_kernel(d_km, h_m, g_m, n, hts, hrs, ae_km, actual, out):   # pragma: no cover (compiled)
-        _key = key   # noqa: F841 (the cache key)
+    def bullington_kernel(d_km, h_m, g_m, n, hts, hrs, ae_km, actual, need, out):   # pragma: no cover (compiled)
+        _key = key   # noqa: F841 (the cache key); every link, needed or not (the arguments of the hull kernel)
         weight = 1.0 if actual else 0.0
         for r in numba.prange(d_km.shape[0]):
             for j in range(2, n[r]):
@@ -171,7 +171,7 @@ def _kernels(key: str):
 
 
 def _hull_kernels(key: str):
-    """The Bullington pass of every prefix by hull queries (closures over ``key``, the cache key).
+    """The Bullington pass of every needed prefix by hull queries (closures over ``key``, the cache key).
 
     With ``c = 500 / a_e`` [m/km^2], ``y_i = w g_i - c d_i^2`` (``w`` 1 on
     the actual profile, 0 on the smooth one) and ``hc_i = y_i + c d d_i``
@@ -192,13 +192,12 @@ def _hull_kernels(key: str):
     ``(d_i, h_i)``.  Along a hull's vertices each of these rises then falls:
     a binary search on the terms themselves finds the maximum.
 
-    ν (eq. 16) is ``N_i sqrt(0.002 d / (d_i (d - d_i)))`` with
-    ``N_i = y_i + (c d - (b - a) / d) d_i - a`` linear in ``(d_i, y_i)``: no
-    tangent.  Over a block of ``BLOCK`` samples, ``N`` is at most its
-    maximum on the block's own upper hull and the square root lies between
-    its values at the block's ends and at ``d / 2``; blocks whose bound is
-    below the best ν found are skipped (the block of the last samples is
-    always scanned).
+    ν (eq. 16) is ``N_i W(d_i)`` with ``N_i = y_i + p d_i - a``,
+    ``p = c d - (b - a) / d``, linear in ``(d_i, y_i)``, and
+    ``W(x) = sqrt(0.002 d / (x (d - x)))``: no tangent, see :func:`nu_bound`.
+
+    Only the links with ``need[r, j]`` are reduced (the samples some output
+    pixel takes); the hulls are kept over every sample.
     """
 
     @numba.njit(cache=True, fastmath=FASTMATH)
@@ -209,8 +208,6 @@ def _hull_kernels(key: str):
             return _slope(wg[i] + _bulge_km(di, dd, ae_km), a, di)
         if kind == 1:
             return _slope(wg[i] + _bulge_km(di, dd, ae_km), b, dd)
-        if kind == 5:
-            return _obstacle(wg[i] + _bulge_km(di, dd, ae_km), a, b, di, dd, d)
         ob = _obstacle(h[i], a, b, di, dd, d)
         if kind == 2:
             return ob
@@ -231,31 +228,32 @@ def _hull_kernels(key: str):
         return term(kind, vertex[lo], x, wg, h, d, a, b, ae_km)
 
     @numba.njit(cache=True, fastmath=FASTMATH)
-    def nu_max(x, wg, j, d, a, b, ae_km, blocks, count):   # pragma: no cover (compiled)
-        full = (j - 1) // BLOCK   # blocks of samples 1 + k BLOCK .. all before j
+    def nu_scan(x, wg, s, e, d, a, b, ae_km):   # pragma: no cover (compiled)
         best = -np.inf
-        for i in range(1 + full * BLOCK, j):
+        for i in range(s, e):
             best = max(best, _v_unit(wg[i] + _bulge_km(x[i], d - x[i], ae_km), a, b, x[i], d - x[i], d))
-        bound = np.empty(max(full, 1))
-        for k in range(full):
-            s = 1 + k * BLOCK
-            top = search(5, blocks[s:], count[k], x, wg, wg, d, a, b, ae_km)
-            xs, xe = x[s], x[s + BLOCK - 1]
-            w_max = max(math.sqrt(0.002 * d / (xs * (d - xs))), math.sqrt(0.002 * d / (xe * (d - xe))))
-            xm = min(max(0.5 * d, xs), xe)
-            w_min = math.sqrt(0.002 * d / (xm * (d - xm)))
-            bound[k] = top * (w_max if top >= 0.0 else w_min)
-        for _ in range(full):
-            k = np.argmax(bound[:full])
-            if bound[k] < best - 1e-9 * (1.0 + abs(best)):
-                break
-            bound[k] = -np.inf
-            for i in range(1 + k * BLOCK, 1 + (k + 1) * BLOCK):
-                best = max(best, _v_unit(wg[i] + _bulge_km(x[i], d - x[i], ae_km), a, b, x[i], d - x[i], d))
         return best
 
+    @numba.njit(cache=True, fastmath=FASTMATH)
+    def nu_max(x, wg, ytop, j, d, a, b, ae_km, hint):   # pragma: no cover (compiled)
+        full = (j - 1) // BLOCK   # whole blocks before j; the samples after them are always scanned
+        best, at = nu_scan(x, wg, 1 + full * BLOCK, j, d, a, b, ae_km), full
+        if hint < full:
+            v = nu_scan(x, wg, 1 + hint * BLOCK, 1 + (hint + 1) * BLOCK, d, a, b, ae_km)
+            if v > best:
+                best, at = v, hint
+        p = 500.0 / ae_km * d - (b - a) / d
+        for k in range(full):
+            s = 1 + k * BLOCK
+            if k == hint or nu_bound(ytop[k], p, a, x[s], x[s + BLOCK - 1], d) < best - 1e-9 * (1.0 + abs(best)):
+                continue
+            v = nu_scan(x, wg, s, s + BLOCK, d, a, b, ae_km)
+            if v > best:
+                best, at = v, k
+        return best, at
+
     @numba.njit(cache=True, parallel=True, fastmath=FASTMATH)
-    def bullington_hull_kernel(d_km, h_m, g_m, n, hts, hrs, ae_km, actual, out):   # pragma: no cover (compiled)
+    def bullington_hull_kernel(d_km, h_m, g_m, n, hts, hrs, ae_km, actual, need, out):   # pragma: no cover
         _key = key   # noqa: F841 (the cache key)
         weight = 1.0 if actual else 0.0
         c = 500.0 / ae_km
@@ -264,19 +262,21 @@ def _hull_kernels(key: str):
             wg = weight * g_m[r]
             y = wg - c * x * x   # the heights less the parabola: the same for every node
             size = max(n[r], 1)
-            hy, hh, blocks = np.empty(size, np.int64), np.empty(size, np.int64), np.empty(size, np.int64)
-            count = np.zeros(size // BLOCK + 1, np.int64)
+            hy, hh = np.empty(size, np.int64), np.empty(size, np.int64)
+            ytop = block_tops(y, n[r])
             my = mh = 0
+            hint = 0
             for j in range(2, n[r]):
                 i = j - 1
                 my = _push(x, y, hy, my, i)
-                mh = _push(x, h, hh, mh, i)
-                k = (i - 1) // BLOCK
-                count[k] = _push(x, y, blocks[1 + k * BLOCK:], count[k], i)
+                if actual:
+                    mh = _push(x, h, hh, mh, i)
+                if not need[r, j]:
+                    continue
                 d, a, b = x[j], hts[r, j], hrs[r, j]
                 out[0, r, j] = search(0, hy, my, x, wg, h, d, a, b, ae_km)
                 out[1, r, j] = search(1, hy, my, x, wg, h, d, a, b, ae_km)
-                out[2, r, j] = nu_max(x, wg, j, d, a, b, ae_km, blocks, count)
+                out[2, r, j], hint = nu_max(x, wg, ytop, j, d, a, b, ae_km, hint)
                 if actual:
                     for kind in range(2, 5):
                         out[kind + 1, r, j] = search(kind, hh, mh, x, wg, h, d, a, b, ae_km)
@@ -286,71 +286,85 @@ def _hull_kernels(key: str):
     return bullington_hull_kernel
 
 
+@numba.njit(cache=True, fastmath=FASTMATH)
+def block_tops(y, n):   # pragma: no cover (compiled)
+    """Largest ``y`` of every whole block of ``BLOCK`` samples ``1 + k BLOCK ..`` before sample ``n``."""
+    tops = np.full(max((n - 1) // BLOCK, 1), -np.inf)
+    for k in range((n - 1) // BLOCK):
+        for i in range(1 + k * BLOCK, 1 + (k + 1) * BLOCK):
+            tops[k] = max(tops[k], y[i])
+    return tops
+
+
+@numba.njit(cache=True, fastmath=FASTMATH)
+def nu_bound(ytop, p, a, xs, xe, d):   # pragma: no cover (compiled)
+    """Upper bound of ``N_i W(x_i)`` over a block of samples from ``xs`` to ``xe`` (a pruning test, O(1)).
+
+    ``N_i = y_i + p x_i - a`` is at most ``ytop + max(p xs, p xe) - a``
+    (``ytop`` the block's largest ``y``); ``W(x) = sqrt(0.002 d / (x (d -
+    x)))`` is convex with its least value at ``d / 2``, so on the block it is
+    at most its larger end value and at least its value at ``d / 2`` clamped
+    into the block: the bound is ``top W_max`` for ``top >= 0`` and ``top
+    W_min`` below.  The worst clearance ratio (``W`` with ``1 / λ`` for
+    ``0.002``) uses the same bound: a constant factor of ``W`` scales both
+    sides of the test.
+    """
+    top = ytop + max(p * xs, p * xe) - a
+    if top >= 0.0:
+        return top * max(math.sqrt(0.002 * d / (xs * (d - xs))), math.sqrt(0.002 * d / (xe * (d - xe))))
+    xm = min(max(0.5 * d, xs), xe)
+    return top * math.sqrt(0.002 * d / (xm * (d - xm)))
+
+
 def _ratio_hull_kernels(key: str):
-    """The worst clearance / F1 ratio of every prefix over the blocks a hull bound keeps (closure over ``key``).
+    """The worst clearance / F1 ratio of every needed prefix over the blocks a bound keeps (closure over ``key``).
 
     With ``y_i = t_i - d_i^2 / (2 a_e)`` [m], the height of sample ``i``
     above the antennas' line, ``N_i = t_i + d_i (d - d_i) / (2 a_e) - L_i =
     y_i + (d / (2 a_e) - (b - a) / d) d_i - a``, is linear in ``(d_i, y_i)``
     and the ratio is ``-N_i sqrt(d / (λ d_i (d - d_i)))`` (P.526-15 eq. (2),
-    :func:`profiler.propagation.geometry.clearance_ratio_term`).  Over a
-    block of ``BLOCK`` samples ``N`` is at most its maximum on the block's
-    upper hull and the square root lies between its values at the block's
-    ends and at ``d / 2``: blocks whose lower bound of the ratio is above the
-    worst ratio found are skipped (the block of the last samples is always
-    scanned).  Not a tangent, so no O(log n) bound: the pruning is what saves.
+    :func:`profiler.propagation.geometry.clearance_ratio_term`): a block whose
+    :func:`nu_bound` (a lower bound of its ratios, times a constant) shows it
+    cannot hold a smaller ratio is skipped.  The blocks are scanned first
+    where the previous link's worst ratio was, so the bound prunes from the
+    start; the samples after the last whole block are always scanned.
     """
 
     @numba.njit(cache=True, fastmath=FASTMATH)
-    def height(i, x, t, d, a, b, ae_m):   # pragma: no cover (compiled)
-        return t[i] + _bulge(x[i], d - x[i], ae_m) - _line(x[i], d, a, b)
-
-    @numba.njit(cache=True, fastmath=FASTMATH)
-    def block_top(vertex, m, x, t, d, a, b, ae_m):   # pragma: no cover (compiled)
-        lo, hi = 0, m - 1
-        while lo < hi:
-            mid = (lo + hi) // 2
-            if height(vertex[mid + 1], x, t, d, a, b, ae_m) > height(vertex[mid], x, t, d, a, b, ae_m):
-                lo = mid + 1
-            else:
-                hi = mid
-        return height(vertex[lo], x, t, d, a, b, ae_m)
+    def ratio_scan(x, t, s, e, d, a, b, wavelength_m, ae_m):   # pragma: no cover (compiled)
+        best = np.inf
+        for i in range(s, e):
+            best = min(best, _ratio(x[i], d, t[i], a, b, wavelength_m, ae_m))
+        return best
 
     @numba.njit(cache=True, parallel=True, fastmath=FASTMATH)
-    def geometry_hull_kernel(d_m, t_m, n, h_a, h_b, wavelength_m, ae_m, worst):   # pragma: no cover (compiled)
+    def geometry_hull_kernel(d_m, t_m, n, h_a, h_b, wavelength_m, ae_m, need, worst):   # pragma: no cover
         _key = key   # noqa: F841 (the cache key)
+        scale = math.sqrt(500.0 / wavelength_m)   # nu_bound's W (0.002) -> sqrt(d / (λ x (d - x)))
         for r in numba.prange(d_m.shape[0]):
             x, t, a = d_m[r], t_m[r], h_a[r]
-            y = t - x * x / (2.0 * ae_m)   # the heights less the parabola: the same for every node
-            size = max(n[r], 1)
-            blocks, count = np.empty(size, np.int64), np.zeros(size // BLOCK + 1, np.int64)
-            bound = np.empty(size // BLOCK + 1)
+            ytop = block_tops(t - x * x / (2.0 * ae_m), n[r])
+            hint = 0
             for j in range(2, n[r]):
-                k = (j - 2) // BLOCK
-                count[k] = _push(x, y, blocks[1 + k * BLOCK:], count[k], j - 1)
+                if not need[r, j]:
+                    continue
                 d, b = x[j], h_b[r, j]
                 full = (j - 1) // BLOCK
-                best = np.inf
-                for i in range(1 + full * BLOCK, j):
-                    best = min(best, _ratio(x[i], d, t[i], a, b, wavelength_m, ae_m))
+                best, at = ratio_scan(x, t, 1 + full * BLOCK, j, d, a, b, wavelength_m, ae_m), full
+                if hint < full:
+                    v = ratio_scan(x, t, 1 + hint * BLOCK, 1 + (hint + 1) * BLOCK, d, a, b, wavelength_m, ae_m)
+                    if v < best:
+                        best, at = v, hint
+                p = d / (2.0 * ae_m) - (b - a) / d
                 for k in range(full):
                     s = 1 + k * BLOCK
-                    top = block_top(blocks[s:], count[k], x, t, d, a, b, ae_m)
-                    xs, xe = x[s], x[s + BLOCK - 1]
-                    xm = min(max(0.5 * d, xs), xe)
-                    w = max(math.sqrt(d / (wavelength_m * xs * (d - xs))),
-                            math.sqrt(d / (wavelength_m * xe * (d - xe))))
-                    if top < 0.0:
-                        w = math.sqrt(d / (wavelength_m * xm * (d - xm)))
-                    bound[k] = -top * w   # no ratio of the block is below it
-                for _ in range(full):
-                    k = np.argmin(bound[:full])
-                    if bound[k] > best + 1e-9 * (1.0 + abs(best)):
-                        break
-                    bound[k] = np.inf
-                    for i in range(1 + k * BLOCK, 1 + (k + 1) * BLOCK):
-                        best = min(best, _ratio(x[i], d, t[i], a, b, wavelength_m, ae_m))
-                worst[r, j] = best
+                    if k == hint or -scale * nu_bound(ytop[k], p, a, x[s], x[s + BLOCK - 1], d) > \
+                            best + 1e-9 * (1.0 + abs(best)):
+                        continue
+                    v = ratio_scan(x, t, s, s + BLOCK, d, a, b, wavelength_m, ae_m)
+                    if v < best:
+                        best, at = v, k
+                worst[r, j], hint = best, at
 
     return geometry_hull_kernel
 
@@ -363,8 +377,9 @@ LAUNCH = threading.Lock()
 launches from several threads (a Dask worker with more than one thread); each launch uses every core anyway."""
 
 
-def worst_ratio_prefixes(distance_m, terrain_m, n, site_amsl_m, node_amsl_m, wavelength_m, effective_radius_m):
-    """Worst clearance / F1 ratio of the link to every sample of every radial.
+def worst_ratio_prefixes(distance_m, terrain_m, n, site_amsl_m, node_amsl_m, wavelength_m, effective_radius_m,
+                         need=None):
+    """Worst clearance / F1 ratio of the link to every (needed) sample of every radial.
 
     Parameters
     ----------
@@ -378,12 +393,14 @@ def worst_ratio_prefixes(distance_m, terrain_m, n, site_amsl_m, node_amsl_m, wav
         Node antenna at every sample [m AMSL].
     wavelength_m, effective_radius_m : float
         Wavelength and effective Earth radius [m].
+    need : ndarray of bool, shape (R, N), optional
+        The links to reduce (default every one).
 
     Returns
     -------
     ndarray, shape (R, N)
         Minimum of :func:`profiler.propagation.geometry.clearance_ratio_term` over
-        ``0 < i < j`` at ``[r, j]`` [-] (NaN for ``j < 2`` or beyond ``n``).
+        ``0 < i < j`` at ``[r, j]`` [-] (NaN for ``j < 2``, beyond ``n`` or not needed).
         Not where it is: tracking the index would keep the loop from vectorizing.
 
     References
@@ -396,12 +413,19 @@ def worst_ratio_prefixes(distance_m, terrain_m, n, site_amsl_m, node_amsl_m, wav
         _geometry_hull_kernel(np.ascontiguousarray(distance_m, dtype=float),
                               np.ascontiguousarray(terrain_m, dtype=float), np.asarray(n, dtype=np.int64),
                               np.asarray(site_amsl_m, dtype=float), np.ascontiguousarray(node_amsl_m, dtype=float),
-                              float(wavelength_m), float(effective_radius_m), worst)
+                              float(wavelength_m), float(effective_radius_m), _need(need, shape), worst)
     return worst
 
 
+def _need(need, shape):
+    """The mask of the links to reduce as the kernels take it (every link when None)."""
+    if need is None:
+        return np.ones(shape, dtype=np.bool_)
+    return np.ascontiguousarray(need, dtype=np.bool_)
+
+
 def bullington_prefixes(distance_km, height_m, n, hts_m, hrs_m, effective_radius_km, actual,
-                        bullington_height_m=None):
+                        bullington_height_m=None, need=None):
     """One Bullington pass over every prefix of every radial: the reductions of ``diffraction_reductions``.
 
     Parameters
@@ -420,6 +444,8 @@ def bullington_prefixes(distance_km, height_m, n, hts_m, hrs_m, effective_radius
         Heights of the Bullington pass over the actual profile [m AMSL]
         (default ``height_m``; P.1812-8: g = h + R at the interior points);
         the obstacle heights (eqs. 165a-d) stay those of ``height_m``.
+    need : ndarray of bool, shape (R, N), optional
+        The links to reduce (default every one; the others stay NaN).
 
     Returns
     -------
@@ -444,8 +470,8 @@ def bullington_prefixes(distance_km, height_m, n, hts_m, hrs_m, effective_radius
     g = h if bullington_height_m is None else np.ascontiguousarray(bullington_height_m, dtype=float)
     with LAUNCH:
         _bullington_hull_kernel(np.ascontiguousarray(distance_km, dtype=float), h, g, np.asarray(n, dtype=np.int64),
-                           np.ascontiguousarray(hts_m, dtype=float), np.ascontiguousarray(hrs_m, dtype=float),
-                           float(effective_radius_km), bool(actual), out)
+                                np.ascontiguousarray(hts_m, dtype=float), np.ascontiguousarray(hrs_m, dtype=float),
+                                float(effective_radius_km), bool(actual), _need(need, out.shape[1:]), out)
     keys = ("stim", "srim", "v_unit") + (("hobs", "alpha_obt", "alpha_obr") if actual else ())
     return {k: out[i] for i, k in enumerate(keys)}
 
@@ -483,10 +509,13 @@ def prefix_reduce(distance_km, height_m, n, rr, jj, effective_radius_km, bulling
                                                              t[:, :-1], t[:, 1:])
     v1, v2 = np.cumsum(v1_terms, axis=1), np.cumsum(v2_terms, axis=1)   # eqs. (161)-(162) of every prefix
 
+    need = np.zeros(d_km.shape, dtype=np.bool_)
+    need[rr, jj] = True   # only these links are reduced
+
     def reduce(actual, hts, hrs):
         full_a, full_b = np.zeros(d_km.shape), np.zeros(d_km.shape)
         full_a[rr, jj], full_b[rr, jj] = hts, hrs
-        red = bullington_prefixes(d_km, t, n, full_a, full_b, effective_radius_km, actual, bullington_height_m)
+        red = bullington_prefixes(d_km, t, n, full_a, full_b, effective_radius_km, actual, bullington_height_m, need)
         res = {k: v[rr, jj] for k, v in red.items()}
         if actual:
             res.update(v1=v1[rr, jj - 1], v2=v2[rr, jj - 1])

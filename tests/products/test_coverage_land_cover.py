@@ -111,7 +111,7 @@ def test_a_sample_with_land_cover_equals_profiler_link_with_land_cover(pair):
 
 @pytest.mark.parametrize("model", ["p1812", "terrain"])
 def test_kernel_equals_the_numpy_prefix_batches_with_land_cover(model):
-    from profiler.products.coverage.map import _settings, radial_clutter, sample_coordinates
+    from profiler.products.coverage.map import _settings, radial_clutter
     from profiler.products.coverage.radials import radial_fields, sample_radials
     from profiler.terrain.elevation import ElevationModel
     from profiler.terrain.landcover import LandCover, worldcover_mapping
@@ -120,14 +120,33 @@ def test_kernel_equals_the_numpy_prefix_batches_with_land_cover(model):
     gw = Gateway(name="g", lat_deg=GATEWAY[0], lon_deg=GATEWAY[1], mast_m=10.0)
     az = np.array([60.0, 80.0, 95.0, 110.0])     # across the forest east of the gateway
     with ElevationModel.open(DEM) as dem, LandCover.open([LAND_COVER]) as cover:
-        d, t, n = sample_radials(dem, gw, az, 7000.0, 60.0, False)
-        coords = sample_coordinates(gw, az, d)
+        d, t, n, lat, lon = sample_radials(dem, gw, az, 7000.0, 60.0, False, with_coordinates=True)
+        coords = {"lat_a_deg": gw.lat_deg, "lon_a_deg": gw.lon_deg, "lat_b_deg": lat, "lon_b_deg": lon}
         clutter, _ = radial_clutter(cover, worldcover_mapping(), coords, model)
     assert np.nanmax(clutter["clutter_m"]) > 0
     fields = [radial_fields(d, t, n, 10.0, NODE_M, settings, None, kernel, coords if model == "p1812" else None,
                             clutter) for kernel in (True, False)]
     for band in ("path_loss_db", "margin_db", "probability_heard", "location_sigma_db"):
         np.testing.assert_allclose(fields[0][band], fields[1][band], atol=1e-6, rtol=0, equal_nan=True)
+
+
+def test_radial_sample_positions_are_the_direct_geodesic_problem():
+    """Where a coverage run reads the terrain and land cover: pyproj's Geod.fwd (Karney 2013) to 1e-7 deg (1 cm)."""
+    from pyproj import Geod
+
+    from profiler.products.coverage.radials import sample_radials
+    from profiler.terrain.elevation import ElevationModel
+
+    gw = Gateway(name="g", lat_deg=GATEWAY[0], lon_deg=GATEWAY[1], mast_m=10.0)
+    az = np.array([0.0, 37.5, 95.0, 181.0, 300.0])
+    with ElevationModel.open(DEM) as dem:
+        d, _, n, lat, lon = sample_radials(dem, gw, az, 6000.0, 45.0, False, with_coordinates=True)
+    ok = np.isfinite(d)
+    assert ok.sum() > 500 and np.array_equal(ok, np.isfinite(lat))
+    ref_lon, ref_lat, _ = Geod(ellps="WGS84").fwd(np.full(ok.sum(), gw.lon_deg), np.full(ok.sum(), gw.lat_deg),
+                                                  np.broadcast_to(az[:, None], d.shape)[ok], d[ok])
+    np.testing.assert_allclose(lat[ok], ref_lat, atol=1e-7, rtol=0)   # anchored positions: within 1 cm
+    np.testing.assert_allclose(lon[ok], ref_lon, atol=1e-7, rtol=0)
 
 
 def test_probability_outdoors_is_the_normal_cdf_of_the_bands():

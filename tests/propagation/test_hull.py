@@ -52,9 +52,14 @@ def _radials(kind, seed):
     return d, h, n
 
 
-def _horizons(kernel, d, h, n, site, hrs):
+def _need(shape, seed):
+    """About half of the links, at random (a coverage reduces only the samples some pixel takes)."""
+    return np.random.default_rng(seed).random(shape) < 0.5
+
+
+def _horizons(kernel, d, h, n, site, hrs, need=None):
     tangents, index = np.full((2,) + d.shape, np.nan), np.zeros((2,) + d.shape, dtype=np.int64)
-    kernel(d, h, n, site, hrs, AE_KM, tangents, index)
+    kernel(d, h, n, site, hrs, AE_KM, np.ones(d.shape, dtype=bool) if need is None else need, tangents, index)
     return tangents, index
 
 
@@ -156,14 +161,15 @@ def test_hull_bullington_pass_equals_the_loop(kind, actual):
     hts = h[:, :1] + rng.uniform(-30.0, 30.0, d.shape)   # the smooth pass's heights change with the link
     hrs = h + rng.uniform(-30.0, 30.0, d.shape)
     g = h + rng.uniform(0.0, 20.0, d.shape)   # a clutter height on the Bullington pass (P.1812)
+    need = _need(d.shape, 7)
     runs = []
     for kernel in (prefix_kernel._bullington_kernel, prefix_kernel._bullington_hull_kernel):
         out = np.full((6,) + d.shape, np.nan)
-        kernel(d, h, g, n, hts, hrs, AE_KM, actual, out)
+        kernel(d, h, g, n, hts, hrs, AE_KM, actual, need, out)
         runs.append(out)
     ref, got = runs
-    ok = np.isfinite(ref) | np.isinf(ref)
-    assert np.array_equal(ok, np.isfinite(got) | np.isinf(got)) and ok[0].sum() > 300
+    ok = (np.isfinite(ref) | np.isinf(ref)) & need
+    assert np.array_equal(ok, np.isfinite(got) | np.isinf(got)) and ok[0].sum() > 150   # nothing where not needed
     np.testing.assert_allclose(got[ok], ref[ok], rtol=1e-9, atol=1e-9)
 
 
@@ -179,12 +185,13 @@ def test_pruned_clearance_ratio_equals_the_loop(kind):
     rng = np.random.default_rng(9)
     node = t + rng.uniform(0.5, 40.0, t.shape)
     site = t[:, 0] + 10.0
+    need = _need(d.shape, 10)
     runs = []
     for kernel in (prefix_kernel._geometry_kernel, prefix_kernel._geometry_hull_kernel):
         worst = np.full(d.shape, np.nan)
-        kernel(d, t, n, site, node, 0.345, AE_KM * 1e3, worst)
+        kernel(d, t, n, site, node, 0.345, AE_KM * 1e3, need, worst)
         runs.append(worst)
     ref, got = runs
-    ok = np.isfinite(ref)
-    assert np.array_equal(ok, np.isfinite(got)) and ok.sum() > 600
+    ok = np.isfinite(ref) & need
+    assert np.array_equal(ok, np.isfinite(got)) and ok.sum() > 300
     np.testing.assert_allclose(got[ok], ref[ok], rtol=1e-9, atol=1e-9)

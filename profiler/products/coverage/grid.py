@@ -158,16 +158,46 @@ def radial_lookup(az, dist, n_radials: int, spacing_m: float, radius_m: float):
     return k, j, dist <= radius_m
 
 
+def needed_samples(grid: CoverageGrid, gw: Gateway, n_radials: int, spacing_m: float, radius_m: float,
+                   n_full: int, tile_px: int = 1024) -> np.ndarray:
+    """The radial samples some pixel takes (:func:`radial_lookup`): a bool table (radials, samples).
+
+    A coverage run reduces only these links (a pixel takes the value of one
+    sample: about half the samples at half-pixel steps); sample 1 is needed
+    with sample 0 (the site's pixel takes sample 1's values).  The gateway's
+    circle is looked up in tiles of ``tile_px`` square (bounded memory).
+    """
+    need = np.zeros((n_radials, n_full), dtype=bool)
+    w = grid.circle_window(gw, radius_m)
+    if overlap(w, (0, grid.height, 0, grid.width)) is None:
+        return need
+    for r0, r1, c0, c1 in grid.window(*w).tiles(tile_px):
+        mark_needed(need, radial_lookup(*pixel_polar(grid.window(w[0] + r0, w[0] + r1, w[2] + c0, w[2] + c1), gw),
+                                        n_radials, spacing_m, radius_m))
+    return need
+
+
+def mark_needed(need: np.ndarray, lookup) -> np.ndarray:
+    """Mark in ``need`` (radials, samples) the samples a ``(radial, sample, inside)`` lookup takes (and sample 1
+    wherever sample 0 is taken); returns ``need``."""
+    k, j, inside = lookup
+    ok = inside & (j < need.shape[1])
+    need[k[ok], j[ok]] = True
+    need[:, 1] |= need[:, 0]
+    return need
+
+
 def to_grid(parts, lookup, n_radials, n_full):
     """Per-radial results of one gateway's sectors -> bands on the grid (NaN outside)."""
     k, j, inside = lookup
     n = np.concatenate([p["n"] for p in parts])
     valid = inside & (j < n[k])
+    flat = k[valid] * n_full + j[valid]   # one index for every band
     bands = {}
     for name in band_names(parts[0]):
-        table = np.concatenate([p[name] for p in parts])
+        table = np.concatenate([p[name] for p in parts]).reshape(-1)
         grid = np.full(k.shape, np.nan, dtype=np.float32)
-        grid[valid] = table[k[valid], j[valid]]
+        grid[valid] = table.take(flat)
         bands[name] = grid
     return bands
 

@@ -64,6 +64,8 @@ from .grid import (
     add_counts,
     combine_bands,
     make_grid,
+    mark_needed,
+    needed_samples,
     overlap,
     pixel_polar,
     radial_lookup,
@@ -84,7 +86,9 @@ RADIALS_PER_CHUNK = 32
 """Radials per task (one sector)."""
 def _sector_job(chunk, *, settings, n_radials, radius_m, step_m, node_mast_m, kernel=None, model=None,
                 cover=None, land=None):
-    """One task ``(gateway, radial indices)``: sample a sector and run the engine on every sample.
+    """One task ``(gateway, radial indices, needed samples)``: sample a sector, run the engine on the needed samples.
+
+    ``needed samples``: the rows of :func:`grid.needed_samples` for the sector's radials (None: every sample).
 
     Opens the elevation (and land-cover) files by path when no model is given (on a worker).  ``land``:
     ``(paths, mapping)`` of the land cover, ``cover`` the opened :class:`profiler.terrain.landcover.LandCover`.
@@ -102,16 +106,19 @@ def _sector_job(chunk, *, settings, n_radials, radius_m, step_m, node_mast_m, ke
                 return _sector_job(chunk, settings=settings, n_radials=n_radials, radius_m=radius_m, step_m=step_m,
                                    node_mast_m=node_mast_m, kernel=kernel, model=opened, cover=opened_cover,
                                    land=land)
-    gw, indices = chunk
+    gw, indices, need = chunk
     az = np.asarray(indices) * (360.0 / n_radials)
-    d, t, n = sample_radials(model, gw, az, radius_m, step_m, settings.fill_voids)
-    ae = float(geometry.effective_radius_m(settings.k_factor))
     p1812 = settings.radio.propagation.model == "p1812"
-    coordinates = sample_coordinates(gw, az, d) if p1812 or land is not None else None
+    d, t, n, lat, lon = sample_radials(model, gw, az, radius_m, step_m, settings.fill_voids, with_coordinates=True)
+    ae = float(geometry.effective_radius_m(settings.k_factor))
+    coordinates = None
+    if p1812 or land is not None:   # the positions the terrain was read at (the direct geodesic problem)
+        coordinates = {"lat_a_deg": float(gw.lat_deg), "lon_a_deg": float(gw.lon_deg), "lat_b_deg": lat,
+                       "lon_b_deg": lon}
     clutter, codes = (None, None) if land is None else radial_clutter(cover, land[1], coordinates,
                                                                       settings.radio.propagation.model)
     out = radial_fields(d, t, n, gw.mast_m, node_mast_m, settings, gw.overrides, kernel,
-                        coordinates if p1812 else None, clutter)
+                        coordinates if p1812 else None, clutter, need)
     out["terrain_m"] = np.where(np.isfinite(d), t, np.nan)
     los = line_of_sight_radials(d, t, n, t[:, 0] + gw.mast_m, node_mast_m, ae)
     out["line_of_sight"] = np.where(np.isfinite(out["margin_db"]), los.astype(float), np.nan)
@@ -138,22 +145,6 @@ def radial_clutter(cover, mapping, coordinates, model: str):
     cls = samples.class_index.astype(np.int64)
     return ({"clutter_m": np.where(cls >= 0, samples.height_m, np.nan), "clutter_class": cls},
             np.where(cls >= 0, samples.code, -1))
-
-
-def sample_coordinates(gw, azimuth_deg, distance_m) -> dict:
-    """The site's and every radial sample's latitude and longitude [deg] (``--model p1812``'s path centres).
-
-    Samples at NaN distances get NaN coordinates.
-    """
-    from pyproj import Geod
-
-    az = np.broadcast_to(np.asarray(azimuth_deg, dtype=float)[:, None], distance_m.shape)
-    ok = np.isfinite(distance_m)
-    lat, lon = np.full(distance_m.shape, np.nan), np.full(distance_m.shape, np.nan)
-    lo, la, _ = Geod(ellps="WGS84").fwd(np.full(int(ok.sum()), gw.lon_deg), np.full(int(ok.sum()), gw.lat_deg),
-                                        az[ok], distance_m[ok])
-    lat[ok], lon[ok] = la, lo
-    return {"lat_a_deg": float(gw.lat_deg), "lon_a_deg": float(gw.lon_deg), "lat_b_deg": lat, "lon_b_deg": lon}
 
 
 # --------------------------------------------------------------------------- the run
@@ -390,9 +381,10 @@ def _stream(model, settings, gateways, grid, radius_m, res, node_mast_m, workers
     stores = []
     try:
         for i, g in enumerate(gateways):
+            need = needed_samples(grid, g, n_radials, radius_m / (n_full - 1), radius_m, n_full)
             for b0 in range(0, len(sectors), per_batch):
                 batch = sectors[b0:b0 + per_batch]
-                parts = run_chunks(job, [(g, np.arange(n_radials)[sl]) for sl in batch], workers=workers,
+                parts = run_chunks(job, [(g, np.arange(n_radials)[sl], need[sl]) for sl in batch], workers=workers,
                                    scheduler=scheduler, progress=progress, desc="radials",
                                    weights=[sl.stop - sl.start for sl in batch])
                 for sl, part in zip(batch, parts):
@@ -537,7 +529,13 @@ def _sweep(model, settings, gateways, grid, radius_m, res, node_mast_m, workers,
     n_full = max(math.ceil(radius_m / step_m) + 1, 3)
     spacing = radius_m / (n_full - 1)
     sectors = chunked(n_radials, RADIALS_PER_CHUNK)
-    chunks = [(g, np.arange(n_radials)[sl]) for g in gateways for sl in sectors]
+    windows = [grid.circle_window(g, radius_m) for g in gateways]
+    lookups = [None if overlap(w, (0, grid.height, 0, grid.width)) is None else
+               radial_lookup(*pixel_polar(grid.window(*w), g), n_radials, spacing, radius_m)
+               for g, w in zip(gateways, windows)]
+    needs = [np.zeros((n_radials, n_full), dtype=bool) if lookup is None else
+             mark_needed(np.zeros((n_radials, n_full), dtype=bool), lookup) for lookup in lookups]
+    chunks = [(g, np.arange(n_radials)[sl], need[sl]) for g, need in zip(gateways, needs) for sl in sectors]
     local = workers is None and scheduler is None
     job = functools.partial(_sector_job, settings=settings, n_radials=n_radials, radius_m=radius_m, step_m=step_m,
                             node_mast_m=node_mast_m, kernel=kernel, model=model if local else None,
@@ -546,11 +544,9 @@ def _sweep(model, settings, gateways, grid, radius_m, res, node_mast_m, workers,
                        weights=[c[1].size for c in chunks])
     running = RunningComposite((grid.height, grid.width), settings.radio.fade_margin_db)
     inside_any = np.zeros((grid.height, grid.width), dtype=bool)
-    for i, g in enumerate(gateways):   # each gateway over the window of its circle only
-        w = grid.circle_window(g, radius_m)
-        if overlap(w, (0, grid.height, 0, grid.width)) is None:
+    for i, (g, w, lookup) in enumerate(zip(gateways, windows, lookups)):   # each over its circle's window only
+        if lookup is None:
             continue
-        lookup = radial_lookup(*pixel_polar(grid.window(*w), g), n_radials, spacing, radius_m)
         inside_any[w[0]:w[1], w[2]:w[3]] |= lookup[2]
         running.add(i, g, to_grid(parts[i * len(sectors):(i + 1) * len(sectors)], lookup, n_radials, n_full), w,
                     adopt=True)

@@ -131,7 +131,7 @@ def kernel_available() -> bool:
 
 
 def radial_fields(distance_m, terrain_m, n, mast_m, node_mast_m, settings, overrides=None, kernel=None,
-                  coordinates=None, clutter=None) -> dict:
+                  coordinates=None, clutter=None, need=None) -> dict:
     """Engine results for a node at every sample of every radial (every prefix of a radial is one link).
 
     The reductions over each link's samples run in the compiled kernel of
@@ -166,12 +166,16 @@ def radial_fields(distance_m, terrain_m, n, mast_m, node_mast_m, settings, overr
     clutter : dict, optional
         A land cover at every sample: ``clutter_m`` (R, N) [m, NaN none] and
         ``clutter_class`` (R, N) [index into the clutter classes, -1 none].
+    need : ndarray of bool, shape (R, N), optional
+        The samples to compute (:func:`profiler.products.coverage.grid.needed_samples`:
+        those some pixel takes; default every one).  Every link's reductions
+        are exact whichever links are computed.
 
     Returns
     -------
     dict of ndarray, shape (R, N)
         The bands of :data:`BANDS` except ``terrain_m`` and ``line_of_sight``
-        (NaN where not computed; ``recommended_dr`` NaN where none closes),
+        (NaN where not computed or not needed; ``recommended_dr`` NaN where none closes),
         plus ``building_entry_loss_db`` with an indoor node.
     """
     from ...engine.links import link_fields
@@ -193,7 +197,9 @@ def radial_fields(distance_m, terrain_m, n, mast_m, node_mast_m, settings, overr
         kernel = kernel_available()
     kernel = kernel and not any_terminal(settings.radio, overrides=_overrides(overrides, 1))
     kernel = kernel and (clutter is None or p1812)
-    rr, jj = np.nonzero((np.arange(d.shape[1])[None, :] >= 1) & (np.arange(d.shape[1])[None, :] < n[:, None]))
+    cols = np.arange(d.shape[1])[None, :]
+    wanted = (cols < n[:, None]) if need is None else (cols < n[:, None]) & np.asarray(need, dtype=bool)
+    rr, jj = np.nonzero(wanted & (cols >= 1))
     # free space, or (numpy, no diffraction) a loss that depends on the two ends only
     straight = (jj == 1) | (fast and not kernel)
     if straight.any():
@@ -203,9 +209,9 @@ def radial_fields(distance_m, terrain_m, n, mast_m, node_mast_m, settings, overr
         tt = np.stack([t0, (t0 + t_end) / 2.0, t_end], axis=1)
         run(r, j, dd, tt, np.full(r.size, 3), _straight_clutter(clutter, r, j))
     if kernel:
-        _kernel_fields(out, d, t, n, mast_m, node_mast_m, settings, overrides, fast, coordinates, clutter)
+        _kernel_fields(out, d, t, n, mast_m, node_mast_m, settings, overrides, fast, coordinates, clutter, wanted)
     elif fast:
-        _fresnel_only(out, d, t, n, mast_m, node_mast_m, settings)
+        _fresnel_only(out, d, t, n, mast_m, node_mast_m, settings, wanted)
     else:
         for j0, j1 in _blocks(int(n.max(initial=0)), d.shape[0]):
             mask = (jj >= j0) & (jj < j1)
@@ -256,7 +262,7 @@ def _probability(out, settings) -> dict:
     return out
 
 
-def _fresnel_only(out, d, t, n, mast_m, node_mast_m, settings) -> None:
+def _fresnel_only(out, d, t, n, mast_m, node_mast_m, settings, wanted) -> None:
     """Worst Fresnel ratio by the geometry of the prefix batches (no diffraction)."""
     from ...engine.geometry import geometry_batch
     from ...propagation.free_space import wavelength_m
@@ -264,7 +270,7 @@ def _fresnel_only(out, d, t, n, mast_m, node_mast_m, settings) -> None:
     lam = float(wavelength_m(settings.frequency_mhz))
     ae = float(geometry.effective_radius_m(settings.k_factor))
     cols = np.arange(d.shape[1])[None, :]
-    rr, jj = np.nonzero((cols >= 2) & (cols < n[:, None]))
+    rr, jj = np.nonzero((cols >= 2) & wanted)
     for j0, j1 in _blocks(int(n.max(initial=0)), d.shape[0]):
         mask = (jj >= j0) & (jj < j1)
         if mask.any():
@@ -288,8 +294,8 @@ def _paths(coordinates, rr, jj, clutter=None):
 
 
 def _kernel_fields(out, d, t, n, mast_m, node_mast_m, settings, overrides, fast, coordinates=None,
-                   clutter=None) -> None:
-    """Links to samples 2 .. n - 1 of every radial: the kernel's reductions, then the numpy finish (fills ``out``).
+                   clutter=None, wanted=None) -> None:
+    """Links to samples 2 .. n - 1 (``wanted``) of every radial: the kernel's reductions, then the numpy finish.
 
     ``--model terrain``: the delta-Bullington reductions of
     :mod:`profiler.propagation.prefix_kernel`; ``--model p1812``: those of
@@ -306,11 +312,12 @@ def _kernel_fields(out, d, t, n, mast_m, node_mast_m, settings, overrides, fast,
     lam = float(wavelength_m(settings.frequency_mhz))
     ae = float(geometry.effective_radius_m(settings.k_factor))
     cols = np.arange(d.shape[1])[None, :]
-    rr, jj = np.nonzero((cols >= 2) & (cols < n[:, None]))
+    wanted = (cols < n[:, None]) if wanted is None else wanted
+    rr, jj = np.nonzero((cols >= 2) & wanted)
     if rr.size == 0:
         return
     site, node = t[:, 0] + mast_m, t + node_mast_m
-    worst = prefix_kernel.worst_ratio_prefixes(d, t, n, site, node, lam, ae)
+    worst = prefix_kernel.worst_ratio_prefixes(d, t, n, site, node, lam, ae, wanted)
     h_a, h_b = site[rr], node[rr, jj]
     if fast:   # no diffraction: the budget needs the length and the worst ratio only
         _store(out, rr, jj, link_fields(None, None, None, h_a, h_b, settings, _overrides(overrides, rr.size),
@@ -362,12 +369,16 @@ def _store(out, rr, jj, res, settings, node_mast_m) -> None:
 
 
 # --------------------------------------------------------------------------- radials
-def sample_radials(model, gw: Gateway, azimuth_deg, radius_m: float, step_m: float, fill_voids: bool):
+def sample_radials(model, gw: Gateway, azimuth_deg, radius_m: float, step_m: float, fill_voids: bool,
+                   with_coordinates: bool = False):
     """Terrain along radials from the site, each cut where it leaves the data (or meets a void).
 
     Returns ``(distance_m, terrain_m, n)`` with arrays (R, N) padded with NaN
     and ``n`` the samples kept per radial (0: none); samples are equally
-    spaced by ``radius_m / (N - 1)``, at most ``step_m``.
+    spaced by ``radius_m / (N - 1)``, at most ``step_m``.  With
+    ``with_coordinates`` also the samples' WGS84 ``(lat_deg, lon_deg)``
+    (R, N) [deg] (NaN where there is no sample), the positions the terrain
+    was read at.
     """
     from pyproj import Geod
 
@@ -381,12 +392,12 @@ def sample_radials(model, gw: Gateway, azimuth_deg, radius_m: float, step_m: flo
     spacing = radius_m / (n_full - 1)
     lon_e, lat_e, _ = geod.fwd(lon0, lat0, az, np.full(size, radius_m))
     s = sample_links(model, lat0, lon0, lat_e, lon_e, step_m=spacing * (1 + 1e-9), fill_voids=fill_voids)
-    d = np.full((size, n_full), np.nan)
-    t = np.full((size, n_full), np.nan)
+    d, t, lat, lon = (np.full((size, n_full), np.nan) for _ in range(4))
     n = np.zeros(size, dtype=np.int64)
     ok = s.ok & (s.n == n_full)
     if ok.any():
         d[ok], t[ok], n[ok] = s.distance_m[ok, :n_full], s.terrain_m[ok, :n_full], n_full
+        lat[ok], lon[ok] = s.lat_deg[ok, :n_full], s.lon_deg[ok, :n_full]
     bad = np.flatnonzero(~ok)
     if bad.size:
         steps = np.arange(n_full) * spacing
@@ -409,7 +420,8 @@ def sample_radials(model, gw: Gateway, azimuth_deg, radius_m: float, step_m: flo
             for i in np.flatnonzero(fine):  # one copy per cut radial (rows of different length)
                 m = int(k[i])
                 d[b[i], :m], t[b[i], :m], n[b[i]] = s2.distance_m[i, :m], s2.terrain_m[i, :m], m
-    return d, t, n
+                lat[b[i], :m], lon[b[i], :m] = s2.lat_deg[i, :m], s2.lon_deg[i, :m]
+    return (d, t, n, lat, lon) if with_coordinates else (d, t, n)
 
 
 def keep_freed_memory() -> bool:

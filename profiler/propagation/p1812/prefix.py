@@ -102,7 +102,8 @@ def _horizon_kernels(key: str):
         return best, at
 
     @numba.njit(cache=True, parallel=True, fastmath=fastmath)
-    def horizon_kernel_reference(d_km, h_m, n, site, hrs, ae_km, tangents, index):   # pragma: no cover (compiled)
+    def horizon_kernel_reference(d_km, h_m, n, site, hrs, ae_km, need, tangents, index):   # pragma: no cover
+        # every link, needed or not (the same arguments as horizon_kernel)
         _key = key   # noqa: F841 (the cache key)
         for r in numba.prange(d_km.shape[0]):
             a = site[r]
@@ -126,7 +127,7 @@ def _horizon_kernels(key: str):
                 index[0, r, j], index[1, r, j] = it, at
 
     @numba.njit(cache=True, parallel=True, fastmath=fastmath)
-    def horizon_kernel(d_km, h_m, n, site, hrs, ae_km, tangents, index):   # pragma: no cover (compiled)
+    def horizon_kernel(d_km, h_m, n, site, hrs, ae_km, need, tangents, index):   # pragma: no cover (compiled)
         _key = key   # noqa: F841 (the cache key)
         c = 500.0 / ae_km
         for r in numba.prange(d_km.shape[0]):
@@ -142,6 +143,8 @@ def _horizon_kernels(key: str):
                 if tangent > t_max:
                     t_max, it = tangent, j - 1
                 m = _push(x, y, vertex, m, j - 1)
+                if not need[r, j]:
+                    continue
                 d, b = x[j], hrs[r, j]
                 if _trans(t_max, d, a, b, ae_km):   # the receiver's horizon: tangent to the hull
                     lo, hi = 0, m - 1
@@ -225,7 +228,8 @@ class PrefixReducer(Reducer):
     def horizons(self, hts, hrs, ae_km):
         tangents, index = np.full((2,) + self.d.shape, np.nan), np.zeros((2,) + self.d.shape, dtype=np.int64)
         with prefix_kernel.LAUNCH:
-            _horizon_kernel(self.d, self.h, self.n, self._site(hts), self._full(hrs), float(ae_km), tangents, index)
+            _horizon_kernel(self.d, self.h, self.n, self._site(hts), self._full(hrs), float(ae_km),
+                            self._full(True, np.bool_), tangents, index)
         at = (self.rr, self.jj)
         far, far_index = tangents[1][at], index[1][at]
         return {"tan_t_max": tangents[0][at], "theta_t_index": index[0][at], "tan_r_max": far,
