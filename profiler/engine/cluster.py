@@ -102,7 +102,7 @@ def _check_options(workers, scheduler) -> None:
 
 def run_chunks(func: Callable, chunks: Iterable, *, workers: int | None = None, scheduler: str | None = None,
                progress: bool | None = None, desc: str = "links", total: int | None = None,
-               weights: Sequence[int] | None = None, connect_timeout_s: float = 10.0) -> list:
+               weights: Sequence[int] | None = None, connect_timeout_s: float = 10.0, threads: int = 1) -> list:
     """Apply ``func`` to every chunk and return the results in chunk order.
 
     Parameters
@@ -128,6 +128,10 @@ def run_chunks(func: Callable, chunks: Iterable, *, workers: int | None = None, 
         Items per chunk for the bar; default ``len(chunk)`` (a slice's length).
     connect_timeout_s : float
         How long to wait for ``scheduler`` [s].
+    threads : int
+        In-process (no ``workers``/``scheduler``): chunks run at once on this
+        many threads (``func`` must then be safe to call from several
+        threads; numpy and the compiled kernels release the GIL).
 
     Returns
     -------
@@ -149,6 +153,8 @@ def run_chunks(func: Callable, chunks: Iterable, *, workers: int | None = None, 
     bar = _progress_bar(progress, desc, sum(sizes) if total is None else int(total))
     try:
         if workers is None and scheduler is None:
+            if threads > 1 and len(chunks) > 1:
+                return _run_on_threads(func, chunks, sizes, bar, threads)
             results = []
             for chunk, size in zip(chunks, sizes):
                 results.append(func(chunk))
@@ -159,6 +165,27 @@ def run_chunks(func: Callable, chunks: Iterable, *, workers: int | None = None, 
     finally:
         if bar is not None:
             bar.close()
+
+
+def _run_on_threads(func, chunks, sizes, bar, threads) -> list:
+    """Every chunk on a pool of ``threads`` threads of this process, results in chunk order."""
+    from concurrent.futures import FIRST_EXCEPTION, ThreadPoolExecutor, wait
+
+    results = [None] * len(chunks)
+    with ThreadPoolExecutor(min(int(threads), len(chunks))) as pool:
+        index = {pool.submit(func, chunk): i for i, chunk in enumerate(chunks)}
+        pending = set(index)
+        while pending:
+            done, pending = wait(pending, return_when=FIRST_EXCEPTION)
+            for future in done:
+                if future.exception() is not None:
+                    for other in pending:
+                        other.cancel()
+                    raise future.exception()
+                results[index[future]] = future.result()
+                if bar is not None:
+                    bar.update(sizes[index[future]])
+    return results
 
 
 def _import_distributed():

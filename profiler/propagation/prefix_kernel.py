@@ -134,7 +134,7 @@ BLOCK = 16
 def _kernels(key: str):
     """The two compiled kernels (closures over ``key`` only, the terms' fingerprint, which keys their disk cache)."""
 
-    @numba.njit(cache=True, parallel=True, fastmath=FASTMATH)
+    @numba.njit(cache=True, parallel=True, nogil=True, fastmath=FASTMATH)
     def geometry_kernel(d_m, t_m, n, h_a, h_b, wavelength_m, ae_m, need, worst):   # pragma: no cover (compiled)
         _key = key   # noqa: F841 (the cache key); every link, needed or not (the arguments of the hull kernel)
         for r in numba.prange(d_m.shape[0]):
@@ -144,8 +144,8 @@ def _kernels(key: str):
                     best = min(best, _ratio(d_m[r, i], d_m[r, j], t_m[r, i], h_a[r], h_b[r, j], wavelength_m, ae_m))
                 worst[r, j] = best
 
-    @numba.njit(cache=True, parallel=True, fastmath=FASTMATH)
-    def bullington_kernel(d_km, h_m, g_m, n, hts, hrs, ae_km, actual, need, out):   # pragma: no cover (compiled)
+    @numba.njit(cache=True, parallel=True, nogil=True, fastmath=FASTMATH)
+    def bullington_kernel(d_km, h_m, g_m, n, hts, hrs, ae_km, actual, need, nu_always, out):   # pragma: no cover
         _key = key   # noqa: F841 (the cache key); every link, needed or not (the arguments of the hull kernel)
         weight = 1.0 if actual else 0.0
         for r in numba.prange(d_km.shape[0]):
@@ -194,7 +194,23 @@ def _hull_kernels(key: str):
 
     ν (eq. 16) is ``N_i W(d_i)`` with ``N_i = y_i + p d_i - a``,
     ``p = c d - (b - a) / d``, linear in ``(d_i, y_i)``, and
-    ``W(x) = sqrt(0.002 d / (x (d - x)))``: no tangent, see :func:`nu_bound`.
+    ``W(x) = sqrt(0.002 d / (x (d - x)))``: no tangent.  It enters the loss
+    only on a line-of-sight pass (``stim < Str`` of eq. (15), or
+    ``stim + srim <= 0``; eqs. (17), (19)-(21)), so it is taken there only
+    (beyond a rounding slack; everywhere with ``nu_always``, the knife-edge
+    method).  On the actual profile the blocks of samples that
+    :func:`nu_bound` does not rule out are scanned, first the block of the
+    previous link's largest ν.  On the smooth profile (every height 0) with
+    ``a, b >= 0``, ν rises then falls along the samples: with
+    ``t = sqrt(x / (d - x))`` (increasing in x),
+    ``ν / sqrt(0.002 d) = f(t) = A t / (1 + t^2) - α / t - β t`` with
+    ``A = c d``, ``α = a / d``, ``β = b / d``, and
+    ``t^2 f'(t) = m(s) = A s (1 - s) / (1 + s)^2 - β s + α`` (``s = t^2``),
+    whose derivative ``A (1 - 3 s) / (1 + s)^3 - β`` falls on ``s < 1`` and
+    is negative beyond ``1 / 3``: ``m`` starts at ``α >= 0``, rises at most
+    once and then falls, so ``f'`` changes sign at most once, from + to -.
+    A binary search on the terms finds the largest; its slopes are the
+    concave (or convex) functions of :func:`smooth_slope` (O(log n)).
 
     Only the links with ``need[r, j]`` are reduced (the samples some output
     pixel takes); the hulls are kept over every sample.
@@ -235,7 +251,7 @@ def _hull_kernels(key: str):
         return best
 
     @numba.njit(cache=True, fastmath=FASTMATH)
-    def nu_max(x, wg, ytop, j, d, a, b, ae_km, hint):   # pragma: no cover (compiled)
+    def nu_max(x, wg, tops, j, d, a, b, ae_km, hint):   # pragma: no cover (compiled)
         full = (j - 1) // BLOCK   # whole blocks before j; the samples after them are always scanned
         best, at = nu_scan(x, wg, 1 + full * BLOCK, j, d, a, b, ae_km), full
         if hint < full:
@@ -243,17 +259,69 @@ def _hull_kernels(key: str):
             if v > best:
                 best, at = v, hint
         p = 500.0 / ae_km * d - (b - a) / d
-        for k in range(full):
+        k = 0
+        while k < full:
+            size, top = pruning_unit(tops, k, full)
             s = 1 + k * BLOCK
-            if k == hint or nu_bound(ytop[k], p, a, x[s], x[s + BLOCK - 1], d) < best - 1e-9 * (1.0 + abs(best)):
+            if nu_bound(top, p, a, x[s], x[s + size * BLOCK - 1], d) < best - 1e-9 * (1.0 + abs(best)):
+                k += size   # no sample of these blocks can beat the best
                 continue
-            v = nu_scan(x, wg, s, s + BLOCK, d, a, b, ae_km)
-            if v > best:
-                best, at = v, k
+            if size > 1:
+                k_end = k + size
+                while k < k_end:   # the blocks of the group one by one
+                    s = 1 + k * BLOCK
+                    if k != hint and nu_bound(tops[0, k], p, a, x[s], x[s + BLOCK - 1], d) >= \
+                            best - 1e-9 * (1.0 + abs(best)):
+                        v = nu_scan(x, wg, s, s + BLOCK, d, a, b, ae_km)
+                        if v > best:
+                            best, at = v, k
+                    k += 1
+                continue
+            if k != hint:
+                v = nu_scan(x, wg, s, s + BLOCK, d, a, b, ae_km)
+                if v > best:
+                    best, at = v, k
+            k += 1
         return best, at
 
-    @numba.njit(cache=True, parallel=True, fastmath=FASTMATH)
-    def bullington_hull_kernel(d_km, h_m, g_m, n, hts, hrs, ae_km, actual, need, out):   # pragma: no cover
+    @numba.njit(cache=True, fastmath=FASTMATH)
+    def smooth_nu(x, j, d, a, b, ae_km):   # pragma: no cover (compiled)
+        # the smooth profile with a, b >= 0: ν rises then falls along the samples (see _hull_kernels): the peak by
+        # a binary search on the terms themselves
+        lo, hi = 1, j - 1
+        while lo < hi:
+            mid = (lo + hi) // 2
+            if _v_unit(_bulge_km(x[mid + 1], d - x[mid + 1], ae_km), a, b, x[mid + 1], d - x[mid + 1], d) > \
+                    _v_unit(_bulge_km(x[mid], d - x[mid], ae_km), a, b, x[mid], d - x[mid], d):
+                lo = mid + 1
+            else:
+                hi = mid
+        return _v_unit(_bulge_km(x[lo], d - x[lo], ae_km), a, b, x[lo], d - x[lo], d)
+
+    @numba.njit(cache=True, fastmath=FASTMATH)
+    def smooth_slope(kind, x, wg, h, j, d, a, b, ae_km):   # pragma: no cover (compiled)
+        # the smooth profile (all heights 0): stim_i = c (d - x_i) - a / x_i (+ rounding) is concave in x_i for
+        # a > 0 (largest next to x = sqrt(a / c)) and convex otherwise (largest at an end); srim_i = c (d + x_i) -
+        # b / (d - x_i) likewise about x = d - sqrt(b / c): the largest is one of four samples
+        c = 500.0 / ae_km
+        end = a if kind == 0 else b
+        best = max(term(kind, 1, x, wg, h, d, a, b, ae_km), term(kind, j - 1, x, wg, h, d, a, b, ae_km))
+        if end > 0.0:
+            target = math.sqrt(end / c) if kind == 0 else d - math.sqrt(end / c)
+            lo, hi = 1, j - 1   # the first sample at or beyond the target (binary search on the distances)
+            while lo < hi:
+                mid = (lo + hi) // 2
+                if x[mid] < target:
+                    lo = mid + 1
+                else:
+                    hi = mid
+            best = max(best, term(kind, lo, x, wg, h, d, a, b, ae_km))
+            if lo > 1:
+                best = max(best, term(kind, lo - 1, x, wg, h, d, a, b, ae_km))
+        return best
+
+    @numba.njit(cache=True, parallel=True, nogil=True, fastmath=FASTMATH)
+    def bullington_hull_kernel(d_km, h_m, g_m, n, hts, hrs, ae_km, actual, need, nu_always, out):   # pragma: no cover
         _key = key   # noqa: F841 (the cache key)
         weight = 1.0 if actual else 0.0
         c = 500.0 / ae_km
@@ -263,57 +331,85 @@ def _hull_kernels(key: str):
             y = wg - c * x * x   # the heights less the parabola: the same for every node
             size = max(n[r], 1)
             hy, hh = np.empty(size, np.int64), np.empty(size, np.int64)
-            ytop = block_tops(y, n[r])
+            tops = block_tops(y, n[r])
             my = mh = 0
             hint = 0
             for j in range(2, n[r]):
                 i = j - 1
-                my = _push(x, y, hy, my, i)
                 if actual:
+                    my = _push(x, y, hy, my, i)
                     mh = _push(x, h, hh, mh, i)
                 if not need[r, j]:
                     continue
                 d, a, b = x[j], hts[r, j], hrs[r, j]
-                out[0, r, j] = search(0, hy, my, x, wg, h, d, a, b, ae_km)
-                out[1, r, j] = search(1, hy, my, x, wg, h, d, a, b, ae_km)
-                out[2, r, j], hint = nu_max(x, wg, ytop, j, d, a, b, ae_km, hint)
                 if actual:
+                    out[0, r, j] = search(0, hy, my, x, wg, h, d, a, b, ae_km)
+                    out[1, r, j] = search(1, hy, my, x, wg, h, d, a, b, ae_km)
                     for kind in range(2, 5):
                         out[kind + 1, r, j] = search(kind, hh, mh, x, wg, h, d, a, b, ae_km)
                 else:
+                    out[0, r, j] = smooth_slope(0, x, wg, h, j, d, a, b, ae_km)
+                    out[1, r, j] = smooth_slope(1, x, wg, h, j, d, a, b, ae_km)
                     out[3, r, j] = out[4, r, j] = out[5, r, j] = -np.inf
+                s_tr = (b - a) / d   # eq. (15): ν is used on a line-of-sight pass only (eqs. 17, 19-21)
+                slack = 1e-9 * (1.0 + abs(s_tr) + abs(out[0, r, j]) + abs(out[1, r, j]))
+                if not nu_always and out[0, r, j] > s_tr + slack and out[0, r, j] + out[1, r, j] > slack:
+                    continue   # trans-horizon beyond rounding: ν stays NaN
+                if not actual and a >= 0.0 and b >= 0.0:
+                    out[2, r, j] = smooth_nu(x, j, d, a, b, ae_km)
+                else:
+                    out[2, r, j], hint = nu_max(x, wg, tops, j, d, a, b, ae_km, hint)
 
     return bullington_hull_kernel
 
 
+GROUP = 16
+"""Blocks per group: a group whose bound rules it out is skipped whole (two levels of :func:`nu_bound`)."""
+
+
 @numba.njit(cache=True, fastmath=FASTMATH)
 def block_tops(y, n):   # pragma: no cover (compiled)
-    """Largest ``y`` of every whole block of ``BLOCK`` samples ``1 + k BLOCK ..`` before sample ``n``."""
-    tops = np.full(max((n - 1) // BLOCK, 1), -np.inf)
-    for k in range((n - 1) // BLOCK):
+    """Largest ``y`` of every whole block of ``BLOCK`` samples ``1 + k BLOCK ..`` before sample ``n`` (row 0),
+    and of every whole group of ``GROUP`` blocks (row 1, at the group's first block)."""
+    count = (n - 1) // BLOCK
+    tops = np.full((2, max(count, 1)), -np.inf)
+    for k in range(count):
         for i in range(1 + k * BLOCK, 1 + (k + 1) * BLOCK):
-            tops[k] = max(tops[k], y[i])
+            tops[0, k] = max(tops[0, k], y[i])
+        g = k - k % GROUP
+        tops[1, g] = max(tops[1, g], tops[0, k])
     return tops
 
 
 @numba.njit(cache=True, fastmath=FASTMATH)
-def nu_bound(ytop, p, a, xs, xe, d):   # pragma: no cover (compiled)
-    """Upper bound of ``N_i W(x_i)`` over a block of samples from ``xs`` to ``xe`` (a pruning test, O(1)).
+def pruning_unit(tops, k, full):   # pragma: no cover (compiled)
+    """The blocks tested at once from block ``k`` on (before block ``full``): ``(count, largest y)``: a whole group
+    when ``k`` starts one that ends before ``full``, else the block alone."""
+    if k % GROUP == 0 and k + GROUP <= full:
+        return GROUP, tops[1, k]
+    return 1, tops[0, k]
 
-    ``N_i = y_i + p x_i - a`` is at most ``ytop + max(p xs, p xe) - a``
-    (``ytop`` the block's largest ``y``); ``W(x) = sqrt(0.002 d / (x (d -
-    x)))`` is convex with its least value at ``d / 2``, so on the block it is
-    at most its larger end value and at least its value at ``d / 2`` clamped
-    into the block: the bound is ``top W_max`` for ``top >= 0`` and ``top
-    W_min`` below.  The worst clearance ratio (``W`` with ``1 / λ`` for
-    ``0.002``) uses the same bound: a constant factor of ``W`` scales both
-    sides of the test.
+
+@numba.njit(cache=True, fastmath=FASTMATH)
+def nu_bound(ytop, p, a, xs, xe, d):   # pragma: no cover (compiled)
+    """Upper bound of ``N_i W(x_i)`` over samples from ``xs`` to ``xe`` (a pruning test, O(1)).
+
+    ``N_i = y_i + p x_i - a`` is at most ``top = ytop + max(p xs, p xe) - a``
+    (``ytop`` the largest ``y``); ``W(x) = sqrt(0.002 d / (x (d - x)))`` is
+    convex with its least value at ``d / 2``, so between ``xs`` and ``xe`` it
+    is at most its larger end value and at least its value at ``d / 2``
+    clamped into the range: the bound is ``top W_max`` for ``top >= 0`` and
+    ``top W_min`` below.  The worst clearance ratio (``W`` with ``1 / λ``
+    for ``0.002``) uses the same bound: a constant factor of ``W`` scales
+    both sides of the test.
     """
     top = ytop + max(p * xs, p * xe) - a
     if top >= 0.0:
-        return top * max(math.sqrt(0.002 * d / (xs * (d - xs))), math.sqrt(0.002 * d / (xe * (d - xe))))
-    xm = min(max(0.5 * d, xs), xe)
-    return top * math.sqrt(0.002 * d / (xm * (d - xm)))
+        u = min(xs * (d - xs), xe * (d - xe))
+    else:
+        xm = min(max(0.5 * d, xs), xe)
+        u = xm * (d - xm)
+    return top * math.sqrt(0.002 * d / u)
 
 
 def _ratio_hull_kernels(key: str):
@@ -337,34 +433,44 @@ def _ratio_hull_kernels(key: str):
             best = min(best, _ratio(x[i], d, t[i], a, b, wavelength_m, ae_m))
         return best
 
-    @numba.njit(cache=True, parallel=True, fastmath=FASTMATH)
-    def geometry_hull_kernel(d_m, t_m, n, h_a, h_b, wavelength_m, ae_m, need, worst):   # pragma: no cover
-        _key = key   # noqa: F841 (the cache key)
+    @numba.njit(cache=True, fastmath=FASTMATH)
+    def ratio_min(x, t, tops, j, d, a, b, wavelength_m, ae_m, hint):   # pragma: no cover (compiled)
         scale = math.sqrt(500.0 / wavelength_m)   # nu_bound's W (0.002) -> sqrt(d / (λ x (d - x)))
-        for r in numba.prange(d_m.shape[0]):
-            x, t, a = d_m[r], t_m[r], h_a[r]
-            ytop = block_tops(t - x * x / (2.0 * ae_m), n[r])
-            hint = 0
-            for j in range(2, n[r]):
-                if not need[r, j]:
-                    continue
-                d, b = x[j], h_b[r, j]
-                full = (j - 1) // BLOCK
-                best, at = ratio_scan(x, t, 1 + full * BLOCK, j, d, a, b, wavelength_m, ae_m), full
-                if hint < full:
-                    v = ratio_scan(x, t, 1 + hint * BLOCK, 1 + (hint + 1) * BLOCK, d, a, b, wavelength_m, ae_m)
-                    if v < best:
-                        best, at = v, hint
-                p = d / (2.0 * ae_m) - (b - a) / d
-                for k in range(full):
-                    s = 1 + k * BLOCK
-                    if k == hint or -scale * nu_bound(ytop[k], p, a, x[s], x[s + BLOCK - 1], d) > \
-                            best + 1e-9 * (1.0 + abs(best)):
-                        continue
+        full = (j - 1) // BLOCK
+        best, at = ratio_scan(x, t, 1 + full * BLOCK, j, d, a, b, wavelength_m, ae_m), full
+        if hint < full:
+            v = ratio_scan(x, t, 1 + hint * BLOCK, 1 + (hint + 1) * BLOCK, d, a, b, wavelength_m, ae_m)
+            if v < best:
+                best, at = v, hint
+        p = d / (2.0 * ae_m) - (b - a) / d
+        k = 0
+        while k < full:
+            size, top = pruning_unit(tops, k, full)
+            s = 1 + k * BLOCK
+            if -scale * nu_bound(top, p, a, x[s], x[s + size * BLOCK - 1], d) > best + 1e-9 * (1.0 + abs(best)):
+                k += size   # no ratio of these blocks is below the worst found
+                continue
+            k_end = k + size
+            while k < k_end:
+                s = 1 + k * BLOCK
+                if k != hint and (size == 1 or -scale * nu_bound(tops[0, k], p, a, x[s], x[s + BLOCK - 1], d)
+                                  <= best + 1e-9 * (1.0 + abs(best))):
                     v = ratio_scan(x, t, s, s + BLOCK, d, a, b, wavelength_m, ae_m)
                     if v < best:
                         best, at = v, k
-                worst[r, j], hint = best, at
+                k += 1
+        return best, at
+
+    @numba.njit(cache=True, parallel=True, nogil=True, fastmath=FASTMATH)
+    def geometry_hull_kernel(d_m, t_m, n, h_a, h_b, wavelength_m, ae_m, need, worst):   # pragma: no cover
+        _key = key   # noqa: F841 (the cache key)
+        for r in numba.prange(d_m.shape[0]):
+            x, t, a = d_m[r], t_m[r], h_a[r]
+            tops = block_tops(t - x * x / (2.0 * ae_m), n[r])
+            hint = 0
+            for j in range(2, n[r]):
+                if need[r, j]:
+                    worst[r, j], hint = ratio_min(x, t, tops, j, x[j], a, h_b[r, j], wavelength_m, ae_m, hint)
 
     return geometry_hull_kernel
 
@@ -425,7 +531,7 @@ def _need(need, shape):
 
 
 def bullington_prefixes(distance_km, height_m, n, hts_m, hrs_m, effective_radius_km, actual,
-                        bullington_height_m=None, need=None):
+                        bullington_height_m=None, need=None, nu_always=False):
     """One Bullington pass over every prefix of every radial: the reductions of ``diffraction_reductions``.
 
     Parameters
@@ -446,6 +552,10 @@ def bullington_prefixes(distance_km, height_m, n, hts_m, hrs_m, effective_radius
         the obstacle heights (eqs. 165a-d) stay those of ``height_m``.
     need : ndarray of bool, shape (R, N), optional
         The links to reduce (default every one; the others stay NaN).
+    nu_always : bool
+        ``v_unit`` of every link (the knife-edge method); by default only of
+        the links whose pass is line of sight (the only ones whose loss uses
+        it; NaN elsewhere).
 
     Returns
     -------
@@ -471,12 +581,14 @@ def bullington_prefixes(distance_km, height_m, n, hts_m, hrs_m, effective_radius
     with LAUNCH:
         _bullington_hull_kernel(np.ascontiguousarray(distance_km, dtype=float), h, g, np.asarray(n, dtype=np.int64),
                                 np.ascontiguousarray(hts_m, dtype=float), np.ascontiguousarray(hrs_m, dtype=float),
-                                float(effective_radius_km), bool(actual), _need(need, out.shape[1:]), out)
+                                float(effective_radius_km), bool(actual), _need(need, out.shape[1:]),
+                                bool(nu_always), out)
     keys = ("stim", "srim", "v_unit") + (("hobs", "alpha_obt", "alpha_obr") if actual else ())
     return {k: out[i] for i, k in enumerate(keys)}
 
 
-def prefix_reduce(distance_km, height_m, n, rr, jj, effective_radius_km, bullington_height_m=None):
+def prefix_reduce(distance_km, height_m, n, rr, jj, effective_radius_km, bullington_height_m=None,
+                  nu_always=False):
     """The ``reduce`` of ``diffraction_reductions`` for the links to samples ``jj`` of radials ``rr``.
 
     Parameters
@@ -490,6 +602,8 @@ def prefix_reduce(distance_km, height_m, n, rr, jj, effective_radius_km, bulling
         Effective Earth radius [km].
     bullington_height_m : ndarray, shape (R, N), optional
         Heights of the Bullington pass [m AMSL] (see :func:`bullington_prefixes`).
+    nu_always : bool
+        ``v_unit`` of every link, not only of the line-of-sight passes (see :func:`bullington_prefixes`).
 
     Returns
     -------
@@ -515,7 +629,8 @@ def prefix_reduce(distance_km, height_m, n, rr, jj, effective_radius_km, bulling
     def reduce(actual, hts, hrs):
         full_a, full_b = np.zeros(d_km.shape), np.zeros(d_km.shape)
         full_a[rr, jj], full_b[rr, jj] = hts, hrs
-        red = bullington_prefixes(d_km, t, n, full_a, full_b, effective_radius_km, actual, bullington_height_m, need)
+        red = bullington_prefixes(d_km, t, n, full_a, full_b, effective_radius_km, actual, bullington_height_m, need,
+                                  nu_always)
         res = {k: v[rr, jj] for k, v in red.items()}
         if actual:
             res.update(v1=v1[rr, jj - 1], v2=v2[rr, jj - 1])

@@ -27,10 +27,10 @@ from profiler.propagation.p1812.geometry import elevation_tangent_term  # noqa: 
 AE_KM = 8494.0   # 4/3 of 6371 km
 
 
-def _radials(kind, seed):
+def _radials(kind, seed, size=160):
     """Radials of 30 m steps [km], [m AMSL], a count each: rough, flat, monotone, spiky or integer (ties)."""
     rng = np.random.default_rng(seed)
-    rows, size = 12, 160
+    rows = 12
     d = np.tile(np.arange(size) * 0.03, (rows, 1))
     if kind == "rough":
         h = 150.0 + np.cumsum(rng.normal(0.0, 6.0, d.shape), axis=1)
@@ -152,25 +152,47 @@ def test_coverage_losses_equal_with_the_reference_kernel(monkeypatch, seed):
 
 @pytest.mark.parametrize("kind", ["rough", "flat", "rising", "falling", "spiky", "ties"])
 @pytest.mark.parametrize("actual", [True, False])
-def test_hull_bullington_pass_equals_the_loop(kind, actual):
-    """stim, srim, ν and the obstacle maxima of every prefix: hull queries and pruned ν against the loop (1e-9)."""
+@pytest.mark.parametrize("nu_always", [True, False])
+def test_hull_bullington_pass_equals_the_loop(kind, actual, nu_always):
+    """stim, srim, ν and the obstacle maxima of every needed prefix: hull queries and pruned ν against the loop (1e-9).
+
+    Radials of 1,200 samples (75 blocks of 16, four groups of 16 blocks).  ν is
+    compared where it is taken: every link with ``nu_always``, else the
+    line-of-sight passes (``stim < Str`` or ``stim + srim <= 0``, P.452-18
+    eqs. (15), (17)) of the reference, where the fast kernel must have it.
+    On the smooth pass (every height 0) the antenna heights above the
+    surface include negative ones (the pruned scan instead of the binary
+    search).
+    """
     from profiler.propagation import prefix_kernel
 
-    d, h, n = _radials(kind, 5)
+    d, h, n = _radials(kind, 5, size=1200)
     rng = np.random.default_rng(6)
-    hts = h[:, :1] + rng.uniform(-30.0, 30.0, d.shape)   # the smooth pass's heights change with the link
-    hrs = h + rng.uniform(-30.0, 30.0, d.shape)
+    if actual:
+        high = 400.0 * (rng.random(d.shape) < 0.3)   # some links on tall masts: line of sight over the ridge
+        hts = h[:, :1] + rng.uniform(-30.0, 30.0, d.shape) + high   # the heights of the link ending at each sample
+        hrs = h + rng.uniform(-30.0, 30.0, d.shape) + high
+    else:   # heights above the smooth surface: mostly positive, some negative
+        hts, hrs = rng.uniform(-5.0, 60.0, d.shape), rng.uniform(-5.0, 30.0, d.shape)
     g = h + rng.uniform(0.0, 20.0, d.shape)   # a clutter height on the Bullington pass (P.1812)
     need = _need(d.shape, 7)
     runs = []
     for kernel in (prefix_kernel._bullington_kernel, prefix_kernel._bullington_hull_kernel):
         out = np.full((6,) + d.shape, np.nan)
-        kernel(d, h, g, n, hts, hrs, AE_KM, actual, need, out)
+        kernel(d, h, g, n, hts, hrs, AE_KM, actual, need, nu_always, out)
         runs.append(out)
     ref, got = runs
     ok = (np.isfinite(ref) | np.isinf(ref)) & need
-    assert np.array_equal(ok, np.isfinite(got) | np.isinf(got)) and ok[0].sum() > 150   # nothing where not needed
-    np.testing.assert_allclose(got[ok], ref[ok], rtol=1e-9, atol=1e-9)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        los = (ref[0] < (hrs - hts) / d) | (ref[0] + ref[1] <= 0.0)
+    uses_nu = ok[2] & (los | nu_always)
+    assert uses_nu.sum() > 100 and (nu_always or (ok[2] & ~los).sum() > 100)
+    rows = [0, 1, 3, 4, 5]
+    assert np.array_equal(ok[rows], np.isfinite(got[rows]) | np.isinf(got[rows])) and ok[0].sum() > 2000
+    np.testing.assert_allclose(got[rows][ok[rows]], ref[rows][ok[rows]], rtol=1e-9, atol=1e-9)
+    assert np.isfinite(got[2][uses_nu]).all() and not np.isfinite(got[2][~need]).any()
+    taken = np.isfinite(got[2])
+    np.testing.assert_allclose(got[2][taken], ref[2][taken], rtol=1e-9, atol=1e-9)
 
 
 @pytest.mark.parametrize("kind", ["rough", "flat", "rising", "falling", "spiky", "ties"])

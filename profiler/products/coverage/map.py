@@ -106,6 +106,8 @@ def _sector_job(chunk, *, settings, n_radials, radius_m, step_m, node_mast_m, ke
                 return _sector_job(chunk, settings=settings, n_radials=n_radials, radius_m=radius_m, step_m=step_m,
                                    node_mast_m=node_mast_m, kernel=kernel, model=opened, cover=opened_cover,
                                    land=land)
+    if isinstance(model, _PerThread):
+        model, cover = model.get()
     gw, indices, need = chunk
     az = np.asarray(indices) * (360.0 / n_radials)
     p1812 = settings.radio.propagation.model == "p1812"
@@ -127,6 +129,82 @@ def _sector_job(chunk, *, settings, n_radials, radius_m, step_m, node_mast_m, ke
         out["clutter_height_m"] = clutter["clutter_m"]
     out["n"] = n
     return {k: (v.astype(np.float32) if k != "n" else v) for k, v in out.items()}
+
+
+class _PerThread:
+    """The elevation (and land-cover) files opened once per thread of an in-process run.
+
+    Raster handles and the elevation block cache are not shared between
+    threads; each thread of :func:`profiler.engine.cluster.run_chunks` opens
+    its own on its first sector and keeps them for the run.
+    """
+
+    def __init__(self, dem_paths, land):
+        import threading
+
+        self.dem_paths, self.land = list(dem_paths), land
+        self._local, self._lock, self._opened = threading.local(), threading.Lock(), []
+
+    def get(self):
+        """``(elevation model, land cover or None)`` of the calling thread."""
+        from ...terrain.elevation import ElevationModel
+        from ...terrain.landcover import LandCover
+
+        opened = getattr(self._local, "opened", None)
+        if opened is None:
+            model = ElevationModel.open(self.dem_paths)
+            opened = (model, None if self.land is None else LandCover.open(self.land[0]))
+            self._local.opened = opened
+            with self._lock:
+                self._opened.append(opened)
+        return opened
+
+    def close(self) -> None:
+        with self._lock:
+            for model, cover in self._opened:
+                model.close()
+                if cover is not None:
+                    cover.close()
+            self._opened.clear()
+
+
+class _SectorJobs:
+    """The sector task of a run and where it runs: threads of this process (one per core), or Dask.
+
+    In-process every thread opens the files once (:class:`_PerThread`); on
+    Dask every task opens them by path.  :meth:`close` closes what the
+    threads opened.
+    """
+
+    def __init__(self, settings, n_radials, radius_m, step_m, node_mast_m, kernel, land, workers, scheduler):
+        local = workers is None and scheduler is None
+        self.workers, self.scheduler = workers, scheduler
+        self.threads = _cores() if local else 1
+        self.opened = _PerThread(settings.dem_paths, land) if local else None
+        self.job = functools.partial(_sector_job, settings=settings, n_radials=n_radials, radius_m=radius_m,
+                                     step_m=step_m, node_mast_m=node_mast_m, kernel=kernel, model=self.opened,
+                                     land=land)
+
+    def run(self, chunks, progress) -> list:
+        """Every chunk ``(gateway, radial indices, needed samples)``, results in order."""
+        from ...engine.cluster import run_chunks
+
+        return run_chunks(self.job, chunks, workers=self.workers, scheduler=self.scheduler, progress=progress,
+                          desc="radials", weights=[c[1].size for c in chunks], threads=self.threads)
+
+    def close(self) -> None:
+        if self.opened is not None:
+            self.opened.close()
+
+
+def _cores() -> int:
+    """Cores this process may run on (the threads of an in-process run)."""
+    import os
+
+    try:
+        return max(1, len(os.sched_getaffinity(0)))
+    except AttributeError:   # not on Linux
+        return max(1, os.cpu_count() or 1)
 
 
 def radial_clutter(cover, mapping, coordinates, model: str):
@@ -365,17 +443,15 @@ def _stream(model, settings, gateways, grid, radius_m, res, node_mast_m, workers
     """
     import tempfile
 
-    from ...engine.cluster import chunked, run_chunks
+    from ...engine.cluster import chunked
     from .grid import RadialStore, band_names
 
     budget = (DEFAULT_STREAM_MB if max_memory_mb is None else float(max_memory_mb)) * 2**20
     n_radials = radial_count(radius_m, res)
     n_full = max(math.ceil(radius_m / radial_step_m(res, settings.radio.diffraction_method)) + 1, 3)
     sectors = chunked(n_radials, RADIALS_PER_CHUNK)
-    local = workers is None and scheduler is None
-    job = functools.partial(_sector_job, settings=settings, n_radials=n_radials, radius_m=radius_m,
-                            step_m=radial_step_m(res, settings.radio.diffraction_method), node_mast_m=node_mast_m,
-                            kernel=kernel, model=model if local else None, cover=cover if local else None, land=land)
+    jobs = _SectorJobs(settings, n_radials, radius_m, radial_step_m(res, settings.radio.diffraction_method),
+                       node_mast_m, kernel, land, workers, scheduler)
     per_batch = max(1, int(budget / 2 // (RADIALS_PER_CHUNK * n_full * 16 * STREAM_BYTES_PER_BAND_PIXEL)))
     folder = str(stream_dir) if stream_dir is not None else tempfile.gettempdir()
     stores = []
@@ -384,9 +460,7 @@ def _stream(model, settings, gateways, grid, radius_m, res, node_mast_m, workers
             need = needed_samples(grid, g, n_radials, radius_m / (n_full - 1), radius_m, n_full)
             for b0 in range(0, len(sectors), per_batch):
                 batch = sectors[b0:b0 + per_batch]
-                parts = run_chunks(job, [(g, np.arange(n_radials)[sl], need[sl]) for sl in batch], workers=workers,
-                                   scheduler=scheduler, progress=progress, desc="radials",
-                                   weights=[sl.stop - sl.start for sl in batch])
+                parts = jobs.run([(g, np.arange(n_radials)[sl], need[sl]) for sl in batch], progress)
                 for sl, part in zip(batch, parts):
                     if len(stores) == i:
                         stores.append(RadialStore(_temp_file(folder, ".f32"), band_names(part), n_radials, n_full))
@@ -397,6 +471,7 @@ def _stream(model, settings, gateways, grid, radius_m, res, node_mast_m, workers
                                            land, budget, folder)
         return names, counts, sweep, path
     finally:
+        jobs.close()
         for store in stores:
             store.close()
 
@@ -522,7 +597,7 @@ def _settings(dem, band, frequency_mhz, k_factor, clearance_ratio, fill_voids, r
 def _sweep(model, settings, gateways, grid, radius_m, res, node_mast_m, workers, scheduler, progress, kernel=None,
            cover=None, land=None):
     """Every gateway's radial sectors through the engine (the tasks), then onto the grid."""
-    from ...engine.cluster import chunked, run_chunks
+    from ...engine.cluster import chunked
 
     n_radials = radial_count(radius_m, res)
     step_m = radial_step_m(res, settings.radio.diffraction_method)
@@ -536,12 +611,11 @@ def _sweep(model, settings, gateways, grid, radius_m, res, node_mast_m, workers,
     needs = [np.zeros((n_radials, n_full), dtype=bool) if lookup is None else
              mark_needed(np.zeros((n_radials, n_full), dtype=bool), lookup) for lookup in lookups]
     chunks = [(g, np.arange(n_radials)[sl], need[sl]) for g, need in zip(gateways, needs) for sl in sectors]
-    local = workers is None and scheduler is None
-    job = functools.partial(_sector_job, settings=settings, n_radials=n_radials, radius_m=radius_m, step_m=step_m,
-                            node_mast_m=node_mast_m, kernel=kernel, model=model if local else None,
-                            cover=cover if local else None, land=land)
-    parts = run_chunks(job, chunks, workers=workers, scheduler=scheduler, progress=progress, desc="radials",
-                       weights=[c[1].size for c in chunks])
+    jobs = _SectorJobs(settings, n_radials, radius_m, step_m, node_mast_m, kernel, land, workers, scheduler)
+    try:
+        parts = jobs.run(chunks, progress)
+    finally:
+        jobs.close()
     running = RunningComposite((grid.height, grid.width), settings.radio.fade_margin_db)
     inside_any = np.zeros((grid.height, grid.width), dtype=bool)
     for i, (g, w, lookup) in enumerate(zip(gateways, windows, lookups)):   # each over its circle's window only

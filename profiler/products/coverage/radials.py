@@ -335,7 +335,8 @@ def _kernel_fields(out, d, t, n, mast_m, node_mast_m, settings, overrides, fast,
         reduced = {"p1812": p1812_reductions(reducer, h_a - reducer.h_first_m, h_b - reducer.h_last_m,
                                              p1812_delta_n(prop, ae), prop.time_percent, informative=False)}
     else:
-        reduce = prefix_kernel.prefix_reduce(d_km, t, n, rr, jj, ae * 1e-3)
+        reduce = prefix_kernel.prefix_reduce(d_km, t, n, rr, jj, ae * 1e-3,
+                                             nu_always=settings.radio.diffraction_method == "knife-edge")
         reduced = diffraction_reductions(reduce, d_km[rr, jj], t[rr, 0], t[rr, jj], h_a, h_b)
     reduced.update(length_m=d[rr, jj], worst_ratio=worst[rr, jj])
     _store(out, rr, jj, link_fields(None, None, None, h_a, h_b, settings, _overrides(overrides, rr.size),

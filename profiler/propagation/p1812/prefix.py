@@ -101,7 +101,7 @@ def _horizon_kernels(key: str):
                 best, at = nu, i
         return best, at
 
-    @numba.njit(cache=True, parallel=True, fastmath=fastmath)
+    @numba.njit(cache=True, parallel=True, nogil=True, fastmath=fastmath)
     def horizon_kernel_reference(d_km, h_m, n, site, hrs, ae_km, need, tangents, index):   # pragma: no cover
         # every link, needed or not (the same arguments as horizon_kernel)
         _key = key   # noqa: F841 (the cache key)
@@ -126,7 +126,7 @@ def _horizon_kernels(key: str):
                 tangents[0, r, j], tangents[1, r, j] = t_max, best
                 index[0, r, j], index[1, r, j] = it, at
 
-    @numba.njit(cache=True, parallel=True, fastmath=fastmath)
+    @numba.njit(cache=True, parallel=True, nogil=True, fastmath=fastmath)
     def horizon_kernel(d_km, h_m, n, site, hrs, ae_km, need, tangents, index):   # pragma: no cover (compiled)
         _key = key   # noqa: F841 (the cache key)
         c = 500.0 / ae_km
@@ -169,7 +169,7 @@ def _kernels(key: str):
     """The compiled roughness kernel (a closure over ``key`` only, the terms' fingerprint: its disk cache key)."""
     fastmath = prefix_kernel.FASTMATH
 
-    @numba.njit(cache=True, parallel=True, fastmath=fastmath)
+    @numba.njit(cache=True, parallel=True, nogil=True, fastmath=fastmath)
     def roughness_kernel(d_km, h_m, n, first, last, hst, slope, out):   # pragma: no cover (compiled)
         _key = key   # noqa: F841 (the cache key)
         for r in numba.prange(d_km.shape[0]):
