@@ -363,6 +363,8 @@ def _hull_kernels(key: str):
     return bullington_hull_kernel
 
 
+HULL_SCAN = 48
+"""Largest hull (vertices) whose scan the clearance-ratio kernel tries before the blocks."""
 GROUP = 16
 """Blocks per group: a group whose bound rules it out is skipped whole (two levels of :func:`nu_bound`)."""
 
@@ -424,6 +426,18 @@ def _ratio_hull_kernels(key: str):
     cannot hold a smaller ratio is skipped.  The blocks are scanned first
     where the previous link's worst ratio was, so the bound prunes from the
     start; the samples after the last whole block are always scanned.
+
+    An obstructed link (worst ratio < 0, some ``N_i > 0``) has its worst
+    ratio at a vertex of the upper hull of the points ``(d_i, y_i)`` (kept
+    along the radial): a point below the hull has a point of a hull edge
+    above it with a larger ``N`` and the same ``W``, and along an edge
+    ``N W`` is ``(α x + β) / sqrt(x (d - x))`` times a constant, whose
+    derivative has the sign of ``x (α d / 2 + β) - β d / 2``: an interior
+    maximum needs ``β < 0`` and ``α d / 2 + β < 0``, and inside ``(0, d)``
+    (``α < -β / d``) its value has the sign of ``α d + β < 0``.  So a
+    positive largest ``N W`` is at an edge's end.  When the hull has at most
+    :data:`HULL_SCAN` vertices they are scanned first; a negative worst
+    among them is the link's, otherwise the blocks are.
     """
 
     @numba.njit(cache=True, fastmath=FASTMATH)
@@ -466,11 +480,24 @@ def _ratio_hull_kernels(key: str):
         _key = key   # noqa: F841 (the cache key)
         for r in numba.prange(d_m.shape[0]):
             x, t, a = d_m[r], t_m[r], h_a[r]
-            tops = block_tops(t - x * x / (2.0 * ae_m), n[r])
+            y = t - x * x / (2.0 * ae_m)   # the heights less the parabola: the same for every node
+            tops = block_tops(y, n[r])
+            vertex = np.empty(max(n[r], 1), np.int64)
+            m = 0
             hint = 0
             for j in range(2, n[r]):
-                if need[r, j]:
-                    worst[r, j], hint = ratio_min(x, t, tops, j, x[j], a, h_b[r, j], wavelength_m, ae_m, hint)
+                m = _push(x, y, vertex, m, j - 1)
+                if not need[r, j]:
+                    continue
+                d, b = x[j], h_b[r, j]
+                if m <= HULL_SCAN:   # an obstructed link's worst ratio is at a hull vertex (see above)
+                    best = np.inf
+                    for q in range(m):
+                        best = min(best, _ratio(x[vertex[q]], d, t[vertex[q]], a, b, wavelength_m, ae_m))
+                    if best < 0.0:
+                        worst[r, j] = best
+                        continue
+                worst[r, j], hint = ratio_min(x, t, tops, j, d, a, b, wavelength_m, ae_m, hint)
 
     return geometry_hull_kernel
 

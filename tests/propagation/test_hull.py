@@ -217,3 +217,24 @@ def test_pruned_clearance_ratio_equals_the_loop(kind):
     ok = np.isfinite(ref) & need
     assert np.array_equal(ok, np.isfinite(got)) and ok.sum() > 300
     np.testing.assert_allclose(got[ok], ref[ok], rtol=1e-9, atol=1e-9)
+
+
+@pytest.mark.parametrize("kind", ["rough", "flat", "rising", "falling", "spiky", "ties"])
+def test_pruned_roughness_equals_the_loop(kind):
+    """hm of every needed prefix between random horizon indices: blocks pruned by their bound against the loop."""
+    d, h, n = _radials(kind, 11, size=900)
+    rng = np.random.default_rng(12)
+    first = rng.integers(1, 900, d.shape)
+    last = np.minimum(first + rng.integers(0, 900, d.shape), np.maximum(np.arange(900)[None, :] - 1, 1))
+    first = np.minimum(first, last)
+    hst, slope = rng.uniform(50.0, 300.0, d.shape), rng.uniform(-20.0, 20.0, d.shape)
+    need = _need(d.shape, 13)
+    runs = []
+    for kernel in (prefix._roughness_kernel_reference, prefix._roughness_kernel):
+        out = np.full(d.shape, np.nan)
+        kernel(d, h, n, first, last, hst, slope, need, out)
+        runs.append(out)
+    ref, got = runs
+    ok = np.isfinite(ref) & need
+    assert np.array_equal(ok, np.isfinite(got)) and ok.sum() > 2000
+    np.testing.assert_allclose(got[ok], ref[ok], rtol=1e-9, atol=1e-9)

@@ -9,6 +9,7 @@ References
 
 from __future__ import annotations
 
+import dataclasses
 import math
 from dataclasses import dataclass, field
 
@@ -62,6 +63,8 @@ class CoverageGrid:
     width: int
     height: int
     resolution_m: float
+    lattice_px: int = 1
+    """Pixels between the exactly transformed points of :meth:`lon_lat` (1: every pixel exactly)."""
 
     def centres(self):
         """Pixel-centre projected coordinates ``(x, y)`` [m], each (height, width)."""
@@ -75,7 +78,7 @@ class CoverageGrid:
         a, b, c, d, e, f = self.transform
         return CoverageGrid(proj4=self.proj4, crs_wkt=self.crs_wkt,
                             transform=(a, b, c + a * col0, d, e, f + e * row0), width=col1 - col0,
-                            height=row1 - row0, resolution_m=self.resolution_m)
+                            height=row1 - row0, resolution_m=self.resolution_m, lattice_px=self.lattice_px)
 
     def circle_window(self, gw: "Gateway", radius_m: float) -> tuple:
         """Window ``(row0, row1, col0, col1)`` holding every pixel within ``radius_m`` of ``gw`` (1 % + 2 px spare)."""
@@ -94,18 +97,71 @@ class CoverageGrid:
                 for r in range(0, self.height, tile_px) for c in range(0, self.width, tile_px)]
 
     def lon_lat(self):
-        """Pixel-centre WGS84 longitude and latitude [deg], each (height, width)."""
+        """Pixel-centre WGS84 longitude and latitude [deg], each (height, width).
+
+        Transformed exactly (pyproj) at every ``lattice_px``-th pixel of the
+        whole grid (counted from the projection's origin, so a window gives
+        the very values of the whole grid) and bilinear in between, as GDAL's
+        approximate transformer does [1]_; :func:`make_grid` chose
+        ``lattice_px`` so that the interpolation is within 1e-3 pixel.
+        Longitudes are interpolated unwrapped about the projection's centre
+        (a grid across the antimeridian) and given in [-180, 180).
+
+        References
+        ----------
+        .. [1] GDAL documentation, gdalwarp ``-et`` (error threshold of the
+           approximate transformer, which interpolates between exactly
+           transformed points).
+        """
+        step = self.lattice_px
+        col0, row0 = self._origin_index()
+        if step <= 1:
+            lon, lat = self._exact(np.arange(self.height)[:, None] + row0, np.arange(self.width)[None, :] + col0)
+            return (lon + 180.0) % 360.0 - 180.0, lat
+        rows = np.arange(row0 // step * step, -(-(row0 + self.height - 1) // step) * step + 1, step)
+        cols = np.arange(col0 // step * step, -(-(col0 + self.width - 1) // step) * step + 1, step)
+        node_lon, node_lat = self._exact(rows[:, None], cols[None, :])
+        lon, lat = (_bilinear(v, rows, cols, row0, self.height, col0, self.width) for v in (node_lon, node_lat))
+        return (lon + 180.0) % 360.0 - 180.0, lat
+
+    def _origin_index(self):
+        """Column and row of pixel (0, 0) counted from the projection's origin (integers: make_grid's pixels are
+        centred on multiples of the resolution)."""
+        a, _, c, _, e, f = self.transform
+        return round((c + 0.5 * a) / a), round((f + 0.5 * e) / e)
+
+    def _exact(self, rows_abs, cols_abs):
+        """Longitude (unwrapped about the projection's centre) and latitude [deg] of pixels given by their
+        indices from the projection's origin (broadcast), by pyproj."""
         from pyproj import Transformer
 
-        x, y = self.centres()
+        a, e = self.transform[0], self.transform[4]
+        x, y = np.broadcast_arrays(a * np.asarray(cols_abs, dtype=float), e * np.asarray(rows_abs, dtype=float))
         tr = Transformer.from_crs(self.proj4, "EPSG:4326", always_xy=True)
-        lon, lat = tr.transform(x, y)
-        return np.asarray(lon), np.asarray(lat)
+        lon, lat = tr.transform(np.ascontiguousarray(x), np.ascontiguousarray(y))
+        ref = tr.transform(0.0, 0.0)[0]   # the projection's centre: the same for every window
+        return ref + (np.asarray(lon) - ref + 180.0) % 360.0 - 180.0, np.asarray(lat)
 
     def to_dict(self) -> dict:
         return {"crs": "local azimuthal equidistant (WGS84), metres", "proj4": self.proj4, "wkt": self.crs_wkt,
                 "transform": list(self.transform), "width": self.width, "height": self.height,
                 "resolution_m": self.resolution_m}
+
+
+def _bilinear(values, rows, cols, row0, height, col0, width):
+    """Values on the lattice ``rows`` x ``cols`` (increasing pixel indices) -> pixels ``row0 ..`` x ``col0 ..``,
+    bilinear, (height, width)."""
+    def weights(nodes, first, size):
+        at = np.arange(first, first + size)
+        k = np.clip(np.searchsorted(nodes, at, side="right") - 1, 0, max(nodes.size - 2, 0))
+        span = np.maximum(nodes[np.minimum(k + 1, nodes.size - 1)] - nodes[k], 1)
+        return k, np.where(nodes.size > 1, (at - nodes[k]) / span, 0.0)
+
+    (kr, wr), (kc, wc) = weights(rows, row0, height), weights(cols, col0, width)
+    kr1, kc1 = np.minimum(kr + 1, rows.size - 1), np.minimum(kc + 1, cols.size - 1)
+    along = values[:, kc] + (values[:, kc1] - values[:, kc]) * wc   # the lattice rows at every column
+    top = along[kr]
+    return top + (along[kr1] - top) * wr[:, None]
 
 
 def make_grid(gateways, radius_m: float, resolution_m: float) -> CoverageGrid:
@@ -130,8 +186,28 @@ def make_grid(gateways, radius_m: float, resolution_m: float) -> CoverageGrid:
         raise ProfilerError(f"the grid would have {width * height:,} pixels (more than {MAX_STREAM_PIXELS:,}); give a "
                             "coarser --resolution-m or a smaller --radius-km")
     transform = (resolution_m, 0.0, (i0 - 0.5) * resolution_m, 0.0, -resolution_m, (j1 + 0.5) * resolution_m)
-    return CoverageGrid(proj4=proj4, crs_wkt=CRS.from_proj4(proj4).to_wkt(), transform=transform, width=width,
+    grid = CoverageGrid(proj4=proj4, crs_wkt=CRS.from_proj4(proj4).to_wkt(), transform=transform, width=width,
                         height=height, resolution_m=float(resolution_m))
+    return dataclasses.replace(grid, lattice_px=_lattice_px(grid))
+
+
+def _lattice_px(grid: CoverageGrid, tolerance_px: float = 1e-3) -> int:
+    """The coarsest lattice (16, 8, 4 or 2 pixels; else 1: every pixel exact) whose bilinear interpolation of the
+    pixel positions is within ``tolerance_px`` of a pixel at the centre of every lattice cell of the grid."""
+    col0, row0 = grid._origin_index()
+    metres_per_deg = 111_320.0   # [m/deg] of latitude, about (the test's scale only)
+    for step in (16, 8, 4, 2):
+        rows = np.arange(row0 // step * step, -(-(row0 + grid.height - 1) // step) * step + 1, step)
+        cols = np.arange(col0 // step * step, -(-(col0 + grid.width - 1) // step) * step + 1, step)
+        if rows.size < 2 or cols.size < 2:
+            return 1
+        lon, lat = grid._exact(rows[:, None], cols[None, :])
+        mid_lon, mid_lat = grid._exact(0.5 * (rows[:-1] + rows[1:])[:, None], 0.5 * (cols[:-1] + cols[1:])[None, :])
+        guess = [0.25 * (v[:-1, :-1] + v[1:, :-1] + v[:-1, 1:] + v[1:, 1:]) for v in (lon, lat)]
+        off_m = np.hypot((guess[0] - mid_lon) * np.cos(np.radians(mid_lat)), guess[1] - mid_lat) * metres_per_deg
+        if np.max(off_m) <= tolerance_px * grid.resolution_m:
+            return step
+    return 1
 
 
 def pixel_polar(grid: CoverageGrid, gw: Gateway):

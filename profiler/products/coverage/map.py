@@ -82,8 +82,10 @@ from .radials import (
 )
 
 SCHEMA = "profiler.coverage/5"
-RADIALS_PER_CHUNK = 32
-"""Radials per task (one sector)."""
+RADIALS_PER_CHUNK = 128
+"""Radials per task (one sector): large enough that the per-link formulas work on long arrays."""
+SAMPLING_RADIALS = 32
+"""Radials sampled at once within a sector (the elevation blocks they read stay in the CPU's caches)."""
 def _sector_job(chunk, *, settings, n_radials, radius_m, step_m, node_mast_m, kernel=None, model=None,
                 cover=None, land=None):
     """One task ``(gateway, radial indices, needed samples)``: sample a sector, run the engine on the needed samples.
@@ -111,7 +113,9 @@ def _sector_job(chunk, *, settings, n_radials, radius_m, step_m, node_mast_m, ke
     gw, indices, need = chunk
     az = np.asarray(indices) * (360.0 / n_radials)
     p1812 = settings.radio.propagation.model == "p1812"
-    d, t, n, lat, lon = sample_radials(model, gw, az, radius_m, step_m, settings.fill_voids, with_coordinates=True)
+    parts = [sample_radials(model, gw, az[i:i + SAMPLING_RADIALS], radius_m, step_m, settings.fill_voids,
+                            with_coordinates=True) for i in range(0, az.size, SAMPLING_RADIALS)]
+    d, t, n, lat, lon = (np.concatenate(arrays) for arrays in zip(*parts))
     ae = float(geometry.effective_radius_m(settings.k_factor))
     coordinates = None
     if p1812 or land is not None:   # the positions the terrain was read at (the direct geodesic problem)

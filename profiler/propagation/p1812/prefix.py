@@ -53,6 +53,7 @@ _TERMS = ((geometry, ("elevation_tangent_term", "elevation_mrad_term", "trans_ho
           (diffraction_engine, ("bulge_km_term", "obstacle_term", "v_unit_term")), (hull, ("upper_hull_push",)))
 _G, _D, _H = (prefix_kernel.compile_terms(module, names) for module, names in _TERMS)
 _push = _H["upper_hull_push"]
+_block_tops = prefix_kernel.block_tops
 _tangent, _trans, _roughness = (_G[k] for k in ("elevation_tangent_term", "trans_horizon", "roughness_term"))
 _bulge_km, _v_unit = _D["bulge_km_term"], _D["v_unit_term"]
 
@@ -166,24 +167,77 @@ def _horizon_kernels(key: str):
 
 
 def _kernels(key: str):
-    """The compiled roughness kernel (a closure over ``key`` only, the terms' fingerprint: its disk cache key)."""
+    """The compiled roughness kernels (closures over ``key`` only, the terms' fingerprint: their disk cache key).
+
+    hm is the largest ``h_i - (hst + m d_i)`` over the samples between the
+    two horizons (P.1812-8 Attachment 1): ``roughness_kernel`` scans the
+    blocks of :data:`~profiler.propagation.prefix_kernel.BLOCK` samples (and
+    groups of them) whose bound ``top - hst - min(m d_s, m d_e)`` (``top``
+    their highest sample) can reach the largest found, the block of the
+    previous link's largest first, and the samples outside whole blocks;
+    ``roughness_kernel_reference`` scans every sample (the tests).
+    """
     fastmath = prefix_kernel.FASTMATH
+    block, group = prefix_kernel.BLOCK, prefix_kernel.GROUP
+
+    @numba.njit(cache=True, fastmath=fastmath)
+    def scan(x, h, lo, hi, hst, slope):   # pragma: no cover (compiled)
+        best = -np.inf
+        for i in range(lo, hi):
+            best = max(best, _roughness(h[i], hst, slope, x[i]))
+        return best
+
+    @numba.njit(cache=True, fastmath=fastmath)
+    def roughness_max(x, h, tops, lo, hi, hst, slope, hint):   # pragma: no cover (compiled)
+        kb = max((lo - 1 + block - 1) // block, 0)   # whole blocks k: lo <= 1 + k block, 1 + (k + 1) block <= hi + 1
+        ke = max(hi // block, kb)
+        if kb >= ke:
+            return scan(x, h, lo, hi + 1, hst, slope), hint
+        best, at = max(scan(x, h, lo, 1 + kb * block, hst, slope), scan(x, h, 1 + ke * block, hi + 1, hst, slope)), -1
+        if kb <= hint < ke:
+            best, at = max(best, scan(x, h, 1 + hint * block, 1 + (hint + 1) * block, hst, slope)), hint
+        k = kb
+        while k < ke:
+            size = group if k % group == 0 and k + group <= ke else 1
+            top = tops[1, k] if size > 1 else tops[0, k]
+            s, e = 1 + k * block, 1 + (k + size) * block - 1
+            if top - hst - min(slope * x[s], slope * x[e]) < best - 1e-9 * (1.0 + abs(best)):
+                k += size
+                continue
+            for q in range(k, k + size):
+                if q != hint:
+                    s = 1 + q * block
+                    if size == 1 or tops[0, q] - hst - min(slope * x[s], slope * x[s + block - 1]) >= \
+                            best - 1e-9 * (1.0 + abs(best)):
+                        v = scan(x, h, s, s + block, hst, slope)
+                        if v > best:
+                            best, at = v, q
+            k += size
+        return best, (hint if at < 0 else at)
 
     @numba.njit(cache=True, parallel=True, nogil=True, fastmath=fastmath)
-    def roughness_kernel(d_km, h_m, n, first, last, hst, slope, out):   # pragma: no cover (compiled)
+    def roughness_kernel(d_km, h_m, n, first, last, hst, slope, need, out):   # pragma: no cover (compiled)
         _key = key   # noqa: F841 (the cache key)
         for r in numba.prange(d_km.shape[0]):
+            tops = _block_tops(h_m[r], n[r])
+            hint = 0
             for j in range(2, n[r]):
-                best = -np.inf
-                for i in range(first[r, j], last[r, j] + 1):
-                    best = max(best, _roughness(h_m[r, i], hst[r, j], slope[r, j], d_km[r, i]))
-                out[r, j] = best
+                if need[r, j]:
+                    out[r, j], hint = roughness_max(d_km[r], h_m[r], tops, first[r, j], last[r, j], hst[r, j],
+                                                    slope[r, j], hint)
 
-    return roughness_kernel
+    @numba.njit(cache=True, parallel=True, nogil=True, fastmath=fastmath)
+    def roughness_kernel_reference(d_km, h_m, n, first, last, hst, slope, need, out):   # pragma: no cover
+        _key = key   # noqa: F841 (the cache key); every link, needed or not
+        for r in numba.prange(d_km.shape[0]):
+            for j in range(2, n[r]):
+                out[r, j] = scan(d_km[r], h_m[r], first[r, j], last[r, j] + 1, hst[r, j], slope[r, j])
+
+    return roughness_kernel, roughness_kernel_reference
 
 
 _horizon_kernel, _horizon_kernel_reference = _horizon_kernels(prefix_kernel.fingerprint(_TERMS))
-_roughness_kernel = _kernels(prefix_kernel.fingerprint(_TERMS))
+_roughness_kernel, _roughness_kernel_reference = _kernels(prefix_kernel.fingerprint(_TERMS))
 
 
 @documented
@@ -242,7 +296,7 @@ class PrefixReducer(Reducer):
         out = np.full(self.d.shape, np.nan)
         with prefix_kernel.LAUNCH:
             _roughness_kernel(self.d, self.h, self.n, self._full(first, np.int64), self._full(last, np.int64),
-                              self._full(hst), self._full(slope), out)
+                              self._full(hst), self._full(slope), self._full(True, np.bool_), out)
         return out[self.rr, self.jj]
 
     def zones(self):
