@@ -232,7 +232,16 @@ def _hull_kernels(key: str):
         return ob / dd
 
     @numba.njit(cache=True, fastmath=FASTMATH)
-    def search(kind, vertex, m, x, wg, h, d, a, b, ae_km):   # pragma: no cover (compiled)
+    def search(kind, vertex, m, x, wg, h, d, a, b, ae_km, guess):   # pragma: no cover (compiled)
+        # ``guess``: the vertex (sample index) of the previous link's largest; when it is still a vertex and
+        # neither neighbour on the hull is larger it is the largest again (the terms rise then fall along the
+        # vertices, equal values only at the top); else a binary search
+        q = guess[kind]
+        if 0 <= q < m and vertex[q] == guess[kind + 5]:
+            here = term(kind, vertex[q], x, wg, h, d, a, b, ae_km)
+            if (q == 0 or term(kind, vertex[q - 1], x, wg, h, d, a, b, ae_km) <= here) and \
+                    (q == m - 1 or term(kind, vertex[q + 1], x, wg, h, d, a, b, ae_km) <= here):
+                return here
         lo, hi = 0, m - 1
         while lo < hi:
             mid = (lo + hi) // 2
@@ -241,6 +250,7 @@ def _hull_kernels(key: str):
                 lo = mid + 1
             else:
                 hi = mid
+        guess[kind], guess[kind + 5] = lo, vertex[lo]
         return term(kind, vertex[lo], x, wg, h, d, a, b, ae_km)
 
     @numba.njit(cache=True, fastmath=FASTMATH)
@@ -334,6 +344,7 @@ def _hull_kernels(key: str):
             tops = block_tops(y, n[r])
             my = mh = 0
             hint = 0
+            guess = np.full(10, -1, np.int64)   # per query kind: hull position, then sample index, of the last largest
             for j in range(2, n[r]):
                 i = j - 1
                 if actual:
@@ -343,10 +354,10 @@ def _hull_kernels(key: str):
                     continue
                 d, a, b = x[j], hts[r, j], hrs[r, j]
                 if actual:
-                    out[0, r, j] = search(0, hy, my, x, wg, h, d, a, b, ae_km)
-                    out[1, r, j] = search(1, hy, my, x, wg, h, d, a, b, ae_km)
+                    out[0, r, j] = search(0, hy, my, x, wg, h, d, a, b, ae_km, guess)
+                    out[1, r, j] = search(1, hy, my, x, wg, h, d, a, b, ae_km, guess)
                     for kind in range(2, 5):
-                        out[kind + 1, r, j] = search(kind, hh, mh, x, wg, h, d, a, b, ae_km)
+                        out[kind + 1, r, j] = search(kind, hh, mh, x, wg, h, d, a, b, ae_km, guess)
                 else:
                     out[0, r, j] = smooth_slope(0, x, wg, h, j, d, a, b, ae_km)
                     out[1, r, j] = smooth_slope(1, x, wg, h, j, d, a, b, ae_km)
