@@ -79,8 +79,9 @@ def _weight(chunk, weight) -> int:
         return 1
 
 
-def _progress_bar(progress, desc: str, total: int):
-    """A tqdm bar on standard error, or None when progress is off or stderr is not a terminal."""
+def progress_bar(progress, desc: str, total: int):
+    """A tqdm bar on standard error, or None when progress is off (``progress`` False, or None and standard error
+    not a terminal); one bar can span several :func:`run_chunks` calls (their ``bar``)."""
     show = progress if progress is not None else bool(getattr(sys.stderr, "isatty", lambda: False)())
     if not show:
         return None
@@ -102,7 +103,8 @@ def _check_options(workers, scheduler) -> None:
 
 def run_chunks(func: Callable, chunks: Iterable, *, workers: int | None = None, scheduler: str | None = None,
                progress: bool | None = None, desc: str = "links", total: int | None = None,
-               weights: Sequence[int] | None = None, connect_timeout_s: float = 10.0, threads: int = 1) -> list:
+               weights: Sequence[int] | None = None, connect_timeout_s: float = 10.0, threads: int = 1,
+               bar=None) -> list:
     """Apply ``func`` to every chunk and return the results in chunk order.
 
     Parameters
@@ -132,6 +134,9 @@ def run_chunks(func: Callable, chunks: Iterable, *, workers: int | None = None, 
         In-process (no ``workers``/``scheduler``): chunks run at once on this
         many threads (``func`` must then be safe to call from several
         threads; numpy and the compiled kernels release the GIL).
+    bar : tqdm bar, optional
+        A bar of :func:`progress_bar` that spans several calls: updated, not
+        closed (``progress``, ``desc`` and ``total`` are then not used).
 
     Returns
     -------
@@ -150,7 +155,9 @@ def run_chunks(func: Callable, chunks: Iterable, *, workers: int | None = None, 
     if weights is not None and len(weights) != len(chunks):
         raise ProfilerError(f"got {len(weights)} progress weights for {len(chunks)} chunks; give one per chunk")
     sizes = [_weight(c, None if weights is None else weights[i]) for i, c in enumerate(chunks)]
-    bar = _progress_bar(progress, desc, sum(sizes) if total is None else int(total))
+    own = bar is None
+    if own:
+        bar = progress_bar(progress, desc, sum(sizes) if total is None else int(total))
     try:
         if workers is None and scheduler is None:
             if threads > 1 and len(chunks) > 1:
@@ -163,7 +170,7 @@ def run_chunks(func: Callable, chunks: Iterable, *, workers: int | None = None, 
             return results
         return _run_on_dask(func, chunks, sizes, bar, workers, scheduler, connect_timeout_s)
     finally:
-        if bar is not None:
+        if own and bar is not None:
             bar.close()
 
 

@@ -83,7 +83,15 @@ from .radials import (
 
 SCHEMA = "profiler.coverage/5"
 RADIALS_PER_CHUNK = 128
-"""Radials per task (one sector): large enough that the per-link formulas work on long arrays."""
+"""Most radials per task (one sector): large enough that the per-link formulas work on long arrays."""
+SECTOR_SAMPLES = 170_000
+"""Most radial samples per task: a sector's working memory stays the same on long radials (:func:`sector_radials`)."""
+
+
+def sector_radials(n_full: int) -> int:
+    """Radials per sector for radials of ``n_full`` samples: :data:`RADIALS_PER_CHUNK`, fewer on long radials so
+    that a sector holds at most about :data:`SECTOR_SAMPLES` samples (at least 8 radials)."""
+    return int(min(RADIALS_PER_CHUNK, max(8, SECTOR_SAMPLES // max(int(n_full), 1))))
 SAMPLING_RADIALS = 32
 """Radials sampled at once within a sector (the elevation blocks they read stay in the CPU's caches)."""
 def _sector_job(chunk, *, settings, n_radials, radius_m, step_m, node_mast_m, kernel=None, model=None,
@@ -189,12 +197,13 @@ class _SectorJobs:
                                      step_m=step_m, node_mast_m=node_mast_m, kernel=kernel, model=self.opened,
                                      land=land)
 
-    def run(self, chunks, progress) -> list:
-        """Every chunk ``(gateway, radial indices, needed samples)``, results in order."""
+    def run(self, chunks, progress, bar=None) -> list:
+        """Every chunk ``(gateway, radial indices, needed samples)``, results in order (``bar``: one progress bar
+        over several calls, :func:`profiler.engine.cluster.progress_bar`)."""
         from ...engine.cluster import run_chunks
 
         return run_chunks(self.job, chunks, workers=self.workers, scheduler=self.scheduler, progress=progress,
-                          desc="radials", weights=[c[1].size for c in chunks], threads=self.threads)
+                          desc="radials", weights=[c[1].size for c in chunks], threads=self.threads, bar=bar)
 
     def close(self) -> None:
         if self.opened is not None:
@@ -447,24 +456,25 @@ def _stream(model, settings, gateways, grid, radius_m, res, node_mast_m, workers
     """
     import tempfile
 
-    from ...engine.cluster import chunked
+    from ...engine.cluster import chunked, progress_bar
     from .grid import RadialStore, band_names
 
     budget = (DEFAULT_STREAM_MB if max_memory_mb is None else float(max_memory_mb)) * 2**20
     n_radials = radial_count(radius_m, res)
     n_full = max(math.ceil(radius_m / radial_step_m(res, settings.radio.diffraction_method)) + 1, 3)
-    sectors = chunked(n_radials, RADIALS_PER_CHUNK)
+    sectors = chunked(n_radials, sector_radials(n_full))
     jobs = _SectorJobs(settings, n_radials, radius_m, radial_step_m(res, settings.radio.diffraction_method),
                        node_mast_m, kernel, land, workers, scheduler)
-    per_batch = max(1, int(budget / 2 // (RADIALS_PER_CHUNK * n_full * 16 * STREAM_BYTES_PER_BAND_PIXEL)))
+    per_batch = max(1, int(budget / 2 // (sector_radials(n_full) * n_full * 16 * STREAM_BYTES_PER_BAND_PIXEL)))
     folder = str(stream_dir) if stream_dir is not None else tempfile.gettempdir()
     stores = []
+    bar = progress_bar(progress, "radials", n_radials * len(gateways))   # one bar over every batch
     try:
         for i, g in enumerate(gateways):
             need = needed_samples(grid, g, n_radials, radius_m / (n_full - 1), radius_m, n_full)
             for b0 in range(0, len(sectors), per_batch):
                 batch = sectors[b0:b0 + per_batch]
-                parts = jobs.run([(g, np.arange(n_radials)[sl], need[sl]) for sl in batch], progress)
+                parts = jobs.run([(g, np.arange(n_radials)[sl], need[sl]) for sl in batch], progress, bar)
                 for sl, part in zip(batch, parts):
                     if len(stores) == i:
                         stores.append(RadialStore(_temp_file(folder, ".f32"), band_names(part), n_radials, n_full))
@@ -476,6 +486,8 @@ def _stream(model, settings, gateways, grid, radius_m, res, node_mast_m, workers
         return names, counts, sweep, path
     finally:
         jobs.close()
+        if bar is not None:
+            bar.close()
         for store in stores:
             store.close()
 
@@ -607,7 +619,7 @@ def _sweep(model, settings, gateways, grid, radius_m, res, node_mast_m, workers,
     step_m = radial_step_m(res, settings.radio.diffraction_method)
     n_full = max(math.ceil(radius_m / step_m) + 1, 3)
     spacing = radius_m / (n_full - 1)
-    sectors = chunked(n_radials, RADIALS_PER_CHUNK)
+    sectors = chunked(n_radials, sector_radials(n_full))
     windows = [grid.circle_window(g, radius_m) for g in gateways]
     lookups = [None if overlap(w, (0, grid.height, 0, grid.width)) is None else
                radial_lookup(*pixel_polar(grid.window(*w), g), n_radials, spacing, radius_m)
