@@ -375,54 +375,70 @@ def sample_radials(model, gw: Gateway, azimuth_deg, radius_m: float, step_m: flo
     """Terrain along radials from the site, each cut where it leaves the data (or meets a void).
 
     Returns ``(distance_m, terrain_m, n)`` with arrays (R, N) padded with NaN
-    and ``n`` the samples kept per radial (0: none); samples are equally
-    spaced by ``radius_m / (N - 1)``, at most ``step_m``.  With
+    and ``n`` the samples kept per radial (0: fewer than 3); samples are
+    equally spaced by ``radius_m / (N - 1)``, at most ``step_m``.  With
     ``with_coordinates`` also the samples' WGS84 ``(lat_deg, lon_deg)``
     (R, N) [deg] (NaN where there is no sample), the positions the terrain
     was read at.
+
+    The positions are those of the link engine
+    (:func:`profiler.terrain.geodesic.geodesic_anchors` and
+    :func:`~profiler.terrain.geodesic.geodesic_positions`: exact direct
+    geodesics every 250 m, linear between) and the terrain its bilinear
+    read; a void (no data, or a height outside the range of the Earth's
+    surface, :data:`profiler.limits.LIMITS`) cuts the radial there, or with
+    ``fill_voids`` is interpolated linearly in distance
+    (:func:`profiler.terrain.voids.fill_voids_along_profile`) while the
+    radial is inside the data.
     """
     from pyproj import Geod
 
-    from ...terrain.sampling import sample_links
+    from ...limits import LIMITS
+    from ...terrain.geodesic import geodesic_anchors, geodesic_positions
 
     geod = Geod(ellps="WGS84")
     az = np.asarray(azimuth_deg, dtype=float)
     size = az.size
-    lat0, lon0 = np.full(size, gw.lat_deg), np.full(size, gw.lon_deg)
     n_full = max(math.ceil(radius_m / step_m) + 1, 3)
     spacing = radius_m / (n_full - 1)
-    lon_e, lat_e, _ = geod.fwd(lon0, lat0, az, np.full(size, radius_m))
-    s = sample_links(model, lat0, lon0, lat_e, lon_e, step_m=spacing * (1 + 1e-9), fill_voids=fill_voids)
-    d, t, lat, lon = (np.full((size, n_full), np.nan) for _ in range(4))
-    n = np.zeros(size, dtype=np.int64)
-    ok = s.ok & (s.n == n_full)
-    if ok.any():
-        d[ok], t[ok], n[ok] = s.distance_m[ok, :n_full], s.terrain_m[ok, :n_full], n_full
-        lat[ok], lon[ok] = s.lat_deg[ok, :n_full], s.lon_deg[ok, :n_full]
-    bad = np.flatnonzero(~ok)
+    lat0, lon0 = np.full(size, gw.lat_deg), np.full(size, gw.lon_deg)
+    anchors = geodesic_anchors(geod, lat0, lon0, az, np.full(size, float(radius_m)), np.ones(size, dtype=bool))
+    steps = np.arange(n_full) * spacing
+    lon, lat = geodesic_positions(geod, lat0, lon0, az, anchors, np.repeat(np.arange(size), n_full),
+                                  np.tile(steps, size))
+    lon, lat = lon.reshape(size, n_full), lat.reshape(size, n_full)
+    t = np.asarray(model.sample(lon, lat), dtype=float).reshape(size, n_full)
+    lim = LIMITS["terrain"]
+    with np.errstate(invalid="ignore"):
+        t = np.where((t >= lim.low) & (t <= lim.high), t, np.nan)   # an undeclared void value is a void
+    n = np.full(size, n_full, dtype=np.int64)
+    bad = np.flatnonzero(~np.isfinite(t).all(axis=1))
     if bad.size:
-        steps = np.arange(n_full) * spacing
-        lo, la, _ = geod.fwd(np.repeat(lon0[bad], n_full), np.repeat(lat0[bad], n_full), np.repeat(az[bad], n_full),
-                             np.tile(steps, bad.size))
-        lo, la = np.asarray(lo).reshape(bad.size, n_full), np.asarray(la).reshape(bad.size, n_full)
-        good = model.covers(lo, la)
-        if not fill_voids:
-            z = np.full(lo.shape, np.nan)
-            z[good] = model.sample(lo[good], la[good])
-            good &= np.isfinite(z)
-        keep = np.where(good.all(axis=1), n_full, np.argmin(good, axis=1))
-        short = keep >= 3
-        if short.any():
-            b, k = bad[short], keep[short]
-            lon_k, lat_k, _ = geod.fwd(lon0[b], lat0[b], az[b], (k - 1) * spacing)
-            s2 = sample_links(model, lat0[b], lon0[b], lat_k, lon_k, step_m=spacing * (1 + 1e-9),
-                              fill_voids=fill_voids)
-            fine = s2.ok & (s2.n == k)
-            for i in np.flatnonzero(fine):  # one copy per cut radial (rows of different length)
-                m = int(k[i])
-                d[b[i], :m], t[b[i], :m], n[b[i]] = s2.distance_m[i, :m], s2.terrain_m[i, :m], m
-                lat[b[i], :m], lon[b[i], :m] = s2.lat_deg[i, :m], s2.lon_deg[i, :m]
-    return (d, t, n, lat, lon) if with_coordinates else (d, t, n)
+        keep = np.asarray(model.covers(lon[bad], lat[bad])) if fill_voids else np.isfinite(t[bad])
+        n[bad] = np.where(keep.all(axis=1), n_full, np.argmin(keep, axis=1))
+        if fill_voids:
+            _fill_radial_voids(t, n, bad, steps)
+    n[n < 3] = 0
+    beyond = np.arange(n_full)[None, :] >= n[:, None]
+    d = np.where(beyond, np.nan, np.broadcast_to(steps, (size, n_full)))
+    t[beyond] = np.nan
+    if not with_coordinates:
+        return d, t, n
+    lon, lat = np.where(beyond, np.nan, lon), np.where(beyond, np.nan, lat)
+    return d, t, n, lat, lon
+
+
+def _fill_radial_voids(t, n, rows, steps) -> None:
+    """Fill the voids of radials ``rows`` within their ``n`` samples in place (linear in distance); a radial with
+    no data before its cut keeps none (n = 0)."""
+    from ...terrain.voids import fill_voids_along_profile
+
+    for r in rows:   # only radials with a void: rare, each its own interpolation
+        m = int(n[r])
+        if m and np.isfinite(t[r, :m]).any():
+            t[r, :m] = fill_voids_along_profile(steps[:m], t[r, :m])[0]
+        else:
+            n[r] = 0
 
 
 def keep_freed_memory() -> bool:
