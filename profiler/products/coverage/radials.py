@@ -33,8 +33,9 @@ BLOCK_ELEMENTS = 100_000
 _FIELDS = {"worst_fresnel_ratio": "worst_fresnel_ratio", "path_loss_db": "total_loss_db",
            "rx_level_dbm": "rx_level_dbm", "margin_db": "margin_db", "downlink_margin_db": "downlink_margin_db",
            "recommended_dr": "recommended_dr"}
-_EXTRA = ("location_sigma_db", "location_term_db", "building_entry_loss_db", "elevation_b_deg")
-"""Per-link values of the loss block that :func:`_probability` needs (the last three are not bands)."""
+_EXTRA = ("location_sigma_db", "probability_heard", "building_entry_loss_db")
+"""Per-link values beside :data:`_FIELDS`: σL and the probability (:func:`profiler.engine.links.probability_heard`,
+with the node's antenna height) and the node's building entry loss (a band with ``--indoor-b`` only)."""
 
 
 def radial_count(radius_m: float, resolution_m: float) -> int:
@@ -191,7 +192,8 @@ def radial_fields(distance_m, terrain_m, n, mast_m, node_mast_m, settings, overr
         h_a = t[rr, 0] + mast_m
         h_b = t[rr, jj] + node_mast_m
         _store(out, rr, jj, link_fields(dd, tt, nn, h_a, h_b, settings, _overrides(overrides, rr.size),
-                                        paths=_paths(coordinates, rr, jj, cc)), settings, node_mast_m)
+                                        paths=_paths(coordinates, rr, jj, cc),
+                                        node_height_m=np.full(rr.size, float(node_mast_m))))
 
     if kernel is None:
         kernel = kernel_available()
@@ -223,7 +225,7 @@ def radial_fields(distance_m, terrain_m, n, mast_m, node_mast_m, settings, overr
     for band in out:
         out[band][first, 0] = out[band][first, 1]
     out["recommended_dr"] = np.where(out["recommended_dr"] >= 0, out["recommended_dr"], np.nan)
-    return _probability(out, settings)
+    return _indoor_band(out, settings)
 
 
 def _straight_clutter(clutter, r, j):
@@ -235,30 +237,10 @@ def _straight_clutter(clutter, r, j):
             "clutter_class": np.stack([k[r, 0], np.full(r.size, -1), k[r, j]], axis=1)}
 
 
-def _probability(out, settings) -> dict:
-    """``probability_heard`` from the margins, the location term, σL and the building entry loss (fills ``out``).
-
-    The margin at 50 % of locations is the run's margin plus the location
-    term (and, indoors, plus the building entry loss, whose distribution
-    :func:`profiler.engine.probability.indoor_probability` integrates over).
-    """
-    from ...engine.probability import indoor_probability, outdoor_probability
-
-    prop = settings.radio.propagation
-    fade = settings.radio.fade_margin_db
-    location, bel = out.pop("location_term_db"), out.pop("building_entry_loss_db")
-    elevation = out.pop("elevation_b_deg")
-    median = out["margin_db"] + location
-    sigma = out["location_sigma_db"]
-    if prop.indoor_b is None:
-        out["probability_heard"] = outdoor_probability(median, fade, sigma)
-        return out
-    ok = np.isfinite(median) & np.isfinite(elevation)
-    p = np.full(median.shape, np.nan)
-    p[ok] = indoor_probability(median[ok] + bel[ok], fade, sigma[ok], settings.frequency_mhz * 1e-3, elevation[ok],
-                               prop.indoor_b)
-    out["probability_heard"] = p
-    out["building_entry_loss_db"] = bel
+def _indoor_band(out, settings) -> dict:
+    """Keep the ``building_entry_loss_db`` band only with an indoor node (``--indoor-b``)."""
+    if settings.radio.propagation.indoor_b is None:
+        out.pop("building_entry_loss_db")
     return out
 
 
@@ -321,8 +303,8 @@ def _kernel_fields(out, d, t, n, mast_m, node_mast_m, settings, overrides, fast,
     h_a, h_b = site[rr], node[rr, jj]
     if fast:   # no diffraction: the budget needs the length and the worst ratio only
         _store(out, rr, jj, link_fields(None, None, None, h_a, h_b, settings, _overrides(overrides, rr.size),
-                                        reduced={"length_m": d[rr, jj], "worst_ratio": worst[rr, jj]}),
-               settings, node_mast_m)
+                                        reduced={"length_m": d[rr, jj], "worst_ratio": worst[rr, jj]},
+                                        node_height_m=np.full(rr.size, float(node_mast_m))))
         return
     d_km = d * 1e-3
     prop = settings.radio.propagation
@@ -340,33 +322,18 @@ def _kernel_fields(out, d, t, n, mast_m, node_mast_m, settings, overrides, fast,
         reduced = diffraction_reductions(reduce, d_km[rr, jj], t[rr, 0], t[rr, jj], h_a, h_b)
     reduced.update(length_m=d[rr, jj], worst_ratio=worst[rr, jj])
     _store(out, rr, jj, link_fields(None, None, None, h_a, h_b, settings, _overrides(overrides, rr.size),
-                                    reduced=reduced, paths=_paths(coordinates, rr, jj)), settings, node_mast_m)
+                                    reduced=reduced, paths=_paths(coordinates, rr, jj),
+                                    node_height_m=np.full(rr.size, float(node_mast_m))))
 
 
-def _store(out, rr, jj, res, settings, node_mast_m) -> None:
-    """One batch of links into the radial arrays: the bands, and what the probability needs from the loss block.
-
-    σL at the node: P.1812-8's own (``--model p1812``), else the same
-    section 4.7 value (or ``--location-sigma-db``) with u(h) of the node's
-    antenna height and R (:func:`profiler.engine.losses.node_location_sigma_db`).
-    """
-    from ...engine.losses import node_location_sigma_db
-
+def _store(out, rr, jj, res) -> None:
+    """One batch of links into the radial arrays: the bands, σL and the probability of being heard of
+    :func:`profiler.engine.links.link_fields` (given the node's antenna height), the node's building entry loss."""
     for band, key in _FIELDS.items():
         out[band][rr, jj] = res[key]
-    loss = res["loss_db"]
-    ends = loss["terminals"]["ends"]["b"]
-    if loss["p1812"] is not None:
-        sigma = loss["p1812"]["location_sigma_db"]
-    else:
-        r_node = ends["clutter_height_m"]
-        sigma = node_location_sigma_db(settings.radio.propagation, settings.frequency_mhz,
-                                       np.full(rr.size, float(node_mast_m)), np.where(np.isfinite(r_node), r_node, 0.0),
-                                       np.zeros(rr.size, dtype=bool))
-    out["location_sigma_db"][rr, jj] = sigma
-    out["location_term_db"][rr, jj] = loss["location"]
-    out["building_entry_loss_db"][rr, jj] = loss["building_entry_b"]
-    out["elevation_b_deg"][rr, jj] = loss["terminals"]["elevation_angle_b_deg"]
+    out["location_sigma_db"][rr, jj] = res["location_sigma_db"]
+    out["probability_heard"][rr, jj] = res["probability_heard"]
+    out["building_entry_loss_db"][rr, jj] = res["loss_db"]["building_entry_b"]
 
 
 # --------------------------------------------------------------------------- radials
