@@ -64,10 +64,12 @@ def _horizons(kernel, d, h, n, site, hrs, need=None):
 
 
 @pytest.mark.parametrize("kind", ["rough", "flat", "rising", "falling", "spiky", "ties"])
-@pytest.mark.parametrize("seed", [1, 2])
-def test_hull_horizon_equals_the_loop(kind, seed):
-    d, h, n = _radials(kind, seed)
-    site = h[:, 0] + 2.0
+@pytest.mark.parametrize("seed, size, mast_m", [(1, 160, 2.0), (2, 160, 2.0), (3, 1200, 150.0)])
+def test_hull_horizon_equals_the_loop(kind, seed, size, mast_m):
+    """Horizons of every link (a tall mast over long radials: many line-of-sight links, whose ν index is found
+    by pruned blocks and groups of blocks)."""
+    d, h, n = _radials(kind, seed, size=size)
+    site = h[:, 0] + mast_m
     hrs = h + 1.5
     ref_t, ref_i = _horizons(prefix._horizon_kernel_reference, d, h, n, site, hrs)
     got_t, got_i = _horizons(prefix._horizon_kernel, d, h, n, site, hrs)
