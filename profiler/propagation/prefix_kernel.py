@@ -209,7 +209,8 @@ def _hull_kernels(key: str):
     whose derivative ``A (1 - 3 s) / (1 + s)^3 - β`` falls on ``s < 1`` and
     is negative beyond ``1 / 3``: ``m`` starts at ``α >= 0``, rises at most
     once and then falls, so ``f'`` changes sign at most once, from + to -.
-    A binary search on the terms finds the largest; its slopes are the
+    A climb from the previous link's peak (or a binary search) finds the
+    largest; its slopes are the
     concave (or convex) functions of :func:`smooth_slope` (O(log n)).
 
     Only the links with ``need[r, j]`` are reduced (the samples some output
@@ -295,9 +296,23 @@ def _hull_kernels(key: str):
         return best, at
 
     @numba.njit(cache=True, fastmath=FASTMATH)
-    def smooth_nu(x, j, d, a, b, ae_km):   # pragma: no cover (compiled)
-        # the smooth profile with a, b >= 0: ν rises then falls along the samples (see _hull_kernels): the peak by
-        # a binary search on the terms themselves
+    def smooth_nu(x, j, d, a, b, ae_km, start):   # pragma: no cover (compiled)
+        # the smooth profile with a, b >= 0: ν rises then falls along the samples (see _hull_kernels), so a climb
+        # from the previous link's peak ``start`` ends on the peak; after 8 steps a binary search on the terms
+        q = min(max(start, 1), j - 1)
+        here = _v_unit(_bulge_km(x[q], d - x[q], ae_km), a, b, x[q], d - x[q], d)
+        for _ in range(8):
+            if q + 1 <= j - 1:
+                up = _v_unit(_bulge_km(x[q + 1], d - x[q + 1], ae_km), a, b, x[q + 1], d - x[q + 1], d)
+                if up > here:
+                    q, here = q + 1, up
+                    continue
+            if q - 1 >= 1:
+                down = _v_unit(_bulge_km(x[q - 1], d - x[q - 1], ae_km), a, b, x[q - 1], d - x[q - 1], d)
+                if down > here:
+                    q, here = q - 1, down
+                    continue
+            return here, q
         lo, hi = 1, j - 1
         while lo < hi:
             mid = (lo + hi) // 2
@@ -306,7 +321,7 @@ def _hull_kernels(key: str):
                 lo = mid + 1
             else:
                 hi = mid
-        return _v_unit(_bulge_km(x[lo], d - x[lo], ae_km), a, b, x[lo], d - x[lo], d)
+        return _v_unit(_bulge_km(x[lo], d - x[lo], ae_km), a, b, x[lo], d - x[lo], d), lo
 
     @numba.njit(cache=True, fastmath=FASTMATH)
     def smooth_slope(kind, x, wg, h, j, d, a, b, ae_km):   # pragma: no cover (compiled)
@@ -345,6 +360,7 @@ def _hull_kernels(key: str):
             my = mh = 0
             hint = 0
             guess = np.full(10, -1, np.int64)   # per query kind: hull position, then sample index, of the last largest
+            peak = 1   # the smooth pass's ν peak of the last link
             for j in range(2, n[r]):
                 i = j - 1
                 if actual:
@@ -367,7 +383,7 @@ def _hull_kernels(key: str):
                 if not nu_always and out[0, r, j] > s_tr + slack and out[0, r, j] + out[1, r, j] > slack:
                     continue   # trans-horizon beyond rounding: ν stays NaN
                 if not actual and a >= 0.0 and b >= 0.0:
-                    out[2, r, j] = smooth_nu(x, j, d, a, b, ae_km)
+                    out[2, r, j], peak = smooth_nu(x, j, d, a, b, ae_km, peak)
                 else:
                     out[2, r, j], hint = nu_max(x, wg, tops, j, d, a, b, ae_km, hint)
 
