@@ -48,8 +48,9 @@ from bench_profile import TILE_SOUTH, TILE_WEST, make_tile, tile_path  # noqa: E
 from profiler.engine.model import PropagationSettings  # noqa: E402
 from profiler.engine.radio import RadioSettings  # noqa: E402
 from profiler.products.coverage.grid import Gateway, make_grid, pixel_polar, radial_lookup  # noqa: E402
-from profiler.products.coverage.map import RADIALS_PER_CHUNK, coverage  # noqa: E402
+from profiler.products.coverage.map import coverage  # noqa: E402
 from profiler.products.coverage.radials import keep_freed_memory, line_of_sight_radials, radial_count, sample_radials  # noqa: E402
+from profiler.products.coverage.sectors import RADIALS_PER_CHUNK  # noqa: E402
 from profiler.propagation import geometry  # noqa: E402
 from profiler.terrain.elevation import ElevationModel  # noqa: E402
 
@@ -194,13 +195,14 @@ def stage_times(kw):
     import functools
 
     import profiler.products.coverage.map as cov
+    import profiler.products.coverage.sectors as sectors
     from profiler.engine import links
     from profiler.propagation import prefix_kernel
     from profiler.propagation.p1812 import prefix as p1812_prefix
 
     spent = {}
     reducer = p1812_prefix.PrefixReducer
-    wrapped = [(cov, "sample_radials", "sampling"), (cov, "line_of_sight_radials", "line of sight"),
+    wrapped = [(sectors, "sample_radials", "sampling"), (sectors, "line_of_sight_radials", "line of sight"),
                (prefix_kernel, "worst_ratio_prefixes", "reductions"),
                (prefix_kernel, "bullington_prefixes", "reductions"), (reducer, "horizons", "reductions"),
                (reducer, "roughness", "reductions"), (links, "link_fields", "per-link formulas"),
@@ -221,12 +223,12 @@ def stage_times(kw):
     try:
         for owner, name, stage in wrapped:
             setattr(owner, name, timer(getattr(owner, name), stage))
-        cov._cores, cores = (lambda: 1), cov._cores
+        sectors.cores, cores = (lambda: 1), sectors.cores
         t0 = time.perf_counter()
         coverage(SITE, radio=RadioSettings(propagation=PropagationSettings(model="p1812")), **kw)
         total = time.perf_counter() - t0
     finally:
-        cov._cores = cores
+        sectors.cores = cores
         for owner, name, func in saved:
             setattr(owner, name, func)
     print(f"stages of a --model p1812 run, one sector at a time ({total:.2f} s):")

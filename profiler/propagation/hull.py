@@ -23,6 +23,10 @@ References
 
 from __future__ import annotations
 
+import math
+
+import numpy as np
+
 
 def upper_hull_push(x, y, hull, m, i):
     """Add point ``i`` (right of every hull point) to the upper hull ``hull[:m]`` (point indices); new ``m``.
@@ -59,3 +63,88 @@ def upper_hull_push(x, y, hull, m, i):
             break
     hull[m] = i
     return m + 1
+
+
+def block_tops(y, n, block, group):
+    """Largest ``y`` of every whole block of samples before sample ``n``, and of every whole group of blocks.
+
+    Block ``k`` is the samples ``1 + k block`` to ``(k + 1) block``; group
+    ``g`` the blocks ``g`` to ``g + group - 1`` (``g`` a multiple of ``group``).
+
+    Parameters
+    ----------
+    y : ndarray, shape (N,)
+        Ordinates of the samples (heights less the Earth-curvature parabola) [m].
+    n : int
+        Samples of the radial (a count).
+    block, group : int
+        Samples per block, blocks per group (counts).
+
+    Returns
+    -------
+    ndarray, shape (2, max(blocks, 1))
+        Row 0: the largest ``y`` of each block [m]; row 1, at each group's
+        first block: the largest of the group (-inf elsewhere).
+    """
+    count = (n - 1) // block
+    tops = np.full((2, max(count, 1)), -np.inf)
+    for k in range(count):
+        for i in range(1 + k * block, 1 + (k + 1) * block):
+            tops[0, k] = max(tops[0, k], y[i])
+        g = k - k % group
+        tops[1, g] = max(tops[1, g], tops[0, k])
+    return tops
+
+
+def pruning_unit(tops, k, full, group):
+    """The blocks a pruned scan tests at once from block ``k`` (before block ``full``): ``(count, largest y)``.
+
+    A whole group when ``k`` starts one that ends before ``full``, else the
+    block alone (``tops`` of :func:`block_tops`).
+    """
+    if k % group == 0 and k + group <= full:
+        return group, tops[1, k]
+    return 1, tops[0, k]
+
+
+def nu_bound(ytop, p, a, xs, xe, d):
+    """Upper bound of ``N_i W(x_i)`` over samples from ``xs`` to ``xe`` (a pruning test, O(1)).
+
+    ``N_i = y_i + p x_i - a`` is at most ``top = ytop + max(p xs, p xe) - a``
+    (``ytop`` the largest ``y``); ``W(x) = sqrt(0.002 d / (x (d - x)))`` is
+    convex with its least value at ``d / 2``, so between ``xs`` and ``xe`` it
+    is at most its larger end value and at least its value at ``d / 2``
+    clamped into the range: the bound is ``top W_max`` for ``top >= 0`` and
+    ``top W_min`` below.  The worst clearance ratio (``W`` with ``1 / λ``
+    for ``0.002``) uses the same bound: a constant factor of ``W`` scales
+    both sides of the test.
+
+    Parameters
+    ----------
+    ytop : float
+        Largest ``y`` of the samples [m].
+    p : float
+        Slope of the linear part of ``N`` [m/km] (or [m/m]).
+    a : float
+        Height of the site end [m].
+    xs, xe : float
+        Distances of the first and last sample [km] (or [m]), ``0 < xs <= xe < d``.
+    d : float
+        Length of the link [km] (or [m]).
+
+    Returns
+    -------
+    float
+        The bound of ``N W`` (``W`` with the factor 0.002) [m^0.5 per unit of distance^0.5].
+
+    References
+    ----------
+    .. [1] ITU-R P.452-18 eq. (16) (ν); ITU-R P.526-15 eq. (2) (the first Fresnel radius).
+    """
+    top = ytop + max(p * xs, p * xe) - a
+    if top >= 0.0:
+        u = min(xs * (d - xs), xe * (d - xe))
+    else:
+        xm = min(max(0.5 * d, xs), xe)
+        u = xm * (d - xm)
+    return top * math.sqrt(0.002 * d / u)

@@ -22,7 +22,7 @@ the compiled versions of the terms it calls.  Everything after the
 reductions (eqs. 15, 19-22, 43, the spherical Earth, the budgets) is the
 numpy finish stage shared with ``profiler link``.
 
-numba is imported by this module only, and this module only by
+numba is imported by this module and :mod:`profiler.propagation.compiled` only, and this module only by
 :func:`profiler.products.coverage.radials.radial_fields`; compiled code is cached on disk
 (``cache=True``).
 
@@ -35,76 +35,33 @@ References
 
 from __future__ import annotations
 
-import hashlib
 import math
 import threading
-import types
 
 import numba
 import numpy as np
 
+from . import compiled, geometry, hull
 from . import diffraction_batch as diffraction_engine
-from . import geometry, hull
-
-FASTMATH = {"nsz", "arcp", "contract", "afn", "reassoc"}
-"""LLVM fast-math flags of the kernels: reassociation and reciprocals let the inner loops vectorize (about 2x);
-no ``nnan``/``ninf`` (the running maxima start at -inf).  Results differ from the numpy engine by rounding only."""
-
+from .compiled import FASTMATH, compile_terms  # noqa: F401 - also this module's names (p1812.prefix)
 
 _TERMS = ((geometry, ("bulge_term", "line_term", "fresnel_term", "clearance_ratio_term")),
           (diffraction_engine, ("bulge_km_term", "slope_term", "obstacle_term", "v_unit_term")),
-          (hull, ("upper_hull_push",)))
+          (hull, ("upper_hull_push", "block_tops", "pruning_unit", "nu_bound")))
 
 
-def compile_terms(module, names) -> dict:
-    """``numba.njit`` copies of ``module``'s term functions, each calling the compiled copies of the others.
-
-    Not cached themselves: they are compiled into the (cached) kernels.
+def fingerprint(terms=None) -> str:
+    """Digest of the terms' code and the fast-math flags: part of the kernels' cache key.
 
     Parameters
     ----------
-    module : module
-        The module holding the terms (plain arithmetic on floats).
-    names : tuple of str
-        The terms, in dependency order (a term after the terms it calls).
-
-    Returns
-    -------
-    dict
-        Name -> compiled term, plus ``np`` and ``math`` (the globals of the copies).
-
-    References
-    ----------
-    .. [1] numba documentation, user guide section "Compiling Python code
-       with @jit" (``njit``, ``fastmath``): functions called from a compiled
-       function must be compiled themselves.
-    """
-    space = {"np": np, "math": math}
-    for name in names:
-        f = getattr(module, name)
-        copy = types.FunctionType(f.__code__, space, name, f.__defaults__, f.__closure__)
-        copy.__module__, copy.__qualname__ = module.__name__, f.__qualname__
-        space[name] = numba.njit(fastmath=FASTMATH)(copy)
-    return space
-
-
-def fingerprint(terms=_TERMS) -> str:
-    """Digest of the terms' code and the flags: part of the kernels' cache key.
-
-    numba keys a cached function on its own bytecode and closure only, so an
-    edited term (in geometry.py or diffraction_batch.py) would otherwise be
-    served stale from the cache.
-
-    Parameters
-    ----------
-    terms : tuple of (module, tuple of str)
+    terms : tuple of (module, tuple of str), optional
         The terms a set of kernels calls (default: this module's).
 
     Returns
     -------
     str
-        SHA-256 hex digest of the fast-math flags and the terms' byte code,
-        constants and names.
+        :func:`profiler.propagation.compiled.fingerprint` of ``terms``.
 
     References
     ----------
@@ -112,16 +69,12 @@ def fingerprint(terms=_TERMS) -> str:
        caching": the cache does not see changes in the functions a cached
        function calls.
     """
-    digest = hashlib.sha256(repr(sorted(FASTMATH)).encode())
-    for module, names in terms:
-        for name in names:
-            code = getattr(module, name).__code__
-            digest.update(code.co_code + repr(code.co_consts).encode() + repr(code.co_names).encode())
-    return digest.hexdigest()
+    return compiled.fingerprint(_TERMS if terms is None else terms)
 
 
 _G, _D, _H = (compile_terms(module, names) for module, names in _TERMS)
-_push = _H["upper_hull_push"]
+_push, _block_tops, _pruning_unit, _nu_bound = (_H[k] for k in ("upper_hull_push", "block_tops", "pruning_unit",
+                                                                  "nu_bound"))
 _ratio, _bulge, _line = _G["clearance_ratio_term"], _G["bulge_term"], _G["line_term"]
 _bulge_km, _slope, _obstacle, _v_unit = (_D[k] for k in ("bulge_km_term", "slope_term", "obstacle_term",
                                                           "v_unit_term"))
@@ -129,6 +82,9 @@ _bulge_km, _slope, _obstacle, _v_unit = (_D[k] for k in ("bulge_km_term", "slope
 
 BLOCK = 16
 """Samples per block of the ν and clearance-ratio bounds in :func:`_hull_kernels`, :func:`_ratio_hull_kernels`."""
+GROUP = 16
+"""Blocks per group: a group whose bound rules it out is skipped whole (two levels of
+:func:`profiler.propagation.hull.nu_bound`)."""
 
 
 def _kernels(key: str):
@@ -199,7 +155,7 @@ def _hull_kernels(key: str):
     ``stim + srim <= 0``; eqs. (17), (19)-(21)), so it is taken there only
     (beyond a rounding slack; everywhere with ``nu_always``, the knife-edge
     method).  On the actual profile the blocks of samples that
-    :func:`nu_bound` does not rule out are scanned, first the block of the
+    :func:`~profiler.propagation.hull.nu_bound` does not rule out are scanned, first the block of the
     previous link's largest ν.  On the smooth profile (every height 0) with
     ``a, b >= 0``, ν rises then falls along the samples: with
     ``t = sqrt(x / (d - x))`` (increasing in x),
@@ -272,16 +228,16 @@ def _hull_kernels(key: str):
         p = 500.0 / ae_km * d - (b - a) / d
         k = 0
         while k < full:
-            size, top = pruning_unit(tops, k, full)
+            size, top = _pruning_unit(tops, k, full, GROUP)
             s = 1 + k * BLOCK
-            if nu_bound(top, p, a, x[s], x[s + size * BLOCK - 1], d) < best - 1e-9 * (1.0 + abs(best)):
+            if _nu_bound(top, p, a, x[s], x[s + size * BLOCK - 1], d) < best - 1e-9 * (1.0 + abs(best)):
                 k += size   # no sample of these blocks can beat the best
                 continue
             if size > 1:
                 k_end = k + size
                 while k < k_end:   # the blocks of the group one by one
                     s = 1 + k * BLOCK
-                    if k != hint and nu_bound(tops[0, k], p, a, x[s], x[s + BLOCK - 1], d) >= \
+                    if k != hint and _nu_bound(tops[0, k], p, a, x[s], x[s + BLOCK - 1], d) >= \
                             best - 1e-9 * (1.0 + abs(best)):
                         v = nu_scan(x, wg, s, s + BLOCK, d, a, b, ae_km)
                         if v > best:
@@ -356,7 +312,7 @@ def _hull_kernels(key: str):
             y = wg - c * x * x   # the heights less the parabola: the same for every node
             size = max(n[r], 1)
             hy, hh = np.empty(size, np.int64), np.empty(size, np.int64)
-            tops = block_tops(y, n[r])
+            tops = _block_tops(y, n[r], BLOCK, GROUP)
             my = mh = 0
             hint = 0
             guess = np.full(10, -1, np.int64)   # per query kind: hull position, then sample index, of the last largest
@@ -392,53 +348,6 @@ def _hull_kernels(key: str):
 
 HULL_SCAN = 48
 """Largest hull (vertices) whose scan the clearance-ratio kernel tries before the blocks."""
-GROUP = 16
-"""Blocks per group: a group whose bound rules it out is skipped whole (two levels of :func:`nu_bound`)."""
-
-
-@numba.njit(cache=True, fastmath=FASTMATH)
-def block_tops(y, n):   # pragma: no cover (compiled)
-    """Largest ``y`` of every whole block of ``BLOCK`` samples ``1 + k BLOCK ..`` before sample ``n`` (row 0),
-    and of every whole group of ``GROUP`` blocks (row 1, at the group's first block)."""
-    count = (n - 1) // BLOCK
-    tops = np.full((2, max(count, 1)), -np.inf)
-    for k in range(count):
-        for i in range(1 + k * BLOCK, 1 + (k + 1) * BLOCK):
-            tops[0, k] = max(tops[0, k], y[i])
-        g = k - k % GROUP
-        tops[1, g] = max(tops[1, g], tops[0, k])
-    return tops
-
-
-@numba.njit(cache=True, fastmath=FASTMATH)
-def pruning_unit(tops, k, full):   # pragma: no cover (compiled)
-    """The blocks tested at once from block ``k`` on (before block ``full``): ``(count, largest y)``: a whole group
-    when ``k`` starts one that ends before ``full``, else the block alone."""
-    if k % GROUP == 0 and k + GROUP <= full:
-        return GROUP, tops[1, k]
-    return 1, tops[0, k]
-
-
-@numba.njit(cache=True, fastmath=FASTMATH)
-def nu_bound(ytop, p, a, xs, xe, d):   # pragma: no cover (compiled)
-    """Upper bound of ``N_i W(x_i)`` over samples from ``xs`` to ``xe`` (a pruning test, O(1)).
-
-    ``N_i = y_i + p x_i - a`` is at most ``top = ytop + max(p xs, p xe) - a``
-    (``ytop`` the largest ``y``); ``W(x) = sqrt(0.002 d / (x (d - x)))`` is
-    convex with its least value at ``d / 2``, so between ``xs`` and ``xe`` it
-    is at most its larger end value and at least its value at ``d / 2``
-    clamped into the range: the bound is ``top W_max`` for ``top >= 0`` and
-    ``top W_min`` below.  The worst clearance ratio (``W`` with ``1 / λ``
-    for ``0.002``) uses the same bound: a constant factor of ``W`` scales
-    both sides of the test.
-    """
-    top = ytop + max(p * xs, p * xe) - a
-    if top >= 0.0:
-        u = min(xs * (d - xs), xe * (d - xe))
-    else:
-        xm = min(max(0.5 * d, xs), xe)
-        u = xm * (d - xm)
-    return top * math.sqrt(0.002 * d / u)
 
 
 def _ratio_hull_kernels(key: str):
@@ -449,7 +358,7 @@ def _ratio_hull_kernels(key: str):
     y_i + (d / (2 a_e) - (b - a) / d) d_i - a``, is linear in ``(d_i, y_i)``
     and the ratio is ``-N_i sqrt(d / (λ d_i (d - d_i)))`` (P.526-15 eq. (2),
     :func:`profiler.propagation.geometry.clearance_ratio_term`): a block whose
-    :func:`nu_bound` (a lower bound of its ratios, times a constant) shows it
+    :func:`~profiler.propagation.hull.nu_bound` (a lower bound of its ratios, times a constant) shows it
     cannot hold a smaller ratio is skipped.  The blocks are scanned first
     where the previous link's worst ratio was, so the bound prunes from the
     start; the samples after the last whole block are always scanned.
@@ -486,15 +395,15 @@ def _ratio_hull_kernels(key: str):
         p = d / (2.0 * ae_m) - (b - a) / d
         k = 0
         while k < full:
-            size, top = pruning_unit(tops, k, full)
+            size, top = _pruning_unit(tops, k, full, GROUP)
             s = 1 + k * BLOCK
-            if -scale * nu_bound(top, p, a, x[s], x[s + size * BLOCK - 1], d) > best + 1e-9 * (1.0 + abs(best)):
+            if -scale * _nu_bound(top, p, a, x[s], x[s + size * BLOCK - 1], d) > best + 1e-9 * (1.0 + abs(best)):
                 k += size   # no ratio of these blocks is below the worst found
                 continue
             k_end = k + size
             while k < k_end:
                 s = 1 + k * BLOCK
-                if k != hint and (size == 1 or -scale * nu_bound(tops[0, k], p, a, x[s], x[s + BLOCK - 1], d)
+                if k != hint and (size == 1 or -scale * _nu_bound(tops[0, k], p, a, x[s], x[s + BLOCK - 1], d)
                                   <= best + 1e-9 * (1.0 + abs(best))):
                     v = ratio_scan(x, t, s, s + BLOCK, d, a, b, wavelength_m, ae_m)
                     if v < best:
@@ -508,7 +417,7 @@ def _ratio_hull_kernels(key: str):
         for r in numba.prange(d_m.shape[0]):
             x, t, a = d_m[r], t_m[r], h_a[r]
             y = t - x * x / (2.0 * ae_m)   # the heights less the parabola: the same for every node
-            tops = block_tops(y, n[r])
+            tops = _block_tops(y, n[r], BLOCK, GROUP)
             vertex = np.empty(max(n[r], 1), np.int64)
             m = 0
             hint = 0
@@ -529,9 +438,9 @@ def _ratio_hull_kernels(key: str):
     return geometry_hull_kernel
 
 
-_geometry_kernel, _bullington_kernel = _kernels(fingerprint())
-_geometry_hull_kernel = _ratio_hull_kernels(fingerprint())
-_bullington_hull_kernel = _hull_kernels(fingerprint())
+_geometry_kernel, _bullington_kernel = _kernels(fingerprint(_TERMS))
+_geometry_hull_kernel = _ratio_hull_kernels(fingerprint(_TERMS))
+_bullington_hull_kernel = _hull_kernels(fingerprint(_TERMS))
 LAUNCH = threading.Lock()
 """One kernel launch at a time per process: numba's default (workqueue) threading layer aborts on concurrent
 launches from several threads (a Dask worker with more than one thread); each launch uses every core anyway."""

@@ -111,8 +111,9 @@ def test_a_sample_with_land_cover_equals_profiler_link_with_land_cover(pair):
 
 @pytest.mark.parametrize("model", ["p1812", "terrain"])
 def test_kernel_equals_the_numpy_prefix_batches_with_land_cover(model):
-    from profiler.products.coverage.map import _settings, radial_clutter
+    from profiler.products.coverage.map import _settings
     from profiler.products.coverage.radials import radial_fields, sample_radials
+    from profiler.products.coverage.sectors import radial_clutter
     from profiler.terrain.elevation import ElevationModel
     from profiler.terrain.landcover import LandCover, worldcover_mapping
 
@@ -128,6 +129,17 @@ def test_kernel_equals_the_numpy_prefix_batches_with_land_cover(model):
                             clutter) for kernel in (True, False)]
     for band in ("path_loss_db", "margin_db", "probability_heard", "location_sigma_db"):
         np.testing.assert_allclose(fields[0][band], fields[1][band], atol=1e-6, rtol=0, equal_nan=True)
+
+
+def test_moved_sector_names_warn_from_the_old_module():
+    """radial_clutter and the sector sizes moved from coverage.map to coverage.sectors: still reached, with a warning."""
+    from profiler.products.coverage import map as cmap
+    from profiler.products.coverage import sectors
+
+    with pytest.warns(DeprecationWarning, match="coverage.sectors.radial_clutter"):
+        assert cmap.radial_clutter is sectors.radial_clutter
+    with pytest.raises(AttributeError):
+        cmap.no_such_name
 
 
 def test_radial_sample_positions_are_the_direct_geodesic_problem():

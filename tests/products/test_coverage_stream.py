@@ -107,10 +107,11 @@ def test_peak_memory_stays_within_the_budget_plus_one_sector(tmp_path, monkeypat
     import functools
 
     from profiler.products.coverage import map as cmap
+    from profiler.products.coverage import sectors
     from profiler.products.coverage.grid import Gateway
     from profiler.terrain.elevation import ElevationModel
 
-    monkeypatch.setattr(cmap, "RADIALS_PER_CHUNK", 16)   # sectors small against this map (as on a large one)
+    monkeypatch.setattr(sectors, "RADIALS_PER_CHUNK", 16)   # sectors small against this map (as on a large one)
     kw = dict(dem=DEM, mast_m=10.0, radius_km=5.0, resolution_m=15.0, progress=False)
     coverage(GATEWAY, **{**kw, "radius_km": 0.5})   # imports and compiled kernels out of the measurement
     budget_mb = 2.0
@@ -119,11 +120,11 @@ def test_peak_memory_stays_within_the_budget_plus_one_sector(tmp_path, monkeypat
     n_radials = cmap.radial_count(radius_m, 15.0)
     gw = Gateway(name="g", lat_deg=GATEWAY[0], lon_deg=GATEWAY[1], mast_m=10.0)
     with ElevationModel.open([str(p) for p in DEM]) as model:
-        job = functools.partial(cmap._sector_job, settings=settings, n_radials=n_radials, radius_m=radius_m,
+        job = functools.partial(sectors.sector_job, settings=settings, n_radials=n_radials, radius_m=radius_m,
                                 step_m=step_m, node_mast_m=1.5, model=model)
         n_full = math.ceil(radius_m / step_m) + 1
-        sector_mb = _peak_mb(lambda: job((gw, np.arange(cmap.sector_radials(n_full)), None)))
-    bound = budget_mb + cmap._cores() * sector_mb + 4.0
+        sector_mb = _peak_mb(lambda: job((gw, np.arange(sectors.sector_radials(n_full)), None)))
+    bound = budget_mb + sectors.cores() * sector_mb + 4.0
     streamed = _peak_mb(lambda: coverage(GATEWAY, **kw, max_memory_mb=budget_mb, out=tmp_path / "s.tif"))
     in_memory = _peak_mb(lambda: coverage(GATEWAY, **kw))
     assert streamed <= bound, (streamed, bound)

@@ -50,10 +50,11 @@ from . import geometry
 from .reductions import Reducer, documented
 
 _TERMS = ((geometry, ("elevation_tangent_term", "elevation_mrad_term", "trans_horizon", "roughness_term")),
-          (diffraction_engine, ("bulge_km_term", "obstacle_term", "v_unit_term")), (hull, ("upper_hull_push",)))
+          (diffraction_engine, ("bulge_km_term", "obstacle_term", "v_unit_term")),
+          (hull, ("upper_hull_push", "block_tops", "pruning_unit", "nu_bound")))
 _G, _D, _H = (prefix_kernel.compile_terms(module, names) for module, names in _TERMS)
 _push = _H["upper_hull_push"]
-_block_tops, _nu_bound, _pruning_unit = prefix_kernel.block_tops, prefix_kernel.nu_bound, prefix_kernel.pruning_unit
+_block_tops, _nu_bound, _pruning_unit = _H["block_tops"], _H["nu_bound"], _H["pruning_unit"]
 _tangent, _trans, _roughness = (_G[k] for k in ("elevation_tangent_term", "trans_horizon", "roughness_term"))
 _bulge_km, _v_unit = _D["bulge_km_term"], _D["v_unit_term"]
 
@@ -88,7 +89,7 @@ def _horizon_kernels(key: str):
     largest ν (eq. (16)), which is no tangent, so it keeps its loop.
     """
     fastmath = prefix_kernel.FASTMATH
-    block = prefix_kernel.BLOCK
+    block, group = prefix_kernel.BLOCK, prefix_kernel.GROUP
 
     @numba.njit(cache=True, fastmath=fastmath)
     def nu_argmax(d_km, h_m, j, a, b, ae_km):   # pragma: no cover (compiled)
@@ -128,7 +129,7 @@ def _horizon_kernels(key: str):
         p = 500.0 / ae_km * d - (b - a) / d
         k = 0
         while k < full:
-            size, top = _pruning_unit(tops, k, full)
+            size, top = _pruning_unit(tops, k, full, group)
             s = 1 + k * block
             if _nu_bound(top, p, a, x[s], x[s + size * block - 1], d) < best - 1e-9 * (1.0 + abs(best)):
                 k += size
@@ -176,7 +177,7 @@ def _horizon_kernels(key: str):
             a = site[r]
             x = d_km[r]
             y = h_m[r] - c * x * x   # the heights less the parabola: the same for every node
-            tops = _block_tops(y, n[r])
+            tops = _block_tops(y, n[r], block, group)
             hint = 0
             vertex = np.empty(max(n[r], 1), dtype=np.int64)
             m = 0
@@ -263,7 +264,7 @@ def _kernels(key: str):
     def roughness_kernel(d_km, h_m, n, first, last, hst, slope, need, out):   # pragma: no cover (compiled)
         _key = key   # noqa: F841 (the cache key)
         for r in numba.prange(d_km.shape[0]):
-            tops = _block_tops(h_m[r], n[r])
+            tops = _block_tops(h_m[r], n[r], block, group)
             hint = 0
             for j in range(2, n[r]):
                 if need[r, j]:
