@@ -132,7 +132,7 @@ def test_kernel_equals_the_numpy_prefix_batches_with_land_cover(model):
 
 
 def test_moved_sector_names_warn_from_the_old_module():
-    """radial_clutter and the sector sizes moved from coverage.map to coverage.sectors: still reached, with a warning."""
+    """radial_clutter and the sector sizes moved from coverage.map to coverage.sectors: reached, with a warning."""
     from profiler.products.coverage import map as cmap
     from profiler.products.coverage import sectors
 
