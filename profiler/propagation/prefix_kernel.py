@@ -35,8 +35,10 @@ References
 
 from __future__ import annotations
 
+import hashlib
 import math
 import threading
+from pathlib import Path
 
 import numba
 import numpy as np
@@ -126,6 +128,61 @@ def _kernels(key: str):
     return geometry_kernel, bullington_kernel
 
 
+@numba.njit(cache=True, fastmath=FASTMATH)
+def nu_scan(x, g, s, e, d, a, b, ae_km):   # pragma: no cover (compiled)
+    """Largest ν (eq. 16, times sqrt(λ)) over samples ``s`` to ``e - 1`` of the link ending at ``d`` and its first
+    sample ``(value, index)``."""
+    best = -np.inf
+    at = s
+    for i in range(s, e):
+        nu = _v_unit(g[i] + _bulge_km(x[i], d - x[i], ae_km), a, b, x[i], d - x[i], d)
+        if nu > best:
+            best, at = nu, i
+    return best, at
+
+
+@numba.njit(cache=True, fastmath=FASTMATH)
+def nu_argmax_blocks(x, g, tops, j, a, b, ae_km, hint):   # pragma: no cover (compiled)
+    """Largest ν over the samples ``0 < i < j`` and its first sample, as the loop over every sample gives them.
+
+    The samples after the last whole block and the block ``hint`` (the
+    previous link's) are scanned first; then a group of blocks, or a block,
+    whose :func:`profiler.propagation.hull.nu_bound` (``tops`` of
+    :func:`profiler.propagation.hull.block_tops` over ``g - c x^2``) is below
+    the best found beyond a slack holds neither a larger ν nor a tie, and is
+    skipped.  ``(value, index)``; used by the Bullington pass here and the
+    P.1812 horizons (:mod:`profiler.propagation.p1812.prefix`).
+    """
+    d = x[j]
+    full = (j - 1) // BLOCK
+    best, at = nu_scan(x, g, 1 + full * BLOCK, j, d, a, b, ae_km)
+    if hint < full:
+        v, i = nu_scan(x, g, 1 + hint * BLOCK, 1 + (hint + 1) * BLOCK, d, a, b, ae_km)
+        if v > best or (v == best and i < at):
+            best, at = v, i
+    p = 500.0 / ae_km * d - (b - a) / d
+    k = 0
+    while k < full:
+        size, top = _pruning_unit(tops, k, full, GROUP)
+        s = 1 + k * BLOCK
+        if _nu_bound(top, p, a, x[s], x[s + size * BLOCK - 1], d) < best - 1e-9 * (1.0 + abs(best)):
+            k += size   # no sample of these blocks can beat the best or tie with it
+            continue
+        for q in range(k, k + size):
+            s = 1 + q * BLOCK
+            if q != hint and (size == 1 or _nu_bound(tops[0, q], p, a, x[s], x[s + BLOCK - 1], d)
+                              >= best - 1e-9 * (1.0 + abs(best))):
+                v, i = nu_scan(x, g, s, s + BLOCK, d, a, b, ae_km)
+                if v > best or (v == best and i < at):
+                    best, at = v, i
+        k += size
+    return best, at
+
+
+SOURCE_DIGEST = hashlib.sha256(Path(__file__).read_bytes()).hexdigest()
+"""Digest of this file: part of the cache key of the P.1812 kernels, which call :func:`nu_argmax_blocks`."""
+
+
 def _hull_kernels(key: str):
     """The Bullington pass of every needed prefix by hull queries (closures over ``key``, the cache key).
 
@@ -209,47 +266,6 @@ def _hull_kernels(key: str):
                 hi = mid
         guess[kind], guess[kind + 5] = lo, vertex[lo]
         return term(kind, vertex[lo], x, wg, h, d, a, b, ae_km)
-
-    @numba.njit(cache=True, fastmath=FASTMATH)
-    def nu_scan(x, wg, s, e, d, a, b, ae_km):   # pragma: no cover (compiled)
-        best = -np.inf
-        for i in range(s, e):
-            best = max(best, _v_unit(wg[i] + _bulge_km(x[i], d - x[i], ae_km), a, b, x[i], d - x[i], d))
-        return best
-
-    @numba.njit(cache=True, fastmath=FASTMATH)
-    def nu_max(x, wg, tops, j, d, a, b, ae_km, hint):   # pragma: no cover (compiled)
-        full = (j - 1) // BLOCK   # whole blocks before j; the samples after them are always scanned
-        best, at = nu_scan(x, wg, 1 + full * BLOCK, j, d, a, b, ae_km), full
-        if hint < full:
-            v = nu_scan(x, wg, 1 + hint * BLOCK, 1 + (hint + 1) * BLOCK, d, a, b, ae_km)
-            if v > best:
-                best, at = v, hint
-        p = 500.0 / ae_km * d - (b - a) / d
-        k = 0
-        while k < full:
-            size, top = _pruning_unit(tops, k, full, GROUP)
-            s = 1 + k * BLOCK
-            if _nu_bound(top, p, a, x[s], x[s + size * BLOCK - 1], d) < best - 1e-9 * (1.0 + abs(best)):
-                k += size   # no sample of these blocks can beat the best
-                continue
-            if size > 1:
-                k_end = k + size
-                while k < k_end:   # the blocks of the group one by one
-                    s = 1 + k * BLOCK
-                    if k != hint and _nu_bound(tops[0, k], p, a, x[s], x[s + BLOCK - 1], d) >= \
-                            best - 1e-9 * (1.0 + abs(best)):
-                        v = nu_scan(x, wg, s, s + BLOCK, d, a, b, ae_km)
-                        if v > best:
-                            best, at = v, k
-                    k += 1
-                continue
-            if k != hint:
-                v = nu_scan(x, wg, s, s + BLOCK, d, a, b, ae_km)
-                if v > best:
-                    best, at = v, k
-            k += 1
-        return best, at
 
     @numba.njit(cache=True, fastmath=FASTMATH)
     def smooth_nu(x, j, d, a, b, ae_km, start):   # pragma: no cover (compiled)
@@ -341,7 +357,8 @@ def _hull_kernels(key: str):
                 if not actual and a >= 0.0 and b >= 0.0:
                     out[2, r, j], peak = smooth_nu(x, j, d, a, b, ae_km, peak)
                 else:
-                    out[2, r, j], hint = nu_max(x, wg, tops, j, d, a, b, ae_km, hint)
+                    out[2, r, j], at = nu_argmax_blocks(x, wg, tops, j, a, b, ae_km, hint)
+                    hint = (at - 1) // BLOCK
 
     return bullington_hull_kernel
 

@@ -51,10 +51,11 @@ from .reductions import Reducer, documented
 
 _TERMS = ((geometry, ("elevation_tangent_term", "elevation_mrad_term", "trans_horizon", "roughness_term")),
           (diffraction_engine, ("bulge_km_term", "obstacle_term", "v_unit_term")),
-          (hull, ("upper_hull_push", "block_tops", "pruning_unit", "nu_bound")))
+          (hull, ("upper_hull_push", "block_tops")))
 _G, _D, _H = (prefix_kernel.compile_terms(module, names) for module, names in _TERMS)
 _push = _H["upper_hull_push"]
-_block_tops, _nu_bound, _pruning_unit = _H["block_tops"], _H["nu_bound"], _H["pruning_unit"]
+_block_tops = _H["block_tops"]
+_nu_argmax_blocks = prefix_kernel.nu_argmax_blocks
 _tangent, _trans, _roughness = (_G[k] for k in ("elevation_tangent_term", "trans_horizon", "roughness_term"))
 _bulge_km, _v_unit = _D["bulge_km_term"], _D["v_unit_term"]
 
@@ -102,46 +103,6 @@ def _horizon_kernels(key: str):
             nu = _v_unit(h_m[i] + _bulge_km(di, dd, ae_km), a, b, di, dd, d)
             if nu > best:
                 best, at = nu, i
-        return best, at
-
-    @numba.njit(cache=True, fastmath=fastmath)
-    def nu_scan(x, h, s, e, d, a, b, ae_km):   # pragma: no cover (compiled)
-        best = -np.inf
-        at = s
-        for i in range(s, e):
-            nu = _v_unit(h[i] + _bulge_km(x[i], d - x[i], ae_km), a, b, x[i], d - x[i], d)
-            if nu > best:
-                best, at = nu, i
-        return best, at
-
-    @numba.njit(cache=True, fastmath=fastmath)
-    def nu_argmax_pruned(x, h, tops, j, a, b, ae_km, hint):   # pragma: no cover (compiled)
-        # nu_argmax over the blocks a bound keeps (the first sample of the largest ν, as the loop): blocks of
-        # prefix_kernel.BLOCK samples and groups of them whose prefix_kernel.nu_bound is below the best found
-        # cannot hold it nor a tie
-        d = x[j]
-        full = (j - 1) // block
-        best, at = nu_scan(x, h, 1 + full * block, j, d, a, b, ae_km)
-        if hint < full:
-            v, i = nu_scan(x, h, 1 + hint * block, 1 + (hint + 1) * block, d, a, b, ae_km)
-            if v > best or (v == best and i < at):
-                best, at = v, i
-        p = 500.0 / ae_km * d - (b - a) / d
-        k = 0
-        while k < full:
-            size, top = _pruning_unit(tops, k, full, group)
-            s = 1 + k * block
-            if _nu_bound(top, p, a, x[s], x[s + size * block - 1], d) < best - 1e-9 * (1.0 + abs(best)):
-                k += size
-                continue
-            for q in range(k, k + size):
-                s = 1 + q * block
-                if q != hint and (size == 1 or _nu_bound(tops[0, q], p, a, x[s], x[s + block - 1], d)
-                                  >= best - 1e-9 * (1.0 + abs(best))):
-                    v, i = nu_scan(x, h, s, s + block, d, a, b, ae_km)
-                    if v > best or (v == best and i < at):
-                        best, at = v, i
-            k += size
         return best, at
 
     @numba.njit(cache=True, parallel=True, nogil=True, fastmath=fastmath)
@@ -203,7 +164,7 @@ def _horizon_kernels(key: str):
                     at = vertex[lo]
                     best = _tangent(h_m[r, at] - b, d - x[at], ae_km)
                 else:
-                    best, at = nu_argmax_pruned(x, h_m[r], tops, j, a, b, ae_km, hint)
+                    best, at = _nu_argmax_blocks(x, h_m[r], tops, j, a, b, ae_km, hint)
                     hint = (at - 1) // block
                 tangents[0, r, j], tangents[1, r, j] = t_max, best
                 index[0, r, j], index[1, r, j] = it, at
@@ -281,7 +242,8 @@ def _kernels(key: str):
     return roughness_kernel, roughness_kernel_reference
 
 
-_horizon_kernel, _horizon_kernel_reference = _horizon_kernels(prefix_kernel.fingerprint(_TERMS))
+_horizon_kernel, _horizon_kernel_reference = _horizon_kernels(prefix_kernel.fingerprint(_TERMS)
+                                                              + prefix_kernel.SOURCE_DIGEST)
 _roughness_kernel, _roughness_kernel_reference = _kernels(prefix_kernel.fingerprint(_TERMS))
 
 
