@@ -429,8 +429,9 @@ def radio_batch(d, terrain, n, h_a, h_b, frequency_mhz, ae, radio: RadioSettings
         these links (:func:`profiler.propagation.diffraction_batch.diffraction_reductions`);
         then ``d``, ``terrain`` and ``n`` may be None (``profiler coverage``).
     informative : bool
-        With False and ``--diffraction none``, skip the diffraction models
-        whose values are only informative (batch callers report none).
+        With False, skip what only a link's report shows: with
+        ``--diffraction none`` the diffraction models, and with a regional
+        plan the per-SF table ``per_sf`` (batch callers report neither).
     paths : dict, optional
         Terminal coordinates and clutter/zone columns for ``--model p1812``
         (:func:`profiler.engine.losses.path_loss_batch`).
@@ -444,7 +445,7 @@ def radio_batch(d, terrain, n, h_a, h_b, frequency_mhz, ae, radio: RadioSettings
         ``uplink`` and ``downlink`` (rx power, the budget's margin, sf, bw,
         dr and sensitivity; with a plan also the per-DR arrays, the rules and
         the recommended index), ``rx2`` (with a plan), ``per_sf`` (uplink
-        margins for SF7-SF12 at --bw-khz), ``phy_bytes``, ``app_bytes``,
+        margins for SF7-SF12 at --bw-khz; not with ``informative=False`` and a plan), ``phy_bytes``, ``app_bytes``,
         ``dwell_ms``, ``downlink_frequency_mhz``.  Powers [dBm], losses and
         margins [dB], frequencies [MHz], times [ms], payloads [byte].
 
@@ -478,10 +479,12 @@ def radio_batch(d, terrain, n, h_a, h_b, frequency_mhz, ae, radio: RadioSettings
            "dwell_ms": dwell, "downlink_frequency_mhz": f_down}
     sf_axis = np.asarray(lora_modem.LORA_SPREADING_FACTORS)
     up_rx = _rx_power(node, gw, losses[frequency_mhz]["total"])
-    per_sf_sens = lora_modem.lora_sensitivity_batch_dbm(sf_axis[None, :], radio.bw_khz,
-                                                       gw["noise_figure_db"][:, None])
-    out["per_sf"] = {"sensitivity_dbm": per_sf_sens, "margin_db": up_rx[:, None] - per_sf_sens}
-    if plan is not None and radio.sensitivity_dbm is None:
+    by_plan = plan is not None and radio.sensitivity_dbm is None
+    if informative or not by_plan:   # the per-SF table: a link's report, or the budget without a plan
+        per_sf_sens = lora_modem.lora_sensitivity_batch_dbm(sf_axis[None, :], radio.bw_khz,
+                                                           gw["noise_figure_db"][:, None])
+        out["per_sf"] = {"sensitivity_dbm": per_sf_sens, "margin_db": up_rx[:, None] - per_sf_sens}
+    if by_plan:
         out["uplink"] = _direction_batch(plan, radio, "uplink", node, gw, losses[frequency_mhz]["total"],
                                          frequency_mhz, phy, app, dwell)
         out["downlink"] = _direction_batch(plan, radio, "downlink", gw, node, losses[f_down]["total"],
