@@ -241,8 +241,9 @@ def coverage(site=None, *, dem, mast_m=None, name="site", sites=None, radius_km:
     mapping = class_mapping_for(land_cover, land_cover_classes)
     land = None if mapping is None else (land_cover_paths(land_cover), mapping)
     radius_m = float(radius_km) * 1000.0
+    # the land cover opened here only to refuse a bad file before any work: the sector threads open their own
     with ElevationModel.open(list(settings.dem_paths)) as model, \
-            (contextlib.nullcontext() if land is None else LandCover.open(land[0])) as cover:
+            (contextlib.nullcontext() if land is None else LandCover.open(land[0])):
         lon_g = np.array([g.lon_deg for g in gateways])
         lat_g = np.array([g.lat_deg for g in gateways])
         outside = ~np.asarray(model.covers(lon_g, lat_g))
@@ -255,7 +256,7 @@ def coverage(site=None, *, dem, mast_m=None, name="site", sites=None, radius_km:
         grid = make_grid(gateways, radius_m, res)
         run = functools.partial(_stream if _streams(grid, gateways, radius_m, res, settings, max_memory_mb)
                                 else _in_memory, model, settings, gateways, grid, radius_m, res, float(node_mast_m),
-                                workers, scheduler, progress, kernel, cover, land, composite_run=sites is not None,
+                                workers, scheduler, progress, kernel, land, composite_run=sites is not None,
                                 max_memory_mb=max_memory_mb, stream_dir=stream_dir)
         bands, counts, sweep, geotiff_path = run()
         sources = model.provenance(model.sources_used(lon_g, lat_g))
@@ -300,7 +301,7 @@ def _streams(grid, gateways, radius_m, res, settings, max_memory_mb) -> bool:
 
 
 def _stream(model, settings, gateways, grid, radius_m, res, node_mast_m, workers, scheduler, progress, kernel,
-            cover, land, composite_run, max_memory_mb, stream_dir):
+            land, composite_run, max_memory_mb, stream_dir):
     """A run over its memory budget: each gateway's sectors to disk in batches, then the GeoTIFF tile by tile.
 
     Holds at most about half the budget in sector results (at least one sector) and half in a tile of
@@ -400,12 +401,12 @@ def _no_pixel(counts) -> None:
 
 
 def _in_memory(model, settings, gateways, grid, radius_m, res, node_mast_m, workers, scheduler, progress, kernel,
-               cover, land, composite_run, **_):
+               land, composite_run, **_):
     """The whole grid in memory: ``(bands, counts, sweep record, None)``."""
     with ThreadPoolExecutor(1) as pool:   # pyproj releases the GIL: the pixel positions overlap the sweep
         positions = pool.submit(grid.lon_lat)
-        running, inside_any, sweep = _sweep(model, settings, gateways, grid, radius_m, res, node_mast_m, workers,
-                                            scheduler, progress, kernel, cover, land)
+        running, inside_any, sweep = _sweep(settings, gateways, grid, radius_m, res, node_mast_m, workers,
+                                            scheduler, progress, kernel, land)
         lon, lat = positions.result()
     outside_data = ~np.asarray(model.covers(lon, lat))
     bands, heard_by_gateways = combine_bands(running, composite_run, outside_data)
@@ -462,8 +463,8 @@ def _settings(dem, band, frequency_mhz, k_factor, clearance_ratio, fill_voids, r
                            step_m=None, fill_voids=bool(fill_voids), radio=radio)
 
 
-def _sweep(model, settings, gateways, grid, radius_m, res, node_mast_m, workers, scheduler, progress, kernel=None,
-           cover=None, land=None):
+def _sweep(settings, gateways, grid, radius_m, res, node_mast_m, workers, scheduler, progress, kernel=None,
+           land=None):
     """Every gateway's radial sectors through the engine (the tasks), then onto the grid."""
     from ...engine.cluster import chunked
 
