@@ -108,8 +108,7 @@ def link_fields(d, terrain, n, h_a, h_b, settings: NetworkSettings, overrides=No
                               _node_height_m(terrain, n, h_a, h_b, radio) if node_height_m is None else node_height_m)}
     if "recommended" in up:
         out["recommended_dr"] = np.where(up["recommended"] >= 0, up["dr"], -1)
-        allowed = up["rules"]["allowed"]
-        out["max_margin_db"] = np.max(np.where(allowed, up["margin_db"], -np.inf), axis=1)
+        out["max_margin_db"] = up["max_margin_db"]
     else:
         out["recommended_dr"] = np.full(margin_up.shape, -1)
         out["max_margin_db"] = margin_up

@@ -377,11 +377,20 @@ def _rx_power(tx, rx, loss_total):
         + rx["gain_dbi"] - rx["cable_loss_db"]
 
 
-def _direction_batch(plan, radio, direction, tx, rx, loss_total, frequency_mhz, phy, app, dwell):
-    """Per-DR margins, the recommended DR and the budget's (sf, bw, dr, sensitivity) for one direction."""
+def _direction_batch(plan, radio, direction, tx, rx, loss_total, frequency_mhz, phy, app, dwell, tables=True):
+    """Per-DR margins, the recommended DR and the budget's (sf, bw, dr, sensitivity) for one direction.
+
+    ``tables=False``: no per-DR tables (``sensitivity_dbm``, ``margin_db`` and ``closes`` None), the largest
+    allowed margin ``max_margin_db`` instead (:func:`profiler.lora.lorawan.dr_best`, the same numbers).
+    """
     rules = lorawan.dr_rules(plan, direction, phy, app, dwell, frequency_mhz)
     p_rx = _rx_power(tx, rx, loss_total)
-    sens, margin, closes, rec = lorawan.dr_margins(p_rx, rules, rx["noise_figure_db"], radio.fade_margin_db)
+    if tables:
+        sens, margin, closes, rec = lorawan.dr_margins(p_rx, rules, rx["noise_figure_db"], radio.fade_margin_db)
+        best_margin = np.max(np.where(rules["allowed"], margin, -np.inf), axis=-1)
+    else:
+        sens = margin = closes = None
+        rec, best_margin = lorawan.dr_best(p_rx, rules, rx["noise_figure_db"], radio.fade_margin_db)
     if radio.sf is not None:
         sf = np.full(rec.shape, int(radio.sf))
         bw = np.full(rec.shape, float(radio.bw_khz))
@@ -394,7 +403,7 @@ def _direction_batch(plan, radio, direction, tx, rx, loss_total, frequency_mhz, 
         idx = np.where(rec >= 0, rec, fallback)
         sf, bw, dr = rules["sf"][idx], rules["bw_khz"][idx], rules["dr"][idx]
     return {"rules": rules, "rx_power_dbm": p_rx, "sensitivity_dbm": sens, "margin_db": margin,
-            "closes": closes, "recommended": rec, "sf": sf, "bw_khz": bw, "dr": dr,
+            "closes": closes, "recommended": rec, "max_margin_db": best_margin, "sf": sf, "bw_khz": bw, "dr": dr,
             "budget_sensitivity_dbm": lora_modem.lora_sensitivity_batch_dbm(sf, bw, rx["noise_figure_db"])}
 
 
@@ -431,7 +440,8 @@ def radio_batch(d, terrain, n, h_a, h_b, frequency_mhz, ae, radio: RadioSettings
     informative : bool
         With False, skip what only a link's report shows: with
         ``--diffraction none`` the diffraction models, and with a regional
-        plan the per-SF table ``per_sf`` (batch callers report neither).
+        plan the per-SF table ``per_sf`` and the per-DR tables of each
+        direction (batch callers report neither).
     paths : dict, optional
         Terminal coordinates and clutter/zone columns for ``--model p1812``
         (:func:`profiler.engine.losses.path_loss_batch`).
@@ -443,8 +453,9 @@ def radio_batch(d, terrain, n, h_a, h_b, frequency_mhz, ae, radio: RadioSettings
         ({frequency: named P.1812-8 values}, with ``--model p1812``), ``terminals``
         ({frequency: the terminals of :func:`profiler.engine.losses.path_loss_batch`}), ``ends``, ``cap_notes``,
         ``uplink`` and ``downlink`` (rx power, the budget's margin, sf, bw,
-        dr and sensitivity; with a plan also the per-DR arrays, the rules and
-        the recommended index), ``rx2`` (with a plan), ``per_sf`` (uplink
+        dr and sensitivity; with a plan also the rules, the recommended
+        index, the largest allowed margin ``max_margin_db`` and the per-DR
+        arrays, None with ``informative=False``), ``rx2`` (with a plan), ``per_sf`` (uplink
         margins for SF7-SF12 at --bw-khz; not with ``informative=False`` and a plan), ``phy_bytes``, ``app_bytes``,
         ``dwell_ms``, ``downlink_frequency_mhz``.  Powers [dBm], losses and
         margins [dB], frequencies [MHz], times [ms], payloads [byte].
@@ -486,9 +497,9 @@ def radio_batch(d, terrain, n, h_a, h_b, frequency_mhz, ae, radio: RadioSettings
         out["per_sf"] = {"sensitivity_dbm": per_sf_sens, "margin_db": up_rx[:, None] - per_sf_sens}
     if by_plan:
         out["uplink"] = _direction_batch(plan, radio, "uplink", node, gw, losses[frequency_mhz]["total"],
-                                         frequency_mhz, phy, app, dwell)
+                                         frequency_mhz, phy, app, dwell, informative)
         out["downlink"] = _direction_batch(plan, radio, "downlink", gw, node, losses[f_down]["total"],
-                                           f_down, phy, app, dwell)
+                                           f_down, phy, app, dwell, informative)
         if rx2:
             sf2, bw2 = plan.data_rates[plan.rx2_dr]
             s2 = lora_modem.lora_sensitivity_batch_dbm(sf2, bw2, node["noise_figure_db"])

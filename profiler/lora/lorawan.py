@@ -241,6 +241,71 @@ def dr_margins(rx_power_dbm, rules: dict, noise_figure_db, fade_margin_db):
     return sens, margin, closes, np.where(ok, best, -1)
 
 
+def dr_best(rx_power_dbm, rules: dict, noise_figure_db, fade_margin_db):
+    """The recommended DR and the largest margin over the allowed DRs, without the per-DR tables.
+
+    The same two results as :func:`dr_margins` (its ``recommended`` and the
+    maximum of its ``margin_db`` over the allowed DRs), bit for bit, for
+    batch callers that need no per-DR table.  With one noise figure for
+    every link each DR closes above one received power: the least power
+    ``P`` with ``P - S >= fade`` in floating point (the subtraction is
+    monotone in ``P``), found from ``fade + S`` by a few neighbouring
+    floats.  Taken in the order of :func:`dr_margins` (fastest first, the
+    lower index first among equal bit rates), the running minimum of those
+    powers is non-increasing, so the first DR that closes is a binary
+    search; the largest margin is the power minus the lowest allowed
+    sensitivity.  Several noise figures fall back to the tables.
+
+    Parameters
+    ----------
+    rx_power_dbm : float or ndarray, shape (L,)
+        Power at the receiver input [dBm].
+    rules : dict
+        Output of :func:`dr_rules`.
+    noise_figure_db : float or ndarray, shape (L,)
+        Receiver noise figure [dB].
+    fade_margin_db : float
+        Margin the link must keep [dB].
+
+    Returns
+    -------
+    recommended : ndarray of int, shape (L,)
+        Index (into the DR axis) of the fastest allowed DR that closes; -1
+        where none does.
+    max_margin_db : ndarray, shape (L,)
+        Largest margin over the allowed DRs [dB]; -inf when none is allowed.
+
+    References
+    ----------
+    .. [1] RP002-1.0.4, the plan's data-rate table; the sensitivity of
+       :func:`profiler.lora.modem.lora_sensitivity_dbm`.
+    """
+    p = np.asarray(rx_power_dbm, dtype=float)
+    nf = np.broadcast_to(np.asarray(noise_figure_db, dtype=float), p.shape)
+    allowed = np.asarray(rules["allowed"], dtype=bool)
+    if nf.size and not np.all(nf == nf.flat[0]):
+        _, margin, _, rec = dr_margins(p, rules, nf, fade_margin_db)
+        return rec, np.max(np.where(allowed, margin, -np.inf), axis=-1)
+    nf0 = float(nf.flat[0]) if nf.size else 0.0
+    sens = lora_modem.lora_sensitivity_batch_dbm(rules["sf"], rules["bw_khz"], nf0)
+    if not allowed.any():
+        return np.full(p.shape, -1), np.full(p.shape, -np.inf)
+    order = np.argsort(-np.asarray(rules["bitrate_bps"], dtype=float), kind="stable")
+    order = order[allowed[order]]
+    fade = float(fade_margin_db)
+    least = np.empty(order.size)
+    for i, s in enumerate(sens[order].tolist()):   # a few DRs: the least power that keeps the fade margin
+        t = fade + s
+        while not t - s >= fade:
+            t = math.nextafter(t, math.inf)
+        while math.nextafter(t, -math.inf) - s >= fade:
+            t = math.nextafter(t, -math.inf)
+        least[i] = t
+    first = np.searchsorted(-np.minimum.accumulate(least), -p, side="left")
+    rec = np.where(first < order.size, order[np.minimum(first, order.size - 1)], -1)
+    return rec, p - float(np.min(sens[allowed]))
+
+
 def slowest_allowed(rules: dict) -> int:
     """Index of the slowest allowed DR (the fallback when none closes); -1 when none is allowed.
 

@@ -141,7 +141,6 @@ def spherical_earth_db(d_km, hts_m, hrs_m, ae_km, f_ghz, wavelength_m, vertical,
     """
     d, hts, hrs, ae = np.broadcast_arrays(*(np.asarray(x, dtype=float) for x in (d_km, hts_m, hrs_m, ae_km)))
     dlos = np.sqrt(2.0 * ae) * (np.sqrt(0.001 * hts) + np.sqrt(0.001 * hrs))          # eq. (23)
-    beyond = first_term_db(d, hts, hrs, ae, f_ghz, vertical, sea_fraction)          # eq. (24)
     with np.errstate(divide="ignore", invalid="ignore"):
         hsum = np.where(hts + hrs > 0, hts + hrs, 1.0)
         c = (hts - hrs) / hsum                                                        # eq. (25)
@@ -155,8 +154,9 @@ def spherical_earth_db(d_km, hts_m, hrs_m, ae_km, f_ghz, wavelength_m, vertical,
         hreq = 17.456 * np.sqrt(dse1 * dse2 * wavelength_m / d)                       # eq. (30)
         root = np.sqrt(hts) + np.sqrt(hrs)
         aem = 500.0 * (d / np.where(root > 0, root, 1.0)) ** 2                         # eq. (31)
-    ldft = first_term_db(d, hts, hrs, aem, f_ghz, vertical, sea_fraction)
+    beyond = d >= dlos   # eq. (24): the first term at ae; within the horizon, at aem (eq. 31) in eq. (32)
+    ldft = first_term_db(d, hts, hrs, np.where(beyond, ae, aem), f_ghz, vertical, sea_fraction)
     with np.errstate(divide="ignore", invalid="ignore"):
         inside = np.where(hreq <= 0.0, ldft, (1.0 - hse / np.where(hreq > 0, hreq, 1.0)) * ldft)  # eq. (32)
     inside = np.where((hse > hreq) | (ldft < 0.0), 0.0, inside)
-    return np.where(d >= dlos, beyond, inside)
+    return np.where(beyond, ldft, inside)

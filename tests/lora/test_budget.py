@@ -398,3 +398,30 @@ def test_lora_table_rejects_bad_input():
         lora_table(-120.0, 100, 6.0, 12, 10.0)
     with pytest.raises(ProfilerError):
         lora_table(-120.0, 125, 6.0, 12, -1.0)
+
+
+@pytest.mark.parametrize("band", ["EU868", "US915", "AS923", "IN865"])
+@pytest.mark.parametrize("direction", ["uplink", "downlink"])
+@pytest.mark.parametrize("fade_db", [0.0, 7.3])
+def test_dr_best_equals_the_per_dr_tables(band, direction, fade_db):
+    """The batch shortcut (no per-DR tables) gives the recommended DR and the largest allowed margin of the tables
+    bit for bit, also at powers exactly on and one float below each DR's threshold (the reference is the per-DR
+    table of dr_margins: sensitivity -174 + 10 log10(BW) + NF + SNR_min, ITU-R P.372 kT0)."""
+    from profiler.lora import lorawan
+    from profiler.lora.regional import plan
+
+    rules = lorawan.dr_rules(plan(band), direction, 24, 11, None, 868.1 if band == "EU868" else 915.0)
+    sens = lora_modem.lora_sensitivity_batch_dbm(rules["sf"], rules["bw_khz"], 6.0)
+    edge = sens + fade_db
+    power = np.concatenate([np.random.default_rng(7).uniform(-150.0, -100.0, 5000), [np.nan, np.inf, -np.inf],
+                            edge, np.nextafter(edge, -np.inf), np.nextafter(edge, np.inf)])
+    _, margin, _, rec = lorawan.dr_margins(power, rules, np.full(power.size, 6.0), fade_db)
+    best = np.max(np.where(rules["allowed"], margin, -np.inf), axis=1)
+    rec2, best2 = lorawan.dr_best(power, rules, 6.0, fade_db)
+    assert np.array_equal(rec2, rec) and (rec >= 0).any() and (rec < 0).any()
+    assert np.array_equal(best2, best, equal_nan=True)
+    nf = np.where(np.arange(power.size) % 2 == 0, 6.0, 3.0)   # several noise figures: the tables themselves
+    _, margin, _, rec = lorawan.dr_margins(power, rules, nf, fade_db)
+    rec2, best2 = lorawan.dr_best(power, rules, nf, fade_db)
+    assert np.array_equal(rec2, rec)
+    assert np.array_equal(best2, np.max(np.where(rules["allowed"], margin, -np.inf), axis=1), equal_nan=True)
