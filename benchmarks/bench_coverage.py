@@ -206,7 +206,7 @@ def stage_times(kw):
                (prefix_kernel, "worst_ratio_prefixes", "reductions"),
                (prefix_kernel, "bullington_prefixes", "reductions"), (reducer, "horizons", "reductions"),
                (reducer, "roughness", "reductions"), (links, "link_fields", "per-link formulas"),
-               (cov, "pixel_polar", "grid"), (cov, "radial_lookup", "grid"), (cov, "mark_needed", "grid"),
+               (cov, "window_lookup", "grid"), (cov, "mark_needed", "grid"),
                (cov, "to_grid", "grid")]
     saved = [(owner, name, getattr(owner, name)) for owner, name, _ in wrapped]
 

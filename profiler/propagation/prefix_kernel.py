@@ -603,17 +603,19 @@ def prefix_reduce(distance_km, height_m, n, rr, jj, effective_radius_km, bulling
                                                              t[:, :-1], t[:, 1:])
     v1, v2 = np.cumsum(v1_terms, axis=1), np.cumsum(v2_terms, axis=1)   # eqs. (161)-(162) of every prefix
 
+    rr, jj = np.asarray(rr, dtype=np.int64), np.asarray(jj, dtype=np.int64)
+    flat, flat_sums = rr * d_km.shape[1] + jj, rr * v1.shape[1] + jj - 1   # flat indices: take, not [rr, jj]
     need = np.zeros(d_km.shape, dtype=np.bool_)
-    need[rr, jj] = True   # only these links are reduced
+    need.reshape(-1)[flat] = True   # only these links are reduced
 
     def reduce(actual, hts, hrs):
         full_a, full_b = np.zeros(d_km.shape), np.zeros(d_km.shape)
-        full_a[rr, jj], full_b[rr, jj] = hts, hrs
+        full_a.reshape(-1)[flat], full_b.reshape(-1)[flat] = hts, hrs
         red = bullington_prefixes(d_km, t, n, full_a, full_b, effective_radius_km, actual, bullington_height_m, need,
                                   nu_always)
-        res = {k: v[rr, jj] for k, v in red.items()}
+        res = {k: v.reshape(-1).take(flat) for k, v in red.items()}
         if actual:
-            res.update(v1=v1[rr, jj - 1], v2=v2[rr, jj - 1])
+            res.update(v1=v1.reshape(-1).take(flat_sums), v2=v2.reshape(-1).take(flat_sums))
         return res
 
     return reduce

@@ -66,11 +66,12 @@ class CoverageGrid:
     lattice_px: int = 1
     """Pixels between the exactly transformed points of :meth:`lon_lat` (1: every pixel exactly)."""
 
-    def centres(self):
-        """Pixel-centre projected coordinates ``(x, y)`` [m], each (height, width)."""
+    def centres(self, rows=None):
+        """Pixel-centre projected coordinates ``(x, y)`` [m], each (height, width); of rows ``rows[0]:rows[1]``
+        only when given (the same values)."""
         a, _, c, _, e, f = self.transform
         x = c + a * (np.arange(self.width) + 0.5)
-        y = f + e * (np.arange(self.height) + 0.5)
+        y = f + e * (np.arange(*((0, self.height) if rows is None else rows)) + 0.5)
         return np.meshgrid(x, y)
 
     def window(self, row0: int, row1: int, col0: int, col1: int) -> "CoverageGrid":
@@ -210,8 +211,9 @@ def _lattice_px(grid: CoverageGrid, tolerance_px: float = 1e-3) -> int:
     return 1
 
 
-def pixel_polar(grid: CoverageGrid, gw: Gateway):
-    """Geodesic azimuth [deg] and distance [m] from the gateway to every pixel centre.
+def pixel_polar(grid: CoverageGrid, gw: Gateway, rows=None):
+    """Geodesic azimuth [deg] and distance [m] from the gateway to every pixel centre (of rows
+    ``rows[0]:rows[1]`` only when given: the same values).
 
     At the projection's centre they are read off the grid (the
     azimuthal-equidistant projection keeps both exactly [2]_); elsewhere by
@@ -220,9 +222,9 @@ def pixel_polar(grid: CoverageGrid, gw: Gateway):
     from pyproj import Geod
 
     if f"+lat_0={gw.lat_deg:.9f} +lon_0={gw.lon_deg:.9f} " in grid.proj4:
-        x, y = grid.centres()
+        x, y = grid.centres(rows)
         return np.degrees(np.arctan2(x, y)), np.hypot(x, y)
-    lon, lat = grid.lon_lat()
+    lon, lat = (grid if rows is None else grid.window(rows[0], rows[1], 0, grid.width)).lon_lat()
     az, _, dist = Geod(ellps="WGS84").inv(np.full(lon.shape, gw.lon_deg), np.full(lat.shape, gw.lat_deg), lon, lat)
     return np.asarray(az), np.asarray(dist)
 
@@ -232,6 +234,27 @@ def radial_lookup(az, dist, n_radials: int, spacing_m: float, radius_m: float):
     k = np.rint((az % 360.0) / (360.0 / n_radials)).astype(np.int64) % n_radials
     j = np.rint(dist / spacing_m).astype(np.int64)
     return k, j, dist <= radius_m
+
+
+def window_lookup(grid: CoverageGrid, gw: Gateway, n_radials: int, spacing_m: float, radius_m: float,
+                  threads: int = 1):
+    """:func:`radial_lookup` of :func:`pixel_polar` over a grid (a gateway's window), in row bands on ``threads``
+    threads: the same arrays as one call (a pixel's values depend on it alone; numpy and pyproj release the GIL)."""
+    if threads <= 1 or grid.height < 8 * threads:
+        return radial_lookup(*pixel_polar(grid, gw), n_radials, spacing_m, radius_m)
+    from concurrent.futures import ThreadPoolExecutor
+
+    shape = (grid.height, grid.width)
+    k, j, inside = np.empty(shape, dtype=np.int64), np.empty(shape, dtype=np.int64), np.empty(shape, dtype=bool)
+
+    def band(rows):
+        k[rows[0]:rows[1]], j[rows[0]:rows[1]], inside[rows[0]:rows[1]] = radial_lookup(
+            *pixel_polar(grid, gw, rows), n_radials, spacing_m, radius_m)
+
+    edges = np.linspace(0, grid.height, 2 * threads + 1).astype(int).tolist()
+    with ThreadPoolExecutor(threads) as pool:
+        list(pool.map(band, zip(edges[:-1], edges[1:])))
+    return k, j, inside
 
 
 def needed_samples(grid: CoverageGrid, gw: Gateway, n_radials: int, spacing_m: float, radius_m: float,
@@ -263,19 +286,27 @@ def mark_needed(need: np.ndarray, lookup) -> np.ndarray:
     return need
 
 
-def to_grid(parts, lookup, n_radials, n_full):
-    """Per-radial results of one gateway's sectors -> bands on the grid (NaN outside)."""
+def to_grid(parts, lookup, n_radials, n_full, threads: int = 1):
+    """Per-radial results of one gateway's sectors -> bands on the grid (NaN outside); the bands on ``threads``
+    threads (numpy's copies and gathers release the GIL)."""
     k, j, inside = lookup
     n = np.concatenate([p["n"] for p in parts])
-    valid = inside & (j < n[k])
-    flat = k[valid] * n_full + j[valid]   # one index for every band
-    bands = {}
-    for name in band_names(parts[0]):
+    valid = np.flatnonzero(inside & (j < n[k]))
+    flat = k.reshape(-1).take(valid) * n_full + j.reshape(-1).take(valid)   # one index for every band
+
+    def band(name):
         table = np.concatenate([p[name] for p in parts]).reshape(-1)
         grid = np.full(k.shape, np.nan, dtype=np.float32)
-        grid[valid] = table.take(flat)
-        bands[name] = grid
-    return bands
+        grid.reshape(-1)[valid] = table.take(flat)
+        return grid
+
+    names = band_names(parts[0])
+    if threads <= 1:
+        return {name: band(name) for name in names}
+    from concurrent.futures import ThreadPoolExecutor
+
+    with ThreadPoolExecutor(threads) as pool:
+        return dict(zip(names, pool.map(band, names)))
 
 
 class RadialStore:

@@ -71,9 +71,10 @@ from .grid import (
     radial_lookup,
     tile_counts,
     to_grid,
+    window_lookup,
 )
 from .radials import radial_count, radial_step_m
-from .sectors import SectorJobs, sector_radials
+from .sectors import SectorJobs, cores, sector_radials
 
 SCHEMA = "profiler.coverage/5"
 _MOVED_TO_SECTORS = ("RADIALS_PER_CHUNK", "SAMPLING_RADIALS", "SECTOR_SAMPLES", "radial_clutter")
@@ -403,12 +404,14 @@ def _no_pixel(counts) -> None:
 def _in_memory(model, settings, gateways, grid, radius_m, res, node_mast_m, workers, scheduler, progress, kernel,
                land, composite_run, **_):
     """The whole grid in memory: ``(bands, counts, sweep record, None)``."""
-    with ThreadPoolExecutor(1) as pool:   # pyproj releases the GIL: the pixel positions overlap the sweep
-        positions = pool.submit(grid.lon_lat)
+    def off_data():   # the pixel centres off the elevation data (the model's extents only: no reads)
+        return ~np.asarray(model.covers(*grid.lon_lat()))
+
+    with ThreadPoolExecutor(1) as pool:   # pyproj and numpy release the GIL: the pixel positions overlap the sweep
+        positions = pool.submit(off_data)
         running, inside_any, sweep = _sweep(settings, gateways, grid, radius_m, res, node_mast_m, workers,
                                             scheduler, progress, kernel, land)
-        lon, lat = positions.result()
-    outside_data = ~np.asarray(model.covers(lon, lat))
+        outside_data = positions.result()
     bands, heard_by_gateways = combine_bands(running, composite_run, outside_data)
     counts = tile_counts(bands, inside_any, heard_by_gateways, settings, land)
     _no_pixel(counts)
@@ -474,8 +477,9 @@ def _sweep(settings, gateways, grid, radius_m, res, node_mast_m, workers, schedu
     spacing = radius_m / (n_full - 1)
     sectors = chunked(n_radials, sector_radials(n_full))
     windows = [grid.circle_window(g, radius_m) for g in gateways]
+    threads = cores()   # the lookups and the bands of this process: one thread per core
     lookups = [None if overlap(w, (0, grid.height, 0, grid.width)) is None else
-               radial_lookup(*pixel_polar(grid.window(*w), g), n_radials, spacing, radius_m)
+               window_lookup(grid.window(*w), g, n_radials, spacing, radius_m, threads)
                for g, w in zip(gateways, windows)]
     needs = [np.zeros((n_radials, n_full), dtype=bool) if lookup is None else
              mark_needed(np.zeros((n_radials, n_full), dtype=bool), lookup) for lookup in lookups]
@@ -491,8 +495,8 @@ def _sweep(settings, gateways, grid, radius_m, res, node_mast_m, workers, schedu
         if lookup is None:
             continue
         inside_any[w[0]:w[1], w[2]:w[3]] |= lookup[2]
-        running.add(i, g, to_grid(parts[i * len(sectors):(i + 1) * len(sectors)], lookup, n_radials, n_full), w,
-                    adopt=True)
+        running.add(i, g, to_grid(parts[i * len(sectors):(i + 1) * len(sectors)], lookup, n_radials, n_full,
+                                  threads), w, adopt=True)
         parts[i * len(sectors):(i + 1) * len(sectors)] = [None] * len(sectors)   # free the gateway's tables
     return running, inside_any, {"radials": n_radials, "radial_step_m": spacing}
 

@@ -191,9 +191,9 @@ def radial_fields(distance_m, terrain_m, n, mast_m, node_mast_m, settings, overr
     def run(rr, jj, dd, tt, nn, cc=None):
         h_a = t[rr, 0] + mast_m
         h_b = t[rr, jj] + node_mast_m
-        _store(out, rr, jj, link_fields(dd, tt, nn, h_a, h_b, settings, _overrides(overrides, rr.size),
-                                        paths=_paths(coordinates, rr, jj, cc),
-                                        node_height_m=np.full(rr.size, float(node_mast_m))))
+        _store(out, rr, link_fields(dd, tt, nn, h_a, h_b, settings, _overrides(overrides, rr.size),
+                                    paths=_paths(coordinates, rr, jj, cc),
+                                    node_height_m=np.full(rr.size, float(node_mast_m))), jj)
 
     if kernel is None:
         kernel = kernel_available()
@@ -271,8 +271,15 @@ def _paths(coordinates, rr, jj, clutter=None):
     if coordinates is not None:
         paths.update(lat_a_deg=np.full(rr.size, coordinates["lat_a_deg"]),
                      lon_a_deg=np.full(rr.size, coordinates["lon_a_deg"]),
-                     lat_b_deg=coordinates["lat_b_deg"][rr, jj], lon_b_deg=coordinates["lon_b_deg"][rr, jj])
+                     lat_b_deg=_take(coordinates["lat_b_deg"], rr, jj),
+                     lon_b_deg=_take(coordinates["lon_b_deg"], rr, jj))
     return paths or None
+
+
+def _take(table, rr, jj):
+    """``table[rr, jj]`` of a 2-D array by its flat indices (``take``: several times faster than fancy indexing)."""
+    table = np.ascontiguousarray(table)
+    return table.reshape(-1).take(np.asarray(rr) * table.shape[1] + np.asarray(jj))
 
 
 def _kernel_fields(out, d, t, n, mast_m, node_mast_m, settings, overrides, fast, coordinates=None,
@@ -298,13 +305,15 @@ def _kernel_fields(out, d, t, n, mast_m, node_mast_m, settings, overrides, fast,
     rr, jj = np.nonzero((cols >= 2) & wanted)
     if rr.size == 0:
         return
+    flat = rr * d.shape[1] + jj   # the links' flat indices into the (R, N) tables (take: faster than [rr, jj])
     site, node = t[:, 0] + mast_m, t + node_mast_m
     worst = prefix_kernel.worst_ratio_prefixes(d, t, n, site, node, lam, ae, wanted)
-    h_a, h_b = site[rr], node[rr, jj]
+    h_a, h_b = site.take(rr), node.reshape(-1).take(flat)
+    length, worst = d.reshape(-1).take(flat), worst.reshape(-1).take(flat)
     if fast:   # no diffraction: the budget needs the length and the worst ratio only
-        _store(out, rr, jj, link_fields(None, None, None, h_a, h_b, settings, _overrides(overrides, rr.size),
-                                        reduced={"length_m": d[rr, jj], "worst_ratio": worst[rr, jj]},
-                                        node_height_m=np.full(rr.size, float(node_mast_m))))
+        _store(out, flat, link_fields(None, None, None, h_a, h_b, settings, _overrides(overrides, rr.size),
+                                      reduced={"length_m": length, "worst_ratio": worst},
+                                      node_height_m=np.full(rr.size, float(node_mast_m))))
         return
     d_km = d * 1e-3
     prop = settings.radio.propagation
@@ -319,21 +328,26 @@ def _kernel_fields(out, d, t, n, mast_m, node_mast_m, settings, overrides, fast,
     else:
         reduce = prefix_kernel.prefix_reduce(d_km, t, n, rr, jj, ae * 1e-3,
                                              nu_always=settings.radio.diffraction_method == "knife-edge")
-        reduced = diffraction_reductions(reduce, d_km[rr, jj], t[rr, 0], t[rr, jj], h_a, h_b)
-    reduced.update(length_m=d[rr, jj], worst_ratio=worst[rr, jj])
-    _store(out, rr, jj, link_fields(None, None, None, h_a, h_b, settings, _overrides(overrides, rr.size),
-                                    reduced=reduced, paths=_paths(coordinates, rr, jj),
-                                    node_height_m=np.full(rr.size, float(node_mast_m))))
+        reduced = diffraction_reductions(reduce, length * 1e-3, t[:, 0].take(rr), t.reshape(-1).take(flat), h_a,
+                                         h_b)
+    reduced.update(length_m=length, worst_ratio=worst)
+    _store(out, flat, link_fields(None, None, None, h_a, h_b, settings, _overrides(overrides, rr.size),
+                                  reduced=reduced, paths=_paths(coordinates, rr, jj),
+                                  node_height_m=np.full(rr.size, float(node_mast_m))))
 
 
-def _store(out, rr, jj, res) -> None:
+def _store(out, at, res, jj=None) -> None:
     """One batch of links into the radial arrays: the bands, σL and the probability of being heard of
-    :func:`profiler.engine.links.link_fields` (given the node's antenna height), the node's building entry loss."""
+    :func:`profiler.engine.links.link_fields` (given the node's antenna height), the node's building entry loss.
+
+    ``at``: the links' flat indices into the (R, N) arrays, or their radials with ``jj`` their samples."""
+    if jj is not None:
+        at = np.asarray(at) * out["margin_db"].shape[1] + np.asarray(jj)
     for band, key in _FIELDS.items():
-        out[band][rr, jj] = res[key]
-    out["location_sigma_db"][rr, jj] = res["location_sigma_db"]
-    out["probability_heard"][rr, jj] = res["probability_heard"]
-    out["building_entry_loss_db"][rr, jj] = res["loss_db"]["building_entry_b"]
+        out[band].reshape(-1)[at] = res[key]
+    out["location_sigma_db"].reshape(-1)[at] = res["location_sigma_db"]
+    out["probability_heard"].reshape(-1)[at] = res["probability_heard"]
+    out["building_entry_loss_db"].reshape(-1)[at] = res["loss_db"]["building_entry_b"]
 
 
 # --------------------------------------------------------------------------- radials

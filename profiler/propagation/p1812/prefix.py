@@ -270,13 +270,19 @@ class PrefixReducer(Reducer):
         self.d = np.ascontiguousarray(distance_km, dtype=float)
         self.h = np.ascontiguousarray(height_m, dtype=float)
         self.r = None if clutter_m is None else np.where(np.isfinite(clutter_m), clutter_m, 0.0)
-        self.n, self.rr, self.jj = np.asarray(n, dtype=np.int64), np.asarray(rr), np.asarray(jj)
-        self.d_total_km = self.d[self.rr, self.jj]
-        self.h_first_m, self.h_last_m = self.h[self.rr, 0], self.h[self.rr, self.jj]
+        self.n, self.rr, self.jj = (np.asarray(a, dtype=np.int64) for a in (n, rr, jj))
+        self.flat = self.rr * self.d.shape[1] + self.jj   # flat indices of the links (take, not [rr, jj])
+        self.d_total_km = self._at(self.d)
+        self.h_first_m, self.h_last_m = self.h[:, 0].take(self.rr), self._at(self.h)
+        self.need = self._full(True, np.bool_)
+
+    def _at(self, table, offset=0):
+        """The links' values of an (R, N) table (C-contiguous), at ``offset`` samples from the node."""
+        return table.reshape(-1).take(self.flat + offset)
 
     def _full(self, values, dtype=float):
         full = np.zeros(self.d.shape, dtype=dtype)
-        full[self.rr, self.jj] = values
+        full.reshape(-1)[self.flat] = values
         return full
 
     def _site(self, hts):
@@ -289,22 +295,21 @@ class PrefixReducer(Reducer):
     def horizons(self, hts, hrs, ae_km):
         tangents, index = np.full((2,) + self.d.shape, np.nan), np.zeros((2,) + self.d.shape, dtype=np.int64)
         with prefix_kernel.LAUNCH:
-            _horizon_kernel(self.d, self.h, self.n, self._site(hts), self._full(hrs), float(ae_km),
-                            self._full(True, np.bool_), tangents, index)
-        at = (self.rr, self.jj)
-        far, far_index = tangents[1][at], index[1][at]
-        return {"tan_t_max": tangents[0][at], "theta_t_index": index[0][at], "tan_r_max": far,
+            _horizon_kernel(self.d, self.h, self.n, self._site(hts), self._full(hrs), float(ae_km), self.need,
+                            tangents, index)
+        far, far_index = self._at(tangents[1]), self._at(index[1])
+        return {"tan_t_max": self._at(tangents[0]), "theta_t_index": self._at(index[0]), "tan_r_max": far,
                 "theta_r_index": far_index, "nu_index": far_index}
 
     def distance_at(self, index):
-        return self.d[self.rr, index]
+        return self.d.reshape(-1).take(self.rr * self.d.shape[1] + index)
 
     def roughness(self, first, last, hst, slope):
         out = np.full(self.d.shape, np.nan)
         with prefix_kernel.LAUNCH:
             _roughness_kernel(self.d, self.h, self.n, self._full(first, np.int64), self._full(last, np.int64),
-                              self._full(hst), self._full(slope), self._full(True, np.bool_), out)
-        return out[self.rr, self.jj]
+                              self._full(hst), self._full(slope), self.need, out)
+        return self._at(out)
 
     def zones(self):
         return geometry.inland_zones_km(self.d_total_km)   # a coverage radial is inland
@@ -314,9 +319,9 @@ class PrefixReducer(Reducer):
         if self.r is None:
             return {"r2_m": zero, "rn1_m": zero, "clutter_t_m": zero, "clutter_r_m": zero, "sea_t": land,
                     "sea_r": land}
-        r, rr, jj = self.r, self.rr, self.jj
-        return {"r2_m": r[rr, 1], "rn1_m": r[rr, jj - 1], "clutter_t_m": r[rr, 0], "clutter_r_m": r[rr, jj],
-                "sea_t": land, "sea_r": land}
+        r, rr = self.r, self.rr
+        return {"r2_m": r[:, 1].take(rr), "rn1_m": self._at(r, -1), "clutter_t_m": r[:, 0].take(rr),
+                "clutter_r_m": self._at(r), "sea_t": land, "sea_r": land}
 
     def bullington(self, ae_km):
         g = None if self.r is None else self.h + self.r   # interior points only: the kernel reads i = 1 .. j - 1
