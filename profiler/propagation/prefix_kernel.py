@@ -305,13 +305,17 @@ def _hull_kernels(key: str):
         best = max(term(kind, 1, x, wg, h, d, a, b, ae_km), term(kind, j - 1, x, wg, h, d, a, b, ae_km))
         if end > 0.0:
             target = math.sqrt(end / c) if kind == 0 else d - math.sqrt(end / c)
-            lo, hi = 1, j - 1   # the first sample at or beyond the target (binary search on the distances)
-            while lo < hi:
-                mid = (lo + hi) // 2
-                if x[mid] < target:
-                    lo = mid + 1
-                else:
-                    hi = mid
+            # the first sample at or beyond the target (the last if none is): on equal steps (a coverage
+            # radial) the guess ceil(target / x[1]) is checked, else a binary search on the distances
+            lo = min(max(int(math.ceil(target / x[1])), 1), j - 1) if x[1] > 0.0 and target < x[j - 1] else j - 1
+            if not ((x[lo] >= target or lo == j - 1) and (lo == 1 or x[lo - 1] < target)):
+                lo, hi = 1, j - 1
+                while lo < hi:
+                    mid = (lo + hi) // 2
+                    if x[mid] < target:
+                        lo = mid + 1
+                    else:
+                        hi = mid
             best = max(best, term(kind, lo, x, wg, h, d, a, b, ae_km))
             if lo > 1:
                 best = max(best, term(kind, lo - 1, x, wg, h, d, a, b, ae_km))

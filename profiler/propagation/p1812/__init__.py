@@ -189,7 +189,8 @@ def p1812_finish(reduced, *, f_ghz, time_percent, vertical, n0, lat_t_deg, lon_t
     f_ghz = np.asarray(f_ghz, dtype=float)
     geo, ae = r["geometry"], r["ae_km"]
     shape = geo["d_km"].shape
-    out = {name: np.broadcast_to(np.asarray(value, dtype=float), shape).copy() for name, value in (
+    # one value per path: read-only views where an input is one value for every path (no copies)
+    out = {name: np.broadcast_to(np.asarray(value, dtype=float), shape) for name, value in (
         ("f_ghz", f_ghz), ("time_percent", time_percent), ("htg_m", r["htg_m"]), ("hrg_m", r["hrg_m"]),
         ("polarization", np.where(vertical, 2.0, 1.0)), ("delta_n", r["delta_n"]), ("n0", n0), ("dct_km", dct_km),
         ("dcr_km", dcr_km), ("r2_m", r["terminals"]["r2_m"]), ("rn1_m", r["terminals"]["rn1_m"]))}
