@@ -59,8 +59,8 @@ def first_term_one_ground_db(d_km, hts_m, hrs_m, adft_km, f_ghz, eps_r, sigma_s_
     x = 21.88 * beta * (f_ghz / adft ** 2) ** (1.0 / 3.0) * d_km                     # eq. (36)
     y = 0.9575 * beta * (f_ghz ** 2 / adft) ** (1.0 / 3.0)                           # eq. (37)
     with np.errstate(divide="ignore", invalid="ignore"):
-        fx = np.where(x >= 1.6, 11.0 + 10.0 * np.log10(x) - 17.6 * x,
-                      -20.0 * np.log10(x) - 5.6488 * x ** 1.425)                      # eq. (38)
+        log_x = np.log10(x)
+        fx = np.where(x >= 1.6, 11.0 + 10.0 * log_x - 17.6 * x, -20.0 * log_x - 5.6488 * x ** 1.425)  # eq. (38)
     g_min = 2.0 + 20.0 * np.log10(k)
 
     def height_gain(h_m):

@@ -130,10 +130,13 @@ def diffraction_losses(ld50_reduced, ldb_reduced, out, f_ghz, time_percent, ae_k
                                                               vertical, sea)
     p = np.asarray(time_percent, dtype=float)
     beta0 = out["beta0_percent"]
-    above = p > beta0
-    fi = np.where(above, inverse_normal_tail(np.where(above, p, 1.0) / 100.0)
-                  / inverse_normal_tail(beta0 / 100.0), 1.0)                               # eq. (40)
-    fi = np.where(p >= 50.0, 0.0, fi)
+    if np.all(p >= 50.0):   # eq. (40): Fi = 0 at 50 % of time
+        fi = np.zeros(np.broadcast_shapes(p.shape, np.shape(beta0)))
+    else:
+        above = p > beta0
+        fi = np.where(above, inverse_normal_tail(np.where(above, p, 1.0) / 100.0)
+                      / inverse_normal_tail(beta0 / 100.0), 1.0)                           # eq. (40)
+        fi = np.where(p >= 50.0, 0.0, fi)
     ldp = ld50["delta_bullington"] + fi * (ldb["delta_bullington"] - ld50["delta_bullington"])  # eq. (41)
     return {"hstd_m": ld50["hstd"], "hsrd_m": ld50["hsrd"], "htc_eq37a_m": ld50["modified_height_a_m"],
             "hrc_eq37b_m": ld50["modified_height_b_m"], "lbulla_db": ldb["bullington"],
@@ -186,6 +189,8 @@ def _site_shielding_db(theta_mrad, dl_km, f_ghz):
 def _sea_coupling_db(dc_km, dl_km, hs_m, w):
     """Over-sea surface-duct coupling correction of one terminal [dB] (zero unless near a mostly-sea path)."""
     near = (w >= 0.75) & (dc_km <= dl_km) & (dc_km <= 5.0)
+    if not np.any(near):   # no terminal near the coast of a mostly sea path: 0 everywhere
+        return np.zeros(np.shape(near))
     return np.where(near, -3.0 * np.exp(-0.25 * dc_km ** 2) * (1.0 + np.tanh(0.07 * (50.0 - hs_m))), 0.0)
 
 
