@@ -275,18 +275,19 @@ def geodesic_positions(geod, lat_a, lon_a, az_ab, anchors, rows, dist):
     lon_s = np.empty(rows.size)
     lat_s = np.empty(rows.size)
     exact = anchors["polar"][rows]
+    near = slice(None)   # every sample between anchors (no mask to apply), unless some link is polar
     if exact.any():
         lo, la, _ = geod.fwd(lon_a[rows[exact]], lat_a[rows[exact]], az_ab[rows[exact]], dist[exact])
         lon_s[exact], lat_s[exact] = lo, la
-    near = ~exact
+        near = ~exact
     r = rows[near]
-    u = dist[near] / anchors["spacing"][r]
-    i0 = np.clip(np.floor(u).astype(np.int64), 0, np.maximum(n_anchor[r] - 2, 0))
+    u = dist[near] / anchors["spacing"].take(r)
+    i0 = np.clip(np.floor(u).astype(np.int64), 0, np.maximum(n_anchor.take(r) - 2, 0))
     w = u - i0
-    k0 = a_start[r] + i0
-    k1 = np.minimum(k0 + 1, a_start[r] + n_anchor[r] - 1)
-    lon_s[near] = a_lon[k0] * (1.0 - w) + a_lon[k1] * w
-    lat_s[near] = a_lat[k0] * (1.0 - w) + a_lat[k1] * w
+    k0 = a_start.take(r) + i0
+    k1 = np.minimum(k0 + 1, a_start.take(r) + n_anchor.take(r) - 1)
+    lon_s[near] = a_lon.take(k0) * (1.0 - w) + a_lon.take(k1) * w
+    lat_s[near] = a_lat.take(k0) * (1.0 - w) + a_lat.take(k1) * w
     return (lon_s + 180.0) % 360.0 - 180.0, lat_s
 
 

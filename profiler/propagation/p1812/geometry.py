@@ -70,9 +70,13 @@ def path_centre_latitude_deg(lat_t_deg, lon_t_deg, lat_r_deg, lon_r_deg, d_km):
     """
     pt, pr = np.radians(lat_t_deg), np.radians(lat_r_deg)
     dlon = np.radians(np.asarray(lon_r_deg, dtype=float) - lon_t_deg)
-    bearing = np.arctan2(np.sin(dlon) * np.cos(pr), np.cos(pt) * np.sin(pr) - np.sin(pt) * np.cos(pr) * np.cos(dlon))
+    cos_pr = np.cos(pr)
+    east = np.sin(dlon) * cos_pr                                   # the initial bearing's components
+    north = np.cos(pt) * np.sin(pr) - np.sin(pt) * cos_pr * np.cos(dlon)
+    length = np.sqrt(east * east + north * north)
+    cos_bearing = np.divide(north, length, out=np.ones_like(length), where=length > 0.0)   # due north when equal
     delta = 0.5 * np.asarray(d_km, dtype=float) / EARTH_RADIUS_KM
-    return np.degrees(np.arcsin(np.sin(pt) * np.cos(delta) + np.cos(pt) * np.sin(delta) * np.cos(bearing)))
+    return np.degrees(np.arcsin(np.sin(pt) * np.cos(delta) + np.cos(pt) * np.sin(delta) * cos_bearing))
 
 
 def beta0_percent(phi_deg, dtm_km, dlm_km):
