@@ -258,14 +258,10 @@ def dr_best(rx_power_dbm, rules: dict, noise_figure_db, fade_margin_db):
 
     Parameters
     ----------
-    rx_power_dbm : float or ndarray, shape (L,)
-        Power at the receiver input [dBm].
-    rules : dict
-        Output of :func:`dr_rules`.
-    noise_figure_db : float or ndarray, shape (L,)
-        Receiver noise figure [dB].
-    fade_margin_db : float
-        Margin the link must keep [dB].
+    rx_power_dbm, rules, noise_figure_db, fade_margin_db
+        As for :func:`dr_margins`: the power at the receiver input [dBm]
+        (shape (L,)), the :func:`dr_rules`, the receiver noise figure [dB]
+        and the margin the link must keep [dB].
 
     Returns
     -------
