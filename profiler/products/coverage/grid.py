@@ -258,21 +258,22 @@ def window_lookup(grid: CoverageGrid, gw: Gateway, n_radials: int, spacing_m: fl
 
 
 def needed_samples(grid: CoverageGrid, gw: Gateway, n_radials: int, spacing_m: float, radius_m: float,
-                   n_full: int, tile_px: int = 1024) -> np.ndarray:
+                   n_full: int, tile_px: int = 1024, threads: int = 1) -> np.ndarray:
     """The radial samples some pixel takes (:func:`radial_lookup`): a bool table (radials, samples).
 
     A coverage run reduces only these links (a pixel takes the value of one
     sample: about half the samples at half-pixel steps); sample 1 is needed
     with sample 0 (the site's pixel takes sample 1's values).  The gateway's
-    circle is looked up in tiles of ``tile_px`` square (bounded memory).
+    circle is looked up in tiles of ``tile_px`` square (bounded memory), each in row bands on
+    ``threads`` threads (:func:`window_lookup`).
     """
     need = np.zeros((n_radials, n_full), dtype=bool)
     w = grid.circle_window(gw, radius_m)
     if overlap(w, (0, grid.height, 0, grid.width)) is None:
         return need
     for r0, r1, c0, c1 in grid.window(*w).tiles(tile_px):
-        mark_needed(need, radial_lookup(*pixel_polar(grid.window(w[0] + r0, w[0] + r1, w[2] + c0, w[2] + c1), gw),
-                                        n_radials, spacing_m, radius_m))
+        mark_needed(need, window_lookup(grid.window(w[0] + r0, w[0] + r1, w[2] + c0, w[2] + c1), gw, n_radials,
+                                        spacing_m, radius_m, threads))
     return need
 
 

@@ -67,8 +67,6 @@ from .grid import (
     mark_needed,
     needed_samples,
     overlap,
-    pixel_polar,
-    radial_lookup,
     tile_counts,
     to_grid,
     window_lookup,
@@ -325,7 +323,7 @@ def _stream(model, settings, gateways, grid, radius_m, res, node_mast_m, workers
     bar = progress_bar(progress, "radials", n_radials * len(gateways))   # one bar over every batch
     try:
         for i, g in enumerate(gateways):
-            need = needed_samples(grid, g, n_radials, radius_m / (n_full - 1), radius_m, n_full)
+            need = needed_samples(grid, g, n_radials, radius_m / (n_full - 1), radius_m, n_full, threads=cores())
             for b0 in range(0, len(sectors), per_batch):
                 batch = sectors[b0:b0 + per_batch]
                 parts = jobs.run([(g, np.arange(n_radials)[sl], need[sl]) for sl in batch], progress, bar)
@@ -377,8 +375,8 @@ def _write_tiles(model, settings, gateways, grid, stores, sweep, radius_m, compo
                 w = overlap(gw_window, (r0, r1, c0, c1))
                 if w is None:
                     continue   # the tile is off this gateway's circle
-                lookup = radial_lookup(*pixel_polar(grid.window(*w), g), sweep["radials"], sweep["radial_step_m"],
-                                       radius_m)
+                lookup = window_lookup(grid.window(*w), g, sweep["radials"], sweep["radial_step_m"], radius_m,
+                                       cores())
                 local = (w[0] - r0, w[1] - r0, w[2] - c0, w[3] - c0)
                 inside_any[local[0]:local[1], local[2]:local[3]] |= lookup[2]
                 running.add(i, g, store.to_grid(lookup), local, adopt=True)

@@ -191,9 +191,9 @@ def radial_fields(distance_m, terrain_m, n, mast_m, node_mast_m, settings, overr
     def run(rr, jj, dd, tt, nn, cc=None):
         h_a = t[rr, 0] + mast_m
         h_b = t[rr, jj] + node_mast_m
-        _store(out, rr, link_fields(dd, tt, nn, h_a, h_b, settings, _overrides(overrides, rr.size),
-                                    paths=_paths(coordinates, rr, jj, cc),
-                                    node_height_m=np.full(rr.size, float(node_mast_m))), jj)
+        _store(out, rr * d.shape[1] + jj, link_fields(dd, tt, nn, h_a, h_b, settings, _overrides(overrides, rr.size),
+                                                      paths=_paths(coordinates, rr, jj, cc),
+                                                      node_height_m=np.full(rr.size, float(node_mast_m))))
 
     if kernel is None:
         kernel = kernel_available()
@@ -336,13 +336,11 @@ def _kernel_fields(out, d, t, n, mast_m, node_mast_m, settings, overrides, fast,
                                   node_height_m=np.full(rr.size, float(node_mast_m))))
 
 
-def _store(out, at, res, jj=None) -> None:
+def _store(out, at, res) -> None:
     """One batch of links into the radial arrays: the bands, σL and the probability of being heard of
     :func:`profiler.engine.links.link_fields` (given the node's antenna height), the node's building entry loss.
 
-    ``at``: the links' flat indices into the (R, N) arrays, or their radials with ``jj`` their samples."""
-    if jj is not None:
-        at = np.asarray(at) * out["margin_db"].shape[1] + np.asarray(jj)
+    ``at``: the links' flat indices into the (R, N) arrays."""
     for band, key in _FIELDS.items():
         out[band].reshape(-1)[at] = res[key]
     out["location_sigma_db"].reshape(-1)[at] = res["location_sigma_db"]
