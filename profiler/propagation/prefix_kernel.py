@@ -332,6 +332,7 @@ def _hull_kernels(key: str):
             y = wg - c * x * x   # the heights less the parabola: the same for every node
             size = max(n[r], 1)
             hy, hh = np.empty(size, np.int64), np.empty(size, np.int64)
+            hy_x, hy_y, hh_x, hh_y = np.empty(size), np.empty(size), np.empty(size), np.empty(size)
             tops = _block_tops(y, n[r], BLOCK, GROUP)
             my = mh = 0
             hint = 0
@@ -340,8 +341,8 @@ def _hull_kernels(key: str):
             for j in range(2, n[r]):
                 i = j - 1
                 if actual:
-                    my = _push(x, y, hy, my, i)
-                    mh = _push(x, h, hh, mh, i)
+                    my = _push(x, y, hy, hy_x, hy_y, my, i)
+                    mh = _push(x, h, hh, hh_x, hh_y, mh, i)
                 if not need[r, j]:
                     continue
                 d, a, b = x[j], hts[r, j], hrs[r, j]
@@ -440,10 +441,11 @@ def _ratio_hull_kernels(key: str):
             y = t - x * x / (2.0 * ae_m)   # the heights less the parabola: the same for every node
             tops = _block_tops(y, n[r], BLOCK, GROUP)
             vertex = np.empty(max(n[r], 1), np.int64)
+            vx, vy = np.empty(max(n[r], 1)), np.empty(max(n[r], 1))
             m = 0
             hint = 0
             for j in range(2, n[r]):
-                m = _push(x, y, vertex, m, j - 1)
+                m = _push(x, y, vertex, vx, vy, m, j - 1)
                 if not need[r, j]:
                     continue
                 d, b = x[j], h_b[r, j]

@@ -94,12 +94,13 @@ def test_upper_hull_push_keeps_the_upper_hull():
     x = np.cumsum(rng.uniform(0.1, 1.0, 200))
     y = rng.normal(0.0, 5.0, 200)
     y[50:60] = 3.0 * x[50:60]   # collinear points
-    vertex = np.zeros(200, dtype=np.int64)
+    vertex, hx, hy = np.zeros(200, dtype=np.int64), np.zeros(200), np.zeros(200)
     m = 0
     for i in range(200):
-        m = hull.upper_hull_push(x, y, vertex, m, i)
+        m = hull.upper_hull_push(x, y, vertex, hx, hy, m, i)
         v = vertex[:m]
         assert np.all(np.diff(v) > 0) and v[0] == 0 and v[-1] == i
+        assert np.array_equal(hx[:m], x[v]) and np.array_equal(hy[:m], y[v])   # the coordinates kept beside
         chain = np.interp(x[:i + 1], x[v], y[v])
         assert np.all(y[:i + 1] <= chain + 1e-9)
         if m >= 3:

@@ -84,7 +84,8 @@ def _horizon_kernels(key: str):
     vertex of their upper hull, where the tangent rises then falls along the
     vertices: a binary search on the tangents themselves (the first vertex
     not followed by a strictly larger one: the first of tied samples, as the
-    loop's strict ``>``).  The same parabola makes the Bullington slope from
+    loop's strict ``>``), unless the previous link's vertex is still one and
+    passes that test against its two neighbours.  The same parabola makes the Bullington slope from
     the node (P.452-18 eq. (18), P.1812-8 eq. (17)) a hull query
     (``srim = (y_i - Y) / (d - d_i) - c d``), but that pass also takes the
     largest ν (eq. (16)), which is no tangent, so it keeps its loop.
@@ -141,18 +142,31 @@ def _horizon_kernels(key: str):
             tops = _block_tops(y, n[r], block, group)
             hint = 0
             vertex = np.empty(max(n[r], 1), dtype=np.int64)
+            vx, vy = np.empty(max(n[r], 1)), np.empty(max(n[r], 1))
             m = 0
             t_max = -np.inf
             it = 0
+            guess_q, guess_i = -1, -1   # hull position and sample of the last receiver horizon found by search
             for j in range(2, n[r]):
                 tangent = _tangent(h_m[r, j - 1] - a, x[j - 1], ae_km)
                 if tangent > t_max:
                     t_max, it = tangent, j - 1
-                m = _push(x, y, vertex, m, j - 1)
+                m = _push(x, y, vertex, vx, vy, m, j - 1)
                 if not need[r, j]:
                     continue
                 d, b = x[j], hrs[r, j]
                 if _trans(t_max, d, a, b, ae_km):   # the receiver's horizon: tangent to the hull
+                    # the previous link's vertex when it is still one, rises from its left neighbour and is not
+                    # exceeded by its right one (the first largest: rising strictly then falling); else a search
+                    q = guess_q
+                    if 0 <= q < m and vertex[q] == guess_i:
+                        best = _tangent(h_m[r, guess_i] - b, d - x[guess_i], ae_km)
+                        if (q == 0 or _tangent(h_m[r, vertex[q - 1]] - b, d - x[vertex[q - 1]], ae_km) < best) and \
+                                (q == m - 1 or _tangent(h_m[r, vertex[q + 1]] - b, d - x[vertex[q + 1]], ae_km)
+                                 <= best):
+                            tangents[0, r, j], tangents[1, r, j] = t_max, best
+                            index[0, r, j], index[1, r, j] = it, guess_i
+                            continue
                     lo, hi = 0, m - 1
                     while lo < hi:
                         mid = (lo + hi) // 2
@@ -162,6 +176,7 @@ def _horizon_kernels(key: str):
                         else:
                             hi = mid
                     at = vertex[lo]
+                    guess_q, guess_i = lo, at
                     best = _tangent(h_m[r, at] - b, d - x[at], ae_km)
                 else:
                     best, at = _nu_argmax_blocks(x, h_m[r], tops, j, a, b, ae_km, hint)
