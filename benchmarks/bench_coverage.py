@@ -352,13 +352,13 @@ def main(argv=None):
         agree = np.mean((run.bands["line_of_sight"] == 1)[ok] == (los_map == 1)[ok])
         print(f"line-of-sight map vs the {label}'s band: {agree:.4%} agree")
     stage_times(kw)
-    vs = viewshed(dem, grid, los_map, radius_m, repeat=args.repeat)
+    vs = viewshed(dem, grid, los_map, radius_m)   # the agreement and GDAL's split; the rounds time it
     if vs is None:
         print("gdal_viewshed: absent on this machine (no comparison)")
         return
     gdal = vs["warp_s"] + vs["viewshed_s"]
     print(f"gdalwarp onto the grid {vs['warp_s']:.2f} s + gdal_viewshed {vs['viewshed_s']:.2f} s = {gdal:.2f} s "
-          f"(best of {args.repeat})")
+          "(one run)")
     print(f"  visible/invisible agree on {vs['agree']:.2%} of {vs['pixels']:,} common pixels; visible: ours "
           f"{vs['visible_ours']:.2%}, GDAL {vs['visible_gdal']:.2%}, intersection/union {vs['visible_iou']:.1%}; "
           f"{vs['near_edge']:.1%} of the differing pixels within 2 px of a shadow edge of our map")
