@@ -35,6 +35,7 @@ References
 
 from __future__ import annotations
 
+import contextlib
 import hashlib
 import math
 import threading
@@ -480,8 +481,29 @@ _geometry_kernel, _bullington_kernel = _kernels(fingerprint(_TERMS))
 _geometry_hull_kernel = _ratio_hull_kernels(fingerprint(_TERMS))
 _bullington_hull_kernel = _hull_kernels(fingerprint(_TERMS))
 LAUNCH = threading.Lock()
-"""One kernel launch at a time per process: numba's default (workqueue) threading layer aborts on concurrent
-launches from several threads (a Dask worker with more than one thread); each launch uses every core anyway."""
+"""Held by a kernel launch under numba's workqueue threading layer (:func:`launch`)."""
+
+
+@contextlib.contextmanager
+def launch():
+    """Guard one kernel launch: concurrent launches from several threads where numba's threading layer allows them.
+
+    The sector threads of a coverage run (and the threads of a Dask worker)
+    launch the kernels at the same time under the OpenMP and TBB layers;
+    the workqueue layer aborts on concurrent launches, so under it (and
+    before the first launch has chosen the layer) one launch at a time
+    holds :data:`LAUNCH`.  The layer is read at every launch (numba keeps
+    it): no state here.
+    """
+    try:
+        concurrent = numba.threading_layer() != "workqueue"
+    except ValueError:   # no parallel launch yet in this process: the first one chooses the layer
+        concurrent = False
+    if concurrent:
+        yield
+        return
+    with LAUNCH:
+        yield
 
 
 def worst_ratio_prefixes(distance_m, terrain_m, n, site_amsl_m, node_amsl_m, wavelength_m, effective_radius_m,
@@ -516,7 +538,7 @@ def worst_ratio_prefixes(distance_m, terrain_m, n, site_amsl_m, node_amsl_m, wav
     """
     shape = np.shape(distance_m)
     worst = np.full(shape, np.nan)
-    with LAUNCH:
+    with launch():
         _geometry_hull_kernel(np.ascontiguousarray(distance_m, dtype=float),
                               np.ascontiguousarray(terrain_m, dtype=float), np.asarray(n, dtype=np.int64),
                               np.asarray(site_amsl_m, dtype=float), np.ascontiguousarray(node_amsl_m, dtype=float),
@@ -579,7 +601,7 @@ def bullington_prefixes(distance_km, height_m, n, hts_m, hrs_m, effective_radius
     out = np.full((6,) + np.shape(distance_km), np.nan)
     h = np.ascontiguousarray(height_m, dtype=float)
     g = h if bullington_height_m is None else np.ascontiguousarray(bullington_height_m, dtype=float)
-    with LAUNCH:
+    with launch():
         _bullington_hull_kernel(np.ascontiguousarray(distance_km, dtype=float), h, g, np.asarray(n, dtype=np.int64),
                                 np.ascontiguousarray(hts_m, dtype=float), np.ascontiguousarray(hrs_m, dtype=float),
                                 float(effective_radius_km), bool(actual), _need(need, out.shape[1:]),

@@ -177,3 +177,36 @@ def test_numba_is_not_imported_by_the_package_or_the_link_command():
             "print('numba' in sys.modules)")
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True).stdout
     assert out.strip() == "False"
+
+
+@pytest.mark.parametrize("layer, concurrent", [("workqueue", False), ("omp", True), ("tbb", True), (None, False)])
+def test_kernel_launches_overlap_only_where_the_threading_layer_allows(monkeypatch, layer, concurrent):
+    # numba's documentation ("The Threading Layers", safe parallel execution): the tbb and omp layers are
+    # thread safe, workqueue is not (concurrent launches abort); before the first launch no layer is chosen
+    import numba
+
+    from profiler.propagation import prefix_kernel
+
+    def threading_layer():
+        if layer is None:
+            raise ValueError("Threading layer is not initialized.")
+        return layer
+
+    monkeypatch.setattr(numba, "threading_layer", threading_layer)
+    with prefix_kernel.launch():
+        assert prefix_kernel.LAUNCH.locked() is not concurrent
+    assert not prefix_kernel.LAUNCH.locked()
+
+
+def test_kernels_launched_from_several_threads_give_the_serial_results():
+    from concurrent.futures import ThreadPoolExecutor
+
+    st = _settings(DEM, "EU868", None, "4/3", 0.6, False, RadioSettings(propagation=PropagationSettings(model="p1812")))
+    d, t, n = _random_radials(3)
+    serial = radial_fields(d, t, n, 10.0, 1.5, st, kernel=True, coordinates=_coordinates(d))
+    with ThreadPoolExecutor(4) as pool:
+        runs = list(pool.map(lambda _: radial_fields(d, t, n, 10.0, 1.5, st, kernel=True,
+                                                     coordinates=_coordinates(d)), range(8)))
+    for got in runs:
+        for key, values in serial.items():
+            np.testing.assert_array_equal(got[key], values, err_msg=key)

@@ -309,7 +309,7 @@ class PrefixReducer(Reducer):
 
     def horizons(self, hts, hrs, ae_km):
         tangents, index = np.full((2,) + self.d.shape, np.nan), np.zeros((2,) + self.d.shape, dtype=np.int64)
-        with prefix_kernel.LAUNCH:
+        with prefix_kernel.launch():
             _horizon_kernel(self.d, self.h, self.n, self._site(hts), self._full(hrs), float(ae_km), self.need,
                             tangents, index)
         far, far_index = self._at(tangents[1]), self._at(index[1])
@@ -321,7 +321,7 @@ class PrefixReducer(Reducer):
 
     def roughness(self, first, last, hst, slope):
         out = np.full(self.d.shape, np.nan)
-        with prefix_kernel.LAUNCH:
+        with prefix_kernel.launch():
             _roughness_kernel(self.d, self.h, self.n, self._full(first, np.int64), self._full(last, np.int64),
                               self._full(hst), self._full(slope), self.need, out)
         return self._at(out)
