@@ -165,7 +165,8 @@ def path_loss_batch(d, terrain, n, h_a, h_b, frequency_mhz, ae, radio, pol_a_deg
         As :func:`terrain_loss_batch`.
     paths : dict, optional
         What ``--model p1812`` needs besides the profiles: ``lat_a_deg``,
-        ``lon_a_deg``, ``lat_b_deg``, ``lon_b_deg`` (L,) [deg] and optionally
+        ``lon_a_deg``, ``lat_b_deg``, ``lon_b_deg`` (L,) [deg] (or one value for
+        every link: a coverage map's site) and optionally
         ``clutter_m`` (L, N) [m], ``clutter_class`` (L, N) [index into the
         clutter classes, -1 none] and ``zone`` (L, N) (1 sea, 3 coastal
         land, 4 inland; default inland).

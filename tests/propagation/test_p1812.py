@@ -135,3 +135,24 @@ def test_one_path_alone_gives_what_the_padded_batch_gives():
         alone = _batch([ROWS[i]])
         for key in ("theta_t_mrad", "hstd_m", "ld50_db", "lba_db", "lb_db"):
             assert alone[key][0] == pytest.approx(whole[key][i], abs=1e-9), (row_id(ROWS[i]), key)
+
+
+def test_path_centre_latitude_is_the_midpoint_on_the_6371_km_sphere():
+    # Check values: pyproj.Geod on a sphere of 6371 km (a = b, Karney's geodesics): the point d/2 along the
+    # great circle from the transmitter towards the receiver (P.1812-8 section 3, φ); paths near a pole, across
+    # 120 deg of longitude, across the antimeridian, short (15 m) and zero length
+    from pyproj import Geod
+
+    sphere = Geod(a=6_371_000.0, b=6_371_000.0)
+    lat_t = np.array([45.5, -33.9, 89.2, 10.0, 0.0, 60.0, 12.3, 51.0])
+    lon_t = np.array([7.5, 18.4, 20.0, 179.9, -60.0, -150.0, 45.0, 1.0])
+    lat_r = np.array([45.6, -34.5, 88.9, 10.5, 1.0, 58.0, 12.3, 51.0])
+    lon_r = np.array([7.8, 19.9, -100.0, -179.6, 60.0, -30.0, 45.000_15, 1.0])
+    az, _, dist_m = sphere.inv(lon_t, lat_t, lon_r, lat_r)
+    _, expected, _ = sphere.fwd(lon_t, lat_t, az, dist_m / 2.0)
+    got = p1812.path_centre_latitude_deg(lat_t, lon_t, lat_r, lon_r, dist_m * 1e-3)
+    np.testing.assert_allclose(got, expected, rtol=0, atol=1e-9)
+    # one transmitter for every path (a coverage map's site) gives the same
+    one = p1812.path_centre_latitude_deg(45.5, 7.5, lat_r, lon_r, dist_m * 1e-3)
+    np.testing.assert_allclose(one, p1812.path_centre_latitude_deg(np.full(8, 45.5), np.full(8, 7.5), lat_r, lon_r,
+                                                                   dist_m * 1e-3), rtol=0, atol=0)

@@ -269,8 +269,8 @@ def _paths(coordinates, rr, jj, clutter=None):
     """
     paths = {} if clutter is None else dict(clutter)
     if coordinates is not None:
-        paths.update(lat_a_deg=np.full(rr.size, coordinates["lat_a_deg"]),
-                     lon_a_deg=np.full(rr.size, coordinates["lon_a_deg"]),
+        # the site: one value for every link (its sine and cosine taken once in the path-centre latitude)
+        paths.update(lat_a_deg=float(coordinates["lat_a_deg"]), lon_a_deg=float(coordinates["lon_a_deg"]),
                      lat_b_deg=_take(coordinates["lat_b_deg"], rr, jj),
                      lon_b_deg=_take(coordinates["lon_b_deg"], rr, jj))
     return paths or None
