@@ -494,6 +494,12 @@ def launch():
     before the first launch has chosen the layer) one launch at a time
     holds :data:`LAUNCH`.  The layer is read at every launch (numba keeps
     it): no state here.
+
+    References
+    ----------
+    .. [1] numba documentation, user manual section "The Threading Layers"
+       (selecting a threading layer for safe parallel execution: the tbb and
+       omp layers are thread safe, workqueue is not).
     """
     try:
         concurrent = numba.threading_layer() != "workqueue"

@@ -288,6 +288,8 @@ def geodesic_positions(geod, lat_a, lon_a, az_ab, anchors, rows, dist):
     k1 = np.minimum(k0 + 1, a_start.take(r) + n_anchor.take(r) - 1)
     lon_s[near] = a_lon.take(k0) * (1.0 - w) + a_lon.take(k1) * w
     lat_s[near] = a_lat.take(k0) * (1.0 - w) + a_lat.take(k1) * w
+    if lon_s.size and lon_s.min() >= -180.0 and lon_s.max() < 180.0:   # already in range (NaN: wrapped below)
+        return lon_s, lat_s
     return (lon_s + 180.0) % 360.0 - 180.0, lat_s
 
 

@@ -220,8 +220,10 @@ class TileGroup:
             x = np.asarray(x, dtype=float)
             y = np.asarray(y, dtype=float)
         if self.wrap_west is not None:  # the same meridian, inside the grid's 360-degree window
-            with np.errstate(invalid="ignore"):
-                x = self.wrap_west + np.mod(np.asarray(x, dtype=float) - self.wrap_west, 360.0)
+            x = np.asarray(x, dtype=float)
+            if not (x.size and x.min() >= self.wrap_west and x.max() < self.wrap_west + 360.0):   # NaN: wrapped
+                with np.errstate(invalid="ignore"):
+                    x = self.wrap_west + np.mod(x - self.wrap_west, 360.0)
         ia, ib, ic, id_, ie, if_ = self.inverse
         with np.errstate(invalid="ignore"):  # non-finite input stays non-finite
             return id_ * x + ie * y + if_, ia * x + ib * y + ic
