@@ -374,7 +374,8 @@ def _hull_kernels(key: str):
                 s_tr = (b - a) / d   # eq. (15): ν is used on a line-of-sight pass only (eqs. 17, 19-21)
                 slack = 1e-9 * (1.0 + abs(s_tr) + abs(out[0, r, j]) + abs(out[1, r, j]))
                 if not nu_always and out[0, r, j] > s_tr + slack and out[0, r, j] + out[1, r, j] > slack:
-                    continue   # trans-horizon beyond rounding: ν stays NaN
+                    out[2, r, j] = np.nan   # trans-horizon beyond rounding: no ν
+                    continue
                 if not actual and a >= 0.0 and b >= 0.0:
                     out[2, r, j], root = smooth_nu(x, j, d, a, b, ae_km, root)
                 else:
@@ -580,7 +581,7 @@ def bullington_prefixes(distance_km, height_m, n, hts_m, hrs_m, effective_radius
         (default ``height_m``; P.1812-8: g = h + R at the interior points);
         the obstacle heights (eqs. 165a-d) stay those of ``height_m``.
     need : ndarray of bool, shape (R, N), optional
-        The links to reduce (default every one; the others stay NaN).
+        The links to reduce (default every one; the others are left unset).
     nu_always : bool
         ``v_unit`` of every link (the knife-edge method); by default only of
         the links whose pass is line of sight (the only ones whose loss uses
@@ -591,7 +592,8 @@ def bullington_prefixes(distance_km, height_m, n, hts_m, hrs_m, effective_radius
     dict of ndarray, shape (R, N)
         ``stim``, ``srim`` [m/km], ``v_unit`` [m^0.5] and, with ``actual``,
         ``hobs`` [m], ``alpha_obt``, ``alpha_obr`` [m/km] of the link ending
-        at ``[r, j]`` (defined for ``2 <= j < n[r]``); no ``v_index`` (the
+        at ``[r, j]`` (set for ``2 <= j < n[r]`` where ``need``: the tables
+        are not filled elsewhere); no ``v_index`` (the
         knife-edge sample, which a coverage map does not show).
 
     References
@@ -604,7 +606,7 @@ def bullington_prefixes(distance_km, height_m, n, hts_m, hrs_m, effective_radius
     interior sample, ``_bullington_kernel``, is the reference of
     ``tests/propagation/test_hull.py``.
     """
-    out = np.full((6,) + np.shape(distance_km), np.nan)
+    out = np.empty((6,) + np.shape(distance_km))   # every needed link's values are written (ν NaN where not taken)
     h = np.ascontiguousarray(height_m, dtype=float)
     g = h if bullington_height_m is None else np.ascontiguousarray(bullington_height_m, dtype=float)
     with launch():
@@ -658,7 +660,7 @@ def prefix_reduce(distance_km, height_m, n, rr, jj, effective_radius_km, bulling
     need.reshape(-1)[flat] = True   # only these links are reduced
 
     def reduce(actual, hts, hrs):
-        full_a, full_b = np.zeros(d_km.shape), np.zeros(d_km.shape)
+        full_a, full_b = np.empty(d_km.shape), np.empty(d_km.shape)   # read at the needed links only
         full_a.reshape(-1)[flat], full_b.reshape(-1)[flat] = hts, hrs
         red = bullington_prefixes(d_km, t, n, full_a, full_b, effective_radius_km, actual, bullington_height_m, need,
                                   nu_always)

@@ -308,7 +308,8 @@ class PrefixReducer(Reducer):
         return site
 
     def horizons(self, hts, hrs, ae_km):
-        tangents, index = np.full((2,) + self.d.shape, np.nan), np.zeros((2,) + self.d.shape, dtype=np.int64)
+        # the kernel writes both horizons of every needed link, and only those are read (not filled elsewhere)
+        tangents, index = np.empty((2,) + self.d.shape), np.empty((2,) + self.d.shape, dtype=np.int64)
         with prefix_kernel.launch():
             _horizon_kernel(self.d, self.h, self.n, self._site(hts), self._full(hrs), float(ae_km), self.need,
                             tangents, index)
@@ -320,7 +321,7 @@ class PrefixReducer(Reducer):
         return self.d.reshape(-1).take(self.rr * self.d.shape[1] + index)
 
     def roughness(self, first, last, hst, slope):
-        out = np.full(self.d.shape, np.nan)
+        out = np.empty(self.d.shape)   # written at every needed link, read only there
         with prefix_kernel.launch():
             _roughness_kernel(self.d, self.h, self.n, self._full(first, np.int64), self._full(last, np.int64),
                               self._full(hst), self._full(slope), self.need, out)
