@@ -22,7 +22,8 @@ reports a transform whose pixel centres fall exactly on the integer-degree tile
 edges.  Hence in every case the centre of pixel (row ``i``, column ``j``) is
 ``transform * (j + 0.5, i + 0.5)``, which is what this module uses.
 
-The module keeps the sampling and the block cache; opening the sources
+The module keeps the sampling; the blocks read and cached are in
+:mod:`profiler.terrain.blocks`, opening the sources
 (files, folders, zip archives, CRS, vertical units) is in
 :mod:`profiler.terrain.sources`, the tile mosaics in :mod:`profiler.terrain.mosaic`,
 the source descriptions in :mod:`profiler.terrain.source_info` (file digests: :mod:`profiler.terrain.digests`)
@@ -35,13 +36,12 @@ from __future__ import annotations
 
 import math
 import os
-from collections import OrderedDict
 from pathlib import Path
 
 import numpy as np
-from rasterio.windows import Window
 
 from profiler.errors import ProfilerError, refuse_empty_path
+from profiler.terrain.blocks import BlockCache
 from profiler.terrain.digests import FileDigests
 from profiler.terrain.mosaic import build_groups
 from profiler.terrain.source_info import SourceInfo
@@ -53,7 +53,6 @@ from profiler.terrain.sources import (
     linear_unit_m,
     metres_per_degree,
     open_dataset,
-    root_cause,
 )
 from profiler.terrain.voids import fill_voids_along_profile
 
@@ -106,12 +105,7 @@ class ElevationModel:
         self.digests = digests if digests is not None else FileDigests()
         self._groups = groups
         self.sources = [t.info for t in tiles]
-        self._cache = OrderedDict()
-        self._cache_bytes = 0
-        self._cache_limit = int(cache_bytes)
-        self._handles = OrderedDict()
-        self._max_open = max(1, int(max_open))
-        self.blocks_read = 0
+        self._blocks = BlockCache(role, cache_bytes, max_open)
 
     # ------------------------------------------------------------------ open
     @classmethod
@@ -171,7 +165,7 @@ class ElevationModel:
                     ds.close()
                     raise
                 tiles.append(tile)
-                model._remember_handle(tile.index, ds)
+                model._blocks.remember_handle(tile.index, ds)
         except BaseException:
             model.close()
             raise
@@ -418,13 +412,14 @@ class ElevationModel:
         return "; ".join(parts) if parts else "no coverage"
 
     # ------------------------------------------------------------- lifetime
+    @property
+    def blocks_read(self) -> int:
+        """Number of raster blocks read from disk since opening (a count)."""
+        return self._blocks.blocks_read
+
     def close(self):
         """Close all open raster handles and drop the block cache."""
-        while self._handles:
-            _, ds = self._handles.popitem(last=False)
-            ds.close()
-        self._cache.clear()
-        self._cache_bytes = 0
+        self._blocks.close()
 
     def __enter__(self):
         return self
@@ -496,7 +491,7 @@ class ElevationModel:
             step_r = di[f] * width00[f]
             locals4 = np.stack([base, base + step_c, base + step_r, base + step_r + step_c],
                                axis=1)
-            z[:, f] = self._gather(group, key00[f], locals4).T
+            z[:, f] = self._blocks.gather(group, key00[f], locals4).T
             owner_used.append(t00[f])
         slow = np.flatnonzero(~fast)
         if slow.size:
@@ -528,7 +523,7 @@ class ElevationModel:
         idx = np.flatnonzero(owner >= 0)
         if idx.size:
             key, local, _ = group.block_index(owner[idx], rows[idx], cols[idx])
-            result[idx] = self._gather(group, key, local[:, np.newaxis])[:, 0] * group.vertical_scale
+            result[idx] = self._blocks.gather(group, key, local[:, np.newaxis])[:, 0] * group.vertical_scale
         used = {group.tiles[k].index for k in np.unique(owner[idx][np.isfinite(result[idx])])}
         return result, (used if want_used else set())
 
@@ -552,109 +547,8 @@ class ElevationModel:
             sel = np.flatnonzero(missing)[ok]
             rows[sel], cols[sel], owner[sel] = r_try[ok], c_try[ok], found[ok]
         key, local, _ = group.block_index(owner, rows, cols)
-        values = self._gather(group, key, local[:, np.newaxis])[:, 0]
+        values = self._blocks.gather(group, key, local[:, np.newaxis])[:, 0]
         return values.reshape(4, -1), owner
-
-    def _gather(self, group, key, local):
-        """Values (stored units, NaN void) at offsets ``local`` of blocks ``key``.
-
-        Parameters
-        ----------
-        key : ndarray of int, shape (n,)
-            Global block number of each sample in the group.
-        local : ndarray of int, shape (n, m)
-            Flat offsets inside that block (m offsets per sample).
-
-        Returns
-        -------
-        ndarray of float, shape (n, m)
-
-        Samples along a path come in long runs in the same block: such runs
-        are used as they are.  Otherwise one (radix) sort groups the samples
-        by block.  Each run is fetched once and indexed with ``take``.
-        """
-        changes = np.flatnonzero(key[1:] != key[:-1]) + 1
-        if changes.size < max(64, key.size // 32):
-            order = None
-            key_sorted, local_sorted = key, local
-        else:
-            if group.n_blocks < 65536:  # small integers: numpy's stable sort is radix
-                order = np.argsort(key.astype(np.uint16), kind="stable")
-            else:
-                order = np.argsort(key, kind="stable")
-            key_sorted = key[order]
-            local_sorted = local[order]
-            changes = np.flatnonzero(key_sorted[1:] != key_sorted[:-1]) + 1
-        starts = np.concatenate(([0], changes))
-        ends = np.append(starts[1:], key_sorted.size)
-        block_keys = key_sorted[starts]
-        tile_ids = np.searchsorted(group.block_base, block_keys, side="right") - 1
-        in_tile = block_keys - group.block_base[tile_ids]
-        uniform = group.uniform_tile
-        raw_sorted = np.empty(local_sorted.shape,
-                              dtype=uniform.dtype if uniform is not None else float)
-        for start, end, k, number in zip(starts.tolist(), ends.tolist(), tile_ids.tolist(),
-                                         in_tile.tolist()):
-            tile = group.tiles[k]
-            block = self._block(tile, *divmod(number, tile.n_chunk_cols))
-            if uniform is not None:
-                np.take(block, local_sorted[start:end], out=raw_sorted[start:end])
-            else:
-                raw_sorted[start:end] = tile.to_float(np.take(block, local_sorted[start:end]))
-        values_sorted = uniform.to_float(raw_sorted) if uniform is not None else raw_sorted
-        if order is None:
-            return values_sorted
-        values = np.empty_like(values_sorted)
-        values[order] = values_sorted
-        return values
-
-    def _block(self, tile, block_r, block_c):
-        key = (tile.index, block_r, block_c)
-        block = self._cache.get(key)
-        if block is not None:
-            self._cache.move_to_end(key)
-            return block
-        row_off = block_r * tile.chunk_h
-        col_off = block_c * tile.chunk_w
-        window = Window(col_off, row_off, min(tile.chunk_w, tile.width - col_off),
-                        min(tile.chunk_h, tile.height - row_off))
-        ds = self._handle(tile)
-        try:
-            raw = ds.read(1, window=window)
-        except Exception as exc:  # GDAL raises various CPLE_* / RasterioIOError
-            reason = root_cause(exc)
-            raise ProfilerError(
-                f"cannot read {self.role.noun} data from {tile.info.path} ({reason}); "
-                "the file may be truncated or corrupt") from exc
-        block = raw  # kept in the raster's dtype; converted per sample in _gather
-        if block.shape != (tile.chunk_h, tile.chunk_w):  # edge block: pad to full size
-            padded = np.zeros((tile.chunk_h, tile.chunk_w), dtype=block.dtype)
-            padded[:block.shape[0], :block.shape[1]] = block
-            block = padded
-        block = block.ravel()
-        self.blocks_read += 1
-        self._cache[key] = block
-        self._cache_bytes += block.nbytes
-        while self._cache_bytes > self._cache_limit and len(self._cache) > 1:
-            _, old = self._cache.popitem(last=False)
-            self._cache_bytes -= old.nbytes
-        return block
-
-    def _handle(self, tile):
-        ds = self._handles.get(tile.index)
-        if ds is not None:
-            self._handles.move_to_end(tile.index)
-            return ds
-        ds = open_dataset(tile.gdal_path, tile.info.file_path)
-        self._remember_handle(tile.index, ds)
-        return ds
-
-    def _remember_handle(self, index, ds):
-        self._handles[index] = ds
-        while len(self._handles) > self._max_open:
-            _, old = self._handles.popitem(last=False)
-            old.close()
-
 
 # ---------------------------------------------------------------- helpers
 def _flat_points(lon_deg, lat_deg):
