@@ -63,6 +63,8 @@ class BlockCache:
 
         Parameters
         ----------
+        group : profiler.terrain.mosaic.TileGroup
+            The mosaic the block numbers refer to.
         key : ndarray of int, shape (n,)
             Global block number of each sample in the group.
         local : ndarray of int, shape (n, m)
@@ -131,7 +133,7 @@ class BlockCache:
             raise ProfilerError(
                 f"cannot read {self.role.noun} data from {tile.info.path} ({reason}); "
                 "the file may be truncated or corrupt") from exc
-        block = raw  # kept in the raster's dtype; converted per sample in _gather
+        block = raw  # kept in the raster's dtype; converted per sample in gather
         if block.shape != (tile.chunk_h, tile.chunk_w):  # edge block: pad to full size
             padded = np.zeros((tile.chunk_h, tile.chunk_w), dtype=block.dtype)
             padded[:block.shape[0], :block.shape[1]] = block
