@@ -281,11 +281,12 @@ def geodesic_positions(geod, lat_a, lon_a, az_ab, anchors, rows, dist):
         lon_s[exact], lat_s[exact] = lo, la
         near = ~exact
     r = rows[near]
+    start, count = a_start.take(r), n_anchor.take(r)
     u = dist[near] / anchors["spacing"].take(r)
-    i0 = np.clip(np.floor(u).astype(np.int64), 0, np.maximum(n_anchor.take(r) - 2, 0))
+    i0 = np.clip(np.floor(u).astype(np.int64), 0, np.maximum(count - 2, 0))
     w = u - i0
-    k0 = a_start.take(r) + i0
-    k1 = np.minimum(k0 + 1, a_start.take(r) + n_anchor.take(r) - 1)
+    k0 = start + i0
+    k1 = np.minimum(k0 + 1, start + count - 1)
     lon_s[near] = a_lon.take(k0) * (1.0 - w) + a_lon.take(k1) * w
     lat_s[near] = a_lat.take(k0) * (1.0 - w) + a_lat.take(k1) * w
     if lon_s.size and lon_s.min() >= -180.0 and lon_s.max() < 180.0:   # already in range (NaN: wrapped below)

@@ -270,16 +270,11 @@ def _paths(coordinates, rr, jj, clutter=None):
     paths = {} if clutter is None else dict(clutter)
     if coordinates is not None:
         # the site: one value for every link (its sine and cosine taken once in the path-centre latitude)
+        lat, lon = (np.ascontiguousarray(coordinates[k]) for k in ("lat_b_deg", "lon_b_deg"))
+        flat = np.asarray(rr) * lat.shape[1] + np.asarray(jj)   # [rr, jj] by flat index: take, not fancy indexing
         paths.update(lat_a_deg=float(coordinates["lat_a_deg"]), lon_a_deg=float(coordinates["lon_a_deg"]),
-                     lat_b_deg=_take(coordinates["lat_b_deg"], rr, jj),
-                     lon_b_deg=_take(coordinates["lon_b_deg"], rr, jj))
+                     lat_b_deg=lat.reshape(-1).take(flat), lon_b_deg=lon.reshape(-1).take(flat))
     return paths or None
-
-
-def _take(table, rr, jj):
-    """``table[rr, jj]`` of a 2-D array by its flat indices (``take``: several times faster than fancy indexing)."""
-    table = np.ascontiguousarray(table)
-    return table.reshape(-1).take(np.asarray(rr) * table.shape[1] + np.asarray(jj))
 
 
 def _kernel_fields(out, d, t, n, mast_m, node_mast_m, settings, overrides, fast, coordinates=None,
