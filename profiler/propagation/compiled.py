@@ -24,7 +24,6 @@ FASTMATH = {"nsz", "arcp", "contract", "afn", "reassoc"}
 no ``nnan``/``ninf`` (the running maxima start at -inf).  Results differ from the numpy engine by rounding only."""
 
 
-
 def compile_terms(module, names) -> dict:
     """``numba.njit`` copies of ``module``'s term functions, each calling the compiled copies of the others.
 
